@@ -1,0 +1,7 @@
+"""Allow ``python -m pulsepick``."""
+
+import sys
+
+from pulsepick.cli import main
+
+sys.exit(main())
