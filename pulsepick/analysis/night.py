@@ -1,0 +1,455 @@
+"""The night: a charged supercapacitor feeding a blinker from dusk to dawn.
+
+The storage voltage obeys ``C dV/dt = -(I_load(V) + I_leak(V, t) + I_extra)``,
+integrated with :func:`scipy.integrate.solve_ivp` (RK45) and stopped by a
+terminal event at the stop voltage: the larger of the user's ``stop_at_v`` and
+the load curve's own stop voltage (below it the LED no longer reaches visible
+current or the chip leaves its supply range). Flash count and the charge each
+drain takes are integrated alongside the voltage.
+
+With constant currents this reduces to the backup-time formula
+``T = C (V0 - V1) / (I + IL)`` (Panasonic Gold Capacitors technical guide,
+facts.md S44), which the tests check.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from datetime import datetime, timedelta
+
+import numpy as np
+from scipy.integrate import solve_ivp
+
+from pulsepick.analysis.cautions import GENERAL_CAUTIONS, storage_cautions
+from pulsepick.analysis.loadcurve import LoadCurve
+from pulsepick.errors import PartError, RequestError
+from pulsepick.parts.storage import LEAK_LEVELS, Storage
+from pulsepick.units import format_eng
+
+# estimate: a solar-charged store is full by early afternoon, some six hours before dusk.
+DEFAULT_T_SINCE_CHARGE_S = 6 * 3600.0
+TIMELINE_POINTS = 200  # samples for a chart of the night
+# estimate: thresholds above which a warning is worth the reader's attention.
+LEAK_SHARE_WARNING = 0.25  # storage leakage share of the drained charge
+ESR_DROP_WARNING_V = 0.1  # V, ESR x LED peak current
+_RTOL = 1e-8  # solve_ivp relative tolerance; the budget checks need 0.5 %
+_ATOL_V = 1e-9  # V
+
+
+@dataclass(frozen=True)
+class NightPoint:
+    """The blinker at one moment of the night (dusk, midnight or dawn)."""
+
+    label: str  # "dusk", "midnight" (the middle of the night) or "dawn"
+    t_s: float  # s after dusk
+    clock: str | None  # "HH:MM" when the dusk clock time is known
+    v_v: float  # V, storage voltage; nan once the light has stopped
+    lit: bool  # the light is on
+    supply_avg_a: float  # A, circuit average current; nan when off or bare
+    period_s: float  # s
+    flash_s: float  # s
+    led_peak_a: float  # A
+    effective_a: float  # A, effective LED current
+    effective_cd: float  # cd, nan when the LED intensity is unknown
+
+
+@dataclass(frozen=True, eq=False)
+class NightTimeline:
+    """The night sampled evenly for a chart; nan after the light stops."""
+
+    t_s: np.ndarray  # s after dusk
+    v_v: np.ndarray  # V
+    effective_a: np.ndarray  # A, nan for a bare run
+    effective_cd: np.ndarray  # cd, nan where unknown
+
+
+@dataclass(frozen=True, eq=False)
+class NightResult:
+    """Outcome of :func:`simulate_night`, carrying its inputs."""
+
+    # inputs
+    storage: Storage
+    load: LoadCurve | None
+    v_start_v: float  # V
+    duration_s: float  # s, dusk to dawn
+    extra_load_a: float  # A
+    storage_leak_a: float | None  # A, fixed leakage given by the user, or None for the model
+    leak_level: str  # "settled" or "max" (used when storage_leak_a is None)
+    t_since_charge_s: float  # s, from full charge to dusk
+    capacitance_f: float  # F, capacitance used
+    dusk: datetime | None
+    # outcome
+    v_stop_v: float  # V, the stop voltage used
+    light_stop_v: float  # V, the load curve's stop voltage; nan when none
+    lasts_the_night: bool
+    runtime_s: float  # s, until the light stops, or the whole night
+    stops_at: str | None  # "HH:MM" when it stops and dusk is known
+    dawn_clock: str | None  # "HH:MM" when dusk is known
+    stop_reason: str
+    v_end_v: float  # V, at dawn or at the stop
+    flashes: float  # flashes over the lit time
+    usable_energy_fraction: float  # 1 - (v_end / v_start)^2
+    energy_used_j: float  # J, 0.5 C (v_start^2 - v_end^2)
+    charge_circuit_c: float  # C (coulomb), drawn by the circuit
+    charge_leak_c: float  # C, lost to storage leakage
+    charge_extra_c: float  # C, drawn by the extra load
+    figures: tuple[NightPoint, ...]  # dusk, midnight, dawn
+    timeline: NightTimeline
+    assumptions: tuple[str, ...]
+    warnings: tuple[str, ...]
+    cautions: tuple[str, ...]
+    success: bool  # the integrator finished
+    message: str  # the integrator's message
+
+    @property
+    def charge_total_c(self) -> float:
+        """All charge drained over the run, C (coulomb)."""
+        return self.charge_circuit_c + self.charge_leak_c + self.charge_extra_c
+
+    def shares(self) -> dict[str, float]:
+        """Fraction of the drained charge taken by each drain (sums to 1; nan if none)."""
+        total = self.charge_total_c
+        parts = {
+            "circuit": self.charge_circuit_c,
+            "storage_leakage": self.charge_leak_c,
+            "extra_load": self.charge_extra_c,
+        }
+        return {k: (v / total if total > 0 else math.nan) for k, v in parts.items()}
+
+
+def _clock(dusk: datetime | None, t_s: float) -> str | None:
+    if dusk is None:
+        return None
+    return (dusk + timedelta(seconds=round(t_s / 60.0) * 60.0)).strftime("%H:%M")
+
+
+def _check_inputs(storage, v_start_v, duration_s, extra_load_a, storage_leak_a, stop_at_v,
+                  t_since_charge_s, capacitance_f, leak_level) -> None:
+    problems = []
+    if not (math.isfinite(v_start_v) and v_start_v > 0):
+        problems.append(f"start voltage {v_start_v!r} V (give a voltage above 0, such as 2.5V)")
+    if not (math.isfinite(duration_s) and duration_s > 0):
+        problems.append(f"night length {duration_s!r} s (give a length above 0, such as 12.5h)")
+    if not (math.isfinite(extra_load_a) and extra_load_a >= 0):
+        problems.append(f"extra load {extra_load_a!r} A (give 0 or more, such as 10uA)")
+    if storage_leak_a is not None and not (math.isfinite(storage_leak_a) and storage_leak_a >= 0):
+        problems.append(f"storage leakage {storage_leak_a!r} A (give 0 or more, such as 0.2uA)")
+    if stop_at_v is not None:
+        if not (math.isfinite(stop_at_v) and stop_at_v >= 0):
+            problems.append(f"stop voltage {stop_at_v!r} V (give 0 V or more, such as 1.8V)")
+        elif math.isfinite(v_start_v) and stop_at_v >= v_start_v:
+            problems.append(
+                f"stop voltage {stop_at_v:g} V is not below the start voltage {v_start_v:g} V "
+                "(give a stop voltage under the start)"
+            )
+    if not (math.isfinite(t_since_charge_s) and t_since_charge_s >= 0):
+        problems.append(f"time since charging {t_since_charge_s!r} s (give 0 or more)")
+    if leak_level not in LEAK_LEVELS:
+        problems.append(f"leakage level {leak_level!r} (accepted: {', '.join(LEAK_LEVELS)})")
+    if problems:
+        raise RequestError("cannot simulate the night: " + "; ".join(problems))
+    if capacitance_f is not None and not (math.isfinite(capacitance_f) and capacitance_f > 0):
+        raise PartError(
+            f"capacitance {capacitance_f!r} F is impossible; give a value above 0, such as 0.22F"
+        )
+
+
+def simulate_night(
+    storage: Storage,
+    v_start_v: float,
+    duration_s: float,
+    load: LoadCurve | None,
+    *,
+    extra_load_a: float = 0.0,
+    storage_leak_a: float | None = None,
+    stop_at_v: float | None = None,
+    dusk: datetime | None = None,
+    t_since_charge_s: float = DEFAULT_T_SINCE_CHARGE_S,
+    capacitance_f: float | None = None,
+    leak_level: str = "settled",
+) -> NightResult:
+    """Run the storage through one night and report when the light stops.
+
+    Parameters
+    ----------
+    storage : the supercapacitor.
+    v_start_v : storage voltage at dusk, V.
+    duration_s : dusk to dawn, s.
+    load : the circuit's :class:`LoadCurve`, or None for a bare storage budget.
+    extra_load_a : a fixed extra current, A (a dusk detector, a diode's reverse leakage).
+    storage_leak_a : a fixed storage leakage, A, replacing the leakage model (as
+        ``IL`` in the backup-time formula, facts.md S44).
+    stop_at_v : stop when the storage falls to this voltage, V. The load curve's
+        own stop voltage applies too; a bare run without it runs down to 0 V.
+    dusk : clock time of dusk, for "stops at HH:MM".
+    t_since_charge_s : time from full charge to dusk, s (the leakage model falls with it).
+    capacitance_f : capacitance to use instead of the nominal one, F (tolerance corners).
+    leak_level : ``"settled"`` or ``"max"`` leakage of the storage model.
+
+    Returns
+    -------
+    NightResult
+
+    References
+    ----------
+    Backup time T = C (V0 - V1) / (I + IL) and the energy E = C V^2 / 2: Panasonic
+    Gold Capacitors technical guide (facts.md S44).
+    """
+    _check_inputs(storage, v_start_v, duration_s, extra_load_a, storage_leak_a, stop_at_v,
+                  t_since_charge_s, capacitance_f, leak_level)
+    duration_s = float(duration_s)
+    c = storage.capacitance_f if capacitance_f is None else float(capacitance_f)
+    light_stop = load.light_stops_below_v() if load is not None else math.nan
+    user_stop = 0.0 if stop_at_v is None else float(stop_at_v)
+    v_stop = user_stop if math.isnan(light_stop) else max(user_stop, light_stop)
+    light_is_limit = not math.isnan(light_stop) and light_stop >= user_stop
+
+    if load is not None:
+        grid = load.supply_v
+        current_tab = load.supply_avg_a
+        rate_tab = np.where(
+            np.isfinite(load.period_s) & (load.period_s > 0), 1.0 / load.period_s, 0.0
+        )
+        rate_tab = np.where(np.isfinite(rate_tab), rate_tab, 0.0)
+    leak_fixed = storage_leak_a
+
+    def rhs(t, y):
+        v = y[0]
+        if load is not None:
+            i_circuit = float(np.interp(v, grid, current_tab))
+            rate = float(np.interp(v, grid, rate_tab))
+        else:
+            i_circuit = rate = 0.0
+        if leak_fixed is not None:
+            i_leak = leak_fixed
+        else:
+            i_leak = float(storage.leakage_a(v, t_since_charge_s + t, leak_level))
+        return [-(i_circuit + i_leak + extra_load_a) / c, rate, i_circuit, i_leak, extra_load_a]
+
+    def reach_stop(t, y):
+        return y[0] - v_stop
+
+    reach_stop.terminal = True  # type: ignore[attr-defined]
+    reach_stop.direction = -1  # type: ignore[attr-defined]
+
+    if v_start_v <= v_stop:
+        # The light is never on at this start voltage: nothing to integrate.
+        sol = None
+        runtime = 0.0
+        state_end = np.array([v_start_v, 0.0, 0.0, 0.0, 0.0])
+        success, message = True, "not started: the start voltage is at or below the stop voltage"
+        stopped = True
+    else:
+        sol = solve_ivp(
+            rhs, (0.0, float(duration_s)), [float(v_start_v), 0.0, 0.0, 0.0, 0.0],
+            method="RK45", rtol=_RTOL, atol=[_ATOL_V, 1e-9, 1e-15, 1e-15, 1e-15],
+            events=reach_stop, dense_output=True,
+        )
+        success, message = bool(sol.success), str(sol.message)
+        stopped = sol.status == 1 and len(sol.t_events[0]) > 0
+        if stopped:
+            runtime = float(sol.t_events[0][0])
+            state_end = np.asarray(sol.y_events[0][0], dtype=float)
+            state_end[0] = v_stop  # exactly at the event, not a root-finder's neighbour
+        else:
+            runtime = float(sol.t[-1])
+            state_end = np.asarray(sol.y[:, -1], dtype=float)
+
+    v_end = float(state_end[0])
+    lasts = not stopped
+
+    # figures and timeline
+    def v_at(t: float) -> float:
+        if sol is None:
+            return v_start_v if t == 0.0 else math.nan
+        return float(sol.sol(t)[0]) if t <= runtime else math.nan
+
+    def point(label: str, t: float) -> NightPoint:
+        v = v_at(t)
+        on = bool(math.isfinite(v) and (lasts or t < runtime))
+        figs = load.at(v) if (load is not None and on) else None
+        get = (lambda k: float(figs[k])) if figs else (lambda k: math.nan)
+        return NightPoint(
+            label=label, t_s=t, clock=_clock(dusk, t), v_v=v, lit=on,
+            supply_avg_a=get("supply_avg_a"), period_s=get("period_s"), flash_s=get("flash_s"),
+            led_peak_a=get("led_peak_a"), effective_a=get("effective_a"),
+            effective_cd=get("effective_cd"),
+        )
+
+    figures = (point("dusk", 0.0), point("midnight", duration_s / 2), point("dawn", duration_s))
+
+    t_grid = np.linspace(0.0, duration_s, TIMELINE_POINTS)
+    v_grid = np.full_like(t_grid, math.nan)
+    if sol is not None:
+        inside = t_grid <= runtime
+        v_grid[inside] = sol.sol(t_grid[inside])[0]
+    else:
+        v_grid[0] = v_start_v
+    if load is not None and sol is not None:
+        eff_a = np.interp(v_grid, load.supply_v, load.effective_a)
+        eff_cd = np.interp(v_grid, load.supply_v, load.effective_cd)
+        eff_a[~np.isfinite(v_grid)] = math.nan
+        eff_cd[~np.isfinite(v_grid)] = math.nan
+    else:
+        eff_a = np.full_like(t_grid, math.nan)
+        eff_cd = np.full_like(t_grid, math.nan)
+    timeline = NightTimeline(t_s=t_grid, v_v=v_grid, effective_a=eff_a, effective_cd=eff_cd)
+
+    # reasons, assumptions, warnings
+    if lasts:
+        reason = "lasts the night"
+    elif runtime == 0.0:
+        reason = (
+            f"the light never starts: {v_start_v:.2f} V is at or below the stop voltage "
+            f"{v_stop:.2f} V"
+        )
+    elif light_is_limit:
+        reason = (
+            f"below {v_stop:.2f} V the LED no longer reaches visible current or the chip "
+            "leaves its supply range"
+        )
+    elif stop_at_v is None:
+        reason = "the storage is empty (0 V)"
+    else:
+        reason = f"the storage reaches the stop voltage {v_stop:.2f} V"
+
+    usable = 1.0 - (v_end / v_start_v) ** 2  # E = C V^2 / 2 (facts.md S44)
+    energy_used = float(storage.energy_j(v_start_v, c) - storage.energy_j(v_end, c))
+    result_charges = state_end[2:5]
+
+    assumptions = [
+        f"capacitance {format_eng(c, 'F')}"
+        + (" (nominal)" if capacitance_f is None else " (given)")
+        + (
+            f"; the part's tolerance spans {format_eng(storage.capacitance_min_f, 'F')} to "
+            f"{format_eng(storage.capacitance_max_f, 'F')}"
+            if storage.tol_minus_pct or storage.tol_plus_pct
+            else ""
+        ),
+    ]
+    if storage_leak_a is not None:
+        assumptions.append(f"storage leakage fixed at {format_eng(storage_leak_a, 'A')} (given)")
+    else:
+        level = storage.leak_settled_a if leak_level == "settled" else storage.leak_max_a
+        assumptions.append(
+            f"storage leakage: {leak_level} level {format_eng(level, 'A')} at the rated "
+            f"voltage, in proportion to the voltage, {storage.leak_initial_multiple:g} times "
+            f"higher right after charging and falling with a {storage.leak_decay_s / 3600:g} h time constant (estimate); "
+            f"charged {t_since_charge_s / 3600:g} h before dusk"
+        )
+    if load is not None:
+        assumptions.append(
+            "the circuit is its average supply current at each voltage (each flash is spread "
+            "over its period); the ESR drop during flashes is not in the budget"
+        )
+        if not math.isnan(light_stop):
+            assumptions.append(
+                f"the light's stop voltage {light_stop:.3g} V is resolved to the load curve's "
+                "grid step"
+            )
+        assumptions.extend(load.notes)
+    else:
+        assumptions.append("bare storage budget: no circuit, only the extra load and leakage")
+
+    warnings = []
+    if v_start_v > storage.v_rated_v:
+        warnings.append(
+            f"start voltage {v_start_v:.2f} V is above the storage rating {storage.v_rated_v:.2f} V"
+        )
+    shares = (
+        result_charges / result_charges.sum() if result_charges.sum() > 0 else np.zeros(3)
+    )
+    if shares[1] > LEAK_SHARE_WARNING:
+        warnings.append(
+            f"storage leakage takes {shares[1]:.0%} of the drained charge; a part that has "
+            "settled at voltage for days leaks far less than its datasheet maximum"
+        )
+    if load is not None:
+        if v_start_v > load.supply_v[-1] + 1e-9:
+            warnings.append(
+                f"start voltage {v_start_v:.2f} V is above the load curve's highest supply "
+                f"{load.supply_v[-1]:.2f} V; the circuit's figures there are held at that value"
+            )
+        peak = load.led_peak_a[np.isfinite(load.led_peak_a)]
+        if peak.size:
+            drop = storage.esr_ohm * float(peak.max())
+            if drop > ESR_DROP_WARNING_V:
+                warnings.append(
+                    f"the storage ESR ({storage.esr_ohm:g} ohm) drops {drop:.2f} V at the LED "
+                    "peak current: flashes will be dimmer than the figures and the light may "
+                    "stop earlier"
+                )
+    if runtime == 0.0 and not lasts:
+        warnings.append(reason)
+    if not success:
+        warnings.append(f"the integrator did not finish: {message}")
+
+    cautions = tuple(storage_cautions(storage, v_start_v, "The start voltage")) + GENERAL_CAUTIONS
+
+    return NightResult(
+        storage=storage, load=load, v_start_v=float(v_start_v), duration_s=float(duration_s),
+        extra_load_a=float(extra_load_a), storage_leak_a=storage_leak_a, leak_level=leak_level,
+        t_since_charge_s=float(t_since_charge_s), capacitance_f=c, dusk=dusk,
+        v_stop_v=v_stop, light_stop_v=light_stop, lasts_the_night=lasts, runtime_s=runtime,
+        stops_at=None if lasts else _clock(dusk, runtime), dawn_clock=_clock(dusk, duration_s),
+        stop_reason=reason, v_end_v=v_end, flashes=float(state_end[1]),
+        usable_energy_fraction=float(usable), energy_used_j=energy_used,
+        charge_circuit_c=float(result_charges[0]), charge_leak_c=float(result_charges[1]),
+        charge_extra_c=float(result_charges[2]), figures=figures, timeline=timeline,
+        assumptions=tuple(assumptions), warnings=tuple(warnings), cautions=cautions,
+        success=success, message=message,
+    )
+
+
+MAX_BUDGET_S = 30 * 86400.0  # s, longest open-ended run (a month)
+
+
+def simulate_until_stop(
+    storage: Storage,
+    v_start_v: float,
+    load: LoadCurve | None,
+    *,
+    stop_at_v: float | None,
+    max_duration_s: float = MAX_BUDGET_S,
+    **options,
+) -> NightResult:
+    """Run until the light stops (or the stop voltage is reached), with no dawn.
+
+    For checking a budget without a night: the run is open-ended up to
+    ``max_duration_s`` (s) and the result's night ends a tenth of the runtime after
+    the stop, so its timeline shows the whole run. The other keyword arguments are
+    those of :func:`simulate_night`. A result that "lasts the night" here lasted
+    ``max_duration_s``.
+    """
+    if stop_at_v is None and (load is None or math.isnan(load.light_stops_below_v())):
+        raise RequestError(
+            "an open-ended run needs a stop: give a stop voltage such as 1.8V, or a night"
+        )
+    _check_inputs(storage, v_start_v, max_duration_s, options.get("extra_load_a", 0.0),
+                  options.get("storage_leak_a"), stop_at_v,
+                  options.get("t_since_charge_s", DEFAULT_T_SINCE_CHARGE_S),
+                  options.get("capacitance_f"), options.get("leak_level", "settled"))
+    c = options.get("capacitance_f") or storage.capacitance_f
+    leak = options.get("storage_leak_a")
+    if leak is None:
+        leak = float(storage.leakage_a(v_start_v, 0.0, options.get("leak_level", "settled")))
+    i_start = leak + options.get("extra_load_a", 0.0)
+    if load is not None:
+        i_start += float(load.current_a(v_start_v))
+    v_stop = max(stop_at_v or 0.0, 0.0 if load is None else np.nan_to_num(
+        load.light_stops_below_v(), nan=0.0, posinf=v_start_v))
+    if i_start > 0 and v_start_v > v_stop:
+        # The current is largest at the start (leakage falls with voltage and time), so
+        # the linear estimate is a lower bound; ten times it covers the slowdown.
+        horizon = min(max_duration_s, max(3600.0, 10 * c * (v_start_v - v_stop) / i_start))
+    else:
+        horizon = max_duration_s
+    first = simulate_night(storage, v_start_v, horizon, load, stop_at_v=stop_at_v, **options)
+    if first.lasts_the_night and horizon < max_duration_s:
+        first = simulate_night(storage, v_start_v, max_duration_s, load, stop_at_v=stop_at_v,
+                               **options)
+    if first.lasts_the_night or first.runtime_s == 0.0:
+        return first
+    return simulate_night(storage, v_start_v, 1.1 * first.runtime_s, load,
+                          stop_at_v=stop_at_v, **options)

@@ -1,0 +1,646 @@
+"""``pulsepick night``: will the blinker last until dawn on its supercapacitor?
+
+Reads the storage, the start voltage, the night (clock times, a length, or a
+place and date) and the circuit (the ``check`` options, or ``--no-circuit`` for a
+bare storage budget), runs :func:`pulsepick.analysis.night.simulate_night` and
+prints a verdict, the figures over the night, a chart, warnings and cautions.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import math
+import re
+from datetime import date, datetime, timedelta
+
+import numpy as np
+from rich.table import Table as RichTable
+from rich.text import Text
+
+from pulsepick import __version__
+from pulsepick.analysis.cautions import NOT_A_SAFETY_LIGHT
+from pulsepick.analysis.night import NightResult, simulate_night, simulate_until_stop
+from pulsepick.errors import PulsepickError, RequestError
+from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS, Storage, custom_storage, get_storage
+from pulsepick.render import dump_json, make_console, simple_table
+
+NAME = "night"
+SUMMARY = "run the storage through a night: when the light stops, or what is left at dawn"
+EXAMPLES = [
+    "pulsepick night --no-circuit --storage 0.2F --start 2.5V --stop-at 1.8V "
+    "--storage-leak 0.2uA --extra-load 10uA",
+    "pulsepick night --storage 5f-2v7 --start 2.6V --dusk 18:30 --dawn 07:10 <circuit options>",
+    "pulsepick night --storage 1f-5v5 --latitude 52.1 --date 2026-12-21 --longitude 5.1 "
+    "--utc-offset 1 <circuit options>",
+    "pulsepick night --no-circuit --storage 0f47-2v7 --night 12.5h --extra-load 8uA --json",
+]
+
+TURN_ON_CHOICES = ("civil", "sunset")
+_CLOCK_RE = re.compile(r"(\d{1,2}):(\d{2})")
+_MAX_NIGHT_S = 24 * 3600.0  # a night is at most a day long
+SUPPLY_STEP_V = 0.01  # grid step of the load curve, V (the light's stop voltage resolution)
+SUPPLY_GRID_LOW_V = 0.8  # lowest grid supply, V: below any LED or logic chip in the tables
+_CIRCUIT_MODULE = "pulsepick.commands.circuit_options"
+
+
+def _circuit_options():
+    """The shared circuit options module, or None while it is not installed."""
+    try:
+        return importlib.import_module(_CIRCUIT_MODULE)
+    except ModuleNotFoundError as err:
+        if err.name != _CIRCUIT_MODULE:
+            raise
+        return None
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    """Options of ``pulsepick night``."""
+    circuit = _circuit_options()
+    if circuit is not None:
+        circuit.add_circuit_arguments(parser)
+    store = parser.add_argument_group("storage")
+    store.add_argument(
+        "--storage", metavar="KEY|C",
+        help=f"a storage part ({', '.join(STORAGE_KEYS)}) or a capacitance such as 0.22F",
+    )
+    store.add_argument("--rated", metavar="V",
+                       help="rated voltage of a storage given as a capacitance (default 2.7V)")
+    store.add_argument("--start", metavar="V",
+                       help="storage voltage at dusk (default: the storage's rated voltage)")
+    store.add_argument("--stop-at", metavar="V",
+                       help="stop when the storage falls to this voltage (the circuit's own stop "
+                            "voltage applies too)")
+    store.add_argument("--storage-leak", metavar="I",
+                       help="a fixed storage leakage current, replacing the leakage model")
+    store.add_argument("--leakage", choices=LEAK_LEVELS, default="settled",
+                       help="leakage model level: settled (typical after days at voltage, "
+                            "the default) or max (datasheet maximum)")
+    store.add_argument("--charge-age", metavar="T", default="6h",
+                       help="time from full charge to dusk (default 6h; leakage falls with it)")
+    store.add_argument("--extra-load", metavar="I", default="0A",
+                       help="a fixed extra current drawn all night, such as 10uA")
+    night = parser.add_argument_group("the night (one of: --dusk/--dawn, --night, --latitude)")
+    night.add_argument("--dusk", metavar="HH:MM", help="clock time the light turns on")
+    night.add_argument("--dawn", metavar="HH:MM",
+                       help="clock time of dawn (before dusk means the next morning)")
+    night.add_argument("--night", metavar="T", help="length of the night, such as 12.5h")
+    night.add_argument("--latitude", metavar="DEG",
+                       help="latitude in degrees, north positive; needs --date")
+    night.add_argument("--longitude", metavar="DEG", help="longitude in degrees, east positive")
+    night.add_argument("--date", metavar="YYYY-MM-DD", help="the date of the evening")
+    night.add_argument("--utc-offset", metavar="H", help="local clock offset from UTC in hours")
+    night.add_argument("--turn-on", choices=TURN_ON_CHOICES, default="civil",
+                       help="the light turns on at civil dusk (default) or at sunset")
+    out = parser.add_argument_group("output")
+    out.add_argument("--no-circuit", action="store_true",
+                     help="a bare storage budget: no circuit, only leakage and --extra-load")
+    out.add_argument("--json", action="store_true", help="write the result as JSON on stdout")
+
+
+# ---------------------------------------------------------------------------- reading options
+
+def _quantity(text: str, kind: str, option: str, example: str, allow_zero: bool = False) -> float:
+    from pulsepick.units import parse_quantity
+
+    try:
+        return parse_quantity(text, kind, allow_zero=allow_zero)  # type: ignore[arg-type]
+    except PulsepickError as err:
+        raise RequestError(f"{option} {text!r}: {err} (such as {example})") from err
+
+
+def _read_storage(text: str | None, rated: str | None) -> Storage:
+    from pulsepick.units import parse_value
+
+    accepted = f"a storage key ({', '.join(STORAGE_KEYS)}) or a capacitance such as 0.22F"
+    if text is None:
+        raise RequestError(f"no storage given; use --storage with {accepted}")
+    key = text.strip().lower()
+    if key in STORAGE_KEYS:
+        if rated is not None:
+            raise RequestError(
+                f"--rated applies to a storage given as a capacitance, not to the part {key!r}"
+            )
+        return get_storage(key)
+    if text.strip().startswith("-"):
+        raise RequestError(
+            f"--storage {text!r}: the capacitance must be above 0; accepted: {accepted}"
+        )
+    try:
+        capacitance = parse_value(text, unit="F", allow_zero=True)
+    except PulsepickError as err:
+        raise RequestError(f"--storage {text!r} is not a storage; accepted: {accepted}") from err
+    if not capacitance > 0:
+        raise RequestError(
+            f"--storage {text!r}: the capacitance must be above 0; accepted: {accepted}"
+        )
+    v_rated = 2.7 if rated is None else _quantity(rated, "voltage", "--rated", "2.7V or 5.5V")
+    return custom_storage(capacitance, v_rated_v=v_rated)
+
+
+def _clock_time(text: str, option: str) -> tuple[int, int]:
+    match = _CLOCK_RE.fullmatch(text.strip())
+    if match:
+        hour, minute = int(match.group(1)), int(match.group(2))
+        if hour < 24 and minute < 60:
+            return hour, minute
+    raise RequestError(f"{option} {text!r} is not a clock time; use 24-hour HH:MM such as 18:30")
+
+
+def _date(text: str) -> date:
+    try:
+        return date.fromisoformat(text.strip())
+    except ValueError as err:
+        raise RequestError(
+            f"--date {text!r} is not a date; use YYYY-MM-DD such as 2026-12-21"
+        ) from err
+
+
+def _degrees(text: str, option: str, limit: float) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        value = math.nan
+    if not (math.isfinite(value) and -limit <= value <= limit):
+        raise RequestError(
+            f"{option} {text!r} is not an angle; give degrees from {-limit:g} to {limit:g}, "
+            "such as 52.1"
+        )
+    return value
+
+
+def _utc_offset(text: str) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        value = math.nan
+    if not (math.isfinite(value) and -14 <= value <= 14):
+        raise RequestError(
+            f"--utc-offset {text!r} is not an offset; give hours from -14 to 14, such as 1 or -5.5"
+        )
+    return value
+
+
+def _read_night(args: argparse.Namespace) -> dict | None:
+    """The night window: dusk (datetime or None), duration (s) and how it was given.
+
+    None when no night is given at all.
+    """
+    clock_given = args.dusk is not None or args.dawn is not None
+    sun_given = args.latitude is not None
+    ways = sum([clock_given or args.night is not None, sun_given])
+    if ways > 1:
+        raise RequestError(
+            "give the night one way: --dusk with --dawn or --night, --night alone, "
+            "or --latitude with --date"
+        )
+    if not sun_given:
+        for option, value in (("--longitude", args.longitude), ("--utc-offset", args.utc_offset)):
+            if value is not None:
+                raise RequestError(f"{option} needs --latitude and --date (the sun's times)")
+    if sun_given:
+        return _night_from_sun(args)
+    day = _date(args.date) if args.date is not None else date.today()
+    night_s = None
+    if args.night is not None:
+        night_s = _quantity(args.night, "time", "--night", "12.5h")
+        if not 0 < night_s <= _MAX_NIGHT_S:
+            raise RequestError(
+                f"--night {args.night!r}: a night lasts more than 0 and at most 24 h"
+            )
+    if args.dusk is not None and args.dawn is not None:
+        if night_s is not None:
+            raise RequestError("give --dusk with either --dawn or --night, not both")
+        dusk = datetime.combine(day, datetime.min.time()).replace(
+            hour=_clock_time(args.dusk, "--dusk")[0], minute=_clock_time(args.dusk, "--dusk")[1])
+        hour, minute = _clock_time(args.dawn, "--dawn")
+        dawn = dusk.replace(hour=hour, minute=minute)
+        if dawn <= dusk:
+            dawn += timedelta(days=1)  # dawn before dusk: the next morning
+        if dawn == dusk + timedelta(days=1) and (hour, minute) == (dusk.hour, dusk.minute):
+            raise RequestError("--dusk and --dawn are the same time; give a night longer than 0")
+        return {"dusk": dusk, "duration_s": (dawn - dusk).total_seconds(), "given": "clock"}
+    if args.dusk is not None or args.dawn is not None:
+        which = "--dusk" if args.dusk is not None else "--dawn"
+        if night_s is None:
+            other = "--dawn" if which == "--dusk" else "--dusk"
+            raise RequestError(f"{which} needs {other}, or --night for the night's length")
+        hour, minute = _clock_time(args.dusk or args.dawn, which)
+        anchor = datetime.combine(day, datetime.min.time()).replace(hour=hour, minute=minute)
+        dusk = anchor if args.dusk is not None else anchor - timedelta(seconds=night_s)
+        return {"dusk": dusk, "duration_s": night_s, "given": "clock"}
+    if night_s is not None:
+        return {"dusk": None, "duration_s": night_s, "given": "length"}
+    return None
+
+
+NO_NIGHT = (
+    "no night given; use --dusk 18:30 --dawn 07:10, --night 12.5h, "
+    "or --latitude 52.1 --date 2026-12-21 (a bare run with --stop-at may leave it out)"
+)
+
+
+def _night_from_sun(args: argparse.Namespace) -> dict:
+    if args.date is None:
+        raise RequestError("--latitude needs --date YYYY-MM-DD (the evening of the night)")
+    latitude = _degrees(args.latitude, "--latitude", 90.0)
+    longitude = None if args.longitude is None else _degrees(args.longitude, "--longitude", 180.0)
+    offset = None if args.utc_offset is None else _utc_offset(args.utc_offset)
+    day = _date(args.date)
+    from pulsepick.analysis.sun import night_window
+
+    dusk, dawn = night_window(latitude, day, longitude_deg=longitude, utc_offset_h=offset,
+                              turn_on=args.turn_on)
+    if dawn <= dusk:
+        dawn += timedelta(days=1)
+    return {
+        "dusk": dusk, "duration_s": (dawn - dusk).total_seconds(), "given": "sun",
+        "latitude_deg": latitude, "longitude_deg": longitude, "utc_offset_h": offset,
+        "date": day.isoformat(), "turn_on": args.turn_on,
+    }
+
+
+def supply_grid(v_top_v: float, v_low_v: float | None = None) -> np.ndarray:
+    """Ascending supply voltages (V) for the circuit's load curve, ending at ``v_top_v``."""
+    low = min(SUPPLY_GRID_LOW_V, 0.5 * v_top_v) if v_low_v is None else v_low_v
+    count = max(2, math.ceil((v_top_v - low) / SUPPLY_STEP_V) + 1)
+    return np.linspace(low, v_top_v, count)
+
+
+# ---------------------------------------------------------------------------- run
+
+def run(args: argparse.Namespace) -> int:
+    """Read the options, simulate the night, print the report or JSON."""
+    storage = _read_storage(args.storage, args.rated)
+    night = _read_night(args)
+    if night is None and not (args.no_circuit and args.stop_at is not None):
+        raise RequestError(NO_NIGHT)
+    v_start = (storage.v_rated_v if args.start is None
+               else _quantity(args.start, "voltage", "--start", "2.5V"))
+    stop_at = (None if args.stop_at is None
+               else _quantity(args.stop_at, "voltage", "--stop-at", "1.8V", allow_zero=True))
+    if stop_at is not None and stop_at >= v_start:
+        raise RequestError(
+            f"--stop-at {args.stop_at} is not below the start voltage {v_start:g} V; "
+            "give a stop voltage under the start"
+        )
+    leak = (None if args.storage_leak is None
+            else _quantity(args.storage_leak, "current", "--storage-leak", "0.2uA",
+                           allow_zero=True))
+    extra = _quantity(args.extra_load, "current", "--extra-load", "10uA", allow_zero=True)
+    charge_age = _quantity(args.charge_age, "time", "--charge-age", "6h", allow_zero=True)
+
+    load = None
+    if not args.no_circuit:
+        circuit = _circuit_options()
+        if circuit is None:
+            raise RequestError(
+                "the circuit options are not available in this installation; "
+                "use --no-circuit for a bare storage budget"
+            )
+        load = circuit.load_curve_from_args(args, supply_grid(max(v_start, storage.v_rated_v)))
+
+    options = {"extra_load_a": extra, "storage_leak_a": leak, "t_since_charge_s": charge_age,
+               "leak_level": args.leakage}
+    if night is None:
+        # A budget check by hand: run until the stop voltage, however long that takes.
+        night = {"dusk": None, "duration_s": None, "given": "none"}
+        result = simulate_until_stop(storage, v_start, load, stop_at_v=stop_at, **options)
+    else:
+        result = simulate_night(storage, v_start, night["duration_s"], load, stop_at_v=stop_at,
+                                dusk=night["dusk"], **options)
+    if args.json:
+        dump_json(result_json(result, night))
+    else:
+        render_report(result, night, make_console())
+    return 0
+
+
+# ---------------------------------------------------------------------------- output
+
+def result_json(result: NightResult, night: dict) -> dict:
+    """The JSON document of a night run (plain types; units in the key names)."""
+    s = result.storage
+    shares = result.shares()
+    return {
+        "command": NAME,
+        "version": __version__,
+        "night": {
+            "dusk": _hm(night["dusk"]),
+            "dawn": None if night["given"] == "none" else result.dawn_clock,
+            "duration_s": night["duration_s"],
+            "given": night["given"],
+            **{k: night[k] for k in ("latitude_deg", "longitude_deg", "utc_offset_h", "date",
+                                     "turn_on") if k in night},
+        },
+        "storage": {
+            "key": s.key, "name": s.name, "capacitance_f": s.capacitance_f,
+            "capacitance_used_f": result.capacitance_f,
+            "tol_minus_pct": s.tol_minus_pct, "tol_plus_pct": s.tol_plus_pct,
+            "v_rated_v": s.v_rated_v, "v_surge_v": s.v_surge_v, "esr_ohm": s.esr_ohm,
+            "leak_max_a": s.leak_max_a, "leak_settled_a": s.leak_settled_a,
+            "cells_in_series": s.cells_in_series, "balanced": s.balanced,
+            "source_notes": list(s.source_notes),
+        },
+        "circuit": None if result.load is None else result.load.label,
+        "runtime_s": result.runtime_s,
+        "lasts_the_night": result.lasts_the_night,
+        "stops_at": result.stops_at,
+        "stop_reason": result.stop_reason,
+        "v_start_v": result.v_start_v,
+        "v_stop_v": result.v_stop_v,
+        "light_stop_v": result.light_stop_v,
+        "v_end_v": result.v_end_v,
+        "flashes": result.flashes,
+        "usable_energy_fraction": result.usable_energy_fraction,
+        "energy_used_j": result.energy_used_j,
+        "extra_load_a": result.extra_load_a,
+        "storage_leak_a": result.storage_leak_a,
+        "leak_level": result.leak_level,
+        "t_since_charge_s": result.t_since_charge_s,
+        "drain": {
+            "circuit_c": result.charge_circuit_c,
+            "storage_leakage_c": result.charge_leak_c,
+            "extra_load_c": result.charge_extra_c,
+            "shares": shares,
+        },
+        "figures": [
+            {
+                "label": p.label, "t_s": p.t_s, "clock": p.clock, "v_v": p.v_v, "lit": p.lit,
+                "supply_avg_a": p.supply_avg_a, "period_s": p.period_s, "flash_s": p.flash_s,
+                "led_peak_a": p.led_peak_a, "effective_a": p.effective_a,
+                "effective_cd": p.effective_cd,
+            }
+            for p in result.figures
+        ],
+        "timeline": {
+            "t_s": result.timeline.t_s, "v_v": result.timeline.v_v,
+            "effective_a": result.timeline.effective_a,
+            "effective_cd": result.timeline.effective_cd,
+        },
+        "solver": {"success": result.success, "message": result.message},
+        "assumptions": list(result.assumptions),
+        "warnings": list(result.warnings),
+        "cautions": list(result.cautions),
+    }
+
+
+def _hm(moment: datetime | None) -> str | None:
+    return None if moment is None else moment.strftime("%H:%M")
+
+
+def duration_text(seconds: float) -> str:
+    """``8 h 10 min``, ``45 min``, ``3 d 4 h`` (rounded to the minute)."""
+    minutes = round(seconds / 60.0)
+    hours, minutes = divmod(minutes, 60)
+    if hours >= 48:
+        days, hours = divmod(hours, 24)
+        return f"{days} d {hours} h"
+    return f"{hours} h {minutes} min" if hours else f"{minutes} min"
+
+
+def verdict(result: NightResult, open_ended: bool = False) -> str:
+    """One line: does it last the night, or when does the light stop.
+
+    ``open_ended`` is a run with no night (until the stop voltage, however long).
+    """
+    stop = f"{result.v_stop_v:.2f} V"
+    if result.lasts_the_night:
+        if open_ended:
+            return (f"storage stays above {stop} for {duration_text(result.duration_s)}, "
+                    f"{result.v_end_v:.2f} V left")
+        return f"lasts the night, {result.v_end_v:.2f} V left at dawn"
+    if result.runtime_s == 0.0:
+        return (f"light never starts: {result.v_start_v:.2f} V is not above the stop voltage "
+                f"{stop}")
+    what = "light stops" if result.load is not None else f"storage reaches {stop}"
+    after = duration_text(result.runtime_s)
+    if open_ended:
+        return f"{what} after {after}"
+    left = duration_text(result.duration_s - result.runtime_s)
+    if result.stops_at is not None:
+        return f"{what} at {result.stops_at} after {after}, {left} before dawn"
+    return f"{what} after {after}, {left} before dawn"
+
+
+def _eng(value: float | None, unit: str) -> str:
+    from pulsepick.units import format_eng
+
+    if value is None or not math.isfinite(value):
+        return "-"
+    return format_eng(value, unit)
+
+
+def _bullets(console, title: str, items, mark: str) -> None:
+    """A titled list with hanging indents (wraps cleanly at 100 columns)."""
+    console.print(Text(title, style="bold"))
+    grid = RichTable.grid(padding=(0, 1))
+    grid.add_column(width=3, justify="right")
+    grid.add_column(ratio=1)
+    for item in items:
+        grid.add_row(mark, Text(item))
+    console.print(grid)
+    console.print()
+
+
+def render_report(result: NightResult, night: dict, console) -> None:
+    """The terminal report: verdict, night, storage, drains, figures, chart, cautions."""
+    open_ended = night["given"] == "none"
+    good = result.lasts_the_night
+    console.print(Text(f"night: {verdict(result, open_ended)}",
+                       style="bold green" if good else "bold red"))
+    console.print()
+
+    if open_ended:
+        window = "none given: the run goes on until the stop voltage"
+    elif night["dusk"] is not None:
+        window = (f"{_hm(night['dusk'])} to {result.dawn_clock}, "
+                  f"{duration_text(result.duration_s)}")
+    else:
+        window = duration_text(result.duration_s)
+    if night["given"] == "sun":
+        turn_on = "civil dusk" if night["turn_on"] == "civil" else "sunset"
+        place = f"{abs(night['latitude_deg']):g}° {'N' if night['latitude_deg'] >= 0 else 'S'}"
+        window += f" (light on at {turn_on}, {place}, evening of {night['date']})"
+    s = result.storage
+    stop = f"stop {result.v_stop_v:.2f} V" if result.v_stop_v > 0 else "no stop voltage"
+    rows = [
+        ["night", window],
+        ["storage", f"{s.name}: {_eng(result.capacitance_f, 'F')}, rated {s.v_rated_v:.2f} V, "
+                    f"ESR {_eng(s.esr_ohm, 'Ω')}"],
+        ["voltage", f"start {result.v_start_v:.2f} V, {stop}, end {result.v_end_v:.2f} V"],
+        ["energy", f"{_eng(result.energy_used_j, 'J')} used, usable energy fraction "
+                   f"{result.usable_energy_fraction:.3f}"],
+        ["circuit", result.load.label if result.load is not None else "none (bare budget)"],
+    ]
+    if result.load is not None and any(math.isfinite(p.period_s) for p in result.figures):
+        rows.append(["flashes", f"{result.flashes:,.0f} over {duration_text(result.runtime_s)}"])
+    shares = result.shares()
+    drains = []
+    for label, key, charge in (("circuit", "circuit", result.charge_circuit_c),
+                               ("storage leakage", "storage_leakage", result.charge_leak_c),
+                               ("extra load", "extra_load", result.charge_extra_c)):
+        if key == "circuit" and result.load is None:
+            continue
+        share = shares[key]
+        drains.append(f"{label} {_eng(charge, 'C')}"
+                      + (f" ({share:.0%})" if math.isfinite(share) else ""))
+    rows.append(["drain", ", ".join(drains)])
+    facts = RichTable.grid(padding=(0, 2))
+    facts.add_column(style="bold")
+    facts.add_column(ratio=1)
+    for label, text in rows:
+        facts.add_row(label, Text(text))
+    console.print(facts)
+    console.print()
+
+    if result.load is not None:
+        fig_rows = []
+        for p in result.figures:
+            when = p.clock or duration_text(p.t_s)
+            if p.lit:
+                fig_rows.append([p.label, when, f"{p.v_v:.2f} V", _eng(p.period_s, "s"),
+                                 _eng(p.flash_s, "s"), _eng(p.led_peak_a, "A"),
+                                 _eng(p.effective_a, "A"), _eng(p.effective_cd, "cd")])
+            else:
+                fig_rows.append([p.label, when, "-", "off", "", "", "", ""])
+        console.print(simple_table(
+            "Over the night", ["", "time", "storage", "period", "flash", "LED peak",
+                               "effective", "intensity"],
+            fig_rows, justify=["left", "left", "right", "right", "right", "right", "right",
+                               "right"]))
+        console.print()
+
+    for line in night_chart(result, night["dusk"]):
+        console.print(Text(line))
+    console.print()
+
+    if result.warnings:
+        _bullets(console, "Warnings", result.warnings, "!")
+    _bullets(console, "Assumptions", result.assumptions, "-")
+    cautions = list(result.cautions)
+    if NOT_A_SAFETY_LIGHT not in cautions:
+        cautions.append(NOT_A_SAFETY_LIGHT)
+    _bullets(console, "Cautions", cautions, "*")
+
+
+# ---------------------------------------------------------------------------- chart
+
+CHART_COLUMNS = 72  # plot columns; with the labels the chart fits in 100
+_VOLT_ROWS = 8
+_LIGHT_ROWS = 4
+_LABEL = 11  # width of the row labels
+
+
+def night_chart(result: NightResult, dusk: datetime | None) -> list[str]:
+    """A plain-character chart of the storage voltage and the light over the night."""
+    tl = result.timeline
+    cols = CHART_COLUMNS
+    t_cols = np.linspace(0.0, result.duration_s, cols)
+    runtime = result.duration_s if result.lasts_the_night else result.runtime_s
+    on = t_cols <= runtime + 1e-9
+    finite = np.isfinite(tl.v_v)
+    v_cols = np.full(cols, math.nan)
+    if finite.sum() >= 2:
+        v_cols[on] = np.interp(t_cols[on], tl.t_s[finite], tl.v_v[finite])
+    else:
+        v_cols[0] = result.v_start_v
+    has_stop = result.v_stop_v > 0
+    v_hi = result.v_start_v
+    v_lo = float(np.nanmin(v_cols))
+    if has_stop:
+        v_lo = min(v_lo, result.v_stop_v)
+    if not v_hi - v_lo > 1e-3:
+        v_lo = v_hi - 0.1
+    pad = 0.04 * (v_hi - v_lo)
+    v_lo, v_hi = v_lo - pad, v_hi + pad
+
+    def row_of(v: float) -> int:
+        frac = (v - v_lo) / (v_hi - v_lo)
+        return round((1 - frac) * (_VOLT_ROWS - 1))
+
+    grid = [[" "] * cols for _ in range(_VOLT_ROWS)]
+    stop_row = row_of(result.v_stop_v) if has_stop else -1
+    if has_stop:
+        for j in range(0, cols, 2):
+            grid[stop_row][j] = "-"
+    for j in range(cols):
+        if math.isfinite(v_cols[j]):
+            grid[row_of(v_cols[j])][j] = "*"
+    if not result.lasts_the_night:
+        j_stop = int(min(cols - 1, round(runtime / result.duration_s * (cols - 1))))
+        grid[stop_row if has_stop else _VOLT_ROWS - 1][j_stop] = "X"
+
+    title = "Storage voltage" + (" and light" if result.load is not None else "")
+    lines = [title + (" over the night" if dusk is not None or result.lasts_the_night
+                      else " over the run")]
+    for i, row in enumerate(grid):
+        label = ""
+        if i in (0, _VOLT_ROWS - 1, (_VOLT_ROWS - 1) // 2):
+            label = f"{v_hi - (v_hi - v_lo) * i / (_VOLT_ROWS - 1):.2f} V"
+        if i == stop_row:
+            label = f"stop {result.v_stop_v:.2f}"
+        lines.append(f"{label:>{_LABEL}} |{''.join(row)}".rstrip())
+
+    light = _light_columns(result, v_cols)
+    if light is not None:
+        values, unit = light
+        top = float(np.nanmax(values))
+        lines.append(f"{'':>{_LABEL}} |")
+        levels = np.where(np.isfinite(values), values / top, 0.0)
+        for i in range(_LIGHT_ROWS):
+            threshold = (_LIGHT_ROWS - i - 0.5) / _LIGHT_ROWS
+            bar = "".join("#" if lv >= threshold else " " for lv in levels)
+            label = _eng(top, unit) if i == 0 else ("light" if i == 1 else "")
+            lines.append(f"{label:>{_LABEL}} |{bar}".rstrip())
+    lines.append(f"{'':>{_LABEL}} +{_axis(cols)}")
+    lines.append(" " * (_LABEL + 1) + _axis_labels(result.duration_s, dusk, cols))
+    legend = ["* storage voltage"]
+    if has_stop:
+        legend.append("- - stop voltage")
+    if not result.lasts_the_night:
+        legend.append("X the light stops" if result.load is not None else "X stop")
+    if light is not None:
+        legend.append("# effective brightness")
+    lines.append(" " * (_LABEL + 1) + ", ".join(legend))
+    return lines
+
+
+def _light_columns(result: NightResult, v_cols):
+    """Effective intensity (cd) or effective current (A) along the chart, or None."""
+    load = result.load
+    if load is None:
+        return None
+    ok = np.isfinite(v_cols)
+    for table, unit in ((load.effective_cd, "cd"), (load.effective_a, "A")):
+        values = np.full(len(v_cols), math.nan)
+        values[ok] = np.interp(v_cols[ok], load.supply_v, table)
+        if np.any(np.isfinite(values)) and np.nanmax(values) > 0:
+            return values, unit
+    return None
+
+
+def _tick_columns(cols: int, ticks: int = 5) -> list[int]:
+    return [round(k * (cols - 1) / (ticks - 1)) for k in range(ticks)]
+
+
+def _axis(cols: int) -> str:
+    chars = ["-"] * cols
+    for j in _tick_columns(cols)[1:]:
+        chars[j] = "+"
+    return "".join(chars)
+
+
+def _axis_labels(duration_s: float, dusk: datetime | None, cols: int) -> str:
+    width = cols + 6
+    out = [" "] * width
+    ticks = _tick_columns(cols)
+    for k, j in enumerate(ticks):
+        t = duration_s * k / (len(ticks) - 1)
+        if dusk is not None:
+            text = (dusk + timedelta(seconds=round(t / 60) * 60)).strftime("%H:%M")
+        else:
+            text = f"{t / 3600:.3g} h"
+        start = max(0, min(j - len(text) // 2, width - len(text)))
+        out[start:start + len(text)] = text
+    return "".join(out).rstrip()
