@@ -316,7 +316,7 @@ def _show_picks(text: str, value: float, kind: str, series: Series, as_json: boo
             spec["key"]: value,
             "series": series.name,
             "tolerance_pct": series.tolerance_pct,
-            "in_series": in_series,
+            "is_series_value": in_series,
             **picks,
         })
         return 0
