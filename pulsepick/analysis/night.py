@@ -335,7 +335,8 @@ def simulate_night(
         assumptions.append(
             f"storage leakage: {leak_level} level {format_eng(level, 'A')} at the rated "
             f"voltage, in proportion to the voltage, {storage.leak_initial_multiple:g} times "
-            f"higher right after charging and falling with a {storage.leak_decay_s / 3600:g} h time constant (estimate); "
+            f"higher right after charging and falling with a "
+            f"{storage.leak_decay_s / 3600:g} h time constant (estimate); "
             f"charged {t_since_charge_s / 3600:g} h before dusk"
         )
     if load is not None:
@@ -376,9 +377,9 @@ def simulate_night(
             drop = storage.esr_ohm * float(peak.max())
             if drop > ESR_DROP_WARNING_V:
                 warnings.append(
-                    f"the storage ESR ({storage.esr_ohm:g} ohm) drops {drop:.2f} V at the LED "
-                    "peak current: flashes will be dimmer than the figures and the light may "
-                    "stop earlier"
+                    f"the storage ESR ({format_eng(storage.esr_ohm, 'Ω')}) drops {drop:.2f} V at "
+                    "the LED peak current: flashes will be dimmer than the figures and the "
+                    "light may stop earlier"
                 )
     if runtime == 0.0 and not lasts:
         warnings.append(reason)

@@ -480,7 +480,7 @@ def render_report(result: NightResult, night: dict, console) -> None:
     for label, key, charge in (("circuit", "circuit", result.charge_circuit_c),
                                ("storage leakage", "storage_leakage", result.charge_leak_c),
                                ("extra load", "extra_load", result.charge_extra_c)):
-        if key == "circuit" and result.load is None:
+        if (key == "circuit" and result.load is None) or (key == "extra_load" and not charge):
             continue
         share = shares[key]
         drains.append(f"{label} {_eng(charge, 'C')}"
