@@ -255,15 +255,7 @@ def _raise_other_quantity(text: str, expected: str | None = None) -> None:
     kinds = _quantity_kinds(text)
     if not kinds or (expected in kinds):
         return
-    named = " or ".join(_KIND_PHRASE[k] for k in kinds)
-    if expected is None:
-        raise UnitError(
-            f"{text!r} is {named}; a component value is expected here, e.g. {VALUE_FORMS}"
-        )
-    raise UnitError(
-        f"{text!r} is {named}; {_KIND_PHRASE[expected]} is expected here, "
-        f"e.g. {_KIND_EXAMPLES[expected]}"
-    )
+    _raise_mismatch(text, kinds, expected)
 
 
 def _quantity_kinds(text: str) -> list[str]:
@@ -274,12 +266,12 @@ def _quantity_kinds(text: str) -> list[str]:
     unit = m["unit"].strip()
     if _PER_RE.fullmatch(unit):
         return ["rate"]
-    entries = _lookup_unit(unit)
-    kinds: list[str] = []
-    for kind, _ in entries:
-        if kind not in kinds:
-            kinds.append(kind)
-    return kinds
+    return _kinds(_lookup_unit(unit))
+
+
+def _kinds(entries: list[tuple[str, Decimal]]) -> list[str]:
+    """The distinct kinds of unit-table entries, in table order."""
+    return list(dict.fromkeys(kind for kind, _ in entries))
 
 
 def parse_value(text: str, unit: ValueUnit | None = None, *, allow_zero: bool = False) -> float:
@@ -433,20 +425,18 @@ def _unit_factor(text: str, unit: str, kind: str) -> Decimal:
     for k, factor in entries:
         if k == kind:
             return factor
-    kinds: list[str] = []
-    for k, _ in entries:
-        if k not in kinds:
-            kinds.append(k)
-    _raise_mismatch(text, kinds, kind)
+    _raise_mismatch(text, _kinds(entries), kind)
     raise AssertionError("unreachable")  # pragma: no cover
 
 
-def _raise_mismatch(text: str, kinds: list[str], expected: str) -> None:
+def _raise_mismatch(text: str, kinds: list[str], expected: str | None) -> None:
+    """UnitError: ``text`` is of ``kinds`` where ``expected`` (None: a component value) is due."""
     named = " or ".join(_KIND_PHRASE[k] for k in kinds)
-    raise UnitError(
-        f"{text!r} is {named}; {_KIND_PHRASE[expected]} is expected here, "
-        f"e.g. {_KIND_EXAMPLES[expected]}"
-    )
+    if expected is None:
+        wanted, examples = "a component value", VALUE_FORMS
+    else:
+        wanted, examples = _KIND_PHRASE[expected], _KIND_EXAMPLES[expected]
+    raise UnitError(f"{text!r} is {named}; {wanted} is expected here, e.g. {examples}")
 
 
 def parse_range(text: str, kind: QuantityKind) -> tuple[float, float]:

@@ -92,8 +92,8 @@ def run(args: argparse.Namespace) -> int:
         )
     if args.lo is not None and (not series_arg or (what and not is_series_word)):
         raise RequestError(
-            "--from and --to list the values of a series and need one, "
-            "e.g. pulsepick values E24 --from 1k --to 10k"
+            "--from and --to list the values of a series, so they need a series name "
+            "(not a value), e.g. pulsepick values E24 --from 1k --to 10k"
         )
     if not what and not series_arg:
         raise RequestError(
@@ -122,11 +122,6 @@ def _kind_of(texts: tuple[str, ...], kind: str | None) -> str:
         if unit == "F":
             return "C"
     return "R"
-
-
-def _mantissa_text(series: Series, m: float) -> str:
-    decimals = 1 if all(abs(v * 10 - round(v * 10)) < 1e-9 for v in series.mantissas) else 2
-    return f"{m:.{decimals}f}"
 
 
 def _pct(value: float) -> str:
@@ -169,10 +164,12 @@ def _show_series(series: Series, as_json: bool) -> int:
     console.print(f"source: {series.source}", markup=False)
     console.print("mantissas of one decade (a part value is mantissa x 10^k):", markup=False)
     per_row = min(12, len(series))
+    # E3..E24 are published with one decimal, E48..E192 with two (facts.md S22, S23)
+    decimals = 1 if all(abs(m * 10 - round(m * 10)) < 1e-9 for m in series.mantissas) else 2
     rows = []
     for start in range(0, len(series), per_row):
         chunk = series.mantissas[start:start + per_row]
-        rows.append([str(start)] + [_mantissa_text(series, m) for m in chunk]
+        rows.append([str(start)] + [f"{m:.{decimals}f}" for m in chunk]
                     + [""] * (per_row - len(chunk)))
     columns = ["#"] + [f"+{i}" for i in range(per_row)]
     console.print(simple_table(None, columns, rows, justify=["right"] * len(columns)))
