@@ -196,3 +196,14 @@ def test_circuit_mode_calls_the_circuit_options(capsys, monkeypatch):
     assert doc["v_stop_v"] == pytest.approx(2.0, abs=1e-9)
     assert doc["stops_at"] is not None
     assert doc["flashes"] == pytest.approx(doc["runtime_s"] / 2.0, rel=0.005)  # fixed 2 s period
+
+
+def test_report_of_a_circuit_that_never_lights():
+    v = np.linspace(1.0, 3.0, 3)
+    dark = LoadCurve(label="dark", supply_v=v, supply_avg_a=np.full(3, 1e-6),
+                     period_s=np.full(3, np.nan), flash_s=np.full(3, np.nan),
+                     led_peak_a=np.full(3, np.nan), effective_a=np.full(3, np.nan),
+                     effective_cd=np.full(3, np.nan), lit=np.zeros(3, bool))
+    result = simulate_night(custom_storage(1.0), 2.7, 12 * 3600.0, dark)
+    text = render(result, {"dusk": None, "duration_s": 12 * 3600.0, "given": "length"})
+    assert "light never starts: the circuit is not lit at 2.70 V" in text

@@ -274,3 +274,16 @@ def test_malformed_load_curve_is_refused():
                   effective_a=np.zeros(2), effective_cd=np.zeros(2), lit=np.ones(2, bool))
     with pytest.raises(CircuitError, match="0 A or more"):
         constant_load(-1e-6)
+
+
+def test_circuit_dark_over_its_whole_curve():
+    result = simulate_night(custom_storage(0.47), 2.7, NIGHT_12H, fake_blinker(5.0))
+    assert result.runtime_s == 0.0 and result.v_stop_v == math.inf
+    assert "not lit even at 3.00 V" in result.stop_reason
+
+
+def test_zero_period_entries_count_no_flashes():
+    # A curve whose period is 0 where it does not run must not divide by zero.
+    curve = constant_load(10e-6, period_s=0.0)
+    result = simulate_night(custom_storage(1.0), 2.5, NIGHT_12H, curve)
+    assert result.flashes == 0.0

@@ -208,10 +208,8 @@ def simulate_night(
     if load is not None:
         grid = load.supply_v
         current_tab = load.supply_avg_a
-        rate_tab = np.where(
-            np.isfinite(load.period_s) & (load.period_s > 0), 1.0 / load.period_s, 0.0
-        )
-        rate_tab = np.where(np.isfinite(rate_tab), rate_tab, 0.0)
+        runs = np.isfinite(load.period_s) & (load.period_s > 0)
+        rate_tab = np.divide(1.0, load.period_s, out=np.zeros_like(grid), where=runs)
     leak_fixed = storage_leak_a
 
     def rhs(t, y):
@@ -299,6 +297,11 @@ def simulate_night(
     # reasons, assumptions, warnings
     if lasts:
         reason = "lasts the night"
+    elif runtime == 0.0 and math.isinf(v_stop):
+        reason = (
+            f"the light never starts: the circuit is not lit even at {load.supply_v[-1]:.2f} V, "
+            "the top of its load curve"
+        )
     elif runtime == 0.0:
         reason = (
             f"the light never starts: {v_start_v:.2f} V is at or below the stop voltage "

@@ -411,6 +411,8 @@ def verdict(result: NightResult, open_ended: bool = False) -> str:
                     f"{result.v_end_v:.2f} V left")
         return f"lasts the night, {result.v_end_v:.2f} V left at dawn"
     if result.runtime_s == 0.0:
+        if not math.isfinite(result.v_stop_v):
+            return f"light never starts: the circuit is not lit at {result.v_start_v:.2f} V"
         return (f"light never starts: {result.v_start_v:.2f} V is not above the stop voltage "
                 f"{stop}")
     what = "light stops" if result.load is not None else f"storage reaches {stop}"
@@ -463,7 +465,12 @@ def render_report(result: NightResult, night: dict, console) -> None:
         place = f"{abs(night['latitude_deg']):g}° {'N' if night['latitude_deg'] >= 0 else 'S'}"
         window += f" (light on at {turn_on}, {place}, evening of {night['date']})"
     s = result.storage
-    stop = f"stop {result.v_stop_v:.2f} V" if result.v_stop_v > 0 else "no stop voltage"
+    if not math.isfinite(result.v_stop_v):
+        stop = "not lit at any supply of the circuit's curve"
+    elif result.v_stop_v > 0:
+        stop = f"stop {result.v_stop_v:.2f} V"
+    else:
+        stop = "no stop voltage"
     rows = [
         ["night", window],
         ["storage", f"{s.name}: {_eng(result.capacitance_f, 'F')}, rated {s.v_rated_v:.2f} V, "
@@ -545,7 +552,7 @@ def night_chart(result: NightResult, dusk: datetime | None) -> list[str]:
         v_cols[on] = np.interp(t_cols[on], tl.t_s[finite], tl.v_v[finite])
     else:
         v_cols[0] = result.v_start_v
-    has_stop = result.v_stop_v > 0
+    has_stop = 0 < result.v_stop_v < math.inf
     v_hi = result.v_start_v
     v_lo = float(np.nanmin(v_cols))
     if has_stop:
