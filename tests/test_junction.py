@@ -4,6 +4,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 from scipy.optimize import brentq
 
 from pulsepick.errors import PartError
@@ -109,3 +111,19 @@ def test_impossible_parameters_refused():
         JUNCTIONS[0].current(1.0, r_ext=-10.0)
     with pytest.raises(PartError, match="rise"):
         Junction.from_two_points((0.3, 1e-4), (0.29, 1e-3))
+
+
+@settings(derandomize=True, max_examples=200, deadline=None)
+@given(
+    log_is=st.floats(-40.0, -6.0),
+    n=st.floats(0.8, 5.0),
+    r_s=st.floats(0.0, 50.0),
+    r_ext=st.floats(0.0, 1e7),
+    log_i=st.floats(-12.0, 0.0),
+)
+def test_round_trip_property(log_is, n, r_s, r_ext, log_i):
+    # any junction: the exact current at the voltage that drives i through R gives i back
+    j = Junction(i_s=10.0**log_is, n=n, r_s=r_s)
+    i = 10.0**log_i
+    v = j.voltage(i) + i * r_ext
+    assert j.current(v, r_ext) == pytest.approx(i, rel=1e-9)
