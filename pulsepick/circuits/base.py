@@ -1,0 +1,310 @@
+"""Shared types of the circuit modules: parameters, the electrical environment,
+the loads a stage puts on its driver, and the registry.
+
+Everything is vectorised: a value or environment field may be a float or a numpy
+array, and all of them broadcast together (one element per candidate circuit).
+SI units throughout.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any, Callable, Literal, Protocol
+
+import numpy as np
+
+from pulsepick.errors import CircuitError
+
+Array = np.ndarray
+ChipKind = Literal["schmitt", "timer"]
+Level = Literal["high", "low"]
+
+#: Effective-intensity time constant a, in seconds, for night-time observation:
+#: Schmidt-Clausen form-factor method, C = 0.2 s at night (Gigahertz-Optik pulse
+#: measurement tutorial, facts.md S33); also the conventional Blondel-Rey constant (S30, S31).
+EFFECTIVE_A_S = 0.2
+
+# Status codes carried per candidate by the engines.
+RUNS, STALLS, DARK, UNPOWERED = 0, 1, 2, 3
+STATUS_WORDS = {RUNS: "runs", STALLS: "stalls", DARK: "dark", UNPOWERED: "unpowered"}
+
+
+@dataclass(frozen=True)
+class Param:
+    """One component value a circuit needs."""
+
+    name: str  # key in the values mapping, e.g. "r1"
+    kind: Literal["R", "C"]  # resistor or capacitor
+    role: str  # what it does, for parts lists ("timing resistor")
+    optional: bool = False  # may be absent (then ``default`` is used)
+    default: float = 0.0  # ohm or farad when optional and absent
+
+
+@dataclass(frozen=True)
+class Env:
+    """The electrical surroundings of a batch of circuits at one operating point.
+
+    All numeric fields broadcast with the circuit values.
+    """
+
+    chip_kind: ChipKind
+    vdd: Any  # V, supply
+    vt_plus: Any  # V, upper switching level (Schmitt VT+, or the 555 threshold)
+    vt_minus: Any  # V, lower switching level (Schmitt VT-, or the 555 trigger)
+    rout_high: Any  # ohm, output resistance of a gate driving high
+    rout_low: Any  # ohm, output resistance of a gate driving low
+    pin_leak_a: Any  # A, input-pin leakage drawn out of the timing node (sign: discharges it)
+    iq_a: Any  # A, quiescent supply current of the chip (whole package)
+    cap_leak_g: Any  # S, leakage conductance of the timing capacitor
+    led: Any  # LedModel (pulsepick.parts.led)
+    steer_diode: Any = None  # DiodeModel for the steering diode
+    reset_diode: Any = None  # DiodeModel for the pulse-stage reset diode
+    fade_diode: Any = None  # DiodeModel for the fade-stage charge diode
+    cross_current: Callable[[Any, Any], Any] | None = None  # A = f(v_in, vdd), estimate
+    cross_override_a: Any = None  # A, measured average crossing current (replaces the model)
+    r_discharge: Any = 0.0  # ohm, 555 discharge switch
+    stage_cap_leak_g: Any = 0.0  # S, leakage conductance of the stage capacitor
+    effective_a_s: float = EFFECTIVE_A_S  # s, effective-intensity constant
+
+
+@dataclass(frozen=True)
+class Topology:
+    """Which core and stage, and how the stage is driven."""
+
+    core: str  # registered core name
+    stage: str  # registered stage name
+    buffered: bool = False  # stage driven by a spare gate (inverting) instead of the timing gate
+    lit: Level = "high"  # direct stage: lit while its driver is high (LED to ground) or low
+    steer: Level = "high"  # schmitt-steered: the phase the diode branch speeds up
+
+    def label(self) -> str:
+        parts = [self.core]
+        if self.core == "schmitt-steered":
+            parts[0] += f" (fast {self.steer})"
+        stage = self.stage
+        if self.stage == "direct":
+            stage += f" ({'to ground' if self.lit == 'high' else 'from supply'})"
+        parts.append(stage)
+        if self.buffered:
+            parts.append("buffered")
+        return " + ".join(parts)
+
+
+@dataclass(frozen=True)
+class Load:
+    """What a stage draws from its driver during one driver phase.
+
+    The driver is seen by the timing network as a Thevenin source; a stage shifts
+    it by a steady current and an impulse of charge at the start of the phase.
+    """
+
+    i_ss: Any = 0.0  # A, steady current drawn out of the driver node (negative: pushed in)
+    r_dyn: Any = np.inf  # ohm, incremental resistance of the stage at that current
+    q_imp: Any = 0.0  # C, extra charge drawn out at the start of the phase
+    s_imp: Any = 0.0  # s, charge-weighted mean delay of that impulse after the edge
+
+
+@dataclass(frozen=True)
+class Drive:
+    """Thevenin view of the timing node's source during one timing phase."""
+
+    v_th: Any  # V, open-circuit level
+    r_th: Any  # ohm, source resistance
+    r_out: Any  # ohm, gate output resistance carrying the impulse
+    q_imp: Any = 0.0  # C, impulse charge drawn from the node at the phase start
+    s_imp: Any = 0.0  # s, delay of the impulse centroid
+
+
+@dataclass(frozen=True)
+class PhaseTimes:
+    """Fast-engine result of a core."""
+
+    t_high: Any  # s, timing output high (capacitor charging)
+    t_low: Any  # s, timing output low
+    status: Any  # int array of RUNS / STALLS
+    q_supply: Any  # C per period drawn from the supply by the timing network
+    q_cross: Any  # C per period of crossing current (chip input between the rails)
+
+
+@dataclass(frozen=True)
+class StageFigures:
+    """Fast-engine result of a stage, given the driver's phase times."""
+
+    led_peak_a: Any
+    flash_s: Any  # s at or above 50 % of peak
+    flash_10pct_s: Any  # s at or above 10 % of peak
+    led_charge_c: Any  # C through the LED per period
+    q_supply: Any  # C per period drawn from the supply by the stage
+    load_on: Load  # load during the driver's high phase
+    load_off: Load  # load during the driver's low phase
+    state: Any = None  # carried between fixed-point passes (pulse/fade residuals)
+
+
+class Core(Protocol):
+    name: str
+    chip_kind: ChipKind
+    params: tuple[Param, ...]
+    drives_stage_from_timing_output: bool
+
+    def phase_times(self, v: dict[str, Any], env: Env, topo: Topology,
+                    high: Drive, low: Drive) -> PhaseTimes: ...
+
+    def ref_currents(self, v: dict[str, float], env: Env, topo: Topology, vo: float,
+                     vc: float, high: bool) -> tuple[float, float, float]: ...
+
+
+class Stage(Protocol):
+    name: str
+    params: tuple[Param, ...]
+    n_states: int
+
+    def fast(self, v: dict[str, Any], env: Env, topo: Topology, drv: "DriverView",
+             t_on: Any, t_off: Any, state: Any) -> StageFigures: ...
+
+    def ref_init(self, v: dict[str, float], env: Env, topo: Topology) -> list[float]: ...
+
+    def ref_currents(self, v: dict[str, float], env: Env, topo: Topology, vo: float,
+                     xs: Any, driver_high: bool) -> tuple[float, list[float], float, float]: ...
+
+
+@dataclass(frozen=True)
+class DriverView:
+    """The node that drives the LED stage: levels and source resistances."""
+
+    v_high: Any  # V when driving high
+    r_high: Any  # ohm
+    v_low: Any  # V when driving low
+    r_low: Any  # ohm
+    vdd: Any  # V, supply (sink-type stages return to it)
+
+
+_CORES: dict[str, Any] = {}
+_STAGES: dict[str, Any] = {}
+
+
+def register_core(core: Any) -> Any:
+    _CORES[core.name] = core
+    return core
+
+
+def register_stage(stage: Any) -> Any:
+    _STAGES[stage.name] = stage
+    return stage
+
+
+def _load_modules() -> None:
+    if _CORES and _STAGES:
+        return
+    import importlib
+
+    from pulsepick.circuits import CIRCUIT_MODULES
+
+    for name in CIRCUIT_MODULES:
+        importlib.import_module(f"pulsepick.circuits.{name}")
+
+
+def get_core(name: str) -> Any:
+    _load_modules()
+    if name not in _CORES:
+        raise CircuitError(f"unknown core {name!r}; accepted: {', '.join(sorted(_CORES))}")
+    return _CORES[name]
+
+
+def get_stage(name: str) -> Any:
+    _load_modules()
+    if name not in _STAGES:
+        raise CircuitError(f"unknown stage {name!r}; accepted: {', '.join(sorted(_STAGES))}")
+    return _STAGES[name]
+
+
+def core_names() -> tuple[str, ...]:
+    _load_modules()
+    return tuple(_CORES)
+
+
+def stage_names() -> tuple[str, ...]:
+    _load_modules()
+    return tuple(_STAGES)
+
+
+def check_values(topo: Topology, values: dict[str, Any]) -> dict[str, Any]:
+    """Fill optional defaults and refuse missing, zero or negative values.
+
+    Returns a new mapping holding exactly the parameters the topology uses.
+    """
+    core, stage = get_core(topo.core), get_stage(topo.stage)
+    if topo.buffered and core.chip_kind == "timer":
+        raise CircuitError("a buffer gate is only used with Schmitt cores; the 555 output "
+                           "already drives the stage (drop --buffered)")
+    out: dict[str, Any] = {}
+    problems = []
+    for p in core.params + stage.params:
+        if p.name not in values or values[p.name] is None:
+            if p.optional:
+                out[p.name] = p.default
+                continue
+            problems.append(f"{p.name} ({p.role}) is missing")
+            continue
+        val = values[p.name]
+        arr = np.asarray(val, dtype=float)
+        minimum_ok = (arr >= 0) if p.optional else (arr > 0)
+        if not np.all(np.isfinite(arr)) or not np.all(minimum_ok):
+            problems.append(f"{p.name} ({p.role}) must be a positive, finite value")
+            continue
+        out[p.name] = val
+    known = {p.name for p in core.params + stage.params}
+    extra = sorted(set(values) - known)
+    if extra:
+        problems.append(f"{', '.join(extra)} not used by {topo.core} + {topo.stage} "
+                        f"(it uses {', '.join(sorted(known))})")
+    if problems:
+        raise CircuitError("; ".join(problems))
+    return out
+
+
+@dataclass(frozen=True)
+class Figures:
+    """The figures every engine returns (arrays, one element per circuit)."""
+
+    period_s: Any
+    high_s: Any
+    low_s: Any
+    led_peak_a: Any
+    flash_s: Any
+    flash_10pct_s: Any
+    led_charge_c: Any
+    effective_a: Any
+    effective_mcd: Any
+    supply_avg_a: Any
+    status: Any  # int codes, see STATUS_WORDS
+    extras: dict[str, Any] = field(default_factory=dict)
+
+    KEYS = ("period_s", "high_s", "low_s", "led_peak_a", "flash_s", "flash_10pct_s",
+            "led_charge_c", "effective_a", "effective_mcd", "supply_avg_a")
+
+    def row(self, i: int | None = None) -> dict[str, Any]:
+        """The figures of one circuit as plain floats (``i`` None for scalars)."""
+        out = {}
+        for k in self.KEYS:
+            a = np.asarray(getattr(self, k), dtype=float)
+            out[k] = float(a if i is None or a.ndim == 0 else a.reshape(-1)[i])
+        st = np.asarray(self.status)
+        out["status"] = int(st if i is None or st.ndim == 0 else st.reshape(-1)[i])
+        return out
+
+
+def effective_current(peak_a: Any, charge_c: Any, a_s: float = EFFECTIVE_A_S) -> Any:
+    """Steady current that looks as bright as a flash (Schmidt-Clausen form).
+
+    ``Ie = Ip*Q / (a*Ip + Q)`` with the flash's charge Q = integral of I dt and peak
+    Ip. For a rectangular flash of length t, Q = Ip*t and this is the Blondel-Rey
+    law ``Ie = Ip*t/(a + t)`` (IES definition of effective intensity, facts.md S30).
+    The form-factor method with a = 0.2 s for night-time observation follows the
+    Schmidt-Clausen method (Gigahertz-Optik tutorial, facts.md S33; the closed form
+    itself is from memory, facts.md section 6).
+    """
+    peak = np.asarray(peak_a, dtype=float)
+    q = np.asarray(charge_c, dtype=float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        out = np.where((peak > 0) & (q > 0), peak * q / (a_s * peak + q), 0.0)
+    return out

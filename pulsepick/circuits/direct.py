@@ -1,0 +1,61 @@
+"""Stage ``direct``: a series resistor and the LED on the driving output.
+
+With ``lit="high"`` the LED and RS run from the driver to ground and light while it
+is high; with ``lit="low"`` they run from the supply into the driver and light while
+it is low. The LED current is the exact solution of the Shockley law with series
+resistance against the driver's output resistance (no fixed "Vf").
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from pulsepick.circuits.base import DriverView, Env, Load, Param, StageFigures, Topology
+from pulsepick.circuits.base import register_stage
+from pulsepick.circuits.decay import n_vt
+
+
+def led_dynamic_resistance(led, i):
+    """Incremental resistance dV/dI of an LED at current ``i`` (ohm)."""
+    j = led.junction
+    return n_vt(j) / (j.i_s + np.asarray(i, dtype=float)) + j.r_s
+
+
+@dataclass(frozen=True)
+class DirectStage:
+    name: str = "direct"
+    params: tuple[Param, ...] = (Param("rs", "R", "LED series resistor"),)
+    n_states: int = 0
+
+    def fast(self, v, env: Env, topo: Topology, drv: DriverView, t_on, t_off, state):
+        rs = v["rs"]
+        if topo.lit == "high":
+            i = env.led.current(drv.v_high, r_ext=drv.r_high + rs)
+            t_lit = t_on
+        else:
+            i = env.led.current(drv.vdd - drv.v_low, r_ext=drv.r_low + rs)
+            t_lit = t_off
+        i = np.maximum(i, 0.0)
+        t_lit_f = np.where(np.isfinite(t_lit), t_lit, 0.0)
+        q = i * t_lit_f
+        load = Load(i_ss=i if topo.lit == "high" else -i,
+                    r_dyn=rs + led_dynamic_resistance(env.led, i))
+        on, off = (load, Load()) if topo.lit == "high" else (Load(), load)
+        return StageFigures(i, t_lit_f, t_lit_f, q, q, on, off)
+
+    def ref_init(self, v, env, topo):
+        return []
+
+    def ref_currents(self, v, env, topo, vo, xs, driver_high):
+        """(current out of the driver, state derivatives, LED current, supply current)."""
+        if topo.lit == "high":
+            i = env.led_scalar.current(vo, v["rs"]) if vo > 0 else 0.0
+            return i, [], i, 0.0
+        across = env.vdd - vo
+        i = env.led_scalar.current(across, v["rs"]) if across > 0 else 0.0
+        return -i, [], i, i
+
+
+register_stage(DirectStage())

@@ -1,0 +1,177 @@
+"""Stage ``fade``: series resistor RS and a diode into a hold capacitor CH across the LED.
+
+While the driver is high, CH charges quickly through RS and the diode and the LED
+comes up to its steady current; while the driver is low the diode blocks and CH
+discharges through the LED alone: a slow fade.
+
+The rise is integrated as dt = CH·dV / (I_in(V) − I_led(V)) on a fixed node set in
+y = −ln(V* − V), V* being the steady hold voltage, which keeps the integrand finite
+up to V*. The fade is the closed form of ``pulsepick.circuits.decay``. The state at
+the rising edge comes from a short fixed-point iteration to periodic steady state.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from pulsepick.circuits.base import DriverView, Env, Load, Param, StageFigures, Topology
+from pulsepick.circuits.base import register_stage
+from pulsepick.circuits.decay import decay_end_current, decay_time, n_vt
+from pulsepick.circuits.direct import led_dynamic_resistance
+
+#: Node set in y for the rise: dense where the LED is coming on, sparse on the tail.
+_Y_NODES = np.concatenate([np.linspace(0.0, 8.0, 49)[:-1], np.linspace(8.0, 40.0, 17)])
+_INNER_PASSES = 3
+
+
+def _steady_hold(env: Env, v_src, r_in):
+    """Hold voltage where the diode's feed equals the LED's draw (bisection)."""
+    led, dio = env.led, env.fade_diode
+    lo = np.zeros(np.broadcast_shapes(np.shape(v_src), np.shape(r_in)))
+    hi = lo + v_src
+    for _ in range(48):
+        mid = 0.5 * (lo + hi)
+        feed = dio.junction.current(np.maximum(v_src - mid, 0.0), r_ext=r_in)
+        draw = led.current(mid)
+        lo = np.where(feed > draw, mid, lo)
+        hi = np.where(feed > draw, hi, mid)
+    return 0.5 * (lo + hi)
+
+
+def _rise_grid(env: Env, v_src, r_in, rs, ch):
+    """Time, hold voltage and LED charge along the rise from an empty CH (per row).
+
+    Nodes in y = −ln(V* − V) from V = 0 up to within e^-40 of V*; trapezoidal
+    cumulative sums. Computed once per evaluation and reused by every pass.
+    """
+    led, dio = env.led, env.fade_diode
+    v_star = _steady_hold(env, v_src, r_in)
+    i_star = led.current(v_star)
+    y = -np.log(np.maximum(v_star, 1e-12))[..., None] + _Y_NODES
+    vh = v_star[..., None] - np.exp(-y)
+    feed = dio.junction.current(np.maximum(v_src[..., None] - vh, 0.0), r_ext=r_in[..., None])
+    draw = led.current(vh)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        dt_dy = np.asarray(ch)[..., None] * np.exp(-y) / np.maximum(feed - draw, 1e-30)
+    dy = np.diff(_Y_NODES)
+    zero = np.zeros(dt_dy.shape[:-1] + (1,))
+    t_cum = np.concatenate([zero, np.cumsum(0.5 * (dt_dy[..., 1:] + dt_dy[..., :-1]) * dy,
+                                            axis=-1)], axis=-1)
+    q = draw * dt_dy
+    q_cum = np.concatenate([zero, np.cumsum(0.5 * (q[..., 1:] + q[..., :-1]) * dy, axis=-1)],
+                           axis=-1)
+    r_led = led_dynamic_resistance(led, i_star)
+    r_dyn = rs + n_vt(dio.junction) / (dio.junction.i_s + i_star) + dio.junction.r_s + r_led
+    tau_rise = ch / (1.0 / r_dyn + 1.0 / r_led)
+    return {"v_star": v_star, "i_star": i_star, "t": t_cum, "vh": vh, "q_led": q_cum,
+            "i_led": draw, "r_dyn": r_dyn, "tau_rise": tau_rise}
+
+
+@dataclass(frozen=True)
+class FadeStage:
+    name: str = "fade"
+    params: tuple[Param, ...] = (
+        Param("rs", "R", "charge resistor"),
+        Param("ch", "C", "hold capacitor across the LED"),
+    )
+    n_states: int = 1
+
+    def fast(self, v, env: Env, topo: Topology, drv: DriverView, t_on, t_off, state):
+        rs, ch = v["rs"], v["ch"]
+        led = env.led
+        t_on_f = np.where(np.isfinite(t_on), t_on, 1e9)
+        t_off_f = np.where(np.isfinite(t_off), t_off, 1e9)
+        if state is None:
+            grid = _rise_grid(env, drv.v_high - drv.v_low, drv.r_high + rs, rs, ch)
+            v_start = np.zeros_like(grid["v_star"])
+        else:
+            v_start, grid = state
+        v_star, i_star = grid["v_star"], grid["i_star"]
+        t_cum, vh, q_cum, i_rise = grid["t"], grid["vh"], grid["q_led"], grid["i_led"]
+        for _ in range(_INNER_PASSES):
+            t_start = _interp_rows(v_start, vh, t_cum, None)
+            t_stop = t_start + t_on_f
+            v_end = _interp_rows(t_stop, t_cum, vh, v_star)
+            q_led_on = _q_at(t_stop, grid) - _q_at(t_start, grid)
+            i_pk = np.maximum(led.current(v_end), 1e-30)
+            # fade: CH feeds the LED alone
+            i_off = decay_end_current(led.junction, led.junction.r_s, ch, i_pk, t_off_f)
+            v_start = np.minimum(led.voltage(i_off), v_end)
+        q_led_off = ch * (v_end - v_start)
+        q_in = q_led_off + q_led_on
+        q_led = q_led_off + q_led_on
+        # time at or above a share of the peak: the end of the rise plus the fade
+        t_above = []
+        for share in (0.5, 0.1):
+            level = share * i_pk
+            t_cross = _interp_rows(level, i_rise, t_cum, None) - t_start
+            rise_part = np.clip(t_on_f - np.maximum(t_cross, 0.0), 0.0, t_on_f)
+            fade_part = np.minimum(decay_time(led.junction, led.junction.r_s, ch, i_pk, level),
+                                   t_off_f)
+            t_above.append(rise_part + fade_part)
+        on = Load(i_ss=i_star, r_dyn=grid["r_dyn"], q_imp=q_in - i_star * t_on_f,
+                  s_imp=np.minimum(grid["tau_rise"], 0.5 * t_on_f))
+        return StageFigures(i_pk, t_above[0], t_above[1], q_led, q_in, on, Load(),
+                            state=(v_start, grid))
+
+    def ref_init(self, v, env, topo):
+        return [0.0]
+
+    def ref_currents(self, v, env, topo, vo, xs, driver_high):
+        """(current out of the driver, d(v_hold)/dt, LED current, supply current)."""
+        vh = xs[0]
+        across = vo - vh
+        feed = env.fade_scalar.current(across, v["rs"]) if across > 0 else 0.0
+        i_led = env.led_scalar.current(vh, 0.0) if vh > 0 else 0.0
+        return feed, [(feed - i_led) / v["ch"]], i_led, 0.0
+
+
+def _q_at(t, grid):
+    """LED charge since an empty CH at time ``t`` of the rise; steady current past the grid."""
+    t_cum, q_cum = grid["t"], grid["q_led"]
+    t_last, q_last = t_cum[..., -1], q_cum[..., -1]
+    inside = _interp_rows(t, t_cum, q_cum, None)
+    return np.where(t > t_last, q_last + grid["i_star"] * (t - t_last), inside)
+
+
+def _interp_rows(x, xp, fp, beyond):
+    """Row-wise linear interpolation of ``fp`` at ``x`` over increasing ``xp``.
+
+    Past the last node the value ``beyond`` (or the last node's value) is used.
+    """
+    x = np.asarray(x, dtype=float)
+    xp, fp = np.broadcast_arrays(xp, fp)
+    shape = xp.shape[:-1]
+    x = np.broadcast_to(x, shape)
+    idx = np.sum(xp <= x[..., None], axis=-1)  # nodes at or before x
+    k = np.clip(idx, 1, xp.shape[-1] - 1)
+    x0 = np.take_along_axis(xp, (k - 1)[..., None], -1)[..., 0]
+    x1 = np.take_along_axis(xp, k[..., None], -1)[..., 0]
+    f0 = np.take_along_axis(fp, (k - 1)[..., None], -1)[..., 0]
+    f1 = np.take_along_axis(fp, k[..., None], -1)[..., 0]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        w = np.clip((x - x0) / (x1 - x0), 0.0, 1.0)
+    out = f0 + w * (f1 - f0)
+    last = fp[..., -1] if beyond is None else np.broadcast_to(beyond, shape)
+    return np.where(idx >= xp.shape[-1], last, out)
+
+
+def _first_crossing(t_cum, values, level):
+    """Time at which an increasing sampled curve first reaches ``level`` (0 if at start)."""
+    above = values >= np.asarray(level)[..., None]
+    first = np.argmax(above, axis=-1)
+    any_above = np.any(above, axis=-1)
+    k = np.clip(first, 1, values.shape[-1] - 1)
+    t0 = np.take_along_axis(t_cum, (k - 1)[..., None], -1)[..., 0]
+    t1 = np.take_along_axis(t_cum, k[..., None], -1)[..., 0]
+    v0 = np.take_along_axis(values, (k - 1)[..., None], -1)[..., 0]
+    v1 = np.take_along_axis(values, k[..., None], -1)[..., 0]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        w = np.clip((level - v0) / (v1 - v0), 0.0, 1.0)
+    t = np.where(first == 0, 0.0, t0 + w * (t1 - t0))
+    return np.where(any_above, t, np.inf)
+
+
+register_stage(FadeStage())

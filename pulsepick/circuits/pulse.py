@@ -1,0 +1,85 @@
+"""Stage ``pulse``: coupling capacitor CP, optional series resistor RS, LED to ground,
+and a reset diode (anode to ground, cathode at the LED side of CP).
+
+Each rising edge of the driver pushes the LED side of CP up: the LED flashes while
+CP charges, the current decaying as CP's voltage rises; the charge per flash is
+bounded by CP·(swing). While the driver is low the reset diode discharges CP
+again, down to a small residual (the diode's drop at its final, tiny current).
+
+Both decays are closed forms (``pulsepick.circuits.decay``); the residual at the
+rising edge and the voltage at the falling edge are found by a short fixed-point
+iteration to the periodic steady state.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from pulsepick.circuits.base import DriverView, Env, Load, Param, StageFigures, Topology
+from pulsepick.circuits.base import register_stage
+from pulsepick.circuits.decay import decay_end_current, decay_time
+
+LN2 = np.log(2.0)
+#: Starting guess for the residual voltage on CP at the rising edge (V): a silicon
+#: diode's drop at sub-microampere currents (estimate; the iteration refines it).
+_RESIDUAL_GUESS_V = 0.3
+_INNER_PASSES = 3
+
+
+@dataclass(frozen=True)
+class PulseStage:
+    name: str = "pulse"
+    params: tuple[Param, ...] = (
+        Param("cp", "C", "flash coupling capacitor"),
+        Param("rs", "R", "LED series resistor", optional=True, default=0.0),
+    )
+    n_states: int = 1
+
+    def fast(self, v, env: Env, topo: Topology, drv: DriverView, t_on, t_off, state):
+        cp, rs = v["cp"], v["rs"]
+        led, dio = env.led, env.reset_diode
+        r_flash = drv.r_high + rs  # outside the LED's own series resistance
+        r_reset = drv.r_low
+        t_on_f = np.where(np.isfinite(t_on), t_on, 1e9)
+        t_off_f = np.where(np.isfinite(t_off), t_off, 1e9)
+        swing = drv.v_high - drv.v_low
+        residual = _RESIDUAL_GUESS_V if state is None else state
+        for _ in range(_INNER_PASSES):
+            across = np.maximum(swing - residual, 0.0)
+            i_pk = np.maximum(led.current(across, r_ext=r_flash), 1e-30)
+            i_end = decay_end_current(led.junction, r_flash + led.junction.r_s, cp, i_pk, t_on_f)
+            v_end = swing - (led.voltage(i_end) + i_end * r_flash)  # CP voltage at falling edge
+            id_1 = np.maximum(dio.junction.current(np.maximum(v_end, 0.0), r_ext=r_reset), 1e-30)
+            id_end = decay_end_current(dio.junction, r_reset + dio.junction.r_s, cp, id_1,
+                                       t_off_f)
+            residual = np.where(v_end > 0, dio.voltage(id_end) + id_end * r_reset, v_end)
+        q = np.maximum(cp * (v_end - residual), 0.0)
+        r_t = r_flash + led.junction.r_s
+        t50 = np.minimum(decay_time(led.junction, r_t, cp, i_pk, 0.5 * i_pk), t_on_f)
+        t10 = np.minimum(decay_time(led.junction, r_t, cp, i_pk, 0.1 * i_pk), t_on_f)
+        t50 = np.where(i_end >= 0.5 * i_pk, t_on_f, t50)
+        t10 = np.where(i_end >= 0.1 * i_pk, t_on_f, t10)
+        # centroid of an exponential-like decay: its time constant, ~ t50 / ln 2
+        s_flash = np.minimum(t50 / LN2, 0.5 * t_on_f)
+        r_t_reset = r_reset + dio.junction.r_s
+        s_reset = np.minimum(decay_time(dio.junction, r_t_reset, cp, id_1, 0.5 * id_1) / LN2,
+                             0.5 * t_off_f)
+        on = Load(i_ss=0.0, r_dyn=np.inf, q_imp=q, s_imp=s_flash)
+        off = Load(i_ss=0.0, r_dyn=np.inf, q_imp=-q, s_imp=s_reset)
+        return StageFigures(i_pk, t50, t10, q, q, on, off, state=residual)
+
+    def ref_init(self, v, env, topo):
+        return [_RESIDUAL_GUESS_V]
+
+    def ref_currents(self, v, env, topo, vo, xs, driver_high):
+        """(current out of the driver, d(v_cp)/dt, LED current, supply current)."""
+        node = vo - xs[0]  # LED side of CP
+        i_led = env.led_scalar.current(node, v["rs"]) if node > 0 else 0.0
+        i_dio = env.reset_scalar.current(-node, 0.0) if node < 0 else 0.0
+        i_cp = i_led - i_dio
+        return i_cp, [i_cp / v["cp"]], i_led, 0.0
+
+
+register_stage(PulseStage())

@@ -1,0 +1,125 @@
+"""Core ``schmitt-steered``: the Schmitt core with a diode-steered second resistor.
+
+R1 runs from output to input as in ``schmitt``; R2 in series with a diode runs in
+parallel with it, so one phase is speeded up: with ``steer="high"`` the diode
+conducts while the output is high (short high, long low: a short flash on the
+output), with ``steer="low"`` while it is low (short low, long high).
+
+The fast engine integrates dt = C·dV / I(V) over the steered phase on a fixed set
+of Gauss-Legendre nodes in y = −ln|V_th − V| (which keeps the integrand smooth up
+to the threshold); the diode branch current is exact (Shockley law with series
+resistance, from ``pulsepick.parts.junction``). The other phase is the linear
+closed form of the plain core.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from pulsepick.circuits.base import (
+    RUNS,
+    STALLS,
+    Drive,
+    Env,
+    Param,
+    PhaseTimes,
+    Topology,
+    register_core,
+)
+from pulsepick.circuits.rc import impulse_shift
+from pulsepick.circuits.schmitt import crossing_charge, linear_phase, timing_supply_charge
+
+_GL_X, _GL_W = np.polynomial.legendre.leggauss(16)
+
+
+def _branch_current(env: Env, r_total, across):
+    """Diode + resistor branch current for a voltage ``across`` it (forward only)."""
+    across = np.asarray(across, dtype=float)
+    i = env.steer_diode.junction.current(np.maximum(across, 0.0), r_ext=r_total)
+    return np.where(across > 0, i, 0.0)
+
+
+def steered_phase(c, r1, r2, drive: Drive, env: Env, v_from, v_to, rising: bool,
+                  with_cross: bool):
+    """The phase with the diode branch conducting: ``(t, ok, q_cross)``."""
+    sgn = 1.0 if rising else -1.0
+    g1 = 1.0 / (r1 + drive.r_th)
+    r_branch = r2 + drive.r_th
+
+    def current(vc):
+        # charging current into C (positive while rising)
+        lin = g1 * (drive.v_th - vc) - env.cap_leak_g * vc - env.pin_leak_a
+        return lin + sgn * _branch_current(env, r_branch, sgn * (drive.v_th - vc))
+
+    # impulse shift with the secant conductance at the phase start
+    i0 = current(v_from)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        g_eff = np.abs((i0 + env.cap_leak_g * v_from + env.pin_leak_a)
+                       / (drive.v_th - v_from))
+        tau_eff = c / np.maximum(g_eff, 1e-30)
+    v_start = v_from + impulse_shift(drive.r_out, drive.q_imp, drive.s_imp, g_eff, c, tau_eff)
+    reached = (v_start >= v_to) if rising else (v_start <= v_to)
+    ok = sgn * current(v_to) > 0
+    with np.errstate(divide="ignore", invalid="ignore"):
+        y0 = -np.log(np.abs(drive.v_th - v_start))
+        y1 = -np.log(np.abs(drive.v_th - v_to))
+    half, mid = 0.5 * (y1 - y0), 0.5 * (y1 + y0)
+    t = 0.0
+    q_cross = 0.0
+    cross = env.cross_current if (with_cross and env.cross_override_a is None) else None
+    for x, w in zip(_GL_X, _GL_W, strict=True):
+        y = mid + half * x
+        vc = drive.v_th - sgn * np.exp(-y)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            dt_dy = c * sgn * np.exp(-y) / current(vc)
+        t = t + w * half * dt_dy
+        if cross is not None:
+            q_cross = q_cross + w * half * dt_dy * cross(vc, env.vdd)
+    t = np.where(reached, 0.0, np.where(ok, t, np.inf))
+    return t, ok | reached, q_cross
+
+
+@dataclass(frozen=True)
+class SteeredSchmittCore:
+    name: str = "schmitt-steered"
+    chip_kind: str = "schmitt"
+    params: tuple[Param, ...] = (
+        Param("r1", "R", "timing resistor (slow phase)"),
+        Param("r2", "R", "steering resistor (fast phase)"),
+        Param("c1", "C", "timing capacitor"),
+    )
+    drives_stage_from_timing_output: bool = True
+
+    def phase_times(self, v, env: Env, topo: Topology, high: Drive, low: Drive,
+                    with_cross: bool = True) -> PhaseTimes:
+        r1, r2, c = v["r1"], v["r2"], v["c1"]
+        if topo.steer == "high":
+            th, ok_h, qx_h = steered_phase(c, r1, r2, high, env, env.vt_minus, env.vt_plus,
+                                           True, with_cross)
+            tl, ok_l, vi, tau, vs = linear_phase(c, r1, low, env, env.vt_plus, env.vt_minus,
+                                                 False)
+            qx_l = crossing_charge(env, vs, vi, tau, tl) if with_cross else 0.0
+        else:
+            th, ok_h, vi, tau, vs = linear_phase(c, r1, high, env, env.vt_minus, env.vt_plus,
+                                                 True)
+            qx_h = crossing_charge(env, vs, vi, tau, th) if with_cross else 0.0
+            tl, ok_l, qx_l = steered_phase(c, r1, r2, low, env, env.vt_plus, env.vt_minus,
+                                           False, with_cross)
+        status = np.where(ok_h & ok_l, RUNS, STALLS)
+        return PhaseTimes(th, tl, status, timing_supply_charge(c, env, th), qx_h + qx_l)
+
+    def ref_currents(self, v, env, topo, vo, vc, high):
+        """Reference engine: (current into C1, current out of the output node, supply)."""
+        i_r = (vo - vc) / v["r1"]
+        i_b = 0.0
+        if topo.steer == "high" and vo > vc:
+            i_b = env.steer_diode_scalar.current(vo - vc, v["r2"])
+        elif topo.steer == "low" and vc > vo:
+            i_b = -env.steer_diode_scalar.current(vc - vo, v["r2"])
+        i_out = i_r + i_b
+        return i_out - env.cap_leak_g * vc - env.pin_leak_a, i_out, 0.0
+
+
+register_core(SteeredSchmittCore())
