@@ -1,0 +1,483 @@
+"""``pulsepick day``: charge the storage from the panel, and run days and nights in turn.
+
+Reads the storage, the panel, the charge path (diode, clamp, dusk-detector bleed), the
+weather (words or an hourly irradiance file), the night and the loads; runs
+:func:`pulsepick.analysis.day.simulate_days` and prints a day-by-day table, the days of
+autonomy, whether the system restarts from empty in weak light, warnings and cautions.
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+from datetime import date
+
+from pulsepick import __version__
+from pulsepick.analysis.cautions import GENERAL_CAUTIONS
+from pulsepick.analysis.day import MAX_DAYS, DaysResult, NightWindow, simulate_days
+from pulsepick.analysis.irradiance import WEATHER_WORDS, load_profile_csv, parse_weather
+from pulsepick.errors import PulsepickError, RequestError
+from pulsepick.parts.diode import DIODE_KEYS, get_diode
+from pulsepick.parts.panel import PanelModel, custom_panel, get_panel, panel_keys
+from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS, Storage, custom_storage, get_storage
+from pulsepick.render import dump_json, make_console, simple_table
+
+NAME = "day"
+SUMMARY = "charge the storage from the panel over a day, and run days and nights in turn"
+EXAMPLES = [
+    "pulsepick day --storage 5f-2v7 --panel 5v60ma --clamp 2.5V --weather clear,overcast,dim "
+    "--days 7 --night-load 30uA",
+    "pulsepick day --storage 1F --panel-voc 5V --panel-isc 60mA --panel-cells 8 --diode si "
+    "--start 0V --profile garden.csv --night 12.5h",
+    "pulsepick day --storage 0f22-5v5 --panel 2v40ma --weather dim --latitude 52.1 "
+    "--date 2026-12-21 --night-load 10uA --json",
+]
+
+TURN_ON_CHOICES = ("civil", "sunset")
+DEFAULT_NIGHT = "12h"
+DEFAULT_STOP = "1.8V"
+
+
+# --------------------------------------------------------------------------- shared options
+
+def quantity(text: str, kind: str, option: str, example: str, allow_zero: bool = False) -> float:
+    """Read a quantity for ``option``; errors name the option and an example."""
+    from pulsepick.units import parse_quantity
+
+    try:
+        return parse_quantity(text, kind, allow_zero=allow_zero)  # type: ignore[arg-type]
+    except PulsepickError as err:
+        raise RequestError(f"{option} {text!r}: {err} (such as {example})") from err
+
+
+def add_panel_arguments(parser: argparse.ArgumentParser) -> None:
+    """The panel and diode options shared by ``day`` and ``dusk``."""
+    group = parser.add_argument_group("panel (--panel KEY, or --panel-voc with --panel-isc)")
+    group.add_argument("--panel", metavar="KEY",
+                       help=f"a panel from the table: {', '.join(panel_keys())}")
+    group.add_argument("--panel-voc", metavar="V", help="rated open-circuit voltage, such as 5V")
+    group.add_argument("--panel-isc", metavar="I", help="rated short-circuit current, such as 60mA")
+    group.add_argument("--panel-cells", metavar="N",
+                       help="cells in series (default: guessed from about 0.6 V per cell)")
+    group.add_argument("--diode", choices=DIODE_KEYS, default="schottky",
+                       help="series charging diode (default schottky)")
+
+
+def read_panel(args: argparse.Namespace) -> PanelModel:
+    """The panel from ``--panel`` or ``--panel-voc``/``--panel-isc``/``--panel-cells``."""
+    rated = [args.panel_voc, args.panel_isc, args.panel_cells]
+    accepted = (f"--panel KEY ({', '.join(panel_keys())}) or --panel-voc 5V --panel-isc 60mA "
+                "[--panel-cells 8]")
+    if args.panel is not None:
+        if any(x is not None for x in rated):
+            raise RequestError(f"give the panel one way: {accepted}")
+        return get_panel(args.panel)
+    if args.panel_voc is None and args.panel_isc is None:
+        if args.panel_cells is not None:
+            raise RequestError(f"--panel-cells needs --panel-voc and --panel-isc; use {accepted}")
+        raise RequestError(f"no panel given; use {accepted}")
+    if args.panel_voc is None or args.panel_isc is None:
+        raise RequestError(f"--panel-voc and --panel-isc go together; use {accepted}")
+    voc = quantity(args.panel_voc, "voltage", "--panel-voc", "5V")
+    isc = quantity(args.panel_isc, "current", "--panel-isc", "60mA")
+    cells = None
+    if args.panel_cells is not None:
+        try:
+            cells = int(args.panel_cells)
+        except ValueError:
+            cells = 0
+        if not 1 <= cells <= 100:
+            raise RequestError(f"--panel-cells {args.panel_cells!r}: give a whole number "
+                               "from 1 to 100, such as 8")
+    return custom_panel(voc, isc, cells)
+
+
+def read_storage(text: str | None, rated: str | None) -> Storage:
+    """A storage key or a capacitance (``0.47F``) with an optional rating."""
+    from pulsepick.units import parse_value
+
+    accepted = f"a storage key ({', '.join(STORAGE_KEYS)}) or a capacitance such as 0.47F"
+    if text is None:
+        raise RequestError(f"no storage given; use --storage with {accepted}")
+    key = text.strip().lower()
+    if key in STORAGE_KEYS:
+        if rated is not None:
+            raise RequestError(
+                f"--rated applies to a storage given as a capacitance, not to {key!r}")
+        return get_storage(key)
+    try:
+        capacitance = parse_value(text, unit="F", allow_zero=True)
+    except PulsepickError as err:
+        raise RequestError(f"--storage {text!r} is not a storage; accepted: {accepted}") from err
+    if not capacitance > 0:
+        raise RequestError(
+            f"--storage {text!r}: the capacitance must be above 0; accepted: {accepted}")
+    v_rated = 2.7 if rated is None else quantity(rated, "voltage", "--rated", "2.7V or 5.5V")
+    return custom_storage(capacitance, v_rated_v=v_rated)
+
+
+def clock(seconds: float | None) -> str:
+    """Seconds after midnight as HH:MM (wrapping at 24 h); '-' for None."""
+    if seconds is None or not math.isfinite(seconds):
+        return "-"
+    m = round(seconds / 60.0) % (24 * 60)
+    return f"{m // 60:02d}:{m % 60:02d}"
+
+
+def hours(seconds: float | None) -> str:
+    """A duration as '7.5 h' or '45 min'."""
+    if seconds is None:
+        return "-"
+    if seconds < 3600:
+        return f"{seconds / 60:.0f} min"
+    return f"{seconds / 3600:.1f} h"
+
+
+# --------------------------------------------------------------------------- options
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    """Options of ``pulsepick day``."""
+    store = parser.add_argument_group("storage")
+    store.add_argument("--storage", metavar="KEY|C",
+                       help=f"a storage part ({', '.join(STORAGE_KEYS)}) or a capacitance such "
+                            "as 0.47F")
+    store.add_argument("--rated", metavar="V",
+                       help="rated voltage of a storage given as a capacitance (default 2.7V)")
+    store.add_argument("--start", metavar="V", default="0V",
+                       help="storage voltage at the first dawn (default 0V: empty)")
+    store.add_argument("--stop-at", metavar="V", default=DEFAULT_STOP,
+                       help=f"the light stops when the storage falls to this voltage "
+                            f"(default {DEFAULT_STOP})")
+    store.add_argument("--leakage", choices=LEAK_LEVELS, default="settled",
+                       help="storage leakage: settled (typical after days, default) or max")
+    add_panel_arguments(parser)
+    path = parser.add_argument_group("charge path")
+    path.add_argument("--diode-leak", choices=("typ", "max"), default="typ",
+                      help="the diode's reverse leakage at night: typ (default) or max")
+    path.add_argument("--clamp", metavar="V",
+                      help="a shunt clamp (zener or TL431-style) across the storage, such as 2.5V")
+    path.add_argument("--bleed", metavar="R",
+                      help="the dusk detector's bleed resistor across the panel, such as 240k")
+    light = parser.add_argument_group("light (one of --weather or --profile)")
+    light.add_argument("--weather", metavar="WORDS",
+                       help=f"weather per day, comma-separated, repeated in turn: "
+                            f"{', '.join(WEATHER_WORDS)} (default clear)")
+    light.add_argument("--profile", metavar="FILE.csv",
+                       help="an hourly irradiance file (header hour,irradiance_w_m2), "
+                            "used every day")
+    light.add_argument("--days", metavar="N",
+                       help=f"days to run, 1 to {MAX_DAYS} (default: one per weather word)")
+    night = parser.add_argument_group("the night (--night, or --latitude with --date)")
+    night.add_argument("--night", metavar="T",
+                       help=f"length of the night, centred on midnight (default {DEFAULT_NIGHT})")
+    night.add_argument("--latitude", metavar="DEG", help="latitude, north positive; needs --date")
+    night.add_argument("--longitude", metavar="DEG", help="longitude, east positive")
+    night.add_argument("--date", metavar="YYYY-MM-DD", help="the first evening's date")
+    night.add_argument("--utc-offset", metavar="H", help="local clock offset from UTC in hours")
+    night.add_argument("--turn-on", choices=TURN_ON_CHOICES, default="civil",
+                       help="the light turns on at civil dusk (default) or at sunset")
+    loads = parser.add_argument_group("loads")
+    loads.add_argument("--night-load", metavar="I", default="0A",
+                       help="the blinker's average current at night, such as 30uA (default 0A)")
+    loads.add_argument("--day-load", metavar="I", default="0A",
+                       help="current drawn by day with the oscillators gated off, such as 2uA")
+    out = parser.add_argument_group("output")
+    out.add_argument("--json", action="store_true", help="write the result as JSON on stdout")
+
+
+def _degrees(text: str, option: str, limit: float) -> float:
+    try:
+        value = float(text)
+    except ValueError:
+        value = math.nan
+    if not (math.isfinite(value) and -limit <= value <= limit):
+        raise RequestError(f"{option} {text!r} is not an angle; give degrees from {-limit:g} "
+                           f"to {limit:g}, such as 52.1")
+    return value
+
+
+def read_night(args: argparse.Namespace) -> tuple[NightWindow, dict]:
+    """The night window and a description of how it was given."""
+    sun = [args.latitude, args.date, args.longitude, args.utc_offset]
+    if args.latitude is None:
+        if any(x is not None for x in sun):
+            raise RequestError("--date, --longitude and --utc-offset need --latitude "
+                               "(the sun's times)")
+        text = args.night or DEFAULT_NIGHT
+        night_s = quantity(text, "time", "--night", "12.5h")
+        if not 0 < night_s < 86400:
+            raise RequestError(f"--night {text!r}: a night lasts more than 0 and under 24 h, "
+                               "such as 12.5h")
+        return NightWindow.centred(night_s), {"given": "length", "night_s": night_s}
+    if args.night is not None:
+        raise RequestError("give the night one way: --night, or --latitude with --date")
+    if args.date is None:
+        raise RequestError("--latitude needs --date YYYY-MM-DD (the first evening)")
+    latitude = _degrees(args.latitude, "--latitude", 90.0)
+    longitude = None if args.longitude is None else _degrees(args.longitude, "--longitude", 180.0)
+    offset = None
+    if args.utc_offset is not None:
+        try:
+            offset = float(args.utc_offset)
+        except ValueError:
+            offset = math.nan
+        if not (math.isfinite(offset) and -14 <= offset <= 14):
+            raise RequestError(f"--utc-offset {args.utc_offset!r}: give hours from -14 to 14, "
+                               "such as 1 or -5.5")
+    try:
+        day = date.fromisoformat(args.date.strip())
+    except ValueError as err:
+        raise RequestError(f"--date {args.date!r} is not a date; use YYYY-MM-DD such as "
+                           "2026-12-21") from err
+    from pulsepick.analysis.sun import night_window
+
+    dusk, dawn = night_window(latitude, day, longitude_deg=longitude, utc_offset_h=offset,
+                              turn_on=args.turn_on)
+    window = NightWindow.from_times(dusk, dawn)
+    return window, {"given": "sun", "latitude_deg": latitude, "longitude_deg": longitude,
+                    "utc_offset_h": offset, "date": day.isoformat(), "turn_on": args.turn_on,
+                    "night_s": window.night_s}
+
+
+def _weather(args: argparse.Namespace):
+    if args.weather is not None and args.profile is not None:
+        raise RequestError("give the light one way: --weather words or --profile FILE.csv")
+    if args.profile is not None:
+        return [load_profile_csv(args.profile)]
+    return parse_weather(args.weather or "clear")
+
+
+def _days(args: argparse.Namespace) -> int | None:
+    if args.days is None:
+        return None
+    try:
+        n = int(args.days)
+    except ValueError:
+        n = 0
+    if not 1 <= n <= MAX_DAYS:
+        raise RequestError(f"--days {args.days!r}: give a whole number from 1 to {MAX_DAYS}, "
+                           "such as 7")
+    return n
+
+
+# --------------------------------------------------------------------------- run
+
+def run(args: argparse.Namespace) -> int:
+    """Read the options, run the days and nights, print the report or JSON."""
+    storage = read_storage(args.storage, args.rated)
+    panel = read_panel(args)
+    diode = get_diode(args.diode)
+    window, night_info = read_night(args)
+    weather = _weather(args)
+    days = _days(args)
+    v_start = quantity(args.start, "voltage", "--start", "0V or 2.5V", allow_zero=True)
+    stop_at = quantity(args.stop_at, "voltage", "--stop-at", "1.8V", allow_zero=True)
+    clamp = None if args.clamp is None else quantity(args.clamp, "voltage", "--clamp", "2.5V")
+    bleed = math.inf
+    if args.bleed is not None:
+        bleed = quantity(args.bleed, "resistance", "--bleed", "240k")
+    night_load = quantity(args.night_load, "current", "--night-load", "30uA", allow_zero=True)
+    day_load = quantity(args.day_load, "current", "--day-load", "2uA", allow_zero=True)
+    result = simulate_days(
+        storage, panel, diode, weather, night_load, window, v_start, days=days, clamp_v=clamp,
+        bleed_ohm=bleed, day_load=day_load, stop_at_v=stop_at, leak_level=args.leakage,
+        diode_leak=args.diode_leak)
+    if args.json:
+        dump_json(result_json(result, night_info))
+    else:
+        render_report(result, night_info, make_console())
+    return 0
+
+
+# --------------------------------------------------------------------------- output
+
+def _full_at(result: DaysResult, seconds: float | None) -> str | None:
+    if seconds is None:
+        return None
+    return clock(result.night.dawn_s + seconds)
+
+
+def result_json(result: DaysResult, night_info: dict) -> dict:
+    """The JSON document of a run of days (plain types; units in the key names)."""
+    s, p, path = result.storage, result.path.panel, result.path
+    w = result.night
+    rec = result.recovery
+    return {
+        "command": NAME,
+        "version": __version__,
+        "storage": {"key": s.key, "name": s.name, "capacitance_f": s.capacitance_f,
+                    "v_rated_v": s.v_rated_v, "cells_in_series": s.cells_in_series},
+        "panel": {"key": p.key, "name": p.name, "voc_v": p.voc_v, "isc_a": p.isc_a,
+                  "cells": p.cells, "n": p.n, "r_s_ohm": p.r_s_ohm, "r_sh_ohm": p.r_sh_ohm,
+                  "source": p.source_notes},
+        "charge_path": {"diode": path.diode.key, "diode_leak": path.diode_leak,
+                        "clamp_v": path.clamp_v,
+                        "bleed_ohm": None if math.isinf(path.bleed_ohm) else path.bleed_ohm},
+        "night": {"dusk": clock(w.dusk_s), "dawn": clock(w.dawn_s), "night_s": w.night_s,
+                  **{k: v for k, v in night_info.items() if k != "night_s"}},
+        "night_load_a": float(result.night_load.supply_avg_a.max()),
+        "day_load_a": float(result.day_load.supply_avg_a.max()),
+        "v_start_v": result.v_start_v,
+        "v_stop_v": result.v_stop_v,
+        "leak_level": result.leak_level,
+        "days": [
+            {"day": r.day, "weather": r.weather, "v_dawn_v": r.v_dawn_v, "v_max_v": r.v_max_v,
+             "full": r.full, "time_to_full_s": r.time_to_full_s,
+             "full_at": _full_at(result, r.time_to_full_s), "charge_in_c": r.charge_in_c,
+             "energy_in_j": r.energy_in_j, "charge_clamp_c": r.charge_clamp_c,
+             "v_dusk_v": r.v_dusk_v, "v_eq_v": r.v_eq_v, "runtime_s": r.runtime_s,
+             "lasted": r.lasted, "stops_at": None if r.lasted else clock(w.dusk_s + r.runtime_s),
+             "flashes": r.flashes, "v_next_dawn_v": r.v_next_dawn_v}
+            for r in result.rows
+        ],
+        "nights_lasted": result.nights_lasted,
+        "autonomy_nights": result.autonomy_nights,
+        "autonomy_capped": result.autonomy_capped,
+        "recovery": None if rec is None else {
+            "weather": rec.weather, "peak_irradiance_w_m2": rec.peak_irradiance_w_m2,
+            "panel_voc_v": rec.panel_voc_v, "diode_drop_v": rec.diode_drop_v,
+            "headroom_v": rec.headroom_v, "v_eq_v": rec.v_eq_v,
+            "v_dusk_from_empty_v": rec.v_dusk_from_empty_v, "restarts": rec.restarts,
+            "never_restarts": rec.never_restarts},
+        "v_possible_v": result.v_possible_v,
+        "proposed_clamp_v": result.proposed_clamp_v,
+        "proposed_clamp_w": result.proposed_clamp_w,
+        "clamp_at_isc_w": result.clamp_at_isc_w,
+        "assumptions": list(result.assumptions),
+        "warnings": list(result.warnings),
+        "cautions": list(result.cautions) + list(GENERAL_CAUTIONS),
+    }
+
+
+def _v(x: float) -> str:
+    return f"{x:.2f}"
+
+
+def _coulomb(x: float) -> str:
+    """Charge in coulomb, whole numbers from 100 C up."""
+    return f"{x:.0f}" if abs(x) >= 100 else f"{x:.3g}"
+
+
+def render_report(result: DaysResult, night_info: dict, console) -> None:
+    """Print the report: setup, the day-by-day table, verdicts, warnings and cautions."""
+    from rich.text import Text
+
+    s, p, path = result.storage, result.path.panel, result.path
+    w = result.night
+    n_load = float(result.night_load.supply_avg_a.max())
+    d_load = float(result.day_load.supply_avg_a.max())
+    console.print(Text(f"pulsepick day: {len(result.rows)} day(s) on {s.name}", style="bold"))
+    setup = [
+        ["storage", f"{s.capacitance_f:g} F, rated {s.v_rated_v:g} V; start "
+                    f"{result.v_start_v:.2f} V"
+                    f" at the first dawn; the light stops at {result.v_stop_v:.2f} V"],
+        ["panel", f"{p.name}: Voc {p.voc_v:g} V, Isc {p.isc_a * 1e3:g} mA at 1000 W/m2"],
+        ["charge path", f"{path.diode.name}"
+                        + (f", clamp {path.clamp_v:.2f} V" if path.clamp_v is not None else
+                           ", no clamp")
+                        + ("" if math.isinf(path.bleed_ohm) else
+                           f", bleed {_ohms(path.bleed_ohm)} across the panel")],
+        ["night", f"{hours(w.night_s)}, dusk {clock(w.dusk_s)}, dawn {clock(w.dawn_s)}"
+                  + (f" ({night_info['date']}, latitude {night_info['latitude_deg']:g}, "
+                     f"{night_info['turn_on']} turn-on)"
+                     if night_info.get("given") == "sun" else "")],
+        ["loads", f"night {_amps(n_load)}, day {_amps(d_load)}"],
+    ]
+    console.print(key_value_table(setup))
+    console.print()
+    rows = []
+    for r in result.rows:
+        rows.append([
+            str(r.day), r.weather, _v(r.v_dawn_v),
+            ("at dawn" if r.time_to_full_s == 0 else _full_at(result, r.time_to_full_s))
+            if r.full else "not full", _v(r.v_max_v), _v(r.v_dusk_v),
+            _coulomb(r.charge_in_c), _coulomb(r.charge_clamp_c),
+            "all night" if r.lasted else (hours(r.runtime_s) if r.runtime_s > 0 else "no light"),
+            _v(r.v_next_dawn_v),
+        ])
+    console.print(simple_table(
+        "Day by day",
+        ["day", "weather", "dawn V", "full at", "max V", "dusk V", "in C", "clamp C",
+         "light ran", "next dawn V"],
+        rows, justify=["right", "left", "right", "right", "right", "right", "right", "right",
+                       "right", "right"]))
+    console.print(f"Nights lasted: {result.nights_lasted} of {len(result.rows)}.")
+    if result.autonomy_nights is not None:
+        more = " or more" if result.autonomy_capped else ""
+        full_v = path.clamp_v if path.clamp_v is not None else s.v_rated_v
+        console.print(f"Days of autonomy: from full ({full_v:.2f} V) with no sun at all, the "
+                      f"light lasts {result.autonomy_nights}{more} "
+                      f"full night(s).")
+    rec = result.recovery
+    if rec is not None:
+        if rec.never_restarts:
+            verdict = (f"never restarts after a dark day: in {rec.weather} light the panel gives "
+                       f"at most {rec.panel_voc_v:.2f} V, minus {rec.diode_drop_v:.2f} V for the "
+                       f"diode, under the {result.v_stop_v:.2f} V the light needs")
+        elif rec.restarts:
+            settle = min(rec.v_eq_v, path.clamp_v if path.clamp_v is not None else math.inf)
+            verdict = (f"restarts from empty in {rec.weather} light: "
+                       f"{rec.v_dusk_from_empty_v:.2f} V "
+                       f"at dusk after one such day (it settles towards {settle:.2f} V)")
+        else:
+            verdict = (f"does not restart from empty in one {rec.weather} day: "
+                       f"{rec.v_dusk_from_empty_v:.2f} V at dusk, under {result.v_stop_v:.2f} V"
+                       + (f"; in that light it can never pass {rec.v_eq_v:.2f} V (charge = draw)"
+                          if rec.v_eq_v <= result.v_stop_v else ""))
+        console.print(f"Weak light: {verdict}.")
+    if path.clamp_v is not None and result.clamp_at_isc_w is not None:
+        peak = max((r.charge_clamp_c for r in result.rows), default=0.0)
+        console.print(f"Clamp {path.clamp_v:.2f} V: absorbs up to {_coulomb(peak)} C a day; at the "
+                      f"panel's full-sun Isc it dissipates {result.clamp_at_isc_w * 1e3:.0f} mW "
+                      "(size its power rating for that).")
+    traps = [r for r in result.rows if r.v_eq_v < result.v_stop_v]
+    for r in traps[:1]:
+        console.print(f"Equilibrium trap: on {r.weather} days the charge equals the draw at "
+                      f"{r.v_eq_v:.2f} V, under the stop voltage {result.v_stop_v:.2f} V.")
+    _list(console, "Warnings", result.warnings)
+    _list(console, "Cautions", list(result.cautions) + list(GENERAL_CAUTIONS))
+    _list(console, "Assumptions", result.assumptions)
+
+
+def key_value_table(rows: list[list[str]]):
+    """Two columns, no header: a name and its value (wraps under the value)."""
+    from rich.table import Table
+
+    table = Table.grid(padding=(0, 2))
+    table.add_column(no_wrap=True)
+    table.add_column()
+    for row in rows:
+        table.add_row(*row)
+    return table
+
+
+def _list(console, title: str, items) -> None:
+    """A titled list whose long items wrap under their own text."""
+    from rich.table import Table
+
+    items = list(items)
+    if not items:
+        return
+    console.print(f"\n{title}:")
+    table = Table.grid(padding=(0, 1))
+    table.add_column(no_wrap=True)
+    table.add_column()
+    for item in items:
+        table.add_row(" -", item)
+    console.print(table)
+
+
+print_list = _list
+
+
+def _amps(value: float) -> str:
+    from pulsepick.units import format_eng
+
+    return format_eng(value, "A") if value > 0 else "0 A"
+
+
+def _ohms(value: float) -> str:
+    from pulsepick.units import format_eng
+
+    return format_eng(value, "Ω")
+
