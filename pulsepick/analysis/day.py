@@ -346,7 +346,12 @@ def _integrate(solver: _Solver, storage: Storage, profile: Profile | None, t0: f
             dt = max(dt * MAX_DV_PER_STEP_V / abs(dv) * 0.9, 1e-3)
         v_new = v + dv
         clamp_c = 0.0
-        if clamp_v is not None and v_new > clamp_v:
+        if held:
+            # Held at the clamp: the shunt takes the whole surplus at the clamp voltage.
+            clamp_c = net * dt
+            v_new = clamp_v
+            clamp_peak = max(clamp_peak, clamp_v * net)
+        elif clamp_v is not None and v_new > clamp_v:
             # The shunt takes whatever would lift the storage above its voltage.
             clamp_c = (v_new - clamp_v) * c
             v_new = clamp_v
