@@ -58,7 +58,7 @@ def test_day_report_text_at_100_columns(monkeypatch):
     text = buf.getvalue()
     assert "\x1b[" not in text
     assert max(len(line) for line in text.splitlines()) <= 100
-    for words in ("Day by day", "weather", "next dawn V", "Nights lasted: 7 of 7",
+    for words in ("Day by day", "weather", "next V", "in J", "Nights lasted: 7 of 7",
                   "Days of autonomy", "Weak light", "Clamp 2.50 V", "Cautions:",
                   "not a safety, navigation or warning light"):
         assert words in text
@@ -185,3 +185,36 @@ def test_help_lists_examples(capsys):
         main(["day", "--help"])
     out = capsys.readouterr().out
     assert "examples:" in out and "--weather clear,overcast,dim" in out
+
+
+def test_day_with_a_described_circuit_as_the_night_load(capsys):
+    # The night load can be the circuit itself (the shared circuit options), whose own stop
+    # voltage (the chip's minimum supply) then applies.
+    pytest.importorskip("pulsepick.commands.circuit_options")
+    code, out, err = _run(capsys, ["day", "--storage", "5f-2v7", "--panel", "5v60ma",
+                                   "--clamp", "2.5V", "--weather", "clear", "--core", "schmitt",
+                                   "--stage", "pulse", "--r", "2M2", "--c", "1u", "--cp", "22u",
+                                   "--rs", "47", "--family", "hc", "--led", "red", "--json"])
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["night_load"]["label"].startswith("schmitt + pulse")
+    assert doc["v_stop_v"] >= doc["night_load"]["light_stops_below_v"]
+    assert doc["days"][0]["flashes"] > 0
+
+
+def test_night_load_given_twice_is_refused(capsys):
+    pytest.importorskip("pulsepick.commands.circuit_options")
+    code, _, err = _run(capsys, ["day", "--storage", "5f-2v7", "--panel", "5v60ma",
+                                 "--night-load", "30uA", "--r", "2M2", "--c", "1u"])
+    assert code == 2 and "give the night load one way" in err
+
+
+def test_weak_panel_report_names_the_trap_and_never_restarts(capsys, monkeypatch):
+    monkeypatch.setenv("NO_COLOR", "1")
+    code, out, _ = _run(capsys, ["day", "--storage", "0f47-2v7", "--panel", "2v40ma",
+                                 "--weather", "clear,overcast,dim", "--night-load", "30uA"])
+    assert code == 0
+    flat = " ".join(out.split())
+    assert "never restarts after a dark day" in flat
+    assert "Equilibrium trap: the charge equals the draw on overcast days" in flat
+    assert "no light" in flat

@@ -53,6 +53,9 @@ DIODE_DROP_AT_A = 1e-6
 # A proposed clamp sits some 8 % under the rating, like the common 2.4 V zener across a 2.7 V
 # cell (common practice); rounded down to 0.1 V.
 CLAMP_DERATING = 0.92
+# The storage counts as still charging while its voltage keeps rising by this much (V); the
+# leakage decay after charging (storage model) starts when it stops.
+RISE_STEP_V = 1e-3
 MAX_AUTONOMY_NIGHTS = 60  # nights: the autonomy count stops here
 MAX_DAYS = 366
 
@@ -242,7 +245,7 @@ class DayResult:
     charge_leak_c: float  # C, lost to storage leakage
     peak_irradiance_w_m2: float  # W/m², brightest moment inside the day phase
     v_eq_v: float  # V, where the charge current at the peak equals load + leakage
-    t_last_charge_s: float  # s after midnight of the last moment charge flowed in
+    t_last_charge_s: float  # s after midnight, when the voltage last rose (end of charging)
     timeline_t_s: np.ndarray  # s after midnight
     timeline_v_v: np.ndarray  # V
     timeline_g_w_m2: np.ndarray  # W/m²
@@ -329,6 +332,7 @@ def _integrate(solver: _Solver, storage: Storage, profile: Profile | None, t0: f
     next_sample = t + TIMELINE_STEP_S
     dt = 1.0
     steps = 0
+    v_rise = v  # highest voltage since the start, in RISE_STEP_V steps
     while t < t1 - 1e-9:
         while knots[k] <= t + 1e-9:
             k += 1
@@ -364,7 +368,9 @@ def _integrate(solver: _Solver, storage: Storage, profile: Profile | None, t0: f
         totals["clamp"] += clamp_c
         totals["load"] += i_load * dt
         totals["leak"] += i_leak * dt
-        if op.charge_a > max(i_load + i_leak, 0.0) and g > 0:
+        if v_new > v_rise + RISE_STEP_V:
+            # Still charging up: the leakage decay (storage model) restarts from here.
+            v_rise = v_new
             t_last_charge = t + dt
         if t_full is None and v_new >= v_full - 1e-9:
             frac = 1.0 if v_new == v else min(max((v_full - v) / (v_new - v), 0.0), 1.0)
@@ -403,8 +409,8 @@ def simulate_day(storage: Storage, path: ChargePath, profile: Profile, *, v_star
     day_load : what the storage feeds by day (A or a LoadCurve): the chip's quiescent
         current while the oscillators are gated off.
     leak_level : storage leakage level, "settled" or "max".
-    t_last_charge_s : when the storage last took charge (s after midnight, may be
-        negative); default: long ago.
+    t_last_charge_s : when the storage was last charged up (s after midnight, may be
+        negative), for the leakage decay; default: long ago.
     """
     _check_storage_voltage(v_start_v, "start voltage")
     if not (0.0 <= dawn_s < dusk_s <= DAY_S + dawn_s):
@@ -750,7 +756,7 @@ def simulate_days(storage: Storage, panel: PanelModel, diode: DiodeModel, weathe
     ]
     if bleed_ohm != math.inf:
         assumptions.append(
-            f"the dusk detector's bleed {bleed_ohm:g} ohm takes panel current by day")
+            f"the dusk detector's bleed {bleed_ohm / 1e3:g} kohm takes panel current by day")
     for prof in {p.name: p for p in profiles}.values():
         lit_in_night = _light_in_night(prof, night)
         if lit_in_night > 0.05:

@@ -9,6 +9,7 @@ autonomy, whether the system restarts from empty in weak light, warnings and cau
 from __future__ import annotations
 
 import argparse
+import importlib
 import math
 from datetime import date
 
@@ -36,6 +37,17 @@ EXAMPLES = [
 TURN_ON_CHOICES = ("civil", "sunset")
 DEFAULT_NIGHT = "12h"
 DEFAULT_STOP = "1.8V"
+_CIRCUIT_MODULE = "pulsepick.commands.circuit_options"
+
+
+def _circuit_options():
+    """The shared circuit options module, or None while it is not installed."""
+    try:
+        return importlib.import_module(_CIRCUIT_MODULE)
+    except ModuleNotFoundError as err:
+        if err.name != _CIRCUIT_MODULE:
+            raise
+        return None
 
 
 # --------------------------------------------------------------------------- shared options
@@ -176,13 +188,36 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     night.add_argument("--utc-offset", metavar="H", help="local clock offset from UTC in hours")
     night.add_argument("--turn-on", choices=TURN_ON_CHOICES, default="civil",
                        help="the light turns on at civil dusk (default) or at sunset")
-    loads = parser.add_argument_group("loads")
-    loads.add_argument("--night-load", metavar="I", default="0A",
-                       help="the blinker's average current at night, such as 30uA (default 0A)")
+    loads = parser.add_argument_group("loads (the night: --night-load, or a circuit)")
+    loads.add_argument("--night-load", metavar="I",
+                       help="the blinker's average current at night, such as 30uA (default 0A; "
+                            "or describe the circuit with the circuit options)")
     loads.add_argument("--day-load", metavar="I", default="0A",
                        help="current drawn by day with the oscillators gated off, such as 2uA")
     out = parser.add_argument_group("output")
     out.add_argument("--json", action="store_true", help="write the result as JSON on stdout")
+    circuit = _circuit_options()
+    if circuit is not None:
+        circuit.add_circuit_arguments(parser)
+
+
+def _circuit_given(args: argparse.Namespace) -> bool:
+    """True when any component value of a circuit was given (--r, --c, ...)."""
+    return any(v is not None for k, v in vars(args).items() if k.startswith("value_"))
+
+
+def read_night_load(args: argparse.Namespace, v_top_v: float):
+    """The night load: a constant current, or the described circuit's load curve."""
+    if not _circuit_given(args):
+        text = "0A" if args.night_load is None else args.night_load
+        return quantity(text, "current", "--night-load", "30uA", allow_zero=True)
+    if args.night_load is not None:
+        raise RequestError("give the night load one way: --night-load, or the circuit's values")
+    circuit = _circuit_options()
+    assert circuit is not None  # values can only be given when its options exist
+    from pulsepick.commands.night import supply_grid
+
+    return circuit.load_curve_from_args(args, supply_grid(v_top_v))
 
 
 def _degrees(text: str, option: str, limit: float) -> float:
@@ -276,7 +311,8 @@ def run(args: argparse.Namespace) -> int:
     bleed = math.inf
     if args.bleed is not None:
         bleed = quantity(args.bleed, "resistance", "--bleed", "240k")
-    night_load = quantity(args.night_load, "current", "--night-load", "30uA", allow_zero=True)
+    v_top = max(storage.v_rated_v, clamp or 0.0, v_start, panel.voc_v)
+    night_load = read_night_load(args, v_top)
     day_load = quantity(args.day_load, "current", "--day-load", "2uA", allow_zero=True)
     result = simulate_days(
         storage, panel, diode, weather, night_load, window, v_start, days=days, clamp_v=clamp,
@@ -315,7 +351,9 @@ def result_json(result: DaysResult, night_info: dict) -> dict:
                         "bleed_ohm": None if math.isinf(path.bleed_ohm) else path.bleed_ohm},
         "night": {"dusk": clock(w.dusk_s), "dawn": clock(w.dawn_s), "night_s": w.night_s,
                   **{k: v for k, v in night_info.items() if k != "night_s"}},
-        "night_load_a": float(result.night_load.supply_avg_a.max()),
+        "night_load": {"label": result.night_load.label,
+                       "supply_avg_max_a": float(result.night_load.supply_avg_a.max()),
+                       "light_stops_below_v": result.night_load.light_stops_below_v()},
         "day_load_a": float(result.day_load.supply_avg_a.max()),
         "v_start_v": result.v_start_v,
         "v_stop_v": result.v_stop_v,
@@ -354,7 +392,7 @@ def _v(x: float) -> str:
 
 
 def _coulomb(x: float) -> str:
-    """Charge in coulomb, whole numbers from 100 C up."""
+    """Charge (C) or energy (J): whole numbers from 100 up, else three figures."""
     return f"{x:.0f}" if abs(x) >= 100 else f"{x:.3g}"
 
 
@@ -364,7 +402,7 @@ def render_report(result: DaysResult, night_info: dict, console) -> None:
 
     s, p, path = result.storage, result.path.panel, result.path
     w = result.night
-    n_load = float(result.night_load.supply_avg_a.max())
+    n_load = result.night_load
     d_load = float(result.day_load.supply_avg_a.max())
     console.print(Text(f"pulsepick day: {len(result.rows)} day(s) on {s.name}", style="bold"))
     setup = [
@@ -381,7 +419,7 @@ def render_report(result: DaysResult, night_info: dict, console) -> None:
                   + (f" ({night_info['date']}, latitude {night_info['latitude_deg']:g}, "
                      f"{night_info['turn_on']} turn-on)"
                      if night_info.get("given") == "sun" else "")],
-        ["loads", f"night {_amps(n_load)}, day {_amps(d_load)}"],
+        ["loads", f"night {_night_load_text(n_load)}; day {_amps(d_load)}"],
     ]
     console.print(key_value_table(setup))
     console.print()
@@ -391,16 +429,15 @@ def render_report(result: DaysResult, night_info: dict, console) -> None:
             str(r.day), r.weather, _v(r.v_dawn_v),
             ("at dawn" if r.time_to_full_s == 0 else _full_at(result, r.time_to_full_s))
             if r.full else "not full", _v(r.v_max_v), _v(r.v_dusk_v),
-            _coulomb(r.charge_in_c), _coulomb(r.charge_clamp_c),
+            _coulomb(r.charge_in_c), _coulomb(r.energy_in_j), _coulomb(r.charge_clamp_c),
             "all night" if r.lasted else (hours(r.runtime_s) if r.runtime_s > 0 else "no light"),
             _v(r.v_next_dawn_v),
         ])
     console.print(simple_table(
         "Day by day",
-        ["day", "weather", "dawn V", "full at", "max V", "dusk V", "in C", "clamp C",
-         "light ran", "next dawn V"],
-        rows, justify=["right", "left", "right", "right", "right", "right", "right", "right",
-                       "right", "right"]))
+        ["day", "weather", "dawn V", "full at", "max V", "dusk V", "in C", "in J", "clamp C",
+         "light ran", "next V"],
+        rows, justify=["right", "left"] + ["right"] * 9))
     console.print(f"Nights lasted: {result.nights_lasted} of {len(result.rows)}.")
     if result.autonomy_nights is not None:
         more = " or more" if result.autonomy_capped else ""
@@ -430,10 +467,11 @@ def render_report(result: DaysResult, night_info: dict, console) -> None:
         console.print(f"Clamp {path.clamp_v:.2f} V: absorbs up to {_coulomb(peak)} C a day; at the "
                       f"panel's full-sun Isc it dissipates {result.clamp_at_isc_w * 1e3:.0f} mW "
                       "(size its power rating for that).")
-    traps = [r for r in result.rows if r.v_eq_v < result.v_stop_v]
-    for r in traps[:1]:
-        console.print(f"Equilibrium trap: on {r.weather} days the charge equals the draw at "
-                      f"{r.v_eq_v:.2f} V, under the stop voltage {result.v_stop_v:.2f} V.")
+    traps = {r.weather: r.v_eq_v for r in result.rows if r.v_eq_v < result.v_stop_v}
+    if traps:
+        where = ", ".join(f"{w} days at {v:.2f} V" for w, v in traps.items())
+        console.print(f"Equilibrium trap: the charge equals the draw on {where}, under the stop "
+                      f"voltage {result.v_stop_v:.2f} V: in that light the storage cannot pass it.")
     _list(console, "Warnings", result.warnings)
     _list(console, "Cautions", list(result.cautions) + list(GENERAL_CAUTIONS))
     _list(console, "Assumptions", result.assumptions)
@@ -468,6 +506,14 @@ def _list(console, title: str, items) -> None:
 
 
 print_list = _list
+
+
+def _night_load_text(load) -> str:
+    """A constant load as its current; a circuit as its label and current range."""
+    currents = load.supply_avg_a
+    if float(currents.min()) == float(currents.max()):
+        return _amps(float(currents.max()))
+    return f"{load.label} ({_amps(float(currents.min()))} to {_amps(float(currents.max()))})"
 
 
 def _amps(value: float) -> str:
