@@ -23,7 +23,7 @@ R = VT- / (I_panel(VT-, G) + I_pushed), then rounded to the E-series.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -179,8 +179,7 @@ def _night_node(panel: PanelModel, diode: DiodeModel, supply_v: float, bleed_ohm
 
 
 def dusk_levels(panel: PanelModel, bleed_ohm: float, family: LogicFamily, supply_v: float,
-                diode: DiodeModel, *, profile: Profile | None = None,
-                _wanted: tuple[float, float, str] | None = None) -> DuskResult:
+                diode: DiodeModel, *, profile: Profile | None = None) -> DuskResult:
     """Turn-on and turn-off light levels, losses and bias for a bleed resistor.
 
     Parameters
@@ -256,10 +255,9 @@ def dusk_levels(panel: PanelModel, bleed_ohm: float, family: LogicFamily, supply
             f"the panel (the hysteresis, {on.typ_lux:.3g} to {off.typ_lux:.3g} lx), it turns "
             "itself off at dusk and flickers; shade the panel from the LED or point the LED away")
 
-    wanted_lux, exact, series = (None, None, None) if _wanted is None else _wanted
     return DuskResult(
         panel=panel, family=family, diode=diode, supply_v=float(supply_v),
-        bleed_ohm=float(bleed_ohm), wanted_lux=wanted_lux, exact_bleed_ohm=exact, series=series,
+        bleed_ohm=float(bleed_ohm), wanted_lux=None, exact_bleed_ohm=None, series=None,
         turn_on=on, turn_off=off, hysteresis_lux=hyst_lux, hysteresis_ratio=ratio,
         day_panel_v=sun.panel_v, day_bleed_a=sun.bleed_a, day_bleed_w=sun.panel_v * sun.bleed_a,
         day_loss_c=day_loss, day_harvest_c=day_harvest, loss_profile=prof.name,
@@ -303,5 +301,6 @@ def bleed_for_dusk(panel: PanelModel, dusk_lux: float, family: LogicFamily, supp
             f"{float(lux_from_irradiance(lowest)):.3g} lx or more with this panel")
     exact = vt / (i_panel + pushed)
     picked = float(get_series(series).nearest(exact, rounding="nearest"))
-    return dusk_levels(panel, picked, family, supply_v, diode, profile=profile,
-                       _wanted=(float(dusk_lux), exact, series.upper()))
+    result = dusk_levels(panel, picked, family, supply_v, diode, profile=profile)
+    return replace(result, wanted_lux=float(dusk_lux), exact_bleed_ohm=exact,
+                   series=series.upper())
