@@ -1,0 +1,469 @@
+"""``pulsepick solve``: from a wanted blink to ranked parts lists and a buy list.
+
+Reads the blink (a phrase or flags) and the build's context, runs the solver
+(:func:`pulsepick.solve.solve`), verifies and analyses the candidates
+(:func:`pulsepick.solve.assess`), and prints the report, the JSON, or writes a buy
+list. Imports of the core happen inside ``run`` so ``pulsepick --help`` stays quick.
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+
+NAME = "solve"
+SUMMARY = "find standard parts for a wanted blink: ranked circuits, spread, drift, buy list"
+EXAMPLES = [
+    'pulsepick solve "one flash every 3 s"',
+    'pulsepick solve "flash every 2.5 s for 40 ms, 5 mA peak" --supply 2.7V..1.8V '
+    "--family lvc,timer555",
+    'pulsepick solve "20 flashes a minute, 0.1 s long, as bright as a steady 1 mA"',
+    'pulsepick solve "every 4 s, 200 mcd" --led white --supply 3.3V',
+    "pulsepick solve --every 3s --flash 40ms --peak 5mA --led red --supply 2.7V..1.8V",
+    'pulsepick solve "one flash every 3 s" --stock drawer.csv --buylist parts.csv --pick 1',
+    'pulsepick solve "one flash every 3 s" --cores schmitt-steered --stages direct --json',
+]
+
+_PHRASE_HELP = (
+    "the blink as a phrase, e.g. \"one flash every 3 s\". Pieces, separated by commas: "
+    "'every 3 s' or '20 flashes a minute' or '20/min' (period); 'for 40 ms' or "
+    "'40 ms long' (flash length at half peak); '5 mA peak' (peak LED current); "
+    "'as bright as a steady 1 mA' (effective current); '200 mcd' (effective intensity). "
+    "A flash of 50 ms and a 5 mA peak are assumed when not given (shown in the report)."
+)
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    """Options of ``pulsepick solve``."""
+    from pulsepick.request import (
+        CORE_CHOICES, DEFAULT_BUILDS, DEFAULT_C_SERIES, DEFAULT_CAP_RANGE, DEFAULT_FAMILY,
+        DEFAULT_LED, DEFAULT_R_RANGE, DEFAULT_R_SERIES, DEFAULT_SEED, DEFAULT_SUPPLY,
+        DEFAULT_TIMING_CAP, DEFAULT_TOP, FAMILY_CHOICES, STAGE_CHOICES, TIMING_CAP_CHOICES,
+    )
+
+    parser.add_argument("phrase", nargs="?", metavar="PHRASE", help=_PHRASE_HELP)
+    blink = parser.add_argument_group("the blink as flags (instead of, or with, a phrase)")
+    blink.add_argument("--every", metavar="T", help="period, e.g. 3s, or a rate, e.g. 20/min")
+    blink.add_argument("--flash", metavar="T", help="flash length at half peak, e.g. 40ms")
+    bright = blink.add_mutually_exclusive_group()
+    bright.add_argument("--peak", metavar="I", help="peak LED current, e.g. 5mA")
+    bright.add_argument("--effective", metavar="I",
+                        help="effective current: as bright as this steady current, e.g. 1mA")
+    bright.add_argument("--intensity", metavar="CD",
+                        help="effective intensity, e.g. 200mcd (needs an LED with intensity "
+                             "data)")
+    ctx = parser.add_argument_group("the build (defaults shown in the report)")
+    ctx.add_argument("--supply", metavar="V|FULL..END",
+                     help=f"supply, or a range from full to the end of the night such as "
+                          f"2.7V..1.8V (default {DEFAULT_SUPPLY})")
+    ctx.add_argument("--family", metavar="LIST",
+                     help=f"chips, a comma list of {', '.join(FAMILY_CHOICES)} "
+                          f"(default {DEFAULT_FAMILY})")
+    ctx.add_argument("--led", metavar="COLOUR",
+                     help=f"LED colour (default {DEFAULT_LED}); or describe your own LED with "
+                          "--led-vf")
+    ctx.add_argument("--led-vf", metavar="V@I", help="your LED's forward voltage, e.g. 1.9V@20mA")
+    ctx.add_argument("--led-n", type=float, metavar="N", help="your LED's ideality factor")
+    ctx.add_argument("--led-rs", metavar="OHM", help="your LED's series resistance, e.g. 10")
+    ctx.add_argument("--led-mcd", metavar="MCD@I", help="your LED's intensity, e.g. 120@20mA")
+    ctx.add_argument("--vt-plus", metavar="V", help="VT+ measured on your Schmitt chip at the "
+                                                    "(full) supply")
+    ctx.add_argument("--vt-minus", metavar="V", help="VT- measured on your Schmitt chip")
+    ctx.add_argument("--rout", metavar="OHM", help="output resistance measured on your chip")
+    ctx.add_argument("--cross-current", metavar="A",
+                     help="measured extra supply current of the oscillating gate, e.g. 15uA")
+    ctx.add_argument("--series", metavar="E", help=f"resistor series (default {DEFAULT_R_SERIES})")
+    ctx.add_argument("--cap-series", metavar="E",
+                     help=f"capacitor series (default {DEFAULT_C_SERIES}; electrolytics "
+                          "come no finer than E6)")
+    ctx.add_argument("--timing-cap", metavar="KIND",
+                     help=f"timing capacitor: {', '.join(TIMING_CAP_CHOICES)} "
+                          f"(default {DEFAULT_TIMING_CAP})")
+    ctx.add_argument("--min-r", metavar="R",
+                     help=f"smallest timing resistor (default {DEFAULT_R_RANGE[0]})")
+    ctx.add_argument("--max-r", metavar="R",
+                     help=f"largest resistor (default {DEFAULT_R_RANGE[1]})")
+    ctx.add_argument("--cap-range", metavar="LO..HI",
+                     help=f"capacitor values allowed (default {DEFAULT_CAP_RANGE})")
+    ctx.add_argument("--buffered", action=argparse.BooleanOptionalAction, default=None,
+                     help="drive the LED from a spare gate only (--buffered) or never "
+                          "(--no-buffered); default: both are searched")
+    ctx.add_argument("--stages", metavar="LIST",
+                     help=f"LED stages to search, a comma list of {', '.join(STAGE_CHOICES)} "
+                          "(default all)")
+    ctx.add_argument("--cores", metavar="LIST",
+                     help=f"oscillator cores to search, a comma list of "
+                          f"{', '.join(CORE_CHOICES)} (default all)")
+    ctx.add_argument("--stock", metavar="FILE.csv",
+                     help="pick only parts from your drawer: a CSV with columns "
+                          "kind,value[,qty][,dielectric], e.g. 'R,4k7,10' or "
+                          "'C,100u,2,electrolytic'")
+    out = parser.add_argument_group("output")
+    out.add_argument("--top", type=int, metavar="N",
+                     help=f"circuits offered (default {DEFAULT_TOP})")
+    out.add_argument("--builds", type=int, metavar="N",
+                     help=f"Monte Carlo builds per circuit (default {DEFAULT_BUILDS})")
+    out.add_argument("--seed", type=int, metavar="S",
+                     help=f"seed of the Monte Carlo builds (default {DEFAULT_SEED})")
+    out.add_argument("--json", action="store_true", help="print plain JSON on stdout")
+    out.add_argument("--buylist", metavar="FILE.csv", help="write the buy list of one circuit")
+    out.add_argument("--pick", type=int, default=1, metavar="N",
+                     help="the circuit for --buylist (default 1, the best)")
+    out.add_argument("--force", action="store_true", help="let --buylist replace a file")
+    out.add_argument("--jobs", type=int, metavar="N",
+                     help="worker processes for the search and the checks (default: up to "
+                          "2, as the machine has cores)")
+
+
+def _led(args):
+    """The LED: a colour key, or a user-described LED (--led-vf and friends)."""
+    from pulsepick.errors import PulsepickError, RequestError
+    from pulsepick.parts.led import custom_led
+    from pulsepick.units import parse_quantity, parse_value
+
+    custom = [args.led_n, args.led_rs, args.led_mcd]
+    if args.led_vf is None:
+        if any(x is not None for x in custom):
+            raise RequestError("--led-n, --led-rs and --led-mcd describe your own LED: give "
+                               "its forward voltage too, e.g. --led-vf 1.9V@20mA")
+        return args.led
+    if args.led is not None:
+        raise RequestError("--led names a colour from our tables and --led-vf describes your "
+                           "own LED; give one of them")
+    try:
+        left, right = args.led_vf.split("@", 1)
+        vf, at = parse_quantity(left, "voltage"), parse_quantity(right, "current")
+        kwargs = {}
+        if args.led_n is not None:
+            kwargs["n"] = args.led_n
+        if args.led_rs is not None:
+            kwargs["r_s"] = parse_value(args.led_rs, "ohm", allow_zero=True)
+        if args.led_mcd is not None:
+            text = args.led_mcd.strip()
+            mcd_text, _, at_text = text.partition("@")
+            kwargs["mcd"] = float(mcd_text.lower().replace("mcd", "").strip())
+            if at_text:
+                kwargs["mcd_at_a"] = parse_quantity(at_text, "current")
+        return custom_led(vf, at, **kwargs)
+    except ValueError as err:
+        if isinstance(err, PulsepickError) and "@" in args.led_vf:
+            raise RequestError(f"your LED: {err}") from err
+        raise RequestError("--led-vf takes a voltage at a current (e.g. 1.9V@20mA) and "
+                           "--led-mcd millicandela at a current (e.g. 120@20mA)") from err
+
+
+def _chip_overrides(args) -> dict[str, float]:
+    from pulsepick.units import parse_quantity, parse_value
+
+    out: dict[str, float] = {}
+    if args.vt_plus:
+        out["vt_plus_v"] = parse_quantity(args.vt_plus, "voltage", bare_ok=True)
+    if args.vt_minus:
+        out["vt_minus_v"] = parse_quantity(args.vt_minus, "voltage", bare_ok=True)
+    if args.rout:
+        out["rout_ohm"] = parse_value(args.rout, "ohm")
+    if args.cross_current:
+        out["cross_current_a"] = parse_quantity(args.cross_current, "current", allow_zero=True)
+    return out
+
+
+def request_from_args(args):
+    """The :class:`~pulsepick.request.SolveRequest` the options describe."""
+    from pulsepick.errors import RequestError
+    from pulsepick.request import make_request
+
+    overrides = _chip_overrides(args)
+    req = make_request(
+        args.phrase, every=args.every, flash=args.flash, peak=args.peak,
+        effective=args.effective, intensity=args.intensity, supply=args.supply,
+        family=args.family, led=_led(args), series=args.series, cap_series=args.cap_series,
+        timing_cap=args.timing_cap, max_r=args.max_r, min_r=args.min_r,
+        cap_range=args.cap_range, buffered=args.buffered, stages=args.stages,
+        cores=args.cores, stock=args.stock, top=args.top, builds=args.builds, seed=args.seed,
+    )
+    if overrides:
+        from dataclasses import replace
+
+        if "vt_plus_v" in overrides or "vt_minus_v" in overrides or "rout_ohm" in overrides:
+            overrides["measured_at_v"] = req.supply_v
+        vtp, vtm = overrides.get("vt_plus_v"), overrides.get("vt_minus_v")
+        if vtp is not None and vtm is not None and not vtm < vtp < req.supply_v:
+            raise RequestError(f"measured thresholds need VT- < VT+ < supply; got VT- "
+                               f"{vtm:g} V, VT+ {vtp:g} V at {req.supply_v:g} V")
+        req = replace(req, chip_overrides=overrides)
+    return req
+
+
+def run(args) -> int:
+    """Parse, solve, assess, and print or export."""
+    from pulsepick.analysis.cautions import GENERAL_CAUTIONS
+    from pulsepick.errors import RequestError
+    from pulsepick.render import dump_json, make_console
+    from pulsepick.solve import assess, default_jobs, solve
+
+    req = request_from_args(args)
+    jobs = default_jobs() if args.jobs is None else args.jobs
+    if jobs < 1:
+        raise RequestError(f"--jobs {jobs}: give a whole number of at least 1")
+    if args.pick < 1:
+        raise RequestError(f"--pick {args.pick}: give a candidate number of at least 1")
+    if args.buylist and not args.force:
+        _check_target(args.buylist)
+    result = solve(req, jobs=jobs)
+    result = assess(result, jobs=jobs)
+    if args.buylist and result.success:
+        from pulsepick.export import buylist_text, write_atomic
+
+        write_atomic(args.buylist, buylist_text(result, args.pick), force=args.force)
+    if args.json:
+        from pulsepick.export import result_json
+
+        dump_json(result_json(result, GENERAL_CAUTIONS))
+    else:
+        console = make_console()
+        render_report(console, result, buylist=args.buylist if result.success else None,
+                      pick=args.pick)
+    return 0 if result.success else 2
+
+
+def _check_target(path: str) -> None:
+    """Refuse an existing buy-list file before the search, not after it."""
+    import os
+
+    from pulsepick.errors import ExportError
+
+    if os.path.exists(path):
+        raise ExportError(f"{path!r} exists; add --force to replace it, or give another "
+                          "file name")
+
+
+# ============================================================================ the report
+
+def _eng(x, unit: str, digits: int = 3) -> str:
+    from pulsepick.units import format_eng
+
+    if x is None or not isinstance(x, (int, float)) or not math.isfinite(x):
+        return "-"
+    return format_eng(x, unit, digits)
+
+
+def _pct(x) -> str:
+    if x is None or not math.isfinite(x):
+        return "-"
+    return f"{x * 100:+.1f} %"
+
+
+_FIG_ROWS = (
+    ("period_s", "period", "s"),
+    ("high_s", "output high", "s"),
+    ("low_s", "output low", "s"),
+    ("flash_s", "flash (>= 50 % of peak)", "s"),
+    ("flash_10pct_s", "flash (>= 10 % of peak)", "s"),
+    ("led_peak_a", "LED peak current", "A"),
+    ("led_charge_c", "LED charge per flash", "C"),
+    ("effective_a", "effective current", "A"),
+    ("effective_mcd", "effective intensity", "mcd"),
+    ("supply_avg_a", "average supply current", "A"),
+)
+
+
+def _fig_text(key: str, value, unit: str) -> str:
+    if unit == "mcd":
+        return "-" if value is None or not math.isfinite(value) else f"{value:.3g} mcd"
+    return _eng(value, unit)
+
+
+def render_report(console, result, *, buylist: str | None = None, pick: int = 1) -> None:
+    """The terminal report of a solver result (readable at 100 columns, no colour needed)."""
+    from pulsepick.analysis.cautions import GENERAL_CAUTIONS
+    from pulsepick.render import simple_table
+
+    req = result.request
+    console.print(f"[bold]pulsepick solve[/bold]: {req.describe()}", highlight=False)
+    console.print()
+    _render_request(console, req)
+    if result.explanations:
+        console.print("[bold]What cannot be met exactly[/bold]")
+        for text in result.explanations:
+            console.print(f"  - {text}", markup=False)
+        console.print()
+    if not result.success:
+        console.print("[bold]Nothing can be offered for this request.[/bold]")
+        if result.nearest:
+            f = result.nearest
+            console.print(
+                f"  Nearest circuit found: period {_eng(f['period_s'], 's')}, flash "
+                f"{_eng(f['flash_s'], 's')}, LED peak {_eng(f['led_peak_a'], 'A')} "
+                f"(needs {_eng(req.led.visible_a, 'A')} to be seen).", markup=False)
+        console.print()
+        _render_cautions(console, GENERAL_CAUTIONS)
+        return
+    rows = []
+    for c in result.candidates:
+        f = c.figures
+        rows.append([
+            str(c.rank), c.design.topo.label(), c.design.chip.family,
+            _eng(f["period_s"], "s"), _eng(f["flash_s"], "s"), _eng(f["led_peak_a"], "A"),
+            _eng(f["effective_a"], "A"), _eng(f["supply_avg_a"], "A"), f"{c.score:.2f}",
+        ])
+    console.print(simple_table(
+        f"Ranked circuits ({result.evaluated:,} evaluated in {result.search_s:.2f} s; lower "
+        "score is better)",
+        ["#", "circuit", "chip", "period", "flash", "peak", "effective", "supply", "score"],
+        rows, justify=["right", "left", "left"] + ["right"] * 6))
+    console.print()
+    for c in result.candidates:
+        _render_candidate(console, req, c)
+    if buylist:
+        console.print(f"Buy list of circuit {pick} written to {buylist}", markup=False)
+        console.print()
+    _render_cautions(console, GENERAL_CAUTIONS)
+
+
+def _render_request(console, req) -> None:
+    from pulsepick.render import simple_table
+    from pulsepick.units import format_eng
+
+    aims = req.aims()
+    words = {"period_s": ("period", "s"), "flash_s": ("flash", "s"),
+             "led_peak_a": ("peak current", "A"), "effective_a": ("effective current", "A"),
+             "effective_mcd": ("effective intensity", "mcd")}
+    rows = []
+    for key, (value, stated) in aims.items():
+        word, unit = words[key]
+        text = f"{value:.3g} mcd" if unit == "mcd" else format_eng(value, unit)
+        rows.append([word, text, "asked" if stated else "assumed (not in the request)"])
+    d = set(req.defaults)
+
+    def mark(name: str) -> str:
+        return "default" if name in d else "given"
+
+    supply = f"{req.supply_v:g} V" + (f" full .. {req.supply_end_v:g} V end of night"
+                                       if req.supply_end_v is not None else " (steady)")
+    rows += [
+        ["supply", supply, mark("supply")],
+        ["chips", ", ".join(req.families), mark("family")],
+        ["LED", f"{req.led.name}", mark("led")],
+        ["resistors", f"{req.r_series}, timing {format_eng(req.r_min_ohm, 'Ω')} .. "
+                      f"{format_eng(req.r_max_ohm, 'Ω')}", mark("series")],
+        ["capacitors", f"{req.c_series}, {format_eng(req.c_min_f, 'F')} .. "
+                       f"{format_eng(req.c_max_f, 'F')}", mark("cap_series")],
+        ["timing capacitor", ", ".join(req.timing_caps), mark("timing_cap")],
+        ["cores", ", ".join(req.cores), mark("cores")],
+        ["stages", ", ".join(req.stages), mark("stages")],
+        ["buffer gate", {None: "with and without", True: "always", False: "never"}[req.buffered],
+         mark("buffered")],
+        ["parts drawer", req.stock.source if req.stock else "any standard value",
+         mark("stock")],
+        ["spread", f"{req.builds:,} builds, seed {req.seed}, -20..50 °C", mark("builds")],
+    ]
+    if req.chip_overrides:
+        rows.append(["chip measured", ", ".join(f"{k} {v:g}" for k, v in
+                                                req.chip_overrides.items()), "given"])
+    console.print(simple_table("Request and assumptions", ["", "value", ""], rows))
+    console.print()
+
+
+def _render_candidate(console, req, c) -> None:
+    from pulsepick.render import simple_table
+
+    d = c.design
+    console.print(f"[bold]#{c.rank}  {d.topo.label()}[/bold] on {d.chip.family}, "
+                  f"{d.supply_v:g} V", highlight=False)
+    rows = [[p.ref, p.display if p.value is not None else p.display, p.code, p.series,
+             p.tolerance, p.dielectric or "-", p.rating or "-", p.role] for p in c.parts]
+    console.print(simple_table(None, ["ref", "value", "code", "series", "tol", "kind",
+                                      "rating", "role"], rows))
+    notes = [f"{p.ref}: {p.note}" for p in c.parts if p.note]
+    for n in notes:
+        console.print(f"    {n}", markup=False)
+    aims = req.aims()
+    ref = c.reference_figures
+    rows = []
+    for key, word, unit in _FIG_ROWS:
+        aim = aims.get(key)
+        aim_text = "-" if aim is None else _fig_text(key, aim[0], unit) + \
+            ("" if aim[1] else " *")
+        err = c.errors.get(key)
+        fast = c.figures.get(key)
+        refv = None if ref is None else ref.get(key)
+        agree = "-"
+        if refv is not None and fast is not None and math.isfinite(refv) and \
+                math.isfinite(fast) and fast != 0:
+            agree = f"{(refv / fast - 1) * 100:+.2f} %"
+        rows.append([word, aim_text, _fig_text(key, fast, unit), _pct(err),
+                     _fig_text(key, refv, unit) if ref else "-", agree])
+    console.print(simple_table(
+        "figures at the design supply (* assumed aim)",
+        ["", "aim", "fast engine", "error", "reference", "ref vs fast"], rows,
+        justify=["left", "right", "right", "right", "right", "right"]))
+    if c.reference is not None and not c.reference.success:
+        console.print(f"    reference run: {c.reference.message}", markup=False)
+    _render_spread(console, c)
+    _render_drift(console, c)
+    extra = list(c.notes) + list(c.warnings)
+    if extra:
+        console.print("  warnings and notes:")
+        for text in extra:
+            console.print(f"    - {text}", markup=False)
+    console.print()
+
+
+def _render_spread(console, c) -> None:
+    from pulsepick.render import simple_table
+
+    s = c.spread
+    if s is None:
+        console.print(f"  spread estimate (parts only): period ±{c.period_spread * 100:.1f} % "
+                      "(one standard deviation)", markup=False)
+        return
+    rows = []
+    for key, word, unit in (("period_s", "period", "s"), ("flash_s", "flash", "s"),
+                            ("led_peak_a", "LED peak", "A"),
+                            ("effective_a", "effective current", "A")):
+        if key not in s.quantiles:
+            continue
+        p5, p50, p95 = s.quantiles[key]
+        lo, hi = s.corners.get(key, (math.nan, math.nan))
+        rows.append([word, _eng(p5, unit), _eng(p50, unit), _eng(p95, unit),
+                     f"{_eng(lo, unit)} .. {_eng(hi, unit)}"])
+    title = (f"spread over {s.builds:,} builds (seed {s.seed}, {s.temp_range_c[0]:g}.."
+             f"{s.temp_range_c[1]:g} °C): {s.yield_fraction * 100:.0f} % within "
+             f"±{s.yield_band * 100:.0f} % of the period")
+    console.print(simple_table(title, ["", "P5", "P50", "P95", "corners"], rows,
+                               justify=["left", "right", "right", "right", "right"]))
+    shares = sorted(((v, k) for k, v in s.shares.items() if v > 0.005), reverse=True)
+    if shares:
+        text = ", ".join(f"{k} {v * 100:.0f} %" for v, k in shares)
+        console.print(f"    period spread comes from: {text}", markup=False)
+    if s.stall_fraction or s.dark_fraction:
+        console.print(f"    {s.stall_fraction * 100:.1f} % of builds stall, "
+                      f"{s.dark_fraction * 100:.1f} % stay dark", markup=False)
+
+
+def _render_drift(console, c) -> None:
+    from pulsepick.render import simple_table
+
+    dr = c.drift
+    if dr is None:
+        return
+    rows = []
+    for r in dr.rows():
+        rows.append([f"{r['supply_v']:.2f} V", _eng(r["period_s"], "s"), _eng(r["flash_s"], "s"),
+                     _eng(r["led_peak_a"], "A"), _eng(r["effective_a"], "A"), r["status"]])
+    title = (f"through the night: period {dr.period_change_pct:+.1f} % at "
+             f"{dr.period_change_to_v:.2f} V")
+    console.print(simple_table(title, ["supply", "period", "flash", "peak", "effective",
+                                       "status"], rows,
+                               justify=["right"] * 5 + ["left"]))
+    if dr.dark_below_v is not None:
+        console.print(f"    the LED goes dark below {dr.dark_below_v:.2f} V", markup=False)
+    if dr.unpowered_below_v is not None:
+        console.print(f"    the chip leaves its supply range below {dr.unpowered_below_v:.2f} V",
+                      markup=False)
+
+
+def _render_cautions(console, cautions) -> None:
+    console.print("[bold]Cautions[/bold]")
+    for text in cautions:
+        console.print(f"  - {text}", markup=False)

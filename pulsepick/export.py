@@ -1,0 +1,191 @@
+"""Exports of the solver's answer: the JSON document and the CSV buy list.
+
+The buy list is one CSV row per distinct part. Its first line is a comment
+stamped with the pulsepick version, the request and the seed; a second comment
+line names the circuit. Then a header row and the parts. Files are written
+atomically: a temporary file in the same folder, then ``os.replace``, so a reader
+never sees half a file and an interrupted run leaves the old file as it was. An
+existing file is only replaced when asked to (``force``).
+
+Buy-list columns: ``qty`` (pieces), ``refs`` (reference designators, space-separated),
+``kind`` (resistor, capacitor, chip, diode, led), ``value`` (ohm or farad, plain
+number; empty for parts without a value), ``unit`` (ohm, F), ``display`` (the value
+in engineering notation, or the part's name), ``code`` (RKM code, or the part type),
+``series`` (E-series), ``tolerance``, ``dielectric`` (capacitor kind), ``rating``
+(voltage or power rating), ``bands`` (resistor colour bands, IEC 60062), ``notes``.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+import os
+import tempfile
+from typing import Any
+
+from pulsepick.errors import ExportError
+
+BUYLIST_COLUMNS = ("qty", "refs", "kind", "value", "unit", "display", "code", "series",
+                   "tolerance", "dielectric", "rating", "bands", "notes")
+
+
+def _num(x: Any) -> Any:
+    if isinstance(x, float) and not math.isfinite(x):
+        return None
+    return x
+
+
+def figures_json(figs: dict[str, Any] | None) -> dict[str, Any] | None:
+    """Figures as plain JSON: non-finite numbers become null, status a word."""
+    from pulsepick.circuits.base import STATUS_WORDS
+
+    if figs is None:
+        return None
+    out = {k: _num(float(v)) for k, v in figs.items() if k != "status"}
+    out["status"] = STATUS_WORDS[int(figs["status"])]
+    return out
+
+
+def candidate_json(c) -> dict[str, Any]:
+    """One candidate (``pulsepick.solve.Candidate``) as plain JSON data."""
+    d = c.design
+    ref = c.reference
+    out: dict[str, Any] = {
+        "rank": c.rank,
+        "core": d.topo.core,
+        "stage": d.topo.stage,
+        "buffered": d.topo.buffered,
+        "lit": d.topo.lit,
+        "steer": d.topo.steer,
+        "label": d.topo.label(),
+        "family": d.chip.family,
+        "supply_v": d.supply_v,
+        "values": {f"{k}_{'ohm' if k[0] == 'r' else 'f'}": v for k, v in d.values.items()},
+        "parts": [p.to_dict() for p in c.parts],
+        "figures": figures_json(c.figures),
+        "errors": {k: _num(v) for k, v in c.errors.items()},
+        "score": _num(c.score),
+        "score_parts": {k: _num(v) for k, v in c.score_parts.items()},
+        "period_spread_estimate": c.period_spread,
+        "end_of_night_figures": figures_json(c.end_figures),
+        "reference_figures": None if ref is None else figures_json(ref.figures.row()),
+        "reference_success": None if ref is None else ref.success,
+        "reference_message": None if ref is None else ref.message,
+        "spread": None if c.spread is None else c.spread.as_dict(),
+        "drift": [] if c.drift is None else c.drift.rows(),
+        "drift_summary": None if c.drift is None else {
+            k: v for k, v in c.drift.as_dict().items() if k != "steps"},
+        "warnings": list(c.warnings),
+        "notes": list(c.notes),
+    }
+    return out
+
+
+def result_json(result, cautions: tuple[str, ...] = ()) -> dict[str, Any]:
+    """The whole answer (``pulsepick.solve.SolveResult``) as plain JSON data."""
+    from pulsepick import __version__
+
+    req = result.request
+    return {
+        "pulsepick": __version__,
+        "request": req.to_dict(),
+        "assumptions": req.assumptions(),
+        "success": result.success,
+        "message": result.message,
+        "explanations": list(result.explanations),
+        "nearest_figures": figures_json(result.nearest),
+        "search": {"evaluated": result.evaluated, "search_s": result.search_s},
+        "candidates": [candidate_json(c) for c in result.candidates],
+        "cautions": list(cautions),
+    }
+
+
+def buylist_rows(candidate) -> list[dict[str, str]]:
+    """The buy list of a candidate as CSV-ready rows (strings)."""
+    from pulsepick.partslist import buy_rows
+
+    rows = []
+    for row in buy_rows(candidate.parts):
+        p = row.part
+        rows.append({
+            "qty": str(row.quantity),
+            "refs": " ".join(row.refs),
+            "kind": p.kind,
+            "value": "" if p.value is None else repr(float(p.value)),
+            "unit": p.unit,
+            "display": p.display,
+            "code": p.code,
+            "series": p.series,
+            "tolerance": p.tolerance,
+            "dielectric": p.dielectric,
+            "rating": p.rating,
+            "bands": " ".join(row.bands),
+            "notes": "; ".join(row.notes),
+        })
+    return rows
+
+
+def buylist_text(result, pick: int = 1) -> str:
+    """The CSV text of the buy list for candidate ``pick`` (1 = the best)."""
+    from pulsepick import __version__
+
+    cands = result.candidates
+    if not 1 <= pick <= len(cands):
+        raise ExportError(f"--pick {pick}: there are {len(cands)} candidates; choose 1 to "
+                          f"{len(cands)}")
+    c = cands[pick - 1]
+    req = result.request
+    out = io.StringIO()
+    request_text = req.describe().replace("\n", " ")
+    out.write(f"# pulsepick {__version__} buy list; request: {request_text}; "
+              f"seed {req.seed}; builds {req.builds}\n")
+    out.write(f"# candidate {c.rank}: {c.design.label()}, supply {c.design.supply_v:g} V\n")
+    writer = csv.DictWriter(out, fieldnames=BUYLIST_COLUMNS, lineterminator="\n")
+    writer.writeheader()
+    writer.writerows(buylist_rows(c))
+    return out.getvalue()
+
+
+def write_atomic(path: str, text: str, *, force: bool = False) -> None:
+    """Write ``text`` to ``path`` through a temporary file in the same folder.
+
+    Raises
+    ------
+    ExportError
+        when ``path`` exists and ``force`` is False, names a folder, or cannot be
+        written; nothing is written then.
+    """
+    target = os.path.abspath(path)
+    folder = os.path.dirname(target) or "."
+    if os.path.isdir(target):
+        raise ExportError(f"{path!r} is a folder; give a file name such as buylist.csv")
+    if not os.path.isdir(folder):
+        raise ExportError(f"the folder of {path!r} does not exist; create it or give "
+                          "another path")
+    if os.path.exists(target) and not force:
+        raise ExportError(f"{path!r} exists; add --force to replace it, or give another "
+                          "file name")
+    tmp = None
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=".pulsepick-", suffix=".tmp", dir=folder)
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
+            fh.write(text)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, target)
+        tmp = None
+    except OSError as err:
+        raise ExportError(f"cannot write {path!r}: {err.strerror or err}; check the folder's "
+                          "permissions and free space") from err
+    finally:
+        if tmp is not None and os.path.exists(tmp):
+            os.unlink(tmp)
+
+
+def read_buylist(text: str) -> tuple[list[str], list[dict[str, str]]]:
+    """Read a buy list back: ``(comment lines, rows)`` (for checks and tools)."""
+    lines = text.splitlines()
+    comments = [ln[1:].strip() for ln in lines if ln.startswith("#")]
+    body = "\n".join(ln for ln in lines if not ln.startswith("#"))
+    return comments, list(csv.DictReader(io.StringIO(body)))

@@ -1,0 +1,247 @@
+"""Parts lists: every part of a design with its reference designator, value and rating.
+
+Reference designators follow the usual schematic habit (common practice): U1 for
+the chip, R1.. for resistors and C1.. for capacitors in the order the circuit
+names its values (the core's first, then the stage's), D1.. for diodes and LED1
+for the LED. A buy list groups identical parts into one row with a quantity.
+
+Pure: a design in, frozen dataclasses out.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from pulsepick.circuits.base import get_core, get_stage
+
+#: Usual power rating of a through-hole resistor, W (common practice).
+RESISTOR_RATING_W = 0.25
+#: Next rating up when a resistor would run above half of the usual one, W (common
+#: practice: run resistors at no more than half their rating).
+RESISTOR_RATING_HIGH_W = 0.5
+#: Gates in a Schmitt-inverter package: the 74HC14, 74AHC14, 74LVC14A and CD40106B are
+#: hex inverters (common practice).
+GATES_PER_PACKAGE = 6
+#: Tolerance assumed for a resistor taken from a parts drawer, percent (common practice:
+#: the everyday through-hole resistor is a 5 % part).
+DRAWER_RESISTOR_TOL_PCT = 5.0
+
+
+@dataclass(frozen=True)
+class PartLine:
+    """One part of a design."""
+
+    ref: str  # reference designator: U1, R1, C1, D1, LED1
+    kind: str  # "chip", "resistor", "capacitor", "diode" or "led"
+    value: float | None  # ohm or farad; None for chips, diodes and LEDs
+    unit: str  # "ohm", "F" or "" (no value)
+    display: str  # value in engineering notation ("4.7 kΩ"), or the part's name
+    code: str  # RKM code ("4k7", "100n"), or a short part type
+    series: str  # E-series holding the value, "" when none applies
+    tolerance: str  # "±5 %", "-20/+20 %", or ""
+    tolerance_pct: float | None  # %, the larger side of the tolerance
+    dielectric: str  # capacitor kind name, or ""
+    rating: str  # "63 V", "0.25 W", or ""
+    role: str  # what it does in the circuit
+    param: str = ""  # circuit value name (r1, c1, ...), "" for parts without one
+    note: str = ""  # anything the builder should know
+
+    def to_dict(self) -> dict[str, object]:
+        """Plain data (the JSON and buy-list fields)."""
+        return {
+            "ref": self.ref, "kind": self.kind, "value": self.value, "unit": self.unit,
+            "display": self.display, "code": self.code, "series": self.series,
+            "tolerance": self.tolerance, "tolerance_pct": self.tolerance_pct,
+            "dielectric": self.dielectric, "rating": self.rating, "role": self.role,
+            "param": self.param, "note": self.note,
+        }
+
+
+@dataclass(frozen=True)
+class BuyRow:
+    """One distinct part to buy: identical parts share a row."""
+
+    quantity: int
+    refs: tuple[str, ...]  # reference designators
+    part: PartLine  # the first of the identical parts
+    bands: tuple[str, ...]  # colour bands for resistors (IEC 60062), else ()
+    notes: tuple[str, ...]  # roles and notes of every part in the row
+
+
+def _tol_text(minus: float, plus: float) -> str:
+    if math.isclose(minus, plus):
+        return f"±{minus:g} %"
+    return f"-{minus:g}/+{plus:g} %"
+
+
+def _series_of(value: float, preferred: str) -> str:
+    from pulsepick.series import get_series, which_series
+
+    if get_series(preferred).contains(value):
+        return preferred
+    held = which_series(value)
+    return held[0] if held else ""
+
+
+def parts_list(design, *, r_series: str = "E24", c_series: str = "E12",
+               r_tolerance_pct: float | None = None,
+               led_peak_a: float | None = None) -> tuple[PartLine, ...]:
+    """Every part of ``design`` (a :class:`pulsepick.design.Design`), U1 first.
+
+    Parameters
+    ----------
+    design : Design
+        The circuit with its values, chip, parts and supply.
+    r_series, c_series : str
+        The series the resistor and capacitor values were picked from (shown, and
+        used for the resistor tolerance).
+    r_tolerance_pct : float, optional
+        Resistor tolerance in percent; default: the usual tolerance of ``r_series``
+        (IEC 60063 via facts.md S26).
+    led_peak_a : float, optional
+        Peak LED current (A) for the series resistor's power rating; default: the
+        fast engine's figure.
+    """
+    from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
+    from pulsepick.parts.diode import get_diode
+    from pulsepick.series import get_series
+    from pulsepick.units import format_eng, format_rkm
+
+    topo, values, parts = design.topo, design.values, design.parts
+    core, stage = get_core(topo.core), get_stage(topo.stage)
+    v_max = float(design.supply_v)
+    r_tol = get_series(r_series).tolerance_pct if r_tolerance_pct is None else r_tolerance_pct
+    lines: list[PartLine] = [_chip_line(design)]
+    n_r = n_c = 0
+    for p in core.params + stage.params:
+        value = float(values[p.name])
+        if p.optional and value == 0:
+            continue
+        if p.kind == "R":
+            n_r += 1
+            rating = _resistor_rating(design, p.name, value, led_peak_a)
+            lines.append(PartLine(
+                ref=f"R{n_r}", kind="resistor", value=value, unit="ohm",
+                display=format_eng(value, "Ω"), code=format_rkm(value, "R"),
+                series=_series_of(value, r_series), tolerance=_tol_text(r_tol, r_tol),
+                tolerance_pct=r_tol, dielectric="", rating=f"{rating:g} W", role=p.role,
+                param=p.name,
+                note="metal film" if r_tol <= 1 else "",
+            ))
+        else:
+            n_c += 1
+            kind_key = parts.timing_cap if p.name == "c1" else parts.stage_cap
+            kind = get_cap_kind(kind_key)
+            rating_v = pick_voltage_rating(kind, v_max)
+            note = ""
+            if kind.key == "electrolytic":
+                note = "polarised: + to the side that sits higher"
+            elif kind.class2 and p.name == "c1":
+                note = "class-2 ceramic: value moves with voltage, temperature and age"
+            lines.append(PartLine(
+                ref=f"C{n_c}", kind="capacitor", value=value, unit="F",
+                display=format_eng(value, "F"), code=format_rkm(value, "C"),
+                series=_series_of(value, c_series),
+                tolerance=_tol_text(kind.tol_minus_pct, kind.tol_plus_pct),
+                tolerance_pct=max(kind.tol_minus_pct, kind.tol_plus_pct),
+                dielectric=kind.name, rating=f"{rating_v:g} V", role=p.role, param=p.name,
+                note=note,
+            ))
+    n_d = 0
+    diodes = []
+    if topo.core == "schmitt-steered":
+        diodes.append((parts.steer_diode, "steering diode (fast phase)",
+                       f"cathode towards the {'capacitor' if topo.steer == 'high' else 'output'}"))
+    if topo.stage == "pulse":
+        diodes.append((parts.reset_diode, "reset diode for the flash capacitor",
+                       "anode to ground, cathode to the LED side of the flash capacitor"))
+    if topo.stage == "fade":
+        diodes.append((parts.fade_diode, "charge diode into the hold capacitor",
+                       "anode to the series resistor, cathode to the hold capacitor"))
+    for key, role, note in diodes:
+        n_d += 1
+        d = get_diode(key)
+        lines.append(PartLine(
+            ref=f"D{n_d}", kind="diode", value=None, unit="", display=d.name, code=key,
+            series="", tolerance="", tolerance_pct=None, dielectric="", rating="", role=role,
+            note=note,
+        ))
+    led = parts.led
+    lines.append(PartLine(
+        ref="LED1", kind="led", value=None, unit="", display=led.name, code=led.key,
+        series="", tolerance="", tolerance_pct=None, dielectric="", rating="",
+        role="the light", note=_led_note(topo),
+    ))
+    return tuple(lines)
+
+
+def _led_note(topo) -> str:
+    if topo.stage == "direct" and topo.lit == "low":
+        return "anode towards the supply (lit while its driver is low)"
+    if topo.stage == "direct":
+        return "cathode to ground (lit while its driver is high)"
+    if topo.stage == "pulse":
+        return "cathode to ground, anode to the flash capacitor"
+    return "across the hold capacitor, cathode to ground"
+
+
+def _chip_line(design) -> PartLine:
+    from pulsepick.engine.environment import chip_model
+
+    topo, chip = design.topo, design.chip
+    model = chip_model(chip)
+    if chip.is_timer:
+        return PartLine(
+            ref="U1", kind="chip", value=None, unit="", display=model.name, code=chip.family,
+            series="", tolerance="", tolerance_pct=None, dielectric="",
+            rating=f"{model.vdd_min_v:g}-{model.vdd_max_v:g} V", role="astable timer",
+            note="CMOS part only (a bipolar 555 draws milliamperes); reset pin to the supply",
+        )
+    used = 2 if topo.buffered else 1
+    unused = GATES_PER_PACKAGE - used
+    note = (f"uses {used} of {GATES_PER_PACKAGE} gates; tie the {unused} unused inputs to "
+            "ground or the supply (never leave CMOS inputs open)")
+    if chip.measured:
+        note += "; thresholds as measured on your part"
+    role = "Schmitt oscillator" + (" and buffer" if topo.buffered else "")
+    return PartLine(
+        ref="U1", kind="chip", value=None, unit="", display=model.name, code=chip.family,
+        series="", tolerance="", tolerance_pct=None, dielectric="",
+        rating=f"{model.vdd_min_v:g}-{model.vdd_max_v:g} V", role=role, note=note,
+    )
+
+
+def _resistor_rating(design, name: str, value: float, peak: float | None) -> float:
+    """Power rating for a resistor: the usual one unless the LED current heats it."""
+    if name != "rs":
+        return RESISTOR_RATING_W
+    if peak is None:
+        peak = float(design.fast().row(0)["led_peak_a"])
+    if not math.isfinite(peak):
+        return RESISTOR_RATING_W
+    watts = peak * peak * value
+    return RESISTOR_RATING_W if watts <= 0.5 * RESISTOR_RATING_W else RESISTOR_RATING_HIGH_W
+
+
+def buy_rows(lines: tuple[PartLine, ...]) -> tuple[BuyRow, ...]:
+    """Group identical parts (same kind, value, tolerance, dielectric, rating, type)."""
+    from pulsepick.colour import bands_for
+
+    groups: dict[tuple, list[PartLine]] = {}
+    for line in lines:
+        key = (line.kind, line.value, line.code, line.tolerance, line.dielectric, line.rating)
+        groups.setdefault(key, []).append(line)
+    rows = []
+    for members in groups.values():
+        first = members[0]
+        bands: tuple[str, ...] = ()
+        if first.kind == "resistor" and first.value and first.tolerance_pct is not None:
+            try:
+                bands = bands_for(first.value, first.tolerance_pct)
+            except ValueError:
+                bands = ()
+        notes = tuple(dict.fromkeys(
+            f"{m.ref}: {m.role}" + (f" ({m.note})" if m.note else "") for m in members))
+        rows.append(BuyRow(len(members), tuple(m.ref for m in members), first, bands, notes))
+    return tuple(rows)

@@ -1,0 +1,824 @@
+"""What the designer asks for: the wanted blink and the context of the build.
+
+A blink is given as a short phrase or as values (the command's flags); both end in
+the same :class:`BlinkTargets`. The context (supply, chip family, LED, series,
+capacitor kinds, value ranges, which circuits, a parts drawer) completes a
+:class:`SolveRequest`. Everything here is pure: strings in, frozen dataclasses
+out, :class:`~pulsepick.errors.RequestError` for anything that cannot be read.
+
+The blink grammar
+-----------------
+A phrase is a list of pieces separated by commas, semicolons or "and". Words may
+be in any letter case; quantities keep their units' case (``5 mA``, not ``5 MA``).
+
+===============================  ==============================================
+piece                            meaning
+===============================  ==============================================
+``every 3 s``                    period (also ``every second``, ``every minute``)
+``20 flashes a minute``          period from a count per second/minute/hour
+``20/min``, ``0.5 Hz``           period from a rate
+``for 40 ms``, ``40 ms long``    flash length (at or above half the peak)
+``lasting 40 ms``, ``40 ms flash``
+``5 mA peak``, ``peak 5 mA``     peak LED current
+``5 mA`` (a current alone)       peak LED current
+``as bright as a steady 1 mA``   effective current (looks as bright as a steady
+``1 mA effective``               current of that size: effective intensity)
+``200 mcd``, ``as bright as      effective intensity (the steady intensity that
+a steady 200 mcd``               looks as bright as the flash)
+===============================  ==============================================
+
+Filler words ``one``, ``a``, ``single``, ``flash``, ``blink``, ``pulse``, ``with``
+are skipped. Examples: ``"one flash every 3 s"``, ``"flash every 2.5 s for 40 ms,
+5 mA peak"``, ``"20 flashes a minute, 0.1 s long, as bright as a steady 1 mA"``,
+``"every 4 s, 200 mcd"``.
+
+Effective intensity follows the Schmidt-Clausen form with a = 0.2 s for night
+observation (facts.md S30, S33), as in :func:`pulsepick.circuits.base.effective_current`.
+
+The parts drawer (``--stock FILE.csv``)
+---------------------------------------
+A CSV file; lines starting with ``#`` are comments. The first other line is a header
+naming the columns, in any order: ``kind`` and ``value`` are required, ``qty`` and
+``dielectric`` optional. ``kind`` is ``R``/``resistor`` or ``C``/``capacitor``;
+``value`` is a component value (``4k7``, ``1M``, ``100n``, ``10uF``); ``qty`` a whole
+number (empty: plenty; 0: none in the drawer); ``dielectric`` a capacitor kind
+(``film``, ``film-pet``, ``film-pp``, ``c0g``, ``x7r``, ``x5r``, ``y5v``,
+``electrolytic``, ``tantalum``; empty: any kind ``--timing-cap`` allows)::
+
+    # the community garden's parts drawer
+    kind,value,qty,dielectric
+    R,1M,4
+    R,4k7,10
+    C,2u2,2,film
+    C,100u,3,electrolytic
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import math
+import re
+from dataclasses import dataclass, field
+from typing import Any
+
+from pulsepick.errors import PulsepickError, RequestError
+
+#: Phrases that work, quoted in every error about an unreadable phrase.
+PHRASE_EXAMPLES = (
+    "one flash every 3 s",
+    "flash every 2.5 s for 40 ms, 5 mA peak",
+    "20 flashes a minute, 0.1 s long, as bright as a steady 1 mA",
+    "every 4 s, 200 mcd",
+)
+
+# --- defaults (all shown in the output as assumptions) ---------------------------------------
+DEFAULT_SUPPLY = "3.0V"  # common practice: two cells or a charged supercap near 3 V
+#: Common practice: the 74HC14 is the usual Schmitt inverter and the CMOS 555 the usual
+#: timer for a low-power flasher (practice.md item 25).
+DEFAULT_FAMILY = "hc,timer555"
+DEFAULT_LED = "red"  # lowest forward voltage in our table: lights to the end of a night
+DEFAULT_R_SERIES = "E24"  # common practice: 5 % resistors are the everyday kind
+DEFAULT_C_SERIES = "E12"  # common practice: film and ceramic capacitors come in E12
+DEFAULT_TIMING_CAP = "any"
+DEFAULT_R_RANGE = ("1k", "10M")  # common practice; above 10 Mohm leakage and dirt take over
+DEFAULT_CAP_RANGE = "1n..1m"
+DEFAULT_TOP = 5
+DEFAULT_BUILDS = 2000
+DEFAULT_SEED = 0
+#: Flash length assumed when the request states none, s. Design choice (estimate): a
+#: short flash that still reads as a flash; short flashes save energy (practice.md 22-23).
+ASSUMED_FLASH_S = 0.05
+#: Peak LED current assumed when the request states no brightness, A. Estimate: a few
+#: milliamperes are plainly visible at night from a standard LED, and the 20 mA habit
+#: wastes stored energy (practice.md item 23).
+ASSUMED_PEAK_A = 5e-3
+
+#: What --family accepts (a comma list): the logic families, the CMOS 555, or any.
+FAMILY_CHOICES = ("hc", "ahc", "lvc", "4000n", "4000w", "timer555", "any")
+#: What --timing-cap accepts, and the capacitor kinds each word stands for.
+TIMING_CAP_CHOICES: dict[str, tuple[str, ...]] = {
+    "film": ("film-pet", "film-pp"),
+    "c0g": ("c0g",),
+    "x7r": ("x7r",),
+    "electrolytic": ("electrolytic",),
+    "any": ("film-pet", "film-pp", "c0g", "x7r", "electrolytic"),
+}
+#: Dielectric words accepted in a stock file (a capacitor kind or "film").
+STOCK_DIELECTRICS = ("film", "film-pet", "film-pp", "c0g", "x7r", "x5r", "y5v",
+                     "electrolytic", "tantalum")
+CORE_CHOICES = ("schmitt", "schmitt-steered", "timer555")
+STAGE_CHOICES = ("direct", "pulse", "fade")
+
+
+def _quote(text: str) -> str:
+    return '"' + text.strip() + '"'
+
+
+def _examples() -> str:
+    return "; phrases that work: " + ", ".join(_quote(p) for p in PHRASE_EXAMPLES[:3])
+
+
+# ============================================================================ blink targets
+
+@dataclass(frozen=True)
+class BlinkTargets:
+    """The wanted blink, SI units; None where the request does not say."""
+
+    period_s: float  # s, time from one flash to the next
+    flash_s: float | None = None  # s, flash length at or above half the peak
+    peak_a: float | None = None  # A, peak LED current
+    effective_a: float | None = None  # A, steady current that looks as bright
+    intensity_cd: float | None = None  # cd, effective intensity
+    text: str = ""  # the phrase or flags as given
+
+    def __post_init__(self) -> None:
+        problems = []
+        for name in ("period_s", "flash_s", "peak_a", "effective_a", "intensity_cd"):
+            value = getattr(self, name)
+            if value is None and name != "period_s":
+                continue
+            if value is None or not (math.isfinite(value) and value > 0):
+                problems.append(f"{name} must be a positive finite number (got {value!r})")
+        bright = [n for n in ("peak_a", "effective_a", "intensity_cd")
+                  if getattr(self, n) is not None]
+        if len(bright) > 1:
+            problems.append("give one brightness (a peak current, an effective current or an "
+                            f"intensity), not {len(bright)}")
+        if problems:
+            raise RequestError("; ".join(problems))
+
+    @property
+    def brightness(self) -> tuple[str, float] | None:
+        """The stated brightness as ``(field name, value)``, or None."""
+        for name in ("peak_a", "effective_a", "intensity_cd"):
+            value = getattr(self, name)
+            if value is not None:
+                return name, value
+        return None
+
+
+# Quantities: a number and a unit word (the unit keeps its case for parse_quantity).
+_NUM = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
+_QTY = rf"{_NUM}\s*(?:[A-Za-zµμ]+(?:\s*/\s*[A-Za-z]+)?|/\s*[A-Za-z]+)"
+_UNIT_WORDS = {
+    "s": 1.0, "sec": 1.0, "second": 1.0, "seconds": 1.0,
+    "min": 60.0, "minute": 60.0, "minutes": 60.0,
+    "h": 3600.0, "hr": 3600.0, "hour": 3600.0, "hours": 3600.0,
+}
+_UNIT_ALT = "|".join(sorted(_UNIT_WORDS, key=len, reverse=True))
+_FLASH_WORD = r"(?:flashes|flash|blinks|blink|pulses|pulse|times)"
+_I = re.IGNORECASE
+
+# (pattern, action). Tried in order at each position; the first match wins.
+_PIECES: tuple[tuple[re.Pattern[str], str], ...] = (
+    (re.compile(rf"(?P<n>{_NUM})\s+(?:{_FLASH_WORD}\s+)?(?:a|an|per|each|every)\s+"
+                rf"(?P<unit>{_UNIT_ALT})\b", _I), "count"),
+    (re.compile(rf"every\s+(?P<q>{_QTY})", _I), "period"),
+    (re.compile(rf"every\s+(?P<unit>second|minute|hour)\b", _I), "period_unit"),
+    (re.compile(rf"(?:for|lasting)\s+(?P<q>{_QTY})", _I), "flash"),
+    (re.compile(rf"(?P<q>{_QTY})\s+(?:long|flash|flashes|pulse|pulses)\b", _I), "flash"),
+    (re.compile(rf"as\s+bright\s+as\s+(?:an?\s+)?(?:steady\s+)?(?P<q>{_QTY})(?:\s+steady)?",
+                _I), "steady"),
+    (re.compile(rf"(?P<q>{_QTY})\s+(?:at\s+)?peak\b", _I), "peak"),
+    (re.compile(rf"peak\s+(?:of\s+|current\s+)?(?P<q>{_QTY})", _I), "peak"),
+    (re.compile(rf"(?P<q>{_QTY})\s+(?:effective|steady)\b", _I), "steady"),
+    (re.compile(rf"effective\s+(?P<q>{_QTY})", _I), "steady"),
+    (re.compile(rf"(?P<q>{_QTY})", _I), "bare"),
+    (re.compile(r"(?:one|a|an|single|flash(?:es|ing)?|blink(?:s|ing)?|pulses?|with|and|of|"
+                r"led|light)\b", _I), "skip"),
+    (re.compile(r"[,;.]|\s+"), "skip"),
+)
+
+
+def _read_quantity(text: str, kinds: tuple[str, ...]) -> tuple[str, float]:
+    """Read ``text`` as the first of ``kinds`` it fits; ``(kind, SI value)``."""
+    from pulsepick.units import parse_quantity
+
+    last: Exception | None = None
+    for kind in kinds:
+        try:
+            return kind, parse_quantity(text, kind)  # type: ignore[arg-type]
+        except PulsepickError as err:
+            last = err
+    raise RequestError(f"cannot read {_quote(text)}: {last}") from last
+
+
+def parse_phrase(phrase: str) -> BlinkTargets:
+    """Read a blink phrase (see the module docstring) into :class:`BlinkTargets`.
+
+    Raises
+    ------
+    RequestError
+        quoting the part that could not be read, with phrases that work.
+
+    Examples
+    --------
+    >>> parse_phrase("one flash every 3 s").period_s
+    3.0
+    >>> t = parse_phrase("flash every 2.5 s for 40 ms, 5 mA peak")
+    >>> (t.period_s, t.flash_s, t.peak_a)
+    (2.5, 0.04, 0.005)
+    """
+    if not isinstance(phrase, str) or not phrase.strip():
+        raise RequestError("empty blink phrase" + _examples())
+    found: dict[str, tuple[float, str]] = {}
+
+    def put(name: str, value: float, piece: str) -> None:
+        if name in found:
+            raise RequestError(
+                f"{_quote(piece)} gives the {_TARGET_WORDS[name]} a second time (first "
+                f"{_quote(found[name][1])}); say it once" + _examples())
+        found[name] = (value, piece)
+
+    pos, text = 0, phrase
+    while pos < len(text):
+        for pattern, action in _PIECES:
+            m = pattern.match(text, pos)
+            if m and m.end() > pos:
+                break
+        else:
+            rest = text[pos:].split(",")[0].split(";")[0].strip()
+            raise RequestError(f"cannot read {_quote(rest)} in {_quote(phrase)}" + _examples())
+        piece = m.group(0).strip()
+        try:
+            _apply(action, m, piece, put)
+        except RequestError as err:
+            if "phrases that work" in str(err):
+                raise
+            raise RequestError(f"{err} (in {_quote(phrase)})" + _examples()) from err
+        pos = m.end()
+    if "period_s" not in found:
+        raise RequestError(f"{_quote(phrase)} does not say how often to flash; add e.g. "
+                           f"\"every 3 s\" or \"20 flashes a minute\"" + _examples())
+    return BlinkTargets(text=phrase.strip(), **{k: v for k, (v, _) in found.items()})
+
+
+_TARGET_WORDS = {"period_s": "period", "flash_s": "flash length", "peak_a": "peak current",
+                 "effective_a": "effective current", "intensity_cd": "intensity"}
+
+
+def _apply(action: str, m: re.Match[str], piece: str, put: Any) -> None:
+    if action == "skip":
+        return
+    if action == "count":
+        n = float(m["n"])
+        if not n > 0:
+            raise RequestError(f"{_quote(piece)}: the count must be above 0")
+        put("period_s", _UNIT_WORDS[m["unit"].lower()] / n, piece)
+    elif action == "period_unit":
+        put("period_s", _UNIT_WORDS[m["unit"].lower()], piece)
+    elif action == "period":
+        kind, value = _read_quantity(m["q"], ("time", "rate"))
+        put("period_s", value if kind == "time" else 1.0 / value, piece)
+    elif action == "flash":
+        put("flash_s", _read_quantity(m["q"], ("time",))[1], piece)
+    elif action == "peak":
+        put("peak_a", _read_quantity(m["q"], ("current",))[1], piece)
+    elif action == "steady":
+        kind, value = _read_quantity(m["q"], ("current", "intensity"))
+        put("effective_a" if kind == "current" else "intensity_cd", value, piece)
+    elif action == "bare":
+        kind, value = _read_quantity(m["q"], ("rate", "current", "intensity", "time"))
+        if kind == "time":
+            raise RequestError(
+                f"{_quote(piece)} is a time on its own; write \"every {piece}\" for the "
+                f"period or \"for {piece}\" for the flash length")
+        if kind == "rate":
+            put("period_s", 1.0 / value, piece)
+        elif kind == "current":
+            put("peak_a", value, piece)
+        else:
+            put("intensity_cd", value, piece)
+
+
+def targets_from_flags(every: str | None = None, flash: str | None = None,
+                       peak: str | None = None, effective: str | None = None,
+                       intensity: str | None = None) -> BlinkTargets:
+    """The blink from flag values (``--every 3s --flash 40ms --peak 5mA``).
+
+    ``every`` accepts a time (``3s``) or a rate (``20/min``).
+    """
+    problems: list[str] = []
+    values: dict[str, float] = {}
+    spec = (("period_s", "--every", every, ("time", "rate")),
+            ("flash_s", "--flash", flash, ("time",)),
+            ("peak_a", "--peak", peak, ("current",)),
+            ("effective_a", "--effective", effective, ("current",)),
+            ("intensity_cd", "--intensity", intensity, ("intensity",)))
+    words = []
+    for name, flag, text, kinds in spec:
+        if text is None:
+            continue
+        words.append(f"{flag} {text}")
+        try:
+            kind, value = _read_quantity(text, kinds)
+        except RequestError as err:
+            problems.append(f"{flag} {err}")
+            continue
+        values[name] = 1.0 / value if kind == "rate" else value
+    if every is None:
+        problems.append("--every is missing: say how often to flash, e.g. --every 3s")
+    if problems:
+        raise RequestError("; ".join(problems))
+    return BlinkTargets(text=" ".join(words), **values)
+
+
+def merge_targets(phrase: str | None, flags: dict[str, str | None]) -> BlinkTargets:
+    """The blink from a phrase, flags, or both (a target may be given only once)."""
+    given = {k: v for k, v in flags.items() if v is not None}
+    if phrase is None:
+        if not given:
+            raise RequestError("no blink given; write a phrase or use --every" + _examples())
+        return targets_from_flags(**given)
+    base = parse_phrase(phrase)
+    if not given:
+        return base
+    extra = targets_from_flags(every=given.get("every", "1s"),
+                               **{k: v for k, v in given.items() if k != "every"})
+    merged: dict[str, Any] = {}
+    problems = []
+    for name, flag in (("period_s", "every"), ("flash_s", "flash"), ("peak_a", "peak"),
+                       ("effective_a", "effective"), ("intensity_cd", "intensity")):
+        a = getattr(base, name)
+        b = getattr(extra, name) if flag in given else None
+        if a is not None and b is not None:
+            problems.append(f"the {_TARGET_WORDS[name]} is in the phrase and in --{flag}; "
+                            "give it once")
+        merged[name] = a if a is not None else b
+    if problems:
+        raise RequestError("; ".join(problems))
+    text = base.text + " " + " ".join(f"--{k} {v}" for k, v in given.items())
+    return BlinkTargets(text=text, **merged)
+
+
+# ============================================================================ the drawer
+
+@dataclass(frozen=True)
+class StockItem:
+    """One line of the parts drawer."""
+
+    kind: str  # "R" or "C"
+    value: float  # ohm or farad
+    qty: int | None  # pieces in the drawer; None: plenty
+    dielectric: str | None  # capacitor kind key(s) word, or None: any allowed kind
+    line: int  # line number in the file
+
+
+@dataclass(frozen=True)
+class Stock:
+    """The parts the user has; the solver picks only from these."""
+
+    items: tuple[StockItem, ...]
+    source: str  # file name, for messages
+
+    def resistors(self) -> tuple[float, ...]:
+        """Distinct resistor values in the drawer (ohm), increasing."""
+        return tuple(sorted({i.value for i in self.items if i.kind == "R" and i.qty != 0}))
+
+    def capacitors(self, kinds: tuple[str, ...]) -> tuple[tuple[float, str], ...]:
+        """Distinct ``(value F, kind key)`` pairs usable as any of ``kinds``."""
+        out = set()
+        for item in self.items:
+            if item.kind != "C" or item.qty == 0:
+                continue
+            allowed = kinds if item.dielectric is None else tuple(
+                k for k in _dielectric_kinds(item.dielectric) if k in kinds)
+            for k in allowed:
+                out.add((item.value, k))
+        return tuple(sorted(out))
+
+    def count(self, kind: str, value: float) -> int | None:
+        """Pieces of ``value`` in the drawer (None: plenty; 0: none)."""
+        total = 0
+        seen = False
+        for item in self.items:
+            if item.kind == kind and math.isclose(item.value, value, rel_tol=1e-9):
+                seen = True
+                if item.qty is None:
+                    return None
+                total += item.qty
+        return total if seen else 0
+
+
+def _dielectric_kinds(word: str) -> tuple[str, ...]:
+    return TIMING_CAP_CHOICES["film"] if word == "film" else (word,)
+
+
+_STOCK_FORMAT = ("columns kind,value[,qty][,dielectric] with kind R or C, a value such as "
+                 "4k7 or 100n, a whole qty, and a dielectric such as film, c0g, x7r or "
+                 "electrolytic")
+
+
+def parse_stock(text: str, source: str = "stock file") -> Stock:
+    """Read a parts drawer (see the module docstring); every bad row is reported.
+
+    Raises
+    ------
+    RequestError
+        naming each row that could not be read (line number and text).
+    """
+    from pulsepick.units import parse_value
+
+    lines = text.splitlines()
+    body = [(n, line) for n, line in enumerate(lines, start=1)
+            if line.strip() and not line.lstrip().startswith("#")]
+    if not body:
+        raise RequestError(f"{source} holds no header row; expected {_STOCK_FORMAT}")
+    header_no, header = body[0]
+    columns = [c.strip().lower() for c in next(csv.reader([header]))]
+    unknown = [c for c in columns if c not in ("kind", "value", "qty", "dielectric")]
+    missing = [c for c in ("kind", "value") if c not in columns]
+    if unknown or missing or len(set(columns)) != len(columns):
+        what = []
+        if missing:
+            what.append(f"missing {', '.join(missing)}")
+        if unknown:
+            what.append(f"unknown {', '.join(unknown)}")
+        if len(set(columns)) != len(columns):
+            what.append("a column twice")
+        raise RequestError(f"{source} line {header_no}: header {header.strip()!r} has "
+                           f"{'; '.join(what)}; expected {_STOCK_FORMAT}")
+    items: list[StockItem] = []
+    problems: list[str] = []
+    for n, line in body[1:]:
+        fields = next(csv.reader(io.StringIO(line)))
+        fields = [f.strip() for f in fields]
+        where = f"line {n} {line.strip()!r}"
+        if len(fields) > len(columns):
+            problems.append(f"{where}: {len(fields)} fields for {len(columns)} columns")
+            continue
+        row = dict(zip(columns, fields + [""] * (len(columns) - len(fields)), strict=True))
+        kind_word = row["kind"].lower()
+        kind = {"r": "R", "resistor": "R", "c": "C", "capacitor": "C"}.get(kind_word)
+        if kind is None:
+            problems.append(f"{where}: kind {row['kind']!r} is not R, resistor, C or capacitor")
+            continue
+        try:
+            value = parse_value(row["value"], "ohm" if kind == "R" else "F")
+        except PulsepickError as err:
+            problems.append(f"{where}: {err}")
+            continue
+        qty: int | None = None
+        if row.get("qty"):
+            try:
+                qty = int(row["qty"])
+                if qty < 0:
+                    raise ValueError
+            except ValueError:
+                problems.append(f"{where}: qty {row['qty']!r} is not a whole number >= 0")
+                continue
+        diel = (row.get("dielectric") or "").lower() or None
+        if diel is not None and kind == "R":
+            problems.append(f"{where}: a resistor has no dielectric")
+            continue
+        if diel is not None and diel not in STOCK_DIELECTRICS:
+            problems.append(f"{where}: dielectric {diel!r} unknown; accepted: "
+                            f"{', '.join(STOCK_DIELECTRICS)}")
+            continue
+        items.append(StockItem(kind, value, qty, diel, n))
+    if problems:
+        raise RequestError(f"{source}: " + "; ".join(problems) + f" (expected {_STOCK_FORMAT})")
+    if not items:
+        raise RequestError(f"{source} lists no parts; expected {_STOCK_FORMAT}")
+    return Stock(items=tuple(items), source=source)
+
+
+def read_stock(path: str) -> Stock:
+    """Read a parts drawer file (see :func:`parse_stock`)."""
+    try:
+        with open(path, encoding="utf-8") as fh:
+            text = fh.read()
+    except OSError as err:
+        raise RequestError(f"cannot read the stock file {path!r}: {err.strerror}; give a CSV "
+                           f"file with {_STOCK_FORMAT}") from err
+    except UnicodeDecodeError as err:
+        raise RequestError(f"the stock file {path!r} is not UTF-8 text; give a CSV file with "
+                           f"{_STOCK_FORMAT}") from err
+    return parse_stock(text, path)
+
+
+# ============================================================================ the request
+
+@dataclass(frozen=True)
+class SolveRequest:
+    """Everything the solver needs: the blink, the build's context and the options.
+
+    Units: volts, ohms, farads, seconds, amperes, candela.
+    """
+
+    targets: BlinkTargets
+    supply_v: float  # V, nominal (full) supply the circuit is designed at
+    supply_end_v: float | None  # V, end-of-night supply (None: a steady supply)
+    families: tuple[str, ...]  # chip family keys searched (CHIP_KEYS)
+    led: Any  # LedModel (pulsepick.parts.led)
+    r_series: str  # E-series of resistors
+    c_series: str  # E-series of capacitors
+    timing_caps: tuple[str, ...]  # capacitor kind keys allowed for the timing capacitor
+    r_min_ohm: float  # ohm, smallest timing resistor
+    r_max_ohm: float  # ohm, largest resistor
+    c_min_f: float  # F, smallest capacitor
+    c_max_f: float  # F, largest capacitor
+    cores: tuple[str, ...]  # oscillator cores searched
+    stages: tuple[str, ...]  # LED stages searched
+    buffered: bool | None = None  # True: only buffered; False: only unbuffered; None: both
+    stock: Stock | None = None  # only parts from this drawer
+    top: int = DEFAULT_TOP  # candidates returned
+    builds: int = DEFAULT_BUILDS  # Monte Carlo builds of the spread analysis
+    seed: int = DEFAULT_SEED  # seed of the spread analysis
+    chip_overrides: dict[str, float] = field(default_factory=dict)  # measured chip figures
+    choices: dict[str, str] = field(default_factory=dict)  # option text as given, for output
+    defaults: tuple[str, ...] = ()  # names of the options left at their defaults
+
+    def __post_init__(self) -> None:
+        problems = []
+        if not (math.isfinite(self.supply_v) and self.supply_v > 0):
+            problems.append("the supply must be above 0 V")
+        if self.supply_end_v is not None and not 0 < self.supply_end_v <= self.supply_v:
+            problems.append("a supply range runs from full down to the end of the night "
+                            "(e.g. 2.7V..1.8V)")
+        if not self.r_min_ohm < self.r_max_ohm:
+            problems.append("--min-r must be below --max-r")
+        if not self.c_min_f < self.c_max_f:
+            problems.append("the capacitor range must run from small to large (e.g. 1n..1m)")
+        if not self.families:
+            problems.append("no chip family to search")
+        if not self.cores or not self.stages:
+            problems.append("no circuit to search (check --cores and --stages)")
+        if self.top < 1 or self.builds < 1:
+            problems.append("--top and --builds must be at least 1")
+        if problems:
+            raise RequestError("; ".join(problems))
+
+    @property
+    def flash_s(self) -> float:
+        """The flash length aimed at: stated, or the assumed default (s)."""
+        return self.targets.flash_s if self.targets.flash_s is not None else ASSUMED_FLASH_S
+
+    def aims(self) -> dict[str, tuple[float, bool]]:
+        """Each figure aimed at: ``{figure key: (value, stated)}``; assumed ones are soft.
+
+        Keys are figure names: ``period_s``, ``flash_s``, ``led_peak_a``, ``effective_a``,
+        ``effective_mcd`` (the intensity target in mcd).
+        """
+        t = self.targets
+        out = {"period_s": (t.period_s, True),
+               "flash_s": (self.flash_s, t.flash_s is not None)}
+        b = t.brightness
+        if b is None:
+            out["led_peak_a"] = (ASSUMED_PEAK_A, False)
+        elif b[0] == "peak_a":
+            out["led_peak_a"] = (b[1], True)
+        elif b[0] == "effective_a":
+            out["effective_a"] = (b[1], True)
+        else:
+            out["effective_mcd"] = (b[1] * 1e3, True)
+        return out
+
+    def describe(self) -> str:
+        """One line: the blink as asked."""
+        return self.targets.text
+
+    def to_dict(self) -> dict[str, Any]:
+        """Plain data for JSON and stamps."""
+        t = self.targets
+        return {
+            "text": t.text,
+            "period_s": t.period_s,
+            "flash_s": t.flash_s,
+            "peak_a": t.peak_a,
+            "effective_a": t.effective_a,
+            "intensity_cd": t.intensity_cd,
+        }
+
+    def assumptions(self) -> dict[str, Any]:
+        """The context as used, every default included (for output)."""
+        aims = self.aims()
+        out: dict[str, Any] = {
+            "supply_v": self.supply_v,
+            "supply_end_v": self.supply_end_v,
+            "families": list(self.families),
+            "led": self.led.key,
+            "led_name": self.led.name,
+            "r_series": self.r_series,
+            "c_series": self.c_series,
+            "timing_caps": list(self.timing_caps),
+            "r_min_ohm": self.r_min_ohm,
+            "r_max_ohm": self.r_max_ohm,
+            "c_min_f": self.c_min_f,
+            "c_max_f": self.c_max_f,
+            "cores": list(self.cores),
+            "stages": list(self.stages),
+            "buffered": {None: "either", True: "only buffered", False: "never"}[self.buffered],
+            "stock": None if self.stock is None else self.stock.source,
+            "top": self.top,
+            "builds": self.builds,
+            "seed": self.seed,
+            "aims": {k: {"value": v, "stated": s} for k, (v, s) in aims.items()},
+            "defaults": list(self.defaults),
+        }
+        if self.chip_overrides:
+            out["chip_measured"] = dict(self.chip_overrides)
+        return out
+
+
+def _split_list(text: str, allowed: tuple[str, ...], option: str) -> tuple[str, ...]:
+    words = tuple(w.strip().lower() for w in text.split(",") if w.strip())
+    bad = [w for w in words if w not in allowed]
+    if bad or not words:
+        raise RequestError(f"{option} {text!r}: unknown {', '.join(bad) or 'empty list'}; "
+                           f"accepted: a comma list of {', '.join(allowed)}")
+    return tuple(dict.fromkeys(words))
+
+
+def make_request(
+    phrase: str | None = None,
+    *,
+    every: str | None = None,
+    flash: str | None = None,
+    peak: str | None = None,
+    effective: str | None = None,
+    intensity: str | None = None,
+    supply: str | None = None,
+    family: str | None = None,
+    led: Any = None,
+    series: str | None = None,
+    cap_series: str | None = None,
+    timing_cap: str | None = None,
+    max_r: str | None = None,
+    min_r: str | None = None,
+    cap_range: str | None = None,
+    buffered: bool | None = None,
+    stages: str | None = None,
+    cores: str | None = None,
+    stock: str | Stock | None = None,
+    top: int | None = None,
+    builds: int | None = None,
+    seed: int | None = None,
+    chip_overrides: dict[str, float] | None = None,
+) -> SolveRequest:
+    """Build a :class:`SolveRequest` from option text; None means the default.
+
+    Every problem is collected and reported in one :class:`RequestError`.
+    ``led`` is a colour key (``"red"``) or an ``LedModel`` (a user-described LED).
+    """
+    from pulsepick.parts.led import LED_KEYS, get_led
+    from pulsepick.series import get_series
+    from pulsepick.units import parse_quantity, parse_range, parse_value
+
+    problems: list[str] = []
+    defaults: list[str] = []
+    choices: dict[str, str] = {}
+
+    def opt(name: str, value: Any, default: Any) -> Any:
+        if value is None:
+            defaults.append(name)
+            value = default
+        choices[name] = str(value)
+        return value
+
+    targets = None
+    try:
+        targets = merge_targets(phrase, {"every": every, "flash": flash, "peak": peak,
+                                         "effective": effective, "intensity": intensity})
+    except RequestError as err:
+        problems.append(str(err))
+
+    supply_text = opt("supply", supply, DEFAULT_SUPPLY)
+    supply_v = supply_end = None
+    try:
+        if ".." in supply_text or "\u2026" in supply_text:
+            supply_v, supply_end = parse_range(supply_text, "voltage")
+            if supply_end > supply_v:
+                problems.append(f"--supply {supply_text}: write the range from full to the end "
+                                "of the night, e.g. 2.7V..1.8V")
+        else:
+            supply_v = parse_quantity(supply_text, "voltage", bare_ok=True)
+    except PulsepickError as err:
+        problems.append(f"--supply {supply_text!r}: {err}")
+
+    family_text = opt("family", family, DEFAULT_FAMILY).strip().lower()
+    families: tuple[str, ...] = ()
+    try:
+        words = _split_list(family_text, FAMILY_CHOICES, "--family")
+        families = tuple(f for f in FAMILY_CHOICES if f != "any" and
+                         ("any" in words or f in words))
+    except RequestError as err:
+        problems.append(str(err))
+
+    led_model = None
+    led_value = opt("led", led, DEFAULT_LED)
+    if isinstance(led_value, str):
+        try:
+            led_model = get_led(led_value.strip().lower())
+        except PulsepickError:
+            problems.append(f"--led {led_value!r} unknown; accepted: {', '.join(LED_KEYS)} "
+                            "(or describe your own LED)")
+    else:
+        led_model = led_value
+        choices["led"] = getattr(led_value, "key", "custom")
+
+    names = {}
+    for key, value, default in (("series", series, DEFAULT_R_SERIES),
+                                ("cap_series", cap_series, DEFAULT_C_SERIES)):
+        text = opt(key, value, default)
+        try:
+            names[key] = get_series(text).name
+        except PulsepickError as err:
+            problems.append(f"--{key.replace('_', '-')} {text!r}: {err}")
+
+    tc_text = opt("timing_cap", timing_cap, DEFAULT_TIMING_CAP).strip().lower()
+    timing_caps: tuple[str, ...] = ()
+    if tc_text not in TIMING_CAP_CHOICES:
+        problems.append(f"--timing-cap {tc_text!r} unknown; accepted: "
+                        f"{', '.join(TIMING_CAP_CHOICES)}")
+    else:
+        timing_caps = TIMING_CAP_CHOICES[tc_text]
+
+    r_vals = {}
+    for key, value, default in (("min_r", min_r, DEFAULT_R_RANGE[0]),
+                                ("max_r", max_r, DEFAULT_R_RANGE[1])):
+        text = opt(key, value, default)
+        try:
+            r_vals[key] = parse_value(text, "ohm")
+        except PulsepickError as err:
+            problems.append(f"--{key.replace('_', '-')} {text!r}: {err}")
+
+    cr_text = opt("cap_range", cap_range, DEFAULT_CAP_RANGE)
+    c_lo = c_hi = None
+    try:
+        c_lo, c_hi = parse_range(cr_text, "capacitance")
+    except PulsepickError as err:
+        problems.append(f"--cap-range {cr_text!r}: {err}")
+
+    stage_list: tuple[str, ...] = ()
+    core_list: tuple[str, ...] = ()
+    try:
+        stage_list = _split_list(opt("stages", stages, ",".join(STAGE_CHOICES)),
+                                 STAGE_CHOICES, "--stages")
+    except RequestError as err:
+        problems.append(str(err))
+    try:
+        core_list = _split_list(opt("cores", cores, ",".join(CORE_CHOICES)),
+                                CORE_CHOICES, "--cores")
+    except RequestError as err:
+        problems.append(str(err))
+    if families and core_list:
+        has_timer = "timer555" in families
+        has_schmitt = any(f != "timer555" for f in families)
+        kept = tuple(c for c in core_list if (c == "timer555" and has_timer)
+                     or (c != "timer555" and has_schmitt))
+        if not kept:
+            problems.append(f"--cores {','.join(core_list)} cannot run on --family "
+                            f"{','.join(families)}: the timer555 core needs the timer555 "
+                            "family and the Schmitt cores a logic family")
+        core_list = kept
+    if buffered and core_list:
+        if core_list == ("timer555",):
+            problems.append("--buffered needs a Schmitt core (a 555 output drives the stage "
+                            "itself)")
+        core_list = tuple(c for c in core_list if c != "timer555")
+
+    stock_obj = None
+    if isinstance(stock, Stock):
+        stock_obj = stock
+        choices["stock"] = stock.source
+    elif stock is not None:
+        choices["stock"] = stock
+        try:
+            stock_obj = read_stock(stock)
+        except RequestError as err:
+            problems.append(str(err))
+    else:
+        defaults.append("stock")
+
+    ints = {}
+    for key, value, default, low in (("top", top, DEFAULT_TOP, 1),
+                                     ("builds", builds, DEFAULT_BUILDS, 1),
+                                     ("seed", seed, DEFAULT_SEED, 0)):
+        v = opt(key, value, default)
+        if not isinstance(v, int) or isinstance(v, bool) or v < low:
+            problems.append(f"--{key} {v!r}: give a whole number of at least {low}")
+        ints[key] = v
+    choices["buffered"] = {None: "either", True: "yes", False: "no"}[buffered]
+    if buffered is None:
+        defaults.append("buffered")
+
+    if targets is not None and led_model is not None and targets.intensity_cd is not None \
+            and led_model.mcd_per_a is None:
+        problems.append(f"the {led_model.name} LED has no intensity figure in our tables, so "
+                        "an intensity in mcd cannot be aimed at; give the brightness as a "
+                        "current (\"5 mA peak\", \"as bright as a steady 1 mA\") or choose "
+                        "an LED with intensity data (red, bright-red, green, white)")
+    if problems:
+        raise RequestError("; ".join(problems))
+    assert targets is not None and supply_v is not None and c_lo is not None
+    return SolveRequest(
+        targets=targets, supply_v=supply_v, supply_end_v=supply_end, families=families,
+        led=led_model, r_series=names["series"], c_series=names["cap_series"],
+        timing_caps=timing_caps, r_min_ohm=r_vals["min_r"], r_max_ohm=r_vals["max_r"],
+        c_min_f=min(c_lo, c_hi), c_max_f=max(c_lo, c_hi), cores=core_list, stages=stage_list,
+        buffered=buffered, stock=stock_obj, top=ints["top"], builds=ints["builds"],
+        seed=ints["seed"], chip_overrides=dict(chip_overrides or {}), choices=choices,
+        defaults=tuple(defaults),
+    )

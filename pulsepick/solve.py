@@ -1,0 +1,1134 @@
+"""The inverse solver: from a wanted blink to ranked, buildable circuits.
+
+For every admissible circuit (core, stage, buffering, polarity, chip family) the
+solver searches standard values and ranks what it finds.
+
+The search, per topology
+------------------------
+1. **Timing network.** The core's values sweep the whole grid of series values in
+   the allowed ranges with the bare timing evaluation (``fast.periods``). Where a
+   core has two resistors the sweep is split along the physics: for the steered
+   Schmitt core R1·C1 sets the slow phase and R2 the fast one; for the 555 RB·C1
+   sets the low phase and RA then the period. The short phase aims at the flash
+   (or at the dark time, for a flash longer than half the period), so a direct
+   LED stage can be lit in the short phase. The best few dozen timing networks
+   are kept, at most two per capacitor value, so small and large capacitors both
+   reach the next step.
+2. **Stage.** The stage's values sweep their grid with full evaluation at the best
+   timing network: coarsely first (one value per E3 step), then every series value
+   around the best coarse points.
+3. **Together.** The kept timing networks and stage values are crossed and
+   evaluated in full (``fast.evaluate``), so an unbuffered stage that loads the
+   timing gate's output shifts the timing here, before ranking.
+
+The score
+---------
+Lower is better. For each aimed figure, ``w·(ln(figure/aim))²/σ²`` with
+σ = ln 1.1 (a 10 % miss, about one E24 step, costs 1), w = 1 for stated aims and
+0.2 for assumed ones. The period term adds the expected squared spread of the
+period from the parts: resistor and capacitor tolerance, the capacitor's drift
+over -20..+50 °C and its aging and DC-bias loss, the shift the guaranteed-maximum
+pin and capacitor leakage causes, and, for a supply range, the change from full
+to end of night (each taken as uniform within its bounds: variance = bound²/3).
+An electrolytic timing capacitor or a resistor near the leakage limit so ranks
+lower. Then one point per decade of energy per flash (lower is better for a
+solar build) and 0.1 per part. A circuit whose LED stays dark at the design
+supply, or that is outside its chip's supply range, costs 1000 more; one that
+stalls is dropped. The chip's own threshold spread is the same for every value
+of one family and is left to the spread analysis.
+
+The best circuit of each different topology (core, stage, buffered) is offered,
+so the list is not five near-copies, and each is verified with the reference
+engine (see :func:`assess`).
+"""
+
+from __future__ import annotations
+
+import importlib
+import math
+import time
+from dataclasses import dataclass, field, replace
+from typing import Any
+
+import numpy as np
+
+from pulsepick.circuits.base import DARK, RUNS, STALLS, UNPOWERED, Topology
+from pulsepick.request import ASSUMED_PEAK_A, SolveRequest
+
+#: Width of one error unit: ln 1.1, a 10 % miss (about one E24 step, facts.md S22).
+SIGMA = math.log(1.1)
+#: Weight of an assumed (not stated) aim. Design choice.
+ASSUMED_WEIGHT = 0.2
+#: Cost per decade of energy per flash. Design choice (a solar build lives on it).
+ENERGY_WEIGHT = 1.0
+#: Reference energy per flash for the energy term, J (only shifts every score alike).
+ENERGY_REF_J = 1e-6
+#: Cost per part. Design choice: a tie-breaker.
+PARTS_WEIGHT = 0.1
+#: Extra cost of a circuit whose LED is dark or whose chip is unpowered.
+PENALTY_NOT_RUNNING = 1000.0
+#: Extra cost when the LED goes dark or the chip stops before the end of the night.
+PENALTY_END = 20.0
+#: Extra cost when the timing network stalls with the chip's guaranteed-maximum input
+#: leakage over temperature (a hot summer night). Design choice.
+PENALTY_HOT_LEAK = 3.0
+#: Threshold step for the finite-difference threshold sensitivity, fraction of the supply.
+THRESHOLD_STEP = 0.01
+#: Largest log error counted (a factor e^5 = 150 off); beyond it all are equally bad.
+BIG_LOG = 5.0
+#: Outdoor temperature range for the capacitor drift term, C (the issue's default range).
+TEMP_RANGE_C = (-20.0, 50.0)
+#: Decades of hours of class-2 aging counted (10^4 h, about a year). Estimate.
+AGING_DECADES = 4.0
+#: Search sizes: slow-phase pairs kept, timing networks kept, coarse stage points
+#: refined, picks kept per topology variant.
+K_SLOW, K_TIMING, K_KEEP = 40, 32, 3
+#: Per stage: coarse stage points refined, timing networks crossed with the stage sets,
+#: and coarse grid values per decade (the fade stage is the costliest to evaluate).
+K_COARSE = {"direct": 2, "pulse": 2, "fade": 1}
+K_TIMING_STAGE = {"direct": 32, "pulse": 16, "fade": 6}
+COARSE_PER_DECADE = {"direct": 3, "pulse": 3, "fade": 2}
+#: Drop assumed across the reset or charge diode (or the residual on the flash
+#: capacitor) when estimating a stage's resistor, V. Estimate (facts.md S63: a BAT54
+#: drops 0.22-0.29 V at 0.1-1 mA); only centres the search.
+STAGE_DROP_V = 0.3
+LN2 = math.log(2.0)
+#: Stage resistors run from this value up to --max-r, ohm (a few ohms: common practice).
+STAGE_R_MIN_OHM = 1.0
+#: Flash and hold capacitors of at least this value are electrolytic, smaller ones X7R
+#: ceramic (common practice for coupling and reservoir parts).
+STAGE_ELECTROLYTIC_FROM_F = 1e-6
+
+FIGURE_WORDS = {"period_s": "period", "flash_s": "flash length", "led_peak_a": "peak current",
+                "effective_a": "effective current", "effective_mcd": "effective intensity"}
+FIGURE_UNITS = {"period_s": "s", "flash_s": "s", "led_peak_a": "A", "effective_a": "A",
+                "effective_mcd": "cd"}
+
+
+# ============================================================================ results
+
+@dataclass(frozen=True)
+class Candidate:
+    """One offered circuit with its figures and, after :func:`assess`, its checks."""
+
+    rank: int  # 1 = best
+    design: Any  # pulsepick.design.Design
+    parts: tuple  # PartLine tuple (pulsepick.partslist)
+    figures: dict[str, float]  # fast engine at the design supply (Figures keys + status)
+    errors: dict[str, float]  # aimed figure key -> figure/aim - 1 (fraction)
+    score: float  # total cost, lower is better
+    score_parts: dict[str, float]  # fit, spread, energy, parts, night
+    period_spread: float  # estimated relative standard deviation of the period (fraction)
+    end_figures: dict[str, float] | None = None  # fast engine at the end-of-night supply
+    notes: tuple[str, ...] = ()
+    reference: Any = None  # ReferenceResult, after assess()
+    spread: Any = None  # SpreadResult, after assess() (when the analysis exists)
+    drift: Any = None  # DriftResult, after assess() (supply range only)
+    warnings: tuple[str, ...] = ()
+    timings_s: dict[str, float] = field(default_factory=dict)  # s, per assessment step
+
+    @property
+    def reference_figures(self) -> dict[str, float] | None:
+        if self.reference is None:
+            return None
+        return self.reference.figures.row()
+
+
+@dataclass(frozen=True)
+class SolveResult:
+    """What the solver offers for a request."""
+
+    request: SolveRequest
+    candidates: tuple[Candidate, ...]
+    explanations: tuple[str, ...]  # why a target cannot be met, and what comes nearest
+    nearest: dict[str, float] | None  # figures of the nearest circuit when none runs
+    evaluated: int  # circuits evaluated with the fast engine
+    search_s: float  # s, wall time of the search
+    success: bool  # False: nothing at all can be offered
+    message: str
+
+    def with_candidates(self, candidates: tuple[Candidate, ...]) -> SolveResult:
+        return replace(self, candidates=candidates)
+
+
+# ============================================================================ search space
+
+@dataclass
+class _Space:
+    """Value grids of one request (SI units)."""
+
+    r_timing: np.ndarray  # ohm
+    r_stage: np.ndarray  # ohm
+    r_stage_coarse: np.ndarray  # ohm
+    c_stage: np.ndarray  # F
+    c_stage_coarse: np.ndarray  # F
+    kinds: tuple[str, ...]  # timing capacitor kind keys
+    c_timing: np.ndarray  # F
+    c_kind: np.ndarray  # index into kinds
+    r_tol: float  # fraction
+
+
+def _coarser(a: str, b: str) -> str:
+    from pulsepick.series import SERIES_NAMES
+
+    return a if SERIES_NAMES.index(a) <= SERIES_NAMES.index(b) else b
+
+
+def _coarse_of(values: np.ndarray, series) -> np.ndarray:
+    """About one value per E3 step, taken from ``values`` (nearest by ratio)."""
+    from pulsepick.series import get_series
+
+    if values.size <= 8:
+        return values
+    e3 = get_series("E3").values(float(values[0]), float(values[-1]))
+    if e3.size == 0:
+        return values[[0, -1]]
+    idx = np.searchsorted(np.log(values), np.log(e3))
+    idx = np.clip(idx, 0, values.size - 1)
+    return np.unique(values[idx])
+
+
+def _space(req: SolveRequest) -> _Space:
+    from pulsepick.parts.capacitor import get_cap_kind
+    from pulsepick.series import get_series
+
+    rser = get_series(req.r_series)
+    stage_r_hi = req.r_max_ohm
+    if req.stock is not None:
+        stock_r = np.array(req.stock.resistors(), dtype=float)
+        r_timing = stock_r[(stock_r >= req.r_min_ohm) & (stock_r <= req.r_max_ohm)]
+        r_stage = stock_r[(stock_r >= STAGE_R_MIN_OHM) & (stock_r <= stage_r_hi)]
+        r_stage_coarse = r_stage
+        pairs = req.stock.capacitors(req.timing_caps)
+        kinds = tuple(dict.fromkeys(k for _, k in pairs))
+        c_list, k_list = [], []
+        for value, key in pairs:
+            kind = get_cap_kind(key)
+            if max(req.c_min_f, kind.c_min_f) <= value <= min(req.c_max_f, kind.c_max_f) \
+                    * (1 + 1e-9):
+                c_list.append(value)
+                k_list.append(kinds.index(key))
+        all_c = sorted({i.value for i in req.stock.items if i.kind == "C" and i.qty != 0})
+        c_stage = np.array([c for c in all_c if req.c_min_f <= c <= req.c_max_f], dtype=float)
+        c_stage_coarse = c_stage
+    else:
+        r_timing = rser.values(req.r_min_ohm, req.r_max_ohm)
+        r_stage = rser.values(STAGE_R_MIN_OHM, stage_r_hi)
+        r_stage_coarse = _coarse_of(r_stage, rser)
+        kinds = tuple(req.timing_caps)
+        c_list, k_list = [], []
+        for i, key in enumerate(kinds):
+            kind = get_cap_kind(key)
+            lo = max(req.c_min_f, kind.c_min_f)
+            hi = min(req.c_max_f, kind.c_max_f)
+            if lo > hi:
+                continue
+            vals = get_series(_coarser(req.c_series, kind.series_default)).values(lo, hi)
+            c_list.extend(vals.tolist())
+            k_list.extend([i] * vals.size)
+        small = get_series(req.c_series).values(req.c_min_f, req.c_max_f)
+        big = get_series(_coarser(req.c_series, "E6")).values(req.c_min_f, req.c_max_f)
+        c_stage = np.unique(np.concatenate([small[small < STAGE_ELECTROLYTIC_FROM_F],
+                                            big[big >= STAGE_ELECTROLYTIC_FROM_F]]))
+        c_stage_coarse = _coarse_of(c_stage, None)
+    return _Space(
+        r_timing=np.asarray(r_timing, dtype=float), r_stage=np.asarray(r_stage, dtype=float),
+        r_stage_coarse=np.asarray(r_stage_coarse, dtype=float),
+        c_stage=np.asarray(c_stage, dtype=float),
+        c_stage_coarse=np.asarray(c_stage_coarse, dtype=float), kinds=kinds,
+        c_timing=np.asarray(c_list, dtype=float), c_kind=np.asarray(k_list, dtype=int),
+        r_tol=rser.tolerance_pct / 100.0,
+    )
+
+
+def stage_cap_kind(value_f: float) -> str:
+    """Capacitor kind used for a flash or hold capacitor of ``value_f`` farads."""
+    return "electrolytic" if value_f >= STAGE_ELECTROLYTIC_FROM_F * (1 - 1e-9) else "x7r"
+
+
+def _cap_var(kind_key: str, v_supply: float) -> float:
+    """Variance (fraction²) of a timing capacitor's value from tolerance, drift and age."""
+    from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
+
+    kind = get_cap_kind(kind_key)
+    tol = max(kind.tol_minus_pct, kind.tol_plus_pct) / 100.0
+    temp = max(abs(float(kind.temperature_factor(t, "typ")) - 1.0) for t in TEMP_RANGE_C)
+    age = kind.aging_pct_per_decade / 100.0 * AGING_DECADES if kind.class2 else 0.0
+    rating = pick_voltage_rating(kind, v_supply)
+    bias = 1.0 - float(kind.dc_bias_factor(0.5 * v_supply, rating))
+    return (tol**2 + temp**2 + age**2 + bias**2) / 3.0
+
+
+# ============================================================================ scoring
+
+def _log_err(x, target) -> np.ndarray:
+    with np.errstate(all="ignore"):
+        e = np.log(np.asarray(x, dtype=float) / target)
+    return np.clip(np.where(np.isfinite(e), e, BIG_LOG), -BIG_LOG, BIG_LOG)
+
+
+def _weights(aims: dict[str, tuple[float, bool]]) -> dict[str, float]:
+    return {k: (1.0 if stated else ASSUMED_WEIGHT) for k, (_, stated) in aims.items()}
+
+
+def _cost(fig, aims, weights, var, n_parts: int, v: float, leak_penalty=0.0
+          ) -> tuple[np.ndarray, dict]:
+    """Vectorised score of evaluated circuits; returns (cost, parts of the cost)."""
+    fit = 0.0
+    for key, (target, _) in aims.items():
+        fit = fit + weights[key] * _log_err(getattr(fig, key), target) ** 2 / SIGMA**2
+    spread = weights["period_s"] * np.asarray(var) / SIGMA**2
+    with np.errstate(all="ignore"):
+        energy_j = np.asarray(fig.supply_avg_a) * np.asarray(fig.period_s) * v
+        energy = ENERGY_WEIGHT * np.log10(np.maximum(energy_j, 1e-18) / ENERGY_REF_J)
+    status = np.asarray(fig.status)
+    energy = np.where(np.isfinite(energy), energy, 0.0)
+    penalty = np.where((status == DARK) | (status == UNPOWERED), PENALTY_NOT_RUNNING, 0.0)
+    cost = fit + spread + energy + PARTS_WEIGHT * n_parts + penalty + leak_penalty
+    cost = np.where(status == STALLS, np.inf, cost)
+    return cost, {"fit": fit, "spread": spread + leak_penalty, "energy": energy}
+
+
+def _best_per_group(cost: np.ndarray, group: np.ndarray, k: int, total: int) -> np.ndarray:
+    """Indices of the ``k`` cheapest per group, then the ``total`` cheapest of those."""
+    ok = np.flatnonzero(np.isfinite(cost))
+    if ok.size == 0:
+        return ok
+    order = ok[np.lexsort((cost[ok], group[ok]))]
+    g = group[order]
+    start = np.r_[True, g[1:] != g[:-1]]
+    first = np.maximum.accumulate(np.where(start, np.arange(g.size), 0))
+    keep = order[(np.arange(g.size) - first) < k]
+    return keep[np.argsort(cost[keep], kind="stable")[:total]]
+
+
+def n_parts(topo: Topology, values: dict[str, float]) -> int:
+    """Parts count of a circuit: chip, resistors, capacitors, diodes and the LED."""
+    from pulsepick.circuits.base import get_core, get_stage
+
+    params = get_core(topo.core).params + get_stage(topo.stage).params
+    count = 2 + sum(1 for p in params if not (p.optional and values.get(p.name, 1.0) == 0))
+    count += (topo.core == "schmitt-steered") + (topo.stage in ("pulse", "fade"))
+    return count
+
+
+# ============================================================================ the search
+
+@dataclass
+class _Timing:
+    """Kept timing networks of one core variant (arrays, one element each)."""
+
+    values: dict[str, np.ndarray]
+    kind: np.ndarray  # index into _Space.kinds
+    g_typ: np.ndarray  # S, typical leakage conductance of C1
+    var: np.ndarray  # fraction², expected squared spread of the period
+    cost: np.ndarray
+    penalty: np.ndarray  # cost added for stalling with the hot-end leakage
+
+
+@dataclass
+class _Pick:
+    cost: float
+    topo: Topology
+    family: str
+    values: dict[str, float]
+    kind: str  # timing capacitor kind key
+    var: float
+    parts_cost: dict[str, float]
+    figures: dict[str, float]
+    end_figures: dict[str, float] | None
+
+
+class _Searcher:
+    def __init__(self, req: SolveRequest, chip=None) -> None:
+        self.req = req
+        self.chip = chip
+        self.space = _space(req)
+        self.aims = req.aims()
+        self.weights = _weights(self.aims)
+        self.v = req.supply_v
+        self.evaluated = 0
+        self.seen: dict[str, list[float]] = {}
+        t = req.targets
+        flash = min(req.flash_s, 0.99 * t.period_s)
+        self.short_target = min(flash, t.period_s - flash)
+        self.long_target = t.period_s - self.short_target
+        self.cap_var = np.array([_cap_var(k, self.v) for k in self.space.kinds])
+
+    # -- bookkeeping ------------------------------------------------------------------------
+    def _note_range(self, key: str, x) -> None:
+        x = np.asarray(x, dtype=float)
+        x = x[np.isfinite(x) & (x > 0)]
+        if x.size:
+            lo, hi = float(x.min()), float(x.max())
+            old = self.seen.get(key)
+            self.seen[key] = [min(lo, old[0]), max(hi, old[1])] if old else [lo, hi]
+
+    def _periods(self, topo, values, env):
+        from pulsepick.engine import fast
+
+        size = max(np.size(v) for v in values.values())
+        self.evaluated += size
+        return fast.periods(topo, values, env)
+
+    def _evaluate(self, topo, values, env):
+        from pulsepick.engine import fast
+
+        size = max(np.size(v) for v in values.values())
+        self.evaluated += size
+        return fast.evaluate(topo, values, env, powered=True)
+
+    # -- timing -----------------------------------------------------------------------------
+    def _cap_leak(self, c: np.ndarray, kind: np.ndarray, which: str) -> np.ndarray:
+        from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
+
+        g = np.zeros_like(c)
+        for i, key in enumerate(self.space.kinds):
+            sel = kind == i
+            if np.any(sel):
+                k = get_cap_kind(key)
+                g[sel] = k.leak_conductance(c[sel], pick_voltage_rating(k, self.v), which=which)
+        return g
+
+    def set_chip_envs(self, env, model) -> None:
+        """The environments the timing sweep needs: typical, leaky, and shifted thresholds.
+
+        The chip's threshold spread enters the period variance as uniform spreads of
+        VT+ and VT- (or the 555's threshold and trigger levels) over their datasheet
+        limits at the design supply, propagated with finite differences; measured
+        thresholds (the user's own chip) carry none.
+        """
+        v = self.v
+        chip = self.chip
+        if chip.is_timer:
+            leak, hot = model.leak_a, model.leak_a
+            plus = (model.thr_ratio_max - model.thr_ratio_min) * v
+            minus = (model.trig_ratio_max - model.trig_ratio_min) * v
+        else:
+            leak, hot = model.leak_max_a, model.leak_max_hot_a
+            th = model.thresholds(v)
+            plus = float(th.vt_plus_max - th.vt_plus_min)
+            minus = float(th.vt_minus_max - th.vt_minus_min)
+        if chip.measured:
+            plus = minus = 0.0
+        step = THRESHOLD_STEP * v
+        self.envs = {
+            "typ": env,
+            "leak": replace(env, pin_leak_a=leak),
+            "hot": replace(env, pin_leak_a=hot),
+            "plus": replace(env, vt_plus=env.vt_plus + step),
+            "minus": replace(env, vt_minus=env.vt_minus + step),
+        }
+        self.chip_ranges = (plus, minus, step)
+
+    def _timing_eval(self, core_topo, values, kind, short_of):
+        """Periods, cost, variance and penalty of timing networks (arrays).
+
+        Variance (fraction², ln-period): resistor and capacitor tolerance and drift,
+        the shift from guaranteed-maximum leakage at 25 C, and the chip's threshold
+        spread. Penalty: the network stalls with the guaranteed-maximum leakage over
+        temperature (the hot end of an outdoor range).
+        """
+        c = values["c1"]
+        envs = self.envs
+        g_typ = self._cap_leak(c, kind, "typ")
+        g_max = self._cap_leak(c, kind, "max")
+        th, tl, st = self._periods(core_topo, values, replace(envs["typ"], cap_leak_g=g_typ))
+        period = th + tl
+        running = st == RUNS
+        self._note_range("timing_period_s", np.where(running, period, np.nan))
+        th2, tl2, st2 = self._periods(core_topo, values, replace(envs["leak"], cap_leak_g=g_max))
+        _, _, st3 = self._periods(core_topo, values, replace(envs["hot"], cap_leak_g=g_max))
+        with np.errstate(all="ignore"):
+            shift = np.log((th2 + tl2) / period)
+        shift = np.where((st2 == RUNS) & np.isfinite(shift), shift, 1.0)
+        var = (2 * self.space.r_tol**2) / 3.0 + self.cap_var[kind] + shift**2 / 3.0
+        plus, minus, step = self.chip_ranges
+        for name, width in (("plus", plus), ("minus", minus)):
+            if width <= 0:
+                continue
+            a, b, st4 = self._periods(core_topo, values, replace(self.envs[name],
+                                                                 cap_leak_g=g_typ))
+            with np.errstate(all="ignore"):
+                slope = np.log((a + b) / period) / step
+            slope = np.where((st4 == RUNS) & np.isfinite(slope), slope, 0.0)
+            var = var + (slope * width) ** 2 / 12.0
+        penalty = np.where(st3 == RUNS, 0.0, PENALTY_HOT_LEAK)
+        t = self.req.targets
+        cost = self.weights["period_s"] * (_log_err(period, t.period_s) ** 2 + var) / SIGMA**2
+        cost = cost + penalty
+        if short_of is not None:
+            short = short_of(th, tl)
+            cost = cost + self.weights["flash_s"] * _log_err(short, self.short_target) ** 2 \
+                / SIGMA**2
+        cost = np.where(running, cost, np.inf)
+        return cost, var, g_typ, penalty
+
+    def timing(self, core: str, steer: str) -> _Timing | None:
+        sp = self.space
+        if sp.c_timing.size == 0 or sp.r_timing.size == 0:
+            return None
+        R, C = sp.r_timing, sp.c_timing
+        nr, nc = R.size, C.size
+        ri = np.tile(np.arange(nr), nc)
+        ci = np.repeat(np.arange(nc), nr)
+        plain = Topology("schmitt", "direct")
+        if core == "schmitt":
+            vals = {"r1": R[ri], "c1": C[ci]}
+            cost, var, g, pen = self._timing_eval(plain, vals, sp.c_kind[ci], None)
+            keep = _best_per_group(cost, ci, 2, K_TIMING)
+            return _Timing({k: v[keep] for k, v in vals.items()}, sp.c_kind[ci][keep], g[keep],
+                           var[keep], cost[keep], pen[keep])
+        if core == "schmitt-steered":
+            # step 1: R1·C1 sets the slow phase (the plain core's phase)
+            vals = {"r1": R[ri], "c1": C[ci]}
+            c_kind = sp.c_kind[ci]
+            g = self._cap_leak(vals["c1"], c_kind, "typ")
+            th, tl, st = self._periods(plain, vals, replace(self.envs["typ"], cap_leak_g=g))
+            slow = tl if steer == "high" else th
+            cost1 = np.where(st == RUNS, _log_err(slow, self.long_target) ** 2
+                             + sp.r_tol**2 + self.cap_var[c_kind], np.inf)
+            keep1 = _best_per_group(cost1, ci, 3, K_SLOW)
+            # step 2: R2 sets the fast phase
+            k1, kr = keep1.size, nr
+            base = np.repeat(keep1, kr)
+            vals2 = {"r1": vals["r1"][base], "r2": np.tile(R, k1), "c1": vals["c1"][base]}
+            topo = Topology("schmitt-steered", "direct", steer=steer)
+            short_of = (lambda a, b: a) if steer == "high" else (lambda a, b: b)
+            cost, var, g2, pen = self._timing_eval(topo, vals2, c_kind[base], short_of)
+            keep = _best_per_group(cost, ci[base], 2, K_TIMING)
+            return _Timing({k: v[keep] for k, v in vals2.items()}, c_kind[base][keep],
+                           g2[keep], var[keep], cost[keep], pen[keep])
+        # timer555, step 1: RB·C1 sets the low phase (RA at its smallest)
+        vals = {"ra": np.full(ri.size, R[0]), "rb": R[ri], "c1": C[ci]}
+        c_kind = sp.c_kind[ci]
+        g = self._cap_leak(vals["c1"], c_kind, "typ")
+        topo = Topology("timer555", "direct")
+        th, tl, st = self._periods(topo, vals, replace(self.envs["typ"], cap_leak_g=g))
+        cost1 = np.where(st == RUNS, _log_err(tl, self.short_target) ** 2
+                         + sp.r_tol**2 + self.cap_var[c_kind], np.inf)
+        keep1 = _best_per_group(cost1, ci, 3, K_SLOW)
+        base = np.repeat(keep1, nr)
+        vals2 = {"ra": np.tile(R, keep1.size), "rb": vals["rb"][base], "c1": vals["c1"][base]}
+        cost, var, g2, pen = self._timing_eval(topo, vals2, c_kind[base], lambda a, b: b)
+        keep = _best_per_group(cost, ci[base], 2, K_TIMING)
+        return _Timing({k: v[keep] for k, v in vals2.items()}, c_kind[base][keep], g2[keep],
+                       var[keep], cost[keep], pen[keep])
+
+    # -- stage ------------------------------------------------------------------------------
+    def _peak_aim(self) -> float:
+        """The peak LED current the aims imply (A): stated, or from the effective aim."""
+        from pulsepick.circuits.base import EFFECTIVE_A_S
+
+        aims, flash = self.aims, self.req.flash_s
+        if "led_peak_a" in aims:
+            return aims["led_peak_a"][0]
+        if "effective_a" in aims:
+            eff = aims["effective_a"][0]
+        else:
+            eff = aims["effective_mcd"][0] / self.req.led.mcd_per_a
+        return eff * (EFFECTIVE_A_S + flash) / flash
+
+    def _stage_grid(self, stage: str, env) -> dict[str, np.ndarray]:
+        """Stage values around a first estimate from the aims (one pass, coarse for caps).
+
+        The estimate is only a centre: resistors span a decade either side and
+        capacitors one and a half, so the evaluation, not the estimate, decides.
+        """
+        from pulsepick.circuits.decay import n_vt
+
+        sp, led, v = self.space, self.req.led, self.v
+        peak = self._peak_aim()
+        rout = float(np.asarray(env.rout_high, dtype=float).reshape(-1)[0])
+        drop = STAGE_DROP_V if stage != "direct" else 0.0
+        rs_est = (v - float(led.voltage(peak)) - drop) / peak - rout
+        rs_est = min(max(rs_est, STAGE_R_MIN_OHM), self.req.r_max_ohm)
+        rs = _around(sp.r_stage, rs_est, 10.0)
+        if stage == "direct":
+            return {"rs": rs}
+        rs = _thin(rs, COARSE_PER_DECADE[stage])
+        nvt = n_vt(led.junction)
+        flash = min(self.req.flash_s, 0.5 * self.req.targets.period_s)
+        if stage == "pulse":
+            r_total = rs_est + rout + nvt / peak + float(led.junction.r_s)
+            c_est = flash / (LN2 * r_total)
+            rs = np.concatenate([[0.0], rs])
+        else:
+            c_est = 0.5 * flash * peak / nvt
+        cs = _thin(_around(sp.c_stage, c_est, 30.0), COARSE_PER_DECADE[stage])
+        name = "cp" if stage == "pulse" else "ch"
+        return {name: np.repeat(cs, rs.size), "rs": np.tile(rs, cs.size)}
+
+    def _refine(self, stage: str, point: dict[str, float]) -> list[dict[str, float]]:
+        """The point and its series neighbours (one step either side)."""
+        sp = self.space
+        out = []
+        r0 = point["rs"]
+        rs = [0.0] if r0 == 0 else _neighbours(sp.r_stage, r0).tolist()
+        if stage == "direct":
+            return [{"rs": r} for r in rs]
+        name = "cp" if stage == "pulse" else "ch"
+        for c in _neighbours(sp.c_stage, point[name]).tolist():
+            for r in rs:
+                out.append({name: c, "rs": r})
+        return out
+
+    def _rows_env(self, vdd: np.ndarray):
+        from pulsepick.engine.environment import PartChoice, make_env
+
+        return make_env(self.chip, PartChoice(led=self.req.led), vdd)
+
+    def stage(self, topo: Topology, tim: _Timing, env) -> list[_Pick]:
+        """Search one topology's stage values over the kept timing networks."""
+        sname = topo.stage
+        npart = n_parts(topo, {})
+        grid = self._stage_grid(sname, env)
+        size = grid["rs"].size
+        if size == 0 or tim.cost.size == 0:
+            return []
+        # step 1: the stage grid at the best timing network
+        f, cost, _ = self._eval_cost(topo, tim, np.zeros(size, dtype=int), grid, env, npart)
+        order = [i for i in np.argsort(cost, kind="stable")[:K_COARSE[sname]]
+                 if np.isfinite(cost[i])]
+        if not order:
+            return []
+        sets: dict[tuple, dict[str, float]] = {}
+        for i in order:
+            for point in self._refine(sname, {k: float(v[i]) for k, v in grid.items()}):
+                sets.setdefault(tuple(point.items()), point)
+        names = list(grid)
+        stage_sets = {k: np.array([p[k] for p in sets.values()]) for k in names}
+        # step 2: every kept timing network with every stage set, at the design supply
+        # and (for a supply range) at the end of the night, in one evaluation
+        n_t = min(tim.cost.size, K_TIMING_STAGE.get(sname, K_TIMING))
+        n_s = stage_sets["rs"].size
+        t_idx = np.repeat(np.arange(n_t), n_s)
+        s_vals = {k: np.tile(v, n_t) for k, v in stage_sets.items()}
+        n = t_idx.size
+        end_v = self.req.supply_end_v
+        supplies = [self.v] if end_v is None else [self.v, end_v]
+        vdd = np.repeat(np.array(supplies), n)
+        env_rows, powered = self._rows_env(vdd)
+        reps = len(supplies)
+        vals = {k: np.tile(v[t_idx], reps) for k, v in tim.values.items()}
+        vals.update({k: np.tile(v, reps) for k, v in s_vals.items()})
+        self.evaluated += vdd.size
+        from pulsepick.engine import fast
+
+        f_all = fast.evaluate(topo, vals, replace(env_rows, cap_leak_g=np.tile(
+            tim.g_typ[t_idx], reps)), powered=powered)
+        f_nom = _slice_figures(f_all, slice(0, n))
+        cost, parts = _cost(f_nom, self.aims, self.weights, tim.var[t_idx], npart, self.v,
+                            tim.penalty[t_idx])
+        night = np.zeros(n)
+        f_end = None
+        if end_v is not None:
+            f_end = _slice_figures(f_all, slice(n, 2 * n))
+            with np.errstate(all="ignore"):
+                drift = np.log(f_end.period_s / f_nom.period_s)
+            ok = (f_end.status == RUNS) & np.isfinite(drift)
+            night = np.where(ok, self.weights["period_s"] * drift**2 / 3.0 / SIGMA**2,
+                             PENALTY_END)
+            cost = cost + night
+        running = f_nom.status == RUNS
+        for key in ("period_s", "flash_s", "led_peak_a", "effective_a", "effective_mcd"):
+            self._note_range(key, np.where(running, getattr(f_nom, key), np.nan))
+        picks: list[_Pick] = []
+        for i in np.argsort(cost, kind="stable"):
+            if not np.isfinite(cost[i]) or len(picks) >= K_KEEP:
+                break
+            values = {k: float(v[t_idx[i]]) for k, v in tim.values.items()}
+            values.update({k: float(v[i]) for k, v in s_vals.items()})
+            if not self._stock_ok(topo, values):
+                continue
+            breakdown = {k: float(np.asarray(v).reshape(-1)[i]) for k, v in parts.items()}
+            breakdown["night"] = float(night[i])
+            picks.append(_Pick(
+                cost=float(cost[i]), topo=topo, family=self.chip.family, values=values,
+                kind=self.space.kinds[int(tim.kind[t_idx[i]])], var=float(tim.var[t_idx[i]]),
+                parts_cost=breakdown, figures=f_nom.row(int(i)),
+                end_figures=None if f_end is None else f_end.row(int(i)),
+            ))
+        return picks
+
+    def _eval_cost(self, topo, tim: _Timing, t_idx, stage_vals, env, npart):
+        vals = {k: v[t_idx] for k, v in tim.values.items()}
+        vals.update(stage_vals)
+        f = self._evaluate(topo, vals, replace(env, cap_leak_g=tim.g_typ[t_idx]))
+        cost, parts = _cost(f, self.aims, self.weights, tim.var[t_idx], npart, self.v,
+                            tim.penalty[t_idx])
+        return f, cost, parts
+
+    def _stock_ok(self, topo: Topology, values: dict[str, float]) -> bool:
+        stock = self.req.stock
+        if stock is None:
+            return True
+        from pulsepick.circuits.base import get_core, get_stage
+
+        need: dict[tuple[str, float], int] = {}
+        for p in get_core(topo.core).params + get_stage(topo.stage).params:
+            v = values[p.name]
+            if p.optional and v == 0:
+                continue
+            need[(p.kind, v)] = need.get((p.kind, v), 0) + 1
+        for (kind, v), n in need.items():
+            have = stock.count(kind, v)
+            if have is not None and have < n:
+                return False
+        return True
+
+
+def _slice_figures(f, sl: slice):
+    """The rows ``sl`` of a batch of figures (plain arrays)."""
+    from pulsepick.circuits.base import Figures
+
+    def cut(x):
+        return np.asarray(x).reshape(-1)[sl] if np.ndim(x) else x
+
+    return Figures(**{k: cut(getattr(f, k)) for k in Figures.KEYS}, status=cut(f.status))
+
+
+def _around(values: np.ndarray, centre: float, factor: float) -> np.ndarray:
+    """Values within ``factor`` of ``centre`` (by ratio); the nearest few when none are."""
+    if values.size == 0:
+        return values
+    sel = values[(values >= centre / factor) & (values <= centre * factor)]
+    if sel.size:
+        return sel
+    order = np.argsort(np.abs(np.log(values / centre)))
+    return np.sort(values[order[:3]])
+
+
+def _thin(values: np.ndarray, per_decade: int) -> np.ndarray:
+    """About ``per_decade`` values per decade, taken from ``values`` (sorted)."""
+    if values.size <= 3:
+        return values
+    logs = np.log10(values)
+    grid = np.arange(logs[0], logs[-1] + 1e-9, 1.0 / per_decade)
+    idx = np.unique(np.clip(np.searchsorted(logs, grid), 0, values.size - 1))
+    return values[idx]
+
+
+def _neighbours(values: np.ndarray, x: float) -> np.ndarray:
+    """``x`` and the series values just below and above it."""
+    if values.size == 0:
+        return np.array([x])
+    i = int(np.argmin(np.abs(np.log(values / x))))
+    return values[max(i - 1, 0): i + 2]
+
+
+def _variants(req: SolveRequest) -> list[tuple[str, str, str, list[Topology]]]:
+    """Search tasks: (core, steer, stage, topology variants), most expensive first."""
+    out = []
+    for core in req.cores:
+        steers = ("high", "low") if core == "schmitt-steered" else ("high",)
+        if core == "timer555":
+            bufs: tuple[bool, ...] = (False,)
+        elif req.buffered is None:
+            bufs = (False, True)
+        else:
+            bufs = (req.buffered,)
+        for steer in steers:
+            for stage in req.stages:
+                lits = ("high", "low") if stage == "direct" else ("high",)
+                topos = [Topology(core, stage, buf, lit, steer) for buf in bufs for lit in lits]
+                out.append((core, steer, stage, topos))
+    cost = {"fade": 0, "pulse": 1, "direct": 2}
+    out.sort(key=lambda t: (cost[t[2]], t[0] == "timer555"))
+    return out
+
+
+def _chip(req: SolveRequest, family: str):
+    from pulsepick.engine.environment import ChipSpec
+
+    if family == "timer555" or not req.chip_overrides:
+        return ChipSpec(family)
+    return ChipSpec(family, **req.chip_overrides)
+
+
+def _prechecks(req: SolveRequest) -> tuple[list[str], bool]:
+    """Explanations known before searching; True when nothing can light at all."""
+    from pulsepick.parts.led import LED_KEYS, get_led
+    from pulsepick.units import format_eng
+
+    notes: list[str] = []
+    t = req.targets
+    if t.flash_s is not None and t.flash_s >= t.period_s:
+        notes.append(
+            f"A flash of {format_eng(t.flash_s, 's')} cannot last longer than the period of "
+            f"{format_eng(t.period_s, 's')}: the light would never go off. The circuits below "
+            "keep the LED lit for as much of each period as they can; a steady light needs "
+            "no oscillator at all.")
+    led = req.led
+    need_v = float(led.voltage(led.visible_a))
+    best_i = float(led.current(req.supply_v))
+    nothing = best_i < led.visible_a
+    if nothing:
+        lighter = [k for k in LED_KEYS
+                   if float(get_led(k).voltage(get_led(k).visible_a)) < 0.9 * req.supply_v]
+        notes.append(
+            f"The {led.name} LED needs about {need_v:.2f} V to show (at "
+            f"{format_eng(led.visible_a, 'A')}); at {req.supply_v:.2f} V it gets at most "
+            f"{format_eng(best_i, 'A')} even with no resistor, so no circuit on this supply "
+            "can light it. "
+            + (f"LEDs that light here: {', '.join(lighter)}." if lighter else
+               "None of the LEDs in our tables lights at this supply."))
+    elif req.supply_end_v is not None and float(led.current(req.supply_end_v)) < led.visible_a:
+        notes.append(
+            f"The {led.name} LED needs about {need_v:.2f} V to show: it goes dark before the "
+            f"supply falls to {req.supply_end_v:.2f} V at the end of the night.")
+    return notes, nothing
+
+
+#: Timing networks already swept in this process for the current request (a task per
+#: stage shares its core's sweep).
+_TIMING_CACHE: dict[Any, Any] = {}
+
+
+def _search_task(req: SolveRequest, family: str, core: str, steer: str,
+                 topos: list[Topology]) -> tuple[list[_Pick], int, dict[str, list[float]]]:
+    """One search task (a core variant and one stage's topologies) for one chip family."""
+    from pulsepick.engine.environment import PartChoice, chip_model, make_env
+
+    chip = _chip(req, family)
+    model = chip_model(chip)
+    s = _Searcher(req, chip)
+    env, _ = make_env(chip, PartChoice(led=req.led), req.supply_v)
+    s.set_chip_envs(env, model)
+    if _TIMING_CACHE.get("request") != req:
+        _TIMING_CACHE.clear()
+        _TIMING_CACHE["request"] = req
+    key = (family, core, steer)
+    if key in _TIMING_CACHE:  # swept already in this process: evaluations counted then
+        tim, seen = _TIMING_CACHE[key]
+        s.seen.update(seen)
+    else:
+        tim = s.timing(core, steer)
+        _TIMING_CACHE[key] = (tim, dict(s.seen))
+    picks: list[_Pick] = []
+    if tim is not None and tim.cost.size:
+        for topo in topos:
+            picks.extend(s.stage(topo, tim, env))
+    return picks, s.evaluated, s.seen
+
+
+def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
+    """Search every admissible circuit for ``req``; the best of each topology, ranked.
+
+    ``jobs`` > 1 spreads the search over that many worker processes. Reference
+    verification, spread, drift and warnings come from :func:`assess`.
+    """
+    from pulsepick.design import Design
+    from pulsepick.engine.environment import PartChoice, chip_model
+
+    t_start = time.perf_counter()
+    explanations, nothing = _prechecks(req)
+    tasks = []
+    unpowered = []
+    for family in req.families:
+        chip = _chip(req, family)
+        model = chip_model(chip)
+        if not bool(model.in_range(req.supply_v)):
+            unpowered.append(f"{family} ({model.vdd_min_v:g}-{model.vdd_max_v:g} V)")
+            continue
+        for core, steer, _stage, topos in _variants(req):
+            if (core == "timer555") == chip.is_timer:
+                tasks.append((req, family, core, steer, topos))
+    if unpowered:
+        explanations.append(
+            f"At {req.supply_v:.2f} V these chips are outside their supply range and were "
+            f"left out: {', '.join(unpowered)}.")
+    picks: list[_Pick] = []
+    evaluated = 0
+    seen: dict[str, list[float]] = {}
+    for task_picks, n, task_seen in _run_tasks(_search_task, tasks, jobs):
+        picks.extend(task_picks)
+        evaluated += n
+        for key, (lo, hi) in task_seen.items():
+            old = seen.get(key)
+            seen[key] = [min(lo, old[0]), max(hi, old[1])] if old else [lo, hi]
+    picks.sort(key=lambda p: p.cost)
+
+    # diversity: the best of each topology (core and stage) first, then the next best
+    chosen: list[_Pick] = []
+    groups: set[tuple] = set()
+    for pick in picks:
+        key = (pick.topo.core, pick.topo.stage)
+        if key not in groups:
+            groups.add(key)
+            chosen.append(pick)
+    chosen = chosen[:req.top]
+    idents = {_ident(p) for p in chosen}
+    for pick in picks:
+        if len(chosen) >= req.top:
+            break
+        if _ident(pick) not in idents and _ident_loose(pick) not in {_ident_loose(c)
+                                                                    for c in chosen}:
+            idents.add(_ident(pick))
+            chosen.append(pick)
+    chosen.sort(key=lambda p: p.cost)
+
+    aims = req.aims()
+    candidates = []
+    for rank, pick in enumerate(chosen, start=1):
+        design = Design(pick.topo, pick.values, _chip(req, pick.family),
+                        PartChoice(led=req.led, timing_cap=pick.kind,
+                                   stage_cap=_stage_kind(req, pick)), req.supply_v)
+        figs = pick.figures
+        errors = {key: (figs[key] / target - 1.0 if np.isfinite(figs[key]) else math.nan)
+                  for key, (target, _) in aims.items()}
+        candidates.append(Candidate(
+            rank=rank, design=design, parts=_parts(req, design, figs), figures=figs,
+            errors=errors, score=pick.cost,
+            score_parts=dict(pick.parts_cost, parts=PARTS_WEIGHT * n_parts(pick.topo,
+                                                                            pick.values)),
+            period_spread=math.sqrt(pick.var), end_figures=pick.end_figures,
+            notes=_candidate_notes(req, design, figs, pick.end_figures),
+        ))
+    running = [c for c in candidates if c.figures["status"] == RUNS]
+    nearest = None
+    if not running and candidates:
+        nearest = dict(candidates[0].figures)
+    explanations += _explain(req, aims, seen, running)
+    success = bool(running) and not nothing
+    if not success:
+        running = []
+    else:
+        running = [replace(c, rank=i) for i, c in enumerate(running, start=1)]
+    message = (f"{len(running)} circuits offered" if success else
+               "nothing can be offered for this request")
+    return SolveResult(
+        request=req, candidates=tuple(running), explanations=tuple(explanations),
+        nearest=nearest, evaluated=evaluated, search_s=time.perf_counter() - t_start,
+        success=success, message=message,
+    )
+
+
+def _run_tasks(fn, tasks: list[tuple], jobs: int) -> list:
+    """``fn(*task)`` for every task, in worker processes when ``jobs`` > 1 (fork)."""
+    if jobs <= 1 or len(tasks) <= 1:
+        return [fn(*t) for t in tasks]
+    import multiprocessing
+    from concurrent.futures import ProcessPoolExecutor
+
+    ctx = multiprocessing.get_context("fork")
+    with ProcessPoolExecutor(max_workers=min(jobs, len(tasks)), mp_context=ctx) as pool:
+        futures = [pool.submit(fn, *t) for t in tasks]
+        return [f.result() for f in futures]
+
+
+def _ident_loose(pick: _Pick) -> tuple:
+    """Near-copies: the same core, stage and values (buffering or polarity aside)."""
+    return (pick.topo.core, pick.topo.stage, tuple(sorted(pick.values.items())))
+
+
+def _ident(pick: _Pick) -> tuple:
+    return (pick.family, pick.topo, tuple(sorted(pick.values.items())), pick.kind)
+
+
+def _stage_kind(req: SolveRequest, pick: _Pick) -> str:
+    for name in ("cp", "ch"):
+        if name in pick.values:
+            return _stock_kind(req, pick.values[name]) or stage_cap_kind(pick.values[name])
+    return "electrolytic"
+
+
+def _stock_kind(req: SolveRequest, value: float) -> str | None:
+    """The dielectric the drawer gives for a capacitor value, if it names one."""
+    if req.stock is None:
+        return None
+    for item in req.stock.items:
+        if item.kind == "C" and item.dielectric and math.isclose(item.value, value,
+                                                                 rel_tol=1e-9):
+            return "film-pet" if item.dielectric == "film" else item.dielectric
+    return None
+
+
+def _parts(req: SolveRequest, design, figs: dict[str, float]) -> tuple:
+    from pulsepick.partslist import DRAWER_RESISTOR_TOL_PCT, parts_list
+
+    tol = DRAWER_RESISTOR_TOL_PCT if req.stock is not None else None
+    return parts_list(design, r_series=req.r_series, c_series=req.c_series, r_tolerance_pct=tol,
+                      led_peak_a=figs["led_peak_a"])
+
+
+def _candidate_notes(req, design, figs, end) -> tuple[str, ...]:
+    from pulsepick.units import format_eng
+
+    notes = []
+    if end is not None and end["status"] != RUNS:
+        from pulsepick.design import status_word
+
+        notes.append(f"at the end of the night ({req.supply_end_v:.2f} V) the circuit is "
+                     f"{status_word(end['status'])}")
+    if design.topo.stage == "direct" and not design.topo.buffered \
+            and design.topo.core != "timer555":
+        notes.append("the LED hangs on the timing gate's output: its load is in the figures")
+    if figs["status"] == DARK:
+        notes.append(f"the LED gets {format_eng(figs['led_peak_a'], 'A')}: too little to be seen")
+    return tuple(notes)
+
+
+def _explain(req: SolveRequest, aims, seen, running: list[Candidate]) -> list[str]:
+    """Explain each stated aim that the best circuit misses by more than 10 %."""
+    from pulsepick.units import format_eng
+
+    out = []
+    if not running:
+        return out
+    best = running[0]
+    for key, (target, stated) in aims.items():
+        if not stated:
+            continue
+        got = best.figures[key]
+        if not (np.isfinite(got) and got > 0):
+            continue
+        if abs(math.log(got / target)) <= SIGMA:
+            continue
+        unit = FIGURE_UNITS[key]
+        scale = 1e-3 if key == "effective_mcd" else 1.0
+        word = FIGURE_WORDS[key]
+        span = seen.get("timing_period_s" if key == "period_s" else key)
+        text = (f"The {word} wanted is {format_eng(target * scale, unit)}; the nearest "
+                f"circuit gives {format_eng(got * scale, unit)} ({got / target - 1:+.0%}).")
+        if span:
+            lo, hi = span[0] * scale, span[1] * scale
+            if target * scale > hi * 1.1:
+                text += f" Nothing searched goes above {format_eng(hi, unit)}"
+                text += _why_high(req, key)
+            elif target * scale < lo / 1.1:
+                text += f" Nothing searched goes below {format_eng(lo, unit)}"
+                text += _why_low(req, key)
+        out.append(text)
+    return out
+
+
+def _why_high(req: SolveRequest, key: str) -> str:
+    from pulsepick.units import format_eng
+
+    if key == "period_s":
+        return (f": with resistors up to {format_eng(req.r_max_ohm, 'Ω')} and capacitors up "
+                f"to {format_eng(req.c_max_f, 'F')} leakage stalls longer periods (a larger "
+                "--max-r or --cap-range, or a counter stage, would be needed).")
+    if key in ("led_peak_a", "effective_a", "effective_mcd"):
+        return (f": the LED's own resistance and the chip's output resistance at "
+                f"{req.supply_v:.2f} V limit the current (a brighter LED colour, a higher "
+                "supply or a transistor driver would be needed).")
+    if key == "flash_s":
+        return ": the flash cannot outlast its lit phase."
+    return "."
+
+
+def _why_low(req: SolveRequest, key: str) -> str:
+    if key == "period_s":
+        return ": smaller resistors or capacitors than the allowed ranges would be needed."
+    if key == "flash_s":
+        return ": the steering and flash parts cannot make it shorter within the ranges."
+    return "."
+
+
+# ============================================================================ assessment
+
+def _optional(module: str, name: str):
+    """``module.name`` when that module exists (others may add it later), else None."""
+    try:
+        mod = importlib.import_module(module)
+    except ModuleNotFoundError as err:
+        if err.name != module:
+            raise
+        return None
+    return getattr(mod, name, None)
+
+
+def _assess_one(design, target_period_s: float, builds: int, seed: int,
+                supply_end_v: float | None) -> dict[str, Any]:
+    """Reference run, spread, drift and warnings of one design (runs in a worker)."""
+    from pulsepick.errors import PulsepickError
+
+    out: dict[str, Any] = {"timings_s": {}, "warnings": []}
+    t = time.perf_counter()
+    out["reference"] = design.reference()
+    out["timings_s"]["reference"] = time.perf_counter() - t
+    spread_fn = _optional("pulsepick.analysis.spread", "spread")
+    if spread_fn is not None:
+        t = time.perf_counter()
+        supply_range = None if supply_end_v is None else (supply_end_v, design.supply_v)
+        try:
+            out["spread"] = spread_fn(design, target_period_s=target_period_s, builds=builds,
+                                      seed=seed, supply_range_v=supply_range)
+        except PulsepickError as err:
+            out["warnings"].append(f"spread analysis: {err}")
+        out["timings_s"]["spread"] = time.perf_counter() - t
+    drift_fn = _optional("pulsepick.analysis.drift", "drift")
+    if drift_fn is not None and supply_end_v is not None:
+        t = time.perf_counter()
+        try:
+            out["drift"] = drift_fn(design, design.supply_v, supply_end_v)
+        except PulsepickError as err:
+            out["warnings"].append(f"drift analysis: {err}")
+        out["timings_s"]["drift"] = time.perf_counter() - t
+    checks_fn = _optional("pulsepick.analysis.checks", "circuit_warnings")
+    if checks_fn is not None:
+        try:
+            out["warnings"].extend(checks_fn(design))
+        except PulsepickError as err:
+            out["warnings"].append(f"checks: {err}")
+    return out
+
+
+#: Expected cost of a reference run per stage, for scheduling the longest first.
+_REFERENCE_ORDER = {"fade": 0, "pulse": 1, "direct": 2}
+
+
+def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
+    """Verify every candidate with the reference engine and add spread, drift, warnings.
+
+    Parameters
+    ----------
+    result : SolveResult
+        From :func:`solve`.
+    jobs : int
+        Worker processes (1: in this process). The reference engine takes tenths of
+        a second per circuit, so two workers nearly halve the wall time on two cores.
+    """
+    req = result.request
+    cands = list(result.candidates)
+    if not cands:
+        return result
+    args = [(c.design, req.targets.period_s, req.builds, req.seed, req.supply_end_v)
+            for c in cands]
+    outputs: list[dict[str, Any] | None] = [None] * len(cands)
+    if jobs > 1 and len(cands) > 1:
+        import multiprocessing
+        from concurrent.futures import ProcessPoolExecutor
+
+        order = sorted(range(len(cands)),
+                       key=lambda i: _REFERENCE_ORDER.get(cands[i].design.topo.stage, 3))
+        ctx = multiprocessing.get_context("fork")
+        with ProcessPoolExecutor(max_workers=min(jobs, len(cands)), mp_context=ctx) as pool:
+            futures = {i: pool.submit(_assess_one, *args[i]) for i in order}
+            for i, fut in futures.items():
+                outputs[i] = fut.result()
+    else:
+        outputs = [_assess_one(*a) for a in args]
+    new = []
+    for c, out in zip(cands, outputs, strict=True):
+        assert out is not None
+        new.append(replace(
+            c, reference=out["reference"], spread=out.get("spread"), drift=out.get("drift"),
+            warnings=tuple(out["warnings"]), timings_s=out["timings_s"],
+        ))
+    return result.with_candidates(tuple(new))
+
+
+def default_jobs() -> int:
+    """Worker processes for :func:`assess`: up to two, as the machine allows."""
+    import os
+
+    return max(1, min(2, os.cpu_count() or 1))
+
+
+__all__ = [
+    "ASSUMED_PEAK_A", "Candidate", "SolveResult", "assess", "default_jobs", "n_parts", "solve",
+    "stage_cap_kind",
+]
