@@ -175,7 +175,7 @@ _PIECES: tuple[tuple[re.Pattern[str], str], ...] = (
     (re.compile(rf"(?P<n>{_NUM})\s+(?:{_FLASH_WORD}\s+)?(?:a|an|per|each|every)\s+"
                 rf"(?P<unit>{_UNIT_ALT})\b", _I), "count"),
     (re.compile(rf"every\s+(?P<q>{_QTY})", _I), "period"),
-    (re.compile(rf"every\s+(?P<unit>second|minute|hour)\b", _I), "period_unit"),
+    (re.compile(r"every\s+(?P<unit>second|minute|hour)\b", _I), "period_unit"),
     (re.compile(rf"(?:for|lasting)\s+(?P<q>{_QTY})", _I), "flash"),
     (re.compile(rf"(?P<q>{_QTY})\s+(?:long|flash|flashes|pulse|pulses)\b", _I), "flash"),
     (re.compile(rf"as\s+bright\s+as\s+(?:an?\s+)?(?:steady\s+)?(?P<q>{_QTY})(?:\s+steady)?",
@@ -195,13 +195,13 @@ def _read_quantity(text: str, kinds: tuple[str, ...]) -> tuple[str, float]:
     """Read ``text`` as the first of ``kinds`` it fits; ``(kind, SI value)``."""
     from pulsepick.units import parse_quantity
 
-    last: Exception | None = None
+    first: Exception | None = None
     for kind in kinds:
         try:
             return kind, parse_quantity(text, kind)  # type: ignore[arg-type]
         except PulsepickError as err:
-            last = err
-    raise RequestError(f"cannot read {_quote(text)}: {last}") from last
+            first = first or err
+    raise RequestError(f"cannot read {_quote(text)}: {first}") from first
 
 
 def parse_phrase(phrase: str) -> BlinkTargets:
@@ -233,13 +233,11 @@ def parse_phrase(phrase: str) -> BlinkTargets:
 
     pos, text = 0, phrase
     while pos < len(text):
-        for pattern, action in _PIECES:
-            m = pattern.match(text, pos)
-            if m and m.end() > pos:
-                break
-        else:
+        found_piece = _match_piece(text, pos)
+        if found_piece is None:
             rest = text[pos:].split(",")[0].split(";")[0].strip()
             raise RequestError(f"cannot read {_quote(rest)} in {_quote(phrase)}" + _examples())
+        m, action = found_piece
         piece = m.group(0).strip()
         try:
             _apply(action, m, piece, put)
@@ -252,6 +250,15 @@ def parse_phrase(phrase: str) -> BlinkTargets:
         raise RequestError(f"{_quote(phrase)} does not say how often to flash; add e.g. "
                            f"\"every 3 s\" or \"20 flashes a minute\"" + _examples())
     return BlinkTargets(text=phrase.strip(), **{k: v for k, (v, _) in found.items()})
+
+
+def _match_piece(text: str, pos: int) -> tuple[re.Match[str], str] | None:
+    """The first piece pattern that reads something at ``pos``."""
+    for pattern, action in _PIECES:
+        m = pattern.match(text, pos)
+        if m and m.end() > pos:
+            return m, action
+    return None
 
 
 _TARGET_WORDS = {"period_s": "period", "flash_s": "flash length", "peak_a": "peak current",

@@ -23,23 +23,25 @@ The search, per topology
 
 The score
 ---------
-Lower is better. For each aimed figure, ``w·(ln(figure/aim))²/σ²`` with
-σ = ln 1.1 (a 10 % miss, about one E24 step, costs 1), w = 1 for stated aims and
-0.2 for assumed ones. The period term adds the expected squared spread of the
-period from the parts: resistor and capacitor tolerance, the capacitor's drift
-over -20..+50 °C and its aging and DC-bias loss, the shift the guaranteed-maximum
-pin and capacitor leakage causes, and, for a supply range, the change from full
-to end of night (each taken as uniform within its bounds: variance = bound²/3).
-An electrolytic timing capacitor or a resistor near the leakage limit so ranks
-lower. Then one point per decade of energy per flash (lower is better for a
-solar build) and 0.1 per part. A circuit whose LED stays dark at the design
-supply, or that is outside its chip's supply range, costs 1000 more; one that
-stalls is dropped. The chip's own threshold spread is the same for every value
-of one family and is left to the spread analysis.
+Lower is better. For each stated aim, ``(ln(figure/aim))²/sigma²`` with sigma = ln 1.1 (a
+10 % miss, about one E24 step, costs 1). Assumed aims (a flash of 50 ms, a 5 mA
+peak, when the request does not say) cost at most 5, flattening out beyond a factor
+of about two, so they guide without pulling a stated aim off. The period term adds
+the expected squared spread of the period: resistor and capacitor tolerance, the
+capacitor's drift over -20..+50 °C and its aging and DC-bias loss, the shift the
+guaranteed-maximum pin and capacitor leakage causes at 25 °C, the chip's threshold
+limits, and, for a supply range, the change from full to end of night (each taken
+as uniform within its bounds: variance = width²/12, or bound²/3 about a centre).
+A timing network that stalls with the hot-end maximum leakage costs 3 more. An
+electrolytic timing capacitor, a resistor near the leakage limit or a chip with
+wide thresholds so ranks lower. Then one point per decade of energy per flash
+(lower is better for a solar build) and 0.1 per part. A circuit whose LED stays
+dark at the design supply, or that is outside its chip's supply range, costs 1000
+more; one that stalls is dropped.
 
-The best circuit of each different topology (core, stage, buffered) is offered,
-so the list is not five near-copies, and each is verified with the reference
-engine (see :func:`assess`).
+The best circuit of each different topology (core and stage) is offered, so the
+list is not five near-copies, and each is verified with the reference engine (see
+:func:`assess`).
 """
 
 from __future__ import annotations
@@ -57,8 +59,12 @@ from pulsepick.request import ASSUMED_PEAK_A, SolveRequest
 
 #: Width of one error unit: ln 1.1, a 10 % miss (about one E24 step, facts.md S22).
 SIGMA = math.log(1.1)
-#: Weight of an assumed (not stated) aim. Design choice.
-ASSUMED_WEIGHT = 0.2
+#: An assumed (not stated) aim costs at most this much, and half of it at a miss of
+#: about a factor 1.8 (width ln 2): it guides where nothing was asked but never pulls a
+#: stated aim off (a circuit whose flash is tied to its period keeps the period asked).
+#: Design choice.
+ASSUMED_MAX_COST = 5.0
+ASSUMED_WIDTH = math.log(2.0)
 #: Cost per decade of energy per flash. Design choice (a solar build lives on it).
 ENERGY_WEIGHT = 1.0
 #: Reference energy per flash for the energy term, J (only shifts every score alike).
@@ -95,6 +101,9 @@ STAGE_DROP_V = 0.3
 LN2 = math.log(2.0)
 #: Stage resistors run from this value up to --max-r, ohm (a few ohms: common practice).
 STAGE_R_MIN_OHM = 1.0
+#: The stage resistor search reaches at least up to this value, ohm (design choice:
+#: the first estimate can come out near zero when the driver's resistance is guessed high).
+STAGE_R_SPAN_MIN_OHM = 100.0
 #: Flash and hold capacitors of at least this value are electrolytic, smaller ones X7R
 #: ceramic (common practice for coupling and reservoir parts).
 STAGE_ELECTROLYTIC_FROM_F = 1e-6
@@ -267,8 +276,17 @@ def _log_err(x, target) -> np.ndarray:
     return np.clip(np.where(np.isfinite(e), e, BIG_LOG), -BIG_LOG, BIG_LOG)
 
 
-def _weights(aims: dict[str, tuple[float, bool]]) -> dict[str, float]:
-    return {k: (1.0 if stated else ASSUMED_WEIGHT) for k, (_, stated) in aims.items()}
+def _weights(aims: dict[str, tuple[float, bool]]) -> dict[str, bool]:
+    """Which aims were stated (True) or assumed (False)."""
+    return {k: stated for k, (_, stated) in aims.items()}
+
+
+def _aim_cost(stated: bool, e) -> np.ndarray:
+    """Cost of a log error ``e`` to an aim: quadratic if stated, saturating if assumed."""
+    e = np.asarray(e, dtype=float)
+    if stated:
+        return e**2 / SIGMA**2
+    return ASSUMED_MAX_COST * (1.0 - np.exp(-(e / ASSUMED_WIDTH) ** 2))
 
 
 def _cost(fig, aims, weights, var, n_parts: int, v: float, leak_penalty=0.0
@@ -276,8 +294,8 @@ def _cost(fig, aims, weights, var, n_parts: int, v: float, leak_penalty=0.0
     """Vectorised score of evaluated circuits; returns (cost, parts of the cost)."""
     fit = 0.0
     for key, (target, _) in aims.items():
-        fit = fit + weights[key] * _log_err(getattr(fig, key), target) ** 2 / SIGMA**2
-    spread = weights["period_s"] * np.asarray(var) / SIGMA**2
+        fit = fit + _aim_cost(weights[key], _log_err(getattr(fig, key), target))
+    spread = np.asarray(var) / SIGMA**2
     with np.errstate(all="ignore"):
         energy_j = np.asarray(fig.supply_avg_a) * np.asarray(fig.period_s) * v
         energy = ENERGY_WEIGHT * np.log10(np.maximum(energy_j, 1e-18) / ENERGY_REF_J)
@@ -455,12 +473,11 @@ class _Searcher:
             var = var + (slope * width) ** 2 / 12.0
         penalty = np.where(st3 == RUNS, 0.0, PENALTY_HOT_LEAK)
         t = self.req.targets
-        cost = self.weights["period_s"] * (_log_err(period, t.period_s) ** 2 + var) / SIGMA**2
+        cost = (_log_err(period, t.period_s) ** 2 + var) / SIGMA**2
         cost = cost + penalty
         if short_of is not None:
             short = short_of(th, tl)
-            cost = cost + self.weights["flash_s"] * _log_err(short, self.short_target) ** 2 \
-                / SIGMA**2
+            cost = cost + _aim_cost(self.weights["flash_s"], _log_err(short, self.short_target))
         cost = np.where(running, cost, np.inf)
         return cost, var, g_typ, penalty
 
@@ -529,21 +546,24 @@ class _Searcher:
             eff = aims["effective_mcd"][0] / self.req.led.mcd_per_a
         return eff * (EFFECTIVE_A_S + flash) / flash
 
-    def _stage_grid(self, stage: str, env) -> dict[str, np.ndarray]:
+    def _stage_grid(self, topo: Topology, env) -> dict[str, np.ndarray]:
         """Stage values around a first estimate from the aims (one pass, coarse for caps).
 
-        The estimate is only a centre: resistors span a decade either side and
-        capacitors one and a half, so the evaluation, not the estimate, decides.
+        The estimate is only a centre: resistors span a decade either side (and at
+        least up to 100 ohm) and capacitors one and a half decades, so the
+        evaluation, not the estimate, decides.
         """
         from pulsepick.circuits.decay import n_vt
 
+        stage = topo.stage
         sp, led, v = self.space, self.req.led, self.v
         peak = self._peak_aim()
-        rout = float(np.asarray(env.rout_high, dtype=float).reshape(-1)[0])
+        side = env.rout_low if (stage == "direct" and topo.lit == "low") else env.rout_high
+        rout = float(np.asarray(side, dtype=float).reshape(-1)[0])
         drop = STAGE_DROP_V if stage != "direct" else 0.0
         rs_est = (v - float(led.voltage(peak)) - drop) / peak - rout
         rs_est = min(max(rs_est, STAGE_R_MIN_OHM), self.req.r_max_ohm)
-        rs = _around(sp.r_stage, rs_est, 10.0)
+        rs = _around(sp.r_stage, rs_est, 10.0, floor_hi=STAGE_R_SPAN_MIN_OHM)
         if stage == "direct":
             return {"rs": rs}
         rs = _thin(rs, COARSE_PER_DECADE[stage])
@@ -582,12 +602,12 @@ class _Searcher:
         """Search one topology's stage values over the kept timing networks."""
         sname = topo.stage
         npart = n_parts(topo, {})
-        grid = self._stage_grid(sname, env)
+        grid = self._stage_grid(topo, env)
         size = grid["rs"].size
         if size == 0 or tim.cost.size == 0:
             return []
         # step 1: the stage grid at the best timing network
-        f, cost, _ = self._eval_cost(topo, tim, np.zeros(size, dtype=int), grid, env, npart)
+        _f, cost, _ = self._eval_cost(topo, tim, np.zeros(size, dtype=int), grid, env, npart)
         order = [i for i in np.argsort(cost, kind="stable")[:K_COARSE[sname]]
                  if np.isfinite(cost[i])]
         if not order:
@@ -627,7 +647,7 @@ class _Searcher:
             with np.errstate(all="ignore"):
                 drift = np.log(f_end.period_s / f_nom.period_s)
             ok = (f_end.status == RUNS) & np.isfinite(drift)
-            night = np.where(ok, self.weights["period_s"] * drift**2 / 3.0 / SIGMA**2,
+            night = np.where(ok, drift**2 / 3.0 / SIGMA**2,
                              PENALTY_END)
             cost = cost + night
         running = f_nom.status == RUNS
@@ -688,11 +708,13 @@ def _slice_figures(f, sl: slice):
     return Figures(**{k: cut(getattr(f, k)) for k in Figures.KEYS}, status=cut(f.status))
 
 
-def _around(values: np.ndarray, centre: float, factor: float) -> np.ndarray:
-    """Values within ``factor`` of ``centre`` (by ratio); the nearest few when none are."""
+def _around(values: np.ndarray, centre: float, factor: float,
+            floor_hi: float = 0.0) -> np.ndarray:
+    """Values within ``factor`` of ``centre`` (by ratio, the upper end at least
+    ``floor_hi``); the nearest few when none are."""
     if values.size == 0:
         return values
-    sel = values[(values >= centre / factor) & (values <= centre * factor)]
+    sel = values[(values >= centre / factor) & (values <= max(centre * factor, floor_hi))]
     if sel.size:
         return sel
     order = np.argsort(np.abs(np.log(values / centre)))

@@ -36,9 +36,21 @@ _PHRASE_HELP = (
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     """Options of ``pulsepick solve``."""
     from pulsepick.request import (
-        CORE_CHOICES, DEFAULT_BUILDS, DEFAULT_C_SERIES, DEFAULT_CAP_RANGE, DEFAULT_FAMILY,
-        DEFAULT_LED, DEFAULT_R_RANGE, DEFAULT_R_SERIES, DEFAULT_SEED, DEFAULT_SUPPLY,
-        DEFAULT_TIMING_CAP, DEFAULT_TOP, FAMILY_CHOICES, STAGE_CHOICES, TIMING_CAP_CHOICES,
+        CORE_CHOICES,
+        DEFAULT_BUILDS,
+        DEFAULT_C_SERIES,
+        DEFAULT_CAP_RANGE,
+        DEFAULT_FAMILY,
+        DEFAULT_LED,
+        DEFAULT_R_RANGE,
+        DEFAULT_R_SERIES,
+        DEFAULT_SEED,
+        DEFAULT_SUPPLY,
+        DEFAULT_TIMING_CAP,
+        DEFAULT_TOP,
+        FAMILY_CHOICES,
+        STAGE_CHOICES,
+        TIMING_CAP_CHOICES,
     )
 
     parser.add_argument("phrase", nargs="?", metavar="PHRASE", help=_PHRASE_HELP)
@@ -370,7 +382,7 @@ def _render_candidate(console, req, c) -> None:
     d = c.design
     console.print(f"[bold]#{c.rank}  {d.topo.label()}[/bold] on {d.chip.family}, "
                   f"{d.supply_v:g} V", highlight=False)
-    rows = [[p.ref, p.display if p.value is not None else p.display, p.code, p.series,
+    rows = [[p.ref, p.display, p.code, p.series,
              p.tolerance, p.dielectric or "-", p.rating or "-", p.role] for p in c.parts]
     console.print(simple_table(None, ["ref", "value", "code", "series", "tol", "kind",
                                       "rating", "role"], rows))
