@@ -14,9 +14,10 @@ varies from its nominal figures:
     mean of every input, combined in quadrature with each input's standard deviation.
     It shares no random numbers with the Monte Carlo and serves as its check.
 
-Distributions (all bounds come from tables; where no distribution is published a value
-known only by its limits is taken as uniform between them, common practice for bounds
-with no stated distribution):
+Distributions (all bounds come from tables; no source publishes a distribution, so
+common practice is followed: a value known only by its limits is uniform between them,
+and one given as min/typ/max is triangular with its mode at the typical value, so the
+Monte Carlo's median stays near the figures a designer computes from typical values):
 
 * resistors: uniform within the tolerance of their series (E12 10 %, E24 5 %, E96 1 %;
   facts.md S22, S26); each resistor drawn on its own;
@@ -28,12 +29,12 @@ with no stated distribution):
   their typical curve (the guaranteed band is used by the corners). Resistors get a
   tempco drawn per part within +/-``RESISTOR_TEMPCO_PPM_PER_K`` (estimate);
 * chip thresholds: ONE draw per build for the whole package (gates of one package move
-  together). VT+ and VT- are uniform within the datasheet limits at the build's supply,
-  restricted to the hysteresis window VH min..max (practice.md item 2: limits taken
-  independently would overstate the spread). The limits in our tables hold over the
-  datasheet's temperature range, so the thresholds' own temperature drift is inside
-  this draw. For the CMOS 555 the threshold and trigger ratios are uniform within
-  their limits;
+  together). VT+ and VT- are each triangular (min, typ, max) from the datasheet at the
+  build's supply, restricted to the hysteresis window VH min..max (practice.md item 2:
+  limits taken independently would overstate the spread). The limits in our tables hold
+  over the datasheet's temperature range, so the thresholds' own temperature drift is
+  inside this draw. For the CMOS 555 the threshold and trigger ratios are triangular
+  (min, typ, max) and independent;
 * output resistance: one draw per package, uniform between typical and maximum (the
   same fraction for the high and low side);
 * supply: uniform over ``supply_range_v`` if given, else the nominal supply.
@@ -110,6 +111,7 @@ _SUPPLY_SAMPLES = 5  # evenly spaced corner supplies across a supply range
 SHARE_BUILDS = 500
 _EPS_V = 1e-12  # V, slack on the hysteresis test (a measured chip pins VH exactly)
 _MAX_REJECTION_ROUNDS = 200
+_MOMENT_GRID = 400  # quadrature points per side for the chip draw's moments
 
 
 # ----------------------------------------------------------------------------- inputs
@@ -354,34 +356,6 @@ def _polygon_corner_points(pts: np.ndarray, vdd: float, h_lo: float, h_hi: float
     return np.concatenate(out)
 
 
-def _polygon_moments(pts: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Mean (2,) and covariance (2, 2) of a uniform distribution over a convex polygon.
-
-    Exact shoelace moments; a polygon collapsed to a segment or a point (a measured
-    chip) gives the uniform distribution along the segment, or no spread.
-    """
-    if len(pts) == 1:
-        return pts[0].copy(), np.zeros((2, 2))
-    x, y = pts[:, 0], pts[:, 1]
-    x1, y1 = np.roll(x, -1), np.roll(y, -1)
-    cr = x * y1 - x1 * y
-    area = 0.5 * cr.sum()
-    span = float(np.max(np.ptp(pts, axis=0)))
-    if abs(area) <= 1e-12 * max(span, 1e-30) ** 2:
-        d = pts[:, None, :] - pts[None, :, :]
-        i, j = np.unravel_index(np.argmax((d**2).sum(-1)), d.shape[:2])
-        a, b = pts[i], pts[j]
-        seg = b - a
-        return 0.5 * (a + b), np.outer(seg, seg) / 12.0
-    cx = ((x + x1) * cr).sum() / (6 * area)
-    cy = ((y + y1) * cr).sum() / (6 * area)
-    exx = ((x * x + x * x1 + x1 * x1) * cr).sum() / (12 * area)
-    eyy = ((y * y + y * y1 + y1 * y1) * cr).sum() / (12 * area)
-    exy = ((x * y1 + 2 * x * y + 2 * x1 * y1 + x1 * y) * cr).sum() / (24 * area)
-    cov = np.array([[exx - cx * cx, exy - cx * cy], [exy - cx * cy, eyy - cy * cy]])
-    return np.array([cx, cy]), cov
-
-
 def _to_fraction(v, lo, hi):
     width = hi - lo
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -473,16 +447,45 @@ def _temperature_factors(design: Design, tols, temp_c, rng) -> dict[str, np.ndar
     return out
 
 
+def _modes(lim: _ChipLimits) -> tuple[np.ndarray, np.ndarray]:
+    """Typical VT+ and VT- as fractions of their limits (the triangular modes)."""
+    return (_to_fraction(lim.p_typ, lim.p_lo, lim.p_hi),
+            _to_fraction(lim.m_typ, lim.m_lo, lim.m_hi))
+
+
+def _triangular(u: np.ndarray, mode: np.ndarray) -> np.ndarray:
+    """Inverse CDF of the triangular distribution on [0, 1] with ``mode`` (arrays)."""
+    with np.errstate(invalid="ignore", divide="ignore"):
+        left = np.sqrt(u * mode)
+        right = 1.0 - np.sqrt((1.0 - u) * (1.0 - mode))
+    return np.where(u < mode, left, right)
+
+
+def _triangular_pdf(x: np.ndarray, mode: float) -> np.ndarray:
+    """Density of the triangular distribution on [0, 1] with ``mode`` at ``x``."""
+    with np.errstate(invalid="ignore", divide="ignore"):
+        up = np.where(mode > 0, 2.0 * x / mode, 0.0)
+        down = np.where(mode < 1, 2.0 * (1.0 - x) / (1.0 - mode), 0.0)
+    return np.where(x < mode, up, down)
+
+
 def _draw_chip(design: Design, vdd: np.ndarray, rng) -> tuple[np.ndarray, np.ndarray]:
-    """VT+ and VT- fractions, uniform over the hysteresis-limited region at each supply."""
+    """VT+ and VT- as fractions of their limits at each build's supply.
+
+    Each is triangular between its datasheet minimum and maximum with the mode at the
+    typical value; pairs outside the hysteresis window are drawn again (rejection), so
+    the result is that product density restricted to the window.
+    """
     n = vdd.size
     lim = _chip_limits(design, vdd)
+    mode_a, mode_b = _modes(lim)
     a, b = np.empty(n), np.empty(n)
     todo = np.arange(n)
     for _ in range(_MAX_REJECTION_ROUNDS):
         if todo.size == 0:
             return a, b
-        ua, ub = rng.random(todo.size), rng.random(todo.size)
+        ua = _triangular(rng.random(todo.size), mode_a[todo])
+        ub = _triangular(rng.random(todo.size), mode_b[todo])
         p = lim.p_lo[todo] + ua * (lim.p_hi[todo] - lim.p_lo[todo])
         m = lim.m_lo[todo] + ub * (lim.m_hi[todo] - lim.m_lo[todo])
         h = p - m
@@ -495,6 +498,39 @@ def _draw_chip(design: Design, vdd: np.ndarray, rng) -> tuple[np.ndarray, np.nda
             "threshold limits; check the threshold table or the measured values"
         )
     return a, b
+
+
+def _chip_moments(lim: _ChipLimits) -> tuple[np.ndarray, np.ndarray]:
+    """Mean (2,) and covariance (2, 2) of the chip draw, as fractions, by quadrature.
+
+    The density of :func:`_draw_chip` (triangular x triangular inside the hysteresis
+    window) integrated with the midpoint rule on a 400 x 400 grid; a side with no
+    spread is a single point.
+    """
+    p_lo, p_hi, m_lo, m_hi, h_lo, h_hi = _scalar_limits(lim)
+    mode_a, mode_b = (float(np.asarray(x).reshape(-1)[0]) for x in _modes(lim))
+    n = _MOMENT_GRID
+
+    def axis(width, mode):
+        if width <= 0:
+            return np.zeros(1), np.ones(1)
+        x = (np.arange(n) + 0.5) / n
+        return x, _triangular_pdf(x, mode)
+
+    xa, wa = axis(p_hi - p_lo, mode_a)
+    xb, wb = axis(m_hi - m_lo, mode_b)
+    A, B = np.meshgrid(xa, xb, indexing="ij")
+    h = (p_lo + A * (p_hi - p_lo)) - (m_lo + B * (m_hi - m_lo))
+    w = np.outer(wa, wb) * ((h >= h_lo - _EPS_V) & (h <= h_hi + _EPS_V))
+    total = w.sum()
+    if not total > 0:
+        raise PartError("the hysteresis limits leave no room inside the threshold limits")
+    w = w / total
+    mean = np.array([(w * A).sum(), (w * B).sum()])
+    da, db = A - mean[0], B - mean[1]
+    cov = np.array([[(w * da * da).sum(), (w * da * db).sum()],
+                    [(w * da * db).sum(), (w * db * db).sum()]])
+    return mean, cov
 
 
 @dataclass
@@ -897,9 +933,9 @@ def linearised(design: Design, *, temp_range_c: tuple[float, float] = DEFAULT_TE
     every input, with a step of ``rel_step`` times each input's standard deviation;
     all of them come from one vectorised engine call. Input standard deviations: a
     uniform interval of width w has w/sqrt(12); a tempco drawn within +/-a (ppm/K)
-    contributes a/sqrt(3) * sqrt(E[(T - 25 C)^2]); the chip's thresholds have the exact
-    mean and covariance of the uniform distribution over the hysteresis-limited
-    region (at the mean supply). ``vary`` restricts the sources as in :func:`spread`.
+    contributes a/sqrt(3) * sqrt(E[(T - 25 C)^2]); the chip's thresholds take the mean and
+    covariance of their draw (triangular x triangular inside the hysteresis window) by
+    quadrature, at the mean supply. ``vary`` restricts the sources as in :func:`spread`.
     """
     vary_set = _vary_set(vary)
     temp_range = _check_range(temp_range_c, "temperature range", "C", positive=False)
@@ -934,12 +970,9 @@ def linearised(design: Design, *, temp_range_c: tuple[float, float] = DEFAULT_TE
     rout_sd = 1 / math.sqrt(12) if _has_rout_spread(design) else 0.0
     var.append(("rout", "output_resistance", 0.5 if rout_sd else 0.0, rout_sd))
     lim = _chip_limits(design, v_mean)
-    p_lo, p_hi, m_lo, m_hi, h_lo, h_hi = _scalar_limits(lim)
-    mean_pm, cov_pm = _polygon_moments(threshold_polygon(p_lo, p_hi, m_lo, m_hi, h_lo, h_hi))
+    p_lo, p_hi, m_lo, m_hi, _, _ = _scalar_limits(lim)
     widths = np.array([p_hi - p_lo, m_hi - m_lo])
-    scale = np.where(widths > 0, widths, 1.0)
-    mean_ab = np.where(widths > 0, (mean_pm - [p_lo, m_lo]) / scale, 0.0)
-    cov_ab = cov_pm / np.outer(scale, scale)
+    mean_ab, cov_ab = _chip_moments(lim)
     sd_ab = np.sqrt(np.clip(np.diag(cov_ab), 0.0, None))
     var.append(("chip_a", "chip_thresholds", float(mean_ab[0]), float(sd_ab[0])))
     var.append(("chip_b", "chip_thresholds", float(mean_ab[1]), float(sd_ab[1])))
@@ -1005,3 +1038,132 @@ def linearised(design: Design, *, temp_range_c: tuple[float, float] = DEFAULT_TE
     return LinearisedResult(design=design, temp_range_c=temp_range, supply_range_v=supply_range,
                             tolerances=tols, centre=centre, sigma=sigma,
                             sigma_by_source=by_source, shares=shares)
+
+
+# ----------------------------------------------------------------------- tolerance bands
+
+#: Resistor series compared by :func:`tolerance_bands` (tolerances from the series table:
+#: E12 10 %, E24 5 %, E96 1 %, facts.md S26).
+BAND_SERIES = ("E12", "E24", "E96")
+#: Timing-capacitor classes compared: (kind key, tolerance %). 20 % electrolytic
+#: (practice.md item 7), 10 % X7R (K), 5 % film (J) and 2 % C0G (G): tolerance letters of
+#: IEC 60062 (facts.md S28); the pairing of kind and tolerance is common practice.
+#: "film" takes the design's own film kind, or polyester when C1 is not film.
+BAND_CAP_CLASSES = (("electrolytic", 20.0), ("x7r", 10.0), ("film", 5.0), ("c0g", 2.0))
+
+
+@dataclass(frozen=True)
+class BandCell:
+    """The period spread with one resistor series and one timing-capacitor class."""
+
+    resistor_series: str  # E-series name
+    resistor_tol_pct: float  # %, its tolerance
+    cap_class: str  # "electrolytic", "x7r", "film" or "c0g"
+    cap_kind: str  # capacitor kind key used for C1
+    cap_tol_pct: float  # %, C1 tolerance
+    period_p5_s: float  # s
+    period_p50_s: float  # s
+    period_p95_s: float  # s
+    width_pct: float  # %, (P95 - P5) / P50
+    yield_fraction: float  # builds lit within the yield band of the target
+    stall_fraction: float  # builds that stall
+    cap_value_usual: bool  # C1's value is inside the usual range of that kind
+
+    def as_dict(self) -> dict[str, Any]:
+        return dict(self.__dict__)
+
+
+@dataclass(frozen=True, eq=False)
+class BandsResult:
+    """Period spread over resistor series x timing-capacitor classes, for one design.
+
+    ``current`` is the full spread (shares and corners) of the design as specified;
+    ``ideal_parts`` the spread with exact resistors and capacitors (what the chip,
+    temperature and supply leave).
+    """
+
+    design: Design
+    builds: int
+    seed: int
+    target_period_s: float  # s
+    yield_band: float
+    temp_range_c: tuple[float, float]  # C
+    supply_range_v: tuple[float, float] | None  # V
+    cells: tuple[BandCell, ...]
+    current: SpreadResult
+    ideal_parts: SpreadResult
+
+    def cell(self, series: str, cap_class: str) -> BandCell:
+        for c in self.cells:
+            if c.resistor_series == series and c.cap_class == cap_class:
+                return c
+        raise RequestError(f"no band cell for {series} with {cap_class}; accepted: "
+                           f"{', '.join(BAND_SERIES)} with "
+                           f"{', '.join(k for k, _ in BAND_CAP_CLASSES)}")
+
+    def dominant_source(self) -> str:
+        """The source with the largest share of the current design's period variance."""
+        return max(self.current.shares, key=lambda s: self.current.shares[s])
+
+    def as_dict(self) -> dict[str, Any]:
+        return {
+            "builds": self.builds,
+            "seed": self.seed,
+            "target_period_s": self.target_period_s,
+            "yield_band": self.yield_band,
+            "temp_range_c": list(self.temp_range_c),
+            "supply_range_v": None if self.supply_range_v is None else list(self.supply_range_v),
+            "cells": [c.as_dict() for c in self.cells],
+            "current": self.current.as_dict(),
+            "ideal_parts": {"period_width_pct": self.ideal_parts.width_pct(),
+                            "yield": self.ideal_parts.yield_fraction,
+                            "quantiles": self.ideal_parts.as_dict()["quantiles"]["period_s"]},
+            "dominant_source": self.dominant_source(),
+        }
+
+
+def _film_kind(design: Design) -> str:
+    own = design.parts.timing_cap
+    return own if own.startswith("film") else "film-pet"
+
+
+def tolerance_bands(design: Design, *, builds: int = DEFAULT_BUILDS, seed: int = 0,
+                    target_period_s: float | None = None,
+                    temp_range_c: tuple[float, float] = DEFAULT_TEMP_RANGE_C,
+                    supply_range_v: tuple[float, float] | None = None,
+                    yield_band: float = DEFAULT_YIELD_BAND) -> BandsResult:
+    """The period spread of ``design`` for every resistor series x timing-capacitor class.
+
+    Each cell keeps the design's nominal values and changes only the resistors'
+    tolerance (all resistors) and the timing capacitor C1's kind and tolerance (other
+    capacitors keep theirs). Every cell uses the same seed, so the cells differ by the
+    parts, not by sampling noise.
+    """
+    common = {"builds": builds, "seed": seed, "temp_range_c": temp_range_c,
+              "supply_range_v": supply_range_v, "yield_band": yield_band}
+    current = spread(design, target_period_s=target_period_s, **common)
+    target = current.target_period_s
+    ideal = spread(design, target_period_s=target, shares=False, corners=False,
+                   vary=[s for s in SOURCES if s not in ("resistors", "capacitors")], **common)
+    c1 = float(design.values["c1"])
+    cells = []
+    for cls, cap_pct in BAND_CAP_CLASSES:
+        kind_key = _film_kind(design) if cls == "film" else cls
+        kind = get_cap_kind(kind_key)
+        variant = replace(design, parts=replace(design.parts, timing_cap=kind_key))
+        for series in BAND_SERIES:
+            r_pct = get_series(series).tolerance_pct
+            res = spread(variant, target_period_s=target, resistor_tol_pct=r_pct,
+                         cap_tol={"c1": cap_pct}, shares=False, corners=False, **common)
+            p5, p50, p95 = res.quantiles["period_s"]
+            cells.append(BandCell(
+                resistor_series=series, resistor_tol_pct=r_pct, cap_class=cls,
+                cap_kind=kind_key, cap_tol_pct=cap_pct, period_p5_s=p5, period_p50_s=p50,
+                period_p95_s=p95, width_pct=res.width_pct(), yield_fraction=res.yield_fraction,
+                stall_fraction=res.stall_fraction,
+                cap_value_usual=bool(kind.c_min_f <= c1 <= kind.c_max_f),
+            ))
+    return BandsResult(design=design, builds=builds, seed=seed, target_period_s=target,
+                       yield_band=float(yield_band), temp_range_c=current.temp_range_c,
+                       supply_range_v=current.supply_range_v, cells=tuple(cells),
+                       current=current, ideal_parts=ideal)
