@@ -201,7 +201,8 @@ def render(console, result: BandsResult) -> None:
               f"supply {result.supply_range_v[1]:g} V down to {result.supply_range_v[0]:g} V")
     lo, hi = result.temp_range_c
     print_wrapped(console, f"{supply}; ambient {lo:g}..{hi:g} °C; {result.builds:,} builds per "
-                  f"cell, seed {result.seed}; yield = builds lit within "
+                  f"cell, seed {result.seed}")
+    print_wrapped(console, f"yield: the share of builds that light up within "
                   f"±{result.yield_band * 100:g} % of {format_eng(result.target_period_s, 's')}")
     console.print()
 
