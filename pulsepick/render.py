@@ -62,3 +62,14 @@ def simple_table(title: str | None, columns: list[str], rows: list[list[str]],
     for row in rows:
         table.add_row(*row)
     return table
+
+
+def print_wrapped(console: Console, text: str, indent: str = "  ", hang: str = "    ") -> None:
+    """Print a paragraph wrapped to the console width with a hanging indent."""
+    import textwrap
+
+    width = max(40, (console.width or REPORT_WIDTH) - 1)
+    lines = textwrap.wrap(text, width=width, initial_indent=indent, subsequent_indent=hang,
+                          break_long_words=False, break_on_hyphens=False)
+    for line in lines or [indent]:
+        console.print(line, markup=False, highlight=False)

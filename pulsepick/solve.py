@@ -844,6 +844,7 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
     from pulsepick.engine.environment import PartChoice, chip_model
 
     t_start = time.perf_counter()
+    _TIMING_CACHE.clear()  # each search counts and times its own sweeps
     explanations, nothing = _prechecks(req)
     tasks = []
     unpowered = []

@@ -101,7 +101,8 @@ class Load:
     i_ss: Any = 0.0  # A, steady current drawn out of the driver node (negative: pushed in)
     r_dyn: Any = np.inf  # ohm, incremental resistance of the stage at that current
     q_imp: Any = 0.0  # C, extra charge drawn out at the start of the phase
-    s_imp: Any = 0.0  # s, charge-weighted mean delay of that impulse after the edge
+    s_imp: Any = 0.0  # s, decay time constant of that impulse current
+    t_imp: Any = np.inf  # s, length of the phase that truncates the impulse
 
 
 @dataclass(frozen=True)
@@ -112,7 +113,8 @@ class Drive:
     r_th: Any  # ohm, source resistance
     r_out: Any  # ohm, gate output resistance carrying the impulse
     q_imp: Any = 0.0  # C, impulse charge drawn from the node at the phase start
-    s_imp: Any = 0.0  # s, delay of the impulse centroid
+    s_imp: Any = 0.0  # s, decay time constant of the impulse current
+    t_imp: Any = np.inf  # s, length of the phase that truncates it
 
 
 @dataclass(frozen=True)
@@ -124,6 +126,8 @@ class PhaseTimes:
     status: Any  # int array of RUNS / STALLS
     q_supply: Any  # C per period drawn from the supply by the timing network
     q_cross: Any  # C per period of crossing current (chip input between the rails)
+    i0_high: Any = 0.0  # A drawn from the output by the timing network as the high phase starts
+    i0_low: Any = 0.0  # A drawn from the output as the low phase starts (negative: pushed in)
 
 
 @dataclass(frozen=True)
@@ -176,6 +180,16 @@ class DriverView:
     v_low: Any  # V when driving low
     r_low: Any  # ohm
     vdd: Any  # V, supply (sink-type stages return to it)
+    i_core_high: tuple = (0.0, 0.0)  # A, timing network's draw (at the edge, mean) while high
+    i_core_low: tuple = (0.0, 0.0)  # A, the same while low (negative: pushed into the node)
+
+    def high_level(self, at_edge: bool = False):
+        """Open-circuit high level seen by the stage, after the timing network's draw."""
+        return self.v_high - self.r_high * self.i_core_high[0 if at_edge else 1]
+
+    def low_level(self, at_edge: bool = False):
+        """Low level seen by the stage, lifted by current the timing network pushes in."""
+        return self.v_low - self.r_low * self.i_core_low[0 if at_edge else 1]
 
 
 _CORES: dict[str, Any] = {}

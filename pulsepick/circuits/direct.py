@@ -32,10 +32,10 @@ class DirectStage:
     def fast(self, v, env: Env, topo: Topology, drv: DriverView, t_on, t_off, state):
         rs = v["rs"]
         if topo.lit == "high":
-            i = env.led.current(drv.v_high, r_ext=drv.r_high + rs)
+            i = env.led.current(drv.high_level(), r_ext=drv.r_high + rs)
             t_lit = t_on
         else:
-            i = env.led.current(drv.vdd - drv.v_low, r_ext=drv.r_low + rs)
+            i = env.led.current(drv.vdd - drv.low_level(), r_ext=drv.r_low + rs)
             t_lit = t_off
         i = np.maximum(i, 0.0)
         t_lit_f = np.where(np.isfinite(t_lit), t_lit, 0.0)

@@ -23,7 +23,7 @@ from pulsepick.circuits.direct import led_dynamic_resistance
 
 #: Node set in y for the rise: dense where the LED is coming on, sparse on the tail.
 _Y_NODES = np.concatenate([np.linspace(0.0, 8.0, 49)[:-1], np.linspace(8.0, 40.0, 17)])
-_INNER_PASSES = 3
+_BISECTIONS = 24
 
 
 def _steady_hold(env: Env, v_src, r_in):
@@ -84,21 +84,40 @@ class FadeStage:
         t_on_f = np.where(np.isfinite(t_on), t_on, 1e9)
         t_off_f = np.where(np.isfinite(t_off), t_off, 1e9)
         if state is None:
-            grid = _rise_grid(env, drv.v_high - drv.v_low, drv.r_high + rs, rs, ch)
+            grid = _rise_grid(env, drv.high_level() - drv.v_low, drv.r_high + rs, rs, ch)
             v_start = np.zeros_like(grid["v_star"])
         else:
             v_start, grid = state
         v_star, i_star = grid["v_star"], grid["i_star"]
         t_cum, vh, q_cum, i_rise = grid["t"], grid["vh"], grid["q_led"], grid["i_led"]
-        for _ in range(_INNER_PASSES):
-            t_start = _interp_rows(v_start, vh, t_cum, None)
+        def one_period(v0):
+            """Hold voltage after one period started at ``v0``, with the rise's figures."""
+            t_start = _interp_rows(v0, vh, t_cum, None)
             t_stop = t_start + t_on_f
             v_end = _interp_rows(t_stop, t_cum, vh, v_star)
-            q_led_on = _q_at(t_stop, grid) - _q_at(t_start, grid)
+            q_on = _q_at(t_stop, grid) - _q_at(t_start, grid)
             i_pk = np.maximum(led.current(v_end), 1e-30)
             # fade: CH feeds the LED alone
             i_off = decay_end_current(led.junction, led.junction.r_s, ch, i_pk, t_off_f)
-            v_start = np.minimum(led.voltage(i_off), v_end)
+            return np.minimum(led.voltage(i_off), v_end), t_start, v_end, q_on, i_pk
+
+        # periodic steady state: the map v0 -> v1 is increasing and contracting, so the
+        # fixed point lies where one_period(v) - v changes sign (bisection on [0, V*])
+        lo = np.zeros_like(v_star)
+        hi = v_star.copy()
+        if state is not None:  # a previous pass's answer narrows the bracket
+            lo = np.clip(v_start - 0.05, 0.0, v_star)
+            hi = np.clip(v_start + 0.05, 0.0, v_star)
+            up = one_period(lo)[0] >= lo
+            dn = one_period(hi)[0] <= hi
+            lo = np.where(up, lo, 0.0)
+            hi = np.where(dn, hi, v_star)
+        for _ in range(_BISECTIONS):
+            mid = 0.5 * (lo + hi)
+            grows = one_period(mid)[0] > mid
+            lo = np.where(grows, mid, lo)
+            hi = np.where(grows, hi, mid)
+        v_start, t_start, v_end, q_led_on, i_pk = one_period(0.5 * (lo + hi))
         q_led_off = ch * (v_end - v_start)
         q_in = q_led_off + q_led_on
         q_led = q_led_off + q_led_on
@@ -112,7 +131,7 @@ class FadeStage:
                                    t_off_f)
             t_above.append(rise_part + fade_part)
         on = Load(i_ss=i_star, r_dyn=grid["r_dyn"], q_imp=q_in - i_star * t_on_f,
-                  s_imp=np.minimum(grid["tau_rise"], 0.5 * t_on_f))
+                  s_imp=grid["tau_rise"], t_imp=t_on_f)
         return StageFigures(i_pk, t_above[0], t_above[1], q_led, q_in, on, Load(),
                             state=(v_start, grid))
 

@@ -44,7 +44,7 @@ class PulseStage:
         r_reset = drv.r_low
         t_on_f = np.where(np.isfinite(t_on), t_on, 1e9)
         t_off_f = np.where(np.isfinite(t_off), t_off, 1e9)
-        swing = drv.v_high - drv.v_low
+        swing = drv.high_level(at_edge=True) - drv.low_level(at_edge=True)
         residual = _RESIDUAL_GUESS_V if state is None else state
         for _ in range(_INNER_PASSES):
             across = np.maximum(swing - residual, 0.0)
@@ -61,13 +61,12 @@ class PulseStage:
         t10 = np.minimum(decay_time(led.junction, r_t, cp, i_pk, 0.1 * i_pk), t_on_f)
         t50 = np.where(i_end >= 0.5 * i_pk, t_on_f, t50)
         t10 = np.where(i_end >= 0.1 * i_pk, t_on_f, t10)
-        # centroid of an exponential-like decay: its time constant, ~ t50 / ln 2
-        s_flash = np.minimum(t50 / LN2, 0.5 * t_on_f)
+        # the decays as exponentials of matching half-life, truncated by the phase
+        tau_flash = decay_time(led.junction, r_t, cp, i_pk, 0.5 * i_pk) / LN2
         r_t_reset = r_reset + dio.junction.r_s
-        s_reset = np.minimum(decay_time(dio.junction, r_t_reset, cp, id_1, 0.5 * id_1) / LN2,
-                             0.5 * t_off_f)
-        on = Load(i_ss=0.0, r_dyn=np.inf, q_imp=q, s_imp=s_flash)
-        off = Load(i_ss=0.0, r_dyn=np.inf, q_imp=-q, s_imp=s_reset)
+        tau_reset = decay_time(dio.junction, r_t_reset, cp, id_1, 0.5 * id_1) / LN2
+        on = Load(i_ss=0.0, r_dyn=np.inf, q_imp=q, s_imp=tau_flash, t_imp=t_on_f)
+        off = Load(i_ss=0.0, r_dyn=np.inf, q_imp=-q, s_imp=tau_reset, t_imp=t_off_f)
         return StageFigures(i_pk, t50, t10, q, q, on, off, state=residual)
 
     def ref_init(self, v, env, topo):

@@ -42,16 +42,25 @@ def phase_time(v_start, v_end, v_inf, tau, rising: bool):
     return t, ok | reached
 
 
-def impulse_shift(r_out, q_imp, s_imp, g, c, tau):
+def impulse_shift(r_out, q_imp, tau_f, t_span, g, c, tau):
     """Shift of the timing-capacitor start voltage caused by an impulse of load.
 
-    A charge ``q_imp`` drawn from the driving node through its output resistance
-    ``r_out`` lowers the node by r_out·i(t) while it flows, and so withholds
-    g·r_out·q from the timing capacitor; referred to the phase start through the
-    linear ODE's kernel exp(s/tau) at the impulse's centroid delay ``s_imp``.
+    A current i(s) drawn from the driving node through its output resistance
+    ``r_out`` lowers the node by r_out·i(s) while it flows and so withholds
+    g·r_out·i(s) from the timing capacitor. Referred to the phase start through the
+    linear ODE's kernel exp(s/tau), the shift is −(g·r_out/C)·∫ i(s)·exp(s/tau) ds.
+    The impulse is taken as an exponential of time constant ``tau_f`` carrying the
+    charge ``q_imp`` within the phase length ``t_span``.
     """
-    with np.errstate(over="ignore"):
-        weight = np.exp(np.minimum(s_imp / tau, 50.0))
+    tau_f = np.maximum(np.asarray(tau_f, dtype=float), 1e-300)
+    t_span = np.asarray(t_span, dtype=float)
+    t_f = np.where(np.isfinite(t_span), t_span, 50.0 * tau_f)
+    a = 1.0 / tau - 1.0 / tau_f
+    x = np.clip(a * t_f, -700.0, 50.0)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        num = np.where(np.abs(x) < 1e-8, t_f, t_f * np.expm1(x) / x)
+        den = tau_f * -np.expm1(-np.minimum(t_f / tau_f, 700.0))
+        weight = np.where(den > 0, num / den, 1.0)
     return -r_out * q_imp * g * weight / c
 
 

@@ -34,7 +34,8 @@ def linear_phase(c, r, drive: Drive, env: Env, v_from, v_to, rising: bool):
     """One linear RC phase of a Schmitt core: returns ``(t, ok, v_inf, tau, v_start)``."""
     g = 1.0 / (r + drive.r_th)
     v_inf, tau = relax(c, g, drive.v_th, env.cap_leak_g, env.pin_leak_a)
-    v_start = v_from + impulse_shift(drive.r_out, drive.q_imp, drive.s_imp, g, c, tau)
+    v_start = v_from + impulse_shift(drive.r_out, drive.q_imp, drive.s_imp, drive.t_imp,
+                                     g, c, tau)
     t, ok = phase_time(v_start, v_to, v_inf, tau, rising)
     return t, ok, v_inf, tau, v_start
 
@@ -76,11 +77,13 @@ class SchmittCore:
         tl, ok_l, vi_l, tau_l, vs_l = linear_phase(c, r, low, env, env.vt_plus,
                                                    env.vt_minus, False)
         status = np.where(ok_h & ok_l, RUNS, STALLS)
+        i0_h = (high.v_th - env.vt_minus) / (r + high.r_th)
+        i0_l = (low.v_th - env.vt_plus) / (r + low.r_th)
         q_cross = 0.0
         if with_cross:
             q_cross = (crossing_charge(env, vs_h, vi_h, tau_h, th)
                        + crossing_charge(env, vs_l, vi_l, tau_l, tl))
-        return PhaseTimes(th, tl, status, timing_supply_charge(c, env, th), q_cross)
+        return PhaseTimes(th, tl, status, timing_supply_charge(c, env, th), q_cross, i0_h, i0_l)
 
     def ref_currents(self, v, env, topo, vo, vc, high):
         """Reference engine: (current into C1, current out of the output node, supply)."""

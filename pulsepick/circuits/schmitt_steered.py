@@ -43,7 +43,10 @@ def _branch_current(env: Env, r_total, across):
 
 def steered_phase(c, r1, r2, drive: Drive, env: Env, v_from, v_to, rising: bool,
                   with_cross: bool):
-    """The phase with the diode branch conducting: ``(t, ok, q_cross)``."""
+    """The phase with the diode branch conducting: ``(t, ok, q_cross, i_start)``.
+
+    ``i_start`` is the current drawn from the output node as the phase starts.
+    """
     sgn = 1.0 if rising else -1.0
     g1 = 1.0 / (r1 + drive.r_th)
     r_branch = r2 + drive.r_th
@@ -59,7 +62,8 @@ def steered_phase(c, r1, r2, drive: Drive, env: Env, v_from, v_to, rising: bool,
         g_eff = np.abs((i0 + env.cap_leak_g * v_from + env.pin_leak_a)
                        / (drive.v_th - v_from))
         tau_eff = c / np.maximum(g_eff, 1e-30)
-    v_start = v_from + impulse_shift(drive.r_out, drive.q_imp, drive.s_imp, g_eff, c, tau_eff)
+    v_start = v_from + impulse_shift(drive.r_out, drive.q_imp, drive.s_imp, drive.t_imp,
+                                     g_eff, c, tau_eff)
     reached = (v_start >= v_to) if rising else (v_start <= v_to)
     ok = sgn * current(v_to) > 0
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -78,7 +82,9 @@ def steered_phase(c, r1, r2, drive: Drive, env: Env, v_from, v_to, rising: bool,
         if cross is not None:
             q_cross = q_cross + w * half * dt_dy * cross(vc, env.vdd)
     t = np.where(reached, 0.0, np.where(ok, t, np.inf))
-    return t, ok | reached, q_cross
+    i_start = g1 * (drive.v_th - v_from) + sgn * _branch_current(
+        env, r_branch, sgn * (drive.v_th - v_from))
+    return t, ok | reached, q_cross, i_start
 
 
 @dataclass(frozen=True)
@@ -96,19 +102,22 @@ class SteeredSchmittCore:
                     with_cross: bool = True) -> PhaseTimes:
         r1, r2, c = v["r1"], v["r2"], v["c1"]
         if topo.steer == "high":
-            th, ok_h, qx_h = steered_phase(c, r1, r2, high, env, env.vt_minus, env.vt_plus,
-                                           True, with_cross)
+            th, ok_h, qx_h, i0_h = steered_phase(c, r1, r2, high, env, env.vt_minus,
+                                                 env.vt_plus, True, with_cross)
             tl, ok_l, vi, tau, vs = linear_phase(c, r1, low, env, env.vt_plus, env.vt_minus,
                                                  False)
+            i0_l = (low.v_th - env.vt_plus) / (r1 + low.r_th)
             qx_l = crossing_charge(env, vs, vi, tau, tl) if with_cross else 0.0
         else:
             th, ok_h, vi, tau, vs = linear_phase(c, r1, high, env, env.vt_minus, env.vt_plus,
                                                  True)
             qx_h = crossing_charge(env, vs, vi, tau, th) if with_cross else 0.0
-            tl, ok_l, qx_l = steered_phase(c, r1, r2, low, env, env.vt_plus, env.vt_minus,
-                                           False, with_cross)
+            i0_h = (high.v_th - env.vt_minus) / (r1 + high.r_th)
+            tl, ok_l, qx_l, i0_l = steered_phase(c, r1, r2, low, env, env.vt_plus, env.vt_minus,
+                                                 False, with_cross)
         status = np.where(ok_h & ok_l, RUNS, STALLS)
-        return PhaseTimes(th, tl, status, timing_supply_charge(c, env, th), qx_h + qx_l)
+        return PhaseTimes(th, tl, status, timing_supply_charge(c, env, th), qx_h + qx_l,
+                          i0_h, i0_l)
 
     def ref_currents(self, v, env, topo, vo, vc, high):
         """Reference engine: (current into C1, current out of the output node, supply)."""

@@ -55,7 +55,10 @@ class Timer555Core:
             frac = np.where(tl_f > 0, tau_l / np.maximum(tl_f, 1e-300)
                             * (1 - np.exp(-tl_f / tau_l)), 1.0)
         vc_mean_low = vi_l + (env.vt_plus - vi_l) * frac
-        v_node = (vdd / ra + vc_mean_low / rb) / (1 / ra + 1 / rb + 1 / rdis)
+        with np.errstate(divide="ignore"):
+            g_dis = np.where(rdis > 0, 1.0 / np.maximum(rdis, 1e-300), np.inf)
+        v_node = np.where(np.isinf(g_dis), 0.0,
+                          (vdd / ra + vc_mean_low / rb) / (1 / ra + 1 / rb + np.minimum(g_dis, 1e300)))
         th_f = np.where(np.isfinite(th), th, 0.0)
         q_supply = (c * (env.vt_plus - env.vt_minus)
                     + env.cap_leak_g * 0.5 * (env.vt_plus + env.vt_minus) * th_f

@@ -316,16 +316,18 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1)
         rows.append([
             str(c.rank), c.design.topo.label(), c.design.chip.family,
             _eng(f["period_s"], "s"), _eng(f["flash_s"], "s"), _eng(f["led_peak_a"], "A"),
-            _eng(f["effective_a"], "A"), _eng(f["supply_avg_a"], "A"), f"{c.score:.2f}",
+            _eng(f["supply_avg_a"], "A"), f"{c.score:.2f}",
         ])
     console.print(simple_table(
         f"Ranked circuits ({result.evaluated:,} evaluated in {result.search_s:.2f} s; lower "
         "score is better)",
-        ["#", "circuit", "chip", "period", "flash", "peak", "effective", "supply", "score"],
-        rows, justify=["right", "left", "left"] + ["right"] * 6))
+        ["#", "circuit", "chip", "period", "flash", "peak", "supply", "score"],
+        rows, justify=["right", "left", "left"] + ["right"] * 5))
     console.print()
     for c in result.candidates:
         _render_candidate(console, req, c)
+        if c.rank == 1:
+            _render_waveform(console, c)
     if buylist:
         console.print(f"Buy list of circuit {pick} written to {buylist}", markup=False)
         console.print()
@@ -473,6 +475,30 @@ def _render_drift(console, c) -> None:
     if dr.unpowered_below_v is not None:
         console.print(f"    the chip leaves its supply range below {dr.unpowered_below_v:.2f} V",
                       markup=False)
+
+
+def _render_waveform(console, c) -> None:
+    """One period of the best circuit, drawn from its reference run (when available)."""
+    import importlib
+
+    import numpy as np
+
+    try:
+        textplot = importlib.import_module("pulsepick.textplot")
+    except ModuleNotFoundError as err:
+        if err.name != "pulsepick.textplot":
+            raise
+        return
+    ref = c.reference
+    if ref is None or not ref.trace:
+        return
+    env, _ = c.design.env()
+    console.print(f"  one period of #{c.rank} (reference simulation)")
+    for line in textplot.waveform_lines(ref.trace["t_s"], ref.trace["vc_v"], ref.trace["led_a"],
+                                        vt_plus=float(np.ravel(env.vt_plus)[0]),
+                                        vt_minus=float(np.ravel(env.vt_minus)[0])):
+        console.print(f"  {line}", markup=False)
+    console.print()
 
 
 def _render_cautions(console, cautions) -> None:

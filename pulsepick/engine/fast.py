@@ -36,7 +36,8 @@ def _drive(v_src, r_out, load: Load) -> Drive:
     v_op = v_src - load.i_ss * r_out  # operating point with the steady load
     with np.errstate(divide="ignore", invalid="ignore"):
         r_th = np.where(np.isinf(load.r_dyn), r_out, r_out * load.r_dyn / (r_out + load.r_dyn))
-    return Drive(v_th=v_op, r_th=r_th, r_out=r_out, q_imp=load.q_imp, s_imp=load.s_imp)
+    return Drive(v_th=v_op, r_th=r_th, r_out=r_out, q_imp=load.q_imp, s_imp=load.s_imp,
+                 t_imp=load.t_imp)
 
 
 def _as_arrays(values: dict, env: Env):
@@ -100,7 +101,21 @@ def evaluate(topo: Topology, values: dict, env: Env, powered=True) -> Figures:
     pt = core.phase_times(vals, env, topo, high, low, with_cross=not coupled)
     state = None
     passes = _PASSES if coupled else 1
+    def driver_with_core(pt) -> DriverView:
+        """The timing gate's output as the stage sees it, with the timing network's draw."""
+        if not coupled:
+            return driver
+        c = vals["c1"]
+        dv = env.vt_plus - env.vt_minus
+        with np.errstate(divide="ignore", invalid="ignore"):
+            mean_h = np.where(np.isfinite(pt.t_high), c * dv / pt.t_high, 0.0)
+            mean_l = np.where(np.isfinite(pt.t_low), -c * dv / pt.t_low, 0.0)
+        return DriverView(v_high=vdd, r_high=env.rout_high, v_low=zeros, r_low=env.rout_low,
+                          vdd=vdd, i_core_high=(pt.i0_high, mean_h),
+                          i_core_low=(pt.i0_low, mean_l))
+
     for k in range(passes):
+        driver = driver_with_core(pt)
         if topo.buffered:  # the spare gate inverts: the stage's "on" is the timing low phase
             t_on, t_off = pt.t_low, pt.t_high
         else:
@@ -112,7 +127,7 @@ def evaluate(topo: Topology, values: dict, env: Env, powered=True) -> Figures:
             low = _drive(*gate_low, sf.load_off)
             pt = core.phase_times(vals, env, topo, high, low, with_cross=(k == passes - 1))
     if coupled:  # final stage figures at the final phase times
-        sf = stage.fast(vals, env, topo, driver, pt.t_high, pt.t_low, state)
+        sf = stage.fast(vals, env, topo, driver_with_core(pt), pt.t_high, pt.t_low, state)
 
     period = pt.t_high + pt.t_low
     stalled = pt.status == STALLS

@@ -160,7 +160,7 @@ class _Circuit:
         return r * v["c1"]
 
 
-def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 40,
+def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 400,
              rtol: float = 1e-9, powered: bool = True) -> ReferenceResult:
     """Simulate one circuit (scalar values) to periodic steady state and measure it."""
     vals = {k: float(np.asarray(x).reshape(-1)[0]) for k, x in check_values(topo, values).items()}
@@ -171,10 +171,12 @@ def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 40,
     atol = np.array([1e-10] + [1e-10] * n_x + [1e-16, 1e-16, 1e-16])
     t_max = 60.0 * circ.tau_scale()
     periods: list[float] = []
+    edge_states: list[np.ndarray] = []
     last: list[Any] = []
     message = "converged"
     success = True
     stalled = False
+    stalled_high = False
     cycles = 0
     for cycles in range(1, max_cycles + 1):
         sols = []
@@ -192,6 +194,7 @@ def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 40,
                             first_step=min(1e-6 * circ.tau_scale(), 1e-4))
             if not sol.success or sol.t_events[0].size == 0:
                 stalled = True
+                stalled_high = high
                 message = (f"no switching within {t_max:.3g} s in the "
                            f"{'high' if high else 'low'} phase: the oscillator stalls")
                 break
@@ -203,10 +206,12 @@ def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 40,
         if stalled:
             break
         periods.append(t0)
+        edge_states.append(y[1:1 + n_x].copy())
         last = sols
         if len(periods) >= 3:
             p_prev, p_now = periods[-2], periods[-1]
-            if abs(p_now - p_prev) <= 1e-8 * p_now:
+            settled = np.all(np.abs(edge_states[-1] - edge_states[-2]) <= 1e-6)
+            if abs(p_now - p_prev) <= 1e-8 * p_now and settled:
                 break
         y[1 + n_x:] = 0.0  # restart the charge counters each cycle
     else:
@@ -215,8 +220,9 @@ def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 40,
 
     if stalled:
         nan = float("nan")
-        figs = Figures(math.inf, nan, nan, 0.0, nan, nan, 0.0, 0.0, nan, senv.iq_a,
-                       STALLS if powered else UNPOWERED)
+        figs = Figures(math.inf, math.inf if stalled_high else nan,
+                       math.inf if not stalled_high else nan, 0.0, nan, nan, 0.0, 0.0,
+                       nan, senv.iq_a, STALLS if powered else UNPOWERED)
         return ReferenceResult(figs, False, message, cycles)
 
     return _measure(circ, senv, last, success, message, cycles, powered)

@@ -1,0 +1,239 @@
+"""Design checks: the warnings a builder must see, each with the numbers behind it,
+and the assumptions a report must state.
+
+Thresholds for the warnings follow practice: a leakage within a factor of ten of the
+charging current at the thresholds is flagged (common practice: practice.md item 6),
+a leakage-times-R error above 10 % of the hysteresis is flagged (practice.md item 5),
+and timing resistors above 10 MΩ are marked sensitive to board cleanliness and
+humidity (common practice).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from pulsepick.circuits.base import DARK, RUNS, STALLS, Topology
+from pulsepick.design import Design
+from pulsepick.engine.environment import chip_model
+from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
+from pulsepick.units import format_eng
+
+LEAK_MARGIN = 10.0  # charging current / leakage below this is flagged (common practice)
+LEAK_R_SHARE = 0.10  # leakage x R above this share of the hysteresis is flagged
+HIGH_R_OHM = 10e6  # above this, board leakage and humidity matter (common practice)
+LOADING_SHIFT = 0.01  # period shift by the LED stage's load worth telling (1 %)
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One warning, with a short code for tests and scripts."""
+
+    code: str
+    text: str
+
+
+def _timing_resistances(design: Design) -> dict[str, float]:
+    v = design.values
+    if design.topo.core == "timer555":
+        return {"RA+RB": v["ra"] + v["rb"], "RB": v["rb"]}
+    out = {"R1": v["r1"]}
+    if "r2" in v:
+        out["R2"] = v["r2"]
+    return out
+
+
+def charging_currents(design: Design, env) -> tuple[float, float]:
+    """The smallest currents (A) that move the timing capacitor at each threshold.
+
+    Charging at VT+ and discharging at VT−, through the slow path; leakage must stay
+    well below these for the oscillator to switch.
+    """
+    vdd, vtp, vtm = (float(np.ravel(x)[0]) for x in (env.vdd, env.vt_plus, env.vt_minus))
+    v = design.values
+    if design.topo.core == "timer555":
+        return (vdd - vtp) / (v["ra"] + v["rb"]), vtm / v["rb"]
+    r_charge = r_discharge = v["r1"]
+    return (vdd - vtp) / r_charge, vtm / r_discharge
+
+
+def assumptions(design: Design) -> dict[str, Any]:
+    """What the figures rest on, for every report."""
+    env, _ = design.env()
+    model = chip_model(design.chip)
+    led = design.parts.led
+    kind = get_cap_kind(design.parts.timing_cap)
+    out: dict[str, Any] = {
+        "chip": model.name,
+        "supply_v": design.supply_v,
+        "vt_plus_v": float(np.ravel(env.vt_plus)[0]),
+        "vt_minus_v": float(np.ravel(env.vt_minus)[0]),
+        "thresholds_from": ("measured by the user" if design.chip.measured
+                            else "datasheet typical at this supply, interpolated"),
+        "rout_high_ohm": float(np.ravel(env.rout_high)[0]),
+        "rout_low_ohm": float(np.ravel(env.rout_low)[0]),
+        "led": led.name,
+        "led_vf_v_at_test": led.vf_test_v,
+        "led_test_current_a": led.i_test_a,
+        "led_ideality": led.junction.n,
+        "led_series_ohm": led.junction.r_s,
+        "led_visible_a": led.visible_a,
+        "timing_cap_kind": kind.name,
+        "effective_intensity_a_s": env.effective_a_s,
+        "effective_intensity_method": "Schmidt-Clausen form Ie = Ip*Q/(a*Ip + Q), a = 0.2 s; "
+                                      "Blondel-Rey Ie = I*t/(a + t) for a rectangular flash",
+    }
+    if not design.chip.is_timer:
+        if design.chip.cross_current_a is not None:
+            out["crossing_current"] = (f"measured: {format_eng(design.chip.cross_current_a, 'A')}"
+                                       " (given with --cross-current)")
+        else:
+            f = design.fast()
+            out["crossing_current"] = (
+                f"ESTIMATE {format_eng(float(np.ravel(f.extras['crossing_a'])[0]), 'A')} average "
+                "(no published figure; square-law model of the input stage; replace it with "
+                "a measured figure via --cross-current)")
+    return out
+
+
+def circuit_findings(design: Design) -> list[Finding]:
+    """Every warning that applies to the design, each with its numbers."""
+    out: list[Finding] = []
+    env, powered = design.env()
+    vdd = design.supply_v
+    model = chip_model(design.chip)
+    f = design.fast()
+    status = int(np.ravel(f.status)[0])
+
+    if not bool(np.all(powered)):
+        out.append(Finding("supply-range",
+                           f"supply {vdd:g} V is outside {model.name}'s range "
+                           f"{model.vdd_min_v:g}..{model.vdd_max_v:g} V"))
+
+    i_up, i_down = charging_currents(design, env)
+    i_min = min(i_up, i_down)
+    vh = float(np.ravel(env.vt_plus)[0] - np.ravel(env.vt_minus)[0])
+    # input-pin leakage: typical works on the bench, the guaranteed maximum may not
+    leak_typ = float(np.ravel(env.pin_leak_a)[0])
+    leak_max = float(getattr(model, "leak_max_hot_a", getattr(model, "leak_max_a", leak_typ)))
+    for label, r in _timing_resistances(design).items():
+        err_max = leak_max * r
+        if not design.chip.is_timer and err_max > LEAK_R_SHARE * vh:
+            verdict = ("stalls with a worst-case chip" if leak_max >= i_min
+                       else "marginal with a worst-case chip")
+            out.append(Finding(
+                "pin-leakage",
+                f"{verdict}: input leakage up to {format_eng(leak_max, 'A')} (guaranteed maximum "
+                f"over temperature) x {label} {format_eng(r, 'Ω')} = {err_max:.3g} V against a "
+                f"hysteresis of {vh:.3g} V; typical leakage {format_eng(leak_typ, 'A')} gives "
+                f"{leak_typ * r:.3g} V and works on the bench"))
+        if r > HIGH_R_OHM:
+            out.append(Finding("high-r",
+                               f"{label} {format_eng(r, 'Ω')} is above 10 MΩ: board leakage, "
+                               "flux residue and humidity can shift or stop the timing"))
+
+    kind = get_cap_kind(design.parts.timing_cap)
+    c = design.values["c1"]
+    rating = pick_voltage_rating(kind, vdd)
+    vtp = float(np.ravel(env.vt_plus)[0])
+    for which in ("typ", "max"):
+        i_leak = float(np.ravel(kind.leakage_a(c, vtp, rating, which=which))[0])
+        if i_leak > 0 and i_min / i_leak < LEAK_MARGIN:
+            word = "will stall" if i_leak >= i_min else "marginal"
+            out.append(Finding(
+                "cap-leakage",
+                f"{word}: {kind.name} leakage {format_eng(i_leak, 'A')} ({which}) against a "
+                f"charging current of only {format_eng(i_min, 'A')} at the thresholds "
+                f"(ratio {i_min / i_leak:.2g}, want > {LEAK_MARGIN:g}); use a film capacitor "
+                "with a larger resistor"))
+            break
+    if kind.key == "electrolytic" or kind.key == "tantalum":
+        out.append(Finding(
+            "timing-cap-kind",
+            f"{kind.name} as the timing capacitor: tolerance -{kind.tol_minus_pct:g}/"
+            f"+{kind.tol_plus_pct:g} %, leakage and drift set the period; prefer film or C0G"))
+    elif kind.class2:
+        lo = float(np.ravel(kind.temperature_factor(-20.0, which="min"))[0])
+        hi = float(np.ravel(kind.temperature_factor(50.0, which="max"))[0])
+        bias = float(np.ravel(kind.dc_bias_factor(vdd, rating))[0])
+        out.append(Finding(
+            "timing-cap-kind",
+            f"{kind.name} as the timing capacitor: tolerance "
+            f"±{kind.tol_plus_pct:g} %, {100 * (lo - 1):+.0f}/{100 * (hi - 1):+.0f} % over "
+            f"-20..50 °C, keeps {100 * bias:.0f} % of its value at {vdd:g} V bias, and ages; "
+            "prefer film or C0G"))
+
+    if status == STALLS:
+        out.append(Finding("stalls", "the oscillator stalls at the nominal supply: leakage "
+                                     "exceeds the charging current at a threshold"))
+    led = design.parts.led
+    if status == DARK:
+        out.append(Finding(
+            "led-dark",
+            f"the LED never reaches visible current: peak {format_eng(float(np.ravel(f.led_peak_a)[0]), 'A')}"
+            f" against {format_eng(led.visible_a, 'A')} needed ({led.name} at {vdd:g} V)"))
+    elif status == RUNS:
+        v_dark = dark_below(design)
+        vf = float(led.voltage(led.visible_a))
+        if v_dark is not None and v_dark > 0.75 * vdd:
+            out.append(Finding(
+                "led-vf",
+                f"LED forward voltage is close to the supply: {led.name} needs {vf:.2f} V for "
+                f"{format_eng(led.visible_a, 'A')}; the light goes dark below about "
+                f"{v_dark:.2f} V supply, so it dims and stops as the storage droops"))
+
+    shift = stage_loading_shift(design)
+    if shift is not None and abs(shift) > LOADING_SHIFT:
+        r_out = float(np.ravel(env.rout_high)[0])
+        out.append(Finding(
+            "stage-loading",
+            f"the LED stage loads the timing gate's output and shifts a phase of the timing by "
+            f"{100 * shift:+.1f} % (output resistance {r_out:.0f} Ω); --buffered drives it "
+            "from a spare gate instead"))
+    return out
+
+
+def circuit_warnings(design: Design) -> list[str]:
+    """The warning texts of ``circuit_findings``."""
+    return [f.text for f in circuit_findings(design)]
+
+
+def dark_below(design: Design, v_floor: float = 0.5, points: int = 121) -> float | None:
+    """Supply below which the LED no longer reaches visible current (None: never dark)."""
+    v = np.linspace(v_floor, design.supply_v, points)
+    f = design.fast(v)
+    lit = np.asarray(f.status) == RUNS
+    if lit.all():
+        return None
+    if not lit.any():
+        return design.supply_v
+    last_dark = np.flatnonzero(~lit).max()
+    if last_dark + 1 >= v.size:
+        return design.supply_v
+    return float(v[last_dark + 1])
+
+
+def stage_loading_shift(design: Design) -> float | None:
+    """Largest relative change of a phase caused by hanging the stage on the timing gate.
+
+    The loaded design against the same timing network with the stage on a spare gate;
+    None where the stage never loads the timing gate (buffered, or the 555's own output).
+    """
+    topo = design.topo
+    if topo.buffered or topo.core == "timer555":
+        return None
+    buffered = Topology(topo.core, topo.stage, True, topo.lit, topo.steer)
+    env, powered = design.env()
+    from pulsepick.engine import fast
+
+    a = fast.evaluate(topo, design.values, env, powered)
+    b = fast.evaluate(buffered, design.values, env, powered)
+    shifts = []
+    for key in ("high_s", "low_s"):
+        pa, pb = float(np.ravel(getattr(a, key))[0]), float(np.ravel(getattr(b, key))[0])
+        if not (np.isfinite(pa) and np.isfinite(pb)) or pb == 0:
+            return None
+        shifts.append(pa / pb - 1.0)
+    return max(shifts, key=abs)

@@ -1,0 +1,162 @@
+"""``pulsepick check``: forward analysis of a circuit someone built or plans."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from pulsepick.analysis.cautions import GENERAL_CAUTIONS
+from pulsepick.analysis.checks import assumptions, circuit_findings
+from pulsepick.circuits.base import STATUS_WORDS, Figures
+from pulsepick.commands.circuit_options import add_circuit_arguments, design_from_args
+from pulsepick.design import Design
+from pulsepick.render import dump_json, make_console, print_wrapped, simple_table
+from pulsepick.textplot import waveform_lines
+from pulsepick.units import format_eng, format_rkm
+
+NAME = "check"
+SUMMARY = "analyse a blinker circuit: period, flash, LED current, brightness, supply current"
+EXAMPLES = [
+    "pulsepick check --core schmitt --r 2M2 --c 1u --stage pulse --cp 22u --rs 47 "
+    "--family hc --supply 3.0V --led red",
+    "pulsepick check --core schmitt --r 2M2 --c 1u --stage pulse --cp 22u --rs 47 "
+    "--supply 3.0V --vt-plus 1.6 --vt-minus 0.9 --rout 60 --led-vf 1.9V@20mA --led-n 2 "
+    "--led-rs 10",
+    "pulsepick check --core schmitt-steered --steer high --r 4M7 --r2 47k --c 1u "
+    "--stage direct --rs 100 --supply 2.7V --json",
+    "pulsepick check --core timer555 --ra 1M --rb 22k --c 2u2 --stage direct --lit low "
+    "--rs 220 --supply 3V --reference",
+]
+
+FIGURE_ROWS = (
+    ("period_s", "period", "s"),
+    ("high_s", "output high", "s"),
+    ("low_s", "output low", "s"),
+    ("led_peak_a", "LED peak current", "A"),
+    ("flash_s", "flash (>= 50 % of peak)", "s"),
+    ("flash_10pct_s", "flash (>= 10 % of peak)", "s"),
+    ("led_charge_c", "LED charge per period", "C"),
+    ("effective_a", "effective (steady-equivalent) current", "A"),
+    ("effective_mcd", "effective intensity", "mcd"),
+    ("supply_avg_a", "average supply current", "A"),
+)
+
+
+def add_arguments(parser) -> None:
+    add_circuit_arguments(parser)
+    parser.add_argument("--reference", action="store_true",
+                        help="take the figures from the transient reference simulation")
+    parser.add_argument("--no-drawing", action="store_true",
+                        help="leave out the waveform drawing (saves a short simulation)")
+    parser.add_argument("--json", action="store_true", help="print plain JSON on stdout")
+
+
+def figures_dict(fig: Figures) -> dict:
+    """Top-level JSON figures (SI units) with the status and its reason."""
+    row = fig.row(None if np.ndim(fig.period_s) == 0 else 0)
+    out = {k: (None if not math.isfinite(row[k]) else row[k]) for k in Figures.KEYS}
+    out["status"] = STATUS_WORDS[row["status"]]
+    return out
+
+
+def _status_reason(status: str, findings) -> str | None:
+    if status == "runs":
+        return None
+    codes = {"stalls": ("stalls", "cap-leakage"), "dark": ("led-dark",),
+             "unpowered": ("supply-range",)}[status]
+    for f in findings:
+        if f.code in codes:
+            return f.text
+    return None
+
+
+def analyse(design: Design, use_reference: bool):
+    """Figures, reference result (or None), findings and assumptions."""
+    ref = design.reference() if use_reference else None
+    fig = ref.figures if ref is not None else design.fast()
+    return fig, ref, circuit_findings(design), assumptions(design)
+
+
+def run(args) -> int:
+    design = design_from_args(args)
+    fig, ref, findings, assumed = analyse(design, args.reference)
+    figures = figures_dict(fig)
+    reason = _status_reason(figures["status"], findings)
+    if args.json:
+        out = dict(figures)
+        out["status"] = {"state": figures["status"], "reason": reason}
+        out["assumptions"] = {**assumed, "engine": "reference" if args.reference else "fast",
+                              "circuit": design.topo.label(),
+                              "values": {k: v for k, v in design.values.items()}}
+        out["warnings"] = [f.text for f in findings]
+        dump_json(out)
+        return 0
+    console = make_console()
+    render_report(console, design, figures, reason, findings, assumed,
+                  engine="reference" if args.reference else "fast")
+    if not args.no_drawing:
+        trace = ref if ref is not None else design.reference()
+        _render_waveform(console, design, trace)
+    _render_cautions(console)
+    return 0
+
+
+def values_line(design: Design) -> str:
+    parts = []
+    for name, value in design.values.items():
+        if value == 0:
+            continue
+        unit, kind = ("Ω", "R") if name.startswith("r") else ("F", "C")
+        parts.append(f"{name.upper()} {format_eng(value, unit)} ({format_rkm(value, kind)})")
+    return ", ".join(parts)
+
+
+def render_report(console, design: Design, figures: dict, reason, findings, assumed,
+                  engine: str) -> None:
+    console.print(f"[bold]pulsepick check[/bold]  {design.label()}")
+    console.print(f"  values: {values_line(design)}")
+    console.print(f"  supply {design.supply_v:g} V, figures from the {engine} engine")
+    rows = []
+    for key, label, unit in FIGURE_ROWS:
+        v = figures[key]
+        text = "-" if v is None else (format_eng(v, unit) if unit != "mcd" else f"{v:.3g} mcd")
+        rows.append([label, text])
+    status = figures["status"] + (f" ({reason})" if reason else "")
+    rows.append(["status", status])
+    console.print(simple_table(None, ["figure", "value"], rows, ["left", "right"]))
+    console.print("[bold]assumptions[/bold]")
+    thr = (f"VT+ {assumed['vt_plus_v']:.3g} V, VT- {assumed['vt_minus_v']:.3g} V "
+           f"({assumed['thresholds_from']}); output {assumed['rout_high_ohm']:.0f} Ω high / "
+           f"{assumed['rout_low_ohm']:.0f} Ω low")
+    print_wrapped(console, f"chip: {assumed['chip']}; {thr}")
+    print_wrapped(console, f"LED: {assumed['led']}, {assumed['led_vf_v_at_test']:.3g} V at "
+                  f"{format_eng(assumed['led_test_current_a'], 'A')}, n = "
+                  f"{assumed['led_ideality']:.3g}, RS = {assumed['led_series_ohm']:.3g} Ω, "
+                  f"visible from {format_eng(assumed['led_visible_a'], 'A')}")
+    print_wrapped(console, f"timing capacitor: {assumed['timing_cap_kind']}")
+    if "crossing_current" in assumed:
+        print_wrapped(console, f"crossing current: {assumed['crossing_current']}")
+    print_wrapped(console, f"effective intensity: {assumed['effective_intensity_method']}")
+    if findings:
+        console.print("[bold]warnings[/bold]")
+        for f in findings:
+            print_wrapped(console, f.text, indent="  ! ", hang="    ")
+
+
+def _render_waveform(console, design: Design, ref) -> None:
+    if not ref.trace:
+        console.print("[bold]one period[/bold]  (none: the oscillator stalls)")
+        return
+    env, _ = design.env()
+    console.print("[bold]one period[/bold] (reference simulation)")
+    for line in waveform_lines(ref.trace["t_s"], ref.trace["vc_v"], ref.trace["led_a"],
+                               vt_plus=float(np.ravel(env.vt_plus)[0]),
+                               vt_minus=float(np.ravel(env.vt_minus)[0])):
+        console.print(line, markup=False)
+
+
+def _render_cautions(console) -> None:
+    console.print("[bold]cautions[/bold]")
+    for text in GENERAL_CAUTIONS:
+        print_wrapped(console, text, indent="  - ", hang="    ")

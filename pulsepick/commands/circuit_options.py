@@ -1,0 +1,205 @@
+"""Command-line options that describe a chip, its parts and a whole circuit.
+
+Shared by ``check``, ``night``, ``bands`` and ``solve``: ``add_part_arguments`` adds
+the chip and part options, ``add_circuit_arguments`` adds those plus the topology
+and component values; ``parts_from_args`` / ``design_from_args`` turn the parsed
+options into core objects, refusing bad input with one clear message.
+"""
+
+from __future__ import annotations
+
+import argparse
+
+from pulsepick.circuits.base import Topology, core_names, get_core, get_stage, stage_names
+from pulsepick.design import Design, load_curve
+from pulsepick.engine.environment import CHIP_KEYS, ChipSpec, PartChoice
+from pulsepick.errors import RequestError
+from pulsepick.parts.capacitor import CAP_KIND_KEYS
+from pulsepick.parts.diode import DIODE_KEYS
+from pulsepick.parts.led import LED_KEYS, custom_led, get_led
+from pulsepick.units import parse_quantity, parse_value
+
+#: Command-line option for each component value of the circuits.
+VALUE_OPTIONS = {
+    "r1": "--r", "r2": "--r2", "ra": "--ra", "rb": "--rb", "c1": "--c",
+    "cp": "--cp", "ch": "--ch", "rs": "--rs",
+}
+
+DEFAULT_TIMING_CAP = "film-pet"
+DEFAULT_STAGE_CAP = "electrolytic"
+
+
+def add_part_arguments(parser: argparse.ArgumentParser) -> None:
+    """Chip and part options (no topology, no values)."""
+    g = parser.add_argument_group("chip and parts")
+    g.add_argument("--family", default=None, metavar="KEY",
+                   help=f"chip: {', '.join(CHIP_KEYS)} (default hc; timer555 for the 555 core)")
+    g.add_argument("--led", default="red", metavar="COLOUR",
+                   help=f"LED colour: {', '.join(LED_KEYS)} (default red)")
+    g.add_argument("--led-vf", metavar="V@I", help="custom LED forward voltage, e.g. 2.0V@20mA")
+    g.add_argument("--led-n", type=float, metavar="N", help="custom LED ideality factor")
+    g.add_argument("--led-rs", metavar="OHM", help="custom LED series resistance, e.g. 10")
+    g.add_argument("--led-mcd", metavar="MCD@I", help="custom LED intensity, e.g. 120@20mA")
+    g.add_argument("--vt-plus", metavar="V", help="measured VT+ of your chip at --supply")
+    g.add_argument("--vt-minus", metavar="V", help="measured VT- of your chip at --supply")
+    g.add_argument("--rout", metavar="OHM", help="measured gate output resistance")
+    g.add_argument("--cross-current", metavar="A",
+                   help="measured extra supply current of the oscillator gate (replaces the "
+                        "estimate), e.g. 15uA")
+    g.add_argument("--timing-cap", default=DEFAULT_TIMING_CAP, metavar="KIND",
+                   help=f"timing capacitor kind: {', '.join(CAP_KIND_KEYS)} "
+                        f"(default {DEFAULT_TIMING_CAP})")
+    g.add_argument("--stage-cap", default=DEFAULT_STAGE_CAP, metavar="KIND",
+                   help=f"flash/hold capacitor kind (default {DEFAULT_STAGE_CAP})")
+    g.add_argument("--steer-diode", default="schottky", choices=DIODE_KEYS,
+                   help="steering diode (default schottky)")
+    g.add_argument("--reset-diode", default="si", choices=DIODE_KEYS,
+                   help="pulse-stage reset diode (default si)")
+    g.add_argument("--fade-diode", default="schottky", choices=DIODE_KEYS,
+                   help="fade-stage charge diode (default schottky)")
+
+
+def add_circuit_arguments(parser: argparse.ArgumentParser, supply_default: str = "3.0V") -> None:
+    """Topology, values, supply, chip and parts."""
+    g = parser.add_argument_group("circuit")
+    g.add_argument("--core", default="schmitt", metavar="NAME",
+                   help="oscillator core: schmitt, schmitt-steered, timer555 (default schmitt)")
+    g.add_argument("--stage", default="direct", metavar="NAME",
+                   help="LED stage: direct, pulse, fade (default direct)")
+    g.add_argument("--buffered", action="store_true",
+                   help="drive the LED stage from a spare gate instead of the timing gate")
+    g.add_argument("--steer", default="high", choices=("high", "low"),
+                   help="schmitt-steered: the phase the diode branch speeds up (default high)")
+    g.add_argument("--lit", default="high", choices=("high", "low"),
+                   help="direct stage: LED lit while its driver is high (to ground) or low "
+                        "(from the supply) (default high)")
+    for name, opt in VALUE_OPTIONS.items():
+        g.add_argument(opt, dest=f"value_{name}", metavar="VALUE",
+                       help=_value_help(name))
+    g.add_argument("--supply", default=supply_default, metavar="V",
+                   help=f"supply voltage (default {supply_default})")
+    add_part_arguments(parser)
+
+
+def _value_help(name: str) -> str:
+    text = {
+        "r1": "timing resistor R1 (schmitt cores), e.g. 2M2",
+        "r2": "steering resistor R2 (schmitt-steered), e.g. 47k",
+        "ra": "555 timing resistor RA, e.g. 1M",
+        "rb": "555 timing resistor RB, e.g. 22k",
+        "c1": "timing capacitor C1, e.g. 1u",
+        "cp": "pulse stage coupling capacitor CP, e.g. 22u",
+        "ch": "fade stage hold capacitor CH, e.g. 100u",
+        "rs": "LED series resistor RS, e.g. 47 or 470R",
+    }
+    return text[name]
+
+
+def _led_from_args(args) -> object:
+    if args.led_vf is None:
+        if any(getattr(args, k) is not None for k in ("led_n", "led_rs", "led_mcd")):
+            raise RequestError("--led-n, --led-rs and --led-mcd describe a custom LED: "
+                               "give its forward voltage too, e.g. --led-vf 2.0V@20mA")
+        return get_led(args.led)
+    vf, at = _parse_at(args.led_vf, "voltage", "--led-vf", "2.0V@20mA")
+    kwargs = {}
+    if args.led_n is not None:
+        kwargs["n"] = args.led_n
+    if args.led_rs is not None:
+        kwargs["r_s"] = parse_value(args.led_rs, unit="ohm", allow_zero=True)
+    if args.led_mcd is not None:
+        text = args.led_mcd.strip()
+        if "@" in text:
+            mcd_text, at_text = text.split("@", 1)
+            kwargs["mcd_at_a"] = parse_quantity(at_text, "current")
+        else:
+            mcd_text = text
+        try:
+            kwargs["mcd"] = float(mcd_text.lower().replace("mcd", "").strip())
+        except ValueError as err:
+            raise RequestError(f"--led-mcd {args.led_mcd!r}: expected millicandela at a "
+                               "current, e.g. 120@20mA") from err
+    return custom_led(vf, at, **kwargs)
+
+
+def _parse_at(text: str, kind: str, option: str, example: str) -> tuple[float, float]:
+    if "@" not in text:
+        raise RequestError(f"{option} {text!r}: expected a value at a current, e.g. {example}")
+    left, right = text.split("@", 1)
+    return parse_quantity(left, kind), parse_quantity(right, "current")
+
+
+def parts_from_args(args, supply_v: float, core: str | None = None
+                    ) -> tuple[ChipSpec, PartChoice]:
+    """The chip (with any measured values, taken at ``supply_v``) and the part choice.
+
+    Without ``--family`` the chip is ``hc``, or ``timer555`` when ``core`` is the 555.
+    """
+    default = "timer555" if core == "timer555" else "hc"
+    family = (args.family or default).strip().lower()
+    if family not in CHIP_KEYS:
+        raise RequestError(f"unknown --family {args.family!r}; accepted: {', '.join(CHIP_KEYS)}")
+    for opt, kind in (("timing_cap", args.timing_cap), ("stage_cap", args.stage_cap)):
+        if kind not in CAP_KIND_KEYS:
+            raise RequestError(f"unknown --{opt.replace('_', '-')} {kind!r}; accepted: "
+                               f"{', '.join(CAP_KIND_KEYS)}")
+    vt_plus = parse_quantity(args.vt_plus, "voltage", bare_ok=True) if args.vt_plus else None
+    vt_minus = parse_quantity(args.vt_minus, "voltage", bare_ok=True) if args.vt_minus else None
+    if vt_plus is not None and vt_minus is not None and vt_minus >= vt_plus:
+        raise RequestError(f"--vt-minus {vt_minus:g} V must be below --vt-plus {vt_plus:g} V")
+    for name, val in (("--vt-plus", vt_plus), ("--vt-minus", vt_minus)):
+        if val is not None and val >= supply_v:
+            raise RequestError(f"{name} {val:g} V must be below the supply {supply_v:g} V")
+    rout = parse_value(args.rout, unit="ohm") if args.rout else None
+    cross = parse_quantity(args.cross_current, "current", allow_zero=True) \
+        if args.cross_current else None
+    chip = ChipSpec(family=family, vt_plus_v=vt_plus, vt_minus_v=vt_minus, rout_ohm=rout,
+                    cross_current_a=cross,
+                    measured_at_v=supply_v if (vt_plus or vt_minus or rout) else None)
+    parts = PartChoice(led=_led_from_args(args), timing_cap=args.timing_cap,
+                       stage_cap=args.stage_cap, steer_diode=args.steer_diode,
+                       reset_diode=args.reset_diode, fade_diode=args.fade_diode)
+    return chip, parts
+
+
+def supply_from_args(args) -> float:
+    return parse_quantity(args.supply, "voltage", bare_ok=True)
+
+
+def design_from_args(args) -> Design:
+    """The circuit described by the options; every problem is reported at once."""
+    core_name, stage_name = args.core.strip().lower(), args.stage.strip().lower()
+    problems = []
+    if core_name not in core_names():
+        problems.append(f"unknown --core {args.core!r}; accepted: {', '.join(core_names())}")
+    if stage_name not in stage_names():
+        problems.append(f"unknown --stage {args.stage!r}; accepted: {', '.join(stage_names())}")
+    if problems:
+        raise RequestError("; ".join(problems))
+    topo = Topology(core=core_name, stage=stage_name, buffered=args.buffered, lit=args.lit,
+                    steer=args.steer)
+    wanted = {p.name: p for p in get_core(core_name).params + get_stage(stage_name).params}
+    values = {}
+    for name, opt in VALUE_OPTIONS.items():
+        text = getattr(args, f"value_{name}")
+        if text is None:
+            if name in wanted and not wanted[name].optional:
+                problems.append(f"{opt} ({wanted[name].role}) is needed by "
+                                f"{core_name} + {stage_name}")
+            continue
+        if name not in wanted:
+            problems.append(f"{opt} is not used by {core_name} + {stage_name} "
+                            f"(it takes {', '.join(VALUE_OPTIONS[k] for k in wanted)})")
+            continue
+        unit = "ohm" if wanted[name].kind == "R" else "F"
+        values[name] = parse_value(text, unit=unit, allow_zero=wanted[name].optional)
+    if problems:
+        raise RequestError("; ".join(problems))
+    supply = supply_from_args(args)
+    chip, parts = parts_from_args(args, supply, core=core_name)
+    return Design(topo=topo, values=values, chip=chip, parts=parts, supply_v=supply)
+
+
+def load_curve_from_args(args, supplies):
+    """The circuit's load curve over ``supplies`` (for the night simulation)."""
+    return load_curve(design_from_args(args), supplies)
