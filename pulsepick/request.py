@@ -409,7 +409,9 @@ class Stock:
 
 
 def _dielectric_kinds(word: str) -> tuple[str, ...]:
-    return TIMING_CAP_CHOICES["film"] if word == "film" else (word,)
+    """Kind keys a drawer's dielectric word stands for; a plain "film" is taken as
+    polyester, the commoner and looser of the two (common practice)."""
+    return ("film-pet",) if word == "film" else (word,)
 
 
 _STOCK_FORMAT = ("columns kind,value[,qty][,dielectric] with kind R or C, a value such as "

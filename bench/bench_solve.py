@@ -1,0 +1,139 @@
+"""Time ``pulsepick solve "one flash every 3 s"`` end to end and print the solver's figures.
+
+Printed (not a timed unit test):
+
+* the whole command in a fresh interpreter (start, search, reference verification of
+  the top 5, 2,000-build spreads, report): median wall time of several runs against
+  the 1.5 s target, and peak memory against 300 MB (largest single process from
+  ``getrusage``, and the sum over the process tree, sampled, as an upper bound since
+  forked workers share pages);
+* a breakdown: interpreter start with every command loaded, search, assessment;
+* the search's rate (circuits evaluated per second) and its speed-up over evaluating
+  the same circuits with the reference engine (a timed sample of reference runs,
+  extrapolated).
+
+    python bench/bench_solve.py [--runs N]
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import resource
+import statistics
+import subprocess
+import sys
+import time
+
+PHRASE = "one flash every 3 s"
+TARGET_S = 1.5  # s, end to end (the project's speed requirement)
+TARGET_MB = 300.0  # MB, peak memory (the project's speed requirement)
+SAMPLE_REFERENCE = 8  # reference runs timed for the speed-up estimate
+
+
+def _tree_rss_kb(root: int) -> int:
+    """Resident memory of ``root`` and its descendants, kB (shared pages counted per process)."""
+    parents: dict[int, int] = {}
+    rss: dict[int, int] = {}
+    for name in os.listdir("/proc"):
+        if not name.isdigit():
+            continue
+        try:
+            with open(f"/proc/{name}/stat", encoding="ascii") as fh:
+                fields = fh.read().rsplit(")", 1)[1].split()
+            with open(f"/proc/{name}/status", encoding="ascii") as fh:
+                kb = next((int(line.split()[1]) for line in fh if line.startswith("VmRSS:")), 0)
+        except (OSError, StopIteration, ValueError, IndexError):
+            continue
+        parents[int(name)] = int(fields[1])
+        rss[int(name)] = kb
+    total, todo = 0, [root]
+    while todo:
+        pid = todo.pop()
+        total += rss.get(pid, 0)
+        todo.extend(p for p, parent in parents.items() if parent == pid)
+    return total
+
+
+def run_command(args: list[str]) -> tuple[float, float]:
+    """Wall time (s) and sampled peak tree memory (MB) of one command."""
+    start = time.perf_counter()
+    proc = subprocess.Popen([sys.executable, "-m", "pulsepick", *args],
+                            stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+    peak = 0
+    while proc.poll() is None:
+        peak = max(peak, _tree_rss_kb(proc.pid))
+        time.sleep(0.02)
+    wall = time.perf_counter() - start
+    err = proc.stderr.read().decode() if proc.stderr else ""
+    if proc.returncode != 0:
+        raise SystemExit(f"command failed ({proc.returncode}): {err.strip()}")
+    return wall, peak / 1024.0
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--runs", type=int, default=5, help="end-to-end runs (default 5)")
+    opts = parser.parse_args()
+
+    print(f"pulsepick solve \"{PHRASE}\": end to end in a fresh interpreter, {opts.runs} runs")
+    run_command(["solve", PHRASE])  # warm the file cache
+    walls, trees = [], []
+    for _ in range(opts.runs):
+        wall, tree = run_command(["solve", PHRASE])
+        walls.append(wall)
+        trees.append(tree)
+    single_mb = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024.0
+    median = statistics.median(walls)
+    print(f"  wall time: median {median:.2f} s (min {min(walls):.2f}, max {max(walls):.2f}); "
+          f"target {TARGET_S} s: {'met' if median <= TARGET_S else 'NOT met'}")
+    print(f"  peak memory: largest process {single_mb:.0f} MB; process tree (sampled, shared "
+          f"pages counted per process) {max(trees):.0f} MB; target {TARGET_MB:.0f} MB: "
+          f"{'met' if single_mb <= TARGET_MB else 'NOT met'}")
+    starts = [run_command(["--help"])[0] for _ in range(3)]
+    print(f"  of which interpreter start with every command loaded: "
+          f"{statistics.median(starts):.2f} s")
+
+    # in-process: search, assessment, rate and speed-up
+    from pulsepick.engine import reference
+    from pulsepick.request import make_request
+    from pulsepick.solve import assess, default_jobs, solve
+
+    req = make_request(PHRASE)
+    solve(req)  # warm caches
+    for jobs in sorted({1, default_jobs()}):
+        t0 = time.perf_counter()
+        result = solve(req, jobs=jobs)
+        t_search = time.perf_counter() - t0
+        t0 = time.perf_counter()
+        assessed = assess(result, jobs=jobs)
+        t_assess = time.perf_counter() - t0
+        rate = result.evaluated / t_search
+        print(f"  jobs={jobs}: search {t_search:.2f} s ({result.evaluated:,} circuits, "
+              f"{rate:,.0f} per second), verification and analyses of the top "
+              f"{len(result.candidates)} {t_assess:.2f} s")
+    steps = {}
+    for c in assessed.candidates:
+        for k, v in c.timings_s.items():
+            steps.setdefault(k, []).append(v)
+    print("  per candidate: " + ", ".join(f"{k} {statistics.mean(v):.3f} s" for k, v in
+                                          steps.items()))
+
+    # speed-up: the same circuits with the reference engine, from a timed sample
+    designs = [c.design for c in result.candidates]
+    sample = (designs * ((SAMPLE_REFERENCE // max(len(designs), 1)) + 1))[:SAMPLE_REFERENCE]
+    t0 = time.perf_counter()
+    for d in sample:
+        env, powered = d.env()
+        reference.simulate(d.topo, d.values, env, powered=bool(powered))
+    t_ref = (time.perf_counter() - t0) / len(sample)
+    one = solve(req, jobs=1)
+    t_search1 = one.search_s
+    speedup = one.evaluated * t_ref / t_search1
+    print(f"  reference engine: {t_ref:.3f} s per circuit (mean of {len(sample)}); the same "
+          f"{one.evaluated:,} circuits would take {one.evaluated * t_ref / 3600:.1f} h: the "
+          f"search is {speedup:,.0f} times faster (one process)")
+
+
+if __name__ == "__main__":
+    main()
