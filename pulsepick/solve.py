@@ -739,8 +739,12 @@ def _neighbours(values: np.ndarray, x: float) -> np.ndarray:
     return values[max(i - 1, 0): i + 2]
 
 
-def _variants(req: SolveRequest) -> list[tuple[str, str, str, list[Topology]]]:
-    """Search tasks: (core, steer, stage, topology variants), most expensive first."""
+def _variants(req: SolveRequest) -> list[tuple[str, str, list[Topology]]]:
+    """Search tasks: (core, steer, topology variants), one timing sweep each.
+
+    The costliest first (steered cores, then the plain Schmitt, then the 555), so
+    worker processes finish together.
+    """
     out = []
     for core in req.cores:
         steers = ("high", "low") if core == "schmitt-steered" else ("high",)
@@ -750,13 +754,15 @@ def _variants(req: SolveRequest) -> list[tuple[str, str, str, list[Topology]]]:
             bufs = (False, True)
         else:
             bufs = (req.buffered,)
+        order = {"fade": 0, "pulse": 1, "direct": 2}
         for steer in steers:
-            for stage in req.stages:
+            topos = []
+            for stage in sorted(req.stages, key=order.__getitem__):
                 lits = ("high", "low") if stage == "direct" else ("high",)
-                topos = [Topology(core, stage, buf, lit, steer) for buf in bufs for lit in lits]
-                out.append((core, steer, stage, topos))
-    cost = {"fade": 0, "pulse": 1, "direct": 2}
-    out.sort(key=lambda t: (cost[t[2]], t[0] == "timer555"))
+                topos += [Topology(core, stage, buf, lit, steer) for buf in bufs for lit in lits]
+            out.append((core, steer, topos))
+    rank = {"schmitt-steered": 0, "schmitt": 1, "timer555": 2}
+    out.sort(key=lambda t: rank[t[0]])
     return out
 
 
@@ -809,7 +815,7 @@ _TIMING_CACHE: dict[Any, Any] = {}
 
 def _search_task(req: SolveRequest, family: str, core: str, steer: str,
                  topos: list[Topology]) -> tuple[list[_Pick], int, dict[str, list[float]]]:
-    """One search task (a core variant and one stage's topologies) for one chip family."""
+    """One search task (a core variant and its stage topologies) for one chip family."""
     from pulsepick.engine.environment import PartChoice, chip_model, make_env
 
     chip = _chip(req, family)
@@ -854,7 +860,7 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
         if not bool(model.in_range(req.supply_v)):
             unpowered.append(f"{family} ({model.vdd_min_v:g}-{model.vdd_max_v:g} V)")
             continue
-        for core, steer, _stage, topos in _variants(req):
+        for core, steer, topos in _variants(req):
             if (core == "timer555") == chip.is_timer:
                 tasks.append((req, family, core, steer, topos))
     if unpowered:
@@ -1064,7 +1070,7 @@ def _optional(module: str, name: str):
 
 
 def _assess_one(design, target_period_s: float, builds: int, seed: int,
-                supply_end_v: float | None) -> dict[str, Any]:
+                supply_end_v: float | None, r_tols: dict[str, float]) -> dict[str, Any]:
     """Reference run, spread, drift and warnings of one design (runs in a worker)."""
     from pulsepick.errors import PulsepickError
 
@@ -1078,7 +1084,8 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
         supply_range = None if supply_end_v is None else (supply_end_v, design.supply_v)
         try:
             out["spread"] = spread_fn(design, target_period_s=target_period_s, builds=builds,
-                                      seed=seed, supply_range_v=supply_range)
+                                      seed=seed, supply_range_v=supply_range,
+                                      resistor_tol_pct=r_tols or None)
         except PulsepickError as err:
             out["warnings"].append(f"spread analysis: {err}")
         out["timings_s"]["spread"] = time.perf_counter() - t
@@ -1118,7 +1125,9 @@ def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
     cands = list(result.candidates)
     if not cands:
         return result
-    args = [(c.design, req.targets.period_s, req.builds, req.seed, req.supply_end_v)
+    # the spread uses the resistor tolerances of the parts list (the series asked for)
+    args = [(c.design, req.targets.period_s, req.builds, req.seed, req.supply_end_v,
+             {p.param: p.tolerance_pct for p in c.parts if p.kind == "resistor"})
             for c in cands]
     outputs: list[dict[str, Any] | None] = [None] * len(cands)
     if jobs > 1 and len(cands) > 1:
