@@ -168,9 +168,7 @@ class _Space:
 
     r_timing: np.ndarray  # ohm
     r_stage: np.ndarray  # ohm
-    r_stage_coarse: np.ndarray  # ohm
     c_stage: np.ndarray  # F
-    c_stage_coarse: np.ndarray  # F
     kinds: tuple[str, ...]  # timing capacitor kind keys
     c_timing: np.ndarray  # F
     c_kind: np.ndarray  # index into kinds
@@ -183,20 +181,6 @@ def _coarser(a: str, b: str) -> str:
     return a if SERIES_NAMES.index(a) <= SERIES_NAMES.index(b) else b
 
 
-def _coarse_of(values: np.ndarray, series) -> np.ndarray:
-    """About one value per E3 step, taken from ``values`` (nearest by ratio)."""
-    from pulsepick.series import get_series
-
-    if values.size <= 8:
-        return values
-    e3 = get_series("E3").values(float(values[0]), float(values[-1]))
-    if e3.size == 0:
-        return values[[0, -1]]
-    idx = np.searchsorted(np.log(values), np.log(e3))
-    idx = np.clip(idx, 0, values.size - 1)
-    return np.unique(values[idx])
-
-
 def _space(req: SolveRequest) -> _Space:
     from pulsepick.parts.capacitor import get_cap_kind
     from pulsepick.series import get_series
@@ -207,7 +191,6 @@ def _space(req: SolveRequest) -> _Space:
         stock_r = np.array(req.stock.resistors(), dtype=float)
         r_timing = stock_r[(stock_r >= req.r_min_ohm) & (stock_r <= req.r_max_ohm)]
         r_stage = stock_r[(stock_r >= STAGE_R_MIN_OHM) & (stock_r <= stage_r_hi)]
-        r_stage_coarse = r_stage
         pairs = req.stock.capacitors(req.timing_caps)
         kinds = tuple(dict.fromkeys(k for _, k in pairs))
         c_list, k_list = [], []
@@ -219,11 +202,9 @@ def _space(req: SolveRequest) -> _Space:
                 k_list.append(kinds.index(key))
         all_c = sorted({i.value for i in req.stock.items if i.kind == "C" and i.qty != 0})
         c_stage = np.array([c for c in all_c if req.c_min_f <= c <= req.c_max_f], dtype=float)
-        c_stage_coarse = c_stage
     else:
         r_timing = rser.values(req.r_min_ohm, req.r_max_ohm)
         r_stage = rser.values(STAGE_R_MIN_OHM, stage_r_hi)
-        r_stage_coarse = _coarse_of(r_stage, rser)
         kinds = tuple(req.timing_caps)
         c_list, k_list = [], []
         for i, key in enumerate(kinds):
@@ -239,12 +220,10 @@ def _space(req: SolveRequest) -> _Space:
         big = get_series(_coarser(req.c_series, "E6")).values(req.c_min_f, req.c_max_f)
         c_stage = np.unique(np.concatenate([small[small < STAGE_ELECTROLYTIC_FROM_F],
                                             big[big >= STAGE_ELECTROLYTIC_FROM_F]]))
-        c_stage_coarse = _coarse_of(c_stage, None)
     return _Space(
         r_timing=np.asarray(r_timing, dtype=float), r_stage=np.asarray(r_stage, dtype=float),
-        r_stage_coarse=np.asarray(r_stage_coarse, dtype=float),
         c_stage=np.asarray(c_stage, dtype=float),
-        c_stage_coarse=np.asarray(c_stage_coarse, dtype=float), kinds=kinds,
+        kinds=kinds,
         c_timing=np.asarray(c_list, dtype=float), c_kind=np.asarray(k_list, dtype=int),
         r_tol=rser.tolerance_pct / 100.0,
     )
@@ -867,6 +846,14 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
         explanations.append(
             f"At {req.supply_v:.2f} V these chips are outside their supply range and were "
             f"left out: {', '.join(unpowered)}.")
+    space = _space(req)
+    where = f"in {req.stock.source}" if req.stock is not None else "in the allowed ranges"
+    if space.c_timing.size == 0:
+        kinds = ", ".join(req.timing_caps)
+        explanations.append(f"No timing capacitor of the kinds allowed ({kinds}) is {where}; "
+                            "allow other kinds with --timing-cap or widen --cap-range.")
+    if space.r_timing.size == 0:
+        explanations.append(f"No timing resistor is {where} (--min-r to --max-r).")
     picks: list[_Pick] = []
     evaluated = 0
     seen: dict[str, list[float]] = {}
@@ -920,6 +907,10 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
         nearest = dict(candidates[0].figures)
     explanations += _explain(req, aims, seen, running)
     success = bool(running) and not nothing
+    if not success and not explanations:
+        explanations.append("No combination of the allowed parts oscillates with a visible "
+                            "LED at this supply; widen the value ranges, allow more circuits "
+                            "(--cores, --stages) or another LED or chip.")
     if not success:
         running = []
     else:

@@ -179,3 +179,13 @@ def test_assess_verifies_with_the_reference_engine():
         assert ref[key] == pytest.approx(c.figures[key], rel=0.01), key
     assert c.spread is not None and c.spread.builds == 200
     assert "reference" in c.timings_s
+
+
+def test_drawer_without_a_usable_timing_capacitor_is_explained():
+    from pulsepick.request import parse_stock
+
+    drawer = parse_stock("kind,value,qty,dielectric\nR,1M,2\nC,10u,1,electrolytic\n",
+                         "drawer.csv")
+    result = solve(make_request("every 3 s", stock=drawer, timing_cap="film"))
+    assert not result.success
+    assert any("No timing capacitor" in e and "drawer.csv" in e for e in result.explanations)
