@@ -7,7 +7,7 @@ import math
 import numpy as np
 
 from pulsepick.analysis.cautions import GENERAL_CAUTIONS
-from pulsepick.analysis.checks import assumptions, circuit_findings
+from pulsepick.analysis.checks import assumptions, circuit_findings, stage_loading_shift
 from pulsepick.circuits.base import STATUS_WORDS, Figures
 from pulsepick.commands.circuit_options import add_circuit_arguments, design_from_args
 from pulsepick.design import Design
@@ -71,30 +71,39 @@ def _status_reason(status: str, findings) -> str | None:
     return None
 
 
+#: Above this phase shift from the LED stage's load on the timing gate, the fast
+#: engine's first-order coupling is no longer trusted and the reference figures are used.
+STRONG_COUPLING = 0.05
+
+
 def analyse(design: Design, use_reference: bool):
-    """Figures, reference result (or None), findings and assumptions."""
+    """Figures, reference result (or None), findings, assumptions and the engine used."""
+    engine = "reference" if use_reference else "fast"
+    shift = stage_loading_shift(design)
+    if not use_reference and shift is not None and abs(shift) > STRONG_COUPLING:
+        engine = "reference (the stage's load shifts the timing strongly)"
+        use_reference = True
     ref = design.reference() if use_reference else None
     fig = ref.figures if ref is not None else design.fast()
-    return fig, ref, circuit_findings(design), assumptions(design)
+    return fig, ref, circuit_findings(design), assumptions(design), engine
 
 
 def run(args) -> int:
     design = design_from_args(args)
-    fig, ref, findings, assumed = analyse(design, args.reference)
+    fig, ref, findings, assumed, engine = analyse(design, args.reference)
     figures = figures_dict(fig)
     reason = _status_reason(figures["status"], findings)
     if args.json:
         out = dict(figures)
         out["status"] = {"state": figures["status"], "reason": reason}
-        out["assumptions"] = {**assumed, "engine": "reference" if args.reference else "fast",
+        out["assumptions"] = {**assumed, "engine": engine,
                               "circuit": design.topo.label(),
                               "values": {k: v for k, v in design.values.items()}}
         out["warnings"] = [f.text for f in findings]
         dump_json(out)
         return 0
     console = make_console()
-    render_report(console, design, figures, reason, findings, assumed,
-                  engine="reference" if args.reference else "fast")
+    render_report(console, design, figures, reason, findings, assumed, engine=engine)
     if not args.no_drawing:
         trace = ref if ref is not None else design.reference()
         _render_waveform(console, design, trace)
