@@ -17,6 +17,7 @@ from pulsepick.circuits.base import RUNS, STATUS_WORDS, Figures, Topology, check
 from pulsepick.engine import fast, reference
 from pulsepick.engine.environment import ChipSpec, PartChoice, make_env
 from pulsepick.errors import CircuitError
+from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
 
 
 @dataclass(frozen=True)
@@ -43,15 +44,36 @@ class Design:
         v = self.supply_v if vdd is None else vdd
         return make_env(self.chip, self.parts, v, c_timing=self.values["c1"], **kwargs)
 
+    def timing_cap_factor(self, env) -> Any:
+        """Share of C1 left under its working DC bias (1 except for class-2 ceramics).
+
+        A class-2 ceramic keeps only part of its value under bias; the timing capacitor
+        works at the middle of its swing between the switching levels.
+        """
+        kind = get_cap_kind(self.parts.timing_cap)
+        if not kind.class2:
+            return 1.0
+        v_bias = 0.5 * (np.asarray(env.vt_plus) + np.asarray(env.vt_minus))
+        rating = pick_voltage_rating(kind, float(np.max(env.vdd)))
+        return kind.dc_bias_factor(v_bias, rating)
+
+    def working_values(self, env) -> dict[str, Any]:
+        """Component values as the circuit sees them (C1 under its DC bias)."""
+        factor = self.timing_cap_factor(env)
+        if np.all(np.asarray(factor) == 1.0):
+            return self.values
+        return {**self.values, "c1": self.values["c1"] * factor}
+
     def fast(self, vdd=None, **kwargs) -> Figures:
         """Figures from the fast engine (arrays when ``vdd`` is an array)."""
         env, powered = self.env(vdd, **kwargs)
-        return fast.evaluate(self.topo, self.values, env, powered=powered)
+        return fast.evaluate(self.topo, self.working_values(env), env, powered=powered)
 
     def reference(self, vdd=None, **kwargs) -> reference.ReferenceResult:
         """Figures from the transient reference simulation (scalar supply only)."""
         env, powered = self.env(vdd, **kwargs)
-        return reference.simulate(self.topo, self.values, env, powered=bool(np.all(powered)))
+        return reference.simulate(self.topo, self.working_values(env), env,
+                                  powered=bool(np.all(powered)))
 
     def label(self) -> str:
         return f"{self.topo.label()}, {self.chip.family}, {self.parts.led.name}"

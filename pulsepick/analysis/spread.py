@@ -423,6 +423,7 @@ def _evaluate(design: Design, batch: _Batch) -> Figures:
     if r is not None:
         u = batch.rout_u
         env = replace(env, rout_high=r[0] + u * (r[1] - r[0]), rout_low=r[2] + u * (r[3] - r[2]))
+    vals["c1"] = vals["c1"] * design.timing_cap_factor(env)
     return fast.evaluate(design.topo, vals, env, powered=powered)
 
 
