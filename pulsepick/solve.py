@@ -234,17 +234,19 @@ def stage_cap_kind(value_f: float) -> str:
     return "electrolytic" if value_f >= STAGE_ELECTROLYTIC_FROM_F * (1 - 1e-9) else "x7r"
 
 
-def _cap_var(kind_key: str, v_supply: float) -> float:
-    """Variance (fraction²) of a timing capacitor's value from tolerance, drift and age."""
-    from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
+def _cap_var(kind_key: str) -> float:
+    """Variance (fraction²) of a timing capacitor's value from tolerance, drift and age.
+
+    A class-2 ceramic's loss under DC bias is not here: the circuit is evaluated at the
+    value left under its working bias, as :class:`pulsepick.design.Design` does.
+    """
+    from pulsepick.parts.capacitor import get_cap_kind
 
     kind = get_cap_kind(kind_key)
     tol = max(kind.tol_minus_pct, kind.tol_plus_pct) / 100.0
     temp = max(abs(float(kind.temperature_factor(t, "typ")) - 1.0) for t in TEMP_RANGE_C)
     age = kind.aging_pct_per_decade / 100.0 * AGING_DECADES if kind.class2 else 0.0
-    rating = pick_voltage_rating(kind, v_supply)
-    bias = 1.0 - float(kind.dc_bias_factor(0.5 * v_supply, rating))
-    return (tol**2 + temp**2 + age**2 + bias**2) / 3.0
+    return (tol**2 + temp**2 + age**2) / 3.0
 
 
 # ============================================================================ scoring
@@ -350,7 +352,7 @@ class _Searcher:
         flash = min(req.flash_s, 0.99 * t.period_s)
         self.short_target = min(flash, t.period_s - flash)
         self.long_target = t.period_s - self.short_target
-        self.cap_var = np.array([_cap_var(k, self.v) for k in self.space.kinds])
+        self.cap_var = np.array([_cap_var(k) for k in self.space.kinds])
 
     # -- bookkeeping ------------------------------------------------------------------------
     def _note_range(self, key: str, x) -> None:
@@ -418,6 +420,28 @@ class _Searcher:
         }
         self.chip_ranges = (plus, minus, step)
 
+    def _working(self, values: dict, kind: np.ndarray, env) -> dict:
+        """Values as the circuit sees them: a class-2 ceramic C1 under its DC bias.
+
+        The bias is the middle of the switching levels, the part's rating the one picked
+        for the full supply, as in :meth:`pulsepick.design.Design.working_values`.
+        """
+        from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
+
+        factor = np.ones(np.shape(values["c1"]))
+        bias = 0.5 * (np.asarray(env.vt_plus, dtype=float) + np.asarray(env.vt_minus,
+                                                                         dtype=float))
+        bias = np.broadcast_to(bias, factor.shape)
+        for i, key in enumerate(self.space.kinds):
+            k = get_cap_kind(key)
+            sel = kind == i
+            if k.class2 and np.any(sel):
+                rating = pick_voltage_rating(k, self.v)
+                factor[sel] = k.dc_bias_factor(bias[sel], rating)
+        if np.all(factor == 1.0):
+            return values
+        return {**values, "c1": values["c1"] * factor}
+
     def _timing_eval(self, core_topo, values, kind, short_of):
         """Periods, cost, variance and penalty of timing networks (arrays).
 
@@ -430,6 +454,7 @@ class _Searcher:
         envs = self.envs
         g_typ = self._cap_leak(c, kind, "typ")
         g_max = self._cap_leak(c, kind, "max")
+        values = self._working(values, kind, envs["typ"])
         th, tl, st = self._periods(core_topo, values, replace(envs["typ"], cap_leak_g=g_typ))
         period = th + tl
         running = st == RUNS
@@ -480,7 +505,8 @@ class _Searcher:
             vals = {"r1": R[ri], "c1": C[ci]}
             c_kind = sp.c_kind[ci]
             g = self._cap_leak(vals["c1"], c_kind, "typ")
-            th, tl, st = self._periods(plain, vals, replace(self.envs["typ"], cap_leak_g=g))
+            th, tl, st = self._periods(plain, self._working(vals, c_kind, self.envs["typ"]),
+                                       replace(self.envs["typ"], cap_leak_g=g))
             slow = tl if steer == "high" else th
             cost1 = np.where(st == RUNS, _log_err(slow, self.long_target) ** 2
                              + sp.r_tol**2 + self.cap_var[c_kind], np.inf)
@@ -500,7 +526,8 @@ class _Searcher:
         c_kind = sp.c_kind[ci]
         g = self._cap_leak(vals["c1"], c_kind, "typ")
         topo = Topology("timer555", "direct")
-        th, tl, st = self._periods(topo, vals, replace(self.envs["typ"], cap_leak_g=g))
+        th, tl, st = self._periods(topo, self._working(vals, c_kind, self.envs["typ"]),
+                                   replace(self.envs["typ"], cap_leak_g=g))
         cost1 = np.where(st == RUNS, _log_err(tl, self.short_target) ** 2
                          + sp.r_tol**2 + self.cap_var[c_kind], np.inf)
         keep1 = _best_per_group(cost1, ci, 3, K_SLOW)
@@ -611,6 +638,7 @@ class _Searcher:
         reps = len(supplies)
         vals = {k: np.tile(v[t_idx], reps) for k, v in tim.values.items()}
         vals.update({k: np.tile(v, reps) for k, v in s_vals.items()})
+        vals = self._working(vals, np.tile(tim.kind[t_idx], reps), env_rows)
         self.evaluated += vdd.size
         from pulsepick.engine import fast
 
@@ -653,6 +681,7 @@ class _Searcher:
     def _eval_cost(self, topo, tim: _Timing, t_idx, stage_vals, env, npart):
         vals = {k: v[t_idx] for k, v in tim.values.items()}
         vals.update(stage_vals)
+        vals = self._working(vals, tim.kind[t_idx], env)
         f = self._evaluate(topo, vals, replace(env, cap_leak_g=tim.g_typ[t_idx]))
         cost, parts = _cost(f, self.aims, self.weights, tim.var[t_idx], npart, self.v,
                             tim.penalty[t_idx])
@@ -874,14 +903,16 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
             groups.add(key)
             chosen.append(pick)
     chosen = chosen[:req.top]
-    idents = {_ident(p) for p in chosen}
-    for pick in picks:
-        if len(chosen) >= req.top:
-            break
-        if _ident(pick) not in idents and _ident_loose(pick) not in {_ident_loose(c)
-                                                                    for c in chosen}:
-            idents.add(_ident(pick))
-            chosen.append(pick)
+    # then other variants (polarity, buffering, chip), then other timing networks; a
+    # mere change of the LED resistor is a near-copy and never fills a place
+    for ident in (_ident_variant, _ident_timing):
+        taken = {ident(p) for p in chosen}
+        for pick in picks:
+            if len(chosen) >= req.top:
+                break
+            if ident(pick) not in taken:
+                taken.add(ident(pick))
+                chosen.append(pick)
     chosen.sort(key=lambda p: p.cost)
 
     aims = req.aims()
@@ -937,13 +968,17 @@ def _run_tasks(fn, tasks: list[tuple], jobs: int) -> list:
         return [f.result() for f in futures]
 
 
-def _ident_loose(pick: _Pick) -> tuple:
-    """Near-copies: the same core, stage and values (buffering or polarity aside)."""
-    return (pick.topo.core, pick.topo.stage, tuple(sorted(pick.values.items())))
+def _ident_variant(pick: _Pick) -> tuple:
+    """A topology variant on one chip family."""
+    return (pick.family, pick.topo)
 
 
-def _ident(pick: _Pick) -> tuple:
-    return (pick.family, pick.topo, tuple(sorted(pick.values.items())), pick.kind)
+def _ident_timing(pick: _Pick) -> tuple:
+    """A topology variant with its timing network's values."""
+    from pulsepick.circuits.base import get_core
+
+    names = [p.name for p in get_core(pick.topo.core).params]
+    return (pick.family, pick.topo, tuple(pick.values[n] for n in names), pick.kind)
 
 
 def _stage_kind(req: SolveRequest, pick: _Pick) -> str:
