@@ -189,3 +189,27 @@ def test_drawer_without_a_usable_timing_capacitor_is_explained():
     result = solve(make_request("every 3 s", stock=drawer, timing_cap="film"))
     assert not result.success
     assert any("No timing capacitor" in e and "drawer.csv" in e for e in result.explanations)
+
+
+def test_offered_figures_are_the_designs_own():
+    # the search evaluates in batches; each candidate's figures must be exactly what its
+    # Design gives alone (an X7R timing capacitor is evaluated under its DC bias by both)
+    req = make_request("flash every 1 s for 30 ms", timing_cap="x7r", supply="2.7V..1.8V",
+                       family="lvc,timer555", stages="direct,pulse", top=4)
+    for c in solve(req).candidates:
+        alone = c.design.fast().row(0)
+        end = c.design.fast(1.8).row(0)
+        for key in ("period_s", "flash_s", "led_peak_a", "supply_avg_a"):
+            assert c.figures[key] == pytest.approx(alone[key], rel=1e-9), key
+            assert c.end_figures[key] == pytest.approx(end[key], rel=1e-9), key
+
+
+def test_no_near_copies_fill_the_list():
+    req = make_request("flash every 1 s for 30 ms", stages="direct", top=5)
+    cands = solve(req).candidates
+    timing = set()
+    for c in cands:
+        core_values = tuple(v for k, v in sorted(c.design.values.items()) if k != "rs")
+        key = (c.design.chip.family, c.design.topo, core_values)
+        assert key not in timing
+        timing.add(key)
