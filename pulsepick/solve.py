@@ -25,13 +25,14 @@ The score
 ---------
 Lower is better. For each stated aim, ``(ln(figure/aim))²/sigma²`` with sigma = ln 1.1 (a
 10 % miss, about one E24 step, costs 1). Assumed aims (a flash of 50 ms, a 5 mA
-peak, when the request does not say) cost at most 5, flattening out beyond a factor
+peak, when the request does not say) cost at most 20, flattening out beyond a factor
 of about two, so they guide without pulling a stated aim off. The period term adds
 the expected squared spread of the period: resistor and capacitor tolerance, the
-capacitor's drift over -20..+50 °C and its aging and DC-bias loss, the shift the
-guaranteed-maximum pin and capacitor leakage causes at 25 °C, the chip's threshold
-limits, and, for a supply range, the change from full to end of night (each taken
-as uniform within its bounds: variance = width²/12, or bound²/3 about a centre).
+capacitor's drift over -20..+50 °C and its aging (a class-2 ceramic is evaluated at
+the value left under its DC bias), the shift the guaranteed-maximum pin and capacitor
+leakage causes at 25 °C, the chip's thresholds (triangular between minimum, typical
+and maximum), and, for a supply range, the change from full to end of night (the
+others taken as uniform within their bounds: variance bound²/3).
 A timing network that stalls with the hot-end maximum leakage costs 3 more. An
 electrolytic timing capacitor, a resistor near the leakage limit or a chip with
 wide thresholds so ranks lower. Then one point per decade of energy per flash
@@ -63,7 +64,7 @@ SIGMA = math.log(1.1)
 #: about a factor 1.8 (width ln 2): it guides where nothing was asked but never pulls a
 #: stated aim off (a circuit whose flash is tied to its period keeps the period asked).
 #: Design choice.
-ASSUMED_MAX_COST = 5.0
+ASSUMED_MAX_COST = 20.0
 ASSUMED_WIDTH = math.log(2.0)
 #: Cost per decade of energy per flash. Design choice (a solar build lives on it).
 ENERGY_WEIGHT = 1.0
@@ -392,22 +393,26 @@ class _Searcher:
     def set_chip_envs(self, env, model) -> None:
         """The environments the timing sweep needs: typical, leaky, and shifted thresholds.
 
-        The chip's threshold spread enters the period variance as uniform spreads of
-        VT+ and VT- (or the 555's threshold and trigger levels) over their datasheet
-        limits at the design supply, propagated with finite differences; measured
-        thresholds (the user's own chip) carry none.
+        The chip's threshold spread enters the period variance as triangular spreads of
+        VT+ and VT- (or the 555's threshold and trigger levels) between their datasheet
+        minimum, typical and maximum at the design supply, propagated with finite
+        differences; measured thresholds (the user's own chip) carry none.
         """
         v = self.v
         chip = self.chip
         if chip.is_timer:
             leak, hot = model.leak_a, model.leak_a
-            plus = (model.thr_ratio_max - model.thr_ratio_min) * v
-            minus = (model.trig_ratio_max - model.trig_ratio_min) * v
+            plus = _triangular_var(model.thr_ratio_min * v, model.thr_ratio_typ * v,
+                                   model.thr_ratio_max * v)
+            minus = _triangular_var(model.trig_ratio_min * v, model.trig_ratio_typ * v,
+                                    model.trig_ratio_max * v)
         else:
             leak, hot = model.leak_max_a, model.leak_max_hot_a
             th = model.thresholds(v)
-            plus = float(th.vt_plus_max - th.vt_plus_min)
-            minus = float(th.vt_minus_max - th.vt_minus_min)
+            plus = _triangular_var(float(th.vt_plus_min), float(th.vt_plus_typ),
+                                   float(th.vt_plus_max))
+            minus = _triangular_var(float(th.vt_minus_min), float(th.vt_minus_typ),
+                                    float(th.vt_minus_max))
         if chip.measured:
             plus = minus = 0.0
         step = THRESHOLD_STEP * v
@@ -466,15 +471,15 @@ class _Searcher:
         shift = np.where((st2 == RUNS) & np.isfinite(shift), shift, 1.0)
         var = (2 * self.space.r_tol**2) / 3.0 + self.cap_var[kind] + shift**2 / 3.0
         plus, minus, step = self.chip_ranges
-        for name, width in (("plus", plus), ("minus", minus)):
-            if width <= 0:
+        for name, chip_var in (("plus", plus), ("minus", minus)):
+            if chip_var <= 0:
                 continue
             a, b, st4 = self._periods(core_topo, values, replace(self.envs[name],
                                                                  cap_leak_g=g_typ))
             with np.errstate(all="ignore"):
                 slope = np.log((a + b) / period) / step
             slope = np.where((st4 == RUNS) & np.isfinite(slope), slope, 0.0)
-            var = var + (slope * width) ** 2 / 12.0
+            var = var + slope**2 * chip_var
         penalty = np.where(st3 == RUNS, 0.0, PENALTY_HOT_LEAK)
         t = self.req.targets
         cost = (_log_err(period, t.period_s) ** 2 + var) / SIGMA**2
@@ -704,6 +709,12 @@ class _Searcher:
             if have is not None and have < n:
                 return False
         return True
+
+
+def _triangular_var(low: float, mode: float, high: float) -> float:
+    """Variance of a triangular distribution (V²): (a² + b² + c² - ab - ac - bc)/18."""
+    a, b, c = low, high, mode
+    return max((a * a + b * b + c * c - a * b - a * c - b * c) / 18.0, 0.0)
 
 
 def _slice_figures(f, sl: slice):
