@@ -28,8 +28,16 @@ from pulsepick.commands.circuit_options import (
     design_from_args,
     parts_from_args,
 )
+from pulsepick.commands.pictures import (
+    add_picture_arguments,
+    announce,
+    bands_pictures,
+    check_picture_targets,
+    oscillating_periods,
+)
 from pulsepick.errors import PulsepickError, RequestError
 from pulsepick.render import dump_json, make_console, print_wrapped, simple_table
+from pulsepick.textplot import spread_lines
 from pulsepick.units import format_eng, format_rkm, parse_quantity, parse_range
 
 NAME = "bands"
@@ -65,6 +73,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     g.add_argument("--within", default="10%", metavar="PCT",
                    help="a build is good within this much of the target period (default 10%%)")
     parser.add_argument("--json", action="store_true", help="print plain JSON on stdout")
+    add_picture_arguments(parser)
 
 
 # ---------------------------------------------------------------------------- reading options
@@ -153,6 +162,7 @@ def _analyse(args) -> BandsResult:
 # ---------------------------------------------------------------------------- output
 
 def run(args) -> int:
+    check_picture_targets(args)
     result = _analyse(args)
     if args.json:
         out = result.as_dict()
@@ -162,8 +172,10 @@ def run(args) -> int:
                          "supply_v": result.design.supply_v,
                          "values": dict(result.design.values)}
         dump_json(out)
+        announce(args, bands_pictures(args, result, tuple(_advice(result))))
         return 0
     render(make_console(), result)
+    announce(args, bands_pictures(args, result, tuple(_advice(result))))
     return 0
 
 
@@ -234,6 +246,12 @@ def render(console, result: BandsResult) -> None:
     print_wrapped(console, f"period as specified: P5 {format_eng(p5, 's')}, P50 "
                   f"{format_eng(p50, 's')}, P95 {format_eng(p95, 's')}; worst-case corners "
                   f"{format_eng(c_lo, 's')} to {hi_text}")
+    console.print()
+    periods, not_drawn = oscillating_periods(cur)
+    console.print("[bold]period over the builds, as specified[/bold]")
+    for line in spread_lines(periods, p5_s=p5, p95_s=p95, target_s=result.target_period_s,
+                             yield_band=result.yield_band, not_drawn=not_drawn):
+        console.print(line, markup=False, highlight=False)
     console.print()
 
     rows = []

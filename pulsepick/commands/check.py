@@ -10,6 +10,12 @@ from pulsepick.analysis.cautions import GENERAL_CAUTIONS
 from pulsepick.analysis.checks import assumptions, circuit_findings, stage_loading_shift
 from pulsepick.circuits.base import STATUS_WORDS, Figures
 from pulsepick.commands.circuit_options import add_circuit_arguments, design_from_args
+from pulsepick.commands.pictures import (
+    add_picture_arguments,
+    announce,
+    check_picture_targets,
+    check_pictures,
+)
 from pulsepick.design import Design
 from pulsepick.render import dump_json, make_console, print_wrapped, simple_table
 from pulsepick.textplot import waveform_lines
@@ -50,6 +56,7 @@ def add_arguments(parser) -> None:
     parser.add_argument("--no-drawing", action="store_true",
                         help="leave out the waveform drawing (saves a short simulation)")
     parser.add_argument("--json", action="store_true", help="print plain JSON on stdout")
+    add_picture_arguments(parser)
 
 
 def figures_dict(fig: Figures) -> dict:
@@ -90,6 +97,7 @@ def analyse(design: Design, use_reference: bool):
 
 def run(args) -> int:
     design = design_from_args(args)
+    check_picture_targets(args)
     fig, ref, findings, assumed, engine = analyse(design, args.reference)
     figures = figures_dict(fig)
     reason = _status_reason(figures["status"], findings)
@@ -101,13 +109,16 @@ def run(args) -> int:
                               "values": {k: v for k, v in design.values.items()}}
         out["warnings"] = [f.text for f in findings]
         dump_json(out)
+        announce(args, check_pictures(args, design, figures, reason, findings, assumed, ref,
+                                      engine))
         return 0
     console = make_console()
     render_report(console, design, figures, reason, findings, assumed, engine=engine)
     if not args.no_drawing:
-        trace = ref if ref is not None else design.reference()
-        _render_waveform(console, design, trace)
+        ref = ref if ref is not None else design.reference()
+        _render_waveform(console, design, ref)
     _render_cautions(console)
+    announce(args, check_pictures(args, design, figures, reason, findings, assumed, ref, engine))
     return 0
 
 
@@ -161,7 +172,8 @@ def _render_waveform(console, design: Design, ref) -> None:
     console.print("[bold]one period[/bold] (reference simulation)")
     for line in waveform_lines(ref.trace["t_s"], ref.trace["vc_v"], ref.trace["led_a"],
                                vt_plus=float(np.ravel(env.vt_plus)[0]),
-                               vt_minus=float(np.ravel(env.vt_minus)[0])):
+                               vt_minus=float(np.ravel(env.vt_minus)[0]),
+                               high_s=float(ref.figures.row()["high_s"])):
         console.print(line, markup=False)
 
 

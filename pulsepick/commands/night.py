@@ -21,6 +21,12 @@ from rich.text import Text
 from pulsepick import __version__
 from pulsepick.analysis.cautions import NOT_A_SAFETY_LIGHT
 from pulsepick.analysis.night import NightResult, simulate_night, simulate_until_stop
+from pulsepick.commands.pictures import (
+    add_picture_arguments,
+    announce,
+    check_picture_targets,
+    night_pictures,
+)
 from pulsepick.errors import PulsepickError, RequestError
 from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS, Storage, custom_storage, get_storage
 from pulsepick.render import dump_json, make_console, simple_table
@@ -96,6 +102,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     out.add_argument("--no-circuit", action="store_true",
                      help="a bare storage budget: no circuit, only leakage and --extra-load")
     out.add_argument("--json", action="store_true", help="write the result as JSON on stdout")
+    add_picture_arguments(parser)
 
 
 # ---------------------------------------------------------------------------- reading options
@@ -273,6 +280,7 @@ def run(args: argparse.Namespace) -> int:
     """Read the options, simulate the night, print the report or JSON."""
     storage = _read_storage(args.storage, args.rated)
     night = _read_night(args)
+    check_picture_targets(args)
     if night is None and not (args.no_circuit and args.stop_at is not None):
         raise RequestError(NO_NIGHT)
     v_start = (storage.v_rated_v if args.start is None
@@ -313,6 +321,7 @@ def run(args: argparse.Namespace) -> int:
         dump_json(result_json(result, night))
     else:
         render_report(result, night, make_console())
+    announce(args, night_pictures(args, result, night))
     return 0
 
 
