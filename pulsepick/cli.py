@@ -38,19 +38,31 @@ class _UsageError(PulsepickError):
     pass
 
 
-def _load_commands() -> list[ModuleType]:
-    modules = []
-    for name in COMMAND_MODULES:
-        try:
-            modules.append(importlib.import_module(f"pulsepick.commands.{name}"))
-        except ModuleNotFoundError as err:
-            if err.name != f"pulsepick.commands.{name}":
-                raise
-    return modules
+def _load_command(name: str) -> ModuleType | None:
+    try:
+        return importlib.import_module(f"pulsepick.commands.{name}")
+    except ModuleNotFoundError as err:
+        if err.name != f"pulsepick.commands.{name}":
+            raise
+    return None
 
 
-def build_parser() -> argparse.ArgumentParser:
-    """The full parser with every registered command."""
+def _selected_command(argv: list[str]) -> str | None:
+    """The command word of ``argv`` when it names a registered command."""
+    for word in argv:
+        if word.startswith("-"):
+            continue
+        return word if word in COMMAND_MODULES else None
+    return None
+
+
+def build_parser(selected: str | None = None) -> argparse.ArgumentParser:
+    """The parser with every registered command.
+
+    With ``selected``, only that command's module is imported (the others get a bare
+    entry), which keeps start-up short; without it every command is loaded for the
+    full command list.
+    """
     parser = _Parser(
         prog="pulsepick",
         description=DESCRIPTION,
@@ -60,7 +72,13 @@ def build_parser() -> argparse.ArgumentParser:
     parser.add_argument("--version", action="version", version=f"pulsepick {__version__}")
     parser.add_argument("--debug", action="store_true", help="show a traceback on internal errors")
     sub = parser.add_subparsers(dest="command", metavar="<command>", parser_class=_Parser)
-    for module in _load_commands():
+    for name in COMMAND_MODULES:
+        if selected is not None and name != selected:
+            sub.add_parser(name, add_help=False)
+            continue
+        module = _load_command(name)
+        if module is None:
+            continue
         examples = "\n".join(f"  {line}" for line in module.EXAMPLES)
         cmd = sub.add_parser(
             module.NAME,
@@ -81,7 +99,7 @@ def main(argv: list[str] | None = None) -> int:
     args_list = list(sys.argv[1:] if argv is None else argv)
     debug = "--debug" in args_list
     try:
-        parser = build_parser()
+        parser = build_parser(_selected_command(args_list))
         args = parser.parse_args(args_list)
         if not getattr(args, "command", None):
             parser.print_help()

@@ -23,7 +23,7 @@ from pulsepick.circuits.direct import led_dynamic_resistance
 
 #: Node set in y for the rise: dense where the LED is coming on, sparse on the tail.
 _Y_NODES = np.concatenate([np.linspace(0.0, 8.0, 49)[:-1], np.linspace(8.0, 40.0, 17)])
-_BISECTIONS = 24
+_ROOT_STEPS = 40
 
 
 def _steady_hold(env: Env, v_src, r_in):
@@ -102,22 +102,37 @@ class FadeStage:
             return np.minimum(led.voltage(i_off), v_end), t_start, v_end, q_on, i_pk
 
         # periodic steady state: the map v0 -> v1 is increasing and contracting, so the
-        # fixed point lies where one_period(v) - v changes sign (bisection on [0, V*])
+        # fixed point is the root of F(v) = one_period(v) - v, bracketed by [0, V*]
+        # (F(0) >= 0 >= F(V*)); Illinois-style false position, vectorised
         lo = np.zeros_like(v_star)
         hi = v_star.copy()
         if state is not None:  # a previous pass's answer narrows the bracket
-            lo = np.clip(v_start - 0.05, 0.0, v_star)
-            hi = np.clip(v_start + 0.05, 0.0, v_star)
-            up = one_period(lo)[0] >= lo
-            dn = one_period(hi)[0] <= hi
-            lo = np.where(up, lo, 0.0)
-            hi = np.where(dn, hi, v_star)
-        for _ in range(_BISECTIONS):
-            mid = 0.5 * (lo + hi)
-            grows = one_period(mid)[0] > mid
-            lo = np.where(grows, mid, lo)
-            hi = np.where(grows, hi, mid)
-        v_start, t_start, v_end, q_led_on, i_pk = one_period(0.5 * (lo + hi))
+            lo = np.clip(v_start - 0.02, 0.0, v_star)
+            hi = np.clip(v_start + 0.02, 0.0, v_star)
+        f_lo = one_period(lo)[0] - lo
+        f_hi = one_period(hi)[0] - hi
+        lo, f_lo = np.where(f_lo >= 0, lo, 0.0), np.where(f_lo >= 0, f_lo, 1.0)
+        hi, f_hi = np.where(f_hi <= 0, hi, v_star), np.where(f_hi <= 0, f_hi, -1.0)
+        if state is None or np.any((f_lo == 1.0) | (f_hi == -1.0)):
+            f_lo = one_period(lo)[0] - lo
+            f_hi = one_period(hi)[0] - hi
+        side = np.zeros(lo.shape)
+        for _ in range(_ROOT_STEPS):
+            with np.errstate(divide="ignore", invalid="ignore"):
+                mid = np.where(f_lo - f_hi > 0, lo + f_lo * (hi - lo) / (f_lo - f_hi),
+                               0.5 * (lo + hi))
+            mid = np.clip(mid, lo, hi)
+            f_mid = one_period(mid)[0] - mid
+            up = f_mid > 0
+            # Illinois: halve the value kept at the end that did not move twice running
+            f_hi = np.where(up & (side > 0), 0.5 * f_hi, f_hi)
+            f_lo = np.where(~up & (side < 0), 0.5 * f_lo, f_lo)
+            lo, f_lo = np.where(up, mid, lo), np.where(up, f_mid, f_lo)
+            hi, f_hi = np.where(up, hi, mid), np.where(up, f_hi, f_mid)
+            side = np.where(up, 1.0, -1.0)
+            if np.all((np.abs(f_mid) < 1e-9) | (hi - lo < 1e-9)):
+                break
+        v_start, t_start, v_end, q_led_on, i_pk = one_period(mid)
         q_led_off = ch * (v_end - v_start)
         q_in = q_led_off + q_led_on
         q_led = q_led_off + q_led_on

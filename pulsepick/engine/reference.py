@@ -40,29 +40,33 @@ class ScalarShockley:
 
     V = n·V_T·ln(1 + I/I_s) + I·R is convex and increasing in u = ln(I + I_s); Newton
     started above the root (the smaller of the two single-term solutions) converges
-    monotonically.
+    monotonically; started below it (from the previous call's answer, usually within a
+    hair of the new root) one step lands above it, and steps are kept under the bound.
     """
 
     def __init__(self, junction) -> None:
         self.i_s = float(junction.i_s)
         self.nvt = float(junction.n) * K_OVER_Q * float(junction.temperature_k)
         self.r_s = float(junction.r_s)
+        self._ln_is = math.log(self.i_s)
+        self._last_u: float | None = None
 
     def current(self, v: float, r_ext: float) -> float:
         if v <= 0.0:
             return 0.0
-        i_s, nvt, r = self.i_s, self.nvt, self.r_s + r_ext
-        ln_is = math.log(i_s)
-        u = ln_is + min(v / nvt, 700.0)
+        i_s, nvt, r, ln_is = self.i_s, self.nvt, self.r_s + r_ext, self._ln_is
+        u_hi = ln_is + min(v / nvt, 700.0)
         if r > 0:
-            u = min(u, math.log(i_s + v / r))
+            u_hi = min(u_hi, math.log(i_s + v / r))
+        u = u_hi if self._last_u is None else min(self._last_u, u_hi)
         for _ in range(100):
             e = math.exp(u)
             f = nvt * (u - ln_is) + (e - i_s) * r - v
             step = f / (nvt + e * r)
-            u -= step
+            u = min(u - step, u_hi)
             if abs(step) < 1e-13:
                 break
+        self._last_u = u
         return max(math.exp(u) - i_s, 0.0)
 
 
@@ -105,13 +109,34 @@ class _Circuit:
         self.core, self.stage = get_core(topo.core), get_stage(topo.stage)
         self.timer = self.core.chip_kind == "timer"
         self.n_x = self.stage.n_states
+        self._last_node: dict = {}
 
-    def _solve_node(self, v_src: float, r_out: float, load) -> float:
-        """Node voltage where the gate's output current equals the load's draw."""
+    def _solve_node(self, v_src: float, r_out: float, load, key) -> float:
+        """Node voltage where the gate's output current equals the load's draw.
+
+        Secant steps from the node's previous voltage (it moves little between calls),
+        falling back to a bracketed root find when they do not settle.
+        """
         def kcl(vo):
             return (v_src - vo) / r_out - load(vo)
+
+        x0 = self._last_node.get(key)
+        if x0 is not None:
+            x1 = x0 + 1e-4
+            f0, f1 = kcl(x0), kcl(x1)
+            for _ in range(12):
+                if f1 == f0:
+                    break
+                x2 = x1 - f1 * (x1 - x0) / (f1 - f0)
+                x0, f0 = x1, f1
+                x1, f1 = x2, kcl(x2)
+                if abs(x1 - x0) < 1e-12:
+                    self._last_node[key] = x1
+                    return x1
         lo, hi = -2.0 - self.env.vdd, 2.0 * self.env.vdd + 2.0
-        return brentq(kcl, lo, hi, xtol=1e-13, rtol=1e-13, maxiter=200)
+        root = brentq(kcl, lo, hi, xtol=1e-13, rtol=1e-13, maxiter=200)
+        self._last_node[key] = root
+        return root
 
     def nodes(self, vc: float, xs: list[float], high: bool):
         """Solve the output nodes; return (i_cap, dxs, i_led, i_supply, vo)."""
@@ -121,18 +146,20 @@ class _Circuit:
         v_src, r_out = (env.vdd, env.rout_high) if high else (0.0, env.rout_low)
         if self.timer:
             vo_t = v_src
-            vo_s = self._solve_node(v_src, r_out, lambda vo: stage_out(vo, high))
+            vo_s = self._solve_node(v_src, r_out, lambda vo: stage_out(vo, high), ("s", high))
             drv_high = high
             supply_gate = (env.vdd - vo_s) / env.rout_high if high else 0.0
         elif topo.buffered:
-            vo_t = self._solve_node(v_src, r_out, core_out)
+            vo_t = self._solve_node(v_src, r_out, core_out, ("t", high))
             drv_high = not high
             b_src, b_r = (env.vdd, env.rout_high) if drv_high else (0.0, env.rout_low)
-            vo_s = self._solve_node(b_src, b_r, lambda vo: stage_out(vo, drv_high))
+            vo_s = self._solve_node(b_src, b_r, lambda vo: stage_out(vo, drv_high),
+                                    ("s", drv_high))
             supply_gate = ((env.vdd - vo_t) / env.rout_high if high else 0.0) + \
                           ((env.vdd - vo_s) / env.rout_high if drv_high else 0.0)
         else:
-            vo_t = self._solve_node(v_src, r_out, lambda vo: core_out(vo) + stage_out(vo, high))
+            vo_t = self._solve_node(v_src, r_out, lambda vo: core_out(vo) + stage_out(vo, high),
+                                    ("t", high))
             vo_s = vo_t
             drv_high = high
             supply_gate = (env.vdd - vo_t) / env.rout_high if high else 0.0
@@ -244,8 +271,8 @@ def _measure(circ: _Circuit, env, sols, success, message, cycles, powered) -> Re
     samples = []
     for high, a, b, sol in ((True, t0h, t1h, sol_h), (False, t0l, t1l, sol_l)):
         span = b - a
-        offs = np.unique(np.concatenate([[0.0], np.geomspace(1e-9 * span, span, 500),
-                                         np.linspace(0.0, span, 300)]))
+        offs = np.unique(np.concatenate([[0.0], np.geomspace(1e-9 * span, span, 200),
+                                         np.linspace(0.0, span, 100)]))
         ts = np.clip(a + offs, a, b)
         i = np.array([led_at(sol, high, t) for t in ts])
         samples.append((high, sol, ts, i))
