@@ -15,10 +15,10 @@ facts.md S50). This serves the pulse stage (flash and reset) and the fade stage
 from __future__ import annotations
 
 import numpy as np
-from scipy import constants
+from pulsepick.physconst import K_OVER_Q_V_PER_K
 
-#: Boltzmann constant over elementary charge, V/K (scipy.constants, CODATA).
-K_OVER_Q = constants.k / constants.e
+#: Boltzmann constant over elementary charge, V/K (exact SI values, see physconst).
+K_OVER_Q = K_OVER_Q_V_PER_K
 
 
 def n_vt(junction) -> float:

@@ -17,7 +17,6 @@ from typing import Any
 
 import numpy as np
 from scipy.integrate import solve_ivp
-from scipy.optimize import brentq
 
 from pulsepick.circuits.base import (
     DARK,
@@ -33,6 +32,39 @@ from pulsepick.circuits.base import (
     get_stage,
 )
 from pulsepick.circuits.decay import K_OVER_Q
+
+
+def brentq(f, a: float, b: float, xtol: float = 1e-13, rtol: float = 1e-13,
+           maxiter: int = 200) -> float:
+    """Root of ``f`` in the bracket [a, b] (signs must differ): Illinois false position
+    with a bisection step whenever it stalls. Small and local, so the reference engine
+    does not need scipy.optimize at start-up."""
+    fa, fb = f(a), f(b)
+    if fa == 0.0:
+        return a
+    if fb == 0.0:
+        return b
+    if (fa > 0) == (fb > 0):
+        raise ValueError("root not bracketed")
+    side = 0
+    for _ in range(maxiter):
+        c = b - fb * (b - a) / (fb - fa)
+        if not (min(a, b) < c < max(a, b)):
+            c = 0.5 * (a + b)
+        fc = f(c)
+        if fc == 0.0 or abs(b - a) <= xtol + rtol * abs(c):
+            return c
+        if (fc > 0) == (fb > 0):
+            b, fb = c, fc
+            if side == -1:
+                fa *= 0.5
+            side = -1
+        else:
+            a, fa = c, fc
+            if side == 1:
+                fb *= 0.5
+            side = 1
+    return 0.5 * (a + b)
 
 
 class ScalarShockley:

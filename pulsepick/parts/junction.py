@@ -19,7 +19,8 @@ References
 .. [1] photonica.io glossary "Ideality factor" (diode law and slopes; facts.md S50).
 .. [2] R. M. Corless et al., "On the Lambert W function", Adv. Comput. Math. 5 (1996)
    (the closed form of the diode-plus-resistor equation; textbook result).
-.. [3] scipy.constants (CODATA 2018 values of k and e).
+.. [3] SI 2019 exact values of k and e (pulsepick.physconst; checked against
+       scipy.constants).
 """
 
 from __future__ import annotations
@@ -28,8 +29,9 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import constants
 from scipy.special import lambertw
+
+from pulsepick.physconst import K_OVER_Q_V_PER_K
 
 from pulsepick.errors import PartError
 
@@ -49,7 +51,7 @@ def thermal_voltage(temperature_k: float = 300.0) -> float:
 
     References
     ----------
-    scipy.constants ``k`` and ``e`` (CODATA 2018).
+    the exact SI values of ``k`` and ``e`` (equal to scipy.constants, CODATA 2018).
 
     Examples
     --------
@@ -58,10 +60,10 @@ def thermal_voltage(temperature_k: float = 300.0) -> float:
     """
     if not temperature_k > 0:
         raise PartError(f"junction temperature must be above 0 K, got {temperature_k} K")
-    return constants.k * temperature_k / constants.e
+    return K_OVER_Q_V_PER_K * temperature_k
 
 
-# k*T/q at 300 K, scipy.constants (CODATA 2018): 25.85 mV (facts.md section 8, derived).
+# k*T/q at 300 K, exact SI constants (= scipy.constants, CODATA 2018): 25.85 mV (facts.md section 8, derived).
 THERMAL_VOLTAGE_300K = thermal_voltage(300.0)
 
 

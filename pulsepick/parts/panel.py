@@ -26,8 +26,9 @@ from dataclasses import dataclass, field
 from functools import cache
 
 import numpy as np
-from scipy import constants
 from scipy.special import lambertw
+
+from pulsepick.physconst import K_OVER_Q_V_PER_K
 
 from pulsepick.errors import PartError
 from pulsepick.tables import load_table
@@ -50,8 +51,8 @@ TYPICAL_CELL_VOC_V = 0.6
 
 
 def thermal_voltage(temperature_k: float) -> float:
-    """k·T/q in volts (scipy.constants, CODATA values)."""
-    return constants.k * temperature_k / constants.e
+    """k·T/q in volts (exact SI constants, equal to scipy.constants)."""
+    return K_OVER_Q_V_PER_K * temperature_k
 
 
 def irradiance_from_lux(lux):
