@@ -15,13 +15,13 @@ import time
 os.environ.setdefault("OMP_NUM_THREADS", "1")  # one core, as the target says
 os.environ.setdefault("OPENBLAS_NUM_THREADS", "1")
 
-import numpy as np  # noqa: E402
+import numpy as np
 
-from pulsepick.circuits.base import Topology  # noqa: E402
-from pulsepick.design import Design  # noqa: E402
-from pulsepick.engine import fast  # noqa: E402
-from pulsepick.engine.environment import ChipSpec, PartChoice, make_env  # noqa: E402
-from pulsepick.parts.led import get_led  # noqa: E402
+from pulsepick.circuits.base import Topology
+from pulsepick.design import Design
+from pulsepick.engine import fast
+from pulsepick.engine.environment import ChipSpec, PartChoice, make_env
+from pulsepick.parts.led import get_led
 
 
 def rate(fn, n, repeats=5):

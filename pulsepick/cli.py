@@ -115,7 +115,7 @@ def main(argv: list[str] | None = None) -> int:
         return 130
     except BrokenPipeError:
         return EXIT_OK
-    except Exception as err:  # noqa: BLE001 - the last guard before a traceback
+    except Exception as err:
         if debug:
             traceback.print_exc()
         print(

@@ -11,9 +11,9 @@ import os
 import sys
 from typing import Any, TextIO
 
+from rich import box
 from rich.console import Console
 from rich.table import Table
-from rich import box
 
 REPORT_WIDTH = 100
 

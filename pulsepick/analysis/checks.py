@@ -170,9 +170,10 @@ def circuit_findings(design: Design) -> list[Finding]:
                                      "exceeds the charging current at a threshold"))
     led = design.parts.led
     if status == DARK:
+        peak = float(np.ravel(f.led_peak_a)[0])
         out.append(Finding(
             "led-dark",
-            f"the LED never reaches visible current: peak {format_eng(float(np.ravel(f.led_peak_a)[0]), 'A')}"
+            f"the LED never reaches visible current: peak {format_eng(peak, 'A')}"
             f" against {format_eng(led.visible_a, 'A')} needed ({led.name} at {vdd:g} V)"))
     elif status == RUNS:
         v_dark = dark_below(design)

@@ -8,8 +8,9 @@ SI units throughout.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
-from typing import Any, Callable, Literal, Protocol
+from typing import Any, Literal, Protocol
 
 import numpy as np
 
@@ -162,7 +163,7 @@ class Stage(Protocol):
     params: tuple[Param, ...]
     n_states: int
 
-    def fast(self, v: dict[str, Any], env: Env, topo: Topology, drv: "DriverView",
+    def fast(self, v: dict[str, Any], env: Env, topo: Topology, drv: DriverView,
              t_on: Any, t_off: Any, state: Any) -> StageFigures: ...
 
     def ref_init(self, v: dict[str, float], env: Env, topo: Topology) -> list[float]: ...

@@ -15,6 +15,7 @@ facts.md S50). This serves the pulse stage (flash and reset) and the fade stage
 from __future__ import annotations
 
 import numpy as np
+
 from pulsepick.physconst import K_OVER_Q_V_PER_K
 
 #: Boltzmann constant over elementary charge, V/K (exact SI values, see physconst).

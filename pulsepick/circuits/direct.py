@@ -12,8 +12,15 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from pulsepick.circuits.base import DriverView, Env, Load, Param, StageFigures, Topology
-from pulsepick.circuits.base import register_stage
+from pulsepick.circuits.base import (
+    DriverView,
+    Env,
+    Load,
+    Param,
+    StageFigures,
+    Topology,
+    register_stage,
+)
 from pulsepick.circuits.decay import n_vt
 
 

@@ -16,8 +16,15 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from pulsepick.circuits.base import DriverView, Env, Load, Param, StageFigures, Topology
-from pulsepick.circuits.base import register_stage
+from pulsepick.circuits.base import (
+    DriverView,
+    Env,
+    Load,
+    Param,
+    StageFigures,
+    Topology,
+    register_stage,
+)
 from pulsepick.circuits.decay import decay_end_current, decay_time, n_vt
 from pulsepick.circuits.direct import led_dynamic_resistance
 
@@ -56,7 +63,7 @@ def _rise_grid(env: Env, v_src, r_in, rs, ch):
     with np.errstate(divide="ignore", invalid="ignore"):
         dt_dy = np.asarray(ch)[..., None] * np.exp(-y) / np.maximum(feed - draw, 1e-30)
     dy = np.diff(_Y_NODES)
-    zero = np.zeros(dt_dy.shape[:-1] + (1,))
+    zero = np.zeros((*dt_dy.shape[:-1], 1))
     t_cum = np.concatenate([zero, np.cumsum(0.5 * (dt_dy[..., 1:] + dt_dy[..., :-1]) * dy,
                                             axis=-1)], axis=-1)
     q = draw * dt_dy
@@ -89,7 +96,7 @@ class FadeStage:
         else:
             v_start, grid = state
         v_star, i_star = grid["v_star"], grid["i_star"]
-        t_cum, vh, q_cum, i_rise = grid["t"], grid["vh"], grid["q_led"], grid["i_led"]
+        t_cum, vh, i_rise = grid["t"], grid["vh"], grid["i_led"]
         def one_period(v0):
             """Hold voltage after one period started at ``v0``, with the rise's figures."""
             t_start = _interp_rows(v0, vh, t_cum, None)

@@ -19,8 +19,16 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from pulsepick.circuits.base import RUNS, STALLS, Drive, Env, Param, PhaseTimes, Topology
-from pulsepick.circuits.base import register_core
+from pulsepick.circuits.base import (
+    RUNS,
+    STALLS,
+    Drive,
+    Env,
+    Param,
+    PhaseTimes,
+    Topology,
+    register_core,
+)
 from pulsepick.circuits.rc import phase_time, relax
 
 
@@ -57,8 +65,8 @@ class Timer555Core:
         vc_mean_low = vi_l + (env.vt_plus - vi_l) * frac
         with np.errstate(divide="ignore"):
             g_dis = np.where(rdis > 0, 1.0 / np.maximum(rdis, 1e-300), np.inf)
-        v_node = np.where(np.isinf(g_dis), 0.0,
-                          (vdd / ra + vc_mean_low / rb) / (1 / ra + 1 / rb + np.minimum(g_dis, 1e300)))
+        g_sum = 1 / ra + 1 / rb + np.minimum(g_dis, 1e300)
+        v_node = np.where(np.isinf(g_dis), 0.0, (vdd / ra + vc_mean_low / rb) / g_sum)
         th_f = np.where(np.isfinite(th), th, 0.0)
         q_supply = (c * (env.vt_plus - env.vt_minus)
                     + env.cap_leak_g * 0.5 * (env.vt_plus + env.vt_minus) * th_f

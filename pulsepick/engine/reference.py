@@ -237,7 +237,7 @@ def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 400,
     stalled = False
     stalled_high = False
     cycles = 0
-    for cycles in range(1, max_cycles + 1):
+    for cycles in range(1, max_cycles + 1):  # noqa: B007 - the count is reported
         sols = []
         t0 = 0.0
         for high in (True, False):
@@ -289,7 +289,7 @@ def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 400,
 
 def _measure(circ: _Circuit, env, sols, success, message, cycles, powered) -> ReferenceResult:
     n_x = circ.n_x
-    (h, t0h, t1h, sol_h), (_, t0l, t1l, sol_l) = sols
+    (_, t0h, t1h, sol_h), (_, t0l, t1l, sol_l) = sols
     period = t1l - t0h
     y_end = sol_l.sol(t1l)
     q_led = float(y_end[1 + n_x]) - float(sol_h.sol(t0h)[1 + n_x])
@@ -321,8 +321,8 @@ def _measure(circ: _Circuit, env, sols, success, message, cycles, powered) -> Re
             for k in edges:
                 fa = i[k] - level
                 try:
-                    tc = brentq(lambda t: led_at(sol, high, t) - level, ts[k], ts[k + 1],
-                                xtol=1e-15, rtol=1e-12)
+                    tc = brentq(lambda t, sol=sol, high=high: led_at(sol, high, t) - level,
+                                ts[k], ts[k + 1], xtol=1e-15, rtol=1e-12)
                 except ValueError:
                     tc = ts[k] + (ts[k + 1] - ts[k]) * fa / (fa - (i[k + 1] - level))
                 crossings.append(tc)

@@ -31,9 +31,8 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.special import lambertw
 
-from pulsepick.physconst import K_OVER_Q_V_PER_K
-
 from pulsepick.errors import PartError
+from pulsepick.physconst import K_OVER_Q_V_PER_K
 
 # Largest exponent used in exp(); exp(700) ~ 1e304 stays finite in float64.
 _MAX_EXPONENT = 700.0
@@ -63,7 +62,8 @@ def thermal_voltage(temperature_k: float = 300.0) -> float:
     return K_OVER_Q_V_PER_K * temperature_k
 
 
-# k*T/q at 300 K, exact SI constants (= scipy.constants, CODATA 2018): 25.85 mV (facts.md section 8, derived).
+# k*T/q at 300 K from the exact SI constants (= scipy.constants, CODATA 2018):
+# 25.85 mV (facts.md section 8, derived).
 THERMAL_VOLTAGE_300K = thermal_voltage(300.0)
 
 

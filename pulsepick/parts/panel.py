@@ -28,9 +28,8 @@ from functools import cache
 import numpy as np
 from scipy.special import lambertw
 
-from pulsepick.physconst import K_OVER_Q_V_PER_K
-
 from pulsepick.errors import PartError
+from pulsepick.physconst import K_OVER_Q_V_PER_K
 from pulsepick.tables import load_table
 
 # Rated conditions of a panel: 1000 W/m², cell temperature 25 °C (common practice).
