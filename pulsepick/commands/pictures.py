@@ -25,7 +25,16 @@ import numpy as np
 
 from pulsepick import __version__
 from pulsepick.errors import ExportError, PulsepickError, RequestError
-from pulsepick.htmlreport import Cell, Image, Items, Paragraph, Report, Section, Table
+from pulsepick.htmlreport import (
+    Cell,
+    Image,
+    Items,
+    Paragraph,
+    Report,
+    Section,
+    Table,
+    render_html,
+)
 from pulsepick.plot import (
     FIGURE_PIXELS,
     PLOT_EXTRA_MESSAGE,
@@ -154,8 +163,6 @@ def _write(args, views: list, title: str, report_fn) -> list[str]:
     if getattr(args, "report", None):
         images = _images(views, title)
         page = report_fn(images)
-        from pulsepick.htmlreport import render_html
-
         write_file_atomic(args.report, render_html(page).encode("utf-8"), force=force)
         done.append(f"report written to {args.report}")
     return done
