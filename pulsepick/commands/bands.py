@@ -47,6 +47,8 @@ EXAMPLES = [
     "pulsepick bands --core timer555 --ra 10k --rb 1M --c 1u --stage pulse --cp 100u "
     "--supply 3V..2V --builds 5000 --seed 7",
     'pulsepick bands "one flash every 3 s" --supply 2.7V..1.8V --json',
+    "pulsepick bands --core schmitt --r 1M --c 1u --stage direct --rs 1k --supply 3V..2.2V "
+    "--plot spread.svg --report spread.html",
 ]
 
 CLASS_LABELS = {"electrolytic": "electrolytic", "x7r": "X7R", "film": "film", "c0g": "C0G"}

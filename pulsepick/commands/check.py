@@ -33,6 +33,8 @@ EXAMPLES = [
     "--stage direct --rs 100 --supply 2.7V --json",
     "pulsepick check --core timer555 --ra 1M --rb 22k --c 2u2 --stage direct --lit low "
     "--rs 220 --supply 3V --reference",
+    "pulsepick check --core schmitt --r 2M2 --c 1u --stage pulse --cp 22u --rs 47 "
+    "--plot marker.png --report marker.html",
 ]
 
 FIGURE_ROWS = (

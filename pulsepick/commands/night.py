@@ -40,6 +40,8 @@ EXAMPLES = [
     "pulsepick night --storage 1f-5v5 --latitude 52.1 --date 2026-12-21 --longitude 5.1 "
     "--utc-offset 1 <circuit options>",
     "pulsepick night --no-circuit --storage 0f47-2v7 --night 12.5h --extra-load 8uA --json",
+    "pulsepick night --storage 5f-2v7 --start 2.6V --dusk 18:30 --dawn 07:10 <circuit options> "
+    "--plot night.png --report night.html",
 ]
 
 TURN_ON_CHOICES = ("civil", "sunset")
