@@ -418,7 +418,7 @@ def picture_section(images: list[Image] | None) -> Section:
 def _stamp(what: str, seed: int | None = None) -> str:
     text = f"Made with pulsepick {__version__} ({what})"
     if seed is not None:
-        text += f"; random builds seeded with {seed}, so the same command gives the same report"
+        text += f"; random builds seeded with {seed}, so the same command gives the same numbers"
     return text + ". Figures are model estimates: build one and measure before building many."
 
 
@@ -818,9 +818,12 @@ def solve_report(result, c, images) -> Report:
         Table("request", "The build", ("", "value"), context),
         Paragraph("Left at their defaults: " + (", ".join(sorted(defaults)) or "none") + ".",
                   "note")))]
-    assumptions = [f"{k.replace('_', ' ')}: {v}" for k, v in req.assumptions().items()
-                   if k not in ("aims", "defaults")]
-    sections.append(Section("assumptions", "Assumptions", (Items(tuple(assumptions)),)))
+    assumed = {k: v for k, v in req.assumptions().items() if k not in ("aims", "defaults")}
+    sections.append(Section("assumptions", "Assumptions", (
+        Table("assumptions", "The request as the solver used it", ("", "value"),
+              _dict_rows(assumed)),
+        Paragraph("An aim marked assumed was not in the request; the solver aims at it "
+                  "softly.", "note"))))
     if result.explanations:
         sections.append(Section("limits", "What cannot be met exactly",
                                 (Items(tuple(result.explanations)),)))
