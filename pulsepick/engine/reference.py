@@ -306,13 +306,16 @@ def _measure(circ: _Circuit, env, sols, success, message, cycles, powered) -> Re
         offs = np.unique(np.concatenate([[0.0], np.geomspace(1e-9 * span, span, 200),
                                          np.linspace(0.0, span, 100)]))
         ts = np.clip(a + offs, a, b)
-        i = np.array([led_at(sol, high, t) for t in ts])
-        samples.append((high, sol, ts, i))
+        nodes = [circ.nodes(float(yy[0]), list(yy[1:1 + n_x]), high)
+                 for yy in sol.sol(ts).T]
+        i = np.array([nd[2] for nd in nodes])
+        vo = np.array([nd[4] for nd in nodes])
+        samples.append((high, sol, ts, i, vo))
     peak = max(float(np.max(s[3])) for s in samples)
 
     def time_above(level: float) -> float:
         total = 0.0
-        for high, sol, ts, i in samples:
+        for high, sol, ts, i, _ in samples:
             above = i >= level
             if not np.any(above):
                 continue
@@ -354,5 +357,6 @@ def _measure(circ: _Circuit, env, sols, success, message, cycles, powered) -> Re
         "t_s": tt - t0h,
         "vc_v": np.concatenate([sol_h.sol(samples[0][2])[0], sol_l.sol(samples[1][2])[0]]),
         "led_a": np.concatenate([samples[0][3], samples[1][3]]),
+        "vo_v": np.concatenate([samples[0][4], samples[1][4]]),  # the timing gate's output
     }
     return ReferenceResult(figs, success, message, cycles, trace)
