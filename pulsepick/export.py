@@ -147,8 +147,11 @@ def buylist_text(result, pick: int = 1) -> str:
     return out.getvalue()
 
 
-def write_atomic(path: str, text: str, *, force: bool = False) -> None:
-    """Write ``text`` to ``path`` through a temporary file in the same folder.
+def write_atomic(path: str, text: str | bytes, *, force: bool = False) -> None:
+    """Write ``text`` (or bytes) to ``path`` through a temporary file in the same folder.
+
+    The file gets the permissions a plain ``open()`` would give it (a replaced file
+    keeps its own); ``mkstemp`` alone would leave it readable by its owner only.
 
     Raises
     ------
@@ -166,13 +169,21 @@ def write_atomic(path: str, text: str, *, force: bool = False) -> None:
     if os.path.exists(target) and not force:
         raise ExportError(f"{path!r} exists; add --force to replace it, or give another "
                           "file name")
+    if os.path.exists(target):
+        mode = os.stat(target).st_mode & 0o777
+    else:
+        umask = os.umask(0o022)
+        os.umask(umask)
+        mode = 0o666 & ~umask
+    data = text.encode("utf-8") if isinstance(text, str) else text
     tmp = None
     try:
         fd, tmp = tempfile.mkstemp(prefix=".pulsepick-", suffix=".tmp", dir=folder)
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
-            fh.write(text)
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
             fh.flush()
             os.fsync(fh.fileno())
+        os.chmod(tmp, mode)
         os.replace(tmp, target)
         tmp = None
     except OSError as err:

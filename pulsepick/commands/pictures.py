@@ -17,7 +17,6 @@ import argparse
 import math
 import os
 import sys
-import tempfile
 from datetime import date
 from typing import Any
 
@@ -25,6 +24,7 @@ import numpy as np
 
 from pulsepick import __version__
 from pulsepick.errors import ExportError, PulsepickError, RequestError
+from pulsepick.export import write_atomic
 from pulsepick.htmlreport import (
     Cell,
     Image,
@@ -116,36 +116,13 @@ def check_picture_targets(args) -> None:
 
 
 def write_file_atomic(path: str, data: bytes, *, force: bool = False) -> None:
-    """Write ``data`` to ``path`` through a temporary file in the same folder.
+    """Write ``data`` to ``path`` atomically (see :func:`pulsepick.export.write_atomic`).
 
     Raises :class:`ExportError` (nothing written) when the file exists and ``force``
     is False, the folder is missing, or the write fails.
     """
     _check_path(path, "file", force)
-    target = os.path.abspath(path)
-    if os.path.exists(target):
-        mode = os.stat(target).st_mode & 0o777
-    else:
-        umask = os.umask(0o022)
-        os.umask(umask)
-        mode = 0o666 & ~umask  # as a plain open() would create it (mkstemp makes 0600)
-    tmp = None
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=".pulsepick-", suffix=".tmp",
-                                   dir=os.path.dirname(target))
-        with os.fdopen(fd, "wb") as fh:
-            fh.write(data)
-            fh.flush()
-            os.fsync(fh.fileno())
-        os.chmod(tmp, mode)
-        os.replace(tmp, target)
-        tmp = None
-    except OSError as err:
-        raise ExportError(f"cannot write {path!r}: {err.strerror or err}; check the folder's "
-                          "permissions and free space") from err
-    finally:
-        if tmp is not None and os.path.exists(tmp):
-            os.unlink(tmp)
+    write_atomic(path, data, force=force)
 
 
 def _write(args, views: list, title: str, report_fn) -> list[str]:
