@@ -19,4 +19,5 @@ COMMAND_MODULES = (
     "night",
     "day",
     "dusk",
+    "ldr",
 )
