@@ -48,6 +48,7 @@ list is not five near-copies, and each is verified with the reference engine (se
 from __future__ import annotations
 
 import importlib
+import itertools
 import math
 import time
 from dataclasses import dataclass, field, replace
@@ -56,6 +57,7 @@ from typing import Any
 import numpy as np
 
 from pulsepick.circuits.base import DARK, RUNS, STALLS, UNPOWERED, Topology
+from pulsepick.errors import RequestError
 from pulsepick.request import ASSUMED_PEAK_A, SolveRequest
 
 #: Width of one error unit: ln 1.1, a 10 % miss (about one E24 step, facts.md S22).
@@ -1197,7 +1199,261 @@ def default_jobs() -> int:
     return max(1, min(2, os.cpu_count() or 1))
 
 
+# ============================================================================ several lights
+
+@dataclass(frozen=True)
+class LightPick:
+    """One light of a build: its own solve and the circuit chosen for the build."""
+
+    name: str
+    result: SolveResult  # the light's own solve, candidates as offered
+    pick: Candidate | None  # the circuit used in the build (None: nothing offered)
+    asked_s: float  # s, the period asked for this light
+    moved: bool = False  # the spread-out search changed its timing values
+
+
+@dataclass(frozen=True)
+class BuildResult:
+    """Several lights solved together (see :func:`solve_build`)."""
+
+    request: Any  # BuildRequest (pulsepick.request)
+    lights: tuple[LightPick, ...]
+    plan: Any  # PackagePlan (pulsepick.analysis.multi), None when a light failed
+    risks: tuple  # PairRisk per pair sharing a package, for the circuits as chosen
+    risks_before: tuple | None  # the same before the spread-out search moved periods
+    spread_out: Any  # SpreadOutChoice, or None
+    total_supply_a: float  # A, all lights' average supply current at the design supply
+    success: bool
+    message: str
+    warnings: tuple[str, ...]
+    search_s: float  # s, wall time
+
+    @property
+    def picks(self) -> tuple[Candidate, ...]:
+        return tuple(li.pick for li in self.lights if li.pick is not None)
+
+
+def _use(name: str, cand: Candidate):
+    from pulsepick.analysis.multi import LightUse
+
+    d = cand.design
+    return LightUse(name, d.chip.family, bool(d.topo.buffered and not d.chip.is_timer))
+
+
+def _least_uses(breq) -> list:
+    """The fewest gates each light could take (for the package check before solving)."""
+    from pulsepick.analysis.multi import LightUse
+
+    out = []
+    for li in breq.lights:
+        req = li.request
+        schmitt = [f for f in req.families if f != "timer555"]
+        cores = [c for c in req.cores if c != "timer555"]
+        if schmitt and cores:
+            out.append(LightUse(li.name, schmitt[0], bool(req.buffered)))
+        else:
+            out.append(LightUse(li.name, "timer555", False))
+    return out
+
+
+def _plan(breq, names, cands):
+    from pulsepick.analysis.multi import plan_packages
+
+    return plan_packages([_use(n, c) for n, c in zip(names, cands, strict=True)],
+                         dusk_detector=breq.dusk_detector)
+
+
+def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
+    """Swap lights to other offered circuits (fewer gates, a shared family) until the
+    build fits ``max_packages``; raises with the count when it cannot."""
+    from pulsepick.analysis.multi import package_limit_error
+
+    limit = breq.max_packages
+
+    def state(choice):
+        plan = _plan(breq, names, [results[i].candidates[k] for i, k in enumerate(choice)])
+        return (len(plan.packages), plan.gates_needed), plan
+
+    cur, plan = state(chosen)
+    while limit is not None and cur[0] > limit:
+        best = None
+        for i, res in enumerate(results):
+            for k in range(len(res.candidates)):
+                if k == chosen[i]:
+                    continue
+                trial = chosen.copy()
+                trial[i] = k
+                st, _ = state(trial)
+                if st < cur:
+                    cost = res.candidates[k].score - res.candidates[chosen[i]].score
+                    key = (st, cost)
+                    if best is None or key < best[0]:
+                        best = (key, trial)
+        if best is None:
+            raise RequestError(package_limit_error(plan, limit))
+        chosen = best[1]
+        cur, plan = state(chosen)
+    return chosen
+
+
+def _one_family(breq, names, results, chosen: list[int]) -> list[int]:
+    """Lights on one package need one logic family: move the others to the commonest."""
+    fams = [results[i].candidates[k].design.chip.family for i, k in enumerate(chosen)]
+    schmitt = [f for f in fams if f != "timer555"]
+    if len(set(schmitt)) <= 1:
+        return chosen
+    order = list(breq.lights[0].request.families)
+    target = max(set(schmitt), key=lambda f: (schmitt.count(f), -order.index(f)
+                                               if f in order else 0))
+    for i, k in enumerate(chosen):
+        if fams[i] in (target, "timer555"):
+            continue
+        alts = [j for j, c in enumerate(results[i].candidates)
+                if c.design.chip.family in (target, "timer555")]
+        if alts:
+            chosen[i] = alts[0]
+    return chosen
+
+
+def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResult:
+    """Solve every light of ``breq`` and fit them on shared packages.
+
+    Each light is solved as on its own (:func:`solve`); its best circuit is taken unless
+    the build needs another to keep one logic family per package or to fit
+    ``max_packages`` (then the offered circuit that frees gates at the least score is
+    used). Pairs sharing a package are checked for lock risk, and with
+    ``breq.spread_out`` their periods are moved within the tolerance to keep clear
+    (:mod:`pulsepick.analysis.multi`). The chosen circuits are verified with
+    :func:`assess` when ``assess_picks``.
+
+    Raises
+    ------
+    RequestError
+        when the lights cannot fit ``max_packages`` even with the fewest gates; the
+        message gives the count.
+    """
+    from pulsepick.analysis import multi
+    from pulsepick.request import BuildRequest
+
+    assert isinstance(breq, BuildRequest)
+    t0 = time.perf_counter()
+    names = [li.name for li in breq.lights]
+    if breq.max_packages is not None:
+        least = multi.plan_packages(_least_uses(breq), dusk_detector=breq.dusk_detector)
+        text = multi.package_limit_error(least, breq.max_packages)
+        if text is not None:
+            raise RequestError(text)
+    results = [solve(li.request, jobs=jobs) for li in breq.lights]
+    failed = [n for n, r in zip(names, results, strict=True) if not r.success]
+    if failed:
+        lights = tuple(LightPick(n, r, r.candidates[0] if r.candidates else None,
+                                 li.request.targets.period_s)
+                       for n, r, li in zip(names, results, breq.lights, strict=True))
+        return BuildResult(
+            request=breq, lights=lights, plan=None, risks=(), risks_before=None,
+            spread_out=None, total_supply_a=math.nan, success=False,
+            message=f"nothing can be offered for {', '.join(failed)}",
+            warnings=tuple(f"{n}: {e}" for n, r in zip(names, results, strict=True)
+                           for e in r.explanations),
+            search_s=time.perf_counter() - t0)
+    chosen = _one_family(breq, names, results, [0] * len(results))
+    chosen = _fit_packages(breq, names, results, chosen)
+    picks = [results[i].candidates[k] for i, k in enumerate(chosen)]
+    plan = _plan(breq, names, picks)
+    groups = [plan.package_of(i) for i in range(len(picks))]
+    asked = [li.request.targets.period_s for li in breq.lights]
+    margin = breq.lock_margin
+
+    def bands(cands):
+        return [multi.ratio_samples(c.design, seed=breq.lights[i].request.seed + i,
+                                    resistor_tol_pct=_r_tols(c))
+                for i, c in enumerate(cands)]
+
+    samples = bands(picks)
+    periods = [c.figures["period_s"] for c in picks]
+    risks = multi.lock_risks(periods, groups, samples, margin=margin)
+    risks_before = None
+    choice = None
+    moved = [False] * len(picks)
+    if breq.spread_out:
+        options = [multi.period_options(c.design, asked[i], breq.period_tolerance,
+                                        r_series=breq.lights[i].request.r_series,
+                                        c_series=breq.lights[i].request.c_series)
+                   for i, c in enumerate(picks)]
+        pairs = [(i, j) for i, j in itertools.combinations(range(len(picks)), 2)
+                 if groups[i] == groups[j]]
+        offsets = {}
+        for i, j in pairs:
+            lo, hi = multi.pair_band(samples[i], samples[j])
+            x = math.log(periods[i] / periods[j])
+            offsets[(i, j)] = (lo - x, hi - x) if math.isfinite(lo) else (0.0, 0.0)
+        choice = multi.choose_periods(asked, [o.periods_s for o in options], pairs, offsets,
+                                      margin=margin, tolerance=breq.period_tolerance)
+        risks_before = risks
+        new = []
+        for i, c in enumerate(picks):
+            values = options[i].values[choice.chosen[i]]
+            if choice.chosen[i] == options[i].original:
+                new.append(c)
+                continue
+            moved[i] = True
+            new.append(_revalue(breq.lights[i].request, c, values))
+        picks = new
+        samples = bands(picks)
+        periods = [c.figures["period_s"] for c in picks]
+        risks = multi.lock_risks(periods, groups, samples, margin=margin)
+    if assess_picks:
+        picks = [assess(r.with_candidates((c,)), jobs=jobs).candidates[0]
+                 for r, c in zip(results, picks, strict=True)]
+    warnings = []
+    for r in risks:
+        if r.at_risk:
+            warnings.append(_risk_text(names, r, margin))
+    total = float(sum(c.figures["supply_avg_a"] for c in picks))
+    ok = not (breq.spread_out and any(r.at_risk for r in risks))
+    message = (f"{len(picks)} lights on {len(plan.packages)} "
+               f"package{'s' if len(plan.packages) != 1 else ''}")
+    if breq.spread_out and choice is not None:
+        message += "; " + (choice.message if not ok else "periods spread out: every pair on "
+                           "a package keeps clear of the simple ratios over its P5..P95 band")
+    lights = tuple(LightPick(n, r, c, asked[i], moved[i])
+                   for i, (n, r, c) in enumerate(zip(names, results, picks, strict=True)))
+    return BuildResult(request=breq, lights=lights, plan=plan, risks=risks,
+                       risks_before=risks_before, spread_out=choice, total_supply_a=total,
+                       success=ok, message=message, warnings=tuple(warnings),
+                       search_s=time.perf_counter() - t0)
+
+
+def _r_tols(c: Candidate) -> dict[str, float] | None:
+    tols = {p.param: p.tolerance_pct for p in c.parts if p.kind == "resistor"}
+    return tols or None
+
+
+def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float]) -> Candidate:
+    """The candidate with new timing values: figures, errors and parts follow."""
+    design = replace(c.design, values=dict(values))
+    figs = design.fast().row(0)
+    errors = {key: (figs[key] / target - 1.0 if np.isfinite(figs[key]) else math.nan)
+              for key, (target, _) in req.aims().items()}
+    return replace(c, design=design, figures=figs, errors=errors,
+                   parts=_parts(req, design, figs), reference=None, spread=None, drift=None,
+                   warnings=(), notes=c.notes + ("timing values moved by the spread-out "
+                                                 "search",))
+
+
+def _risk_text(names, r, margin: float) -> str:
+    where = []
+    if r.nominal_near:
+        where.append(f"the nominal periods stand at {r.ratio:.3f}")
+    if r.band_near:
+        where.append(f"over its P5..P95 band ({r.band[0]:.3f}..{r.band[1]:.3f}) the ratio "
+                     f"comes within {margin:.0%}")
+    return (f"{names[r.a]} and {names[r.b]} share a package and may pull into step: "
+            f"{' and '.join(where)} of {r.nearest} (ratios p:q with q <= 4 lock most "
+            "readily); use --spread-out, or separate packages and good decoupling")
+
+
 __all__ = [
-    "ASSUMED_PEAK_A", "Candidate", "SolveResult", "assess", "default_jobs", "n_parts", "solve",
-    "stage_cap_kind",
+    "ASSUMED_PEAK_A", "BuildResult", "Candidate", "LightPick", "SolveResult", "assess",
+    "default_jobs", "n_parts", "solve", "solve_build", "stage_cap_kind",
 ]
