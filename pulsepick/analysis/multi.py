@@ -548,3 +548,76 @@ def combined_load_curve(curves: Sequence[LoadCurve], label: str | None = None) -
 def with_values(design, values: dict[str, float]):
     """``design`` with new component values."""
     return replace(design, values=dict(values))
+
+
+# ============================================================================ parts
+
+def build_part_lines(names: Sequence[str], part_lines: Sequence[tuple], plan: PackagePlan, *, storage=None, panel=None,
+                     charge_diode: str | None = None) -> tuple:
+    """Every part of the build, numbered across the lights (``PartLine`` tuple).
+
+    Chips come first, one line per package (U1, U2, ...); then each light's resistors,
+    capacitors, diodes and LED, renumbered so designators run across the build, with the
+    light's name in front of the role; then the storage, the panel and its charge diode.
+    Identical parts are summed by :func:`pulsepick.partslist.buy_rows`.
+    """
+    from pulsepick.engine.environment import ChipSpec, chip_model
+    from pulsepick.partslist import PartLine
+
+    lines = []
+    for pkg in plan.packages:
+        model = chip_model(ChipSpec(family=pkg.family))
+        who = ", ".join(names[i] for i in pkg.lights)
+        if pkg.is_timer:
+            role = f"astable timer ({who})"
+            note = "CMOS part only (a bipolar 555 draws milliamperes); reset pin to the supply"
+        else:
+            parts = [f"Schmitt gates for {who}"] if who else []
+            if pkg.dusk:
+                parts.append("the dusk detector")
+            role = " and ".join(parts)
+            unused = GATES_PER_PACKAGE - pkg.gates_used
+            note = (f"uses {pkg.gates_used} of {GATES_PER_PACKAGE} gates"
+                    + (f"; tie the {unused} unused inputs to ground or the supply (never "
+                       "leave CMOS inputs open)" if unused else ""))
+        lines.append(PartLine(
+            ref=f"U{pkg.number}", kind="chip", value=None, unit="", display=model.name,
+            code=pkg.family, series="", tolerance="", tolerance_pct=None, dielectric="",
+            rating=f"{model.vdd_min_v:g}-{model.vdd_max_v:g} V", role=role, note=note))
+    counters: dict[str, int] = {}
+
+    def ref(prefix: str) -> str:
+        counters[prefix] = counters.get(prefix, 0) + 1
+        return f"{prefix}{counters[prefix]}"
+
+    prefix_of = {"resistor": "R", "capacitor": "C", "diode": "D", "led": "LED"}
+    for name, own in zip(names, part_lines, strict=True):
+        for line in own:
+            if line.kind == "chip":
+                continue
+            lines.append(replace(line, ref=ref(prefix_of.get(line.kind, "X")),
+                                 role=f"{name}: {line.role}"))
+    if storage is not None:
+        lines.append(PartLine(
+            ref=ref("C"), kind="storage", value=storage.capacitance_f, unit="F",
+            display=storage.name, code=storage.key, series="",
+            tolerance=f"-{storage.tol_minus_pct:g}/+{storage.tol_plus_pct:g} %",
+            tolerance_pct=max(storage.tol_minus_pct, storage.tol_plus_pct), dielectric="",
+            rating=f"{storage.v_rated_v:g} V", role="energy storage for every light",
+            note="polarised; a charged supercapacitor can deliver amperes into a short"))
+    if panel is not None:
+        lines.append(PartLine(
+            ref="PV1", kind="panel", value=None, unit="", display=panel.name, code=panel.key,
+            series="", tolerance="", tolerance_pct=None, dielectric="",
+            rating=f"Voc {panel.voc_v:g} V, Isc {panel.isc_a * 1e3:g} mA",
+            role="solar cell (also the dusk sensor)", note=""))
+        if charge_diode is not None:
+            from pulsepick.parts.diode import get_diode
+
+            d = get_diode(charge_diode)
+            lines.append(PartLine(
+                ref=ref("D"), kind="diode", value=None, unit="", display=d.name,
+                code=charge_diode, series="", tolerance="", tolerance_pct=None, dielectric="",
+                rating="", role="charge diode from the panel to the storage",
+                note="cathode to the storage"))
+    return tuple(lines)

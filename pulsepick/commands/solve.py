@@ -22,6 +22,9 @@ EXAMPLES = [
     "pulsepick solve --every 3s --flash 40ms --peak 5mA --led red --supply 2.7V..1.8V",
     'pulsepick solve "one flash every 3 s" --stock drawer.csv --buylist parts.csv --pick 1',
     'pulsepick solve "one flash every 3 s" --cores schmitt-steered --stages direct --json',
+    'pulsepick solve "three lights: every 2.7 s, every 4.1 s, every 6.3 s, 60 ms each" '
+    "--spread-out --period-tolerance 10%",
+    "pulsepick solve examples/firefly-lantern.toml --buylist lantern-parts.csv",
 ]
 
 _PHRASE_HELP = (
@@ -29,7 +32,9 @@ _PHRASE_HELP = (
     "'every 3 s' or '20 flashes a minute' or '20/min' (period); 'for 40 ms' or "
     "'40 ms long' (flash length at half peak); '5 mA peak' (peak LED current); "
     "'as bright as a steady 1 mA' (effective current); '200 mcd' (effective intensity). "
-    "A flash of 50 ms and a 5 mA peak are assumed when not given (shown in the report)."
+    "A flash of 50 ms and a 5 mA peak are assumed when not given (shown in the report). "
+    "Several lights: \"three lights: every 2.7 s, every 4.1 s, every 6.3 s, 60 ms each\". "
+    "A design file (DESIGN.toml) holds a whole build."
 )
 
 
@@ -110,6 +115,20 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                      help="pick only parts from your drawer: a CSV with columns "
                           "kind,value[,qty][,dielectric], e.g. 'R,4k7,10' or "
                           "'C,100u,2,electrolytic'")
+    multi = parser.add_argument_group("several lights (a several-lights phrase or a design file)")
+    multi.add_argument("--max-packages", type=int, metavar="N",
+                       help="at most this many chip packages (a hex Schmitt package has 6 "
+                            "gates; a 555 is one per light)")
+    multi.add_argument("--dusk-detector", action=argparse.BooleanOptionalAction, default=None,
+                       help="count a gate for the dusk detector (default yes)")
+    multi.add_argument("--spread-out", action="store_true", default=None,
+                       help="move the periods (within --period-tolerance) so no two lights on "
+                            "a package sit near a simple ratio (1:1, 1:2, 2:3, 3:4 ...)")
+    multi.add_argument("--period-tolerance", metavar="PCT",
+                       help="how far --spread-out may move a period (default 10%%)")
+    multi.add_argument("--lock-margin", metavar="PCT",
+                       help="a period ratio this close to a simple ratio is at risk of "
+                            "locking (default 3%%)")
     out = parser.add_argument_group("output")
     out.add_argument("--top", type=int, metavar="N",
                      help=f"circuits offered (default {DEFAULT_TOP})")
@@ -118,7 +137,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     out.add_argument("--seed", type=int, metavar="S",
                      help=f"seed of the Monte Carlo builds (default {DEFAULT_SEED})")
     out.add_argument("--json", action="store_true", help="print plain JSON on stdout")
-    out.add_argument("--buylist", metavar="FILE.csv", help="write the buy list of one circuit")
+    out.add_argument("--buylist", metavar="FILE.csv",
+                     help="write the buy list of one circuit (of the whole build for several "
+                          "lights)")
     out.add_argument("--pick", type=int, default=1, metavar="N",
                      help="the circuit for --buylist (default 1, the best)")
     out.add_argument("--force", action="store_true", help="let --buylist replace a file")
@@ -213,6 +234,15 @@ def run(args) -> int:
     from pulsepick.render import dump_json, make_console
     from pulsepick.solve import assess, default_jobs, solve
 
+    if _is_build(args):
+        return run_build(args)
+    for flag in ("max_packages", "period_tolerance", "lock_margin"):
+        if getattr(args, flag) is not None:
+            raise RequestError(f"--{flag.replace('_', '-')} applies to several lights (a "
+                               "several-lights phrase or a design file)")
+    if args.spread_out:
+        raise RequestError("--spread-out applies to several lights (a several-lights phrase "
+                           "or a design file)")
     req = request_from_args(args)
     jobs = default_jobs() if args.jobs is None else args.jobs
     if jobs < 1:
@@ -505,3 +535,290 @@ def _render_cautions(console, cautions) -> None:
     console.print("[bold]Cautions[/bold]")
     for text in cautions:
         console.print(f"  - {text}", markup=False)
+
+
+# ============================================================================ several lights
+
+def _is_build(args) -> bool:
+    from pulsepick.designfile import is_design_file
+    from pulsepick.request import split_lights
+
+    return is_design_file(args.phrase) or (args.phrase is not None
+                                           and split_lights(args.phrase) is not None)
+
+
+def _build_context(args) -> dict:
+    """Options given on the command line that apply to every light."""
+    out = {"supply": args.supply, "family": args.family, "series": args.series,
+           "cap_series": args.cap_series, "timing_cap": args.timing_cap, "max_r": args.max_r,
+           "min_r": args.min_r, "cap_range": args.cap_range, "buffered": args.buffered,
+           "stages": args.stages, "cores": args.cores, "stock": args.stock, "top": args.top,
+           "builds": args.builds, "seed": args.seed}
+    led = _led(args)
+    if led is not None:
+        out["led"] = led
+    return out
+
+
+def build_request_from_args(args):
+    """The :class:`~pulsepick.request.BuildRequest` of a several-lights phrase or a file.
+
+    Returns ``(build request, design file or None)``.
+    """
+    from pulsepick.designfile import build_request, is_design_file, read_design
+    from pulsepick.errors import RequestError
+    from pulsepick.request import make_build_request, split_lights
+
+    given = [f"--{k}" for k in ("every", "flash", "peak", "effective", "intensity")
+             if getattr(args, k) is not None]
+    if given:
+        raise RequestError(f"{', '.join(given)} set one light's blink; with several lights "
+                           "put the blink in the phrase or the design file")
+    if _chip_overrides(args):
+        raise RequestError("--vt-plus, --vt-minus, --rout and --cross-current describe one "
+                           "chip; they apply to a single light")
+    context = _build_context(args)
+    if is_design_file(args.phrase):
+        design = read_design(args.phrase)
+        overrides = {k: v for k, v in context.items() if v is not None}
+        for key in ("max_packages", "period_tolerance", "lock_margin"):
+            if getattr(args, key) is not None:
+                overrides[key] = getattr(args, key)
+        if args.spread_out:
+            overrides["spread_out"] = True
+        if args.dusk_detector is not None:
+            overrides["dusk_detector"] = args.dusk_detector
+        return build_request(design, **overrides), design
+    phrases = split_lights(args.phrase)
+    return make_build_request(
+        phrases, max_packages=args.max_packages,
+        dusk_detector=True if args.dusk_detector is None else args.dusk_detector,
+        lock_margin=args.lock_margin, spread_out=bool(args.spread_out),
+        period_tolerance=args.period_tolerance, source=args.phrase,
+        **{k: v for k, v in context.items() if v is not None}), None
+
+
+def run_build(args) -> int:
+    """Solve several lights, print the build report or JSON, write one buy list."""
+    from pulsepick.errors import RequestError
+    from pulsepick.render import dump_json, make_console
+    from pulsepick.solve import default_jobs, solve_build
+
+    breq, design = build_request_from_args(args)
+    jobs = default_jobs() if args.jobs is None else args.jobs
+    if jobs < 1:
+        raise RequestError(f"--jobs {jobs}: give a whole number of at least 1")
+    if args.buylist and not args.force:
+        _check_target(args.buylist)
+    extras = _build_extras(design)
+    result = solve_build(breq, jobs=jobs)
+    offered = all(li.pick is not None for li in result.lights) and result.plan is not None
+    if args.buylist and offered:
+        from pulsepick.export import write_atomic
+
+        write_atomic(args.buylist, build_buylist_text(result, **extras), force=args.force)
+    if args.json:
+        dump_json(build_json(result, **extras))
+    else:
+        render_build(make_console(), result, buylist=args.buylist if offered else None)
+    return 0 if offered else 2
+
+
+def _build_extras(design) -> dict:
+    """Storage, panel and charge diode of a design file, for the buy list."""
+    from pulsepick.designfile import panel_part, storage_part
+
+    if design is None:
+        return {}
+    out = {}
+    if design.storage is not None:
+        out["storage"] = storage_part(design)
+    if design.panel is not None:
+        out["panel"] = panel_part(design)
+        diode = str(design.panel.get("diode", "schottky")).strip().lower()
+        from pulsepick.errors import RequestError
+        from pulsepick.parts.diode import DIODE_KEYS
+
+        if diode not in DIODE_KEYS:
+            raise RequestError(f"{design.path}: [panel] diode {diode!r} unknown; accepted: "
+                               f"{', '.join(DIODE_KEYS)}")
+        out["charge_diode"] = diode
+    return out
+
+
+def build_lines(result, *, storage=None, panel=None, charge_diode=None) -> tuple:
+    """Every part of the build (``PartLine`` tuple)."""
+    from pulsepick.analysis.multi import build_part_lines
+
+    names = [li.name for li in result.lights]
+    return build_part_lines(names, [li.pick.parts for li in result.lights], result.plan,
+                            storage=storage, panel=panel, charge_diode=charge_diode)
+
+
+def build_buylist_text(result, **extras) -> str:
+    """One buy list (CSV) for the whole build, identical parts summed across the lights."""
+    import csv
+    import io
+    from types import SimpleNamespace
+
+    from pulsepick import __version__
+    from pulsepick.export import BUYLIST_COLUMNS, buylist_rows
+
+    breq = result.request
+    lines = build_lines(result, **extras)
+    out = io.StringIO()
+    seeds = sorted({li.request.seed for li in breq.lights})
+    out.write(f"# pulsepick {__version__} buy list; build: {breq.describe()}; "
+              f"{len(result.lights)} lights; seed {', '.join(map(str, seeds))}\n")
+    out.write("# lights: " + "; ".join(
+        f"{li.name} = {li.pick.design.label()}, period {li.pick.figures['period_s']:.3g} s"
+        for li in result.lights) + "\n")
+    writer = csv.DictWriter(out, fieldnames=BUYLIST_COLUMNS, lineterminator="\n")
+    writer.writeheader()
+    writer.writerows(buylist_rows(SimpleNamespace(parts=lines)))
+    return out.getvalue()
+
+
+def _risk_json(names, r) -> dict:
+    return {"lights": [names[r.a], names[r.b]], "ratio": r.ratio,
+            "band_p5": r.band[0], "band_p95": r.band[1], "nearest": r.nearest,
+            "nominal_near": r.nominal_near, "band_near": r.band_near,
+            "clearance": r.clearance, "at_risk": r.at_risk}
+
+
+def build_json(result, **extras) -> dict:
+    """The whole build as plain JSON data."""
+    from pulsepick import __version__
+    from pulsepick.analysis.cautions import GENERAL_CAUTIONS
+    from pulsepick.export import candidate_json
+
+    breq = result.request
+    names = [li.name for li in result.lights]
+    plan = result.plan
+    out = {
+        "pulsepick": __version__,
+        "build": breq.describe(),
+        "success": result.success,
+        "message": result.message,
+        "lock_margin": breq.lock_margin,
+        "spread_out": breq.spread_out,
+        "period_tolerance": breq.period_tolerance,
+        "max_packages": breq.max_packages,
+        "lights": [{
+            "name": li.name, "request": li.request.to_dict(), "asked_period_s": li.asked_s,
+            "moved": li.moved,
+            "circuit": None if li.pick is None else candidate_json(li.pick),
+            "explanations": list(li.result.explanations),
+        } for li, li_req in zip(result.lights, breq.lights, strict=True)
+            for li in [li] if li_req is not None],
+        "packages": None if plan is None else [
+            {"ref": f"U{p.number}", "family": p.family, "gates_used": p.gates_used,
+             "lights": [names[i] for i in p.lights], "dusk_detector": p.dusk}
+            for p in plan.packages],
+        "gates": None if plan is None else {
+            "oscillators": plan.oscillators, "buffers": plan.buffers, "dusk": plan.dusk,
+            "needed": plan.gates_needed, "timers": plan.timers, "count": plan.describe()},
+        "lock_risks": [_risk_json(names, r) for r in result.risks],
+        "lock_risks_before_spread_out": None if result.risks_before is None else
+        [_risk_json(names, r) for r in result.risks_before],
+        "total_supply_avg_a": result.total_supply_a,
+        "warnings": list(result.warnings),
+        "cautions": list(GENERAL_CAUTIONS),
+    }
+    if plan is not None and all(li.pick is not None for li in result.lights):
+        out["parts"] = [p.to_dict() for p in build_lines(result, **extras)]
+    return out
+
+
+def render_build(console, result, *, buylist: str | None = None) -> None:
+    """The terminal report of a several-lights build (readable at 100 columns)."""
+    from pulsepick.analysis.cautions import GENERAL_CAUTIONS
+    from pulsepick.render import print_wrapped, simple_table
+
+    breq = result.request
+    names = [li.name for li in result.lights]
+    console.print(f"[bold]pulsepick solve[/bold]: {breq.describe()}", highlight=False)
+    console.print()
+    rows = []
+    for li in result.lights:
+        c = li.pick
+        if c is None:
+            rows.append([li.name, _eng(li.asked_s, "s"), "nothing offered", "", "", "", "",
+                         ""])
+            continue
+        f = c.figures
+        rows.append([li.name, _eng(li.asked_s, "s"), c.design.topo.label(),
+                     c.design.chip.family, _eng(f["period_s"], "s")
+                     + (" *" if li.moved else ""), _eng(f["flash_s"], "s"),
+                     _eng(f["led_peak_a"], "A"), _eng(f["supply_avg_a"], "A")])
+    console.print(simple_table(
+        f"Lights ({result.search_s:.1f} s; * period moved by --spread-out)",
+        ["light", "asked", "circuit", "chip", "period", "flash", "peak", "supply"], rows,
+        justify=["left", "right", "left", "left", "right", "right", "right", "right"]))
+    console.print()
+    if result.plan is None:
+        console.print(f"[bold]{result.message}[/bold]", highlight=False)
+        for w in result.warnings:
+            print_wrapped(console, f"- {w}")
+        return
+    plan = result.plan
+    console.print("[bold]Packages[/bold]")
+    print_wrapped(console, f"{plan.describe()}: {len(plan.packages)} package"
+                           f"{'s' if len(plan.packages) != 1 else ''}")
+    for p in plan.packages:
+        who = ", ".join(names[i] for i in p.lights) or "-"
+        extra = " + dusk detector" if p.dusk else ""
+        print_wrapped(console, f"U{p.number} {p.family}: {p.gates_used} gate"
+                               f"{'s' if p.gates_used != 1 else ''} ({who}{extra})")
+    console.print()
+    if result.risks:
+        rows = []
+        for r in result.risks:
+            band = "-" if r.band[0] != r.band[0] else f"{r.band[0]:.3f}..{r.band[1]:.3f}"
+            state = ("near" if r.nominal_near else "band near" if r.band_near else "clear")
+            rows.append([f"{names[r.a]} / {names[r.b]}", f"{r.ratio:.3f}", band, r.nearest,
+                         f"{r.clearance * 100:+.1f} %", state])
+        console.print(simple_table(
+            f"Lock risk: period ratios of lights on one package against p:q, q <= 4, "
+            f"margin {breq.lock_margin:.0%}",
+            ["pair", "ratio", "P5..P95", "nearest", "clearance", ""], rows,
+            justify=["left", "right", "right", "right", "right", "left"]))
+        print_wrapped(console, "the band: each light's own parts vary independently; the "
+                               "package's thresholds, supply and temperature move all its "
+                               "periods together and leave the ratio")
+        console.print()
+    if result.spread_out is not None:
+        so = result.spread_out
+        console.print("[bold]Spread-out periods[/bold]")
+        print_wrapped(console, f"within {so.tolerance:.0%} of the periods asked: "
+                               + ", ".join(f"{n} {a:.3g} s -> {c:.3g} s" for n, a, c in
+                                           zip(names, so.asked_s, so.chosen_s, strict=True)))
+        print_wrapped(console, so.message)
+        console.print()
+    console.print("[bold]Energy budget[/bold]")
+    print_wrapped(console, f"all lights together draw {_eng(result.total_supply_a, 'A')} on "
+                           f"average at the design supply ({_eng(result.total_supply_a * 12 * 3600, 'C')} "
+                           "over a 12 h night); run 'pulsepick night' with the design file for "
+                           "the storage")
+    console.print()
+    for li in result.lights:
+        c = li.pick
+        console.print(f"[bold]{li.name}[/bold]: {c.design.topo.label()} on "
+                      f"{c.design.chip.family}, {c.design.supply_v:g} V", highlight=False)
+        prow = [[p.ref, p.display, p.code, p.tolerance, p.dielectric or "-", p.role]
+                for p in c.parts if p.kind != "chip"]
+        console.print(simple_table(None, ["ref", "value", "code", "tol", "kind", "role"], prow))
+        for w in list(c.notes) + list(c.warnings):
+            print_wrapped(console, f"- {w}")
+        console.print()
+    if result.warnings:
+        console.print("[bold]Warnings[/bold]")
+        for w in result.warnings:
+            print_wrapped(console, f"! {w}")
+        console.print()
+    console.print(f"[bold]{result.message}[/bold]", highlight=False)
+    console.print()
+    if buylist:
+        console.print(f"Buy list of the whole build written to {buylist}", markup=False)
+        console.print()
+    _render_cautions(console, GENERAL_CAUTIONS)

@@ -1,0 +1,347 @@
+"""The design file: a whole build in one TOML file (read with Python's ``tomllib``).
+
+A design holds the lights with their blinks, the context they share (chip family, supply,
+LED, part preferences, a parts drawer), the storage, the panel, and the night (clock
+times or a length) or the site (latitude and date). ``pulsepick solve design.toml`` solves
+every light and writes one buy list; ``pulsepick night design.toml`` runs the night with
+every light's load. Quantities are text with their units (``"2.7V"``, ``"470k"``,
+``"12.5h"``); plain numbers are read in volts, ohms, farads, seconds as the key needs.
+
+Example (a demo of our own)::
+
+    name = "Three-firefly lantern"
+
+    [build]                      # shared by every light; all keys optional
+    family = "hc"                # chip families, as solve --family
+    led = "green"
+    spread_out = true            # keep the lights from pulling into step
+    period_tolerance = "12%"
+
+    [storage]                    # required by the night
+    part = "1f-5v5"              # or capacitance = "0.47F" with rated = "2.7V"
+    start = "4.8V"
+    stop_at = "2.4V"
+
+    [night]                      # or [site] with latitude and date
+    dusk = "21:30"
+    dawn = "05:15"
+
+    [[light]]                    # one table per light
+    name = "firefly 1"
+    blink = "every 2.3 s for 150 ms"
+
+Tables and their keys
+---------------------
+``name`` (text) at the top; ``[build]``: supply, family, led, series, cap_series,
+timing_cap, min_r, max_r, cap_range, buffered, cores, stages, stock (a CSV path relative
+to the design file), max_packages, dusk_detector, spread_out, period_tolerance,
+lock_margin, top, builds, seed; ``[[light]]``: name, blink (required), led, family,
+timing_cap, buffered, cores, stages; ``[storage]``: part or capacitance (one required),
+rated, start, stop_at, storage_leak, leakage, charge_age, extra_load; ``[panel]``: part,
+or voc with isc (and cells); diode; ``[night]``: dusk, dawn, length; ``[site]``:
+latitude and date (required), longitude, utc_offset, turn_on.
+
+Without ``[build] supply`` the lights are solved for the storage's night: from its start
+voltage down to ``stop_at`` (or steady at the start voltage without one).
+
+Unknown tables and keys are refused with the allowed ones named; a TOML syntax error
+gives tomllib's message with its line and column.
+"""
+
+from __future__ import annotations
+
+import os
+import tomllib
+from dataclasses import dataclass, field
+from typing import Any
+
+from pulsepick.errors import RequestError
+
+#: Keys of each table and what they hold: "text" (a string, or a number read in the
+#: key's unit), "int", "bool".
+BUILD_KEYS: dict[str, str] = {
+    "supply": "text", "family": "text", "led": "text", "series": "text",
+    "cap_series": "text", "timing_cap": "text", "min_r": "text", "max_r": "text",
+    "cap_range": "text", "buffered": "bool", "cores": "text", "stages": "text",
+    "stock": "text", "max_packages": "int", "dusk_detector": "bool", "spread_out": "bool",
+    "period_tolerance": "text", "lock_margin": "text", "top": "int", "builds": "int",
+    "seed": "int",
+}
+LIGHT_KEYS: dict[str, str] = {
+    "name": "text", "blink": "text", "led": "text", "family": "text", "timing_cap": "text",
+    "buffered": "bool", "cores": "text", "stages": "text",
+}
+STORAGE_KEYS: dict[str, str] = {
+    "part": "text", "capacitance": "text", "rated": "text", "start": "text",
+    "stop_at": "text", "storage_leak": "text", "leakage": "text", "charge_age": "text",
+    "extra_load": "text",
+}
+PANEL_KEYS: dict[str, str] = {"part": "text", "voc": "text", "isc": "text", "cells": "int",
+                              "diode": "text"}
+NIGHT_KEYS: dict[str, str] = {"dusk": "text", "dawn": "text", "length": "text"}
+SITE_KEYS: dict[str, str] = {"latitude": "number", "date": "text", "longitude": "number",
+                             "utc_offset": "number", "turn_on": "text"}
+TOP_KEYS: dict[str, Any] = {"name": "text", "build": BUILD_KEYS, "light": LIGHT_KEYS,
+                            "storage": STORAGE_KEYS, "panel": PANEL_KEYS, "night": NIGHT_KEYS,
+                            "site": SITE_KEYS}
+#: Light keys passed to the solver request under the same name.
+_LIGHT_CONTEXT = ("led", "family", "timing_cap", "buffered", "cores", "stages")
+_BUILD_CONTEXT = ("supply", "family", "led", "series", "cap_series", "timing_cap", "min_r",
+                  "max_r", "cap_range", "buffered", "cores", "stages", "top", "builds", "seed")
+BLINK_EXAMPLE = 'blink = "one flash every 3 s"'
+
+
+@dataclass(frozen=True)
+class LightSpec:
+    """One ``[[light]]`` table."""
+
+    name: str
+    blink: str  # the blink phrase
+    context: dict[str, Any] = field(default_factory=dict)  # per-light solver options
+
+
+@dataclass(frozen=True)
+class DesignFile:
+    """A design file as read (values as written; paths made absolute)."""
+
+    path: str  # the file as given
+    name: str  # the build's name ("" when the file gives none)
+    build: dict[str, Any]  # [build]
+    lights: tuple[LightSpec, ...]
+    storage: dict[str, Any] | None  # [storage]
+    panel: dict[str, Any] | None  # [panel]
+    night: dict[str, Any] | None  # [night]
+    site: dict[str, Any] | None  # [site]
+    stock_path: str | None  # absolute path of the parts drawer, if any
+
+    @property
+    def folder(self) -> str:
+        return os.path.dirname(os.path.abspath(self.path))
+
+
+def is_design_file(text: str | None) -> bool:
+    """Whether a command-line word names a design file (``*.toml``)."""
+    return bool(text) and str(text).strip().lower().endswith(".toml")
+
+
+def _where(table: str, index: int | None) -> str:
+    return f"[[{table}]] {index}" if index is not None else f"[{table}]"
+
+
+def _check_table(path: str, table: str, data: Any, allowed: dict[str, str],
+                 index: int | None = None) -> dict[str, Any]:
+    where = _where(table, index)
+    if not isinstance(data, dict):
+        raise RequestError(f"{path}: {where} must be a table of keys, such as [{table}]")
+    unknown = [k for k in data if k not in allowed]
+    if unknown:
+        raise RequestError(
+            f"{path}: unknown key{'s' if len(unknown) > 1 else ''} "
+            f"{', '.join(repr(k) for k in unknown)} in {where}; allowed: {', '.join(allowed)}")
+    for key, value in data.items():
+        kind = allowed[key]
+        ok = {
+            "text": isinstance(value, (str, int, float)) and not isinstance(value, bool),
+            "int": isinstance(value, int) and not isinstance(value, bool),
+            "bool": isinstance(value, bool),
+            "number": isinstance(value, (int, float)) and not isinstance(value, bool),
+        }[kind]
+        if not ok:
+            want = {"text": "text such as \"2.7V\"", "int": "a whole number",
+                    "bool": "true or false", "number": "a number"}[kind]
+            raise RequestError(f"{path}: {where} {key} = {value!r}: give {want}")
+    return {k: (str(v) if allowed[k] == "text" and not isinstance(v, str) else v)
+            for k, v in data.items()}
+
+
+def parse_design(text: str, path: str = "design.toml") -> DesignFile:
+    """Read the text of a design file (see the module docstring).
+
+    Raises
+    ------
+    RequestError
+        one line: a TOML syntax error with its line and column, an unknown table or key
+        with the allowed ones, a missing required key, or a value of the wrong type.
+    """
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as err:
+        raise RequestError(f"{path}: not valid TOML: {' '.join(str(err).split())}") from err
+    unknown = [k for k in data if k not in TOP_KEYS]
+    if unknown:
+        raise RequestError(
+            f"{path}: unknown key{'s' if len(unknown) > 1 else ''} "
+            f"{', '.join(repr(k) for k in unknown)} at the top; allowed: "
+            f"{', '.join(k if k in ('name',) else ('[[light]]' if k == 'light' else f'[{k}]') for k in TOP_KEYS)}")
+    name = data.get("name", "")
+    if not isinstance(name, str):
+        raise RequestError(f"{path}: name = {name!r}: give text, such as name = \"lantern\"")
+    build = _check_table(path, "build", data.get("build", {}), BUILD_KEYS)
+    raw_lights = data.get("light")
+    if raw_lights is None:
+        raise RequestError(f"{path}: no [[light]] table; a design needs at least one, with "
+                           f"a blink such as {BLINK_EXAMPLE}")
+    if not isinstance(raw_lights, list):
+        raise RequestError(f"{path}: 'light' must be written [[light]] (one table per light)")
+    lights = []
+    for i, raw in enumerate(raw_lights, start=1):
+        spec = _check_table(path, "light", raw, LIGHT_KEYS, index=i)
+        if "blink" not in spec:
+            raise RequestError(f"{path}: [[light]] {i} has no 'blink' (required): the blink "
+                               f"as a phrase, such as {BLINK_EXAMPLE}")
+        context = {k: spec[k] for k in _LIGHT_CONTEXT if k in spec}
+        lights.append(LightSpec(name=spec.get("name") or f"light {i}", blink=spec["blink"],
+                                context=context))
+    storage = panel = night = site = None
+    if "storage" in data:
+        storage = _check_table(path, "storage", data["storage"], STORAGE_KEYS)
+        if ("part" in storage) == ("capacitance" in storage):
+            raise RequestError(f"{path}: [storage] needs one of 'part' (such as "
+                               "part = \"1f-5v5\") or 'capacitance' (such as capacitance = "
+                               "\"0.47F\"), not both or neither")
+    if "panel" in data:
+        panel = _check_table(path, "panel", data["panel"], PANEL_KEYS)
+        if "part" not in panel and not ("voc" in panel and "isc" in panel):
+            raise RequestError(f"{path}: [panel] needs 'part' (such as part = \"3v20ma\") or "
+                               "'voc' with 'isc' (such as voc = \"3V\", isc = \"20mA\")")
+    if "night" in data:
+        night = _check_table(path, "night", data["night"], NIGHT_KEYS)
+    if "site" in data:
+        site = _check_table(path, "site", data["site"], SITE_KEYS)
+        for key in ("latitude", "date"):
+            if key not in site:
+                raise RequestError(f"{path}: [site] has no '{key}' (required): give latitude "
+                                   "= 52.1 and date = \"2026-12-21\"")
+    if night is not None and site is not None:
+        raise RequestError(f"{path}: give the night one way: [night] (clock times or a "
+                           "length) or [site] (latitude and date), not both")
+    stock_path = None
+    if "stock" in build:
+        folder = os.path.dirname(os.path.abspath(path))
+        stock_path = os.path.normpath(os.path.join(folder, build["stock"]))
+    return DesignFile(path=path, name=name, build=build, lights=tuple(lights),
+                      storage=storage, panel=panel, night=night, site=site,
+                      stock_path=stock_path)
+
+
+def read_design(path: str) -> DesignFile:
+    """Read a design file from disk (see :func:`parse_design`)."""
+    try:
+        with open(path, "rb") as fh:
+            raw = fh.read()
+    except OSError as err:
+        raise RequestError(f"cannot read the design file {path!r}: {err.strerror}; give a "
+                           "TOML file such as examples/firefly-lantern.toml") from err
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as err:
+        raise RequestError(f"the design file {path!r} is not UTF-8 text") from err
+    return parse_design(text, path)
+
+
+def storage_supply(design: DesignFile) -> str | None:
+    """The supply text for the solver from the storage: ``start..stop_at`` or ``start``."""
+    s = design.storage
+    if s is None:
+        return None
+    start = s.get("start")
+    if start is None:
+        start = f"{storage_part(design).v_rated_v:g}V"
+    stop = s.get("stop_at")
+    return f"{_volts(start)}..{_volts(stop)}" if stop is not None else _volts(start)
+
+
+def _volts(text: str) -> str:
+    t = str(text).strip()
+    return t if t[-1:].isalpha() else f"{t}V"
+
+
+def build_request(design: DesignFile, **overrides: Any):
+    """The :class:`~pulsepick.request.BuildRequest` of the design.
+
+    ``overrides`` (command-line options given) replace the file's ``[build]`` values.
+    """
+    from pulsepick.request import make_build_request
+
+    b = {**design.build, **{k: v for k, v in overrides.items() if v is not None}}
+    context = {k: b[k] for k in _BUILD_CONTEXT if k in b}
+    if "supply" not in context:
+        supply = storage_supply(design)
+        if supply is not None:
+            context["supply"] = supply
+    if design.stock_path is not None and "stock" not in overrides:
+        context["stock"] = design.stock_path
+    elif "stock" in overrides and overrides["stock"] is not None:
+        context["stock"] = overrides["stock"]
+    return make_build_request(
+        [li.blink for li in design.lights], names=[li.name for li in design.lights],
+        per_light=[dict(li.context) for li in design.lights],
+        max_packages=b.get("max_packages"), dusk_detector=b.get("dusk_detector", True),
+        lock_margin=b.get("lock_margin"), spread_out=b.get("spread_out", False),
+        period_tolerance=b.get("period_tolerance"), name=design.name, source=design.path,
+        **context)
+
+
+def storage_part(design: DesignFile):
+    """The storage part of ``[storage]`` (a table key or a capacitance)."""
+    from pulsepick.errors import PulsepickError
+    from pulsepick.parts.storage import STORAGE_KEYS as PARTS, custom_storage, get_storage
+    from pulsepick.units import parse_quantity, parse_value
+
+    s = design.storage
+    if s is None:
+        raise RequestError(f"{design.path}: no [storage] table; the night needs one, such as "
+                           "[storage] with part = \"1f-5v5\" and start = \"4.8V\"")
+    if "part" in s:
+        key = s["part"].strip().lower()
+        if key not in PARTS:
+            raise RequestError(f"{design.path}: [storage] part {s['part']!r} unknown; "
+                               f"accepted: {', '.join(PARTS)} (or capacitance = \"0.47F\")")
+        if "rated" in s:
+            raise RequestError(f"{design.path}: [storage] rated applies to a capacitance, "
+                               "not to a part")
+        return get_storage(key)
+    try:
+        c = parse_value(s["capacitance"], "F")
+        rated = parse_quantity(s.get("rated", "2.7V"), "voltage", bare_ok=True)
+    except PulsepickError as err:
+        raise RequestError(f"{design.path}: [storage] {err}") from err
+    return custom_storage(c, v_rated_v=rated)
+
+
+def panel_part(design: DesignFile):
+    """The panel of ``[panel]``, or None."""
+    from pulsepick.errors import PulsepickError
+    from pulsepick.parts.panel import custom_panel, get_panel, panel_keys
+    from pulsepick.units import parse_quantity
+
+    p = design.panel
+    if p is None:
+        return None
+    if "part" in p:
+        key = p["part"].strip().lower()
+        if key not in panel_keys():
+            raise RequestError(f"{design.path}: [panel] part {p['part']!r} unknown; accepted: "
+                               f"{', '.join(panel_keys())} (or voc and isc)")
+        return get_panel(key)
+    try:
+        return custom_panel(parse_quantity(p["voc"], "voltage", bare_ok=True),
+                            parse_quantity(p["isc"], "current"), p.get("cells"))
+    except PulsepickError as err:
+        raise RequestError(f"{design.path}: [panel] {err}") from err
+
+
+def night_options(design: DesignFile) -> dict[str, str | None]:
+    """The night as the night command's option values (``dusk``, ``dawn``, ``night``,
+    ``latitude``, ``longitude``, ``date``, ``utc_offset``, ``turn_on``)."""
+    out: dict[str, str | None] = {}
+    if design.night is not None:
+        n = design.night
+        out.update(dusk=n.get("dusk"), dawn=n.get("dawn"), night=n.get("length"))
+    if design.site is not None:
+        s = design.site
+        out.update(latitude=str(s["latitude"]), date=s["date"],
+                   longitude=None if "longitude" not in s else str(s["longitude"]),
+                   utc_offset=None if "utc_offset" not in s else str(s["utc_offset"]),
+                   turn_on=s.get("turn_on"))
+    return out
