@@ -67,6 +67,17 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     circuit = _circuit_options()
     if circuit is not None:
         circuit.add_circuit_arguments(parser)
+        parser.set_defaults(supply=None)  # None: not given (the solver then takes the storage's)
+    parser.add_argument("design", nargs="?", metavar="DESIGN.toml",
+                        help="a design file: every light's load, the storage and the night "
+                             "from the file (options given here override its storage and night)")
+    solver = parser.add_argument_group("the circuit from the solver")
+    solver.add_argument("--from-solve", metavar="PHRASE",
+                        help="solve this blink (e.g. \"one flash every 3 s\") and run the night "
+                             "with the solver's pick; --family and --led apply, --supply "
+                             "defaults to the storage's start..stop-at")
+    solver.add_argument("--pick", type=int, default=1, metavar="N",
+                        help="which of the solver's circuits (default 1, the best)")
     store = parser.add_argument_group("storage")
     store.add_argument(
         "--storage", metavar="KEY|C",
@@ -280,6 +291,7 @@ def supply_grid(v_top_v: float, v_low_v: float | None = None) -> np.ndarray:
 
 def run(args: argparse.Namespace) -> int:
     """Read the options, simulate the night, print the report or JSON."""
+    design = _apply_design(args)
     storage = _read_storage(args.storage, args.rated)
     night = _read_night(args)
     check_picture_targets(args)
@@ -301,7 +313,11 @@ def run(args: argparse.Namespace) -> int:
     charge_age = _quantity(args.charge_age, "time", "--charge-age", "6h", allow_zero=True)
 
     load = None
-    if not args.no_circuit:
+    if design is not None or args.from_solve is not None:
+        load = _solved_load(args, design, storage, v_start, stop_at)
+    elif not args.no_circuit:
+        if getattr(args, "supply", "") is None:
+            args.supply = "3.0V"  # the check options' default supply
         circuit = _circuit_options()
         if circuit is None:
             raise RequestError(
@@ -325,6 +341,110 @@ def run(args: argparse.Namespace) -> int:
         render_report(result, night, make_console())
     announce(args, night_pictures(args, result, night))
     return 0
+
+
+# ---------------------------------------------------------------------------- solver circuits
+
+_FILE_STORAGE = {"start": "start", "stop_at": "stop_at", "storage_leak": "storage_leak"}
+_FILE_NIGHT = ("dusk", "dawn", "night", "latitude", "longitude", "date", "utc_offset")
+
+
+def _apply_design(args: argparse.Namespace):
+    """Fill the storage and night options from a design file (options given win)."""
+    if getattr(args, "design", None) is None:
+        return None
+    from pulsepick.designfile import is_design_file, night_options, read_design
+
+    if not is_design_file(args.design):
+        raise RequestError(f"{args.design!r} is not a design file; give a .toml design such "
+                           "as examples/firefly-lantern.toml (the circuit options describe a "
+                           "circuit by hand)")
+    _one_circuit(args, "a design file")
+    design = read_design(args.design)
+    s = design.storage
+    if s is None:
+        raise RequestError(f"{args.design}: no [storage] table; the night needs one, such as "
+                           "[storage] with part = \"1f-5v5\" and start = \"4.8V\"")
+    if args.storage is None:
+        args.storage = s.get("part", s.get("capacitance"))
+        if "rated" in s and args.rated is None:
+            args.rated = s["rated"]
+    for key, attr in _FILE_STORAGE.items():
+        if key in s and getattr(args, attr) is None:
+            setattr(args, attr, s[key])
+    for key, attr in (("leakage", "leakage"), ("charge_age", "charge_age"),
+                      ("extra_load", "extra_load")):
+        if key in s:
+            setattr(args, attr, s[key])
+    given_night = any(getattr(args, k) is not None for k in _FILE_NIGHT)
+    if not given_night:
+        for key, value in night_options(design).items():
+            if value is not None:
+                setattr(args, key, value)
+    return design
+
+
+def _one_circuit(args: argparse.Namespace, what: str) -> None:
+    given = [k for k in vars(args) if k.startswith("value_") and getattr(args, k) is not None]
+    if given or args.no_circuit or (what == "a design file" and args.from_solve is not None):
+        raise RequestError(f"give the circuit one way: {what}, --from-solve, the circuit "
+                           "values (--core, --r, --c ...) or --no-circuit")
+
+
+def _solved_load(args, design, storage, v_start: float, stop_at: float | None):
+    """The load curve of the solver's pick, or of every light of a build, added."""
+    from dataclasses import replace
+
+    from pulsepick.analysis.multi import combined_load_curve
+    from pulsepick.design import load_curve
+    from pulsepick.solve import default_jobs, solve, solve_build
+
+    grid = supply_grid(max(v_start, storage.v_rated_v))
+    jobs = default_jobs()
+    if design is not None:
+        from pulsepick.designfile import build_request
+
+        overrides = {"supply": args.supply, "family": args.family}
+        result = solve_build(build_request(design, **overrides), jobs=jobs, assess_picks=False)
+        missing = [li.name for li in result.lights if li.pick is None]
+        if missing:
+            raise RequestError(f"{args.design}: the solver offers nothing for "
+                               f"{', '.join(missing)}; run 'pulsepick solve {args.design}' "
+                               "for the reasons")
+        curves = [replace(load_curve(li.pick.design, grid),
+                          label=f"{li.name}: {li.pick.design.label()}")
+                  for li in result.lights]
+        name = design.name or args.design
+        return combined_load_curve(curves, label=f"{name} ({len(curves)} lights)")
+    _one_circuit(args, "--from-solve")
+    from pulsepick.request import make_build_request, make_request, split_lights
+
+    supply = args.supply
+    if supply is None:
+        supply = f"{v_start:g}V" + (f"..{stop_at:g}V" if stop_at else "")
+    if args.pick < 1:
+        raise RequestError(f"--pick {args.pick}: give a circuit number of at least 1")
+    phrases = split_lights(args.from_solve)
+    if phrases is not None:
+        breq = make_build_request(phrases, supply=supply, family=args.family, led=args.led,
+                                  source=args.from_solve)
+        result = solve_build(breq, jobs=jobs, assess_picks=False)
+        if any(li.pick is None for li in result.lights):
+            raise RequestError(f"--from-solve {args.from_solve!r}: the solver offers nothing "
+                               "for some lights; run 'pulsepick solve' for the reasons")
+        return combined_load_curve([load_curve(li.pick.design, grid) for li in result.lights],
+                                   label=f"{args.from_solve} ({len(phrases)} lights)")
+    req = make_request(args.from_solve, supply=supply, family=args.family, led=args.led)
+    result = solve(req, jobs=jobs)
+    if not result.success:
+        raise RequestError(f"--from-solve {args.from_solve!r}: nothing can be offered; "
+                           f"{' '.join(result.explanations) or result.message}")
+    if args.pick > len(result.candidates):
+        raise RequestError(f"--pick {args.pick}: the solver offers {len(result.candidates)} "
+                           f"circuits; choose 1 to {len(result.candidates)}")
+    cand = result.candidates[args.pick - 1]
+    return replace(load_curve(cand.design, grid),
+                   label=f"{cand.design.label()} (solver pick {args.pick})")
 
 
 # ---------------------------------------------------------------------------- output
