@@ -667,7 +667,7 @@ def build_buylist_text(result, **extras) -> str:
     breq = result.request
     lines = build_lines(result, **extras)
     out = io.StringIO()
-    seeds = sorted({li.request.seed for li in breq.lights})
+    seeds = sorted({lr.request.seed for lr in breq.lights})
     out.write(f"# pulsepick {__version__} buy list; build: {breq.describe()}; "
               f"{len(result.lights)} lights; seed {', '.join(map(str, seeds))}\n")
     out.write("# lights: " + "; ".join(
@@ -705,12 +705,11 @@ def build_json(result, **extras) -> dict:
         "period_tolerance": breq.period_tolerance,
         "max_packages": breq.max_packages,
         "lights": [{
-            "name": li.name, "request": li.request.to_dict(), "asked_period_s": li.asked_s,
+            "name": li.name, "request": lr.request.to_dict(), "asked_period_s": li.asked_s,
             "moved": li.moved,
             "circuit": None if li.pick is None else candidate_json(li.pick),
             "explanations": list(li.result.explanations),
-        } for li, li_req in zip(result.lights, breq.lights, strict=True)
-            for li in [li] if li_req is not None],
+        } for li, lr in zip(result.lights, breq.lights, strict=True)],
         "packages": None if plan is None else [
             {"ref": f"U{p.number}", "family": p.family, "gates_used": p.gates_used,
              "lights": [names[i] for i in p.lights], "dusk_detector": p.dusk}
