@@ -24,6 +24,7 @@ from pulsepick.units import format_eng
 LEAK_MARGIN = 10.0  # charging current / leakage below this is flagged (common practice)
 LEAK_R_SHARE = 0.10  # leakage x R above this share of the hysteresis is flagged
 HIGH_R_OHM = 10e6  # above this, board leakage and humidity matter (common practice)
+LOW_R_FACTOR = 10.0  # timing R below this many output resistances is set by the chip
 LOADING_SHIFT = 0.01  # period shift by the LED stage's load worth telling (1 %)
 
 
@@ -46,17 +47,24 @@ def _timing_resistances(design: Design) -> dict[str, float]:
 
 
 def charging_currents(design: Design, env) -> tuple[float, float]:
-    """The smallest currents (A) that move the timing capacitor at each threshold.
+    """The currents (A) that move the timing capacitor as it reaches each threshold.
 
-    Charging at VT+ and discharging at VT−, through the slow path; leakage must stay
-    well below these for the oscillator to switch.
+    Charging as it reaches VT+ and discharging as it reaches VT−, through every path
+    that conducts in that phase (the steering branch too); leakage against the
+    direction of motion must stay well below these for the oscillator to switch.
     """
     vdd, vtp, vtm = (float(np.ravel(x)[0]) for x in (env.vdd, env.vt_plus, env.vt_minus))
     v = design.values
     if design.topo.core == "timer555":
         return (vdd - vtp) / (v["ra"] + v["rb"]), vtm / v["rb"]
-    r_charge = r_discharge = v["r1"]
-    return (vdd - vtp) / r_charge, vtm / r_discharge
+    up, down = (vdd - vtp) / v["r1"], vtm / v["r1"]
+    if design.topo.core == "schmitt-steered":
+        branch = env.steer_diode.junction
+        if design.topo.steer == "high":
+            up += float(np.ravel(branch.current(vdd - vtp, r_ext=v["r2"]))[0])
+        else:
+            down += float(np.ravel(branch.current(vtm, r_ext=v["r2"]))[0])
+    return up, down
 
 
 def assumptions(design: Design) -> dict[str, Any]:
@@ -80,6 +88,8 @@ def assumptions(design: Design) -> dict[str, Any]:
         "led_ideality": led.junction.n,
         "led_series_ohm": led.junction.r_s,
         "led_visible_a": led.visible_a,
+        "led_model_from": ("as given by the user" if led.key == "custom"
+                           else "estimates; the datasheets give no such figures"),
         "timing_cap_kind": kind.name,
         "effective_intensity_a_s": env.effective_a_s,
         "effective_intensity_method": "Schmidt-Clausen form Ie = Ip*Q/(a*Ip + Q), a = 0.2 s; "
@@ -123,12 +133,15 @@ def circuit_findings(design: Design) -> list[Finding]:
         if not design.chip.is_timer and err_max > LEAK_R_SHARE * vh:
             verdict = ("stalls with a worst-case chip" if leak_max >= i_min
                        else "marginal with a worst-case chip")
+            typ_err = leak_typ * r
+            bench = ("works on the bench" if typ_err < LEAK_R_SHARE * vh
+                     else "is already too much for the hysteresis")
             out.append(Finding(
                 "pin-leakage",
                 f"{verdict}: input leakage up to {format_eng(leak_max, 'A')} (guaranteed maximum "
                 f"over temperature) x {label} {format_eng(r, 'Ω')} = {err_max:.3g} V against a "
                 f"hysteresis of {vh:.3g} V; typical leakage {format_eng(leak_typ, 'A')} gives "
-                f"{leak_typ * r:.3g} V and works on the bench"))
+                f"{typ_err:.3g} V and {bench}"))
         if r > HIGH_R_OHM:
             out.append(Finding("high-r",
                                f"{label} {format_eng(r, 'Ω')} is above 10 MΩ: board leakage, "
@@ -138,16 +151,19 @@ def circuit_findings(design: Design) -> list[Finding]:
     c = design.values["c1"]
     rating = pick_voltage_rating(kind, vdd)
     vtp = float(np.ravel(env.vt_plus)[0])
+    # the capacitor's own leakage works against charging only (it helps the discharge)
     for which in ("typ", "max"):
         i_leak = float(np.ravel(kind.leakage_a(c, vtp, rating, which=which))[0])
-        if i_leak > 0 and i_min / i_leak < LEAK_MARGIN:
-            word = "will stall" if i_leak >= i_min else "marginal"
+        if i_leak > 0 and i_up / i_leak < LEAK_MARGIN:
+            word = "will stall" if i_leak >= i_up else "marginal"
+            advice = ("use a film capacitor (far lower leakage)"
+                      if kind.key in ("electrolytic", "tantalum")
+                      else "use a smaller resistor with a larger capacitor")
             out.append(Finding(
                 "cap-leakage",
-                f"{word}: {kind.name} leakage {format_eng(i_leak, 'A')} ({which}) against a "
-                f"charging current of only {format_eng(i_min, 'A')} at the thresholds "
-                f"(ratio {i_min / i_leak:.2g}, want > {LEAK_MARGIN:g}); use a film capacitor "
-                "with a larger resistor"))
+                f"{word}: {kind.name} leakage {format_eng(i_leak, 'A')} ({which}) at VT+ against "
+                f"a charging current of only {format_eng(i_up, 'A')} there (ratio "
+                f"{i_up / i_leak:.2g}, want > {LEAK_MARGIN:g}); {advice}"))
             break
     if kind.key == "electrolytic" or kind.key == "tantalum":
         out.append(Finding(
@@ -164,6 +180,15 @@ def circuit_findings(design: Design) -> list[Finding]:
             f"±{kind.tol_plus_pct:g} %, {100 * (lo - 1):+.0f}/{100 * (hi - 1):+.0f} % over "
             f"-20..50 °C, keeps {100 * bias:.0f} % of its value at {vdd:g} V bias, and ages; "
             "prefer film or C0G"))
+
+    r_min = min(_timing_resistances(design).values())
+    r_out = float(np.ravel(env.rout_high)[0])
+    if r_min < LOW_R_FACTOR * r_out:
+        out.append(Finding(
+            "low-r",
+            f"timing resistance {format_eng(r_min, 'Ω')} is within {LOW_R_FACTOR:g} x the gate's "
+            f"output resistance ({r_out:.0f} Ω): the chip's drive, not the resistor, sets the "
+            "timing; use at least a few kΩ"))
 
     if status == STALLS:
         out.append(Finding("stalls", "the oscillator stalls at the nominal supply: leakage "

@@ -27,7 +27,7 @@ EFFECTIVE_A_S = 0.2
 
 # Status codes carried per candidate by the engines.
 RUNS, STALLS, DARK, UNPOWERED = 0, 1, 2, 3
-STATUS_WORDS = {RUNS: "runs", STALLS: "stalls", DARK: "dark", UNPOWERED: "unpowered"}
+STATUS_WORDS = {RUNS: "runs", STALLS: "stalls", DARK: "dark", UNPOWERED: "out-of-range"}
 
 
 @dataclass(frozen=True)

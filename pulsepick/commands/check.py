@@ -6,7 +6,7 @@ import math
 
 import numpy as np
 
-from pulsepick.analysis.cautions import GENERAL_CAUTIONS
+from pulsepick.analysis.cautions import LOW_VOLTAGE_ONLY, NOT_A_SAFETY_LIGHT
 from pulsepick.analysis.checks import assumptions, circuit_findings, stage_loading_shift
 from pulsepick.circuits.base import STATUS_WORDS, Figures
 from pulsepick.commands.circuit_options import add_circuit_arguments, design_from_args
@@ -73,7 +73,7 @@ def _status_reason(status: str, findings) -> str | None:
     if status == "runs":
         return None
     codes = {"stalls": ("stalls", "cap-leakage"), "dark": ("led-dark",),
-             "unpowered": ("supply-range",)}[status]
+             "out-of-range": ("supply-range",)}[status]
     for f in findings:
         if f.code in codes:
             return f.text
@@ -90,7 +90,7 @@ def analyse(design: Design, use_reference: bool):
     engine = "reference" if use_reference else "fast"
     shift = stage_loading_shift(design)
     if not use_reference and shift is not None and abs(shift) > STRONG_COUPLING:
-        engine = "reference (the stage's load shifts the timing strongly)"
+        engine = "reference"  # the fast engine's first-order coupling is not trusted here
         use_reference = True
     ref = design.reference() if use_reference else None
     fig = ref.figures if ref is not None else design.fast()
@@ -144,18 +144,20 @@ def render_report(console, design: Design, figures: dict, reason, findings, assu
         v = figures[key]
         text = "-" if v is None else (format_eng(v, unit) if unit != "mcd" else f"{v:.3g} mcd")
         rows.append([label, text])
-    status = figures["status"] + (f" ({reason})" if reason else "")
-    rows.append(["status", status])
+    rows.append(["status", figures["status"]])
     console.print(simple_table(None, ["figure", "value"], rows, ["left", "right"]))
+    if reason:
+        print_wrapped(console, f"status {figures['status']}: {reason}")
     console.print("[bold]assumptions[/bold]")
     thr = (f"VT+ {assumed['vt_plus_v']:.3g} V, VT- {assumed['vt_minus_v']:.3g} V "
            f"({assumed['thresholds_from']}); output {assumed['rout_high_ohm']:.0f} Ω high / "
            f"{assumed['rout_low_ohm']:.0f} Ω low")
     print_wrapped(console, f"chip: {assumed['chip']}; {thr}")
     print_wrapped(console, f"LED: {assumed['led']}, {assumed['led_vf_v_at_test']:.3g} V at "
-                  f"{format_eng(assumed['led_test_current_a'], 'A')}, n = "
-                  f"{assumed['led_ideality']:.3g}, RS = {assumed['led_series_ohm']:.3g} Ω, "
-                  f"visible from {format_eng(assumed['led_visible_a'], 'A')}")
+                  f"{format_eng(assumed['led_test_current_a'], 'A')} (datasheet); n = "
+                  f"{assumed['led_ideality']:.3g}, RS = {assumed['led_series_ohm']:.3g} Ω and "
+                  f"visible from {format_eng(assumed['led_visible_a'], 'A')} "
+                  f"({assumed['led_model_from']})")
     print_wrapped(console, f"timing capacitor: {assumed['timing_cap_kind']}")
     if "crossing_current" in assumed:
         print_wrapped(console, f"crossing current: {assumed['crossing_current']}")
@@ -181,5 +183,5 @@ def _render_waveform(console, design: Design, ref) -> None:
 
 def _render_cautions(console) -> None:
     console.print("[bold]cautions[/bold]")
-    for text in GENERAL_CAUTIONS:
+    for text in (NOT_A_SAFETY_LIGHT, LOW_VOLTAGE_ONLY):
         print_wrapped(console, text, indent="  - ", hang="    ")

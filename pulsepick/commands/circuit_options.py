@@ -9,6 +9,7 @@ options into core objects, refusing bad input with one clear message.
 from __future__ import annotations
 
 import argparse
+import math
 
 from pulsepick.circuits.base import Topology, core_names, get_core, get_stage, stage_names
 from pulsepick.design import Design, load_curve
@@ -24,6 +25,10 @@ VALUE_OPTIONS = {
     "r1": "--r", "r2": "--r2", "ra": "--ra", "rb": "--rb", "c1": "--c",
     "cp": "--cp", "ch": "--ch", "rs": "--rs",
 }
+
+#: Accepted LED ideality factors: 1 < n < 2 for most diodes, up to about 5 in LED
+#: models (photonica glossary, facts.md S50; Light & Engineering 28-5, S51), with margin.
+LED_N_RANGE = (0.5, 10.0)
 
 DEFAULT_TIMING_CAP = "film-pet"
 DEFAULT_STAGE_CAP = "electrolytic"
@@ -81,6 +86,10 @@ def add_circuit_arguments(parser: argparse.ArgumentParser, supply_default: str =
     add_part_arguments(parser)
 
 
+_EXAMPLE = {"r1": "2M2", "r2": "47k", "ra": "1M", "rb": "22k", "c1": "1u", "cp": "22u",
+            "ch": "100u", "rs": "470"}
+
+
 def _value_help(name: str) -> str:
     text = {
         "r1": "timing resistor R1 (schmitt cores), e.g. 2M2",
@@ -104,6 +113,9 @@ def _led_from_args(args) -> object:
     vf, at = _parse_at(args.led_vf, "voltage", "--led-vf", "2.0V@20mA")
     kwargs = {}
     if args.led_n is not None:
+        if not (math.isfinite(args.led_n) and LED_N_RANGE[0] <= args.led_n <= LED_N_RANGE[1]):
+            raise RequestError(f"--led-n {args.led_n:g}: the ideality factor of an LED lies "
+                               f"between {LED_N_RANGE[0]:g} and {LED_N_RANGE[1]:g}, e.g. 2")
         kwargs["n"] = args.led_n
     if args.led_rs is not None:
         kwargs["r_s"] = parse_value(args.led_rs, unit="ohm", allow_zero=True)
@@ -185,7 +197,7 @@ def design_from_args(args) -> Design:
         if text is None:
             if name in wanted and not wanted[name].optional:
                 problems.append(f"{opt} ({wanted[name].role}) is needed by "
-                                f"{core_name} + {stage_name}")
+                                f"{core_name} + {stage_name}, e.g. {opt} {_EXAMPLE[name]}")
             continue
         if name not in wanted:
             problems.append(f"{opt} is not used by {core_name} + {stage_name} "
