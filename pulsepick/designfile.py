@@ -154,6 +154,13 @@ def _check_table(path: str, table: str, data: Any, allowed: dict[str, str],
             for k, v in data.items()}
 
 
+def _top_word(key: str) -> str:
+    """How a top-level key is written: ``name``, ``[build]``, ``[[light]]``."""
+    if key == "name":
+        return key
+    return "[[light]]" if key == "light" else f"[{key}]"
+
+
 def parse_design(text: str, path: str = "design.toml") -> DesignFile:
     """Read the text of a design file (see the module docstring).
 
@@ -172,7 +179,7 @@ def parse_design(text: str, path: str = "design.toml") -> DesignFile:
         raise RequestError(
             f"{path}: unknown key{'s' if len(unknown) > 1 else ''} "
             f"{', '.join(repr(k) for k in unknown)} at the top; allowed: "
-            f"{', '.join(k if k in ('name',) else ('[[light]]' if k == 'light' else f'[{k}]') for k in TOP_KEYS)}")
+            f"{', '.join(_top_word(k) for k in TOP_KEYS)}")
     name = data.get("name", "")
     if not isinstance(name, str):
         raise RequestError(f"{path}: name = {name!r}: give text, such as name = \"lantern\"")
@@ -285,7 +292,8 @@ def build_request(design: DesignFile, **overrides: Any):
 def storage_part(design: DesignFile):
     """The storage part of ``[storage]`` (a table key or a capacitance)."""
     from pulsepick.errors import PulsepickError
-    from pulsepick.parts.storage import STORAGE_KEYS as PARTS, custom_storage, get_storage
+    from pulsepick.parts.storage import STORAGE_KEYS as PARTS
+    from pulsepick.parts.storage import custom_storage, get_storage
     from pulsepick.units import parse_quantity, parse_value
 
     s = design.storage

@@ -1305,7 +1305,7 @@ def _one_family(breq, names, results, chosen: list[int]) -> list[int]:
     order = list(breq.lights[0].request.families)
     target = max(set(schmitt), key=lambda f: (schmitt.count(f), -order.index(f)
                                                if f in order else 0))
-    for i, k in enumerate(chosen):
+    for i in range(len(chosen)):
         if fams[i] in (target, "timer555"):
             continue
         alts = [j for j, c in enumerate(results[i].candidates)
@@ -1437,8 +1437,7 @@ def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float]) -> Candi
               for key, (target, _) in req.aims().items()}
     return replace(c, design=design, figures=figs, errors=errors,
                    parts=_parts(req, design, figs), reference=None, spread=None, drift=None,
-                   warnings=(), notes=c.notes + ("timing values moved by the spread-out "
-                                                 "search",))
+                   warnings=(), notes=(*c.notes, "timing values moved by the spread-out search"))
 
 
 def _risk_text(names, r, margin: float) -> str:

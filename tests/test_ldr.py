@@ -1,6 +1,5 @@
 """Light-dependent rate: period against light and the clamp solve."""
 
-import io
 
 import numpy as np
 import pytest
@@ -94,7 +93,7 @@ def test_cli_ldr_report_and_json(capsys):
     assert main(args) == 0
     out = capsys.readouterr().out
     assert "Period against light" in out and "series 510 kΩ" in out
-    assert main(args + ["--json"]) == 0
+    assert main([*args, "--json"]) == 0
     import json
 
     doc = json.loads(capsys.readouterr().out)

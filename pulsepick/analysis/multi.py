@@ -532,10 +532,10 @@ def combined_load_curve(curves: Sequence[LoadCurve], label: str | None = None) -
         period = np.where(rate > 0, 1.0 / rate, np.nan)
     period = np.where(lit_all, period, np.nan)
     label = label or " + ".join(c.label for c in curves)
-    notes = tuple(dict.fromkeys(n for c in curves for n in c.notes)) + (
-        f"{len(curves)} lights added: currents and effective brightness add, the period shown "
-        "is the interval between flashes of all lights together, and the night stops when the "
-        "first light goes dark",)
+    added = (f"{len(curves)} lights added: currents and effective brightness add, the period "
+             "shown is the interval between flashes of all lights together, and the night "
+             "stops when the first light goes dark")
+    notes = (*dict.fromkeys(n for c in curves for n in c.notes), added)
     return LoadCurve(
         label=label, supply_v=grid, supply_avg_a=current, period_s=period,
         flash_s=np.fmax.reduce([at(c, "flash_s") for c in curves]),
@@ -552,8 +552,8 @@ def with_values(design, values: dict[str, float]):
 
 # ============================================================================ parts
 
-def build_part_lines(names: Sequence[str], part_lines: Sequence[tuple], plan: PackagePlan, *, storage=None, panel=None,
-                     charge_diode: str | None = None) -> tuple:
+def build_part_lines(names: Sequence[str], part_lines: Sequence[tuple], plan: PackagePlan, *,
+                     storage=None, panel=None, charge_diode: str | None = None) -> tuple:
     """Every part of the build, numbered across the lights (``PartLine`` tuple).
 
     Chips come first, one line per package (U1, U2, ...); then each light's resistors,

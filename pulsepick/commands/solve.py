@@ -795,8 +795,9 @@ def render_build(console, result, *, buylist: str | None = None) -> None:
         print_wrapped(console, so.message)
         console.print()
     console.print("[bold]Energy budget[/bold]")
+    night_c = _eng(result.total_supply_a * 12 * 3600, "C")
     print_wrapped(console, f"all lights together draw {_eng(result.total_supply_a, 'A')} on "
-                           f"average at the design supply ({_eng(result.total_supply_a * 12 * 3600, 'C')} "
+                           f"average at the design supply ({night_c} "
                            "over a 12 h night); run 'pulsepick night' with the design file for "
                            "the storage")
     console.print()
