@@ -1260,7 +1260,8 @@ def _plan(breq, names, cands):
     from pulsepick.analysis.multi import plan_packages
 
     return plan_packages([_use(n, c) for n, c in zip(names, cands, strict=True)],
-                         dusk_detector=breq.dusk_detector)
+                         dusk_detector=breq.dusk_detector,
+                         periods_s=[c.figures["period_s"] for c in cands])
 
 
 def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
@@ -1376,9 +1377,7 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
     choice = None
     moved = [False] * len(picks)
     if breq.spread_out:
-        options = [multi.period_options(c.design, asked[i], breq.period_tolerance,
-                                        r_series=breq.lights[i].request.r_series,
-                                        c_series=breq.lights[i].request.c_series)
+        options = [_period_options(breq.lights[i].request, c, asked[i], breq.period_tolerance)
                    for i, c in enumerate(picks)]
         pairs = [(i, j) for i, j in itertools.combinations(range(len(picks)), 2)
                  if groups[i] == groups[j]]
@@ -1422,6 +1421,18 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
                        risks_before=risks_before, spread_out=choice, total_supply_a=total,
                        success=ok, message=message, warnings=tuple(warnings),
                        search_s=time.perf_counter() - t0)
+
+
+def _period_options(req: SolveRequest, c: Candidate, asked_s: float, tolerance: float):
+    """Standard-value variants of a pick, from the drawer when the request has one."""
+    from pulsepick.analysis.multi import period_options
+
+    r_values = c_values = None
+    if req.stock is not None:
+        r_values = req.stock.resistors()
+        c_values = [v for v, k in req.stock.capacitors((c.design.parts.timing_cap,))]
+    return period_options(c.design, asked_s, tolerance, r_series=req.r_series,
+                          c_series=req.c_series, r_values=r_values, c_values=c_values)
 
 
 def _r_tols(c: Candidate) -> dict[str, float] | None:

@@ -160,11 +160,15 @@ def _n(k: int, word: str) -> str:
 
 
 def plan_packages(uses: Sequence[LightUse], *, dusk_detector: bool = True,
-                  dusk_family: str | None = None) -> PackagePlan:
-    """Place the lights on packages: first fit, largest first, per logic family.
+                  dusk_family: str | None = None,
+                  periods_s: Sequence[float] | None = None) -> PackagePlan:
+    """Place the lights on packages per logic family, as few packages as the gates need.
 
     The dusk detector's gate goes with ``dusk_family`` (default: the first Schmitt
-    light's family, or ``hc`` when every light is on a 555).
+    light's family, or ``hc`` when every light is on a 555). With ``periods_s`` (s), each
+    light goes to the package with room where its period keeps furthest from a simple
+    ratio with the lights already there (nominal ratios widened by ``PLAN_BAND``);
+    without, first fit, largest first.
     """
     if not uses:
         raise RequestError("a build needs at least one light")
@@ -174,11 +178,19 @@ def plan_packages(uses: Sequence[LightUse], *, dusk_detector: bool = True,
     for family in dict.fromkeys([*schmitt_families, *([dfam] if dusk_detector else [])]):
         items = [(u.gates, i) for i, u in enumerate(uses) if u.family == family]
         items.sort(key=lambda t: -t[0])
-        if dusk_detector and family == dfam:
-            items.append((1, -1))
         mine: list[dict[str, Any]] = []
+        if dusk_detector and family == dfam:
+            items.insert(0, (1, -1))
+        if periods_s is not None:
+            total = sum(size for size, _ in items)
+            mine = [{"family": family, "used": 0, "lights": [], "dusk": False}
+                    for _ in range(max(1, math.ceil(total / GATES_PER_PACKAGE)))]
         for size, idx in items:
-            home = next((p for p in mine if p["used"] + size <= GATES_PER_PACKAGE), None)
+            room = [p for p in mine if p["used"] + size <= GATES_PER_PACKAGE]
+            if periods_s is not None and idx >= 0 and room:
+                room.sort(key=lambda p: (-_plan_clearance(periods_s, idx, p["lights"]),
+                                         p["used"]))
+            home = room[0] if room else None
             if home is None:
                 home = {"family": family, "used": 0, "lights": [], "dusk": False}
                 mine.append(home)
@@ -191,6 +203,7 @@ def plan_packages(uses: Sequence[LightUse], *, dusk_detector: bool = True,
     for i, u in enumerate(uses):
         if u.is_timer:
             packages.append({"family": "timer555", "used": 1, "lights": [i], "dusk": False})
+    packages = [p for p in packages if p["used"] > 0]
     out = tuple(Package(number=k, family=p["family"], gates_used=p["used"],
                         lights=tuple(sorted(p["lights"])), dusk=p["dusk"])
                 for k, p in enumerate(packages, start=1))
@@ -199,6 +212,21 @@ def plan_packages(uses: Sequence[LightUse], *, dusk_detector: bool = True,
         oscillators=sum(1 for u in uses if not u.is_timer),
         buffers=sum(1 for u in uses if not u.is_timer and u.buffered),
         dusk=int(dusk_detector), timers=sum(1 for u in uses if u.is_timer))
+
+
+#: Half-width (log units) added to nominal ratios when placing lights on packages: about
+#: the P5..P95 half-width of a ratio with 5 % resistors and 10 % capacitors (estimate from
+#: the spread analysis of such pairs).
+PLAN_BAND = 0.15
+
+
+def _plan_clearance(periods_s: Sequence[float], idx: int, others: Sequence[int]) -> float:
+    """Smallest clearance of light ``idx``'s period against the lights already placed."""
+    worst = math.inf
+    for j in others:
+        x = math.log(periods_s[idx] / periods_s[j])
+        worst = min(worst, float(clearance(x - PLAN_BAND, x + PLAN_BAND)))
+    return worst
 
 
 def package_limit_error(plan: PackagePlan, max_packages: int) -> str | None:
@@ -334,13 +362,14 @@ class PeriodOptions:
 
 
 def period_options(design, asked_s: float, tolerance: float, *, r_series: str = "E24",
-                   c_series: str = "E12") -> PeriodOptions:
+                   c_series: str = "E12", r_values=None, c_values=None) -> PeriodOptions:
     """Variants of ``design``'s timing values whose period is within ``tolerance`` of
     ``asked_s``, keeping the flash and LED peak within ``VARIANT_FIGURE_FACTOR``.
 
     One fast-engine call evaluates every combination of the timing resistors (along
     ``r_series``) and the timing capacitor (along its kind's series) within
-    ``VARIANT_VALUE_FACTOR`` of the solved values.
+    ``VARIANT_VALUE_FACTOR`` of the solved values. ``r_values`` / ``c_values`` (ohm,
+    farad) replace the series with the values at hand (a parts drawer).
     """
     from pulsepick.circuits.base import RUNS, get_core
     from pulsepick.engine import fast
@@ -352,8 +381,13 @@ def period_options(design, asked_s: float, tolerance: float, *, r_series: str = 
     names = []
     for p in core.params:
         v = float(design.values[p.name])
-        if p.kind == "R":
-            vals = get_series(r_series).values(v / VARIANT_VALUE_FACTOR, v * VARIANT_VALUE_FACTOR)
+        lo_v, hi_v = v / VARIANT_VALUE_FACTOR, v * VARIANT_VALUE_FACTOR
+        given = r_values if p.kind == "R" else c_values
+        if given is not None:
+            arr = np.asarray(given, dtype=float)
+            vals = arr[(arr >= lo_v) & (arr <= hi_v)]
+        elif p.kind == "R":
+            vals = get_series(r_series).values(lo_v, hi_v)
         else:
             kind = get_cap_kind(design.parts.timing_cap)
             lo = max(v / VARIANT_VALUE_FACTOR, kind.c_min_f)
