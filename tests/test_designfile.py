@@ -56,10 +56,20 @@ def test_examples_read():
         d = read_design(str(EXAMPLES / name))
         assert len(d.lights) >= 3
         build_request(d)  # every light's request is valid
-    garden = read_design(str(EXAMPLES / "garden-path-markers.toml"))
-    # the stock path is relative to the design file
-    assert garden.stock_path == os.path.normpath(str(EXAMPLES / "garden-drawer.csv"))
     assert is_design_file("x.TOML") and not is_design_file("one flash every 3 s")
+
+
+def test_stock_path_is_relative_to_the_design_file(tmp_path):
+    sub = tmp_path / "designs"
+    sub.mkdir()
+    (tmp_path / "drawer.csv").write_text("kind,value,qty\nR,1M,4\nC,2u2,2\n", encoding="utf-8")
+    path = sub / "d.toml"
+    path.write_text(GOOD.replace('family = "lvc"', 'family = "lvc"\nstock = "../drawer.csv"'),
+                    encoding="utf-8")
+    d = read_design(str(path))
+    assert d.stock_path == os.path.normpath(str(tmp_path / "drawer.csv"))
+    b = build_request(d)
+    assert b.lights[0].request.stock.resistors() == (1e6,)
 
 
 def _one_line(err: Exception) -> str:

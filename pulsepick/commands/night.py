@@ -376,10 +376,11 @@ def _apply_design(args: argparse.Namespace):
                       ("extra_load", "extra_load")):
         if key in s:
             setattr(args, attr, s[key])
-    given_night = any(getattr(args, k) is not None for k in _FILE_NIGHT)
-    if not given_night:
+    # a night given by clock or length replaces the file's; a single site option given
+    # (such as --date) replaces only that key
+    if not any(getattr(args, k) is not None for k in ("dusk", "dawn", "night")):
         for key, value in night_options(design).items():
-            if value is not None:
+            if value is not None and getattr(args, key, None) is None:
                 setattr(args, key, value)
     return design
 
