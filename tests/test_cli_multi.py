@@ -119,3 +119,25 @@ def test_night_from_solve(capsys):
     assert main(["night", "--from-solve", "one flash every 3 s", "--r", "1M",
                  "--storage", "5f-2v7", "--night", "12h"]) == 2
     assert "give the circuit one way" in _error_line(capsys)
+
+
+def test_build_report_as_text():
+    """The terminal report of a build, rendered at 100 columns (two solver runs, ~1.5 s)."""
+    import io
+
+    from rich.console import Console
+
+    from pulsepick.commands.solve import render_build
+    from pulsepick.request import make_build_request, split_lights
+    from pulsepick.solve import solve_build
+
+    breq = make_build_request(split_lights("two lights: every 2 s, every 3.05 s, 50 ms each"),
+                              family="hc", top=2)
+    result = solve_build(breq, jobs=1, assess_picks=False)
+    buf = io.StringIO()
+    render_build(Console(file=buf, width=100, color_system=None), result)
+    text = buf.getvalue()
+    assert all(len(line) <= 100 for line in text.splitlines())
+    for words in ("Lights", "Packages", "2 lights need 4 gates", "Lock risk", "light 1 / light 2",
+                  "Energy budget", "Cautions"):
+        assert words in text

@@ -42,6 +42,9 @@ EXAMPLES = [
     "pulsepick night --no-circuit --storage 0f47-2v7 --night 12.5h --extra-load 8uA --json",
     "pulsepick night --storage 5f-2v7 --start 2.6V --dusk 18:30 --dawn 07:10 <circuit options> "
     "--plot night.png --report night.html",
+    'pulsepick night --from-solve "one flash every 3 s" --family lvc --storage 5f-2v7 '
+    "--start 2.6V --stop-at 1.8V --night 12h",
+    "pulsepick night examples/firefly-lantern.toml",
 ]
 
 TURN_ON_CHOICES = ("civil", "sunset")
