@@ -179,3 +179,21 @@ def test_unknown_family_lists_keys():
         get_family("ttl")
     with pytest.raises(PartError, match="typ, max"):
         get_family("hc").rout_high(3.0, "worst")
+
+
+def test_family_names_are_hex_parts():
+    # The buy list plans with hex packages (pulsepick.partslist.GATES_PER_PACKAGE = 6), so each
+    # family is named after a hex Schmitt inverter, not a single- or triple-gate part.
+    from pulsepick.partslist import GATES_PER_PACKAGE
+
+    assert GATES_PER_PACKAGE == 6
+    names = {key: get_family(key).name for key in FAMILY_KEYS}
+    assert names["lvc"] == "LVC Schmitt inverter (74LVC14A class)"
+    assert names["ahc"] == "AHC/VHC Schmitt inverter (74AHC14 / 74VHC14 class)"
+    assert names["hc"] == "HC Schmitt inverter (74HC14 class)"
+    for name in names.values():
+        for single in ("1G", "2G", "3G"):
+            assert single not in name, name
+    # the LVC thresholds still name their table: NXP 74LVC3G17 (facts.md S7)
+    lvc_notes = " ".join(get_family("lvc").source_notes)
+    assert "74LVC3G17" in lvc_notes and "facts.md S7" in lvc_notes
