@@ -89,6 +89,35 @@ def test_custom_led_refuses_impossible():
         custom_led(2.0, 20e-3, mcd=-5.0)
 
 
+# Maximum continuous current: the datasheet test current where a row has one, a lower bound on
+# the rating (facts.md S53 white 20 mA, S55 amber 50 mA and InGaN 30 mA); the other rows are
+# marked "from memory" in the table and only checked for that mark and for covering their test
+# current.
+DATASHEET_I_MAX = {"amber": 50e-3, "green": 30e-3, "blue": 30e-3, "white": 20e-3}
+
+
+@pytest.mark.parametrize("key", LED_KEYS)
+def test_table_maximum_current(key):
+    led = get_led(key)
+    assert led.i_max_a is not None and led.i_max_a >= led.i_test_a
+    notes = " ".join(led.source_notes)
+    if key in DATASHEET_I_MAX:
+        assert led.i_max_a == pytest.approx(DATASHEET_I_MAX[key])
+        assert "lower bound" in notes
+    else:
+        assert "i_max_a" in notes and "from memory" in notes
+
+
+def test_custom_led_maximum_current():
+    assert custom_led(2.0, 20e-3).i_max_a is None  # unknown unless given
+    led = custom_led(2.0, 20e-3, i_max_a=0.025)
+    assert led.i_max_a == 0.025
+    assert any("maximum continuous current 0.025 A (user value)" in n for n in led.source_notes)
+    for bad in (0.0, -0.02, math.nan, math.inf):
+        with pytest.raises(PartError, match="maximum current"):
+            custom_led(2.0, 20e-3, i_max_a=bad)
+
+
 def test_unknown_colour_lists_keys():
     with pytest.raises(PartError, match="red, bright-red, amber"):
         get_led("infrared")

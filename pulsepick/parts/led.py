@@ -54,6 +54,7 @@ class LedModel:
     mcd_per_a : luminous intensity per ampere, mcd/A, or None when unknown.
     visible_a : smallest steady current plainly visible at night, A (estimate).
     vf_min_v, vf_max_v : published VF limits at the test current, V, or None.
+    i_max_a : maximum continuous forward current, A, or None when unknown.
     """
 
     key: str  # table key, or "custom"
@@ -66,6 +67,7 @@ class LedModel:
     source_notes: tuple[str, ...]  # provenance
     vf_min_v: float | None = None  # V, published minimum VF at i_test_a
     vf_max_v: float | None = None  # V, published maximum VF at i_test_a
+    i_max_a: float | None = None  # A, maximum continuous forward current; None when unknown
 
     def __post_init__(self) -> None:
         problems = []
@@ -79,6 +81,8 @@ class LedModel:
             problems.append("VF min above VF typ")
         if self.vf_max_v is not None and not self.vf_max_v >= self.vf_test_v:
             problems.append("VF max below VF typ")
+        if self.i_max_a is not None and not (math.isfinite(self.i_max_a) and self.i_max_a > 0):
+            problems.append("maximum current must be a number above 0 A or unknown")
         if problems:
             raise PartError(f"LED {self.key}: " + "; ".join(problems))
 
@@ -136,6 +140,7 @@ def get_led(key: str) -> LedModel:
         source_notes=(f"{key}: {row['source']}",),
         vf_min_v=_opt(row["vf_min_v"]),
         vf_max_v=_opt(row["vf_max_v"]),
+        i_max_a=_opt(row["i_max_a"]),
     )
 
 
@@ -147,6 +152,7 @@ def custom_led(
     mcd: float | None = None,
     mcd_at_a: float | None = None,
     visible_a: float = CUSTOM_VISIBLE_A,
+    i_max_a: float | None = None,
 ) -> LedModel:
     """An LED described by the user: VF at one current, optional n, RS and intensity.
 
@@ -158,6 +164,7 @@ def custom_led(
     r_s : series resistance, ohm (default 5, estimate).
     mcd : luminous intensity, mcd, at ``mcd_at_a`` (A; defaults to ``at_a``).
     visible_a : smallest plainly visible current, A (default 50 uA, estimate).
+    i_max_a : maximum continuous forward current, A (default None: unknown).
 
     Raises
     ------
@@ -169,6 +176,8 @@ def custom_led(
             raise PartError(f"LED {label} must be a number above 0, got {value}")
     if mcd is not None and not (math.isfinite(mcd) and mcd > 0):
         raise PartError(f"LED intensity must be above 0 mcd, got {mcd}")
+    if i_max_a is not None and not (math.isfinite(i_max_a) and i_max_a > 0):
+        raise PartError(f"LED maximum current must be above 0 A (or not given), got {i_max_a}")
     at_i = at_a if mcd_at_a is None else mcd_at_a
     if mcd is not None and not at_i > 0:
         raise PartError(f"LED intensity current must be above 0 A, got {at_i}")
@@ -176,6 +185,8 @@ def custom_led(
     notes = [f"custom: VF {vf_v:g} V at {at_a:g} A, n {n:g}, RS {r_s:g} ohm (user values)"]
     if mcd is not None:
         notes.append(f"custom: {mcd:g} mcd at {at_i:g} A (user value)")
+    if i_max_a is not None:
+        notes.append(f"custom: maximum continuous current {i_max_a:g} A (user value)")
     return LedModel(
         key="custom",
         name="custom LED",
@@ -185,4 +196,5 @@ def custom_led(
         mcd_per_a=None if mcd is None else mcd / at_i,
         visible_a=visible_a,
         source_notes=tuple(notes),
+        i_max_a=i_max_a,
     )
