@@ -17,7 +17,7 @@ from pulsepick.engine.environment import CHIP_KEYS, ChipSpec, PartChoice
 from pulsepick.errors import RequestError
 from pulsepick.parts.capacitor import CAP_KIND_KEYS
 from pulsepick.parts.diode import DIODE_KEYS
-from pulsepick.parts.led import LED_KEYS, custom_led, get_led
+from pulsepick.parts.led import LED_KEYS, LedModel, custom_led, get_led
 from pulsepick.units import parse_quantity, parse_value
 
 #: Command-line option for each component value of the circuits.
@@ -104,7 +104,13 @@ def _value_help(name: str) -> str:
     return text[name]
 
 
-def _led_from_args(args) -> object:
+def led_from_args(args: argparse.Namespace) -> LedModel:
+    """The LED the circuit options describe: a colour (``--led``) or a custom LED.
+
+    A custom LED needs ``--led-vf V@I``; ``--led-n``, ``--led-rs`` and ``--led-mcd`` refine
+    it. Raises :class:`~pulsepick.errors.RequestError` for a refinement without ``--led-vf``
+    or an unreadable value.
+    """
     if args.led_vf is None:
         if any(getattr(args, k) is not None for k in ("led_n", "led_rs", "led_mcd")):
             raise RequestError("--led-n, --led-rs and --led-mcd describe a custom LED: "
@@ -168,7 +174,7 @@ def parts_from_args(args, supply_v: float, core: str | None = None
     chip = ChipSpec(family=family, vt_plus_v=vt_plus, vt_minus_v=vt_minus, rout_ohm=rout,
                     cross_current_a=cross,
                     measured_at_v=supply_v if (vt_plus or vt_minus or rout) else None)
-    parts = PartChoice(led=_led_from_args(args), timing_cap=args.timing_cap,
+    parts = PartChoice(led=led_from_args(args), timing_cap=args.timing_cap,
                        stage_cap=args.stage_cap, steer_diode=args.steer_diode,
                        reset_diode=args.reset_diode, fade_diode=args.fade_diode)
     return chip, parts
