@@ -106,12 +106,69 @@ def test_decode_json(capsys):
 
 def test_decode_capacitor_json(capsys):
     data = _json(capsys, ["2n2"])
-    assert data["kind"] == "R"  # no unit written: a resistor by default
+    # p, n and µ written without a unit only make sense for a capacitor: 2.2 nF, code 2n2
+    # (RKM, facts.md S27, S28)
+    assert data["kind"] == "C" and data["value_f"] == 2.2e-9 and data["code"] == "2n2"
+    assert data["kind_note"] == "read as a capacitance; add --kind R to force a resistance"
+    data = _json(capsys, ["4k7"])
+    assert data["kind"] == "R" and data["kind_note"] is None  # no capacitor prefix
     data = _json(capsys, ["2.2uF"])
     assert data["kind"] == "C" and data["value_f"] == 2.2e-6 and data["code"] == "2u2"
     assert data["colour_bands"] == []
     data = _json(capsys, ["100n", "--kind", "c"])
     assert data["kind"] == "C" and data["code"] == "100n"
+
+
+@pytest.mark.parametrize(
+    ("text", "head", "code"),
+    [
+        # RKM: 100n = 100 nF, 4u7/4µ7 = 4.7 µF, p68 = 0.68 pF (facts.md S27, S28)
+        ("100n", "100n = 100 nF = 1e-07 F", "100n"),
+        ("4µ7", "4µ7 = 4.7 µF = 4.7e-06 F", "4u7"),
+        ("4u7", "4u7 = 4.7 µF = 4.7e-06 F", "4u7"),
+        ("p68", "p68 = 6.8e-13 F", "p68"),
+    ],
+)
+def test_decode_capacitor_prefix_without_unit(capsys, monkeypatch, text, head, code):
+    out = _text(capsys, monkeypatch, [text])
+    lines = out.splitlines()
+    assert lines[0] == f"{head}   RKM code {code}"
+    assert lines[1] == f"{text}: read as a capacitance; add --kind R to force a resistance"
+    assert "Colour bands" not in out and "Ω" not in out
+
+
+def test_decode_shows_each_form_once(capsys, monkeypatch):
+    assert _text(capsys, monkeypatch, ["1.5 F"]).splitlines()[0] == "1.5 F   RKM code 1F5"
+    assert _text(capsys, monkeypatch, ["1.5F"]).splitlines()[0] == "1.5F   RKM code 1F5"
+    assert _text(capsys, monkeypatch, ["100"]).splitlines()[0] == "100 = 100 Ω   RKM code 100R"
+    first = _text(capsys, monkeypatch, ["4k7"]).splitlines()[0]
+    assert first == "4k7 = 4.7 kΩ = 4700 Ω   RKM code 4k7"
+
+
+def test_capacitor_prefix_in_range_and_picks(capsys, monkeypatch):
+    data = _json(capsys, ["E6", "--from", "1n", "--to", "10n"])
+    # E6 (facts.md S22): 1.0 1.5 2.2 3.3 4.7 6.8, then 10
+    assert data["kind"] == "C" and data["kind_note"].startswith("read as a capacitance")
+    assert [v["code"] for v in data["values"]] == ["1n", "1n5", "2n2", "3n3", "4n7", "6n8", "10n"]
+    data = _json(capsys, ["4.65n", "--series", "E24"])
+    # E24 neighbours of 4.65 are 4.3 and 4.7 (facts.md S22)
+    assert data["kind"] == "C" and data["below"]["value_f"] == pytest.approx(4.3e-9)
+    out = _text(capsys, monkeypatch, ["4.65n", "--series", "E24"])
+    assert "4.65n: read as a capacitance; add --kind R to force a resistance" in out
+
+
+def test_resistance_at_the_floor_is_decoded(capsys):
+    data = _json(capsys, ["R001"])
+    assert data["kind"] == "R" and data["value_ohm"] == 0.001 and data["code"] == "R001"
+    data = _json(capsys, ["1m"])  # m is milli, an ordinary prefix for either kind: R
+    assert data["kind"] == "R" and data["value_ohm"] == 0.001
+
+
+def test_below_the_floor_suggests_kind_c_only_without_a_unit(capsys):
+    assert main(["values", "R0001"]) == 2
+    assert "--kind C" not in capsys.readouterr().err  # R marks ohms: --kind C cannot help
+    assert main(["values", "0.0005"]) == 2
+    assert "or --kind C for a capacitance" in capsys.readouterr().err
 
 
 def test_decode_text(capsys, monkeypatch):
@@ -185,6 +242,14 @@ def test_help_shows_examples(capsys):
         (["E24", "--from", "1nF", "--to", "100R"], "a capacitance is expected"),
         (["4k7", "--kind", "X"], "invalid choice"),
         (["1e30"], "outside what a series covers"),
+        (["100n", "--kind", "R"],
+         "'100n' as a resistance is 100 nΩ, below 1 mΩ; accepted: resistances from 1 mΩ "
+         "(R001), or --kind C for a capacitance"),
+        (["0.0005"], "'0.0005' as a resistance is 500 µΩ, below 1 mΩ"),
+        (["R0001"], "'R0001' as a resistance is 100 µΩ, below 1 mΩ; accepted: resistances "
+                    "from 1 mΩ (R001)"),
+        (["100nohm"], "'100nohm' as a resistance is 100 nΩ"),
+        (["E24", "--from", "0.1m", "--to", "1"], "--from '0.1m' as a resistance is 100 µΩ"),
     ],
 )
 def test_bad_input(capsys, argv, fragment):

@@ -37,6 +37,13 @@ EXAMPLES = [
 ]
 
 _MAX_DECADES = 12  # widest --from/--to range listed (a list, not a sweep of all of physics)
+# Smallest resistance decoded (estimate: no resistor in a blinker is below 1 mΩ; a smaller
+# "resistance" is almost always a capacitance typed without its unit).
+_MIN_RESISTANCE_OHM = 1e-3
+# Prefix letters that, written without a unit, only make sense for a capacitor: p, n, µ/u
+# (a resistor of 999 nΩ or 999 µΩ is below _MIN_RESISTANCE_OHM).
+_CAP_PREFIX = re.compile("[pnu\u00b5\u03bc]")
+_INFERRED_C_NOTE = "read as a capacitance; add --kind R to force a resistance"
 _SERIES_WORD = re.compile(r"[Ee][0-9]+")
 # Per kind: RKM kind, unit symbol, JSON key, unit passed to parse_value.
 _KIND = {
@@ -104,24 +111,45 @@ def run(args: argparse.Namespace) -> int:
         series = get_series(series_arg)
         if args.lo is None:
             return _show_series(series, args.json)
-        kind = _kind_of((args.lo, args.hi), args.kind)
-        return _show_range(series, kind, args.lo, args.hi, args.json)
-    kind = _kind_of((what,), args.kind)
-    value = parse_value(what, _KIND[kind]["parse"])
+        kind, note = _kind_of((args.lo, args.hi), args.kind)
+        return _show_range(series, kind, args.lo, args.hi, args.json, note)
+    kind, note = _kind_of((what,), args.kind)
+    value = _read(what, kind, "")
     if series_arg is not None:
-        return _show_picks(what, value, kind, get_series(series_arg), args.json)
-    return _show_decode(what, value, kind, args.json)
+        return _show_picks(what, value, kind, get_series(series_arg), args.json, note)
+    return _show_decode(what, value, kind, args.json, note)
 
 
-def _kind_of(texts: tuple[str, ...], kind: str | None) -> str:
-    """The --kind, or C when a value is written in farads, else R."""
+def _kind_of(texts: tuple[str, ...], kind: str | None) -> tuple[str, str | None]:
+    """The kind (R or C) and a note when it was inferred from a capacitor prefix.
+
+    --kind wins; then a written unit (F: C, Ω or R: R); then a value written with p, n or µ
+    and no unit is a capacitance (as a resistance it would be under 1 mΩ); else R.
+    """
     if kind is not None:
-        return kind
-    for text in texts:
-        _, unit = parse_value_unit(text)
-        if unit == "F":
-            return "C"
-    return "R"
+        return kind, None
+    units = [parse_value_unit(text)[1] for text in texts]
+    if "F" in units:
+        return "C", None
+    if "ohm" in units:
+        return "R", None
+    if any(_CAP_PREFIX.search(text) for text in texts):
+        return "C", _INFERRED_C_NOTE
+    return "R", None
+
+
+def _read(text: str, kind: str, option: str) -> float:
+    """A value of the kind; resistances under 1 mΩ are refused (likely a missing unit)."""
+    value = parse_value(text, _KIND[kind]["parse"])
+    if kind == "R" and value < _MIN_RESISTANCE_OHM:
+        # --kind C only helps a value written without a unit or an R marker
+        other = ", or --kind C for a capacitance" if parse_value_unit(text)[1] is None else ""
+        raise RequestError(
+            f"{option}{text!r} as a resistance is {format_eng(value, 'Ω')}, below "
+            f"{format_eng(_MIN_RESISTANCE_OHM, 'Ω')}; accepted: resistances from 1 mΩ "
+            f"(R001){other}"
+        )
+    return value
 
 
 def _pct(value: float) -> str:
@@ -179,10 +207,11 @@ def _show_series(series: Series, as_json: bool) -> int:
 # --- form 2: the values of a series in a range -------------------------------------------------
 
 
-def _show_range(series: Series, kind: str, lo_text: str, hi_text: str, as_json: bool) -> int:
+def _show_range(series: Series, kind: str, lo_text: str, hi_text: str, as_json: bool,
+                note: str | None = None) -> int:
     spec = _KIND[kind]
-    lo = parse_value(lo_text, spec["parse"])
-    hi = parse_value(hi_text, spec["parse"])
+    lo = _read(lo_text, kind, "--from ")
+    hi = _read(hi_text, kind, "--to ")
     if lo > hi:
         raise RequestError(
             f"--from {format_eng(lo, spec['unit'])} is above --to {format_eng(hi, spec['unit'])}; "
@@ -200,6 +229,7 @@ def _show_range(series: Series, kind: str, lo_text: str, hi_text: str, as_json: 
         dump_json({
             "series": series.name,
             "kind": kind,
+            "kind_note": note,
             "tolerance_pct": series.tolerance_pct,
             f"from_{spec['key'].removeprefix('value_')}": lo,
             f"to_{spec['key'].removeprefix('value_')}": hi,
@@ -214,6 +244,8 @@ def _show_range(series: Series, kind: str, lo_text: str, hi_text: str, as_json: 
         f"(usual tolerance ±{_pct(series.tolerance_pct)})",
         markup=False,
     )
+    if note:
+        console.print(f"--from and --to {note}", markup=False)
     if not values:
         console.print("no series value lies in this range", markup=False)
         return 0
@@ -239,7 +271,17 @@ def _colour_rows(value: float) -> list[dict[str, Any]]:
     return out
 
 
-def _show_decode(text: str, value: float, kind: str, as_json: bool) -> int:
+def _same_forms(text: str, value: float, unit: str) -> list[str]:
+    """The input, its engineering form and its plain number, each written once."""
+    forms: list[str] = []
+    for form in (text.strip(), format_eng(value, unit, digits=6), f"{value:.6g} {unit}"):
+        if all("".join(form.split()) != "".join(f.split()) for f in forms):
+            forms.append(form)
+    return forms
+
+
+def _show_decode(text: str, value: float, kind: str, as_json: bool,
+                 note: str | None = None) -> int:
     spec = _KIND[kind]
     in_series = which_series(value)
     nearest = []
@@ -252,6 +294,7 @@ def _show_decode(text: str, value: float, kind: str, as_json: bool) -> int:
         dump_json({
             "input": text,
             "kind": kind,
+            "kind_note": note,
             spec["key"]: value,
             "value_eng": format_eng(value, spec["unit"]),
             "code": format_rkm(value, kind),  # type: ignore[arg-type]
@@ -266,10 +309,12 @@ def _show_decode(text: str, value: float, kind: str, as_json: bool) -> int:
         return 0
     console = make_console()
     console.print(
-        f"{text} = {format_eng(value, spec['unit'], digits=6)} = {value:.6g} {spec['unit']}"
-        f"   RKM code {format_rkm(value, kind)}",  # type: ignore[arg-type]
+        " = ".join(_same_forms(text, value, spec["unit"]))
+        + f"   RKM code {format_rkm(value, kind)}",  # type: ignore[arg-type]
         markup=False,
     )
+    if note:
+        console.print(f"{text}: {note}", markup=False)
     console.print(
         "in series: " + (", ".join(in_series) if in_series else "none (not a standard value)"),
         markup=False,
@@ -295,7 +340,8 @@ def _show_decode(text: str, value: float, kind: str, as_json: bool) -> int:
 # --- form 4: the picks around a value in one series --------------------------------------------
 
 
-def _show_picks(text: str, value: float, kind: str, series: Series, as_json: bool) -> int:
+def _show_picks(text: str, value: float, kind: str, series: Series, as_json: bool,
+                note: str | None = None) -> int:
     spec = _KIND[kind]
     below, above = series.bracket(value)
     picks = {
@@ -310,6 +356,7 @@ def _show_picks(text: str, value: float, kind: str, series: Series, as_json: boo
         dump_json({
             "input": text,
             "kind": kind,
+            "kind_note": note,
             spec["key"]: value,
             "series": series.name,
             "tolerance_pct": series.tolerance_pct,
@@ -325,6 +372,8 @@ def _show_picks(text: str, value: float, kind: str, series: Series, as_json: boo
         head += (f", between {picks['below']['value_eng']} and {picks['above']['value_eng']} "
                  f"in {series.name}")
     console.print(head + f" (usual tolerance ±{_pct(series.tolerance_pct)})", markup=False)
+    if note:
+        console.print(f"{text}: {note}", markup=False)
     labels = (
         ("nearest", "nearest (by ratio)"),
         ("down", "round down (below)"),
