@@ -73,7 +73,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         help="the series to pick from (E3 .. E192)")
     parser.add_argument("--kind", type=str.upper, choices=("R", "C"), default=None,
                         help="R for resistors (default), C for capacitors; a value written "
-                             "in farads (2.2uF) means C")
+                             "in farads (2.2uF), or with p, n or µ and no unit (100n), means C")
     parser.add_argument("--json", action="store_true", help="print plain JSON instead of tables")
 
 
