@@ -2,6 +2,7 @@
 
 import io
 import json
+import re
 
 import pytest
 from rich.console import Console
@@ -137,3 +138,72 @@ def test_blink_phrase_uses_the_solvers_best_circuit(capsys):
     assert doc["target_period_s"] == pytest.approx(3.0)  # the phrase's period
     assert doc["supply_range_v"] == [1.8, 2.7]
     assert len(doc["cells"]) == 12
+
+
+# --- advice wording ------------------------------------------------------------------------
+
+
+def _timer_design(ra, rb):
+    return Design(Topology("timer555", "direct"), {"ra": ra, "rb": rb, "c1": 100e-9, "rs": 470.0},
+                  ChipSpec("timer555"), PartChoice(get_led("red")), 3.0)
+
+
+def test_the_part_that_sets_the_period():
+    # 555 astable: t = ln2·(RA + 2·RB)·C (facts.md S21): the larger of RA and 2·RB
+    assert bands_cmd._period_part(_timer_design(1e6, 10e3)) == "RA"
+    assert bands_cmd._period_part(_timer_design(10e3, 1e6)) == "RB"
+    assert bands_cmd._period_part(_timer_design(1e6, 470e3)) == "RA"  # 1 MΩ > 940 kΩ
+    assert bands_cmd._period_part(_timer_design(1e6, 510e3)) == "RB"  # 1 MΩ < 1.02 MΩ
+    schmitt = Design(Topology("schmitt", "direct"), {"r1": 1e6, "c1": 1e-6, "rs": 1e3},
+                     ChipSpec("hc"), PartChoice(get_led("red")), 3.0)
+    assert bands_cmd._period_part(schmitt) == "R1"
+
+
+def test_timer_advice_names_ra_when_ra_sets_the_period(capsys):
+    # RA 1 MΩ against 2·RB = 20 kΩ (facts.md S21): RA sets 98 % of the period
+    doc = run_json(capsys, ["bands", "--core", "timer555", "--ra", "1M", "--rb", "10k", "--c",
+                            "1u", "--stage", "direct", "--rs", "470", "--supply", "3V",
+                            "--builds", "600", "--timing-cap", "c0g"])
+    text = " ".join(doc["advice"])
+    assert "trim RB" not in text
+    if doc["current"]["variance_shares"]["chip_thresholds"] >= 0.5:
+        assert "trim RA on the built circuit" in text
+
+
+def test_best_pair_line_skips_a_change_that_rounds_to_nothing():
+    from types import SimpleNamespace as NS
+
+    def result(width, yld):
+        return NS(current=NS(width_pct=lambda: width, yield_fraction=yld))
+
+    def cell(width, yld):
+        return NS(resistor_series="E96", cap_class="c0g", cap_tol_pct=2.0, width_pct=width,
+                  yield_fraction=yld)
+
+    line = bands_cmd._best_pair_line(result(116.2, 0.141), cell(115.0, 0.138))
+    assert line.endswith("narrows the width from 116 % to 115 %, with no gain in yield (14 %)")
+    line = bands_cmd._best_pair_line(result(20.2, 0.87), cell(19.8, 0.93))
+    assert line.endswith("leaves the width at 20 % and moves the yield from 87 % to 93 %")
+    line = bands_cmd._best_pair_line(result(20.2, 0.871), cell(19.8, 0.868))
+    assert line.endswith("C0G 2 % C1, gains nothing: width 20 %, yield 87 %")
+    line = bands_cmd._best_pair_line(result(27.0, 0.78), cell(17.0, 0.96))
+    assert line.endswith("narrows the width from 27 % to 17 % and moves the yield from 78 % "
+                         "to 96 %")
+
+
+def test_advice_says_the_chip_share_once_in_plain_words(capsys, monkeypatch):
+    doc = run_json(capsys, HC_ARGS)
+    assert doc["dominant_source"] == "chip_thresholds"  # the key stays a key
+    assert doc["dominant_source_label"] == "chip thresholds"
+    share = f"{doc['current']['variance_shares']['chip_thresholds'] * 100:.0f} %"
+    advice = doc["advice"]
+    assert sum(share in line for line in advice) == 1
+    assert any(line.startswith(f"the largest source is the chip's thresholds, with {share}")
+               and line.endswith("or trim R1 on the built circuit") for line in advice)
+    monkeypatch.setenv("NO_COLOR", "1")
+    assert cli.main(HC_ARGS) == 0
+    out = capsys.readouterr().out
+    flat = " ".join(out.split())
+    assert "chip_thresholds" not in out and "output_resistance" not in out
+    assert "chip thresholds" in out and "output resistance" in out
+    assert re.search(r"from (\d+ %) to \1", flat) is None

@@ -168,6 +168,8 @@ def run(args) -> int:
     result = _analyse(args)
     if args.json:
         out = result.as_dict()
+        out["dominant_source_label"] = SOURCE_LABELS[result.dominant_source()]
+        out["advice"] = _advice(result)
         out["design"] = {"circuit": result.design.topo.label(), "chip": result.design.chip.family,
                          "led": result.design.parts.led.key,
                          "timing_cap": result.design.parts.timing_cap,
@@ -269,15 +271,39 @@ def render(console, result: BandsResult) -> None:
         print_wrapped(console, line, indent="  - ", hang="    ")
 
 
+def _period_part(design) -> str:
+    """The resistor that sets most of the period, named as on the board.
+
+    555 astable: t = ln2·(RA + 2·RB)·C (facts.md S21), so RA when RA > 2·RB, else RB.
+    Schmitt cores: R1, the timing resistor.
+    """
+    if design.chip.is_timer:
+        ra, rb = design.values.get("ra", 0.0), design.values.get("rb", 0.0)
+        return "RA" if ra > 2.0 * rb else "RB"
+    return "R1"
+
+
+def _best_pair_line(result: BandsResult, best) -> str:
+    """What the narrowest cell buys, leaving out a change that rounds to nothing."""
+    cur = result.current
+    best_c1 = f"{CLASS_LABELS[best.cap_class]} {best.cap_tol_pct:g} %"
+    pair = f"the best pair here, {best.resistor_series} resistors with a {best_c1} C1,"
+    w_now, w_best = f"{cur.width_pct():.0f} %", f"{best.width_pct:.0f} %"
+    y_now, y_best = _pct(cur.yield_fraction), _pct(best.yield_fraction)
+    width = (f"narrows the width from {w_now} to {w_best}" if w_best != w_now
+             else f"leaves the width at {w_now}")
+    if y_best != y_now:
+        return f"{pair} {width} and moves the yield from {y_now} to {y_best}"
+    if w_best == w_now:
+        return f"{pair} gains nothing: width {w_now}, yield {y_now}"
+    return f"{pair} {width}, with no gain in yield ({y_now})"
+
+
 def _advice(result: BandsResult) -> list[str]:
     cur, ideal = result.current, result.ideal_parts
     best = min(result.cells, key=lambda c: c.width_pct if math.isfinite(c.width_pct) else 1e9)
-    best_c1 = f"{CLASS_LABELS[best.cap_class]} {best.cap_tol_pct:g} %"
     lines = [
-        f"the best pair here, {best.resistor_series} resistors with a {best_c1} C1, narrows "
-        f"the width from {cur.width_pct():.0f} % to "
-        f"{best.width_pct:.0f} % and moves the yield from {_pct(cur.yield_fraction)} to "
-        f"{_pct(best.yield_fraction)}",
+        _best_pair_line(result, best),
         f"no choice of resistor or capacitor gets below about {ideal.width_pct():.0f} %: that is "
         "what the chip, temperature and supply leave",
     ]
@@ -285,15 +311,18 @@ def _advice(result: BandsResult) -> list[str]:
     share = cur.shares.get(top, 0.0)
     parts_share = cur.shares.get("resistors", 0.0) + cur.shares.get("capacitors", 0.0)
     chip_share = cur.shares.get("chip_thresholds", 0.0)
+    part = _period_part(result.design)
+    if chip_share >= 0.5:
+        # the chip is then the largest source: one line says so and what to do
+        fix = (f"trim {part} on the built circuit" if result.design.chip.is_timer else
+               f"measure your chip and give --vt-plus/--vt-minus, or trim {part} on the built "
+               "circuit")
+        lines.append(f"the largest source is the chip's thresholds, with {_pct(chip_share)} of "
+                     f"the period's variance: tighter parts buy little; {fix}")
+        return lines
     lines.append(f"the largest source is {SOURCE_LABELS[top]}, with {_pct(share)} of the "
                  "period's variance")
-    if chip_share >= 0.5:
-        fix = ("measure your chip and give --vt-plus/--vt-minus, or trim the timing resistor "
-               "on the built circuit" if not result.design.chip.is_timer else
-               "trim RB on the built circuit")
-        lines.append(f"the chip's thresholds cause {_pct(chip_share)} of it: tighter parts buy "
-                     f"little; {fix}")
-    elif parts_share >= 0.5:
+    if parts_share >= 0.5:
         lines.append(f"resistors and capacitors cause {_pct(parts_share)} of it: tighter parts "
                      "pay off here, the timing capacitor first when its share is the larger")
     elif cur.shares.get("supply", 0.0) >= 0.5:
