@@ -58,7 +58,7 @@ def test_day_report_text_at_100_columns(monkeypatch):
     text = buf.getvalue()
     assert "\x1b[" not in text
     assert max(len(line) for line in text.splitlines()) <= 100
-    for words in ("Day by day", "weather", "next V", "in J", "Nights lasted: 7 of 7",
+    for words in ("Day by day", "weather", "next V", "energy in", "Nights lasted: 7 of 7",
                   "Days of autonomy", "Weak light", "Clamp 2.50 V", "Cautions:",
                   "not a safety, navigation or warning light"):
         assert words in text
@@ -218,3 +218,81 @@ def test_weak_panel_report_names_the_trap_and_never_restarts(capsys, monkeypatch
     assert "never restarts after a dark day" in flat
     assert "Equilibrium trap: the charge equals the draw on overcast days" in flat
     assert "no light" in flat
+
+
+def test_day_table_words_units_and_full(capsys, monkeypatch):
+    monkeypatch.setenv("NO_COLOR", "1")
+    from pulsepick.units import format_eng
+
+    code, out, err = _run(capsys, [*DAY, "--days", "3", "--json"])
+    assert code == 0, err
+    doc = json.loads(out)
+    # full means the clamp when there is one
+    assert doc["full_v"] == 2.5 and doc["full_is"] == "clamp"
+    code, out, err = _run(capsys, [*DAY, "--days", "3"])
+    assert code == 0, err
+    head = next(line for line in out.splitlines() if line.lstrip().startswith("day "))
+    assert head.split() == ["day", "weather", "dawn", "V", "full", "at", "max", "V", "dusk", "V",
+                            "charge", "in", "energy", "in", "clamp", "took", "light", "ran",
+                            "next", "V"]
+    assert "in C" not in out and "clamp C" not in out
+    first = next(line for line in out.splitlines() if line.lstrip().startswith("1 "))
+    day1 = doc["days"][0]
+    for value, unit in ((day1["charge_in_c"], "C"), (day1["energy_in_j"], "J"),
+                        (day1["charge_clamp_c"], "C")):
+        assert format_eng(value, unit) in first
+    assert "full at: the time the storage first reaches the clamp voltage 2.50 V." in out
+    clamp_line = " ".join(out[out.index("Clamp 2.50 V"):].split())
+    peak = max(d["charge_clamp_c"] for d in doc["days"])
+    assert clamp_line.startswith(f"Clamp 2.50 V: absorbs up to {format_eng(peak, 'C')} a day")
+
+
+def test_full_without_a_clamp_is_the_rating(capsys, monkeypatch):
+    monkeypatch.setenv("NO_COLOR", "1")
+    argv = ["day", "--storage", "5f-2v7", "--panel", "5v60ma", "--night-load", "30uA",
+            "--start", "2V"]
+    code, out, _ = _run(capsys, [*argv, "--json"])
+    assert code == 0
+    doc = json.loads(out)
+    # Maxwell 2.7 V 5 F cell (facts.md S38): full is its rated 2.7 V
+    assert doc["full_v"] == 2.7 and doc["full_is"] == "rated voltage"
+    assert doc["days"][0]["v_max_v"] > 2.7  # no clamp: it charges past the rating
+    code, out, _ = _run(capsys, argv)
+    assert code == 0
+    flat = " ".join(out.split())
+    assert ("full at: the time the storage first reaches its rated 2.70 V (there is no clamp); "
+            "it keeps charging above the rating, up to the max V shown.") in flat
+
+
+def test_assumptions_and_night_load_in_words(capsys, monkeypatch):
+    monkeypatch.setenv("NO_COLOR", "1")
+    pytest.importorskip("pulsepick.commands.circuit_options")
+    argv = ["day", "--storage", "5f-2v7", "--panel", "5v60ma", "--weather", "clear",
+            "--bleed", "240k", "--core", "schmitt", "--r", "1M", "--c", "1u", "--stage",
+            "direct", "--rs", "1k"]
+    code, out, err = _run(capsys, argv)
+    assert code == 0, err
+    flat = " ".join(out.split())
+    # the 5v60ma row of data/parts/panels.csv: n 1.5, r_s 4 ohm, r_sh 400000 ohm (estimates)
+    assert ("ideality factor 1.5, series resistance 4 Ω, shunt resistance 400 kΩ (example "
+            "rating (common practice); ideality factor, series resistance and shunt "
+            "resistance: estimates)") in flat
+    assert "Rsh 400000" not in flat and "r_s" not in flat and "ohm" not in flat
+    assert "the dusk detector's bleed 240 kΩ takes panel current by day" in flat
+    assert "(average supply current " in flat and " over storage voltages " in flat
+    code, out, _ = _run(capsys, [*argv, "--json"])
+    assert code == 0
+    doc = json.loads(out)
+    assert any("shunt resistance 400 kΩ" in a for a in doc["assumptions"])
+
+
+def test_custom_panel_notes_in_words(capsys, monkeypatch):
+    monkeypatch.setenv("NO_COLOR", "1")
+    code, out, _ = _run(capsys, ["day", "--storage", "1F", "--panel-voc", "5V", "--panel-isc",
+                                 "60mA", "--night-load", "10uA"])
+    assert code == 0
+    flat = " ".join(out.split())
+    # custom_panel's estimates: r_s 5 % and r_sh 5000 times voc/isc (pulsepick.parts.panel)
+    assert "series resistance 5 % of Voc/Isc (estimate)" in flat
+    assert "shunt resistance 5000x Voc/Isc (estimate)" in flat
+    assert "r_sh" not in flat and "voc/isc" not in flat

@@ -11,6 +11,7 @@ from __future__ import annotations
 import argparse
 import importlib
 import math
+import re
 from datetime import date
 
 from pulsepick import __version__
@@ -357,6 +358,8 @@ def result_json(result: DaysResult, night_info: dict) -> dict:
         "day_load_a": float(result.day_load.supply_avg_a.max()),
         "v_start_v": result.v_start_v,
         "v_stop_v": result.v_stop_v,
+        "full_v": full_v(result),
+        "full_is": full_is(result),
         "leak_level": result.leak_level,
         "days": [
             {"day": r.day, "weather": r.weather, "v_dawn_v": r.v_dawn_v, "v_max_v": r.v_max_v,
@@ -381,7 +384,7 @@ def result_json(result: DaysResult, night_info: dict) -> dict:
         "proposed_clamp_v": result.proposed_clamp_v,
         "proposed_clamp_w": result.proposed_clamp_w,
         "clamp_at_isc_w": result.clamp_at_isc_w,
-        "assumptions": list(result.assumptions),
+        "assumptions": assumption_lines(result),
         "warnings": list(result.warnings),
         "cautions": list(result.cautions) + list(GENERAL_CAUTIONS),
     }
@@ -391,9 +394,69 @@ def _v(x: float) -> str:
     return f"{x:.2f}"
 
 
-def _coulomb(x: float) -> str:
-    """Charge (C) or energy (J): whole numbers from 100 up, else three figures."""
-    return f"{x:.0f}" if abs(x) >= 100 else f"{x:.3g}"
+def _eng(x: float, unit: str) -> str:
+    """A charge (C) or energy (J) in engineering notation: 9.77 C, 150 mC, 1.14 kC."""
+    from pulsepick.units import format_eng
+
+    return format_eng(x, unit)
+
+
+def full_v(result: DaysResult) -> float:
+    """The voltage that counts as full (V): the clamp's, or else the storage's rating."""
+    clamp = result.path.clamp_v
+    return clamp if clamp is not None else result.storage.v_rated_v
+
+
+def full_is(result: DaysResult) -> str:
+    """What full means in this run: "clamp" or "rated voltage"."""
+    return "clamp" if result.path.clamp_v is not None else "rated voltage"
+
+
+def _full_note(result: DaysResult) -> str:
+    """The line under the table that says what "full at" means."""
+    if result.path.clamp_v is not None:
+        return (f"full at: the time the storage first reaches the clamp voltage "
+                f"{full_v(result):.2f} V.")
+    text = (f"full at: the time the storage first reaches its rated {full_v(result):.2f} V "
+            "(there is no clamp)")
+    if any(r.v_max_v > result.storage.v_rated_v + 0.005 for r in result.rows):
+        text += "; it keeps charging above the rating, up to the max V shown"
+    return text + "."
+
+
+# Column names of the panel table (data/parts/panels.csv) as words, for the notes shown.
+_PANEL_WORDS = {"n": "ideality factor", "r_s": "series resistance", "r_sh": "shunt resistance",
+                "voc": "Voc", "isc": "Isc"}
+
+
+def _panel_notes(notes: str) -> str:
+    """The panel's source notes with column names written as words."""
+    def words(match: re.Match) -> str:
+        names = [_PANEL_WORDS[n] for n in match[0].split()]
+        return names[0] if len(names) == 1 else ", ".join(names[:-1]) + " and " + names[-1]
+
+    text = re.sub(r"\b(?:n|r_sh|r_s)(?:\s+(?:n|r_sh|r_s))*\b", words, notes)
+    text = re.sub(r"\b(voc|isc)\b", lambda m: _PANEL_WORDS[m[1]], text)
+    return re.sub(r"(and shunt resistance) estimate\b", r"\1: estimates", text)
+
+
+def assumption_lines(result: DaysResult) -> list[str]:
+    """The run's assumptions with the panel and bleed figures in engineering notation."""
+    from pulsepick.units import format_eng
+
+    p = result.path.panel
+    bleed = result.path.bleed_ohm
+    out = []
+    for line in result.assumptions:
+        if line.startswith(f"panel {p.name}:"):
+            line = (f"panel {p.name}: single-diode model; Voc {format_eng(p.voc_v, 'V')} and "
+                    f"Isc {format_eng(p.isc_a, 'A')} at 1000 W/m²; {p.cells} cells; ideality "
+                    f"factor {p.n:g}, series resistance {format_eng(p.r_s_ohm, 'Ω')}, shunt "
+                    f"resistance {format_eng(p.r_sh_ohm, 'Ω')} ({_panel_notes(p.source_notes)})")
+        elif line.startswith("the dusk detector's bleed") and math.isfinite(bleed):
+            line = f"the dusk detector's bleed {format_eng(bleed, 'Ω')} takes panel current by day"
+        out.append(line)
+    return out
 
 
 def render_report(result: DaysResult, night_info: dict, console) -> None:
@@ -429,15 +492,18 @@ def render_report(result: DaysResult, night_info: dict, console) -> None:
             str(r.day), r.weather, _v(r.v_dawn_v),
             ("at dawn" if r.time_to_full_s == 0 else _full_at(result, r.time_to_full_s))
             if r.full else "not full", _v(r.v_max_v), _v(r.v_dusk_v),
-            _coulomb(r.charge_in_c), _coulomb(r.energy_in_j), _coulomb(r.charge_clamp_c),
+            _eng(r.charge_in_c, "C"), _eng(r.energy_in_j, "J"), _eng(r.charge_clamp_c, "C"),
             "all night" if r.lasted else (hours(r.runtime_s) if r.runtime_s > 0 else "no light"),
             _v(r.v_next_dawn_v),
         ])
-    console.print(simple_table(
+    table = simple_table(
         "Day by day",
-        ["day", "weather", "dawn V", "full at", "max V", "dusk V", "in C", "in J", "clamp C",
-         "light ran", "next V"],
-        rows, justify=["right", "left"] + ["right"] * 9))
+        ["day", "weather", "dawn V", "full at", "max V", "dusk V", "charge in", "energy in",
+         "clamp took", "light ran", "next V"],
+        rows, justify=["right", "left"] + ["right"] * 9)
+    table.padding = (0, 1, 0, 0)  # two spaces between columns: the eleven fit in 100
+    console.print(table)
+    console.print(_full_note(result))
     console.print(f"Nights lasted: {result.nights_lasted} of {len(result.rows)}.")
     if result.autonomy_nights is not None:
         more = " or more" if result.autonomy_capped else ""
@@ -464,7 +530,7 @@ def render_report(result: DaysResult, night_info: dict, console) -> None:
         console.print(f"Weak light: {verdict}.")
     if path.clamp_v is not None and result.clamp_at_isc_w is not None:
         peak = max((r.charge_clamp_c for r in result.rows), default=0.0)
-        console.print(f"Clamp {path.clamp_v:.2f} V: absorbs up to {_coulomb(peak)} C a day; at the "
+        console.print(f"Clamp {path.clamp_v:.2f} V: absorbs up to {_eng(peak, 'C')} a day; at the "
                       f"panel's full-sun Isc it dissipates {result.clamp_at_isc_w * 1e3:.0f} mW "
                       "(size its power rating for that).")
     traps = {r.weather: r.v_eq_v for r in result.rows if r.v_eq_v < result.v_stop_v}
@@ -474,7 +540,7 @@ def render_report(result: DaysResult, night_info: dict, console) -> None:
                       f"voltage {result.v_stop_v:.2f} V: in that light the storage cannot pass it.")
     _list(console, "Warnings", result.warnings)
     _list(console, "Cautions", list(result.cautions) + list(GENERAL_CAUTIONS))
-    _list(console, "Assumptions", result.assumptions)
+    _list(console, "Assumptions", assumption_lines(result))
 
 
 def key_value_table(rows: list[list[str]]):
@@ -513,7 +579,10 @@ def _night_load_text(load) -> str:
     currents = load.supply_avg_a
     if float(currents.min()) == float(currents.max()):
         return _amps(float(currents.max()))
-    return f"{load.label} ({_amps(float(currents.min()))} to {_amps(float(currents.max()))})"
+    volts = load.supply_v
+    return (f"{load.label} (average supply current {_amps(float(currents.min()))} to "
+            f"{_amps(float(currents.max()))} over storage voltages {float(volts.min()):.2f} V "
+            f"to {float(volts.max()):.2f} V)")
 
 
 def _amps(value: float) -> str:
