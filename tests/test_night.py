@@ -287,3 +287,30 @@ def test_zero_period_entries_count_no_flashes():
     curve = constant_load(10e-6, period_s=0.0)
     result = simulate_night(custom_storage(1.0), 2.5, NIGHT_12H, curve)
     assert result.flashes == 0.0
+
+
+# ------------------------------------------------------------------ the integrator's words
+
+def test_the_integrator_outcome_is_in_our_words():
+    stopped = simulate_night(custom_storage(GOLD_C), GOLD_V0, NIGHT_12H, None,
+                             extra_load_a=GOLD_I, storage_leak_a=GOLD_IL, stop_at_v=GOLD_V1)
+    assert stopped.message == (f"stopped at the stop voltage 1.80 V after "
+                               f"{stopped.runtime_s:.0f} s")
+    assert stopped.runtime_s == pytest.approx(GOLD_T_S, rel=0.005)  # S44
+    lasting = simulate_night(get_storage("5f-2v7"), 2.7, NIGHT_12H, constant_load(20e-6))
+    assert lasting.lasts_the_night and lasting.success
+    assert lasting.message == "ran to the end of the night (43200 s)"  # 12 h
+    never = simulate_night(custom_storage(0.47), 1.9, NIGHT_12H, fake_blinker(2.0))
+    assert never.message.startswith("not started")
+    for result in (stopped, lasting, never):
+        assert "event" not in result.message and "solver" not in result.message
+
+
+def test_open_ended_run_has_only_a_start_figure():
+    result = simulate_until_stop(
+        custom_storage(GOLD_C), GOLD_V0, None, stop_at_v=GOLD_V1,
+        extra_load_a=GOLD_I, storage_leak_a=GOLD_IL,
+    )
+    assert [p.label for p in result.figures] == ["start"]
+    assert result.figures[0].t_s == 0.0 and result.figures[0].v_v == GOLD_V0
+    assert result.runtime_s == pytest.approx(GOLD_T_S, rel=0.005)  # S44

@@ -15,7 +15,7 @@ facts.md S44), which the tests check.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import datetime, timedelta
 
 import numpy as np
@@ -41,7 +41,7 @@ _ATOL_V = 1e-9  # V
 class NightPoint:
     """The blinker at one moment of the night (dusk, midnight or dawn)."""
 
-    label: str  # "dusk", "midnight" (the middle of the night) or "dawn"
+    label: str  # "dusk", "midnight" (the middle of the night), "dawn"; "start" in an open run
     t_s: float  # s after dusk
     clock: str | None  # "HH:MM" when the dusk clock time is known
     v_v: float  # V, storage voltage; nan once the light has stopped
@@ -94,13 +94,13 @@ class NightResult:
     charge_circuit_c: float  # C (coulomb), drawn by the circuit
     charge_leak_c: float  # C, lost to storage leakage
     charge_extra_c: float  # C, drawn by the extra load
-    figures: tuple[NightPoint, ...]  # dusk, midnight, dawn
+    figures: tuple[NightPoint, ...]  # dusk, midnight, dawn; only "start" in an open-ended run
     timeline: NightTimeline
     assumptions: tuple[str, ...]
     warnings: tuple[str, ...]
     cautions: tuple[str, ...]
     success: bool  # the integrator finished
-    message: str  # the integrator's message
+    message: str  # how the integration ended, in our words
 
     @property
     def charge_total_c(self) -> float:
@@ -122,6 +122,17 @@ def _clock(dusk: datetime | None, t_s: float) -> str | None:
     if dusk is None:
         return None
     return (dusk + timedelta(seconds=round(t_s / 60.0) * 60.0)).strftime("%H:%M")
+
+
+def _solver_message(success: bool, stopped: bool, v_stop_v: float, t_s: float,
+                    duration_s: float) -> str:
+    """The integrator's outcome in our words (scipy's own messages stay inside)."""
+    if stopped:
+        return f"stopped at the stop voltage {v_stop_v:.2f} V after {t_s:.0f} s"
+    if success:
+        return f"ran to the end of the night ({duration_s:.0f} s)"
+    return (f"gave up after {t_s:.0f} s of {duration_s:.0f} s: the step size fell below what "
+            "the voltage's precision allows; the figures after that are missing")
 
 
 def _check_inputs(storage, v_start_v, duration_s, extra_load_a, storage_leak_a, stop_at_v,
@@ -244,7 +255,7 @@ def simulate_night(
             method="RK45", rtol=_RTOL, atol=[_ATOL_V, 1e-9, 1e-15, 1e-15, 1e-15],
             events=reach_stop, dense_output=True,
         )
-        success, message = bool(sol.success), str(sol.message)
+        success = bool(sol.success)
         stopped = sol.status == 1 and len(sol.t_events[0]) > 0
         if stopped:
             runtime = float(sol.t_events[0][0])
@@ -253,6 +264,7 @@ def simulate_night(
         else:
             runtime = float(sol.t[-1])
             state_end = np.asarray(sol.y[:, -1], dtype=float)
+        message = _solver_message(success, stopped, v_stop, runtime, duration_s)
 
     v_end = float(state_end[0])
     lasts = not stopped
@@ -425,6 +437,10 @@ def simulate_until_stop(
     the stop, so its timeline shows the whole run. The other keyword arguments are
     those of :func:`simulate_night`. A result that "lasts the night" here lasted
     ``max_duration_s``.
+
+    With no night there is no dusk, midnight or dawn: the result's ``figures`` hold
+    one point, labelled ``"start"`` (the start of the run); the end of the run is in
+    ``runtime_s`` and ``v_end_v``.
     """
     if stop_at_v is None and (load is None or math.isnan(load.light_stops_below_v())):
         raise RequestError(
@@ -453,7 +469,7 @@ def simulate_until_stop(
     if first.lasts_the_night and horizon < max_duration_s:
         first = simulate_night(storage, v_start_v, max_duration_s, load, stop_at_v=stop_at_v,
                                **options)
-    if first.lasts_the_night or first.runtime_s == 0.0:
-        return first
-    return simulate_night(storage, v_start_v, 1.1 * first.runtime_s, load,
-                          stop_at_v=stop_at_v, **options)
+    if not (first.lasts_the_night or first.runtime_s == 0.0):
+        first = simulate_night(storage, v_start_v, 1.1 * first.runtime_s, load,
+                               stop_at_v=stop_at_v, **options)
+    return replace(first, figures=(replace(first.figures[0], label="start"),))

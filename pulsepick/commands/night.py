@@ -12,6 +12,7 @@ import argparse
 import importlib
 import math
 import re
+from dataclasses import replace
 from datetime import date, datetime, timedelta
 
 import numpy as np
@@ -53,6 +54,12 @@ _MAX_NIGHT_S = 24 * 3600.0  # a night is at most a day long
 SUPPLY_STEP_V = 0.01  # grid step of the load curve, V (the light's stop voltage resolution)
 SUPPLY_GRID_LOW_V = 0.8  # lowest grid supply, V: below any LED or logic chip in the tables
 _CIRCUIT_MODULE = "pulsepick.commands.circuit_options"
+# the common single-cell rating (Maxwell BCAP0005, CAP-XX HY: facts.md S38/S39)
+DEFAULT_RATED_V = 2.7
+_PART_GIVEN_NOTE = "capacitance and rating given by the user"  # the storage model's own note
+CROSS_CURRENT_EXAMPLE = "--cross-current 15uA"  # option syntax only, not a figure
+NO_DUSK_DETECTOR = ("no dusk detector load included (pulsepick dusk computes its night-time "
+                    "bias; add it with --extra-load)")
 
 
 def _circuit_options():
@@ -157,8 +164,24 @@ def _read_storage(text: str | None, rated: str | None) -> Storage:
         raise RequestError(
             f"--storage {text!r}: the capacitance must be above 0; accepted: {accepted}"
         )
-    v_rated = 2.7 if rated is None else _quantity(rated, "voltage", "--rated", "2.7V or 5.5V")
-    return custom_storage(capacitance, v_rated_v=v_rated)
+    v_rated = (DEFAULT_RATED_V if rated is None
+               else _quantity(rated, "voltage", "--rated", "2.7V or 5.5V"))
+    storage = custom_storage(capacitance, v_rated_v=v_rated)
+    return replace(storage, source_notes=(
+        _given_note(storage, rated_given=rated is not None),
+        *(n for n in storage.source_notes if not n.startswith(_PART_GIVEN_NOTE)),
+    ))
+
+
+def _given_note(storage: Storage, rated_given: bool) -> str:
+    """Which of a bare capacitance's values were given and which were defaults."""
+    from pulsepick.units import format_eng
+
+    rating = (f"rating {storage.v_rated_v:g} V given by the user" if rated_given
+              else f"rating {storage.v_rated_v:g} V by default (the common single-cell rating, "
+                   "facts.md S38/S39; --rated sets it)")
+    return (f"capacitance {format_eng(storage.capacitance_f, 'F')} given by the user; {rating}; "
+            "tolerance taken as 0 (by default)")
 
 
 def _clock_time(text: str, option: str) -> tuple[int, int]:
@@ -315,9 +338,9 @@ def run(args: argparse.Namespace) -> int:
     extra = _quantity(args.extra_load, "current", "--extra-load", "10uA", allow_zero=True)
     charge_age = _quantity(args.charge_age, "time", "--charge-age", "6h", allow_zero=True)
 
-    load = None
+    load, designs = None, []
     if design is not None or args.from_solve is not None:
-        load = _solved_load(args, design, storage, v_start, stop_at)
+        load, designs = _solved_load(args, design, storage, v_start, stop_at)
     elif not args.no_circuit:
         if getattr(args, "supply", "") is None:
             args.supply = "3.0V"  # the check options' default supply
@@ -327,7 +350,11 @@ def run(args: argparse.Namespace) -> int:
                 "the circuit options are not available in this installation; "
                 "use --no-circuit for a bare storage budget"
             )
-        load = circuit.load_curve_from_args(args, supply_grid(max(v_start, storage.v_rated_v)))
+        from pulsepick.design import load_curve
+
+        one = circuit.design_from_args(args)
+        load = load_curve(one, supply_grid(max(v_start, storage.v_rated_v)))
+        designs = [(None, one)]
 
     options = {"extra_load_a": extra, "storage_leak_a": leak, "t_since_charge_s": charge_age,
                "leak_level": args.leakage}
@@ -338,10 +365,18 @@ def run(args: argparse.Namespace) -> int:
     else:
         result = simulate_night(storage, v_start, night["duration_s"], load, stop_at_v=stop_at,
                                 dusk=night["dusk"], **options)
+    context = {
+        "crossing_current": crossing_current(designs, v_start, load),
+        "dusk_detector": dusk_detector(design, extra),
+        "rated_default": storage.key == "custom" and args.rated is None,
+    }
+    result = replace(result, assumptions=result.assumptions + tuple(
+        entry["note"] for entry in (context["crossing_current"], context["dusk_detector"])
+        if entry is not None))
     if args.json:
-        dump_json(result_json(result, night))
+        dump_json(result_json(result, night, context))
     else:
-        render_report(result, night, make_console())
+        render_report(result, night, make_console(), context)
     announce(args, night_pictures(args, result, night))
     return 0
 
@@ -415,11 +450,12 @@ def _solved_load(args, design, storage, v_start: float, stop_at: float | None):
             raise RequestError(f"{args.design}: the solver offers nothing for "
                                f"{', '.join(missing)}; run 'pulsepick solve {args.design}' "
                                "for the reasons")
-        curves = [replace(load_curve(li.pick.design, grid),
-                          label=f"{li.name}: {li.pick.design.label()}")
-                  for li in result.lights]
+        designs = [(li.name, _with_cross_current(li.pick.design, args))
+                   for li in result.lights]
+        curves = [replace(load_curve(d, grid), label=f"{name}: {d.label()}")
+                  for name, d in designs]
         name = design.name or args.design
-        return combined_load_curve(curves, label=f"{name} ({len(curves)} lights)")
+        return combined_load_curve(curves, label=f"{name} ({len(curves)} lights)"), designs
     _one_circuit(args, "--from-solve")
     from pulsepick.request import make_build_request, make_request, split_lights
 
@@ -436,8 +472,11 @@ def _solved_load(args, design, storage, v_start: float, stop_at: float | None):
         if any(li.pick is None for li in result.lights):
             raise RequestError(f"--from-solve {args.from_solve!r}: the solver offers nothing "
                                "for some lights; run 'pulsepick solve' for the reasons")
-        return combined_load_curve([load_curve(li.pick.design, grid) for li in result.lights],
-                                   label=f"{args.from_solve} ({len(phrases)} lights)")
+        designs = [(li.name, _with_cross_current(li.pick.design, args))
+                   for li in result.lights]
+        return (combined_load_curve([load_curve(d, grid) for _, d in designs],
+                                    label=f"{args.from_solve} ({len(phrases)} lights)"),
+                designs)
     req = make_request(args.from_solve, supply=supply, family=args.family, led=args.led)
     result = solve(req, jobs=jobs)
     if not result.success:
@@ -446,38 +485,129 @@ def _solved_load(args, design, storage, v_start: float, stop_at: float | None):
     if args.pick > len(result.candidates):
         raise RequestError(f"--pick {args.pick}: the solver offers {len(result.candidates)} "
                            f"circuits; choose 1 to {len(result.candidates)}")
-    cand = result.candidates[args.pick - 1]
-    return replace(load_curve(cand.design, grid),
-                   label=f"{cand.design.label()} (solver pick {args.pick})")
+    pick = _with_cross_current(result.candidates[args.pick - 1].design, args)
+    return (replace(load_curve(pick, grid), label=f"{pick.label()} (solver pick {args.pick})"),
+            [(None, pick)])
+
+
+def _with_cross_current(design, args):
+    """The solver's design with a measured ``--cross-current`` in place of the estimate."""
+    text = getattr(args, "cross_current", None)
+    if text is None or design.chip.is_timer:
+        return design
+    measured = _quantity(text, "current", "--cross-current", "15uA", allow_zero=True)
+    return replace(design, chip=replace(design.chip, cross_current_a=measured))
+
+
+def crossing_current(designs, v_start_v: float, load) -> dict | None:
+    """The crossing current of each Schmitt input at the start voltage, or None.
+
+    ``designs`` is a list of (light name or None, Design). The circuit's average supply
+    current includes the current the Schmitt input draws while its input crosses the
+    thresholds: an estimate (no published figure; square-law model of the input stage,
+    as :func:`pulsepick.analysis.checks.assumptions` says) unless ``--cross-current``
+    gives a measured one. Returns the JSON entry, with the assumption line as ``note``.
+    """
+    from pulsepick.units import format_eng
+
+    schmitt = [(name, d) for name, d in designs if not d.chip.is_timer]
+    if not schmitt:
+        return None
+    lights = [{"light": name,
+               "crossing_current_a": float(np.ravel(d.fast(v_start_v).extras["crossing_a"])[0]),
+               "estimate": d.chip.cross_current_a is None}
+              for name, d in schmitt]
+    estimate = any(li["estimate"] for li in lights)
+    total = sum(li["crossing_current_a"] for li in lights)
+    circuit = float(load.current_a(v_start_v)) if load is not None else math.nan
+    if len(lights) == 1 or not estimate:  # a measured figure is one per gate
+        what = ("the Schmitt input's crossing current" if len(lights) == 1
+                else "each Schmitt input's crossing current")
+        value = format_eng(lights[0]["crossing_current_a"], "A")
+    else:
+        what = "each Schmitt input's crossing current"
+        value = ", ".join(f"{li['light']} {format_eng(li['crossing_current_a'], 'A')}"
+                          for li in lights)
+    share = (f"{total / circuit:.0%} of the circuit's {format_eng(circuit, 'A')} there; "
+             if circuit > 0 else "")
+    if estimate:
+        note = (f"the circuit's supply current includes {what}, an ESTIMATE of {value} average "
+                f"at the start voltage {v_start_v:.2f} V ({share}no published figure; "
+                "square-law model of the input stage); give a measured figure per gate with "
+                f"{CROSS_CURRENT_EXAMPLE}")
+    else:
+        note = (f"the circuit's supply current includes {what}, measured: {value} per gate "
+                "(given with --cross-current)")
+    return {"estimate": estimate, "at_v": v_start_v, "total_a": total, "lights": lights,
+            "override": "--cross-current", "note": note}
+
+
+def dusk_detector(design_file, extra_load_a: float) -> dict:
+    """What the run includes of a dusk detector (the JSON entry; the assumption as ``note``).
+
+    No option or design-file key gives a dusk detector's night-time bias yet: a design
+    file's ``dusk_detector`` only counts a gate for it. The note says so, and that
+    ``pulsepick dusk`` computes the bias for ``--extra-load``.
+    """
+    from pulsepick.units import format_eng
+
+    in_file = bool(design_file is not None and design_file.build.get("dusk_detector", True))
+    note = NO_DUSK_DETECTOR
+    if extra_load_a > 0:
+        note = note.replace("included", f"included beyond the extra load of "
+                                        f"{format_eng(extra_load_a, 'A')}", 1)
+    top = None
+    if in_file:
+        top = ("counted as a gate in the design file; its night-time bias is not in this run "
+               "(pulsepick dusk computes it; add it with --extra-load)")
+    return {"in_design_file": in_file, "bias_included": False, "bias_a": None, "top": top,
+            "note": note}
 
 
 # ---------------------------------------------------------------------------- output
 
-def result_json(result: NightResult, night: dict) -> dict:
-    """The JSON document of a night run (plain types; units in the key names)."""
+OPEN_ENDED_NOTE = ("no night given: the run goes on until the stop voltage, so there is no "
+                   "dusk, midnight or dawn; the figures hold only the start of the run")
+
+
+def result_json(result: NightResult, night: dict, context: dict | None = None) -> dict:
+    """The JSON document of a night run (plain types; units in the key names).
+
+    A run with no night (``night["given"] == "none"``) has ``dusk`` and ``dawn`` null,
+    a ``note`` saying why, and one entry in ``figures``, labelled ``"start"``: entries
+    for a midnight or a dawn that does not exist are left out. ``context`` carries
+    what the command knows beyond the simulation: ``crossing_current`` (None when no
+    Schmitt circuit is in the run), ``dusk_detector`` and ``rated_default``.
+    """
+    context = context or {}
     s = result.storage
     shares = result.shares()
+    open_ended = night["given"] == "none"
     return {
         "command": NAME,
         "version": __version__,
         "night": {
             "dusk": _hm(night["dusk"]),
-            "dawn": None if night["given"] == "none" else result.dawn_clock,
+            "dawn": None if open_ended else result.dawn_clock,
             "duration_s": night["duration_s"],
             "given": night["given"],
             **{k: night[k] for k in ("latitude_deg", "longitude_deg", "utc_offset_h", "date",
                                      "turn_on") if k in night},
+            **({"note": OPEN_ENDED_NOTE} if open_ended else {}),
         },
         "storage": {
             "key": s.key, "name": s.name, "capacitance_f": s.capacitance_f,
             "capacitance_used_f": result.capacitance_f,
             "tol_minus_pct": s.tol_minus_pct, "tol_plus_pct": s.tol_plus_pct,
-            "v_rated_v": s.v_rated_v, "v_surge_v": s.v_surge_v, "esr_ohm": s.esr_ohm,
+            "v_rated_v": s.v_rated_v, "v_rated_default": bool(context.get("rated_default")),
+            "v_surge_v": s.v_surge_v, "esr_ohm": s.esr_ohm,
             "leak_max_a": s.leak_max_a, "leak_settled_a": s.leak_settled_a,
             "cells_in_series": s.cells_in_series, "balanced": s.balanced,
             "source_notes": list(s.source_notes),
         },
         "circuit": None if result.load is None else result.load.label,
+        "crossing_current": _public(context.get("crossing_current")),
+        "dusk_detector": _public(context.get("dusk_detector")),
         "runtime_s": result.runtime_s,
         "lasts_the_night": result.lasts_the_night,
         "stops_at": result.stops_at,
@@ -518,6 +648,13 @@ def result_json(result: NightResult, night: dict) -> dict:
         "warnings": list(result.warnings),
         "cautions": list(result.cautions),
     }
+
+
+def _public(entry: dict | None) -> dict | None:
+    """A context entry for the JSON (without the report-only keys)."""
+    if entry is None:
+        return None
+    return {k: v for k, v in entry.items() if k != "top"}
 
 
 def _hm(moment: datetime | None) -> str | None:
@@ -580,8 +717,13 @@ def _bullets(console, title: str, items, mark: str) -> None:
     console.print()
 
 
-def render_report(result: NightResult, night: dict, console) -> None:
-    """The terminal report: verdict, night, storage, drains, figures, chart, cautions."""
+def render_report(result: NightResult, night: dict, console,
+                  context: dict | None = None) -> None:
+    """The terminal report: verdict, night, storage, drains, figures, chart, cautions.
+
+    ``context`` is the command's extra knowledge (see :func:`result_json`).
+    """
+    context = context or {}
     open_ended = night["given"] == "none"
     good = result.lasts_the_night
     console.print(Text(f"night: {verdict(result, open_ended)}",
@@ -608,8 +750,9 @@ def render_report(result: NightResult, night: dict, console) -> None:
         stop = "no stop voltage"
     rows = [
         ["night", window],
-        ["storage", f"{s.name}: {_eng(result.capacitance_f, 'F')}, rated {s.v_rated_v:.2f} V, "
-                    f"ESR {_eng(s.esr_ohm, 'Ω')}"],
+        ["storage", f"{s.name}: {_eng(result.capacitance_f, 'F')}, rated {s.v_rated_v:.2f} V"
+                    + (" (default)" if context.get("rated_default") else "")
+                    + f", ESR {_eng(s.esr_ohm, 'Ω')}"],
         ["voltage", f"start {result.v_start_v:.2f} V, {stop}, end {result.v_end_v:.2f} V"],
         ["energy", f"{_eng(result.energy_used_j, 'J')} used, usable energy fraction "
                    f"{result.usable_energy_fraction:.3f}"],
@@ -628,6 +771,9 @@ def render_report(result: NightResult, night: dict, console) -> None:
         drains.append(f"{label} {_eng(charge, 'C')}"
                       + (f" ({share:.0%})" if math.isfinite(share) else ""))
     rows.append(["drain", ", ".join(drains)])
+    dusk_entry = context.get("dusk_detector") or {}
+    if dusk_entry.get("top"):
+        rows.append(["dusk detector", dusk_entry["top"]])
     facts = RichTable.grid(padding=(0, 2))
     facts.add_column(style="bold")
     facts.add_column(ratio=1)
