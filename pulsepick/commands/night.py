@@ -377,7 +377,8 @@ def run(args: argparse.Namespace) -> int:
         dump_json(result_json(result, night, context))
     else:
         render_report(result, night, make_console(), context)
-    announce(args, night_pictures(args, result, night))
+    only = designs[0][1] if len(designs) == 1 else None
+    announce(args, night_pictures(args, result, night, only))
     return 0
 
 

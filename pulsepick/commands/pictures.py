@@ -615,15 +615,11 @@ def bands_report(result, dr, images, advice: tuple[str, ...] = ()) -> Report:
 
 # ============================================================================ night
 
-def night_pictures(args, result, night: dict) -> list[str]:
-    """Image and report of ``pulsepick night``."""
+def night_pictures(args, result, night: dict, design=None) -> list[str]:
+    """Image and report of ``pulsepick night``; ``design`` is the circuit when there is
+    exactly one (a build of several lights is reported by its summed load only)."""
     if not wants_pictures(args):
         return []
-    design = None
-    if result.load is not None:
-        from pulsepick.commands.circuit_options import design_from_args
-
-        design = design_from_args(args)
     views = [night_view(result, open_ended=night["given"] == "none")]
     title = (f"{result.storage.name} from {result.v_start_v:.2f} V"
              + (f"; {result.load.label}" if result.load is not None else "; no circuit"))
