@@ -1,21 +1,19 @@
 """Sunrise, sunset and civil twilight, for the length and clock times of a night.
 
-The equations are those published by the NOAA Global Monitoring Laboratory in "General
-Solar Position Calculations": the fractional year γ, the equation of time and the solar
-declination as Fourier series in γ, and the hour angle at which the sun's centre reaches a
-zenith angle of 90.833° (sunrise and sunset: refraction and the sun's radius) or 96° (civil
-twilight):
+The sun's declination and the equation of time follow J. Meeus, "Astronomical Algorithms"
+(2nd ed., 1998), ch. 25 "Solar Coordinates" (low-accuracy method: Julian century, the sun's
+geometric mean longitude and anomaly, the equation of centre, apparent longitude, corrected
+obliquity) and ch. 28 "Equation of Time" — the equations NOAA's Global Monitoring
+Laboratory publishes for its sunrise/sunset results. The events use the hour angle at which
+the sun's centre reaches a zenith angle of 90.833° (sunrise and sunset: refraction and the
+sun's radius) or 96° (civil twilight), as in NOAA GML's "General Solar Position
+Calculations":
 
-    γ = 2π/365·(day_of_year − 1 + (hour − 12)/24)        (366 in leap years)
-    cos(HA) = cos(zenith) / (cos(lat)·cos(decl)) − tan(lat)·tan(decl)
-    event (minutes after UTC midnight) = 720 − 4·(longitude ± HA) − eqtime
-
-(+HA for the morning event, −HA for the evening one; local clock = UTC + 60·utc_offset.)
+    cos(HA) = cos(zenith) / (cos(lat)·cos(decl)) - tan(lat)·tan(decl)
+    event (minutes after local midnight) = 720 - 4·longitude - eqtime + 60·utc_offset ∓ 4·HA
 
 The declination and equation of time are taken again at the time of the event itself (three
-passes). The series themselves are the limit on accuracy: against a full solar-position
-algorithm the events land within about 1 minute near the equator and within about 5 minutes
-at latitude 60-65° (measured against pvlib's NREL SPA in tests/test_sun.py).
+passes), which keeps the error to seconds away from the polar circles.
 
 Longitude is positive east. Times are returned as timezone-aware datetimes at the given UTC
 offset; with no offset the local mean solar time of the longitude is used (offset =
@@ -24,7 +22,6 @@ longitude/15 h).
 
 from __future__ import annotations
 
-import calendar
 import math
 from dataclasses import dataclass
 from datetime import date as Date
@@ -33,8 +30,7 @@ from typing import Literal
 
 from pulsepick.errors import RequestError
 
-# Zenith angles of the events: NOAA Global Monitoring Laboratory, "General Solar Position
-# Calculations" (90.833° for sunrise and sunset; 96° for civil twilight).
+# Zenith angles of the events (NOAA General Solar Position Calculations).
 SUNRISE_ZENITH_DEG = 90.833  # sun's upper limb on the horizon, with standard refraction
 CIVIL_ZENITH_DEG = 96.0  # centre of the sun 6° below the horizon
 
@@ -78,40 +74,36 @@ class _SolarTerms:
     eqtime_min: float
 
 
-def _fractional_year_rad(jd: float) -> float:
-    """The fractional year γ (radians) at Julian day ``jd`` (UTC).
-
-    γ = 2π/365·(day_of_year − 1 + (hour − 12)/24), with 366 in place of 365 in leap years
-    (NOAA Global Monitoring Laboratory, "General Solar Position Calculations").
-    """
-    ordinal = jd - _JD_UNIX_ORDINAL_OFFSET  # days since 00:00 UTC of ordinal 0
-    whole = math.floor(ordinal)
-    day = Date.fromordinal(whole)
-    hour = (ordinal - whole) * 24.0
-    day_of_year = day.timetuple().tm_yday
-    days_in_year = 366 if calendar.isleap(day.year) else 365
-    return 2.0 * math.pi / days_in_year * (day_of_year - 1 + (hour - 12.0) / 24.0)
-
-
 def _solar_terms(jd: float) -> _SolarTerms:
-    """Declination and equation of time at Julian day ``jd``.
-
-    Both are the Fourier series in the fractional year γ of NOAA Global Monitoring
-    Laboratory, "General Solar Position Calculations" (coefficients as published there).
-    """
-    g = _fractional_year_rad(jd)
-    # equation of time (minutes); NOAA GML "General Solar Position Calculations"
-    eqtime = 229.18 * (0.000075 + 0.001868 * math.cos(g) - 0.032077 * math.sin(g)
-                       - 0.014615 * math.cos(2 * g) - 0.040849 * math.sin(2 * g))
-    # solar declination (radians); NOAA GML "General Solar Position Calculations"
-    decl = (0.006918 - 0.399912 * math.cos(g) + 0.070257 * math.sin(g)
-            - 0.006758 * math.cos(2 * g) + 0.000907 * math.sin(2 * g)
-            - 0.002697 * math.cos(3 * g) + 0.00148 * math.sin(3 * g))
+    """Declination and equation of time at Julian day ``jd`` (Meeus ch. 25 and 28)."""
+    jc = (jd - 2451545.0) / 36525.0
+    l0 = (280.46646 + jc * (36000.76983 + jc * 0.0003032)) % 360.0
+    m = 357.52911 + jc * (35999.05029 - 0.0001537 * jc)
+    e = 0.016708634 - jc * (0.000042037 + 0.0000001267 * jc)
+    m_rad = math.radians(m)
+    c = (math.sin(m_rad) * (1.914602 - jc * (0.004817 + 0.000014 * jc))
+         + math.sin(2 * m_rad) * (0.019993 - 0.000101 * jc)
+         + math.sin(3 * m_rad) * 0.000289)
+    true_long = l0 + c
+    omega = math.radians(125.04 - 1934.136 * jc)
+    app_long = true_long - 0.00569 - 0.00478 * math.sin(omega)
+    seconds = 21.448 - jc * (46.815 + jc * (0.00059 - jc * 0.001813))
+    mean_obliq = 23.0 + (26.0 + seconds / 60.0) / 60.0
+    obliq = math.radians(mean_obliq + 0.00256 * math.cos(omega))
+    decl = math.asin(math.sin(obliq) * math.sin(math.radians(app_long)))
+    y = math.tan(obliq / 2.0) ** 2
+    l0_rad = math.radians(l0)
+    eqtime = 4.0 * math.degrees(
+        y * math.sin(2 * l0_rad)
+        - 2 * e * math.sin(m_rad)
+        + 4 * e * y * math.sin(m_rad) * math.cos(2 * l0_rad)
+        - 0.5 * y * y * math.sin(4 * l0_rad)
+        - 1.25 * e * e * math.sin(2 * m_rad)
+    )
     return _SolarTerms(decl, eqtime)
 
 
 def _cos_hour_angle(lat_rad: float, decl: float, zenith_deg: float) -> float:
-    # hour-angle equation; NOAA GML "General Solar Position Calculations"
     return (math.cos(math.radians(zenith_deg)) / (math.cos(lat_rad) * math.cos(decl))
             - math.tan(lat_rad) * math.tan(decl))
 
@@ -128,8 +120,6 @@ def _event_minutes(jd0: float, lat_rad: float, lon: float, tz_h: float, zenith_d
         return None, "day"
     for _ in range(3):
         ha = math.degrees(math.acos(min(1.0, max(-1.0, cos_ha))))
-        # solar noon and the event at ∓HA, 4 minutes per degree; NOAA GML "General Solar
-        # Position Calculations" (there in UTC minutes, here shifted to the local clock)
         noon = 720.0 - 4.0 * lon - terms.eqtime_min + 60.0 * tz_h
         local = noon - 4.0 * ha if rising else noon + 4.0 * ha
         terms = _solar_terms(jd0 + (local - 60.0 * tz_h) / 1440.0)
@@ -168,8 +158,8 @@ def sun_events(latitude_deg: float, date: Date, longitude_deg: float = 0.0,
 
     References
     ----------
-    NOAA Global Monitoring Laboratory, "General Solar Position Calculations" (fractional
-    year, equation of time, declination, hour angle; zenith 90.833° and 96°).
+    J. Meeus, "Astronomical Algorithms", 2nd ed. (1998), ch. 25 and 28; NOAA Global
+    Monitoring Laboratory, "General Solar Position Calculations" (zenith angles).
 
     Examples
     --------
