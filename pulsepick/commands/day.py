@@ -18,10 +18,11 @@ from pulsepick import __version__
 from pulsepick.analysis.cautions import GENERAL_CAUTIONS
 from pulsepick.analysis.day import MAX_DAYS, DaysResult, NightWindow, simulate_days
 from pulsepick.analysis.irradiance import WEATHER_WORDS, load_profile_csv, parse_weather
-from pulsepick.errors import PulsepickError, RequestError
+from pulsepick.commands.night_options import degrees, quantity, read_storage
+from pulsepick.errors import RequestError
 from pulsepick.parts.diode import DIODE_KEYS, get_diode
 from pulsepick.parts.panel import PanelModel, custom_panel, get_panel, panel_keys
-from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS, Storage, custom_storage, get_storage
+from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS
 from pulsepick.render import dump_json, make_console, simple_table
 
 NAME = "day"
@@ -52,16 +53,6 @@ def _circuit_options():
 
 
 # --------------------------------------------------------------------------- shared options
-
-def quantity(text: str, kind: str, option: str, example: str, allow_zero: bool = False) -> float:
-    """Read a quantity for ``option``; errors name the option and an example."""
-    from pulsepick.units import parse_quantity
-
-    try:
-        return parse_quantity(text, kind, allow_zero=allow_zero)  # type: ignore[arg-type]
-    except PulsepickError as err:
-        raise RequestError(f"{option} {text!r}: {err} (such as {example})") from err
-
 
 def add_panel_arguments(parser: argparse.ArgumentParser) -> None:
     """The panel and diode options shared by ``day`` and ``dusk``."""
@@ -103,30 +94,6 @@ def read_panel(args: argparse.Namespace) -> PanelModel:
             raise RequestError(f"--panel-cells {args.panel_cells!r}: give a whole number "
                                "from 1 to 100, such as 8")
     return custom_panel(voc, isc, cells)
-
-
-def read_storage(text: str | None, rated: str | None) -> Storage:
-    """A storage key or a capacitance (``0.47F``) with an optional rating."""
-    from pulsepick.units import parse_value
-
-    accepted = f"a storage key ({', '.join(STORAGE_KEYS)}) or a capacitance such as 0.47F"
-    if text is None:
-        raise RequestError(f"no storage given; use --storage with {accepted}")
-    key = text.strip().lower()
-    if key in STORAGE_KEYS:
-        if rated is not None:
-            raise RequestError(
-                f"--rated applies to a storage given as a capacitance, not to {key!r}")
-        return get_storage(key)
-    try:
-        capacitance = parse_value(text, unit="F", allow_zero=True)
-    except PulsepickError as err:
-        raise RequestError(f"--storage {text!r} is not a storage; accepted: {accepted}") from err
-    if not capacitance > 0:
-        raise RequestError(
-            f"--storage {text!r}: the capacitance must be above 0; accepted: {accepted}")
-    v_rated = 2.7 if rated is None else quantity(rated, "voltage", "--rated", "2.7V or 5.5V")
-    return custom_storage(capacitance, v_rated_v=v_rated)
 
 
 def clock(seconds: float | None) -> str:
@@ -221,17 +188,6 @@ def read_night_load(args: argparse.Namespace, v_top_v: float):
     return circuit.load_curve_from_args(args, supply_grid(v_top_v))
 
 
-def _degrees(text: str, option: str, limit: float) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        value = math.nan
-    if not (math.isfinite(value) and -limit <= value <= limit):
-        raise RequestError(f"{option} {text!r} is not an angle; give degrees from {-limit:g} "
-                           f"to {limit:g}, such as 52.1")
-    return value
-
-
 def read_night(args: argparse.Namespace) -> tuple[NightWindow, dict]:
     """The night window and a description of how it was given."""
     sun = [args.latitude, args.date, args.longitude, args.utc_offset]
@@ -249,8 +205,8 @@ def read_night(args: argparse.Namespace) -> tuple[NightWindow, dict]:
         raise RequestError("give the night one way: --night, or --latitude with --date")
     if args.date is None:
         raise RequestError("--latitude needs --date YYYY-MM-DD (the first evening)")
-    latitude = _degrees(args.latitude, "--latitude", 90.0)
-    longitude = None if args.longitude is None else _degrees(args.longitude, "--longitude", 180.0)
+    latitude = degrees(args.latitude, "--latitude", 90.0)
+    longitude = None if args.longitude is None else degrees(args.longitude, "--longitude", 180.0)
     offset = None
     if args.utc_offset is not None:
         try:

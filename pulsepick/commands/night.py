@@ -11,7 +11,6 @@ from __future__ import annotations
 import argparse
 import importlib
 import math
-import re
 from dataclasses import replace
 from datetime import date, datetime, timedelta
 
@@ -22,14 +21,22 @@ from rich.text import Text
 from pulsepick import __version__
 from pulsepick.analysis.cautions import NOT_A_SAFETY_LIGHT
 from pulsepick.analysis.night import NightResult, simulate_night, simulate_until_stop
+from pulsepick.commands.night_options import (
+    clock_time,
+    degrees,
+    quantity,
+    read_date,
+    read_storage,
+    utc_offset,
+)
 from pulsepick.commands.pictures import (
     add_picture_arguments,
     announce,
     check_picture_targets,
     night_pictures,
 )
-from pulsepick.errors import PulsepickError, RequestError
-from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS, Storage, custom_storage, get_storage
+from pulsepick.errors import RequestError
+from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS
 from pulsepick.render import dump_json, make_console, simple_table
 
 NAME = "night"
@@ -49,14 +56,11 @@ EXAMPLES = [
 ]
 
 TURN_ON_CHOICES = ("civil", "sunset")
-_CLOCK_RE = re.compile(r"(\d{1,2}):(\d{2})")
 _MAX_NIGHT_S = 24 * 3600.0  # a night is at most a day long
 SUPPLY_STEP_V = 0.01  # grid step of the load curve, V (the light's stop voltage resolution)
 SUPPLY_GRID_LOW_V = 0.8  # lowest grid supply, V: below any LED or logic chip in the tables
 _CIRCUIT_MODULE = "pulsepick.commands.circuit_options"
 # the common single-cell rating (Maxwell BCAP0005, CAP-XX HY: facts.md S38/S39)
-DEFAULT_RATED_V = 2.7
-_PART_GIVEN_NOTE = "capacitance and rating given by the user"  # the storage model's own note
 CROSS_CURRENT_EXAMPLE = "--cross-current 15uA"  # option syntax only, not a figure
 NO_DUSK_DETECTOR = ("no dusk detector load included (pulsepick dusk computes its night-time "
                     "bias; add it with --extra-load)")
@@ -130,103 +134,6 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 # ---------------------------------------------------------------------------- reading options
 
-def _quantity(text: str, kind: str, option: str, example: str, allow_zero: bool = False) -> float:
-    from pulsepick.units import parse_quantity
-
-    try:
-        return parse_quantity(text, kind, allow_zero=allow_zero)  # type: ignore[arg-type]
-    except PulsepickError as err:
-        raise RequestError(f"{option} {text!r}: {err} (such as {example})") from err
-
-
-def _read_storage(text: str | None, rated: str | None) -> Storage:
-    from pulsepick.units import parse_value
-
-    accepted = f"a storage key ({', '.join(STORAGE_KEYS)}) or a capacitance such as 0.22F"
-    if text is None:
-        raise RequestError(f"no storage given; use --storage with {accepted}")
-    key = text.strip().lower()
-    if key in STORAGE_KEYS:
-        if rated is not None:
-            raise RequestError(
-                f"--rated applies to a storage given as a capacitance, not to the part {key!r}"
-            )
-        return get_storage(key)
-    if text.strip().startswith("-"):
-        raise RequestError(
-            f"--storage {text!r}: the capacitance must be above 0; accepted: {accepted}"
-        )
-    try:
-        capacitance = parse_value(text, unit="F", allow_zero=True)
-    except PulsepickError as err:
-        raise RequestError(f"--storage {text!r} is not a storage; accepted: {accepted}") from err
-    if not capacitance > 0:
-        raise RequestError(
-            f"--storage {text!r}: the capacitance must be above 0; accepted: {accepted}"
-        )
-    v_rated = (DEFAULT_RATED_V if rated is None
-               else _quantity(rated, "voltage", "--rated", "2.7V or 5.5V"))
-    storage = custom_storage(capacitance, v_rated_v=v_rated)
-    return replace(storage, source_notes=(
-        _given_note(storage, rated_given=rated is not None),
-        *(n for n in storage.source_notes if not n.startswith(_PART_GIVEN_NOTE)),
-    ))
-
-
-def _given_note(storage: Storage, rated_given: bool) -> str:
-    """Which of a bare capacitance's values were given and which were defaults."""
-    from pulsepick.units import format_eng
-
-    rating = (f"rating {storage.v_rated_v:g} V given by the user" if rated_given
-              else f"rating {storage.v_rated_v:g} V by default (the common single-cell rating, "
-                   "facts.md S38/S39; --rated sets it)")
-    return (f"capacitance {format_eng(storage.capacitance_f, 'F')} given by the user; {rating}; "
-            "tolerance taken as 0 (by default)")
-
-
-def _clock_time(text: str, option: str) -> tuple[int, int]:
-    match = _CLOCK_RE.fullmatch(text.strip())
-    if match:
-        hour, minute = int(match.group(1)), int(match.group(2))
-        if hour < 24 and minute < 60:
-            return hour, minute
-    raise RequestError(f"{option} {text!r} is not a clock time; use 24-hour HH:MM such as 18:30")
-
-
-def _date(text: str) -> date:
-    try:
-        return date.fromisoformat(text.strip())
-    except ValueError as err:
-        raise RequestError(
-            f"--date {text!r} is not a date; use YYYY-MM-DD such as 2026-12-21"
-        ) from err
-
-
-def _degrees(text: str, option: str, limit: float) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        value = math.nan
-    if not (math.isfinite(value) and -limit <= value <= limit):
-        raise RequestError(
-            f"{option} {text!r} is not an angle; give degrees from {-limit:g} to {limit:g}, "
-            "such as 52.1"
-        )
-    return value
-
-
-def _utc_offset(text: str) -> float:
-    try:
-        value = float(text)
-    except ValueError:
-        value = math.nan
-    if not (math.isfinite(value) and -14 <= value <= 14):
-        raise RequestError(
-            f"--utc-offset {text!r} is not an offset; give hours from -14 to 14, such as 1 or -5.5"
-        )
-    return value
-
-
 def _read_night(args: argparse.Namespace) -> dict | None:
     """The night window: dusk (datetime or None), duration (s) and how it was given.
 
@@ -246,10 +153,10 @@ def _read_night(args: argparse.Namespace) -> dict | None:
                 raise RequestError(f"{option} needs --latitude and --date (the sun's times)")
     if sun_given:
         return _night_from_sun(args)
-    day = _date(args.date) if args.date is not None else date.today()
+    day = read_date(args.date) if args.date is not None else date.today()
     night_s = None
     if args.night is not None:
-        night_s = _quantity(args.night, "time", "--night", "12.5h")
+        night_s = quantity(args.night, "time", "--night", "12.5h")
         if not 0 < night_s <= _MAX_NIGHT_S:
             raise RequestError(
                 f"--night {args.night!r}: a night lasts more than 0 and at most 24 h"
@@ -258,8 +165,8 @@ def _read_night(args: argparse.Namespace) -> dict | None:
         if night_s is not None:
             raise RequestError("give --dusk with either --dawn or --night, not both")
         dusk = datetime.combine(day, datetime.min.time()).replace(
-            hour=_clock_time(args.dusk, "--dusk")[0], minute=_clock_time(args.dusk, "--dusk")[1])
-        hour, minute = _clock_time(args.dawn, "--dawn")
+            hour=clock_time(args.dusk, "--dusk")[0], minute=clock_time(args.dusk, "--dusk")[1])
+        hour, minute = clock_time(args.dawn, "--dawn")
         dawn = dusk.replace(hour=hour, minute=minute)
         if dawn <= dusk:
             dawn += timedelta(days=1)  # dawn before dusk: the next morning
@@ -271,7 +178,7 @@ def _read_night(args: argparse.Namespace) -> dict | None:
         if night_s is None:
             other = "--dawn" if which == "--dusk" else "--dusk"
             raise RequestError(f"{which} needs {other}, or --night for the night's length")
-        hour, minute = _clock_time(args.dusk or args.dawn, which)
+        hour, minute = clock_time(args.dusk or args.dawn, which)
         anchor = datetime.combine(day, datetime.min.time()).replace(hour=hour, minute=minute)
         dusk = anchor if args.dusk is not None else anchor - timedelta(seconds=night_s)
         return {"dusk": dusk, "duration_s": night_s, "given": "clock"}
@@ -289,10 +196,10 @@ NO_NIGHT = (
 def _night_from_sun(args: argparse.Namespace) -> dict:
     if args.date is None:
         raise RequestError("--latitude needs --date YYYY-MM-DD (the evening of the night)")
-    latitude = _degrees(args.latitude, "--latitude", 90.0)
-    longitude = None if args.longitude is None else _degrees(args.longitude, "--longitude", 180.0)
-    offset = None if args.utc_offset is None else _utc_offset(args.utc_offset)
-    day = _date(args.date)
+    latitude = degrees(args.latitude, "--latitude", 90.0)
+    longitude = None if args.longitude is None else degrees(args.longitude, "--longitude", 180.0)
+    offset = None if args.utc_offset is None else utc_offset(args.utc_offset)
+    day = read_date(args.date)
     from pulsepick.analysis.sun import night_window
 
     dusk, dawn = night_window(latitude, day, longitude_deg=longitude, utc_offset_h=offset,
@@ -318,25 +225,25 @@ def supply_grid(v_top_v: float, v_low_v: float | None = None) -> np.ndarray:
 def run(args: argparse.Namespace) -> int:
     """Read the options, simulate the night, print the report or JSON."""
     design = _apply_design(args)
-    storage = _read_storage(args.storage, args.rated)
+    storage = read_storage(args.storage, args.rated)
     night = _read_night(args)
     check_picture_targets(args)
     if night is None and not (args.no_circuit and args.stop_at is not None):
         raise RequestError(NO_NIGHT)
     v_start = (storage.v_rated_v if args.start is None
-               else _quantity(args.start, "voltage", "--start", "2.5V"))
+               else quantity(args.start, "voltage", "--start", "2.5V"))
     stop_at = (None if args.stop_at is None
-               else _quantity(args.stop_at, "voltage", "--stop-at", "1.8V", allow_zero=True))
+               else quantity(args.stop_at, "voltage", "--stop-at", "1.8V", allow_zero=True))
     if stop_at is not None and stop_at >= v_start:
         raise RequestError(
             f"--stop-at {args.stop_at} is not below the start voltage {v_start:g} V; "
             "give a stop voltage under the start"
         )
     leak = (None if args.storage_leak is None
-            else _quantity(args.storage_leak, "current", "--storage-leak", "0.2uA",
+            else quantity(args.storage_leak, "current", "--storage-leak", "0.2uA",
                            allow_zero=True))
-    extra = _quantity(args.extra_load, "current", "--extra-load", "10uA", allow_zero=True)
-    charge_age = _quantity(args.charge_age, "time", "--charge-age", "6h", allow_zero=True)
+    extra = quantity(args.extra_load, "current", "--extra-load", "10uA", allow_zero=True)
+    charge_age = quantity(args.charge_age, "time", "--charge-age", "6h", allow_zero=True)
 
     load, designs = None, []
     if design is not None or args.from_solve is not None:
@@ -496,7 +403,7 @@ def _with_cross_current(design, args):
     text = getattr(args, "cross_current", None)
     if text is None or design.chip.is_timer:
         return design
-    measured = _quantity(text, "current", "--cross-current", "15uA", allow_zero=True)
+    measured = quantity(text, "current", "--cross-current", "15uA", allow_zero=True)
     return replace(design, chip=replace(design.chip, cross_current_a=measured))
 
 
