@@ -78,8 +78,32 @@ def candidate_json(c) -> dict[str, Any]:
             k: v for k, v in c.drift.as_dict().items() if k != "steps"},
         "warnings": list(c.warnings),
         "notes": list(c.notes),
+        "crossing_current": c.crossing_current,
+        "median_period_s": None if c.spread is None else _num(
+            float(c.spread.quantiles["period_s"][1])),
+        "median_note": c.median_note,
     }
     return out
+
+
+def solve_cautions(request, *, storage: bool = False) -> tuple[str, ...]:
+    """The cautions a solver answer prints, where they apply.
+
+    Always: not a safety light, low voltage only. The supercapacitor short-circuit
+    caution only when a storage part is involved: a supply range (the droop of a
+    storage through the night) or a storage named in a design file.
+    """
+    from pulsepick.analysis.cautions import (
+        LOW_VOLTAGE_ONLY,
+        NOT_A_SAFETY_LIGHT,
+        POLARITY_AND_SHORTS,
+    )
+
+    reqs = [li.request for li in request.lights] if hasattr(request, "lights") else [request]
+    out = [NOT_A_SAFETY_LIGHT, LOW_VOLTAGE_ONLY]
+    if storage or any(r.supply_end_v is not None for r in reqs):
+        out.insert(0, POLARITY_AND_SHORTS)
+    return tuple(out)
 
 
 def result_json(result, cautions: tuple[str, ...] = ()) -> dict[str, Any]:
@@ -87,10 +111,15 @@ def result_json(result, cautions: tuple[str, ...] = ()) -> dict[str, Any]:
     from pulsepick import __version__
 
     req = result.request
+    assumptions = req.assumptions()
+    crossing = next((c.crossing_current for c in result.candidates if c.crossing_current),
+                    None)
+    if crossing is not None:
+        assumptions["crossing_current"] = crossing
     return {
         "pulsepick": __version__,
         "request": req.to_dict(),
-        "assumptions": req.assumptions(),
+        "assumptions": assumptions,
         "success": result.success,
         "message": result.message,
         "explanations": list(result.explanations),
@@ -103,10 +132,15 @@ def result_json(result, cautions: tuple[str, ...] = ()) -> dict[str, Any]:
 
 def buylist_rows(candidate) -> list[dict[str, str]]:
     """The buy list of a candidate as CSV-ready rows (strings)."""
+    return part_rows(candidate.parts)
+
+
+def part_rows(lines) -> list[dict[str, str]]:
+    """Buy-list rows (strings) of a tuple of ``PartLine``: identical parts summed."""
     from pulsepick.partslist import buy_rows
 
     rows = []
-    for row in buy_rows(candidate.parts):
+    for row in buy_rows(lines):
         p = row.part
         rows.append({
             "qty": str(row.quantity),
@@ -144,6 +178,30 @@ def buylist_text(result, pick: int = 1) -> str:
     writer = csv.DictWriter(out, fieldnames=BUYLIST_COLUMNS, lineterminator="\n")
     writer.writeheader()
     writer.writerows(buylist_rows(c))
+    return out.getvalue()
+
+
+def build_buylist_text(result, lines) -> str:
+    """The CSV text of one buy list for a whole build (``pulsepick.solve.BuildResult``).
+
+    ``lines`` are every part of the build (``PartLine`` tuple, e.g. from
+    :func:`pulsepick.analysis.multi.build_part_lines`); identical parts are summed
+    into one row. The first comment line is stamped with the version, the build and
+    the seeds; the second names each light's circuit and period.
+    """
+    from pulsepick import __version__
+
+    breq = result.request
+    out = io.StringIO()
+    seeds = sorted({lr.request.seed for lr in breq.lights})
+    out.write(f"# pulsepick {__version__} buy list; build: {breq.describe()}; "
+              f"{len(result.lights)} lights; seed {', '.join(map(str, seeds))}\n")
+    out.write("# lights: " + "; ".join(
+        f"{li.name} = {li.pick.design.label()}, period {li.pick.figures['period_s']:.3g} s"
+        for li in result.lights) + "\n")
+    writer = csv.DictWriter(out, fieldnames=BUYLIST_COLUMNS, lineterminator="\n")
+    writer.writeheader()
+    writer.writerows(part_rows(lines))
     return out.getvalue()
 
 

@@ -89,6 +89,11 @@ DEFAULT_SEED = 0
 #: Flash length assumed when the request states none, s. Design choice (estimate): a
 #: short flash that still reads as a flash; short flashes save energy (practice.md 22-23).
 ASSUMED_FLASH_S = 0.05
+#: When the request states no flash and the assumed one would take more than this share
+#: of the period, the flash aimed at is this share of the period instead. Design choice
+#: (estimate): a quarter of the period still reads as a flash rather than a light that
+#: goes off now and then.
+ASSUMED_FLASH_SHARE = 0.25
 #: Peak LED current assumed when the request states no brightness, A. Estimate: a few
 #: milliamperes are plainly visible at night from a standard LED, and the 20 mA habit
 #: wastes stored energy (practice.md item 23).
@@ -561,8 +566,17 @@ class SolveRequest:
 
     @property
     def flash_s(self) -> float:
-        """The flash length aimed at: stated, or the assumed default (s)."""
-        return self.targets.flash_s if self.targets.flash_s is not None else ASSUMED_FLASH_S
+        """The flash length aimed at (s): stated, or the assumed default, shortened to
+        ``ASSUMED_FLASH_SHARE`` of the period when the default would not fit in it."""
+        if self.targets.flash_s is not None:
+            return self.targets.flash_s
+        return min(ASSUMED_FLASH_S, ASSUMED_FLASH_SHARE * self.targets.period_s)
+
+    @property
+    def flash_shortened(self) -> bool:
+        """True when no flash was stated and the usual assumption was too long for the
+        period (see :attr:`flash_s`)."""
+        return self.targets.flash_s is None and self.flash_s < ASSUMED_FLASH_S
 
     def aims(self) -> dict[str, tuple[float, bool]]:
         """Each figure aimed at: ``{figure key: (value, stated)}``; assumed ones are soft.
@@ -757,6 +771,9 @@ def make_request(
     c_lo = c_hi = None
     try:
         c_lo, c_hi = parse_range(cr_text, "capacitance")
+        if c_lo >= c_hi:
+            problems.append(f"--cap-range {cr_text}: write the range from small to large, "
+                            "e.g. 1n..1m")
     except PulsepickError as err:
         problems.append(f"--cap-range {cr_text!r}: {err}")
 
@@ -826,7 +843,7 @@ def make_request(
         targets=targets, supply_v=supply_v, supply_end_v=supply_end, families=families,
         led=led_model, r_series=names["series"], c_series=names["cap_series"],
         timing_caps=timing_caps, r_min_ohm=r_vals["min_r"], r_max_ohm=r_vals["max_r"],
-        c_min_f=min(c_lo, c_hi), c_max_f=max(c_lo, c_hi), cores=core_list, stages=stage_list,
+        c_min_f=c_lo, c_max_f=c_hi, cores=core_list, stages=stage_list,
         buffered=buffered, stock=stock_obj, top=ints["top"], builds=ints["builds"],
         seed=ints["seed"], chip_overrides=dict(chip_overrides or {}), choices=choices,
         defaults=tuple(defaults),

@@ -37,8 +37,22 @@ A timing network that stalls with the hot-end maximum leakage costs 3 more. An
 electrolytic timing capacitor, a resistor near the leakage limit or a chip with
 wide thresholds so ranks lower. Then one point per decade of energy per flash
 (lower is better for a solar build) and 0.1 per part. A circuit whose LED stays
-dark at the design supply, or that is outside its chip's supply range, costs 1000
-more; one that stalls is dropped.
+dark at the design supply, or that is outside its chip's supply range, costs 10^6
+more (more than any fit), so it is only ever the nearest figure of a request that
+gets nothing.
+
+Never offered: a circuit that stalls; one whose nominal LED peak is above the LED's
+rating (:func:`led_current_limit`); and one whose timing capacitor's typical leakage
+comes within a factor of ten of the current that moves it at a threshold (charging
+at VT+, discharging at VT-; common practice, practice.md item 6), checked on the bare
+timing network and again with the phases as the LED stage's load stretches them.
+
+The nominal figures use the chip's typical thresholds. The Monte Carlo spread draws
+them between the datasheet limits, so where the typical value sits near one limit
+(HC VT+ at 3 V) the median build is off the nominal; :func:`assess` says so in
+``Candidate.median_note`` rather than centring the search on the spread model (the
+datasheet typical is the best single estimate of a part; the limits are guarantees
+over process and temperature).
 
 The best circuit of each different topology (core and stage) is offered, so the
 list is not five near-copies, and each is verified with the reference engine (see
@@ -56,7 +70,7 @@ from typing import Any
 
 import numpy as np
 
-from pulsepick.circuits.base import DARK, RUNS, STALLS, UNPOWERED, Topology
+from pulsepick.circuits.base import DARK, RUNS, STALLS, UNPOWERED, Topology, get_core
 from pulsepick.errors import RequestError
 from pulsepick.request import ASSUMED_PEAK_A, SolveRequest
 
@@ -74,8 +88,9 @@ ENERGY_WEIGHT = 1.0
 ENERGY_REF_J = 1e-6
 #: Cost per part. Design choice: a tie-breaker.
 PARTS_WEIGHT = 0.1
-#: Extra cost of a circuit whose LED is dark or whose chip is unpowered.
-PENALTY_NOT_RUNNING = 1000.0
+#: Extra cost of a circuit whose LED is dark or whose chip is unpowered: more than any
+#: fit can cost (3 aims at BIG_LOG each), so a lit circuit always ranks first.
+PENALTY_NOT_RUNNING = 1e6
 #: Extra cost when the LED goes dark or the chip stops before the end of the night.
 PENALTY_END = 20.0
 #: Extra cost when the timing network stalls with the chip's guaranteed-maximum input
@@ -83,8 +98,10 @@ PENALTY_END = 20.0
 PENALTY_HOT_LEAK = 3.0
 #: Threshold step for the finite-difference threshold sensitivity, fraction of the supply.
 THRESHOLD_STEP = 0.01
-#: Largest log error counted (a factor e^5 = 150 off); beyond it all are equally bad.
-BIG_LOG = 5.0
+#: Largest log error counted (a factor e^20, about 5e8, off; a figure that cannot be
+#: computed counts as this far off). Wide enough that a period far beyond reach still
+#: ranks the longest reachable one first.
+BIG_LOG = 20.0
 #: Outdoor temperature range for the capacitor drift term, C (the issue's default range).
 TEMP_RANGE_C = (-20.0, 50.0)
 #: Decades of hours of class-2 aging counted (10^4 h, about a year). Estimate.
@@ -111,10 +128,18 @@ STAGE_R_SPAN_MIN_OHM = 100.0
 #: ceramic (common practice for coupling and reservoir parts).
 STAGE_ELECTROLYTIC_FROM_F = 1e-6
 
+#: The current moving the timing capacitor at a threshold must be at least this many times
+#: its typical leakage there (common practice: practice.md item 6). The same figure as
+#: ``pulsepick.analysis.checks.LEAK_MARGIN``, kept here so the search does not import the
+#: checks (and with them the reference engine) in its worker processes.
+LEAK_MARGIN = 10.0
+#: Blink rates: above about 10 flashes a second the eye no longer sees separate flashes,
+#: and above a few tens of hertz (flicker fusion) it sees a steady light (common practice).
+SEPARATE_FLASHES_MAX_HZ = 10.0
+FLICKER_FUSION_HZ = 50.0
+
 FIGURE_WORDS = {"period_s": "period", "flash_s": "flash length", "led_peak_a": "peak current",
                 "effective_a": "effective current", "effective_mcd": "effective intensity"}
-FIGURE_UNITS = {"period_s": "s", "flash_s": "s", "led_peak_a": "A", "effective_a": "A",
-                "effective_mcd": "cd"}
 
 
 # ============================================================================ results
@@ -138,6 +163,8 @@ class Candidate:
     drift: Any = None  # DriftResult, after assess() (supply range only)
     warnings: tuple[str, ...] = ()
     timings_s: dict[str, float] = field(default_factory=dict)  # s, per assessment step
+    crossing_current: str | None = None  # the crossing-current assumption (Schmitt chips)
+    median_note: str | None = None  # why the median build is off the nominal, after assess()
 
     @property
     def reference_figures(self) -> dict[str, float] | None:
@@ -273,9 +300,13 @@ def _aim_cost(stated: bool, e) -> np.ndarray:
     return ASSUMED_MAX_COST * (1.0 - np.exp(-(e / ASSUMED_WIDTH) ** 2))
 
 
-def _cost(fig, aims, weights, var, n_parts: int, v: float, leak_penalty=0.0
-          ) -> tuple[np.ndarray, dict]:
-    """Vectorised score of evaluated circuits; returns (cost, parts of the cost)."""
+def _cost(fig, aims, weights, var, n_parts: int, v: float, leak_penalty=0.0,
+          i_limit_a: float = math.inf) -> tuple[np.ndarray, dict]:
+    """Vectorised score of evaluated circuits; returns (cost, parts of the cost).
+
+    A circuit that stalls, or whose LED peak is above ``i_limit_a`` (A, the LED's
+    rating), costs infinity: it is never offered.
+    """
     fit = 0.0
     for key, (target, _) in aims.items():
         fit = fit + _aim_cost(weights[key], _log_err(getattr(fig, key), target))
@@ -287,7 +318,9 @@ def _cost(fig, aims, weights, var, n_parts: int, v: float, leak_penalty=0.0
     energy = np.where(np.isfinite(energy), energy, 0.0)
     penalty = np.where((status == DARK) | (status == UNPOWERED), PENALTY_NOT_RUNNING, 0.0)
     cost = fit + spread + energy + PARTS_WEIGHT * n_parts + penalty + leak_penalty
-    cost = np.where(status == STALLS, np.inf, cost)
+    with np.errstate(invalid="ignore"):
+        over = np.asarray(fig.led_peak_a) > i_limit_a * (1.0 + 1e-9)
+    cost = np.where((status == STALLS) | over, np.inf, cost)
     return cost, {"fit": fit, "spread": spread + leak_penalty, "energy": energy}
 
 
@@ -302,6 +335,34 @@ def _best_per_group(cost: np.ndarray, group: np.ndarray, k: int, total: int) -> 
     first = np.maximum.accumulate(np.where(start, np.arange(g.size), 0))
     keep = order[(np.arange(g.size) - first) < k]
     return keep[np.argsort(cost[keep], kind="stable")[:total]]
+
+
+#: LED stages whose flash is a short pulse (a datasheet's pulsed current limit may apply).
+PULSED_STAGES = ("pulse", "fade")
+
+
+def led_current_limit(led, stage: str | None = None) -> tuple[float, str]:
+    """The highest nominal LED peak the solver offers (A) and where it comes from.
+
+    The LED's maximum continuous forward current (``i_max_a``). A pulse or fade stage
+    gives short flashes: there a pulsed limit (``i_pulse_max_a``) replaces it when the
+    LED model has one; without one the continuous rating is the limit. ``inf`` when
+    the LED has no rating in our tables (a user-described LED).
+
+    Returns ``(limit A, words naming it)``.
+    """
+    from pulsepick.units import format_eng
+
+    cont = getattr(led, "i_max_a", None)
+    pulsed = getattr(led, "i_pulse_max_a", None)
+    if stage in PULSED_STAGES and pulsed is not None and (cont is None or pulsed > cont):
+        return float(pulsed), f"its pulsed rating of {format_eng(pulsed, 'A')}"
+    if cont is None:
+        return math.inf, "no rating (not in our tables)"
+    if pulsed is None:
+        return float(cont), (f"its continuous rating of {format_eng(cont, 'A')} (our tables "
+                             "give no pulsed rating, so a short flash is held to it too)")
+    return float(cont), f"its continuous rating of {format_eng(cont, 'A')}"
 
 
 def n_parts(topo: Topology, values: dict[str, float]) -> int:
@@ -326,6 +387,8 @@ class _Timing:
     var: np.ndarray  # fraction², expected squared spread of the period
     cost: np.ndarray
     penalty: np.ndarray  # cost added for stalling with the hot-end leakage
+    t_high: np.ndarray  # s, charging phase with an unloaded output
+    t_low: np.ndarray  # s, discharging phase with an unloaded output
 
 
 @dataclass
@@ -356,6 +419,7 @@ class _Searcher:
         self.short_target = min(flash, t.period_s - flash)
         self.long_target = t.period_s - self.short_target
         self.cap_var = np.array([_cap_var(k) for k in self.space.kinds])
+        self.leak_margin = LEAK_MARGIN
 
     # -- bookkeeping ------------------------------------------------------------------------
     def _note_range(self, key: str, x) -> None:
@@ -449,23 +513,77 @@ class _Searcher:
             return values
         return {**values, "c1": values["c1"] * factor}
 
+    def _end_currents(self, topo: Topology, values: dict, env
+                      ) -> tuple[np.ndarray, np.ndarray]:
+        """Currents (A) that move the timing capacitor as it reaches each threshold:
+        charging at VT+ and discharging at VT-, through every path that conducts then,
+        with an unloaded output (vectorised twin of
+        :func:`pulsepick.analysis.checks.charging_currents`)."""
+        vdd = float(np.ravel(env.vdd)[0])
+        vtp = float(np.ravel(env.vt_plus)[0])
+        vtm = float(np.ravel(env.vt_minus)[0])
+        if topo.core == "timer555":
+            rdis = float(np.ravel(env.r_discharge)[0])
+            return (vdd - vtp) / (values["ra"] + values["rb"]), vtm / (values["rb"] + rdis)
+        up = (vdd - vtp) / values["r1"]
+        down = vtm / values["r1"]
+        if topo.core == "schmitt-steered":
+            branch = env.steer_diode.junction
+            if topo.steer == "high":
+                up = up + branch.current(vdd - vtp, r_ext=values["r2"])
+            else:
+                down = down + branch.current(vtm, r_ext=values["r2"])
+        return up, down
+
+    def _leak_ok(self, topo: Topology, values: dict, g_typ: np.ndarray,
+                 check: tuple[str, ...] = ("up", "down"), scale_up=1.0,
+                 scale_down=1.0) -> np.ndarray:
+        """True where the current moving the timing capacitor at each threshold is at
+        least ``LEAK_MARGIN`` times the capacitor's typical leakage there (common
+        practice: practice.md item 6).
+
+        Charging at VT+ is the rule practice states (leakage works against it). The
+        discharge at VT- is held to the same margin: leakage helps it, but a leakage
+        known only to an order of magnitude and comparable to the discharge current
+        sets the period instead of the parts (design choice). ``scale_up`` and
+        ``scale_down`` shrink the currents where the LED stage loads the timing gate's
+        output (see :func:`_end_scale`). The leakage is linear in voltage
+        (``CapacitorKind.leakage_a``): the typical leakage conductance times the level.
+        """
+        env = self.envs["typ"]
+        vtp = float(np.ravel(env.vt_plus)[0])
+        vtm = float(np.ravel(env.vt_minus)[0])
+        up, down = self._end_currents(topo, values, env)
+        ok = np.ones(np.shape(g_typ), dtype=bool)
+        with np.errstate(all="ignore"):
+            if "up" in check:
+                ok &= up * scale_up >= self.leak_margin * g_typ * vtp
+            if "down" in check:
+                ok &= down * scale_down >= self.leak_margin * g_typ * vtm
+        return ok
+
     def _timing_eval(self, core_topo, values, kind, short_of):
         """Periods, cost, variance and penalty of timing networks (arrays).
 
         Variance (fraction², ln-period): resistor and capacitor tolerance and drift,
         the shift from guaranteed-maximum leakage at 25 C, and the chip's threshold
         spread. Penalty: the network stalls with the guaranteed-maximum leakage over
-        temperature (the hot end of an outdoor range).
+        temperature (the hot end of an outdoor range). A network whose charging
+        current at VT+ is within ``LEAK_MARGIN`` of the capacitor's typical leakage is
+        left out (cost infinity): it works on paper and stalls with a leakier part.
         """
         c = values["c1"]
         envs = self.envs
         g_typ = self._cap_leak(c, kind, "typ")
         g_max = self._cap_leak(c, kind, "max")
+        leak_ok = self._leak_ok(core_topo, values, g_typ)
         values = self._working(values, kind, envs["typ"])
         th, tl, st = self._periods(core_topo, values, replace(envs["typ"], cap_leak_g=g_typ))
         period = th + tl
-        running = st == RUNS
+        running = (st == RUNS) & leak_ok
         self._note_range("timing_period_s", np.where(running, period, np.nan))
+        self._note_range("timing_period_leaky_s", np.where((st == RUNS) & ~leak_ok, period,
+                                                           np.nan))
         th2, tl2, st2 = self._periods(core_topo, values, replace(envs["leak"], cap_leak_g=g_max))
         _, _, st3 = self._periods(core_topo, values, replace(envs["hot"], cap_leak_g=g_max))
         with np.errstate(all="ignore"):
@@ -490,7 +608,7 @@ class _Searcher:
             short = short_of(th, tl)
             cost = cost + _aim_cost(self.weights["flash_s"], _log_err(short, self.short_target))
         cost = np.where(running, cost, np.inf)
-        return cost, var, g_typ, penalty
+        return cost, var, g_typ, penalty, th, tl
 
     def timing(self, core: str, steer: str) -> _Timing | None:
         sp = self.space
@@ -503,10 +621,10 @@ class _Searcher:
         plain = Topology("schmitt", "direct")
         if core == "schmitt":
             vals = {"r1": R[ri], "c1": C[ci]}
-            cost, var, g, pen = self._timing_eval(plain, vals, sp.c_kind[ci], None)
+            cost, var, g, pen, th, tl = self._timing_eval(plain, vals, sp.c_kind[ci], None)
             keep = _best_per_group(cost, ci, 2, K_TIMING)
             return _Timing({k: v[keep] for k, v in vals.items()}, sp.c_kind[ci][keep], g[keep],
-                           var[keep], cost[keep], pen[keep])
+                           var[keep], cost[keep], pen[keep], th[keep], tl[keep])
         if core == "schmitt-steered":
             # step 1: R1·C1 sets the slow phase (the plain core's phase)
             vals = {"r1": R[ri], "c1": C[ci]}
@@ -515,7 +633,10 @@ class _Searcher:
             th, tl, st = self._periods(plain, self._working(vals, c_kind, self.envs["typ"]),
                                        replace(self.envs["typ"], cap_leak_g=g))
             slow = tl if steer == "high" else th
-            cost1 = np.where(st == RUNS, _log_err(slow, self.long_target) ** 2
+            # R1 alone moves the slow phase: charging for a fast low phase, else discharging
+            ok1 = (st == RUNS) & self._leak_ok(plain, vals, g,
+                                               ("up",) if steer == "low" else ("down",))
+            cost1 = np.where(ok1, _log_err(slow, self.long_target) ** 2
                              + sp.r_tol**2 + self.cap_var[c_kind], np.inf)
             keep1 = _best_per_group(cost1, ci, 3, K_SLOW)
             # step 2: R2 sets the fast phase
@@ -524,10 +645,10 @@ class _Searcher:
             vals2 = {"r1": vals["r1"][base], "r2": np.tile(R, k1), "c1": vals["c1"][base]}
             topo = Topology("schmitt-steered", "direct", steer=steer)
             short_of = (lambda a, b: a) if steer == "high" else (lambda a, b: b)
-            cost, var, g2, pen = self._timing_eval(topo, vals2, c_kind[base], short_of)
+            cost, var, g2, pen, th, tl = self._timing_eval(topo, vals2, c_kind[base], short_of)
             keep = _best_per_group(cost, ci[base], 2, K_TIMING)
             return _Timing({k: v[keep] for k, v in vals2.items()}, c_kind[base][keep],
-                           g2[keep], var[keep], cost[keep], pen[keep])
+                           g2[keep], var[keep], cost[keep], pen[keep], th[keep], tl[keep])
         # timer555, step 1: RB·C1 sets the low phase (RA at its smallest)
         vals = {"ra": np.full(ri.size, R[0]), "rb": R[ri], "c1": C[ci]}
         c_kind = sp.c_kind[ci]
@@ -535,29 +656,22 @@ class _Searcher:
         topo = Topology("timer555", "direct")
         th, tl, st = self._periods(topo, self._working(vals, c_kind, self.envs["typ"]),
                                    replace(self.envs["typ"], cap_leak_g=g))
-        cost1 = np.where(st == RUNS, _log_err(tl, self.short_target) ** 2
+        ok1 = (st == RUNS) & self._leak_ok(topo, vals, g, ("down",))  # RB discharges
+        cost1 = np.where(ok1, _log_err(tl, self.short_target) ** 2
                          + sp.r_tol**2 + self.cap_var[c_kind], np.inf)
         keep1 = _best_per_group(cost1, ci, 3, K_SLOW)
         base = np.repeat(keep1, nr)
         vals2 = {"ra": np.tile(R, keep1.size), "rb": vals["rb"][base], "c1": vals["c1"][base]}
-        cost, var, g2, pen = self._timing_eval(topo, vals2, c_kind[base], lambda a, b: b)
+        cost, var, g2, pen, th, tl = self._timing_eval(topo, vals2, c_kind[base],
+                                                       lambda a, b: b)
         keep = _best_per_group(cost, ci[base], 2, K_TIMING)
         return _Timing({k: v[keep] for k, v in vals2.items()}, c_kind[base][keep], g2[keep],
-                       var[keep], cost[keep], pen[keep])
+                       var[keep], cost[keep], pen[keep], th[keep], tl[keep])
 
     # -- stage ------------------------------------------------------------------------------
     def _peak_aim(self) -> float:
         """The peak LED current the aims imply (A): stated, or from the effective aim."""
-        from pulsepick.circuits.base import EFFECTIVE_A_S
-
-        aims, flash = self.aims, self.req.flash_s
-        if "led_peak_a" in aims:
-            return aims["led_peak_a"][0]
-        if "effective_a" in aims:
-            eff = aims["effective_a"][0]
-        else:
-            eff = aims["effective_mcd"][0] / self.req.led.mcd_per_a
-        return eff * (EFFECTIVE_A_S + flash) / flash
+        return peak_needed(self.req)
 
     def _stage_grid(self, topo: Topology, env) -> dict[str, np.ndarray]:
         """Stage values around a first estimate from the aims (one pass, coarse for caps).
@@ -570,7 +684,8 @@ class _Searcher:
 
         stage = topo.stage
         sp, led, v = self.space, self.req.led, self.v
-        peak = self._peak_aim()
+        # centred at the LED's limit when the aim is above it (nothing above is offered)
+        peak = min(self._peak_aim(), 0.95 * led_current_limit(led, stage)[0])
         side = env.rout_low if (stage == "direct" and topo.lit == "low") else env.rout_high
         rout = float(np.asarray(side, dtype=float).reshape(-1)[0])
         drop = STAGE_DROP_V if stage != "direct" else 0.0
@@ -620,7 +735,9 @@ class _Searcher:
         if size == 0 or tim.cost.size == 0:
             return []
         # step 1: the stage grid at the best timing network
-        _f, cost, _ = self._eval_cost(topo, tim, np.zeros(size, dtype=int), grid, env, npart)
+        i_limit = led_current_limit(self.req.led, sname)[0]
+        _f, cost, _ = self._eval_cost(topo, tim, np.zeros(size, dtype=int), grid, env, npart,
+                                      i_limit)
         order = [i for i in np.argsort(cost, kind="stable")[:K_COARSE[sname]]
                  if np.isfinite(cost[i])]
         if not order:
@@ -653,7 +770,16 @@ class _Searcher:
             tim.g_typ[t_idx], reps)), powered=powered)
         f_nom = _slice_figures(f_all, slice(0, n))
         cost, parts = _cost(f_nom, self.aims, self.weights, tim.var[t_idx], npart, self.v,
-                            tim.penalty[t_idx])
+                            tim.penalty[t_idx], i_limit)
+        if get_core(topo.core).drives_stage_from_timing_output and not topo.buffered:
+            # the stage loads the timing gate: the margin with the phases as loaded
+            env_t = self.envs["typ"]
+            scale_up = _end_scale(tim.t_high[t_idx], f_nom.high_s, *_phase_levels(env_t, True))
+            scale_down = _end_scale(tim.t_low[t_idx], f_nom.low_s,
+                                    *_phase_levels(env_t, False))
+            ok = self._leak_ok(topo, {k: v[t_idx] for k, v in tim.values.items()},
+                               tim.g_typ[t_idx], scale_up=scale_up, scale_down=scale_down)
+            cost = np.where(ok, cost, np.inf)
         night = np.zeros(n)
         f_end = None
         if end_v is not None:
@@ -664,7 +790,7 @@ class _Searcher:
             night = np.where(ok, drift**2 / 3.0 / SIGMA**2,
                              PENALTY_END)
             cost = cost + night
-        running = f_nom.status == RUNS
+        running = (f_nom.status == RUNS) & np.isfinite(cost)
         for key in ("period_s", "flash_s", "led_peak_a", "effective_a", "effective_mcd"):
             self._note_range(key, np.where(running, getattr(f_nom, key), np.nan))
         picks: list[_Pick] = []
@@ -685,13 +811,14 @@ class _Searcher:
             ))
         return picks
 
-    def _eval_cost(self, topo, tim: _Timing, t_idx, stage_vals, env, npart):
+    def _eval_cost(self, topo, tim: _Timing, t_idx, stage_vals, env, npart,
+                   i_limit: float = math.inf):
         vals = {k: v[t_idx] for k, v in tim.values.items()}
         vals.update(stage_vals)
         vals = self._working(vals, tim.kind[t_idx], env)
         f = self._evaluate(topo, vals, replace(env, cap_leak_g=tim.g_typ[t_idx]))
         cost, parts = _cost(f, self.aims, self.weights, tim.var[t_idx], npart, self.v,
-                            tim.penalty[t_idx])
+                            tim.penalty[t_idx], i_limit)
         return f, cost, parts
 
     def _stock_ok(self, topo: Topology, values: dict[str, float]) -> bool:
@@ -711,6 +838,51 @@ class _Searcher:
             if have is not None and have < n:
                 return False
         return True
+
+
+def _phase_levels(env, charging: bool) -> tuple[float, float, float]:
+    """(target level, start threshold, end threshold) of a timing phase, V."""
+    vdd = float(np.ravel(env.vdd)[0])
+    vtp = float(np.ravel(env.vt_plus)[0])
+    vtm = float(np.ravel(env.vt_minus)[0])
+    return (vdd, vtm, vtp) if charging else (0.0, vtp, vtm)
+
+
+def _end_scale(t_bare, t_loaded, target: float, start: float, end: float) -> np.ndarray:
+    """How much a load on the driving output shrinks the current at the end of a phase.
+
+    An RC phase from ``start`` to ``end`` towards ``target`` lasts tau*L with
+    L = ln((target - start)/(target - end)); the current at its end is proportional to
+    (target - end) = (end - start)/(e^L - 1). A load that stretches the phase from
+    ``t_bare`` to ``t_loaded`` moves the effective target so that the phase lasts
+    tau*L*t_loaded/t_bare, and the end current scales by (e^L - 1)/(e^(L*t_loaded/
+    t_bare) - 1) (an estimate: the steered and 555 branches are near-RC). 1 where the
+    load shortens the phase.
+    """
+    with np.errstate(all="ignore"):
+        big_l = math.log((target - start) / (target - end))
+        stretch = np.asarray(t_loaded, dtype=float) / np.asarray(t_bare, dtype=float)
+        scale = math.expm1(big_l) / np.expm1(np.minimum(big_l * stretch, 700.0))
+    return np.where(np.isfinite(scale) & (stretch > 1.0), scale, 1.0)
+
+
+def peak_needed(req: SolveRequest) -> float:
+    """The peak LED current the request's brightness implies (A).
+
+    A stated peak as it is; an effective current or intensity through the rectangular
+    flash form Ie = Ip*t/(a + t), a = 0.2 s (Blondel-Rey, facts.md S30), with the flash
+    aimed at; the assumed peak when no brightness is stated.
+    """
+    from pulsepick.circuits.base import EFFECTIVE_A_S
+
+    aims, flash = req.aims(), req.flash_s
+    if "led_peak_a" in aims:
+        return aims["led_peak_a"][0]
+    if "effective_a" in aims:
+        eff = aims["effective_a"][0]
+    else:
+        eff = aims["effective_mcd"][0] / req.led.mcd_per_a
+    return eff * (EFFECTIVE_A_S + flash) / flash
 
 
 def _triangular_var(low: float, mode: float, high: float) -> float:
@@ -802,10 +974,32 @@ def _prechecks(req: SolveRequest) -> tuple[list[str], bool]:
 
     notes: list[str] = []
     t = req.targets
+    rate = 1.0 / t.period_s
+    if rate >= FLICKER_FUSION_HZ:
+        notes.append(
+            f"A period of {time_text(t.period_s)} ({format_eng(rate, 'Hz')}) is faster than "
+            f"the eye can follow: above a few tens of hertz (flicker fusion, common practice) "
+            "the LED looks steadily lit at its average brightness, not blinking. Flashes read "
+            f"as separate below about {SEPARATE_FLASHES_MAX_HZ:g} a second (a period above "
+            f"{1 / SEPARATE_FLASHES_MAX_HZ:g} s).")
+    elif rate > SEPARATE_FLASHES_MAX_HZ:
+        notes.append(
+            f"A period of {time_text(t.period_s)} ({format_eng(rate, 'Hz')}) is seen as a "
+            f"flicker rather than separate flashes: those need fewer than about "
+            f"{SEPARATE_FLASHES_MAX_HZ:g} a second (a period above "
+            f"{1 / SEPARATE_FLASHES_MAX_HZ:g} s; common practice).")
+    if req.flash_shortened:
+        from pulsepick.request import ASSUMED_FLASH_S
+
+        notes.append(
+            f"No flash length was asked for, and the usual assumption of "
+            f"{time_text(ASSUMED_FLASH_S)} does not fit in a period of {time_text(t.period_s)}: "
+            f"a flash of {time_text(req.flash_s)} ({req.flash_s / t.period_s:.0%} of the "
+            "period) is aimed at instead.")
     if t.flash_s is not None and t.flash_s >= t.period_s:
         notes.append(
-            f"A flash of {format_eng(t.flash_s, 's')} cannot last longer than the period of "
-            f"{format_eng(t.period_s, 's')}: the light would never go off. The circuits below "
+            f"A flash of {time_text(t.flash_s)} cannot last longer than the period of "
+            f"{time_text(t.period_s)}: the light would never go off. The circuits below "
             "keep the LED lit for as much of each period as they can; a steady light needs "
             "no oscillator at all.")
     led = req.led
@@ -817,8 +1011,10 @@ def _prechecks(req: SolveRequest) -> tuple[list[str], bool]:
                    if float(get_led(k).voltage(get_led(k).visible_a)) < 0.9 * req.supply_v]
         notes.append(
             f"The {led.name} LED needs about {need_v:.2f} V to show (at "
-            f"{format_eng(led.visible_a, 'A')}); at {req.supply_v:.2f} V it gets at most "
-            f"{format_eng(best_i, 'A')} even with no resistor, so no circuit on this supply "
+            f"{format_eng(led.visible_a, 'A')}); at {req.supply_v:.2f} V it gets "
+            + (f"at most {format_eng(best_i, 'A')}" if best_i >= 1e-9 else
+               "practically no current (under 1 nA)")
+            + " even with no resistor, so no circuit on this supply "
             "can light it. "
             + (f"LEDs that light here: {', '.join(lighter)}." if lighter else
                "None of the LEDs in our tables lights at this supply."))
@@ -867,7 +1063,6 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
     ``jobs`` > 1 spreads the search over that many worker processes. Reference
     verification, spread, drift and warnings come from :func:`assess`.
     """
-    from pulsepick.design import Design
     from pulsepick.engine.environment import PartChoice, chip_model
 
     t_start = time.perf_counter()
@@ -899,7 +1094,12 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
     picks: list[_Pick] = []
     evaluated = 0
     seen: dict[str, list[float]] = {}
-    for task_picks, n, task_seen in _run_tasks(_search_task, tasks, jobs):
+    def meanwhile() -> None:
+        # the design module brings the reference engine (scipy.integrate): import it
+        # here while the worker processes search, not before they start
+        import pulsepick.design  # noqa: F401
+
+    for task_picks, n, task_seen in _run_tasks(_search_task, tasks, jobs, meanwhile):
         picks.extend(task_picks)
         evaluated += n
         for key, (lo, hi) in task_seen.items():
@@ -927,6 +1127,8 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
                 taken.add(ident(pick))
                 chosen.append(pick)
     chosen.sort(key=lambda p: p.cost)
+
+    from pulsepick.design import Design
 
     aims = req.aims()
     candidates = []
@@ -968,9 +1170,15 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
     )
 
 
-def _run_tasks(fn, tasks: list[tuple], jobs: int) -> list:
-    """``fn(*task)`` for every task, in worker processes when ``jobs`` > 1 (fork)."""
+def _run_tasks(fn, tasks: list[tuple], jobs: int, meanwhile=None) -> list:
+    """``fn(*task)`` for every task, in worker processes when ``jobs`` > 1 (fork).
+
+    ``meanwhile()``, when given, runs in this process while the workers work (or
+    first, without workers).
+    """
     if jobs <= 1 or len(tasks) <= 1:
+        if meanwhile is not None:
+            meanwhile()
         return [fn(*t) for t in tasks]
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor
@@ -978,6 +1186,8 @@ def _run_tasks(fn, tasks: list[tuple], jobs: int) -> list:
     ctx = multiprocessing.get_context("fork")
     with ProcessPoolExecutor(max_workers=min(jobs, len(tasks)), mp_context=ctx) as pool:
         futures = [pool.submit(fn, *t) for t in tasks]
+        if meanwhile is not None:
+            meanwhile()
         return [f.result() for f in futures]
 
 
@@ -1037,38 +1247,162 @@ def _candidate_notes(req, design, figs, end) -> tuple[str, ...]:
     return tuple(notes)
 
 
-def _explain(req: SolveRequest, aims, seen, running: list[Candidate]) -> list[str]:
-    """Explain each stated aim that the best circuit misses by more than 10 %."""
+def time_text(seconds: float) -> str:
+    """A time as a designer reads it: engineering notation below 100 s, then minutes,
+    hours and days ("29 min", "12.4 h", "41.7 days")."""
     from pulsepick.units import format_eng
 
+    if seconds is None or not math.isfinite(seconds):
+        return "-"
+    if abs(seconds) < 100.0:
+        return format_eng(seconds, "s")
+    if abs(seconds) < 2 * 3600.0:
+        return f"{seconds / 60.0:.3g} min"
+    if abs(seconds) < 72 * 3600.0:
+        return f"{seconds / 3600.0:.3g} h"
+    return f"{seconds / 86400.0:.3g} days"
+
+
+def figure_text(key: str, value: float) -> str:
+    """A figure in the unit a designer reads: times by :func:`time_text`, intensities
+    in mcd (``effective_mcd`` is already in mcd), currents and charges in engineering
+    notation."""
+    from pulsepick.units import format_eng
+
+    if value is None or not math.isfinite(value):
+        return "-"
+    if key.endswith("_mcd"):
+        return f"{value:.3g} mcd"
+    if key.endswith("_s"):
+        return time_text(value)
+    unit = {"_a": "A", "_c": "C"}.get(key[-2:], "")
+    return format_eng(value, unit)
+
+
+def _drive_limit_a(req: SolveRequest) -> float:
+    """The most current a chip output can push through the LED with no series resistor
+    at the design supply (A), over the families searched that run at this supply."""
+    from pulsepick.engine.environment import PartChoice, chip_model, make_env
+
+    best = 0.0
+    for family in req.families:
+        chip = _chip(req, family)
+        if not bool(chip_model(chip).in_range(req.supply_v)):
+            continue
+        env, _ = make_env(chip, PartChoice(led=req.led), req.supply_v)
+        for rout in (env.rout_high, env.rout_low):
+            i = float(np.ravel(req.led.current(req.supply_v, r_ext=float(np.ravel(rout)[0])))[0])
+            best = max(best, i)
+    return best
+
+
+def _current_explanation(req: SolveRequest, aims, running: list[Candidate]) -> str | None:
+    """Why a stated brightness is out of reach: the peak it needs against the LED's
+    rating and the chip output's drive, both named; None when it is within them."""
+    from pulsepick.units import format_eng
+
+    b = req.targets.brightness
+    if b is None:
+        return None
+    need = peak_needed(req)
+    limits = [led_current_limit(req.led, stage) for stage in req.stages]
+    limit, limit_words = max(limits, key=lambda x: x[0])
+    drive = _drive_limit_a(req)
+    cap = min(limit, drive)
+    if not need > cap * math.exp(SIGMA):
+        return None
+    led, flash = req.led, req.flash_s
+    blondel = "effective = peak x t/(0.2 s + t), Blondel-Rey"
+    if b[0] == "peak_a":
+        text = f"The peak current wanted is {format_eng(need, 'A')}"
+        key = "led_peak_a"
+    elif b[0] == "effective_a":
+        text = (f"As bright as a steady {format_eng(b[1], 'A')} with a {time_text(flash)} "
+                f"flash needs a peak LED current of about {format_eng(need, 'A')} ({blondel})")
+        key = "effective_a"
+    else:
+        text = (f"An effective intensity of {b[1] * 1e3:.3g} mcd with a {time_text(flash)} "
+                f"flash needs a peak of about {format_eng(need, 'A')} from the {led.name} LED "
+                f"({led.mcd_per_a * 1e-3:.3g} mcd per mA; {blondel})")
+        key = "effective_mcd"
+    text += (f"; the LED is held to {limit_words}, and the chip outputs drive at most "
+             f"{format_eng(drive, 'A')} into it at {req.supply_v:.2f} V with no series "
+             "resistor")
+    if drive < limit:
+        text += (f" (it needs {float(led.voltage(need)):.2f} V for {format_eng(need, 'A')}): "
+                 "the chip's drive at this supply is the limit; a higher supply, an LED of "
+                 "lower forward voltage or a transistor driver would be needed.")
+    else:
+        text += (": the LED's rating is the limit; a brighter LED, several LEDs or a part "
+                 "rated for more current would be needed.")
+    if running:
+        got = running[0].figures[key]
+        target = aims[key][0]
+        text += (f" The nearest circuit gives {figure_text(key, got)} "
+                 f"({got / target - 1:+.0%}).")
+    return text
+
+
+def _explain(req: SolveRequest, aims, seen, running: list[Candidate]) -> list[str]:
+    """Explain each stated aim that the best circuit misses by more than 10 %."""
     out = []
     if not running:
         return out
+    current = _current_explanation(req, aims, running)
+    if current is not None:
+        out.append(current)
     best = running[0]
     for key, (target, stated) in aims.items():
-        if not stated:
+        if not stated or (current is not None and key in ("led_peak_a", "effective_a",
+                                                          "effective_mcd")):
             continue
         got = best.figures[key]
         if not (np.isfinite(got) and got > 0):
             continue
         if abs(math.log(got / target)) <= SIGMA:
             continue
-        unit = FIGURE_UNITS[key]
-        scale = 1e-3 if key == "effective_mcd" else 1.0
         word = FIGURE_WORDS[key]
-        span = seen.get("timing_period_s" if key == "period_s" else key)
-        text = (f"The {word} wanted is {format_eng(target * scale, unit)}; the nearest "
-                f"circuit gives {format_eng(got * scale, unit)} ({got / target - 1:+.0%}).")
+        span = seen.get(key)
+        if key == "period_s":
+            spans = [x for x in (seen.get("timing_period_s"), seen.get("period_s")) if x]
+            span = [min(x[0] for x in spans), max(x[1] for x in spans)] if spans else None
+        if key == "period_s" and span and target > span[1] * 1.1:
+            out.append(_period_too_long(req, target, got, span[1],
+                                        seen.get("timing_period_leaky_s")))
+            continue
+        text = (f"The {word} wanted is {figure_text(key, target)}; the nearest "
+                f"circuit gives {figure_text(key, got)} ({got / target - 1:+.0%}).")
         if span:
-            lo, hi = span[0] * scale, span[1] * scale
-            if target * scale > hi * 1.1:
-                text += f" Nothing searched goes above {format_eng(hi, unit)}"
+            lo, hi = span
+            if target > hi * 1.1:
+                text += f" Nothing searched goes above {figure_text(key, hi)}"
                 text += _why_high(req, key)
-            elif target * scale < lo / 1.1:
-                text += f" Nothing searched goes below {format_eng(lo, unit)}"
+            elif target < lo / 1.1:
+                text += f" Nothing searched goes below {figure_text(key, lo)}"
                 text += _why_low(req, key)
         out.append(text)
     return out
+
+
+def _period_too_long(req: SolveRequest, target: float, got: float, longest: float,
+                     leaky: list[float] | None) -> str:
+    """The period is beyond reach: by leakage, or by the value ranges allowed."""
+    from pulsepick.units import format_eng
+
+    ranges = (f"resistors up to {format_eng(req.r_max_ohm, 'Ω')} and capacitors up to "
+              f"{format_eng(req.c_max_f, 'F')}")
+    head = (f"The period wanted is {time_text(target)}; the nearest circuit gives "
+            f"{time_text(got)} ({got / target - 1:+.0%}).")
+    if leaky and leaky[1] > longest * 1.05:
+        return (f"Period beyond what leakage allows: {head[0].lower()}{head[1:]} The "
+                f"longest period found with the current charging the timing capacitor at "
+                f"VT+ (and discharging it at VT-) at least {LEAK_MARGIN:g} times the "
+                f"capacitor's typical leakage there is {time_text(longest)} (common "
+                "practice: with less margin a leakier part slows or stalls it). Circuits "
+                f"reaching up to {time_text(leaky[1])} with {ranges} were left out for that "
+                "reason; a longer period needs a counter stage dividing a shorter one.")
+    return (f"{head} Nothing searched goes above {time_text(longest)} with {ranges}: a "
+            "larger --max-r or --cap-range, or a counter stage, would be needed.")
 
 
 def _why_high(req: SolveRequest, key: str) -> str:
@@ -1076,7 +1410,7 @@ def _why_high(req: SolveRequest, key: str) -> str:
 
     if key == "period_s":
         return (f": with resistors up to {format_eng(req.r_max_ohm, 'Ω')} and capacitors up "
-                f"to {format_eng(req.c_max_f, 'F')} leakage stalls longer periods (a larger "
+                f"to {format_eng(req.c_max_f, 'F')} no longer period was found (a larger "
                 "--max-r or --cap-range, or a counter stage, would be needed).")
     if key in ("led_peak_a", "effective_a", "effective_mcd"):
         return (f": the LED's own resistance and the chip's output resistance at "
@@ -1142,7 +1476,73 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
             out["warnings"].extend(checks_fn(design))
         except PulsepickError as err:
             out["warnings"].append(f"checks: {err}")
+    assumptions_fn = _optional("pulsepick.analysis.checks", "assumptions")
+    if assumptions_fn is not None and not design.chip.is_timer:
+        out["crossing_current"] = assumptions_fn(design).get("crossing_current")
+    if out.get("spread") is not None:
+        out["median_note"] = median_note(design, out["spread"])
     return out
+
+
+#: The median build is worth a line when it is this far (fraction) off the nominal period.
+MEDIAN_NOTE_SHIFT = 0.05
+#: Thresholds whose typical value sits further than this share of their min..max range
+#: from its middle are "off-centre".
+OFF_CENTRE_SHARE = 0.1
+
+
+def _thresholds_off_centre(design) -> bool:
+    """Whether the chip's typical switching levels sit off the middle of their limits."""
+    from pulsepick.engine.environment import chip_model
+
+    if design.chip.measured:
+        return False
+    model = chip_model(design.chip)
+    v = design.supply_v
+    if design.chip.is_timer:
+        triples = [(model.thr_ratio_min, model.thr_ratio_typ, model.thr_ratio_max),
+                   (model.trig_ratio_min, model.trig_ratio_typ, model.trig_ratio_max)]
+    else:
+        th = model.thresholds(v)
+        triples = [(th.vt_plus_min, th.vt_plus_typ, th.vt_plus_max),
+                   (th.vt_minus_min, th.vt_minus_typ, th.vt_minus_max)]
+    for lo, typ, hi in triples:
+        lo, typ, hi = float(lo), float(typ), float(hi)
+        if hi > lo and abs(typ - 0.5 * (lo + hi)) > OFF_CENTRE_SHARE * (hi - lo):
+            return True
+    return False
+
+
+def median_note(design, spread) -> str | None:
+    """A line when the Monte Carlo median period is off the nominal one, with the cause.
+
+    The nominal figures use the chip's typical thresholds; the builds draw them between
+    the datasheet limits (triangular, mode at the typical value), so where the typical
+    value sits near one limit the median build moves away from the nominal. A supply
+    range spread over the builds moves it too.
+    """
+    p50 = spread.quantiles.get("period_s", (math.nan,) * 3)[1]
+    nominal = spread.nominal.get("period_s", math.nan)
+    if not (math.isfinite(p50) and math.isfinite(nominal) and nominal > 0):
+        return None
+    shift = p50 / nominal - 1.0
+    if abs(shift) < MEDIAN_NOTE_SHIFT:
+        return None
+    text = (f"the median build blinks at {time_text(p50)} ({shift:+.0%} on the nominal "
+            f"{time_text(nominal)})")
+    causes = []
+    shares = spread.shares
+    if _thresholds_off_centre(design) and shares.get("chip_thresholds", 0.0) > 0:
+        causes.append("the chip's typical thresholds sit off-centre in its datasheet limits "
+                      "(the builds draw them between the minimum and maximum); measure your "
+                      "chip's thresholds and give --vt-plus and --vt-minus to centre on it")
+    if spread.supply_range_v is not None and shares.get("supply", 0.0) > 0:
+        lo, hi = spread.supply_range_v
+        causes.append(f"the builds' supply is spread over {lo:g}..{hi:g} V while the "
+                      f"nominal is at {design.supply_v:g} V")
+    if not causes:
+        causes.append("the spread of the parts is lopsided")
+    return text + ": " + "; and ".join(causes)
 
 
 #: Expected cost of a reference run per stage, for scheduling the longest first.
@@ -1188,6 +1588,7 @@ def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
         new.append(replace(
             c, reference=out["reference"], spread=out.get("spread"), drift=out.get("drift"),
             warnings=tuple(out["warnings"]), timings_s=out["timings_s"],
+            crossing_current=out.get("crossing_current"), median_note=out.get("median_note"),
         ))
     return result.with_candidates(tuple(new))
 
@@ -1448,7 +1849,8 @@ def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float]) -> Candi
               for key, (target, _) in req.aims().items()}
     return replace(c, design=design, figures=figs, errors=errors,
                    parts=_parts(req, design, figs), reference=None, spread=None, drift=None,
-                   warnings=(), notes=(*c.notes, "timing values moved by the spread-out search"))
+                   warnings=(), crossing_current=None, median_note=None,
+                   notes=(*c.notes, "timing values moved by the spread-out search"))
 
 
 def _risk_text(names, r, margin: float) -> str:

@@ -94,6 +94,32 @@ def test_two_lights_json_and_one_buylist(tmp_path, capsys):
     n_parts = sum(len([p for p in li["circuit"]["parts"] if p["kind"] != "chip"])
                   for li in doc["lights"])
     assert sum(int(r["qty"]) for r in rows if r["kind"] != "chip") == n_parts
+    # a steady supply and no storage named: no supercapacitor caution
+    assert not any("supercapacitor" in t for t in doc["cautions"])
+    assert any("not a safety" in t for t in doc["cautions"])
+
+
+def test_design_file_with_storage_gets_the_supercap_caution(tmp_path, capsys):
+    from pulsepick.analysis.cautions import NOT_A_SAFETY_LIGHT, POLARITY_AND_SHORTS
+
+    path = tmp_path / "markers.toml"
+    path.write_text(DESIGN, encoding="utf-8")
+    assert main(["solve", str(path), "--jobs", "1", "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert POLARITY_AND_SHORTS in doc["cautions"] and NOT_A_SAFETY_LIGHT in doc["cautions"]
+
+
+def test_build_refuses_pictures_and_reports_nothing_on_stderr(capsys, tmp_path):
+    assert main(["solve", "two lights: every 2 s, every 3 s", "--plot",
+                 str(tmp_path / "x.png")]) == 2
+    assert "--plot and --report draw one light" in _error_line(capsys)
+    # a white LED never shows on 1.2 V (data/parts/leds.csv estimate): nothing to offer
+    code = main(["solve", "two lights: every 2 s, every 3 s", "--led", "white", "--supply",
+                 "1.2V", "--stages", "direct", "--jobs", "1"])
+    assert code == 2
+    out, err = capsys.readouterr()
+    assert "nothing can be offered" in out
+    assert err.count("\n") == 1 and err.startswith("pulsepick: error: nothing can be offered")
 
 
 def test_night_with_a_design_file(tmp_path, capsys):

@@ -74,16 +74,127 @@ def test_bad_phrase_is_one_line_quoting_it(capsys):
 def test_nothing_to_offer_exits_2_with_explanation(capsys):
     code = main(["solve", "one flash every 3 s", "--led", "white", "--supply", "1.8V",
                  "--family", "lvc", "--stages", "direct", "--jobs", "1"])
-    out, _ = capsys.readouterr()
+    out, err = capsys.readouterr()
     assert code == 2
     assert "Nothing can be offered" in out and "needs about" in out
     assert "Nearest circuit found" in out
+    assert err.count("\n") == 1
+    assert err.startswith('pulsepick: error: nothing can be offered for "one flash every 3 s"')
+
+
+@pytest.mark.parametrize("extra, reason", [
+    # white InGaN needs about 2.5 V to show (data/parts/leds.csv estimate)
+    (["--supply", "1.2V", "--led", "white"], "white (InGaN, 5 mm) LED needs about"),
+    # no chip of ours runs at 20 V: CD40106B to 18 V (facts.md S11), CMOS 555 to 15 V
+    (["--supply", "20V", "--family", "any"], "outside their supply range"),
+])
+def test_nothing_offered_has_one_stderr_line(capsys, extra, reason):
+    code = main(["solve", "every 3 s", *extra, "--jobs", "1"])
+    out, err = capsys.readouterr()
+    assert code == 2
+    assert "What cannot be met exactly" in out and reason in out
+    assert err.count("\n") == 1 and err.startswith("pulsepick: error: nothing can be offered")
+    assert reason in err
 
 
 def test_infeasible_but_offered_exits_0(capsys):
     code = main(["solve", "every 3 s, 500 mA peak", *QUICK])
+    out, err = capsys.readouterr()
+    assert code == 0 and err == ""
+    assert "What cannot be met exactly" in out and "500 mA" in out
+    assert "the LED's rating is the limit" in out
+
+
+def _report(capsys, args) -> str:
+    code = main(["solve", *args])
+    out, err = capsys.readouterr()
+    assert code == 0 and err == "", err
+    return out
+
+
+def test_report_wraps_with_hanging_indents_and_plain_words(capsys, monkeypatch):
+    monkeypatch.setenv("NO_COLOR", "1")
+    out = _report(capsys, ["flash every 2.5 s for 40 ms", "--supply", "2.7V..1.8V",
+                           "--family", "lvc", "--cores", "schmitt-steered", "--stages",
+                           "direct", "--no-buffered", "--top", "1", "--builds", "200",
+                           "--jobs", "1"])
+    lines = out.splitlines()
+    assert max(len(line) for line in lines) <= 100
+    assert "chip_thresholds" not in out and "chip thresholds" in out
+    # the supply range is in the spread, and the header says so
+    assert "spread over 200 builds (seed 0, -20..50 °C, supply 1.8..2.7 V)" in out
+    assert "P50 of the LED peak" in out
+    # a warning that wraps carries on under a hanging indent, never at the margin
+    start = lines.index("  warnings and notes:")
+    block = []
+    for line in lines[start + 1:]:
+        if not line.strip():
+            break
+        block.append(line)
+    assert block and all(ln.startswith("  - ") or ln.startswith("    ") for ln in block)
+    assert any(ln.startswith("    ") for ln in block)  # at least one wrapped warning
+    # a supply range is a storage that droops: the supercapacitor caution applies
+    assert "supercapacitor can deliver amps" in out
+    assert "not a safety, navigation or warning light" in out
+
+
+def test_steady_supply_has_no_supercap_caution_and_marks_given_ranges(capsys, monkeypatch):
+    monkeypatch.setenv("NO_COLOR", "1")
+    out = _report(capsys, ["one flash every 3 s", *QUICK, "--cap-range", "10n..100u"])
+    assert "supercapacitor" not in out
+    assert "not a safety, navigation or warning light" in out
+    assert "Outdoor wiring stays at low voltage" in out
+    row = next(line for line in out.splitlines() if line.lstrip().startswith("capacitors"))
+    assert "10 nF .. 100 µF" in row and row.rstrip().endswith("given")
+    row = next(line for line in out.splitlines() if line.lstrip().startswith("resistors"))
+    assert row.rstrip().endswith("default")
+
+
+def test_reversed_cap_range_is_one_line(capsys):
+    code = main(["solve", "every 3 s", "--cap-range", "1u..1n"])
+    out, err = capsys.readouterr()
+    assert code == 2 and out == "" and err.count("\n") == 1
+    assert "--cap-range 1u..1n: write the range from small to large, e.g. 1n..1m" in err
+
+
+def test_long_periods_in_minutes(capsys, monkeypatch):
+    monkeypatch.setenv("NO_COLOR", "1")
+    out = _report(capsys, ["one flash every 30 min", "--cores", "schmitt", "--stages", "pulse",
+                           "--top", "1", "--builds", "100", "--jobs", "1"])
+    assert "Period beyond what leakage allows: the period wanted is 30 min" in out
+    ranked = out[out.index("Ranked circuits"):out.index("#1 ")]
+    assert " min " in ranked and "ks" not in ranked
+
+
+def test_crossing_current_is_labelled_and_can_be_given(capsys):
+    args = ["solve", "one flash every 3 s", "--family", "hc", "--cores", "schmitt",
+            "--stages", "direct", "--top", "1", "--builds", "100", "--jobs", "1"]
+    out = _report(capsys, args[1:])
+    assert "crossing current of the Schmitt gate (#1): ESTIMATE" in out
+    assert out.count("ESTIMATE") == 1  # once, in the assumptions block
+    assert main([*args, "--cross-current", "15uA", "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["assumptions"]["crossing_current"].startswith("measured: 15 µA")
+    assert doc["candidates"][0]["crossing_current"].startswith("measured: 15 µA")
+    assert doc["assumptions"]["chip_measured"]["cross_current_a"] == pytest.approx(15e-6)
+
+
+def test_plot_and_report_are_written(capsys, tmp_path):
+    pytest.importorskip("matplotlib")
+    png, html = tmp_path / "garden.png", tmp_path / "garden.html"
+    code = main(["solve", "one flash every 3 s", *QUICK, "--plot", str(png), "--report",
+                 str(html)])
     out, _ = capsys.readouterr()
-    assert code == 0 and "What cannot be met exactly" in out and "500 mA" in out
+    assert code == 0 and str(png) in out and str(html) in out
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
+    text = html.read_text(encoding="utf-8")
+    assert text.lstrip().lower().startswith("<!doctype html") and "one flash every 3 s" in text
+    # an existing file is refused before the search, and --force replaces it
+    code = main(["solve", "one flash every 3 s", *QUICK, "--report", str(html)])
+    _, err = capsys.readouterr()
+    assert code == 2 and "--force" in err and err.count("\n") == 1
+    assert main(["solve", "one flash every 3 s", *QUICK, "--report", str(html),
+                 "--force"]) == 0
 
 
 def test_two_worker_processes_give_the_same_answer(capsys):

@@ -111,3 +111,45 @@ def test_json_document_shape(result):
     assert doc["assumptions"]["supply_v"] == 3.0
     for p in c["parts"]:
         assert {"ref", "kind", "value", "unit", "code", "series", "tolerance"} <= set(p)
+    # the crossing current is labelled as an estimate; the median build is reported
+    assert c["crossing_current"].startswith("ESTIMATE")
+    assert doc["assumptions"]["crossing_current"] == c["crossing_current"]
+    assert c["median_period_s"] == pytest.approx(c["spread"]["quantiles"]["period_s"]["p50"],
+                                                 rel=1e-12)
+    assert "median_note" in c
+
+
+def test_cautions_where_they_apply():
+    from pulsepick.analysis.cautions import (
+        LOW_VOLTAGE_ONLY,
+        NOT_A_SAFETY_LIGHT,
+        POLARITY_AND_SHORTS,
+    )
+    from pulsepick.export import solve_cautions
+
+    steady = make_request("every 3 s")
+    assert solve_cautions(steady) == (NOT_A_SAFETY_LIGHT, LOW_VOLTAGE_ONLY)
+    droop = make_request("every 3 s", supply="2.7V..1.8V")
+    assert solve_cautions(droop) == (POLARITY_AND_SHORTS, NOT_A_SAFETY_LIGHT, LOW_VOLTAGE_ONLY)
+    assert POLARITY_AND_SHORTS in solve_cautions(steady, storage=True)
+
+
+def test_build_buylist_sums_identical_parts(result):
+    from types import SimpleNamespace
+
+    from pulsepick.export import build_buylist_text
+
+    c = result.candidates[0]
+    # two lights with the same circuit: every part twice, one row each, quantities summed
+    lights = (SimpleNamespace(name="gate", pick=c), SimpleNamespace(name="shed", pick=c))
+    breq = SimpleNamespace(lights=(SimpleNamespace(request=result.request),) * 2,
+                           describe=lambda: "two garden markers")
+    build = SimpleNamespace(request=breq, lights=lights)
+    text = build_buylist_text(build, c.parts + c.parts)
+    comments, rows = read_buylist(text)
+    assert comments[0] == (f"pulsepick {__version__} buy list; build: two garden markers; "
+                           "2 lights; seed 7")
+    assert comments[1].startswith("lights: gate = ") and "; shed = " in comments[1]
+    single = read_buylist(buylist_text(result, 1))[1]
+    assert len(rows) == len(single)
+    assert [int(r["qty"]) for r in rows] == [2 * int(r["qty"]) for r in single]

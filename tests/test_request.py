@@ -176,6 +176,29 @@ def test_rising_supply_range_is_refused():
         make_request("every 3 s", supply="1.8V..2.7V")
 
 
+def test_reversed_cap_range_is_refused_in_one_line():
+    with pytest.raises(RequestError) as info:
+        make_request("every 3 s", cap_range="1u..1n")
+    msg = str(info.value)
+    assert msg == "--cap-range 1u..1n: write the range from small to large, e.g. 1n..1m"
+    req = make_request("every 3 s", cap_range="1n..1u")
+    assert (req.c_min_f, req.c_max_f) == (pytest.approx(1e-9), pytest.approx(1e-6))
+    assert "cap_range" not in req.defaults
+
+
+def test_assumed_flash_shrinks_to_a_quarter_of_a_short_period():
+    from pulsepick.request import ASSUMED_FLASH_SHARE
+
+    assert ASSUMED_FLASH_SHARE == 0.25
+    req = make_request("every 0.1 s")  # 50 ms would be half the period: 25 ms instead
+    assert req.flash_s == pytest.approx(0.025, rel=1e-12) and req.flash_shortened
+    assert req.aims()["flash_s"] == (pytest.approx(0.025, rel=1e-12), False)
+    req = make_request("every 3 s")
+    assert req.flash_s == ASSUMED_FLASH_S and not req.flash_shortened
+    req = make_request("every 0.1 s, for 80 ms")  # a stated flash is kept as asked
+    assert req.flash_s == pytest.approx(0.08, rel=1e-12) and not req.flash_shortened
+
+
 def test_every_option_problem_is_reported_at_once():
     with pytest.raises(RequestError) as info:
         make_request("every 3 s", family="ttl", led="purple", timing_cap="paper",

@@ -121,13 +121,172 @@ def test_white_led_on_1v8_cannot_be_offered():
     assert result.nearest is not None and result.nearest["status"] == DARK
 
 
-def test_peak_beyond_the_gate_is_explained_with_the_nearest():
+def test_peak_beyond_the_led_rating_names_both_limits():
+    # the standard red LED's continuous rating, i_max_a in data/parts/leds.csv (its source
+    # column: 20 mA, the low end of the 20-30 mA usual for 5 mm indicator LEDs, from memory)
+    led = get_led("red")
+    assert led.i_max_a is not None
     result = solve(make_request("every 3 s, 500 mA peak", cores="timer555",
                                 stages="direct,pulse"))
     assert result.success
     text = " ".join(result.explanations)
-    assert "500 mA" in text and "limit the current" in text
-    assert result.candidates[0].figures["led_peak_a"] < 0.1
+    assert "The peak current wanted is 500 mA" in text
+    assert f"continuous rating of {led.i_max_a * 1e3:g} mA" in text
+    assert "no pulsed rating" in text and "the chip outputs drive at most" in text
+    assert "the LED's rating is the limit" in text
+    # the drive figure: the same 555 output into the LED with a 1 ohm resistor, by the
+    # fast engine (an independent path), is just below it
+    d = Design(Topology("timer555", "direct", lit="low"),
+               {"ra": 1e6, "rb": 15e3, "c1": 4.7e-6, "rs": 1.0}, ChipSpec("timer555"),
+               PartChoice(led=led, timing_cap="film-pp"), 3.0)
+    one_ohm = d.fast().row(0)["led_peak_a"]
+    drive = float(text.split("drive at most ")[1].split(" mA")[0]) * 1e-3
+    assert one_ohm < drive < one_ohm * 1.05
+    assert drive > led.i_max_a  # so the rating, not the chip, limits here
+    # never above the rating, and the nearest close to it
+    peaks = [c.figures["led_peak_a"] for c in result.candidates]
+    assert max(peaks) <= led.i_max_a * (1 + 1e-9)
+    assert result.candidates[0].figures["led_peak_a"] > 0.8 * led.i_max_a
+
+
+def test_led_current_limit_pulsed_and_unknown():
+    from types import SimpleNamespace
+
+    from pulsepick.solve import led_current_limit
+
+    cont = get_led("red").i_max_a
+    # a pulsed limit of five times the continuous one: an input for the logic, not a
+    # reference figure
+    led = SimpleNamespace(i_max_a=cont, i_pulse_max_a=5 * cont)
+    assert led_current_limit(led, "pulse")[0] == pytest.approx(5 * cont, rel=1e-12)
+    assert led_current_limit(led, "fade")[0] == pytest.approx(5 * cont, rel=1e-12)
+    assert led_current_limit(led, "direct")[0] == pytest.approx(cont, rel=1e-12)
+    limit, words = led_current_limit(get_led("red"), "pulse")
+    assert limit == pytest.approx(cont, rel=1e-12) and "no pulsed rating" in words
+    assert led_current_limit(SimpleNamespace(i_max_a=None), "direct")[0] == math.inf
+
+
+def test_intensity_out_of_reach_explains_the_drive_limit():
+    # 200 mcd effective from a 40 ms flash: Ie = Ip*t/(0.2 s + t) (Blondel-Rey, facts.md
+    # S30) gives Ip = 200 * 0.24/0.04 = 1200 mcd; the white LED gives 4000 mcd at 20 mA
+    # (Cree LC513FWH1-60Q-A0, facts.md S53), 200 mcd/mA, so the peak needed is 6 mA
+    result = solve(make_request(every="3s", flash="40ms", intensity="200mcd", led="white",
+                                cores="timer555", stages="direct", top=1))
+    assert result.success
+    text = " ".join(result.explanations)
+    assert "An effective intensity of 200 mcd with a 40 ms flash needs a peak of about 6 mA" \
+        in text
+    assert "the chip's drive at this supply is the limit" in text
+    drive = float(text.split("drive at most ")[1].split(" mA")[0]) * 1e-3
+    assert drive < 6e-3
+    got = result.candidates[0].figures["effective_mcd"]
+    assert f"The nearest circuit gives {got:.3g} mcd" in text
+
+
+def _leak_ratio(design):
+    """Charging current at VT+ over the timing capacitor's typical leakage there, by the
+    checks module's own formulas (pulsepick.analysis.checks)."""
+    from pulsepick.analysis.checks import charging_currents
+    from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
+
+    env, _ = design.env()
+    up, _down = charging_currents(design, env)
+    kind = get_cap_kind(design.parts.timing_cap)
+    vtp = float(np.ravel(env.vt_plus)[0])
+    leak = float(np.ravel(kind.leakage_a(design.values["c1"], vtp,
+                                         pick_voltage_rating(kind, design.supply_v)))[0])
+    return up / leak
+
+
+def test_long_period_keeps_a_leakage_margin_and_says_so():
+    from pulsepick.analysis.checks import LEAK_MARGIN, circuit_findings
+    from pulsepick.solve import LEAK_MARGIN as SOLVER_MARGIN
+    from pulsepick.solve import time_text
+
+    assert SOLVER_MARGIN == LEAK_MARGIN  # one figure (common practice, practice.md item 6)
+    result = solve(make_request("one flash every 30 min", top=3))
+    assert result.success
+    for c in result.candidates:
+        assert _leak_ratio(c.design) >= LEAK_MARGIN
+        # the checks may still warn at the guaranteed-maximum leakage, never at typical
+        assert not [f for f in circuit_findings(c.design)
+                    if f.code == "cap-leakage" and "(typ)" in f.text]
+    text = result.explanations[0]
+    assert text.startswith("Period beyond what leakage allows: the period wanted is 30 min")
+    best = result.candidates[0].figures["period_s"]
+    assert 60 < best < 1800
+    # the nearest circuit is the longest reliable period found, and the text names it
+    assert best >= 0.95 * max(c.figures["period_s"] for c in result.candidates)
+    assert f"the nearest circuit gives {time_text(best)}" in text
+
+
+def test_period_far_beyond_reach_offers_the_longest_reliable_one():
+    result = solve(make_request("every 1000 h", cores="schmitt", stages="pulse", top=1))
+    assert result.success
+    assert result.candidates[0].figures["period_s"] > 60  # not a short circuit at random
+    assert result.explanations[0].startswith("Period beyond what leakage allows")
+    assert "41.7 days" in result.explanations[0]  # 1000 h / 24 h
+
+
+def test_period_below_flicker_fusion_shortens_the_assumed_flash():
+    result = solve(make_request("every 0.001 ms", cores="schmitt", stages="pulse",
+                                buffered=True, top=1))
+    assert result.success
+    assert result.request.flash_s == pytest.approx(0.25e-6, rel=1e-12)
+    text = " ".join(result.explanations)
+    assert "flicker fusion" in text and "looks steadily lit" in text
+    assert "a flash of 250 ns (25% of the period) is aimed at instead" in text
+    assert result.candidates[0].figures["flash_s"] == pytest.approx(0.25e-6, rel=STEP)
+
+
+def test_twenty_hertz_is_a_flicker():
+    # 50 ms: 20 Hz, between separate flashes (below about 10 Hz) and flicker fusion
+    # (a few tens of hertz; common practice)
+    from pulsepick.solve import _prechecks
+
+    notes, nothing = _prechecks(make_request("every 50 ms, for 10 ms"))
+    assert not nothing
+    assert any("seen as a flicker rather than separate flashes" in n for n in notes)
+    notes, _ = _prechecks(make_request("every 0.2 s"))
+    assert not any("flicker" in n for n in notes)
+
+
+def test_time_text_reads_like_a_designer():
+    from pulsepick.solve import figure_text, time_text
+
+    assert time_text(0.0994) == "99.4 ms"
+    assert time_text(3.0) == "3 s"
+    assert time_text(1740.0) == "29 min"
+    assert time_text(12.4 * 3600) == "12.4 h"
+    assert time_text(1000 * 3600) == "41.7 days"
+    assert figure_text("effective_mcd", 0.0539) == "0.0539 mcd"
+    assert figure_text("led_peak_a", 0.0197) == "19.7 mA"
+
+
+def test_median_build_off_the_nominal_is_stated():
+    # HC at 3 V: VT+ 1.45 / 1.598 / 2.15 V min / typ / max (data/parts/logic_thresholds.csv,
+    # NXP 74HC1G14, facts.md S1): the typical value sits near the minimum, so the builds'
+    # median period moves off the nominal
+    req = make_request("one flash every 3 s", family="hc", cores="schmitt-steered",
+                       stages="direct", buffered=True, top=1, builds=400)
+    c = assess(solve(req), jobs=1).candidates[0]
+    p50 = c.spread.quantiles["period_s"][1]
+    nominal = c.figures["period_s"]
+    assert p50 / nominal - 1 > 0.1
+    from pulsepick.solve import time_text
+
+    assert c.median_note.startswith(f"the median build blinks at {time_text(p50)}")
+    assert "the chip's typical thresholds sit off-centre in its datasheet limits" \
+        in c.median_note
+    assert c.crossing_current is not None and "ESTIMATE" in c.crossing_current
+
+
+def test_measured_crossing_current_replaces_the_estimate():
+    req = make_request("one flash every 3 s", family="hc", cores="schmitt", stages="direct",
+                       top=1, builds=100, chip_overrides={"cross_current_a": 15e-6})
+    c = assess(solve(req), jobs=1).candidates[0]
+    assert c.design.chip.cross_current_a == 15e-6
+    assert c.crossing_current.startswith("measured: 15 µA")
 
 
 def test_supply_outside_every_chip_range():

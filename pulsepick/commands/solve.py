@@ -88,7 +88,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     ctx.add_argument("--vt-minus", metavar="V", help="VT- measured on your Schmitt chip")
     ctx.add_argument("--rout", metavar="OHM", help="output resistance measured on your chip")
     ctx.add_argument("--cross-current", metavar="A",
-                     help="measured extra supply current of the oscillating gate, e.g. 15uA")
+                     help="measured extra supply current of the oscillating gate, e.g. 15uA; "
+                          "replaces the estimate the report labels")
     ctx.add_argument("--series", metavar="E", help=f"resistor series (default {DEFAULT_R_SERIES})")
     ctx.add_argument("--cap-series", metavar="E",
                      help=f"capacitor series (default {DEFAULT_C_SERIES}; electrolytics "
@@ -142,10 +143,14 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                           "lights)")
     out.add_argument("--pick", type=int, default=1, metavar="N",
                      help="the circuit for --buylist (default 1, the best)")
-    out.add_argument("--force", action="store_true", help="let --buylist replace a file")
+    out.add_argument("--force", action="store_true",
+                     help="let --buylist, --plot and --report replace a file")
     out.add_argument("--jobs", type=int, metavar="N",
                      help="worker processes for the search and the checks (default: up to "
                           "2, as the machine has cores)")
+    from pulsepick.commands.pictures import add_picture_arguments
+
+    add_picture_arguments(parser)
 
 
 def _led(args):
@@ -229,8 +234,9 @@ def request_from_args(args):
 
 def run(args) -> int:
     """Parse, solve, assess, and print or export."""
-    from pulsepick.analysis.cautions import GENERAL_CAUTIONS
+    from pulsepick.commands.pictures import check_picture_targets, solve_pictures
     from pulsepick.errors import RequestError
+    from pulsepick.export import solve_cautions
     from pulsepick.render import dump_json, make_console
     from pulsepick.solve import assess, default_jobs, solve
 
@@ -251,6 +257,7 @@ def run(args) -> int:
         raise RequestError(f"--pick {args.pick}: give a candidate number of at least 1")
     if args.buylist and not args.force:
         _check_target(args.buylist)
+    check_picture_targets(args)
     result = solve(req, jobs=jobs)
     result = assess(result, jobs=jobs)
     if args.buylist and result.success:
@@ -260,12 +267,26 @@ def run(args) -> int:
     if args.json:
         from pulsepick.export import result_json
 
-        dump_json(result_json(result, GENERAL_CAUTIONS))
+        dump_json(result_json(result, solve_cautions(req)))
     else:
         console = make_console()
         render_report(console, result, buylist=args.buylist if result.success else None,
                       pick=args.pick)
-    return 0 if result.success else 2
+    solve_pictures(args, result)
+    if not result.success:
+        _nothing_line(req.describe(), result.explanations)
+        return 2
+    return 0
+
+
+def _nothing_line(what: str, explanations) -> None:
+    """The one stderr line of a request that gets nothing (the reasons are on stdout)."""
+    import sys
+
+    first = next(iter(explanations), "")
+    reason = f": {first}" if first else ""
+    print(f"pulsepick: error: nothing can be offered for \"{what}\"{reason}",
+          file=sys.stderr)
 
 
 def _check_target(path: str) -> None:
@@ -286,6 +307,10 @@ def _eng(x, unit: str, digits: int = 3) -> str:
 
     if x is None or not isinstance(x, (int, float)) or not math.isfinite(x):
         return "-"
+    if unit == "s":
+        from pulsepick.solve import time_text
+
+        return time_text(x)
     return format_eng(x, unit, digits)
 
 
@@ -315,30 +340,37 @@ def _fig_text(key: str, value, unit: str) -> str:
     return _eng(value, unit)
 
 
+def _bullet(console, text: str, indent: str = "  - ", hang: str = "    ") -> None:
+    from pulsepick.render import print_wrapped
+
+    print_wrapped(console, text, indent=indent, hang=hang)
+
+
 def render_report(console, result, *, buylist: str | None = None, pick: int = 1) -> None:
     """The terminal report of a solver result (readable at 100 columns, no colour needed)."""
-    from pulsepick.analysis.cautions import GENERAL_CAUTIONS
+    from pulsepick.export import solve_cautions
     from pulsepick.render import simple_table
 
     req = result.request
+    cautions = solve_cautions(req)
     console.print(f"[bold]pulsepick solve[/bold]: {req.describe()}", highlight=False)
     console.print()
-    _render_request(console, req)
+    _render_request(console, req, result)
     if result.explanations:
         console.print("[bold]What cannot be met exactly[/bold]")
         for text in result.explanations:
-            console.print(f"  - {text}", markup=False)
+            _bullet(console, text)
         console.print()
     if not result.success:
         console.print("[bold]Nothing can be offered for this request.[/bold]")
         if result.nearest:
             f = result.nearest
-            console.print(
-                f"  Nearest circuit found: period {_eng(f['period_s'], 's')}, flash "
-                f"{_eng(f['flash_s'], 's')}, LED peak {_eng(f['led_peak_a'], 'A')} "
-                f"(needs {_eng(req.led.visible_a, 'A')} to be seen).", markup=False)
+            _bullet(console,
+                    f"Nearest circuit found: period {_eng(f['period_s'], 's')}, flash "
+                    f"{_eng(f['flash_s'], 's')}, LED peak {_eng(f['led_peak_a'], 'A')} "
+                    f"(needs {_eng(req.led.visible_a, 'A')} to be seen).", indent="  ")
         console.print()
-        _render_cautions(console, GENERAL_CAUTIONS)
+        _render_cautions(console, cautions)
         return
     rows = []
     for c in result.candidates:
@@ -361,10 +393,22 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1)
     if buylist:
         console.print(f"Buy list of circuit {pick} written to {buylist}", markup=False)
         console.print()
-    _render_cautions(console, GENERAL_CAUTIONS)
+    _render_cautions(console, cautions)
 
 
-def _render_request(console, req) -> None:
+def crossing_text(result) -> str | None:
+    """The crossing-current assumption of the Schmitt candidates, once for the report."""
+    texts = [(c.rank, c.crossing_current) for c in result.candidates if c.crossing_current]
+    if not texts:
+        return None
+    ranks = " ".join(f"#{r}" for r, _ in texts)
+    if len({t for _, t in texts}) == 1:
+        return f"crossing current of the Schmitt gate ({ranks}): {texts[0][1]}"
+    return (f"crossing current of the Schmitt gate ({ranks}): "
+            + "; ".join(f"#{r} {t}" for r, t in texts))
+
+
+def _render_request(console, req, result=None) -> None:
     from pulsepick.render import simple_table
     from pulsepick.units import format_eng
 
@@ -375,12 +419,15 @@ def _render_request(console, req) -> None:
     rows = []
     for key, (value, stated) in aims.items():
         word, unit = words[key]
-        text = f"{value:.3g} mcd" if unit == "mcd" else format_eng(value, unit)
-        rows.append([word, text, "asked" if stated else "assumed (not in the request)"])
+        text = f"{value:.3g} mcd" if unit == "mcd" else _eng(value, unit)
+        how = "asked" if stated else "assumed (not in the request)"
+        if key == "flash_s" and req.flash_shortened:
+            how = "assumed: a quarter of the period"
+        rows.append([word, text, how])
     d = set(req.defaults)
 
-    def mark(name: str) -> str:
-        return "default" if name in d else "given"
+    def mark(*names: str) -> str:
+        return "default" if all(n in d for n in names) else "given"
 
     supply = f"{req.supply_v:g} V" + (f" full .. {req.supply_end_v:g} V end of night"
                                        if req.supply_end_v is not None else " (steady)")
@@ -389,9 +436,9 @@ def _render_request(console, req) -> None:
         ["chips", ", ".join(req.families), mark("family")],
         ["LED", f"{req.led.name}", mark("led")],
         ["resistors", f"{req.r_series}, timing {format_eng(req.r_min_ohm, 'Ω')} .. "
-                      f"{format_eng(req.r_max_ohm, 'Ω')}", mark("series")],
+                      f"{format_eng(req.r_max_ohm, 'Ω')}", mark("series", "min_r", "max_r")],
         ["capacitors", f"{req.c_series}, {format_eng(req.c_min_f, 'F')} .. "
-                       f"{format_eng(req.c_max_f, 'F')}", mark("cap_series")],
+                       f"{format_eng(req.c_max_f, 'F')}", mark("cap_series", "cap_range")],
         ["timing capacitor", ", ".join(req.timing_caps), mark("timing_cap")],
         ["cores", ", ".join(req.cores), mark("cores")],
         ["stages", ", ".join(req.stages), mark("stages")],
@@ -399,12 +446,20 @@ def _render_request(console, req) -> None:
          mark("buffered")],
         ["parts drawer", req.stock.source if req.stock else "any standard value",
          mark("stock")],
-        ["spread", f"{req.builds:,} builds, seed {req.seed}, -20..50 °C", mark("builds")],
+        ["spread", f"{req.builds:,} builds, seed {req.seed}, -20..50 °C",
+         mark("builds", "seed")],
     ]
     if req.chip_overrides:
-        rows.append(["chip measured", ", ".join(f"{k} {v:g}" for k, v in
-                                                req.chip_overrides.items()), "given"])
+        names = {"vt_plus_v": ("VT+", "V"), "vt_minus_v": ("VT-", "V"),
+                 "rout_ohm": ("output resistance", "Ω"),
+                 "cross_current_a": ("crossing current", "A"), "measured_at_v": ("at", "V")}
+        rows.append(["chip measured", ", ".join(
+            f"{names.get(k, (k, ''))[0]} {format_eng(v, names.get(k, (k, ''))[1])}"
+            for k, v in req.chip_overrides.items()), "given"])
     console.print(simple_table("Request and assumptions", ["", "value", ""], rows))
+    crossing = None if result is None else crossing_text(result)
+    if crossing:
+        _bullet(console, crossing, indent=" ", hang="   ")
     console.print()
 
 
@@ -418,9 +473,9 @@ def _render_candidate(console, req, c) -> None:
              p.tolerance, p.dielectric or "-", p.rating or "-", p.role] for p in c.parts]
     console.print(simple_table(None, ["ref", "value", "code", "series", "tol", "kind",
                                       "rating", "role"], rows))
-    notes = [f"{p.ref}: {p.note}" for p in c.parts if p.note]
-    for n in notes:
-        console.print(f"    {n}", markup=False)
+    for p in c.parts:
+        if p.note:
+            _bullet(console, f"{p.ref}: {p.note}", indent="    ", hang="      ")
     aims = req.aims()
     ref = c.reference_figures
     rows = []
@@ -442,24 +497,31 @@ def _render_candidate(console, req, c) -> None:
         ["", "aim", "fast engine", "error", "reference", "ref vs fast"], rows,
         justify=["left", "right", "right", "right", "right", "right"]))
     if c.reference is not None and not c.reference.success:
-        console.print(f"    reference run: {c.reference.message}", markup=False)
-    _render_spread(console, c)
+        _bullet(console, f"reference run: {c.reference.message}", indent="    ", hang="      ")
+    _render_spread(console, c, req.targets.period_s)
     _render_drift(console, c)
     extra = list(c.notes) + list(c.warnings)
     if extra:
         console.print("  warnings and notes:")
         for text in extra:
-            console.print(f"    - {text}", markup=False)
+            _bullet(console, text)
     console.print()
 
 
-def _render_spread(console, c) -> None:
+def _source_words(key: str) -> str:
+    """A spread source in plain words ("chip thresholds", not the key)."""
+    from pulsepick.analysis.spread import SOURCE_LABELS
+
+    return SOURCE_LABELS.get(key, key.replace("_", " "))
+
+
+def _render_spread(console, c, target_s: float | None = None) -> None:
     from pulsepick.render import simple_table
 
     s = c.spread
     if s is None:
-        console.print(f"  spread estimate (parts only): period ±{c.period_spread * 100:.1f} % "
-                      "(one standard deviation)", markup=False)
+        _bullet(console, f"spread estimate (parts only): period ±{c.period_spread * 100:.1f} % "
+                         "(one standard deviation)", indent="  ")
         return
     rows = []
     for key, word, unit in (("period_s", "period", "s"), ("flash_s", "flash", "s"),
@@ -471,18 +533,46 @@ def _render_spread(console, c) -> None:
         lo, hi = s.corners.get(key, (math.nan, math.nan))
         rows.append([word, _eng(p5, unit), _eng(p50, unit), _eng(p95, unit),
                      f"{_eng(lo, unit)} .. {_eng(hi, unit)}"])
-    title = (f"spread over {s.builds:,} builds (seed {s.seed}, {s.temp_range_c[0]:g}.."
-             f"{s.temp_range_c[1]:g} °C): {s.yield_fraction * 100:.0f} % within "
-             f"±{s.yield_band * 100:.0f} % of the period")
-    console.print(simple_table(title, ["", "P5", "P50", "P95", "corners"], rows,
+    over = f"{s.builds:,} builds (seed {s.seed}, {s.temp_range_c[0]:g}..{s.temp_range_c[1]:g} °C"
+    if s.supply_range_v is not None:
+        lo_v, hi_v = s.supply_range_v
+        over += f", supply {lo_v:g}..{hi_v:g} V"
+    _bullet(console, f"spread over {over}): {s.yield_fraction * 100:.0f} % within "
+                     f"±{s.yield_band * 100:.0f} % of the period", indent="", hang="  ")
+    console.print(simple_table(None, ["", "P5", "P50", "P95", "corners"], rows,
                                justify=["left", "right", "right", "right", "right"]))
+    if s.supply_range_v is not None:
+        _bullet(console, "the builds run anywhere in the supply range, so the P50 of the LED "
+                         "peak and the currents sits below the nominal figures at the full "
+                         "supply", indent="    ", hang="      ")
     shares = sorted(((v, k) for k, v in s.shares.items() if v > 0.005), reverse=True)
     if shares:
-        text = ", ".join(f"{k} {v * 100:.0f} %" for v, k in shares)
-        console.print(f"    period spread comes from: {text}", markup=False)
+        # a no-break space keeps "55 %" on one line when the text wraps
+        text = ", ".join(f"{_source_words(k)} {v * 100:.0f}\u00a0%" for v, k in shares)
+        _bullet(console, f"period spread comes from: {text}", indent="    ", hang="      ")
+    if c.median_note:
+        _bullet(console, c.median_note, indent="    ", hang="      ")
     if s.stall_fraction or s.dark_fraction:
         console.print(f"    {s.stall_fraction * 100:.1f} % of builds stall, "
                       f"{s.dark_fraction * 100:.1f} % stay dark", markup=False)
+    if c.rank == 1:
+        _render_spread_drawing(console, s, target_s)
+
+
+def _render_spread_drawing(console, s, target_s) -> None:
+    """The period of every build as a small histogram (the best circuit only)."""
+    from pulsepick.commands.pictures import oscillating_periods
+    from pulsepick.textplot import spread_lines
+
+    if not s.samples:
+        return
+    periods, missing = oscillating_periods(s)
+    p5, _, p95 = s.quantiles["period_s"]
+    if periods.size == 0 or not (math.isfinite(p5) and math.isfinite(p95)):
+        return
+    for line in spread_lines(periods, p5_s=p5, p95_s=p95, target_s=target_s,
+                             yield_band=s.yield_band, not_drawn=missing):
+        console.print(f"  {line}", markup=False, highlight=False)
 
 
 def _render_drift(console, c) -> None:
@@ -509,24 +599,20 @@ def _render_drift(console, c) -> None:
 
 def _render_waveform(console, c) -> None:
     """One period of the best circuit, drawn from its reference run (when available)."""
-    import importlib
-
     import numpy as np
 
-    try:
-        textplot = importlib.import_module("pulsepick.textplot")
-    except ModuleNotFoundError as err:
-        if err.name != "pulsepick.textplot":
-            raise
-        return
+    from pulsepick import textplot
+
     ref = c.reference
     if ref is None or not ref.trace:
         return
     env, _ = c.design.env()
+    high = ref.figures.row().get("high_s")
     console.print(f"  one period of #{c.rank} (reference simulation)")
     for line in textplot.waveform_lines(ref.trace["t_s"], ref.trace["vc_v"], ref.trace["led_a"],
                                         vt_plus=float(np.ravel(env.vt_plus)[0]),
-                                        vt_minus=float(np.ravel(env.vt_minus)[0])):
+                                        vt_minus=float(np.ravel(env.vt_minus)[0]),
+                                        high_s=high if high and math.isfinite(high) else None):
         console.print(f"  {line}", markup=False)
     console.print()
 
@@ -534,7 +620,7 @@ def _render_waveform(console, c) -> None:
 def _render_cautions(console, cautions) -> None:
     console.print("[bold]Cautions[/bold]")
     for text in cautions:
-        console.print(f"  - {text}", markup=False)
+        _bullet(console, text)
 
 
 # ============================================================================ several lights
@@ -610,6 +696,10 @@ def run_build(args) -> int:
         raise RequestError(f"--jobs {jobs}: give a whole number of at least 1")
     if args.buylist and not args.force:
         _check_target(args.buylist)
+    if getattr(args, "plot", None) or getattr(args, "report", None):
+        raise RequestError("--plot and --report draw one light; for several lights run "
+                           "'pulsepick solve' on one light's phrase, or 'pulsepick night' "
+                           "with the design file")
     extras = _build_extras(design)
     result = solve_build(breq, jobs=jobs)
     offered = all(li.pick is not None for li in result.lights) and result.plan is not None
@@ -620,8 +710,12 @@ def run_build(args) -> int:
     if args.json:
         dump_json(build_json(result, **extras))
     else:
-        render_build(make_console(), result, buylist=args.buylist if offered else None)
-    return 0 if offered else 2
+        render_build(make_console(), result, buylist=args.buylist if offered else None,
+                     storage="storage" in extras)
+    if not offered:
+        _nothing_line(breq.describe(), list(result.warnings) or [result.message])
+        return 2
+    return 0
 
 
 def _build_extras(design) -> dict:
@@ -656,27 +750,11 @@ def build_lines(result, *, storage=None, panel=None, charge_diode=None) -> tuple
 
 
 def build_buylist_text(result, **extras) -> str:
-    """One buy list (CSV) for the whole build, identical parts summed across the lights."""
-    import csv
-    import io
-    from types import SimpleNamespace
+    """One buy list (CSV) for the whole build, identical parts summed across the lights
+    (see :func:`pulsepick.export.build_buylist_text`)."""
+    from pulsepick import export
 
-    from pulsepick import __version__
-    from pulsepick.export import BUYLIST_COLUMNS, buylist_rows
-
-    breq = result.request
-    lines = build_lines(result, **extras)
-    out = io.StringIO()
-    seeds = sorted({lr.request.seed for lr in breq.lights})
-    out.write(f"# pulsepick {__version__} buy list; build: {breq.describe()}; "
-              f"{len(result.lights)} lights; seed {', '.join(map(str, seeds))}\n")
-    out.write("# lights: " + "; ".join(
-        f"{li.name} = {li.pick.design.label()}, period {li.pick.figures['period_s']:.3g} s"
-        for li in result.lights) + "\n")
-    writer = csv.DictWriter(out, fieldnames=BUYLIST_COLUMNS, lineterminator="\n")
-    writer.writeheader()
-    writer.writerows(buylist_rows(SimpleNamespace(parts=lines)))
-    return out.getvalue()
+    return export.build_buylist_text(result, build_lines(result, **extras))
 
 
 def _risk_json(names, r) -> dict:
@@ -689,8 +767,7 @@ def _risk_json(names, r) -> dict:
 def build_json(result, **extras) -> dict:
     """The whole build as plain JSON data."""
     from pulsepick import __version__
-    from pulsepick.analysis.cautions import GENERAL_CAUTIONS
-    from pulsepick.export import candidate_json
+    from pulsepick.export import candidate_json, solve_cautions
 
     breq = result.request
     names = [li.name for li in result.lights]
@@ -722,16 +799,19 @@ def build_json(result, **extras) -> dict:
         [_risk_json(names, r) for r in result.risks_before],
         "total_supply_avg_a": result.total_supply_a,
         "warnings": list(result.warnings),
-        "cautions": list(GENERAL_CAUTIONS),
+        "cautions": list(solve_cautions(breq, storage="storage" in extras)),
     }
     if plan is not None and all(li.pick is not None for li in result.lights):
         out["parts"] = [p.to_dict() for p in build_lines(result, **extras)]
     return out
 
 
-def render_build(console, result, *, buylist: str | None = None) -> None:
-    """The terminal report of a several-lights build (readable at 100 columns)."""
-    from pulsepick.analysis.cautions import GENERAL_CAUTIONS
+def render_build(console, result, *, buylist: str | None = None, storage: bool = False) -> None:
+    """The terminal report of a several-lights build (readable at 100 columns).
+
+    ``storage``: the build names a storage part (the supercapacitor caution applies).
+    """
+    from pulsepick.export import solve_cautions
     from pulsepick.render import print_wrapped, simple_table
 
     breq = result.request
@@ -758,7 +838,9 @@ def render_build(console, result, *, buylist: str | None = None) -> None:
     if result.plan is None:
         console.print(f"[bold]{result.message}[/bold]", highlight=False)
         for w in result.warnings:
-            print_wrapped(console, f"- {w}")
+            print_wrapped(console, w, indent="  - ", hang="    ")
+        console.print()
+        _render_cautions(console, solve_cautions(breq, storage=storage))
         return
     plan = result.plan
     console.print("[bold]Packages[/bold]")
@@ -809,16 +891,16 @@ def render_build(console, result, *, buylist: str | None = None) -> None:
                 for p in c.parts if p.kind != "chip"]
         console.print(simple_table(None, ["ref", "value", "code", "tol", "kind", "role"], prow))
         for w in list(c.notes) + list(c.warnings):
-            print_wrapped(console, f"- {w}")
+            print_wrapped(console, w, indent="  - ", hang="    ")
         console.print()
     if result.warnings:
         console.print("[bold]Warnings[/bold]")
         for w in result.warnings:
-            print_wrapped(console, f"! {w}")
+            print_wrapped(console, w, indent="  ! ", hang="    ")
         console.print()
     console.print(f"[bold]{result.message}[/bold]", highlight=False)
     console.print()
     if buylist:
         console.print(f"Buy list of the whole build written to {buylist}", markup=False)
         console.print()
-    _render_cautions(console, GENERAL_CAUTIONS)
+    _render_cautions(console, solve_cautions(breq, storage=storage))
