@@ -22,6 +22,7 @@ EXAMPLES = [
     "pulsepick solve --every 3s --flash 40ms --peak 5mA --led red --supply 2.7V..1.8V",
     'pulsepick solve "one flash every 3 s" --stock drawer.csv --buylist parts.csv --pick 1',
     'pulsepick solve "one flash every 3 s" --cores schmitt-steered --stages direct --json',
+    'pulsepick solve "one flash every 3 s" --plot garden.png --report garden.html',
     'pulsepick solve "three lights: every 2.7 s, every 4.1 s, every 6.3 s, 60 ms each" '
     "--spread-out --period-tolerance 10%",
     "pulsepick solve examples/firefly-lantern.toml --buylist lantern-parts.csv",
