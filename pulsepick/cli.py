@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import argparse
 import importlib
+import os
 import sys
 import traceback
 from types import ModuleType
@@ -124,6 +125,22 @@ def main(argv: list[str] | None = None) -> int:
             file=sys.stderr,
         )
         return EXIT_BUG
+
+
+def run() -> None:
+    """Console-script entry: run ``main`` and leave without the interpreter's teardown.
+
+    Tearing down numpy, scipy and rich at exit costs a noticeable part of a short
+    command's wall time; the streams are flushed first and no worker process outlives
+    its command (the pools are closed), so ending the process directly loses nothing.
+    """
+    code = main()
+    try:
+        sys.stdout.flush()
+        sys.stderr.flush()
+    except BrokenPipeError:
+        pass
+    os._exit(code)
 
 
 if __name__ == "__main__":

@@ -127,3 +127,17 @@ def test_round_trip_property(log_is, n, r_s, r_ext, log_i):
     i = 10.0**log_i
     v = j.voltage(i) + i * r_ext
     assert j.current(v, r_ext) == pytest.approx(i, rel=1e-9)
+
+
+def test_real_lambert_w_matches_scipy():
+    # scipy.special.lambertw (a general-purpose reference library), principal branch
+    from scipy.special import lambertw
+
+    from pulsepick.parts.junction import lambert_w_of_exp
+
+    y = np.linspace(-60.0, 19.9, 4001)
+    ref = lambertw(np.exp(y)).real
+    np.testing.assert_allclose(lambert_w_of_exp(y), ref, rtol=1e-13, atol=0.0)
+    big = np.linspace(20.0, 700.0, 50)  # W(e^y) + ln W(e^y) = y where exp would overflow
+    w = lambert_w_of_exp(big)
+    np.testing.assert_allclose(w + np.log(w), big, rtol=1e-14)

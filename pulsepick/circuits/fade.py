@@ -34,17 +34,29 @@ _ROOT_STEPS = 40
 
 
 def _steady_hold(env: Env, v_src, r_in):
-    """Hold voltage where the diode's feed equals the LED's draw (bisection)."""
-    led, dio = env.led, env.fade_diode
-    lo = np.zeros(np.broadcast_shapes(np.shape(v_src), np.shape(r_in)))
-    hi = lo + v_src
-    for _ in range(48):
-        mid = 0.5 * (lo + hi)
-        feed = dio.junction.current(np.maximum(v_src - mid, 0.0), r_ext=r_in)
-        draw = led.current(mid)
-        lo = np.where(feed > draw, mid, lo)
-        hi = np.where(feed > draw, hi, mid)
-    return 0.5 * (lo + hi)
+    """Hold voltage where the diode's feed equals the LED's draw.
+
+    In steady state one current I flows through the diode, RS and the LED, so
+    V_led(I) + V_diode(I) + I·R_in = V_src, a sum of explicit, increasing functions of
+    I: Newton on x = ln I (no Lambert W needed), started from above the root.
+    """
+    led, dio = env.led.junction, env.fade_diode.junction
+    shape = np.broadcast_shapes(np.shape(v_src), np.shape(r_in))
+    v_src = np.broadcast_to(v_src, shape)
+    r_in = np.broadcast_to(r_in, shape)
+    r_all = r_in + led.r_s + dio.r_s
+    # the current with the resistances alone bounds the root from above
+    x = np.log(np.maximum(v_src / np.maximum(r_all, 1e-9), 1e-30))
+    n_led, n_dio = n_vt(led), n_vt(dio)
+    for _ in range(60):
+        i = np.exp(x)
+        g = led.voltage(i) + dio.voltage(i) + i * r_in - v_src
+        dg_dx = i * (n_led / (led.i_s + i) + n_dio / (dio.i_s + i) + r_all)
+        step = g / dg_dx
+        x = x - np.maximum(step, -50.0)
+        if np.all(np.abs(step) < 1e-10):
+            break
+    return led.voltage(np.exp(x))
 
 
 def _rise_grid(env: Env, v_src, r_in, rs, ch):

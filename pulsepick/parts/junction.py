@@ -29,7 +29,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.special import lambertw
 
 from pulsepick.errors import PartError
 from pulsepick.physconst import K_OVER_Q_V_PER_K
@@ -39,6 +38,7 @@ _MAX_EXPONENT = 700.0
 # Above this log-argument the Lambert W is solved in log form by Newton steps.
 _LOG_FORM_ABOVE = 20.0
 _NEWTON_STEPS = 6
+_EXP_FORM_BELOW = -30.0  # below this W(e^y) equals e^y to double precision
 
 
 def thermal_voltage(temperature_k: float = 300.0) -> float:
@@ -76,16 +76,34 @@ def _solve_log_lambert(y: np.ndarray) -> np.ndarray:
     return w
 
 
-def _lambert_w_of_exp(y: np.ndarray) -> np.ndarray:
-    """W(exp(y)) for any real y, without overflow."""
+def lambert_w_of_exp(y) -> np.ndarray:
+    """W(exp(y)), the principal branch of the Lambert W function at exp(y), for any real y.
+
+    Real arithmetic only, without overflow: for y > 20 the asymptotic start of
+    ``_solve_log_lambert``; otherwise Newton on w + ln(w) = y from w = ln(1 + e^y), which
+    is within a factor of two of the root for every y and converges monotonically
+    (relative error below 1e-14 after six steps; checked against scipy.special.lambertw
+    in the tests). For y < -30, W(e^y) = e^y to better than 1e-13.
+    """
+    y = np.asarray(y, dtype=float)
     out = np.empty_like(y)
     big = y > _LOG_FORM_ABOVE
     if np.any(big):
         out[big] = _solve_log_lambert(y[big])
-    small = ~big
-    if np.any(small):
-        out[small] = lambertw(np.exp(y[small])).real
+    tiny = y < _EXP_FORM_BELOW
+    if np.any(tiny):
+        out[tiny] = np.exp(y[tiny])
+    mid = ~(big | tiny)
+    if np.any(mid):
+        ym = y[mid]
+        w = np.log1p(np.exp(ym))
+        for _ in range(_NEWTON_STEPS):
+            w = w * (1.0 + ym - np.log(w)) / (1.0 + w)
+        out[mid] = w
     return out
+
+
+_lambert_w_of_exp = lambert_w_of_exp
 
 
 @dataclass(frozen=True)

@@ -26,9 +26,9 @@ from dataclasses import dataclass, field
 from functools import cache
 
 import numpy as np
-from scipy.special import lambertw
 
 from pulsepick.errors import PartError
+from pulsepick.parts.junction import lambert_w_of_exp
 from pulsepick.physconst import K_OVER_Q_V_PER_K
 from pulsepick.tables import load_table
 
@@ -62,26 +62,6 @@ def irradiance_from_lux(lux):
 def lux_from_irradiance(irradiance_w_m2):
     """Irradiance (W/m²) to daylight illuminance (lx), at ~120 lx per W/m² (from memory)."""
     return irradiance_w_m2 * LUX_PER_W_M2
-
-
-def _lambertw_of_exp(x: np.ndarray) -> np.ndarray:
-    """W(exp(x)) for real x, without overflow for large x.
-
-    For x up to 50 scipy's principal branch is used; above that the equation w + ln(w) = x is
-    solved by Newton's method from w = x - ln(x) (converges in a few steps).
-    """
-    x = np.asarray(x, dtype=float)
-    out = np.empty_like(x)
-    small = x <= 50.0
-    if np.any(small):
-        out[small] = lambertw(np.exp(x[small])).real
-    if np.any(~small):
-        xb = x[~small]
-        w = xb - np.log(xb)
-        for _ in range(8):
-            w = w - (w + np.log(w) - xb) / (1.0 + 1.0 / w)
-        out[~small] = w
-    return out
 
 
 def open_circuit_voltage(photocurrent_a, saturation_current_a: float, diode_voltage_v: float,
@@ -220,7 +200,7 @@ class PanelModel:
         else:
             k = 1.0 + rs * g_sh
             log_theta = math.log(rs * i0 / (a * k)) + (rs * (il_b + i0) + v_b) / (a * k)
-            out = (il_b + i0 - v_b * g_sh) / k - (a / rs) * _lambertw_of_exp(log_theta)
+            out = (il_b + i0 - v_b * g_sh) / k - (a / rs) * lambert_w_of_exp(log_theta)
         return float(out) if out.ndim == 0 else out
 
     def voc(self, irradiance_w_m2=RATED_IRRADIANCE_W_M2):
