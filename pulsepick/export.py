@@ -205,6 +205,20 @@ def build_buylist_text(result, lines) -> str:
     return out.getvalue()
 
 
+def check_target(path: str, force: bool = False, option: str | None = None) -> None:
+    """Refuse an output path that names a folder, lies in a missing folder, or exists
+    (without ``force``); ``option`` (e.g. ``--plot``) starts the message when given."""
+    target = os.path.abspath(path)
+    folder = os.path.dirname(target) or "."
+    what = f"{option} {path!r}" if option else repr(path)
+    if os.path.isdir(target):
+        raise ExportError(f"{what} is a folder; give a file name such as buylist.csv")
+    if not os.path.isdir(folder):
+        raise ExportError(f"{what}: the folder does not exist; create it or give another path")
+    if os.path.exists(target) and not force:
+        raise ExportError(f"{what} exists; add --force to replace it, or give another file name")
+
+
 def write_atomic(path: str, text: str | bytes, *, force: bool = False) -> None:
     """Write ``text`` (or bytes) to ``path`` through a temporary file in the same folder.
 
@@ -217,16 +231,9 @@ def write_atomic(path: str, text: str | bytes, *, force: bool = False) -> None:
         when ``path`` exists and ``force`` is False, names a folder, or cannot be
         written; nothing is written then.
     """
+    check_target(path, force)
     target = os.path.abspath(path)
     folder = os.path.dirname(target) or "."
-    if os.path.isdir(target):
-        raise ExportError(f"{path!r} is a folder; give a file name such as buylist.csv")
-    if not os.path.isdir(folder):
-        raise ExportError(f"the folder of {path!r} does not exist; create it or give "
-                          "another path")
-    if os.path.exists(target) and not force:
-        raise ExportError(f"{path!r} exists; add --force to replace it, or give another "
-                          "file name")
     if os.path.exists(target):
         mode = os.stat(target).st_mode & 0o777
     else:

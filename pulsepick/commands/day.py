@@ -9,7 +9,6 @@ autonomy, whether the system restarts from empty in weak light, warnings and cau
 from __future__ import annotations
 
 import argparse
-import importlib
 import math
 import re
 from datetime import date
@@ -18,6 +17,7 @@ from pulsepick import __version__
 from pulsepick.analysis.cautions import GENERAL_CAUTIONS
 from pulsepick.analysis.day import MAX_DAYS, DaysResult, NightWindow, simulate_days
 from pulsepick.analysis.irradiance import WEATHER_WORDS, load_profile_csv, parse_weather
+from pulsepick.commands import circuit_options
 from pulsepick.commands.night_options import degrees, quantity, read_storage
 from pulsepick.errors import RequestError
 from pulsepick.parts.diode import DIODE_KEYS, get_diode
@@ -39,17 +39,6 @@ EXAMPLES = [
 TURN_ON_CHOICES = ("civil", "sunset")
 DEFAULT_NIGHT = "12h"
 DEFAULT_STOP = "1.8V"
-_CIRCUIT_MODULE = "pulsepick.commands.circuit_options"
-
-
-def _circuit_options():
-    """The shared circuit options module, or None while it is not installed."""
-    try:
-        return importlib.import_module(_CIRCUIT_MODULE)
-    except ModuleNotFoundError as err:
-        if err.name != _CIRCUIT_MODULE:
-            raise
-        return None
 
 
 # --------------------------------------------------------------------------- shared options
@@ -164,9 +153,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                        help="current drawn by day with the oscillators gated off, such as 2uA")
     out = parser.add_argument_group("output")
     out.add_argument("--json", action="store_true", help="write the result as JSON on stdout")
-    circuit = _circuit_options()
-    if circuit is not None:
-        circuit.add_circuit_arguments(parser)
+    circuit_options.add_circuit_arguments(parser)
 
 
 def _circuit_given(args: argparse.Namespace) -> bool:
@@ -181,11 +168,9 @@ def read_night_load(args: argparse.Namespace, v_top_v: float):
         return quantity(text, "current", "--night-load", "30uA", allow_zero=True)
     if args.night_load is not None:
         raise RequestError("give the night load one way: --night-load, or the circuit's values")
-    circuit = _circuit_options()
-    assert circuit is not None  # values can only be given when its options exist
     from pulsepick.commands.night import supply_grid
 
-    return circuit.load_curve_from_args(args, supply_grid(v_top_v))
+    return circuit_options.load_curve_from_args(args, supply_grid(v_top_v))
 
 
 def read_night(args: argparse.Namespace) -> tuple[NightWindow, dict]:

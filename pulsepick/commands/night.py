@@ -9,7 +9,6 @@ prints a verdict, the figures over the night, a chart, warnings and cautions.
 from __future__ import annotations
 
 import argparse
-import importlib
 import math
 from dataclasses import replace
 from datetime import date, datetime, timedelta
@@ -21,6 +20,7 @@ from rich.text import Text
 from pulsepick import __version__
 from pulsepick.analysis.cautions import NOT_A_SAFETY_LIGHT
 from pulsepick.analysis.night import NightResult, simulate_night, simulate_until_stop
+from pulsepick.commands import circuit_options
 from pulsepick.commands.night_options import (
     clock_time,
     degrees,
@@ -59,29 +59,16 @@ TURN_ON_CHOICES = ("civil", "sunset")
 _MAX_NIGHT_S = 24 * 3600.0  # a night is at most a day long
 SUPPLY_STEP_V = 0.01  # grid step of the load curve, V (the light's stop voltage resolution)
 SUPPLY_GRID_LOW_V = 0.8  # lowest grid supply, V: below any LED or logic chip in the tables
-_CIRCUIT_MODULE = "pulsepick.commands.circuit_options"
 # the common single-cell rating (Maxwell BCAP0005, CAP-XX HY: facts.md S38/S39)
 CROSS_CURRENT_EXAMPLE = "--cross-current 15uA"  # option syntax only, not a figure
 NO_DUSK_DETECTOR = ("no dusk detector load included (pulsepick dusk computes its night-time "
                     "bias; add it with --extra-load)")
 
 
-def _circuit_options():
-    """The shared circuit options module, or None while it is not installed."""
-    try:
-        return importlib.import_module(_CIRCUIT_MODULE)
-    except ModuleNotFoundError as err:
-        if err.name != _CIRCUIT_MODULE:
-            raise
-        return None
-
-
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     """Options of ``pulsepick night``."""
-    circuit = _circuit_options()
-    if circuit is not None:
-        circuit.add_circuit_arguments(parser)
-        parser.set_defaults(supply=None)  # None: not given (the solver then takes the storage's)
+    circuit_options.add_circuit_arguments(parser)
+    parser.set_defaults(supply=None)  # None: not given (the solver then takes the storage's)
     parser.add_argument("design", nargs="?", metavar="DESIGN.toml",
                         help="a design file: every light's load, the storage and the night "
                              "from the file (options given here override its storage and night)")
@@ -251,15 +238,9 @@ def run(args: argparse.Namespace) -> int:
     elif not args.no_circuit:
         if getattr(args, "supply", "") is None:
             args.supply = "3.0V"  # the check options' default supply
-        circuit = _circuit_options()
-        if circuit is None:
-            raise RequestError(
-                "the circuit options are not available in this installation; "
-                "use --no-circuit for a bare storage budget"
-            )
         from pulsepick.design import load_curve
 
-        one = circuit.design_from_args(args)
+        one = circuit_options.design_from_args(args)
         load = load_curve(one, supply_grid(max(v_start, storage.v_rated_v)))
         designs = [(None, one)]
 

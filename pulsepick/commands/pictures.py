@@ -24,7 +24,7 @@ import numpy as np
 
 from pulsepick import __version__
 from pulsepick.errors import ExportError, PulsepickError, RequestError
-from pulsepick.export import write_atomic
+from pulsepick.export import check_target, write_atomic
 from pulsepick.htmlreport import (
     Cell,
     Image,
@@ -80,19 +80,6 @@ def wants_pictures(args) -> bool:
     return bool(getattr(args, "plot", None) or getattr(args, "report", None))
 
 
-def _check_path(path: str, option: str, force: bool) -> None:
-    target = os.path.abspath(path)
-    folder = os.path.dirname(target) or "."
-    if os.path.isdir(target):
-        raise ExportError(f"{option} {path!r} is a folder; give a file name")
-    if not os.path.isdir(folder):
-        raise ExportError(f"{option} {path!r}: the folder does not exist; create it or give "
-                          "another path")
-    if os.path.exists(target) and not force:
-        raise ExportError(f"{option} {path!r} exists; add --force to replace it, or give "
-                          "another file name")
-
-
 def check_picture_targets(args) -> None:
     """Refuse bad ``--plot``/``--report`` files before any work is done.
 
@@ -104,13 +91,13 @@ def check_picture_targets(args) -> None:
     if plot:
         image_format(plot)
         require_matplotlib()
-        _check_path(plot, "--plot", force)
+        check_target(plot, force, "--plot")
     if report:
         suffix = os.path.splitext(report)[1].lower()
         if suffix not in REPORT_SUFFIXES:
             raise RequestError(f"--report {report!r}: unknown report type {suffix or '(none)'!r}"
                                f"; accepted: {', '.join(REPORT_SUFFIXES)}")
-        _check_path(report, "--report", force)
+        check_target(report, force, "--report")
     if plot and report and os.path.abspath(plot) == os.path.abspath(report):
         raise RequestError("--plot and --report name the same file; give two file names")
 
@@ -121,7 +108,6 @@ def write_file_atomic(path: str, data: bytes, *, force: bool = False) -> None:
     Raises :class:`ExportError` (nothing written) when the file exists and ``force``
     is False, the folder is missing, or the write fails.
     """
-    _check_path(path, "file", force)
     write_atomic(path, data, force=force)
 
 
