@@ -390,8 +390,8 @@ def test_no_over_voltage_caution_within_the_rating(capsys):
 def test_no_dusk_detector_is_an_assumption(capsys, monkeypatch):
     doc = run_json(capsys, CIRCUIT_ARGS)
     assert night_cmd.NO_DUSK_DETECTOR == (
-        "no dusk detector load included (pulsepick dusk computes its night-time bias; add it "
-        "with --extra-load)")
+        "no dusk detector load included (describe it with --dusk-bleed and the panel options, "
+        "or add its bias from pulsepick dusk with --extra-load)")
     assert doc["assumptions"].count(night_cmd.NO_DUSK_DETECTOR) == 1
     assert doc["dusk_detector"] == {"in_design_file": False, "bias_included": False,
                                     "bias_a": None, "note": night_cmd.NO_DUSK_DETECTOR}
@@ -403,8 +403,9 @@ def test_no_dusk_detector_is_an_assumption(capsys, monkeypatch):
 def test_dusk_detector_note_names_the_extra_load(capsys):
     doc = run_json(capsys, GOLD_ARGS)
     assert doc["dusk_detector"]["note"] == (
-        "no dusk detector load included beyond the extra load of 10 µA (pulsepick dusk "
-        "computes its night-time bias; add it with --extra-load)")
+        "no dusk detector load included beyond the extra load of 10 µA (describe it with "
+        "--dusk-bleed and the panel options, or add its bias from pulsepick dusk with "
+        "--extra-load)")
 
 
 ONE_LIGHT_FILE = """
@@ -442,3 +443,27 @@ def test_design_file_names_its_dusk_detector_at_the_top(tmp_path, capsys, monkey
     off = tmp_path / "off.toml"
     off.write_text(ONE_LIGHT_FILE.replace('family = "hc"', 'family = "hc"\ndusk_detector = false'))
     assert "dusk detector  " not in run_text(capsys, ["night", str(off)], monkeypatch)
+
+
+def test_dusk_bleed_adds_the_detectors_night_bias(capsys):
+    # the detector's night-time bias comes from pulsepick.analysis.dusk (the charging
+    # diode's reverse leakage through the bleed); it joins the loads and is named
+    from pulsepick.analysis.dusk import dusk_levels
+    from pulsepick.parts.diode import get_diode
+    from pulsepick.parts.logic import get_family
+    from pulsepick.parts.panel import get_panel
+
+    base = ["night", "--no-circuit", "--storage", "1f-2v7", "--start", "2.7V", "--night", "12h",
+            "--json"]
+    assert cli.main(base) == 0
+    plain = json.loads(capsys.readouterr().out)
+    assert cli.main([*base, "--dusk-bleed", "220k", "--panel", "3v20ma"]) == 0
+    with_dusk = json.loads(capsys.readouterr().out)
+    bias = dusk_levels(get_panel("3v20ma"), 220e3, get_family("hc"), 2.7,
+                       get_diode("schottky")).night_bias_typ_a
+    assert bias > 0
+    # more drain, so less voltage left at dawn; the extra charge is the bias over the night
+    assert with_dusk["v_end_v"] < plain["v_end_v"]
+    assert any("dusk detector: bleed 220 kΩ" in a for a in with_dusk["assumptions"])
+    assert cli.main([*base, "--dusk-bleed", "220k"]) == 2
+    assert "no panel given" in capsys.readouterr().err

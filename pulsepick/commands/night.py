@@ -21,6 +21,7 @@ from pulsepick import __version__
 from pulsepick.analysis.cautions import NOT_A_SAFETY_LIGHT
 from pulsepick.analysis.night import NightResult, simulate_night, simulate_until_stop
 from pulsepick.commands import circuit_options
+from pulsepick.commands.day import add_panel_arguments
 from pulsepick.commands.night_options import (
     clock_time,
     degrees,
@@ -61,8 +62,8 @@ SUPPLY_STEP_V = 0.01  # grid step of the load curve, V (the light's stop voltage
 SUPPLY_GRID_LOW_V = 0.8  # lowest grid supply, V: below any LED or logic chip in the tables
 # the common single-cell rating (Maxwell BCAP0005, CAP-XX HY: facts.md S38/S39)
 CROSS_CURRENT_EXAMPLE = "--cross-current 15uA"  # option syntax only, not a figure
-NO_DUSK_DETECTOR = ("no dusk detector load included (pulsepick dusk computes its night-time "
-                    "bias; add it with --extra-load)")
+NO_DUSK_DETECTOR = ("no dusk detector load included (describe it with --dusk-bleed and the "
+                    "panel options, or add its bias from pulsepick dusk with --extra-load)")
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -98,6 +99,12 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                             "the default) or max (datasheet maximum)")
     store.add_argument("--charge-age", metavar="T", default="6h",
                        help="time from full charge to dusk (default 6h; leakage falls with it)")
+    dusk = parser.add_argument_group(
+        "dusk detector (the panel as the light sensor; see pulsepick dusk)")
+    dusk.add_argument("--dusk-bleed", metavar="OHM",
+                      help="bleed resistor across the panel, such as 220k: its night-time bias "
+                           "joins the loads (needs --panel or --panel-voc/--panel-isc)")
+    add_panel_arguments(parser)
     store.add_argument("--extra-load", metavar="I", default="0A",
                        help="a fixed extra current drawn all night, such as 10uA")
     night = parser.add_argument_group("the night (one of: --dusk/--dawn, --night, --latitude)")
@@ -244,7 +251,9 @@ def run(args: argparse.Namespace) -> int:
         load = load_curve(one, supply_grid(max(v_start, storage.v_rated_v)))
         designs = [(None, one)]
 
-    options = {"extra_load_a": extra, "storage_leak_a": leak, "t_since_charge_s": charge_age,
+    dusk_bias = _dusk_bias(args, designs, v_start)
+    extra_all = extra + (dusk_bias["bias_a"] if dusk_bias else 0.0)
+    options = {"extra_load_a": extra_all, "storage_leak_a": leak, "t_since_charge_s": charge_age,
                "leak_level": args.leakage}
     if night is None:
         # A budget check by hand: run until the stop voltage, however long that takes.
@@ -255,7 +264,7 @@ def run(args: argparse.Namespace) -> int:
                                 dusk=night["dusk"], **options)
     context = {
         "crossing_current": crossing_current(designs, v_start, load),
-        "dusk_detector": dusk_detector(design, extra),
+        "dusk_detector": dusk_detector(design, extra, dusk_bias),
         "rated_default": storage.key == "custom" and args.rated is None,
     }
     result = replace(result, assumptions=result.assumptions + tuple(
@@ -431,15 +440,45 @@ def crossing_current(designs, v_start_v: float, load) -> dict | None:
             "override": "--cross-current", "note": note}
 
 
-def dusk_detector(design_file, extra_load_a: float) -> dict:
+def _dusk_bias(args, designs, v_start_v: float) -> dict | None:
+    """The dusk detector's night-time bias when ``--dusk-bleed`` describes one.
+
+    The panel is dark, so the bleed resistor and the sense input sit near 0 V; what the
+    detector draws from the storage at night is the charging diode's reverse leakage
+    through the bleed (``pulsepick.analysis.dusk``), typical figure.
+    """
+    if args.dusk_bleed is None:
+        return None
+    from pulsepick.analysis.dusk import dusk_levels
+    from pulsepick.commands.day import read_panel
+    from pulsepick.parts.diode import get_diode
+    from pulsepick.parts.logic import get_family
+    from pulsepick.units import parse_value
+
+    bleed = parse_value(args.dusk_bleed, unit="ohm")
+    schmitt = [d for _, d in designs if not d.chip.is_timer]
+    family = get_family(schmitt[0].chip.family if schmitt else "hc")
+    result = dusk_levels(read_panel(args), bleed, family, v_start_v, get_diode(args.diode))
+    return {"bleed_ohm": bleed, "bias_a": float(result.night_bias_typ_a),
+            "bias_max_a": float(result.night_bias_max_a), "family": family.key}
+
+
+def dusk_detector(design_file, extra_load_a: float, bias: dict | None = None) -> dict:
     """What the run includes of a dusk detector (the JSON entry; the assumption as ``note``).
 
-    No option or design-file key gives a dusk detector's night-time bias yet: a design
-    file's ``dusk_detector`` only counts a gate for it. The note says so, and that
-    ``pulsepick dusk`` computes the bias for ``--extra-load``.
+    With ``--dusk-bleed`` (and the panel options) the detector's night-time bias is in
+    the run; otherwise the note says it is not, and that ``--dusk-bleed`` or
+    ``pulsepick dusk`` gives it. A design file's ``dusk_detector`` counts a gate for it.
     """
     from pulsepick.units import format_eng
 
+    if bias is not None:
+        note = (f"dusk detector: bleed {format_eng(bias['bleed_ohm'], 'Ω')} across the panel; "
+                f"its night-time bias {format_eng(bias['bias_a'], 'A')} (typical; up to "
+                f"{format_eng(bias['bias_max_a'], 'A')} with the diode's maximum leakage) is "
+                "drawn all night")
+        return {"in_design_file": bool(design_file is not None), "bias_included": True,
+                "bias_a": bias["bias_a"], "top": None, "note": note}
     in_file = bool(design_file is not None and design_file.build.get("dusk_detector", True))
     note = NO_DUSK_DETECTOR
     if extra_load_a > 0:
