@@ -32,7 +32,8 @@ class _Parser(argparse.ArgumentParser):
     """An argument parser whose usage errors are one line and exit status 2."""
 
     def error(self, message: str) -> None:  # type: ignore[override]
-        raise _UsageError(f"{self.prog}: {message} (see '{self.prog} --help')")
+        where = "" if self.prog == "pulsepick" else f"{self.prog}: "
+        raise _UsageError(f"{where}{message} (see '{self.prog} --help')")
 
 
 class _UsageError(PulsepickError):

@@ -41,7 +41,7 @@ from pulsepick.textplot import spread_lines
 from pulsepick.units import format_eng, format_rkm, parse_quantity, parse_range
 
 NAME = "bands"
-SUMMARY = "compare tolerance bands: period spread and yield for E12/E24/E96 against C1 classes"
+SUMMARY = "compare tolerance bands: period spread and yield, E12/E24/E96 against capacitor classes"
 EXAMPLES = [
     "pulsepick bands --core schmitt --r 1M --c 1u --stage direct --rs 1k --supply 3V",
     "pulsepick bands --core timer555 --ra 10k --rb 1M --c 1u --stage pulse --cp 100u "

@@ -27,7 +27,7 @@ from pulsepick.series import (
 from pulsepick.units import format_eng, format_rkm, parse_value, parse_value_unit
 
 NAME = "values"
-SUMMARY = "List E-series values (E3..E192), decode value codes like 4k7, pick standard values."
+SUMMARY = "E-series values (E3..E192): list them, decode codes like 4k7, pick standard values"
 EXAMPLES = [
     "pulsepick values E24",
     "pulsepick values E24 --from 1k --to 10k",
