@@ -68,9 +68,9 @@ def add_circuit_arguments(parser: argparse.ArgumentParser, supply_default: str =
     """Topology, values, supply, chip and parts."""
     g = parser.add_argument_group("circuit")
     g.add_argument("--core", default="schmitt", metavar="NAME",
-                   help="oscillator core: schmitt, schmitt-steered, timer555 (default schmitt)")
+                   help=f"oscillator core: {', '.join(core_names())} (default schmitt)")
     g.add_argument("--stage", default="direct", metavar="NAME",
-                   help="LED stage: direct, pulse, fade (default direct)")
+                   help=f"LED stage: {', '.join(stage_names())} (default direct)")
     g.add_argument("--buffered", action="store_true",
                    help="drive the LED stage from a spare gate instead of the timing gate")
     g.add_argument("--steer", default="high", choices=("high", "low"),
