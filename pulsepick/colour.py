@@ -11,7 +11,7 @@ tolerance band.
 
 Only the tolerance colours on which the sources agree are used: brown 1 %, red 2 %,
 green 0.5 %, blue 0.25 %, violet 0.1 %, gold 5 %, silver 10 %, none 20 %
-(facts.md S29; orange, yellow and grey are listed with different tolerances by
+(ref:iec-60062-colour; orange, yellow and grey are listed with different tolerances by
 different charts and are refused).
 
 Examples
@@ -23,7 +23,7 @@ Examples
 
 References
 ----------
-IEC 60062 colour code as charted in facts.md S29.
+IEC 60062 colour code as charted in ref:iec-60062-colour.
 """
 
 from __future__ import annotations
@@ -34,21 +34,21 @@ from decimal import Decimal
 
 from pulsepick.errors import ValueCodeError
 
-#: Digit colours, 0..9 (IEC 60062; facts.md S29).
+#: Digit colours, 0..9 (IEC 60062; ref:iec-60062-colour).
 DIGIT_COLOURS: tuple[str, ...] = (
     "black", "brown", "red", "orange", "yellow", "green", "blue", "violet", "grey", "white",
 )
 #: Multiplier colours as powers of ten: black x1 .. white x1e9, gold x0.1, silver x0.01,
-#: pink x0.001 (IEC 60062; facts.md S29).
+#: pink x0.001 (IEC 60062; ref:iec-60062-colour).
 MULTIPLIER_EXP: dict[str, int] = {
     **{c: i for i, c in enumerate(DIGIT_COLOURS)}, "gold": -1, "silver": -2, "pink": -3,
 }
-#: Tolerance colours, percent; only those the sources agree on (facts.md S29).
+#: Tolerance colours, percent; only those the sources agree on (ref:iec-60062-colour).
 TOLERANCE_COLOURS: dict[str, float] = {
     "brown": 1.0, "red": 2.0, "green": 0.5, "blue": 0.25, "violet": 0.1,
     "gold": 5.0, "silver": 10.0, "none": 20.0,
 }
-#: Tolerances (percent) coded with two digit bands; tighter ones use three (facts.md S29).
+#: Tolerances (percent) coded with two digit bands; tighter ones use three (ref:iec-60062-colour).
 FOUR_BAND_TOLERANCES: tuple[float, ...] = (5.0, 10.0, 20.0)
 
 _EXP_MIN = min(MULTIPLIER_EXP.values())

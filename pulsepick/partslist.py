@@ -98,7 +98,7 @@ def parts_list(design, *, r_series: str = "E24", c_series: str = "E12",
         used for the resistor tolerance).
     r_tolerance_pct : float, optional
         Resistor tolerance in percent; default: the usual tolerance of ``r_series``
-        (IEC 60063 via facts.md S26).
+        (IEC 60063 via ref:e-series-tolerances).
     led_peak_a : float, optional
         Peak LED current (A) for the series resistor's power rating; default: the
         fast engine's figure.

@@ -33,7 +33,7 @@ are skipped. Examples: ``"one flash every 3 s"``, ``"flash every 2.5 s for 40 ms
 ``"every 4 s, 200 mcd"``.
 
 Effective intensity follows the Schmidt-Clausen form with a = 0.2 s for night
-observation (facts.md S30, S33), as in :func:`pulsepick.circuits.base.effective_current`.
+observation (ref:ies-effective-intensity, ref:gigahertz-pulse), as in :func:`pulsepick.circuits.base.effective_current`.
 
 The parts drawer (``--stock FILE.csv``)
 ---------------------------------------
@@ -75,7 +75,7 @@ PHRASE_EXAMPLES = (
 # --- defaults (all shown in the output as assumptions) ---------------------------------------
 DEFAULT_SUPPLY = "3.0V"  # common practice: two cells or a charged supercap near 3 V
 #: Common practice: the 74HC14 is the usual Schmitt inverter and the CMOS 555 the usual
-#: timer for a low-power flasher (practice.md item 25).
+#: timer for a low-power flasher (common practice).
 DEFAULT_FAMILY = "hc,timer555"
 DEFAULT_LED = "red"  # lowest forward voltage in our table: lights to the end of a night
 DEFAULT_R_SERIES = "E24"  # common practice: 5 % resistors are the everyday kind
@@ -87,7 +87,7 @@ DEFAULT_TOP = 5
 DEFAULT_BUILDS = 2000
 DEFAULT_SEED = 0
 #: Flash length assumed when the request states none, s. Design choice (estimate): a
-#: short flash that still reads as a flash; short flashes save energy (practice.md 22-23).
+#: short flash that still reads as a flash; short flashes save energy (common practice).
 ASSUMED_FLASH_S = 0.05
 #: When the request states no flash and the assumed one would take more than this share
 #: of the period, the flash aimed at is this share of the period instead. Design choice
@@ -96,7 +96,7 @@ ASSUMED_FLASH_S = 0.05
 ASSUMED_FLASH_SHARE = 0.25
 #: Peak LED current assumed when the request states no brightness, A. Estimate: a few
 #: milliamperes are plainly visible at night from a standard LED, and the 20 mA habit
-#: wastes stored energy (practice.md item 23).
+#: wastes stored energy (common practice).
 ASSUMED_PEAK_A = 5e-3
 
 #: What --family accepts (a comma list): the logic families, the CMOS 555, or any.

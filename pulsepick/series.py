@@ -2,7 +2,7 @@
 
 The mantissas are read from the published tables in ``data/e_series/`` (never from
 the formula ``10**(i/n)``: E12 and E24 depart from it on purpose, and E192 has
-9.20 at index 185; facts.md S22, S24). Every value this module returns is the
+9.20 at index 185; ref:iec-60063, ref:e192-discrepancy-note). Every value this module returns is the
 nearest double to the exact decimal part value (``4.7 kΩ`` is exactly ``4700.0``,
 ``0.47 Ω`` is the same double as ``float("0.47")``), so values compare equal to
 what :func:`pulsepick.units.parse_value` reads.
@@ -22,7 +22,7 @@ Examples
 
 References
 ----------
-IEC 60063, Preferred number series for resistors and capacitors (facts.md S22-S26).
+IEC 60063, Preferred number series for resistors and capacitors (ref:iec-60063, ref:g4usp-preferred-values, ref:e192-discrepancy-note, ref:e-series-rounding-note, ref:e-series-tolerances).
 """
 
 from __future__ import annotations
@@ -73,7 +73,7 @@ class Series:
     mantissas : tuple of float
         The published mantissas of one decade, increasing, 1.0 <= m < 10 (dimensionless).
     tolerance_pct : float
-        Usual tolerance of parts sold in this series, percent (facts.md S22, S26).
+        Usual tolerance of parts sold in this series, percent (ref:iec-60063, ref:e-series-tolerances).
     source : str
         Where the table comes from.
     """
@@ -269,7 +269,7 @@ def series_for_tolerance(tolerance_pct: float) -> SeriesName:
 
     Parts of tolerance t are made in the series whose neighbours lie about 2t apart,
     so a 5 % part belongs to E24, a 3 % part needs E48 and anything tighter than
-    0.5 % is E192 (facts.md S22, S26).
+    0.5 % is E192 (ref:iec-60063, ref:e-series-tolerances).
     """
     if not (isinstance(tolerance_pct, (int, float)) and np.isfinite(tolerance_pct)
             and tolerance_pct > 0):

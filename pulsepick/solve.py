@@ -44,7 +44,7 @@ gets nothing.
 Never offered: a circuit that stalls; one whose nominal LED peak is above the LED's
 rating (:func:`led_current_limit`); and one whose timing capacitor's typical leakage
 comes within a factor of ten of the current that moves it at a threshold (charging
-at VT+, discharging at VT-; common practice, practice.md item 6), checked on the bare
+at VT+, discharging at VT-; common practice), checked on the bare
 timing network and again with the phases as the LED stage's load stretches them.
 
 The nominal figures use the chip's typical thresholds. The Monte Carlo spread draws
@@ -74,7 +74,7 @@ from pulsepick.circuits.base import DARK, RUNS, STALLS, UNPOWERED, Topology, get
 from pulsepick.errors import RequestError
 from pulsepick.request import ASSUMED_PEAK_A, SolveRequest
 
-#: Width of one error unit: ln 1.1, a 10 % miss (about one E24 step, facts.md S22).
+#: Width of one error unit: ln 1.1, a 10 % miss (about one E24 step, ref:iec-60063).
 SIGMA = math.log(1.1)
 #: An assumed (not stated) aim costs at most this much, and half of it at a miss of
 #: about a factor 1.8 (width ln 2): it guides where nothing was asked but never pulls a
@@ -115,7 +115,7 @@ K_COARSE = {"direct": 2, "pulse": 2, "fade": 1}
 K_TIMING_STAGE = {"direct": 32, "pulse": 16, "fade": 6}
 COARSE_PER_DECADE = {"direct": 3, "pulse": 3, "fade": 2}
 #: Drop assumed across the reset or charge diode (or the residual on the flash
-#: capacitor) when estimating a stage's resistor, V. Estimate (facts.md S63: a BAT54
+#: capacitor) when estimating a stage's resistor, V. Estimate (ref:bat54: a BAT54
 #: drops 0.22-0.29 V at 0.1-1 mA); only centres the search.
 STAGE_DROP_V = 0.3
 LN2 = math.log(2.0)
@@ -129,7 +129,7 @@ STAGE_R_SPAN_MIN_OHM = 100.0
 STAGE_ELECTROLYTIC_FROM_F = 1e-6
 
 #: The current moving the timing capacitor at a threshold must be at least this many times
-#: its typical leakage there (common practice: practice.md item 6). The same figure as
+#: its typical leakage there (common practice). The same figure as
 #: ``pulsepick.analysis.checks.LEAK_MARGIN``, kept here so the search does not import the
 #: checks (and with them the reference engine) in its worker processes.
 LEAK_MARGIN = 10.0
@@ -540,7 +540,7 @@ class _Searcher:
                  scale_down=1.0) -> np.ndarray:
         """True where the current moving the timing capacitor at each threshold is at
         least ``LEAK_MARGIN`` times the capacitor's typical leakage there (common
-        practice: practice.md item 6).
+        practice: common practice).
 
         Charging at VT+ is the rule practice states (leakage works against it). The
         discharge at VT- is held to the same margin: leakage helps it, but a leakage
@@ -870,7 +870,7 @@ def peak_needed(req: SolveRequest) -> float:
     """The peak LED current the request's brightness implies (A).
 
     A stated peak as it is; an effective current or intensity through the rectangular
-    flash form Ie = Ip*t/(a + t), a = 0.2 s (Blondel-Rey, facts.md S30), with the flash
+    flash form Ie = Ip*t/(a + t), a = 0.2 s (Blondel-Rey, ref:ies-effective-intensity), with the flash
     aimed at; the assumed peak when no brightness is stated.
     """
     from pulsepick.circuits.base import EFFECTIVE_A_S

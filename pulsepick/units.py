@@ -6,13 +6,13 @@ Celsius. This module reads what people type and writes what people read:
 
 * :func:`parse_value` reads component values: IEC 60062 RKM codes (``4k7``, ``R47``,
   ``2n2``, ``p68``, ``4u7``) and numbers with SI prefixes (``100n``, ``2.2uF``,
-  ``47 kΩ``, ``10M``) (facts.md S27, S28);
+  ``47 kΩ``, ``10M``) (ref:iec-60062-rkm, ref:cap-tolerance-letters);
 * :func:`parse_quantity` and :func:`parse_range` read request quantities with
   their unit (``250 ms``, ``20/min``, ``5 mA``, ``2.7V..1.8V``, ``-20..50 C``);
 * :func:`format_eng` writes engineering notation (``4.7 kΩ``, ``100 nF``);
 * :func:`format_rkm` writes RKM codes (``4k7``, ``100n``);
 * :func:`parse_tolerance` and :func:`tolerance_letter` handle tolerance letters
-  (IEC 60062; facts.md S28).
+  (IEC 60062; ref:cap-tolerance-letters).
 
 Numbers are converted through :class:`decimal.Decimal`, so ``4k7`` is exactly the
 double ``4700.0`` and ``R47`` is the same double as ``float("0.47")``.
@@ -62,11 +62,11 @@ _ENG_PREFIX: dict[int, str] = {
     -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T",
 }
 
-#: Tolerance letters, percent (IEC 60062; facts.md S28). Z is +80/-20 %, see TOLERANCE_Z.
+#: Tolerance letters, percent (IEC 60062; ref:cap-tolerance-letters). Z is +80/-20 %, see TOLERANCE_Z.
 TOLERANCE_LETTERS: dict[str, float] = {
     "B": 0.1, "C": 0.25, "D": 0.5, "F": 1, "G": 2, "J": 5, "K": 10, "M": 20,
 }
-#: Letter Z: (minus_pct, plus_pct) = (20, 80) (IEC 60062; facts.md S28).
+#: Letter Z: (minus_pct, plus_pct) = (20, 80) (IEC 60062; ref:cap-tolerance-letters).
 TOLERANCE_Z: tuple[float, float] = (20.0, 80.0)
 
 VALUE_FORMS = "4k7, 4K7, R47, 470R, 47 kΩ, 100n, 2n2, p68, 4u7, 2.2uF, 10M, 1e3"
@@ -297,7 +297,7 @@ def parse_value(text: str, unit: ValueUnit | None = None, *, allow_zero: bool = 
 
     References
     ----------
-    IEC 60062 letter and digit code (RKM), facts.md S27, S28.
+    IEC 60062 letter and digit code (RKM), ref:iec-60062-rkm, ref:cap-tolerance-letters.
     """
     if unit is not None and unit not in _VALUE_UNIT_KIND:
         raise UnitError(f"unknown value unit {unit!r}; accepted: ohm, F")
@@ -538,7 +538,7 @@ def format_eng(value: float, unit: str, digits: int = 3) -> str:
     return f"{sign}{number} {_ENG_PREFIX[eng]}{unit}".rstrip()
 
 
-# RKM letters written by format_rkm, by power of ten (facts.md S27: upper-case letters for
+# RKM letters written by format_rkm, by power of ten (ref:iec-60062-rkm: upper-case letters for
 # resistors, lower-case for capacitors; kilo is written k, the SI prefix, and parse_value
 # reads K as well).
 _RKM_LETTERS: dict[str, tuple[tuple[int, str], ...]] = {
@@ -548,7 +548,7 @@ _RKM_LETTERS: dict[str, tuple[tuple[int, str], ...]] = {
 
 
 def format_rkm(value: float, kind: RkmKind, digits: int = 6) -> str:
-    """The RKM code of a value (IEC 60062; facts.md S27, S28).
+    """The RKM code of a value (IEC 60062; ref:iec-60062-rkm, ref:cap-tolerance-letters).
 
     Parameters
     ----------
@@ -600,10 +600,10 @@ _TOL_FORMS = "J, 5%, ±5 %, +80/-20%, or a letter B C D F G J K M Z"
 def parse_tolerance(text: str) -> tuple[float, float]:
     """Read a tolerance as ``(minus_pct, plus_pct)``, both positive percentages.
 
-    Accepts a letter (``J`` = ±5 %, ``Z`` = +80/-20 %; IEC 60062, facts.md S28), a
+    Accepts a letter (``J`` = ±5 %, ``Z`` = +80/-20 %; IEC 60062, ref:cap-tolerance-letters), a
     symmetric percentage (``5%``, ``±5 %``, ``+/-5%``) or an asymmetric one
     (``+80/-20%``, ``-20/+80%``). Letters B, C, D are read as percentages; for small
-    capacitors they can mean ±0.1/0.25/0.5 pF instead (facts.md S28).
+    capacitors they can mean ±0.1/0.25/0.5 pF instead (ref:cap-tolerance-letters).
     """
     if not isinstance(text, str):
         raise ValueCodeError(f"a tolerance must be text such as {_TOL_FORMS}; got {text!r}")

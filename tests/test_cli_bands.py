@@ -41,11 +41,11 @@ def test_json_cells_and_tighter_parts_narrow_the_band(capsys):
     doc = run_json(capsys, TIMER_ARGS)
     assert len(doc["cells"]) == len(BAND_SERIES) * len(BAND_CAP_CLASSES) == 12
     # E96 (1 %) with C0G (2 %) against E12 (10 %) with electrolytic (20 %): tolerances from
-    # the series table (facts.md S26) and the capacitor classes (practice.md item 7)
+    # the series table (ref:e-series-tolerances) and the capacitor classes (common practice)
     assert width(doc, "E96", "c0g") < width(doc, "E12", "electrolytic")
     assert width(doc, "E96", "c0g") < 0.7 * width(doc, "E12", "electrolytic")
     tol = {c["resistor_series"]: c["resistor_tol_pct"] for c in doc["cells"]}
-    assert tol == {"E12": 10.0, "E24": 5.0, "E96": 1.0}  # facts.md S26
+    assert tol == {"E12": 10.0, "E24": 5.0, "E96": 1.0}  # ref:e-series-tolerances
     assert doc["builds"] == 600 and doc["seed"] == 0
     assert doc["design"]["circuit"].startswith("timer555")
     shares = doc["current"]["variance_shares"]
@@ -57,7 +57,7 @@ def test_hc_chip_thresholds_dominate(capsys):
     doc = run_json(capsys, HC_ARGS)
     assert doc["dominant_source"] == "chip_thresholds"
     assert width(doc, "E96", "c0g") < width(doc, "E12", "electrolytic")
-    # exact parts leave most of the spread: the HC thresholds (NXP 74HC1G14, facts.md S1)
+    # exact parts leave most of the spread: the HC thresholds (NXP 74HC1G14, ref:nxp-74hc1g14)
     assert doc["ideal_parts"]["period_width_pct"] > 0.8 * doc["current"]["period_width_pct"]
 
 
@@ -149,7 +149,7 @@ def _timer_design(ra, rb):
 
 
 def test_the_part_that_sets_the_period():
-    # 555 astable: t = ln2·(RA + 2·RB)·C (facts.md S21): the larger of RA and 2·RB
+    # 555 astable: t = ln2·(RA + 2·RB)·C (ref:maplin-555-notes): the larger of RA and 2·RB
     assert bands_cmd._period_part(_timer_design(1e6, 10e3)) == "RA"
     assert bands_cmd._period_part(_timer_design(10e3, 1e6)) == "RB"
     assert bands_cmd._period_part(_timer_design(1e6, 470e3)) == "RA"  # 1 MΩ > 940 kΩ
@@ -160,7 +160,7 @@ def test_the_part_that_sets_the_period():
 
 
 def test_timer_advice_names_ra_when_ra_sets_the_period(capsys):
-    # RA 1 MΩ against 2·RB = 20 kΩ (facts.md S21): RA sets 98 % of the period
+    # RA 1 MΩ against 2·RB = 20 kΩ (ref:maplin-555-notes): RA sets 98 % of the period
     doc = run_json(capsys, ["bands", "--core", "timer555", "--ra", "1M", "--rb", "10k", "--c",
                             "1u", "--stage", "direct", "--rs", "470", "--supply", "3V",
                             "--builds", "600", "--timing-cap", "c0g"])

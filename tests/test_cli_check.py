@@ -25,7 +25,7 @@ def test_json_has_exactly_the_figure_keys(capsys):
     assert set(out) == FIGURE_KEYS | {"assumptions", "warnings"}
     assert out["status"]["state"] == "runs"
     # the period follows the thresholds used: T = R1*C1*[ln((V-VT-)/(V-VT+)) + ln(VT+/VT-)]
-    # (onsemi MC14106B astable figure, facts.md S11) within the few percent that the
+    # (onsemi MC14106B astable figure, ref:onsemi-mc14106b) within the few percent that the
     # output resistance, leakage and the flash's load add
     a = out["assumptions"]
     v, vtp, vtm = 3.0, a["vt_plus_v"], a["vt_minus_v"]
@@ -61,14 +61,14 @@ def test_measured_chip_and_led(capsys):
 
 
 def test_worst_case_leakage_warning_names_its_numbers(capsys):
-    # HC input leakage is guaranteed only to 1 uA over temperature (facts.md S12, S3)
+    # HC input leakage is guaranteed only to 1 uA over temperature (ref:onsemi-mm74hc04, ref:ti-schs129-hct)
     out = run_json(capsys, EXAMPLE)
     text = " ".join(out["warnings"])
     assert "worst-case chip" in text and "2.2 MΩ" in text and "1 µA" in text
 
 
 def test_white_led_on_a_low_supply_is_dark(capsys):
-    # a white InGaN LED needs well above 2.5 V (facts.md S53; practice.md item 19)
+    # a white InGaN LED needs well above 2.5 V (ref:cree-lc513fwh1; common practice)
     out = run_json(capsys, ["check", "--r", "1M", "--c", "1u", "--stage", "direct", "--rs",
                             "100", "--supply", "2.2V", "--led", "white"])
     assert out["status"]["state"] == "dark"

@@ -254,7 +254,7 @@ def test_full_without_a_clamp_is_the_rating(capsys, monkeypatch):
     code, out, _ = _run(capsys, [*argv, "--json"])
     assert code == 0
     doc = json.loads(out)
-    # Maxwell 2.7 V 5 F cell (facts.md S38): full is its rated 2.7 V
+    # Maxwell 2.7 V 5 F cell (ref:maxwell-bcap0005): full is its rated 2.7 V
     assert doc["full_v"] == 2.7 and doc["full_is"] == "rated voltage"
     assert doc["days"][0]["v_max_v"] > 2.7  # no clamp: it charges past the rating
     code, out, _ = _run(capsys, argv)

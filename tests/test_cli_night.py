@@ -16,12 +16,12 @@ from pulsepick.analysis.night import simulate_night
 from pulsepick.commands import night as night_cmd
 from pulsepick.parts.storage import custom_storage, get_storage
 
-# The bare budget of the Panasonic Gold Capacitors technical guide (facts.md S44):
+# The bare budget of the Panasonic Gold Capacitors technical guide (ref:panasonic-gold-cap):
 # 0.2 F from 2.5 V to 1.8 V at 10 uA plus 0.2 uA leakage lasts 13,725 s.
 GOLD_ARGS = ["night", "--no-circuit", "--storage", "0.2F", "--start", "2.5V", "--stop-at", "1.8V",
              "--storage-leak", "0.2uA", "--extra-load", "10uA"]
-GOLD_T_S = 13_725.0  # s, S44
-# A pulse-stage Schmitt blinker on the Maxwell 5 F 2.7 V cell (facts.md S38); demo values.
+GOLD_T_S = 13_725.0  # s, ref:panasonic-gold-cap
+# A pulse-stage Schmitt blinker on the Maxwell 5 F 2.7 V cell (ref:maxwell-bcap0005); demo values.
 CIRCUIT_OPTIONS = ["--r", "2M2", "--c", "1u", "--stage", "pulse", "--cp", "22u", "--rs", "47"]
 CIRCUIT_ARGS = ["night", "--storage", "5f-2v7", "--start", "2.6V", "--dusk", "18:30",
                 "--dawn", "07:10", *CIRCUIT_OPTIONS]
@@ -37,7 +37,7 @@ def run_json(capsys, argv):
 
 def test_bare_budget_json(capsys):
     doc = run_json(capsys, GOLD_ARGS)
-    assert doc["runtime_s"] == pytest.approx(GOLD_T_S, rel=0.005)  # S44
+    assert doc["runtime_s"] == pytest.approx(GOLD_T_S, rel=0.005)  # ref:panasonic-gold-cap
     assert doc["stops_at"] is None
     assert doc["v_end_v"] == pytest.approx(1.8, abs=1e-6)
     assert doc["flashes"] == 0
@@ -52,7 +52,7 @@ def test_bare_budget_json(capsys):
 def test_clock_night_crossing_midnight(capsys):
     doc = run_json(capsys, [*GOLD_ARGS, "--dusk", "18:30", "--dawn", "07:10"])
     assert doc["night"]["duration_s"] == 12 * 3600 + 40 * 60  # 18:30 to 07:10 next morning
-    assert doc["runtime_s"] == pytest.approx(GOLD_T_S, rel=0.005)  # S44
+    assert doc["runtime_s"] == pytest.approx(GOLD_T_S, rel=0.005)  # ref:panasonic-gold-cap
     assert doc["stops_at"] == "22:19"  # 18:30 + 13,725 s = 22:18:45, to the minute
     assert doc["lasts_the_night"] is False
     assert len(doc["timeline"]["t_s"]) == len(doc["timeline"]["v_v"])
@@ -84,7 +84,7 @@ def test_start_above_rating_warns_and_cautions(capsys):
     doc = run_json(capsys, ["night", "--no-circuit", "--storage", "5f-2v7", "--start", "2.8V",
                             "--night", "10h"])
     assert any("above the storage rating" in w for w in doc["warnings"])
-    assert any("vent" in c for c in doc["cautions"])  # facts.md S41
+    assert any("vent" in c for c in doc["cautions"])  # ref:bussmann-powerstor-guide
 
 
 @pytest.mark.parametrize(
@@ -190,7 +190,7 @@ def test_circuit_mode_uses_the_check_options(capsys):
     parser = argparse.ArgumentParser()
     add_circuit_arguments(parser)
     design = design_from_args(parser.parse_args(CIRCUIT_OPTIONS))
-    curve = load_curve(design, night_cmd.supply_grid(2.7))  # 2.7 V: the 5f-2v7 rating (S38)
+    curve = load_curve(design, night_cmd.supply_grid(2.7))  # 2.7 V: the 5f-2v7 rating (ref:maxwell-bcap0005)
     dusk = doc["figures"][0]
     assert dusk["label"] == "dusk" and dusk["v_v"] == pytest.approx(2.6)
     assert dusk["supply_avg_a"] == pytest.approx(float(curve.current_a(2.6)), rel=1e-9)
@@ -308,7 +308,7 @@ def test_open_ended_json_leaves_out_midnight_and_dawn(capsys):
     assert doc["night"]["note"] == night_cmd.OPEN_ENDED_NOTE
     assert [p["label"] for p in doc["figures"]] == ["start"]
     assert doc["figures"][0]["t_s"] == 0.0 and doc["figures"][0]["v_v"] == 2.5
-    # the end of the run is in runtime_s and v_end_v (S44 backup time)
+    # the end of the run is in runtime_s and v_end_v (ref:panasonic-gold-cap backup time)
     assert doc["runtime_s"] == pytest.approx(GOLD_T_S, rel=0.005)
     assert doc["v_end_v"] == pytest.approx(1.8, abs=1e-6)
 
@@ -325,11 +325,11 @@ def test_storage_note_says_the_rating_was_a_default(capsys, monkeypatch):
     doc = run_json(capsys, GOLD_ARGS)
     notes = doc["storage"]["source_notes"]
     assert notes[0] == ("capacitance 200 mF given by the user; rating 2.7 V by default (the "
-                        "common single-cell rating, facts.md S38/S39; --rated sets it); "
+                        "common single-cell rating, ref:maxwell-bcap0005/ref:capxx-hy-10f; --rated sets it); "
                         "tolerance taken as 0 (by default)")
     assert not any("capacitance and rating given" in n for n in notes)
     assert doc["storage"]["v_rated_default"] is True
-    assert doc["storage"]["v_rated_v"] == 2.7  # S38/S39 single-cell rating
+    assert doc["storage"]["v_rated_v"] == 2.7  # ref:maxwell-bcap0005/ref:capxx-hy-10f single-cell rating
     text = run_text(capsys, GOLD_ARGS, monkeypatch)
     assert "rated 2.70 V (default)" in text
 
@@ -367,11 +367,11 @@ def test_night_cautions_over_voltage_shorts_and_not_a_safety_light(capsys, monke
     argv = ["night", "--storage", "5f-2v7", "--start", "2.8V", "--night", "12h",
             *CIRCUIT_OPTIONS]
     doc = run_json(capsys, argv)
-    # 2.8 V is above the 2.7 V rating and within the 2.85 V surge rating (S38)
+    # 2.8 V is above the 2.7 V rating and within the 2.85 V surge rating (ref:maxwell-bcap0005)
     over = [c for c in doc["cautions"] if c.startswith("The start voltage 2.80 V is above the "
                                                        "storage rating 2.70 V")]
     assert len(over) == 1 and "within its 2.85 V surge rating" in over[0]
-    assert "vent" in over[0]  # PowerStor guidelines, facts.md S41
+    assert "vent" in over[0]  # PowerStor guidelines, ref:bussmann-powerstor-guide
     assert POLARITY_AND_SHORTS in doc["cautions"]
     assert NOT_A_SAFETY_LIGHT in doc["cautions"]
     text = flat(run_text(capsys, argv, monkeypatch))

@@ -85,7 +85,7 @@ def test_nothing_to_offer_exits_2_with_explanation(capsys):
 @pytest.mark.parametrize("extra, reason", [
     # white InGaN needs about 2.5 V to show (data/parts/leds.csv estimate)
     (["--supply", "1.2V", "--led", "white"], "white (InGaN, 5 mm) LED needs about"),
-    # no chip of ours runs at 20 V: CD40106B to 18 V (facts.md S11), CMOS 555 to 15 V
+    # no chip of ours runs at 20 V: CD40106B to 18 V (ref:onsemi-mc14106b), CMOS 555 to 15 V
     (["--supply", "20V", "--family", "any"], "outside their supply range"),
 ])
 def test_nothing_offered_has_one_stderr_line(capsys, extra, reason):

@@ -33,7 +33,7 @@ def _text(capsys, monkeypatch, argv):
 
 def test_series_json(capsys):
     data = _json(capsys, ["E24"])
-    # IEC 60063 E24 (facts.md S22), usual tolerance 5 % (S26)
+    # IEC 60063 E24 (ref:iec-60063), usual tolerance 5 % (ref:e-series-tolerances)
     assert data["series"] == "E24" and data["count"] == 24
     assert data["tolerance_pct"] == 5.0
     assert data["mantissas"][16] == 4.7 and data["mantissas"][11] == 3.0
@@ -42,14 +42,14 @@ def test_series_json(capsys):
 
 def test_series_json_lower_case_and_e192(capsys):
     data = _json(capsys, ["e192"])
-    # E192[185] = 9.20 (facts.md S24)
+    # E192[185] = 9.20 (ref:e192-discrepancy-note)
     assert data["count"] == 192 and data["mantissas"][185] == 9.2
 
 
 def test_series_text(capsys, monkeypatch):
     out = _text(capsys, monkeypatch, ["E12"])
     assert "E12: 12 values per decade, usual tolerance ±10 %" in out
-    # E12 list (facts.md S22)
+    # E12 list (ref:iec-60063)
     for m in ("1.0", "1.2", "2.7", "8.2"):
         assert m in out
 
@@ -59,7 +59,7 @@ def test_series_text(capsys, monkeypatch):
 
 def test_range_json(capsys):
     data = _json(capsys, ["E24", "--from", "1k", "--to", "10k"])
-    # one E24 decade plus its closing value: 24 + 1 (IEC 60063 E24, facts.md S22)
+    # one E24 decade plus its closing value: 24 + 1 (IEC 60063 E24, ref:iec-60063)
     assert data["count"] == 25 and data["kind"] == "R"
     assert data["from_ohm"] == 1000.0 and data["to_ohm"] == 10000.0
     values = [v["value_ohm"] for v in data["values"]]
@@ -70,7 +70,7 @@ def test_range_json(capsys):
 
 def test_range_with_series_option_and_capacitors(capsys):
     data = _json(capsys, ["--series", "E6", "--from", "1nF", "--to", "10nF"])
-    # E6 (facts.md S22): 1.0 1.5 2.2 3.3 4.7 6.8, then 10
+    # E6 (ref:iec-60063): 1.0 1.5 2.2 3.3 4.7 6.8, then 10
     assert data["kind"] == "C"
     assert [v["code"] for v in data["values"]] == ["1n", "1n5", "2n2", "3n3", "4n7", "6n8", "10n"]
     assert data["values"][2]["value_f"] == 2.2e-9
@@ -89,15 +89,15 @@ def test_decode_json(capsys):
     data = _json(capsys, ["4k7"])
     assert data["value_ohm"] == 4700.0 and data["code"] == "4k7"
     assert data["value_eng"] == "4.7 kΩ"
-    # 4.7 is in E3..E24 (S22) and E192 (S24), not in E48/E96 (S23)
+    # 4.7 is in E3..E24 (ref:iec-60063) and E192 (ref:e192-discrepancy-note), not in E48/E96 (ref:g4usp-preferred-values)
     assert data["in_series"] == ["E3", "E6", "E12", "E24", "E192"]
     nearest = {n["series"]: n for n in data["nearest"]}
     assert nearest["E24"]["value_ohm"] == 4700.0 and nearest["E24"]["error_pct"] == 0.0
-    # E96 neighbours of 4.7 are 4.64 and 4.75 (S23); 4.75/4.7 < 4.7/4.64, error +1.0638 %
+    # E96 neighbours of 4.7 are 4.64 and 4.75 (ref:g4usp-preferred-values); 4.75/4.7 < 4.7/4.64, error +1.0638 %
     assert nearest["E96"]["value_ohm"] == 4750.0
     assert nearest["E96"]["error_pct"] == pytest.approx(1.06383, abs=1e-5)
     assert nearest["E48"]["value_ohm"] == 4640.0
-    # colour code, facts.md S29: yellow-violet-red-gold = 4.7 kΩ ±5 %
+    # colour code, ref:iec-60062-colour: yellow-violet-red-gold = 4.7 kΩ ±5 %
     colours = {c["tolerance_pct"]: c for c in data["colour_bands"]}
     assert colours[5.0]["bands"] == ["yellow", "violet", "red", "gold"]
     assert colours[5.0]["series"] == ["E6", "E12", "E24"]
@@ -107,7 +107,7 @@ def test_decode_json(capsys):
 def test_decode_capacitor_json(capsys):
     data = _json(capsys, ["2n2"])
     # p, n and µ written without a unit only make sense for a capacitor: 2.2 nF, code 2n2
-    # (RKM, facts.md S27, S28)
+    # (RKM, ref:iec-60062-rkm, ref:cap-tolerance-letters)
     assert data["kind"] == "C" and data["value_f"] == 2.2e-9 and data["code"] == "2n2"
     assert data["kind_note"] == "read as a capacitance; add --kind R to force a resistance"
     data = _json(capsys, ["4k7"])
@@ -122,7 +122,7 @@ def test_decode_capacitor_json(capsys):
 @pytest.mark.parametrize(
     ("text", "head", "code"),
     [
-        # RKM: 100n = 100 nF, 4u7/4µ7 = 4.7 µF, p68 = 0.68 pF (facts.md S27, S28)
+        # RKM: 100n = 100 nF, 4u7/4µ7 = 4.7 µF, p68 = 0.68 pF (ref:iec-60062-rkm, ref:cap-tolerance-letters)
         ("100n", "100n = 100 nF = 1e-07 F", "100n"),
         ("4µ7", "4µ7 = 4.7 µF = 4.7e-06 F", "4u7"),
         ("4u7", "4u7 = 4.7 µF = 4.7e-06 F", "4u7"),
@@ -147,11 +147,11 @@ def test_decode_shows_each_form_once(capsys, monkeypatch):
 
 def test_capacitor_prefix_in_range_and_picks(capsys, monkeypatch):
     data = _json(capsys, ["E6", "--from", "1n", "--to", "10n"])
-    # E6 (facts.md S22): 1.0 1.5 2.2 3.3 4.7 6.8, then 10
+    # E6 (ref:iec-60063): 1.0 1.5 2.2 3.3 4.7 6.8, then 10
     assert data["kind"] == "C" and data["kind_note"].startswith("read as a capacitance")
     assert [v["code"] for v in data["values"]] == ["1n", "1n5", "2n2", "3n3", "4n7", "6n8", "10n"]
     data = _json(capsys, ["4.65n", "--series", "E24"])
-    # E24 neighbours of 4.65 are 4.3 and 4.7 (facts.md S22)
+    # E24 neighbours of 4.65 are 4.3 and 4.7 (ref:iec-60063)
     assert data["kind"] == "C" and data["below"]["value_f"] == pytest.approx(4.3e-9)
     out = _text(capsys, monkeypatch, ["4.65n", "--series", "E24"])
     assert "4.65n: read as a capacitance; add --kind R to force a resistance" in out
@@ -184,7 +184,7 @@ def test_decode_text(capsys, monkeypatch):
 
 def test_picks_json(capsys):
     data = _json(capsys, ["4.65k", "--series", "E24"])
-    # E24 neighbours of 4.65 are 4.3 and 4.7 (facts.md S22)
+    # E24 neighbours of 4.65 are 4.3 and 4.7 (ref:iec-60063)
     assert data["value_ohm"] == 4650.0 and data["series"] == "E24" and not data["is_series_value"]
     assert data["below"]["value_ohm"] == 4300.0 and data["above"]["value_ohm"] == 4700.0
     assert data["nearest"]["value_ohm"] == 4700.0

@@ -16,7 +16,7 @@ from pulsepick.colour import (
 from pulsepick.errors import ValueCodeError
 from pulsepick.series import get_series
 
-# Worked examples, facts.md S29 (check value 8)
+# Worked examples, ref:iec-60062-colour (check value 8)
 WORKED = [
     (("yellow", "violet", "red", "gold"), 4700.0, 5.0),
     (("brown", "black", "black", "gold", "brown"), 10.0, 1.0),
@@ -36,12 +36,12 @@ def test_worked_examples_encode(bands, ohm, tol):
 
 
 def test_colour_tables():
-    # digits black 0 .. white 9; multipliers gold x0.1, silver x0.01, pink x0.001 (facts.md S29)
+    # digits black 0 .. white 9; multipliers gold x0.1, silver x0.01, pink x0.001 (ref:iec-60062-colour)
     assert DIGIT_COLOURS == ("black", "brown", "red", "orange", "yellow", "green", "blue",
                              "violet", "grey", "white")
     assert (MULTIPLIER_EXP["white"], MULTIPLIER_EXP["gold"], MULTIPLIER_EXP["silver"],
             MULTIPLIER_EXP["pink"]) == (9, -1, -2, -3)
-    # only the uncontested tolerance colours (facts.md S29 notes)
+    # only the uncontested tolerance colours (ref:iec-60062-colour notes)
     assert TOLERANCE_COLOURS == {
         "brown": 1.0, "red": 2.0, "green": 0.5, "blue": 0.25, "violet": 0.1,
         "gold": 5.0, "silver": 10.0, "none": 20.0,
@@ -49,7 +49,7 @@ def test_colour_tables():
 
 
 def test_three_band_code_is_twenty_percent():
-    # 3-band code: no tolerance band means ±20 % (facts.md S29)
+    # 3-band code: no tolerance band means ±20 % (ref:iec-60062-colour)
     assert value_from_bands(["yellow", "violet", "red"]) == (4700.0, 20.0)
     assert bands_for(4700.0, 20) == ("yellow", "violet", "red")
 
@@ -81,7 +81,7 @@ def test_small_and_large_multipliers():
     ("value", "tol", "fragment"),
     [
         (4700.0, 3, "no colour band for a tolerance"),
-        (4700.0, 0.05, "no colour band for a tolerance"),  # contested colours refused (S29)
+        (4700.0, 0.05, "no colour band for a tolerance"),  # contested colours refused (ref:iec-60062-colour)
         (4751.0, 1, "4 significant digits"),
         (1e12, 5, "outside the colour code"),
         (0.0, 5, "positive finite"),
@@ -100,7 +100,7 @@ def test_bands_for_refuses(value, tol, fragment):
     [
         (["gold", "red", "red", "gold"], "not a digit colour"),
         (["red", "red", "purple", "gold"], "not a multiplier colour"),
-        (["red", "red", "orange", "orange"], "not a tolerance colour"),  # contested (S29)
+        (["red", "red", "orange", "orange"], "not a tolerance colour"),  # contested (ref:iec-60062-colour)
         (["red"], "3, 4, 5 or 6 bands"),
         (["red"] * 7, "3, 4, 5 or 6 bands"),
         ([3, "red", "red"], "must be a name"),
@@ -114,7 +114,7 @@ def test_value_from_bands_refuses(bands, fragment):
 
 @pytest.mark.parametrize(("name", "tol"), [("E24", 5.0), ("E96", 1.0)])
 def test_round_trip_over_series(name, tol):
-    # every E24 value at 5 % and every E96 value at 1 % from 1 Ω to 10 MΩ (IEC 60063, S22/S23)
+    # every E24 value at 5 % and every E96 value at 1 % from 1 Ω to 10 MΩ (IEC 60063, ref:iec-60063/ref:g4usp-preferred-values)
     values = get_series(name).values(1.0, 10e6).tolist()
     assert len(values) == 7 * int(name[1:]) + 1
     for value in values:

@@ -178,7 +178,7 @@ def test_days_cycle_the_weather_and_chain_the_voltages():
 def test_autonomy_follows_the_backup_time_formula():
     # With no leakage and the same 100 µA by day and night the storage runs
     # T = C (V0 - V1) / I = 20 F x 0.9 V / 100 µA = 50 h from dusk (backup-time formula,
-    # facts.md S44): the nights 0-12 h and 24-36 h last, the one from 48 h stops at 50 h.
+    # ref:panasonic-gold-cap): the nights 0-12 h and 24-36 h last, the one from 48 h stops at 50 h.
     store = custom_storage(20.0, v_rated_v=2.7, leak_a=0.0)
     res = simulate_days(store, get_panel("5v60ma"), get_diode("si"), [DARK], 100e-6,
                         NightWindow.centred(12 * 3600), 2.7, days=1, day_load=100e-6,
@@ -194,7 +194,7 @@ def test_autonomy_follows_the_backup_time_formula():
 
 def test_a_failing_night_reports_its_runtime():
     # 0.47 F from 2.2 V at dusk to 1.8 V at 20 µA: 0.47 x 0.4 / 20 µA = 9400 s (backup-time
-    # formula, facts.md S44), well inside a 12 h night; the light stops, then the storage
+    # formula, ref:panasonic-gold-cap), well inside a 12 h night; the light stops, then the storage
     # keeps draining until dawn.
     store = custom_storage(0.47, leak_a=0.0)
     res = simulate_days(store, get_panel("5v60ma"), get_diode("si"), [DARK], 20e-6,

@@ -39,11 +39,11 @@ def test_hc_period_grows_as_supply_falls():
     assert powered[:11].all() and not powered[11:].any()  # 1.9 and 1.8 V below HC's 2.0 V
     k = res.period_s / (R1 * C1)
     assert np.all(np.diff(k[powered]) > 0)  # period rises at every step down
-    # k = 1.028 at 2.0 V (facts.md section 2, derived from NXP 74HC1G14 typ thresholds, S1)
+    # k = 1.028 at 2.0 V (derived from ref:onsemi-mc14106b with the NXP 74HC1G14 typical thresholds, ref:nxp-74hc1g14)
     i2 = int(np.argmin(abs(res.supply_v - 2.0)))
     assert k[i2] == pytest.approx(1.028, rel=0.01)
     # k at 3.0 V from the typical thresholds the table interpolates there (1.598 / 0.972 V,
-    # NXP typ interpolated between 2.0 and 4.5 V, S1): 0.866
+    # NXP typ interpolated between 2.0 and 4.5 V, ref:nxp-74hc1g14): 0.866
     assert k[0] == pytest.approx(math.log(2.028 / 1.402) + math.log(1.598 / 0.972), rel=0.01)
     assert res.period_change_to_v == pytest.approx(2.0)
     assert res.period_change_pct == pytest.approx((k[i2] / k[0] - 1) * 100)
@@ -52,8 +52,8 @@ def test_hc_period_grows_as_supply_falls():
 def test_hc_period_change_from_4v5_to_2v():
     res = drift(hc_marker(led="red"), 4.5, 2.0)
     k = res.period_s / (R1 * C1)
-    # 74HC k 0.761 at 4.5 V and 1.028 at 2.0 V (facts.md section 2, derived from S1):
-    # the period grows about 35 % (practice.md section C)
+    # 74HC k 0.761 at 4.5 V and 1.028 at 2.0 V (derived from ref:onsemi-mc14106b and ref:nxp-74hc1g14):
+    # the period grows about 35 % (common practice)
     assert k[0] == pytest.approx(0.761, rel=0.01)
     assert k[-1] == pytest.approx(1.028, rel=0.01)
     assert res.period_change_pct == pytest.approx(35.0, abs=2.0)
@@ -70,12 +70,12 @@ def test_led_goes_dark_where_its_forward_voltage_meets_the_supply():
         return v - float(led.voltage(i_vis)) - i_vis * (1e3 + float(fam.rout_high(v, "typ")))
 
     v_dark = brentq(margin, 1.0, 3.0, xtol=1e-12)
-    # green GaP LED: VF 2.2 V typ at 10 mA (5 mm catalogue table, facts.md S52); at its
+    # green GaP LED: VF 2.2 V typ at 10 mA (5 mm catalogue table, ref:led-5mm-catalogue); at its
     # visible current it needs about 1.94 V, plus about 0.24 V across RS and the gate
     assert 2.1 < v_dark < 2.3
     assert res.lit_at_full
     assert res.dark_below_v == pytest.approx(v_dark, abs=2e-3)
-    # the chip leaves its range below 2.0 V (HC 2-6 V, NXP 74HC1G14, facts.md S1)
+    # the chip leaves its range below 2.0 V (HC 2-6 V, NXP 74HC1G14, ref:nxp-74hc1g14)
     assert res.unpowered_below_v == pytest.approx(2.0, abs=1e-6)
     st = res.status
     v = res.supply_v
@@ -88,12 +88,12 @@ def test_dark_from_the_start_and_lit_throughout():
     dim = drift(hc_marker(led="green-gap", rs=100e3), 3.0, 2.0)
     assert not dim.lit_at_full and dim.dark_below_v is None
     bright = drift(hc_marker(led="red", rs=1e3), 3.0, 2.0)
-    # red LED: about 1.5 V at its visible current (model through VF 1.7 V at 10 mA, S52)
+    # red LED: about 1.5 V at its visible current (model through VF 1.7 V at 10 mA, ref:led-5mm-catalogue)
     assert bright.lit_at_full and bright.dark_below_v is None
 
 
 def test_timer_period_barely_moves_with_supply():
-    # CMOS 555 astable: "frequency independent of supply" (LMC555, facts.md S17)
+    # CMOS 555 astable: "frequency independent of supply" (LMC555, ref:ti-lmc555)
     d = Design(Topology("timer555", "direct"), {"ra": 1e4, "rb": 1e6, "c1": 1e-6, "rs": 1e3},
                ChipSpec("timer555"), PartChoice(get_led("red"), timing_cap="c0g"), 5.0)
     res = drift(d, 5.0, 2.0)

@@ -27,7 +27,7 @@ def ideal_env(vdd, vt_plus, vt_minus, **kw):
 
 
 def test_bare_schmitt_matches_the_astable_formula():
-    # T = RC[ln((V-VT-)/(V-VT+)) + ln(VT+/VT-)]: onsemi MC14106B astable figure (facts.md S11)
+    # T = RC[ln((V-VT-)/(V-VT+)) + ln(VT+/VT-)]: onsemi MC14106B astable figure (ref:onsemi-mc14106b)
     rng = np.random.default_rng(3)
     r = 10 ** rng.uniform(3, 7, 1000)
     c = 10 ** rng.uniform(-9, -5, 1000)
@@ -40,8 +40,8 @@ def test_bare_schmitt_matches_the_astable_formula():
 
 
 def test_hc_at_4v5_gives_about_0_76_rc():
-    # typical VT+ 2.36 V, VT- 1.53 V at 4.5 V (NXP 74HC1G14 Table 7, facts.md S1) give
-    # T = 0.761 RC (derived with the MC14106B formula, facts.md section 2)
+    # typical VT+ 2.36 V, VT- 1.53 V at 4.5 V (NXP 74HC1G14 Table 7, ref:nxp-74hc1g14) give
+    # T = 0.761 RC (derived with the MC14106B formula, ref:onsemi-mc14106b)
     th = get_family("hc").thresholds(4.5)
     t_h, t_l, _ = fast.periods(Topology("schmitt", "direct"), {"r1": 1e6, "c1": 1e-6},
                                ideal_env(4.5, th.vt_plus_typ, th.vt_minus_typ))
@@ -49,7 +49,7 @@ def test_hc_at_4v5_gives_about_0_76_rc():
 
 
 def test_timer555_ideal_levels_give_ln2_forms():
-    # t_high = ln2 (RA+RB) C, t_low = ln2 RB C (facts.md S21)
+    # t_high = ln2 (RA+RB) C, t_low = ln2 RB C (ref:maplin-555-notes)
     env = ideal_env(5.0, 5.0 * 2 / 3, 5.0 / 3, chip_kind="timer", r_discharge=0.0)
     ra, rb, c = 100e3, 47e3, 2.2e-6
     t_h, t_l, st = fast.periods(Topology("timer555", "direct"), {"ra": ra, "rb": rb, "c1": c}, env)

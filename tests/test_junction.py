@@ -22,9 +22,9 @@ JUNCTIONS = [
 
 
 def test_thermal_voltage_at_300k():
-    # kT/q = 25.85 mV at 300 K (facts.md section 8, derived from CODATA constants)
+    # kT/q = 25.85 mV at 300 K (ref:codata-2018)
     assert THERMAL_VOLTAGE_300K == pytest.approx(25.85e-3, abs=0.01e-3)
-    # 59.5-59.6 mV per decade for n = 1 (facts.md S50)
+    # 59.5-59.6 mV per decade for n = 1 (ref:ideality-factor-glossary)
     assert math.log(10) * thermal_voltage(300.0) == pytest.approx(59.55e-3, abs=0.1e-3)
 
 
@@ -93,7 +93,7 @@ def test_conductance_is_derivative():
 def test_from_point_and_two_points():
     j = Junction.from_point(1.7, 10e-3, n=1.5, r_s=2.0)
     assert j.voltage(10e-3) == pytest.approx(1.7, abs=1e-12)
-    # BAT54 typical points, 0.22 V at 0.1 mA and 0.29 V at 1 mA (facts.md S63)
+    # BAT54 typical points, 0.22 V at 0.1 mA and 0.29 V at 1 mA (ref:bat54)
     fit = Junction.from_two_points((0.22, 1e-4), (0.29, 1e-3))
     assert fit.voltage(1e-4) == pytest.approx(0.22, abs=1e-9)
     assert fit.voltage(1e-3) == pytest.approx(0.29, abs=1e-9)

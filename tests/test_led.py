@@ -10,14 +10,14 @@ from pulsepick.parts.led import LED_KEYS, custom_led, get_led
 
 # (key, typical VF in V, at A, source)
 TEST_POINTS = [
-    ("red", 1.7, 10e-3),  # 5 mm catalogue table (facts.md S52)
-    ("bright-red", 2.0, 10e-3),  # S52
-    ("amber", 2.2, 50e-3),  # Broadcom HSMx-A46x (facts.md S55)
-    ("yellow", 2.1, 10e-3),  # S52 (test current assumed as for its red rows)
-    ("green-gap", 2.2, 10e-3),  # S52 (same assumption)
-    ("green", 3.8, 30e-3),  # S55
-    ("blue", 3.8, 30e-3),  # S55
-    ("white", 3.2, 20e-3),  # Cree LC513FWH1 (facts.md S53)
+    ("red", 1.7, 10e-3),  # 5 mm catalogue table (ref:led-5mm-catalogue)
+    ("bright-red", 2.0, 10e-3),  # ref:led-5mm-catalogue
+    ("amber", 2.2, 50e-3),  # Broadcom HSMx-A46x (ref:broadcom-hsmx-a46x)
+    ("yellow", 2.1, 10e-3),  # ref:led-5mm-catalogue (test current assumed as for its red rows)
+    ("green-gap", 2.2, 10e-3),  # ref:led-5mm-catalogue (same assumption)
+    ("green", 3.8, 30e-3),  # ref:broadcom-hsmx-a46x
+    ("blue", 3.8, 30e-3),  # ref:broadcom-hsmx-a46x
+    ("white", 3.2, 20e-3),  # Cree LC513FWH1 (ref:cree-lc513fwh1)
 ]
 
 
@@ -36,7 +36,7 @@ def test_voltage_at_test_point(key, vf, at):
 
 
 def test_white_needs_more_than_2v7():
-    # "a white LED takes more than 2.7 V to light" (practice.md item 19)
+    # "a white LED takes more than 2.7 V to light" (common practice)
     white = get_led("white")
     assert white.voltage(20e-3) > 2.7
     assert white.current(2.7) < 1e-3
@@ -45,18 +45,18 @@ def test_white_needs_more_than_2v7():
 def test_low_current_voltages_look_like_real_parts():
     # model estimates, checked against the rough targets the table was chosen for:
     # red about 1.6 V at 1 mA; white 2.6-2.8 V at 0.1 mA; blue slightly above 2.3 V at 0.2 uA
-    # (practice.md section C, a builder's measurement)
+    # (common practice, a builder's measurement)
     assert 1.55 <= get_led("red").voltage(1e-3) <= 1.7
     assert 2.6 <= get_led("white").voltage(0.1e-3) <= 2.8
     assert 2.3 <= get_led("blue").voltage(0.2e-6) <= 2.4
 
 
 def test_intensity_at_test_current():
-    # 5 mcd and 80 mcd at 10 mA (facts.md S52); 4000 mcd typ at 20 mA (facts.md S53)
+    # 5 mcd and 80 mcd at 10 mA (ref:led-5mm-catalogue); 4000 mcd typ at 20 mA (ref:cree-lc513fwh1)
     assert float(get_led("red").intensity_cd(10e-3)) == pytest.approx(5e-3)
     assert float(get_led("bright-red").intensity_cd(10e-3)) == pytest.approx(80e-3)
     assert float(get_led("white").intensity_cd(20e-3)) == pytest.approx(4.0)
-    # proportional to current (facts.md S57 axis), vectorised, 0 at negative current
+    # proportional to current (ref:avago-hlma-sh05 axis), vectorised, 0 at negative current
     got = get_led("white").intensity_cd(np.array([-1e-3, 0.0, 10e-3]))
     np.testing.assert_allclose(got, [0.0, 0.0, 2.0])
     # unknown intensity is NaN, shaped like the input
@@ -90,7 +90,7 @@ def test_custom_led_refuses_impossible():
 
 
 # Maximum continuous current: the datasheet test current where a row has one, a lower bound on
-# the rating (facts.md S53 white 20 mA, S55 amber 50 mA and InGaN 30 mA); the other rows are
+# the rating (ref:cree-lc513fwh1 white 20 mA, ref:broadcom-hsmx-a46x amber 50 mA and InGaN 30 mA); the other rows are
 # marked "from memory" in the table and only checked for that mark and for covering their test
 # current.
 DATASHEET_I_MAX = {"amber": 50e-3, "green": 30e-3, "blue": 30e-3, "white": 20e-3}

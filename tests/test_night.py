@@ -19,10 +19,10 @@ from pulsepick.parts.storage import custom_storage, get_storage
 
 NIGHT_12H = 12 * 3600.0
 
-# Backup-time worked example, Panasonic Gold Capacitors technical guide (facts.md S44):
+# Backup-time worked example, Panasonic Gold Capacitors technical guide (ref:panasonic-gold-cap):
 # T = C (V0 - V1) / (I + IL), C = 0.2 F, V0 = 2.5 V, V1 = 1.8 V, I = 10 uA, IL = 0.2 uA.
 GOLD_C, GOLD_V0, GOLD_V1, GOLD_I, GOLD_IL = 0.2, 2.5, 1.8, 10e-6, 0.2e-6
-GOLD_T_S = 13_725.0  # s, as printed in S44
+GOLD_T_S = 13_725.0  # s, as printed in ref:panasonic-gold-cap
 
 
 def fake_blinker(stop_v: float = 2.0) -> LoadCurve:
@@ -52,7 +52,7 @@ def test_constant_current_night_reproduces_the_backup_time_formula():
         extra_load_a=GOLD_I, storage_leak_a=GOLD_IL, stop_at_v=GOLD_V1,
     )
     assert not result.lasts_the_night
-    assert result.runtime_s == pytest.approx(GOLD_T_S, rel=0.005)  # S44, within 0.5 %
+    assert result.runtime_s == pytest.approx(GOLD_T_S, rel=0.005)  # ref:panasonic-gold-cap, within 0.5 %
     assert result.v_end_v == pytest.approx(GOLD_V1, abs=1e-9)
     assert result.success
 
@@ -62,7 +62,7 @@ def test_backup_time_with_the_current_as_a_constant_load_curve():
         custom_storage(GOLD_C), GOLD_V0, NIGHT_12H, constant_load(GOLD_I),
         storage_leak_a=GOLD_IL, stop_at_v=GOLD_V1,
     )
-    assert result.runtime_s == pytest.approx(GOLD_T_S, rel=0.005)  # S44
+    assert result.runtime_s == pytest.approx(GOLD_T_S, rel=0.005)  # ref:panasonic-gold-cap
     shares = result.shares()
     # charge shares follow the currents: I / (I + IL) (from the same formula)
     assert shares["circuit"] == pytest.approx(GOLD_I / (GOLD_I + GOLD_IL), rel=1e-6)
@@ -74,7 +74,7 @@ def test_open_ended_budget_reproduces_the_backup_time():
         custom_storage(GOLD_C), GOLD_V0, None, stop_at_v=GOLD_V1,
         extra_load_a=GOLD_I, storage_leak_a=GOLD_IL,
     )
-    assert result.runtime_s == pytest.approx(GOLD_T_S, rel=0.005)  # S44
+    assert result.runtime_s == pytest.approx(GOLD_T_S, rel=0.005)  # ref:panasonic-gold-cap
     assert result.duration_s > result.runtime_s
     assert result.stops_at is None
 
@@ -190,7 +190,7 @@ def test_start_above_the_rating_is_a_warning_and_a_caution_not_an_error():
     cap = get_storage("5f-2v7")
     result = simulate_night(cap, 2.8, NIGHT_12H, None, extra_load_a=10e-6)
     assert any("above the storage rating" in w for w in result.warnings)
-    assert any("vent" in c for c in result.cautions)  # PowerStor guidelines, facts.md S41
+    assert any("vent" in c for c in result.cautions)  # PowerStor guidelines, ref:bussmann-powerstor-guide
     assert NOT_A_SAFETY_LIGHT in result.cautions
 
 
@@ -212,9 +212,9 @@ def test_storage_cautions():
     assert storage_cautions(cap, 2.7) == []
     over = storage_cautions(cap, 3.0, "The charge voltage")
     assert len(over) == 1 and "The charge voltage 3.00 V" in over[0] and "vent" in over[0]
-    assert "above its 2.85 V surge" in over[0]  # surge 2.85 V (facts.md S38)
+    assert "above its 2.85 V surge" in over[0]  # surge 2.85 V (ref:maxwell-bcap0005)
     pair = custom_storage(1.0, v_rated_v=5.4, cells=2)
-    assert SERIES_BALANCING in storage_cautions(pair, 5.0)  # SPSCAP (facts.md S42)
+    assert SERIES_BALANCING in storage_cautions(pair, 5.0)  # SPSCAP (ref:spscap-safety)
     assert NOT_A_SAFETY_LIGHT in GENERAL_CAUTIONS
 
 
@@ -296,7 +296,7 @@ def test_the_integrator_outcome_is_in_our_words():
                              extra_load_a=GOLD_I, storage_leak_a=GOLD_IL, stop_at_v=GOLD_V1)
     assert stopped.message == (f"stopped at the stop voltage 1.80 V after "
                                f"{stopped.runtime_s:.0f} s")
-    assert stopped.runtime_s == pytest.approx(GOLD_T_S, rel=0.005)  # S44
+    assert stopped.runtime_s == pytest.approx(GOLD_T_S, rel=0.005)  # ref:panasonic-gold-cap
     lasting = simulate_night(get_storage("5f-2v7"), 2.7, NIGHT_12H, constant_load(20e-6))
     assert lasting.lasts_the_night and lasting.success
     assert lasting.message == "ran to the end of the night (43200 s)"  # 12 h
@@ -313,4 +313,4 @@ def test_open_ended_run_has_only_a_start_figure():
     )
     assert [p.label for p in result.figures] == ["start"]
     assert result.figures[0].t_s == 0.0 and result.figures[0].v_v == GOLD_V0
-    assert result.runtime_s == pytest.approx(GOLD_T_S, rel=0.005)  # S44
+    assert result.runtime_s == pytest.approx(GOLD_T_S, rel=0.005)  # ref:panasonic-gold-cap

@@ -33,14 +33,14 @@ def test_rated_points_are_met(key):
 
 def test_worked_example_voc_0p6734():
     # c-Si cell: Jph = 40 mA/cm², J0 = 1.95e-10 mA/cm², n = 1, T = 300 K -> Voc = 0.6734 V
-    # (facts.md S59, computed there with Voc = kT/q ln(Jph/J0 + 1)); 1 cm² of cell.
+    # (ref:solar-cell-j0-exercise, computed there with Voc = kT/q ln(Jph/J0 + 1)); 1 cm² of cell.
     voc = open_circuit_voltage(40e-3, 1.95e-13, thermal_voltage(300.0))
     assert voc == pytest.approx(0.6734, abs=0.0001)
 
 
 def test_worked_example_round_trip_through_a_panel():
     # A one-cell ideal "panel" rated at that Voc and Jsc recovers J0 = 1.95e-10 mA/cm²
-    # (facts.md S59) as its saturation current for 1 cm².
+    # (ref:solar-cell-j0-exercise) as its saturation current for 1 cm².
     panel = custom_panel(0.67342, 40e-3, 1, n=1.0, r_s_ohm=0.0, r_sh_ohm=math.inf,
                          temperature_k=300.0)
     assert panel.saturation_current_a == pytest.approx(1.95e-13, rel=0.01)
@@ -48,7 +48,7 @@ def test_worked_example_round_trip_through_a_panel():
 
 @pytest.mark.parametrize("key", panel_keys())
 def test_voc_rises_n_kt_ln10_per_decade_per_cell_ideal(key):
-    # Voc2 = Voc1 + n·kT/q·ln(G2/G1) per cell (single-diode model, facts.md S58); it holds
+    # Voc2 = Voc1 + n·kT/q·ln(G2/G1) per cell (single-diode model, ref:solar-cell-voc-exercise); it holds
     # without a shunt while Voc >> n·kT/q per cell, checked within 1 % from 1000 to 1 W/m².
     p = get_panel(key)
     ideal = custom_panel(p.voc_v, p.isc_a, p.cells, n=p.n, r_s_ohm=p.r_s_ohm, r_sh_ohm=math.inf)
@@ -60,7 +60,7 @@ def test_voc_rises_n_kt_ln10_per_decade_per_cell_ideal(key):
 
 @pytest.mark.parametrize("key", panel_keys())
 def test_voc_per_decade_with_the_shunt_in_bright_light(key):
-    # With the table's shunt resistance the per-decade step (facts.md S58) still holds within
+    # With the table's shunt resistance the per-decade step (ref:solar-cell-voc-exercise) still holds within
     # 1 % between full sun and a tenth of it, where the shunt carries little current.
     p = get_panel(key)
     expected = p.cells * p.n * thermal_voltage(p.temperature_k) * math.log(10.0)
@@ -69,7 +69,7 @@ def test_voc_per_decade_with_the_shunt_in_bright_light(key):
 
 @pytest.mark.parametrize("key", panel_keys())
 def test_isc_proportional_to_irradiance(key):
-    # Isc ∝ irradiance (facts.md S58); the series resistance bends it by far less than 0.1 %.
+    # Isc ∝ irradiance (ref:solar-cell-voc-exercise); the series resistance bends it by far less than 0.1 %.
     p = get_panel(key)
     for g in (500.0, 100.0, 10.0, 1.0):
         assert p.isc(g) / p.isc(1000.0) == pytest.approx(g / 1000.0, rel=1e-3)

@@ -29,7 +29,7 @@ def test_steered_pulse_designators_and_values():
     assert by["R2"].code == "8k2"
     assert by["R3"].code == "82R" and by["R3"].param == "rs"
     assert by["C1"].code == "10u" and by["C2"].code == "330u"
-    # IEC 60063: E24 parts are 5 % (facts.md S26); 820k and 8k2 are E24 values (S22)
+    # IEC 60063: E24 parts are 5 % (ref:e-series-tolerances); 820k and 8k2 are E24 values (ref:iec-60063)
     assert by["R1"].series == "E24" and by["R1"].tolerance == "±5 %"
     # capacitor kinds from data/parts/capacitor_kinds.csv: PET film 10 %, electrolytic 20 %
     assert by["C1"].tolerance == "±10 %" and "polyester" in by["C1"].dielectric
@@ -66,7 +66,7 @@ def test_buy_rows_group_identical_parts_and_give_bands():
     rows = buy_rows(parts_list(d))
     r = next(row for row in rows if row.part.kind == "resistor")
     assert r.quantity == 3 and r.refs == ("R1", "R2", "R3")
-    # yellow-violet-red-gold is 4.7 kohm +/-5 % (facts.md check value 8, S29)
+    # yellow-violet-red-gold is 4.7 kohm +/-5 % (ref:iec-60062-colour)
     assert r.bands == ("yellow", "violet", "red", "gold")
     assert sum(row.quantity for row in rows) == len(parts_list(d))
 
@@ -75,7 +75,7 @@ def test_off_series_value_keeps_its_own_series_name():
     d = _design(Topology("schmitt", "direct", buffered=True),
                 {"r1": 4750.0, "c1": 1e-6, "rs": 1000.0})
     r1 = parts_list(d)[1]
-    assert r1.series == "E96"  # 4.75 is an E96 value, not E24 (facts.md S23)
+    assert r1.series == "E96"  # 4.75 is an E96 value, not E24 (ref:g4usp-preferred-values)
 
 
 def test_led_resistor_rating_follows_dissipation():
@@ -90,6 +90,6 @@ def test_led_resistor_rating_follows_dissipation():
 
 @pytest.mark.parametrize("series, tol", [("E12", "±10 %"), ("E96", "±1 %")])
 def test_resistor_tolerance_from_series(series, tol):
-    # IEC 60063 usual tolerances: E12 10 %, E96 1 % (facts.md S26)
+    # IEC 60063 usual tolerances: E12 10 %, E96 1 % (ref:e-series-tolerances)
     d = _design(Topology("schmitt", "direct"), {"r1": 1e6, "c1": 1e-6, "rs": 1000.0})
     assert parts_list(d, r_series=series)[1].tolerance == tol

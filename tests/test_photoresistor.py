@@ -16,7 +16,7 @@ from pulsepick.parts.photoresistor import (
 
 
 def test_gamma_worked_example():
-    # gamma = log10(R10/R100) (Token technical notes, facts.md S60): with R10 = 15 kOhm and
+    # gamma = log10(R10/R100) (Token technical notes, ref:token-ldr-notes): with R10 = 15 kOhm and
     # gamma = 0.6, R(100 lux) = 15 kOhm / 10^0.6 = 3.77 kOhm.
     r100 = float(power_law_resistance(100.0, 15e3, 0.6))
     assert r100 == pytest.approx(15e3 / 10**0.6, rel=1e-12)
@@ -25,13 +25,13 @@ def test_gamma_worked_example():
 
 
 def test_power_law_at_reference_and_one_decade_down():
-    # R(10 lux) = R10 by definition; one decade darker multiplies R by 10^gamma (facts.md S60)
+    # R(10 lux) = R10 by definition; one decade darker multiplies R by 10^gamma (ref:token-ldr-notes)
     assert float(power_law_resistance(10.0, 15e3, 0.6)) == pytest.approx(15e3, rel=1e-12)
     assert float(power_law_resistance(1.0, 15e3, 0.6)) == pytest.approx(15e3 * 10**0.6, rel=1e-12)
 
 
 def test_table_rows_match_the_compiled_gl55xx_table():
-    # R10 ranges and dark resistances: facts.md S62
+    # R10 ranges and dark resistances: ref:gl55xx-table
     expected = {"gl5506": (2e3, 6e3, 0.15e6), "gl5516": (5e3, 10e3, 0.5e6),
                 "gl5528": (10e3, 20e3, 1e6), "gl5537": (16e3, 50e3, 2e6),
                 "gl5539": (30e3, 90e3, 5e6)}
@@ -40,7 +40,7 @@ def test_table_rows_match_the_compiled_gl55xx_table():
         p = get_photoresistor(key)
         assert (p.r10_min_ohm, p.r10_max_ohm, p.dark_min_ohm) == (lo, hi, dark)
         assert "from memory" in p.source  # the gamma values are labelled
-        assert p.gamma_tol == 0.1  # facts.md S60, S61
+        assert p.gamma_tol == 0.1  # ref:token-ldr-notes, ref:globe-cds-cell
 
 
 def test_dark_path_limits_resistance_and_leaves_bright_power_law():

@@ -23,13 +23,13 @@ from pulsepick.tables import load_table
 
 
 def test_series_lengths():
-    # IEC 60063: series En holds n values per decade (facts.md S22, S23, S24)
+    # IEC 60063: series En holds n values per decade (ref:iec-60063, ref:g4usp-preferred-values, ref:e192-discrepancy-note)
     for name in SERIES_NAMES:
         assert len(get_series(name).mantissas) == int(name[1:])
 
 
 def test_e24_keeps_its_published_departures_from_the_formula():
-    # facts.md S22 (IEC 60063 E24 list) and check value 1: these eight E24 values differ from
+    # ref:iec-60063 (IEC 60063 E24 list) and check value 1: these eight E24 values differ from
     # round(10**(i/24), 1), which gives 2.6 2.9 3.2 3.5 3.8 4.2 4.6 8.3 at i = 10..16 and 22.
     e24 = get_series("E24").mantissas
     published = {10: 2.7, 11: 3.0, 12: 3.3, 13: 3.6, 14: 3.9, 15: 4.3, 16: 4.7, 22: 8.2}
@@ -37,13 +37,13 @@ def test_e24_keeps_its_published_departures_from_the_formula():
     for i, value in published.items():
         assert e24[i] == value
         assert round(10 ** (i / 24), 1) == formula[i]
-    # every other E24 value equals the rounded formula (derived from S22)
+    # every other E24 value equals the rounded formula (derived from ref:iec-60063)
     others = [i for i in range(24) if i not in published]
     assert all(e24[i] == round(10 ** (i / 24), 1) for i in others)
 
 
 def test_e24_e12_e6_e3_lists():
-    # facts.md S22 (IEC 60063 lists), check value 2
+    # ref:iec-60063 (IEC 60063 lists), check value 2
     assert get_series("E24").mantissas == (
         1.0, 1.1, 1.2, 1.3, 1.5, 1.6, 1.8, 2.0, 2.2, 2.4, 2.7, 3.0,
         3.3, 3.6, 3.9, 4.3, 4.7, 5.1, 5.6, 6.2, 6.8, 7.5, 8.2, 9.1,
@@ -56,7 +56,7 @@ def test_e24_e12_e6_e3_lists():
 
 
 def test_e12_departures_from_the_formula():
-    # facts.md S25 lists the E12 values that differ from round(10**(i/12), 1)
+    # ref:e-series-rounding-note lists the E12 values that differ from round(10**(i/12), 1)
     e12 = get_series("E12").mantissas
     differ = sorted(m for i, m in enumerate(e12) if m != round(10 ** (i / 12), 1))
     assert differ == [2.7, 3.3, 3.9, 4.7, 8.2]
@@ -64,28 +64,28 @@ def test_e12_departures_from_the_formula():
 
 @pytest.mark.parametrize("name", ["E48", "E96"])
 def test_e48_e96_equal_the_rounded_formula(name):
-    # facts.md S23, S24: E48 and E96 are exactly round(10**(i/n), 2), no exceptions
+    # ref:g4usp-preferred-values, ref:e192-discrepancy-note: E48 and E96 are exactly round(10**(i/n), 2), no exceptions
     n = int(name[1:])
     assert get_series(name).mantissas == tuple(round(10 ** (i / n), 2) for i in range(n))
 
 
 def test_e96_published_list_spot_values():
-    # facts.md S23 (E96 list): a few values read from the published table
+    # ref:g4usp-preferred-values (E96 list): a few values read from the published table
     e96 = get_series("E96").mantissas
     assert (e96[0], e96[33], e96[65], e96[95]) == (1.00, 2.21, 4.75, 9.76)
 
 
 def test_e192_has_9_20_at_index_185():
-    # facts.md S24 and check value 4: E192[185] is 9.20, the formula gives 9.19
+    # ref:e192-discrepancy-note and check value 4: E192[185] is 9.20, the formula gives 9.19
     e192 = get_series("E192").mantissas
     assert e192[185] == 9.20
     assert round(10 ** (185 / 192), 2) == 9.19
-    # every other value equals the rounded formula (facts.md S24)
+    # every other value equals the rounded formula (ref:e192-discrepancy-note)
     assert [i for i in range(192) if e192[i] != round(10 ** (i / 192), 2)] == [185]
 
 
 def test_nesting():
-    # facts.md S22, S23: E3 = every 8th E24; E6 = every 2nd E12; E12 = every 2nd E24;
+    # ref:iec-60063, ref:g4usp-preferred-values: E3 = every 8th E24; E6 = every 2nd E12; E12 = every 2nd E24;
     # E48 = every 2nd E96; E96 = every 2nd E192
     m = {n: get_series(n).mantissas for n in SERIES_NAMES}
     assert m["E3"] == m["E24"][::8]
@@ -96,8 +96,8 @@ def test_nesting():
 
 
 def test_series_tolerances():
-    # facts.md S26 (check value 5): E6 20 %, E12 10 %, E24 5 %, E48 2 %, E96 1 %, E192 0.5 %;
-    # E3 above 20 %, given as 40 % (facts.md S22, S26)
+    # ref:e-series-tolerances (check value 5): E6 20 %, E12 10 %, E24 5 %, E48 2 %, E96 1 %, E192 0.5 %;
+    # E3 above 20 %, given as 40 % (ref:iec-60063, ref:e-series-tolerances)
     tolerances = {n: get_series(n).tolerance_pct for n in SERIES_NAMES}
     assert tolerances == {
         "E3": 40.0, "E6": 20.0, "E12": 10.0, "E24": 5.0, "E48": 2.0, "E96": 1.0, "E192": 0.5,
@@ -133,7 +133,7 @@ def test_unknown_series_names_the_accepted_ones(bad):
 
 
 def test_e24_resistors_10_ohm_to_10_megohm():
-    # 6 decades of 24 values plus the closing 10 MΩ: 6 * 24 + 1 = 145 (IEC 60063 E24, S22)
+    # 6 decades of 24 values plus the closing 10 MΩ: 6 * 24 + 1 = 145 (IEC 60063 E24, ref:iec-60063)
     values = get_series("E24").values(10.0, 10e6)
     assert len(values) == 145
     assert values[0] == 10.0 and values[-1] == 10e6
@@ -170,7 +170,7 @@ def test_bad_ranges(lo, hi):
 
 
 def test_nearest_up_down_in_e24():
-    # neighbours from the E24 list (facts.md S22)
+    # neighbours from the E24 list (ref:iec-60063)
     e24 = get_series("E24")
     assert e24.nearest(4650.0) == 4700.0
     assert e24.nearest(4650.0, "up") == 4700.0
@@ -180,7 +180,7 @@ def test_nearest_up_down_in_e24():
 
 
 def test_nearest_uses_log_distance():
-    # between E24 1.0 and 1.1 (facts.md S22) the geometric midpoint is sqrt(1.1) = 1.0488:
+    # between E24 1.0 and 1.1 (ref:iec-60063) the geometric midpoint is sqrt(1.1) = 1.0488:
     # 1.049 is nearer 1.0 on a linear scale but nearer 1.1 by ratio, which is the rule here
     e24 = get_series("E24")
     assert e24.nearest(1.049) == 1.1
@@ -188,7 +188,7 @@ def test_nearest_uses_log_distance():
 
 
 def test_nearest_crosses_decades():
-    # E24 ends at 9.1 and starts the next decade at 10 (facts.md S22)
+    # E24 ends at 9.1 and starts the next decade at 10 (ref:iec-60063)
     e24 = get_series("E24")
     assert e24.nearest(9.8e3) == 10e3
     assert e24.nearest(9.8e3, "down") == 9.1e3
@@ -214,7 +214,7 @@ def test_vectorised_keeps_shape():
     x = np.array([[1.1e3, 2.0e3], [3.0e-9, 9.0e-9]])
     picked = e12.nearest(x)
     assert picked.shape == (2, 2)
-    # E12 neighbours (facts.md S22), ratios by hand: 1.1k -> 1.2k (1.2/1.1 = 1.091 < 1.1),
+    # E12 neighbours (ref:iec-60063), ratios by hand: 1.1k -> 1.2k (1.2/1.1 = 1.091 < 1.1),
     # 2k -> 2.2k (1.1 < 2/1.8 = 1.111), 3n -> 3n3 (1.1 < 1.111), 9n -> 8n2 (1.098 < 1.111)
     assert picked.tolist() == [[1.2e3, 2.2e3], [3.3e-9, 8.2e-9]]
     below, above = e12.bracket(x)
@@ -237,9 +237,9 @@ def test_bracket_property(name, x):
 
 
 def test_contains_and_which_series():
-    # 4.7 is in E3..E24 (S22) and in E192 (4.70 = round(10**(129/192), 2), S24); not in E48/E96
+    # 4.7 is in E3..E24 (ref:iec-60063) and in E192 (4.70 = round(10**(129/192), 2), ref:e192-discrepancy-note); not in E48/E96
     assert which_series(4700.0) == ["E3", "E6", "E12", "E24", "E192"]
-    # 4.75 is an E96 value (S23), hence also E192 (E96 = every 2nd E192, S23)
+    # 4.75 is an E96 value (ref:g4usp-preferred-values), hence also E192 (E96 = every 2nd E192, ref:g4usp-preferred-values)
     assert which_series(4750.0) == ["E96", "E192"]
     assert which_series(4650.0) == []
     assert get_series("E24").contains(2.2e-9)
@@ -267,7 +267,7 @@ def test_pick_error_pct():
 
 @pytest.mark.parametrize(
     ("tolerance", "expected"),
-    # the coarsest series whose usual tolerance fits (facts.md S22, S26)
+    # the coarsest series whose usual tolerance fits (ref:iec-60063, ref:e-series-tolerances)
     [(50, "E3"), (20, "E6"), (10, "E12"), (5, "E24"), (3, "E48"), (2, "E48"), (1, "E96"),
      (0.5, "E192"), (0.1, "E192")],
 )

@@ -15,15 +15,15 @@ from pulsepick.request import make_request
 from pulsepick.series import get_series
 from pulsepick.solve import assess, solve
 
-# One E24 step is a factor 10^(1/24) = 1.10 (IEC 60063, facts.md S22): a pick is
+# One E24 step is a factor 10^(1/24) = 1.10 (IEC 60063, ref:iec-60063): a pick is
 # "within the series step" when it is within 10 % of the wanted figure.
 STEP = 0.10
 
 
 def test_bare_schmitt_reproduces_the_period_at_typical_hc_thresholds():
-    # 74HC1G14 at 4.5 V, typical VT+ 2.36 V and VT- 1.53 V (NXP, facts.md S1) in
-    # T = RC[ln((V-VT-)/(V-VT+)) + ln(VT+/VT-)] (onsemi MC14106B, facts.md S11) give
-    # T = 0.761 RC (facts.md check value 10).
+    # 74HC1G14 at 4.5 V, typical VT+ 2.36 V and VT- 1.53 V (NXP, ref:nxp-74hc1g14) in
+    # T = RC[ln((V-VT-)/(V-VT+)) + ln(VT+/VT-)] (onsemi MC14106B, ref:onsemi-mc14106b) give
+    # T = 0.761 RC (derived from ref:onsemi-mc14106b).
     req = make_request("one flash every 1 s", cores="schmitt", stages="direct", buffered=True,
                        supply="4.5V", family="hc", top=1)
     result = solve(req)
@@ -111,8 +111,8 @@ def test_flash_longer_than_period_gets_explanation_and_nearest():
 
 
 def test_white_led_on_1v8_cannot_be_offered():
-    # a white InGaN LED needs about 2.7 V at 0.1 mA (data/parts/leds.csv estimate; practice.md
-    # item 19: "a white LED takes more than 2.7 V to light")
+    # a white InGaN LED needs about 2.7 V at 0.1 mA (data/parts/leds.csv estimate;
+    # common practice: "a white LED takes more than 2.7 V to light")
     result = solve(make_request("one flash every 3 s", led="white", supply="1.8V",
                                 family="lvc,timer555", stages="direct"))
     assert not result.success
@@ -167,9 +167,9 @@ def test_led_current_limit_pulsed_and_unknown():
 
 
 def test_intensity_out_of_reach_explains_the_drive_limit():
-    # 200 mcd effective from a 40 ms flash: Ie = Ip*t/(0.2 s + t) (Blondel-Rey, facts.md
-    # S30) gives Ip = 200 * 0.24/0.04 = 1200 mcd; the white LED gives 4000 mcd at 20 mA
-    # (Cree LC513FWH1-60Q-A0, facts.md S53), 200 mcd/mA, so the peak needed is 6 mA
+    # 200 mcd effective from a 40 ms flash: Ie = Ip*t/(0.2 s + t) (Blondel-Rey,
+    # ref:ies-effective-intensity) gives Ip = 200 * 0.24/0.04 = 1200 mcd; the white LED gives 4000 mcd at 20 mA
+    # (Cree LC513FWH1-60Q-A0, ref:cree-lc513fwh1), 200 mcd/mA, so the peak needed is 6 mA
     result = solve(make_request(every="3s", flash="40ms", intensity="200mcd", led="white",
                                 cores="timer555", stages="direct", top=1))
     assert result.success
@@ -203,7 +203,7 @@ def test_long_period_keeps_a_leakage_margin_and_says_so():
     from pulsepick.solve import LEAK_MARGIN as SOLVER_MARGIN
     from pulsepick.solve import time_text
 
-    assert SOLVER_MARGIN == LEAK_MARGIN  # one figure (common practice, practice.md item 6)
+    assert SOLVER_MARGIN == LEAK_MARGIN  # one figure (common practice)
     result = solve(make_request("one flash every 30 min", top=3))
     assert result.success
     for c in result.candidates:
@@ -265,7 +265,7 @@ def test_time_text_reads_like_a_designer():
 
 def test_median_build_off_the_nominal_is_stated():
     # HC at 3 V: VT+ 1.45 / 1.598 / 2.15 V min / typ / max (data/parts/logic_thresholds.csv,
-    # NXP 74HC1G14, facts.md S1): the typical value sits near the minimum, so the builds'
+    # NXP 74HC1G14, ref:nxp-74hc1g14): the typical value sits near the minimum, so the builds'
     # median period moves off the nominal
     req = make_request("one flash every 3 s", family="hc", cores="schmitt-steered",
                        stages="direct", buffered=True, top=1, builds=400)
@@ -290,7 +290,7 @@ def test_measured_crossing_current_replaces_the_estimate():
 
 
 def test_supply_outside_every_chip_range():
-    # HC runs from 2.0 V (NXP 74HC1G14, facts.md S1)
+    # HC runs from 2.0 V (NXP 74HC1G14, ref:nxp-74hc1g14)
     result = solve(make_request("every 3 s", supply="1.8V", family="hc", stages="direct"))
     assert not result.success
     assert any("outside their supply range" in e for e in result.explanations)

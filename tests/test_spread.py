@@ -22,7 +22,7 @@ from pulsepick.parts.led import get_led
 
 
 def period_constant(vdd, vt_plus, vt_minus):
-    """k in T = k*R*C, rail-to-rail Schmitt RC oscillator (onsemi MC14106B, facts.md S11)."""
+    """k in T = k*R*C, rail-to-rail Schmitt RC oscillator (onsemi MC14106B, ref:onsemi-mc14106b)."""
     return math.log((vdd - vt_minus) / (vdd - vt_plus)) + math.log(vt_plus / vt_minus)
 
 
@@ -81,8 +81,8 @@ def test_hc_threshold_spread_alone_matches_guaranteed_k_range():
              timing_cap="c0g")
     res = spread(d, builds=4000, seed=11, vary=("chip_thresholds",))
     k_lo, k_hi = (x / (r * c) for x in res.corners["period_s"])
-    # Guaranteed k at 4.5 V with the hysteresis respected: 0.36-1.43 (practice.md section C,
-    # derived from NXP 74HC1G14 Table 7, facts.md S1): the extremes are
+    # Guaranteed k at 4.5 V with the hysteresis respected: 0.36-1.43 (common practice,
+    # derived from NXP 74HC1G14 Table 7, ref:nxp-74hc1g14): the extremes are
     # VT+ 2.4 / VT- 2.0 (VH 0.4 V at VT- max) and VT+ 2.3 / VT- 0.9 (VH 1.4 V at VT- min).
     k_min = period_constant(4.5, 2.4, 2.0)  # 0.357
     k_max = period_constant(4.5, 2.3, 0.9)  # 1.431
@@ -97,7 +97,7 @@ def test_hc_threshold_spread_alone_matches_guaranteed_k_range():
 
 
 def test_threshold_polygon_respects_hysteresis():
-    # NXP 74HC1G14 at 4.5 V (facts.md S1): VT+ 1.7-3.15, VT- 0.9-2.0, VH 0.4-1.4 V.
+    # NXP 74HC1G14 at 4.5 V (ref:nxp-74hc1g14): VT+ 1.7-3.15, VT- 0.9-2.0, VH 0.4-1.4 V.
     pts = threshold_polygon(1.7, 3.15, 0.9, 2.0, 0.4, 1.4)
     h = pts[:, 0] - pts[:, 1]
     assert np.all(h >= 0.4 - 1e-12) and np.all(h <= 1.4 + 1e-12)
@@ -109,8 +109,8 @@ def test_threshold_polygon_respects_hysteresis():
 
 
 def test_timer_ratio_corners_match_the_astable_formula():
-    # t = (RA+RB)C ln((1-trig)/(1-thr)) + RB C ln(thr/trig) (facts.md S21 with real levels;
-    # ratio limits 0.63-0.67 and 0.29-0.34 of VDD, Philips ICM7555, S20). RA is large
+    # t = (RA+RB)C ln((1-trig)/(1-thr)) + RB C ln(thr/trig) (ref:maplin-555-notes with real levels;
+    # ratio limits 0.63-0.67 and 0.29-0.34 of VDD, Philips ICM7555, ref:philips-icm7555). RA is large
     # enough that its current into the discharge switch barely lifts the discharge floor.
     ra, rb, c = 1e4, 1e6, 1e-6
     d = make("timer555", "direct", {"ra": ra, "rb": rb, "c1": c, "rs": 1e3}, "timer555", 5.0,
@@ -187,7 +187,7 @@ def test_shares_and_yield():
 
 
 def test_stalls_and_dark_fractions():
-    # a 555 at 1.6 V driving a white LED (VF 3.2 V typ, Cree, facts.md S53) never lights it
+    # a 555 at 1.6 V driving a white LED (VF 3.2 V typ, Cree, ref:cree-lc513fwh1) never lights it
     d = make("timer555", "direct", {"ra": 1e4, "rb": 1e6, "c1": 1e-6, "rs": 100}, "timer555",
              1.6, led="white")
     res = spread(d, builds=300, seed=0)
@@ -197,7 +197,7 @@ def test_stalls_and_dark_fractions():
 def test_tolerances_inferred_and_given():
     d = DESIGNS["timer555+direct"]
     tols = {t.name: t for t in part_tolerances(d)}
-    # 1 M, 22 k, 220 are E24 values: taken as 5 % parts (E24, facts.md S26)
+    # 1 M, 22 k, 220 are E24 values: taken as 5 % parts (E24, ref:e-series-tolerances)
     assert tols["ra"].tol_plus_pct == 5.0 and tols["rs"].tol_minus_pct == 5.0
     assert tols["c1"].tol_plus_pct == 10.0  # polyester film, usual 10 % (capacitor table)
     e96 = make("schmitt", "direct", {"r1": 4.75e6, "c1": 1e-6, "rs": 1e3}, "hc", 3.0)

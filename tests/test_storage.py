@@ -15,7 +15,7 @@ from pulsepick.parts.storage import (
 
 
 def test_maxwell_5f_row_matches_its_datasheet():
-    # Maxwell BCAP0005 P270 S01 datasheet (facts.md S38): 4.5-6.0 F, 8 uA max leakage,
+    # Maxwell BCAP0005 P270 S01 datasheet (ref:maxwell-bcap0005): 4.5-6.0 F, 8 uA max leakage,
     # surge 2.85 V, ESR 45 mOhm max, 2.7 V rated.
     cap = get_storage("5f-2v7")
     assert cap.capacitance_min_f == pytest.approx(4.5, rel=1e-9)
@@ -27,14 +27,14 @@ def test_maxwell_5f_row_matches_its_datasheet():
 
 
 def test_tolerances_and_ratings_of_other_rows():
-    # CAP-XX HY 10 F: 0 % / +20 %, 2.7 V (facts.md S39)
+    # CAP-XX HY 10 F: 0 % / +20 %, 2.7 V (ref:capxx-hy-10f)
     hy = get_storage("10f-2v7")
     assert (hy.tol_minus_pct, hy.tol_plus_pct, hy.v_rated_v) == (0.0, 20.0, 2.7)
     assert hy.v_surge_v is None
-    # Nichicon UK: +-20 %, 2.5 V (facts.md S40)
+    # Nichicon UK: +-20 %, 2.5 V (ref:nichicon-uk)
     uk = get_storage("1f-2v5")
     assert (uk.tol_minus_pct, uk.tol_plus_pct, uk.v_rated_v) == (20.0, 20.0, 2.5)
-    # 5.5 V coin stacks of two cells (facts.md S44)
+    # 5.5 V coin stacks of two cells (ref:panasonic-gold-cap)
     for key in ("0f22-5v5", "1f-5v5"):
         coin = get_storage(key)
         assert coin.v_rated_v == 5.5 and coin.cells_in_series == 2
@@ -60,11 +60,11 @@ def test_leakage_settles_to_its_level_and_scales_with_voltage():
     settled = cap.leakage_a(cap.v_rated_v, 1e9)  # long after charging
     assert settled == pytest.approx(cap.leak_settled_a, rel=1e-12)
     assert cap.leakage_a(cap.v_rated_v / 2, 1e9) == pytest.approx(cap.leak_settled_a / 2, rel=1e-12)
-    assert cap.leakage_a(cap.v_rated_v, 1e9, "max") == pytest.approx(8e-6, rel=1e-12)  # S38
+    assert cap.leakage_a(cap.v_rated_v, 1e9, "max") == pytest.approx(8e-6, rel=1e-12)  # ref:maxwell-bcap0005
 
 
 def test_leakage_falls_with_time_after_charging():
-    # Leakage decays after voltage is applied and then stabilises (facts.md S43).
+    # Leakage decays after voltage is applied and then stabilises (ref:chemicon-leakage-faq).
     cap = get_storage("1f-2v7")
     t = np.array([0.0, 600.0, 3600.0, 6 * 3600.0, 72 * 3600.0])
     leak = cap.leakage_a(2.7, t)
@@ -89,7 +89,7 @@ def test_unknown_leakage_level_is_refused():
 
 
 def test_energy_is_half_c_v_squared():
-    # E = C V^2 / 2, the energy of a capacitor (facts.md S44 context): 5 F at 2.7 V = 18.225 J.
+    # E = C V^2 / 2, the energy of a capacitor (ref:panasonic-gold-cap context): 5 F at 2.7 V = 18.225 J.
     assert get_storage("5f-2v7").energy_j(2.7) == pytest.approx(18.225, rel=1e-12)
 
 

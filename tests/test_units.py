@@ -30,18 +30,18 @@ from pulsepick.units import (
 @pytest.mark.parametrize(
     ("text", "expected"),
     [
-        # RKM check values, facts.md S27 (resistors) and S28 (2n2), check value 6
+        # RKM check values, ref:iec-60062-rkm (resistors) and ref:cap-tolerance-letters (2n2), check value 6
         ("4K7", 4700.0),
         ("R47", 0.47),
         ("47K3", 47300.0),
         ("4M7", 4.7e6),
         ("2n2", 2.2e-9),
-        # more RKM examples from facts.md S27: 4R7, 470R, 47K, 470K
+        # more RKM examples from ref:iec-60062-rkm: 4R7, 470R, 47K, 470K
         ("4R7", 4.7),
         ("470R", 470.0),
         ("47K", 47e3),
         ("470K", 470e3),
-        # capacitance examples that follow the S27 rule (facts.md section 5): 4n7, 4u7, 100n, p68
+        # capacitance examples that follow the RKM rule (ref:iec-60062-rkm): 4n7, 4u7, 100n, p68
         ("4n7", 4.7e-9),
         ("4u7", 4.7e-6),
         ("100n", 100e-9),
@@ -278,12 +278,12 @@ def test_format_eng_digits_and_micro_sign():
 @pytest.mark.parametrize(
     ("value", "kind", "expected"),
     [
-        # resistor codes (facts.md S27; kilo written k)
+        # resistor codes (ref:iec-60062-rkm; kilo written k)
         (0.47, "R", "R47"), (4.7, "R", "4R7"), (47.0, "R", "47R"), (470.0, "R", "470R"),
         (4700.0, "R", "4k7"), (47e3, "R", "47k"), (1e6, "R", "1M"), (2.2e6, "R", "2M2"),
         (10e6, "R", "10M"), (4750.0, "R", "4k75"), (47.3e3, "R", "47k3"), (1e9, "R", "1G"),
         (0.0, "R", "0R"),
-        # capacitor codes (facts.md S27, S28)
+        # capacitor codes (ref:iec-60062-rkm, ref:cap-tolerance-letters)
         (0.68e-12, "C", "p68"), (2.2e-12, "C", "2p2"), (100e-12, "C", "100p"),
         (2.2e-9, "C", "2n2"), (100e-9, "C", "100n"), (4.7e-6, "C", "4u7"), (22e-6, "C", "22u"),
         (1e-3, "C", "1m"), (0.22, "C", "220m"), (1.0, "C", "1F"), (4.7, "C", "4F7"),
@@ -309,10 +309,10 @@ def test_format_rkm_refuses(value, kind):
 
 
 def test_tolerance_letters():
-    # facts.md S28 (check value 7): F 1 %, G 2 %, J 5 %, K 10 %, M 20 %; B/C/D 0.1/0.25/0.5 %
+    # ref:cap-tolerance-letters (check value 7): F 1 %, G 2 %, J 5 %, K 10 %, M 20 %; B/C/D 0.1/0.25/0.5 %
     assert {k: TOLERANCE_LETTERS[k] for k in "FGJKM"} == {"F": 1, "G": 2, "J": 5, "K": 10, "M": 20}
     assert {k: TOLERANCE_LETTERS[k] for k in "BCD"} == {"B": 0.1, "C": 0.25, "D": 0.5}
-    # Z = +80/-20 % (facts.md S28)
+    # Z = +80/-20 % (ref:cap-tolerance-letters)
     assert TOLERANCE_Z == (20.0, 80.0)
     assert tolerance_letter(5) == "J"
     assert tolerance_letter(1.0) == "F"

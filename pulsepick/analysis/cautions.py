@@ -8,16 +8,16 @@ from __future__ import annotations
 
 from pulsepick.parts.storage import Storage
 
-# Cooper Bussmann PowerStor application guidelines (facts.md S41): over-voltage
+# Cooper Bussmann PowerStor application guidelines (ref:bussmann-powerstor-guide): over-voltage
 # reduces life; prolonged, it generates gas and may open the vent. SPSCAP safety
-# specification (facts.md S42): keep at or below the rated voltage.
+# specification (ref:spscap-safety): keep at or below the rated voltage.
 _OVER_VOLTAGE = (
     "{what} {v:.2f} V is above the storage rating {rated:.2f} V{surge}: over-voltage shortens a "
     "supercapacitor's life, and held for long it generates gas and can open the safety vent; "
     "keep it at or below the rated voltage (a shunt clamp or a higher-rated part)."
 )
 
-# SPSCAP safety specification (facts.md S42): series strings need balancing circuits.
+# SPSCAP safety specification (ref:spscap-safety): series strings need balancing circuits.
 SERIES_BALANCING = (
     "Two cells in series share voltage unevenly as their capacitance and leakage differ: "
     "a series string needs balancing (resistors or an active balancer) so that neither cell "
@@ -25,7 +25,7 @@ SERIES_BALANCING = (
 )
 
 # Common practice: a charged supercapacitor has a low ESR (tens of milliohms for a
-# 5 F cell, facts.md S38), so a short draws amps.
+# 5 F cell, ref:maxwell-bcap0005), so a short draws amps.
 POLARITY_AND_SHORTS = (
     "A charged supercapacitor can deliver amps into a short circuit and heat thin wires: "
     "check the polarity before connecting and keep the terminals covered."

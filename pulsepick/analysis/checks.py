@@ -2,8 +2,8 @@
 and the assumptions a report must state.
 
 Thresholds for the warnings follow practice: a leakage within a factor of ten of the
-charging current at the thresholds is flagged (common practice: practice.md item 6),
-a leakage-times-R error above 10 % of the hysteresis is flagged (practice.md item 5),
+charging current at the thresholds is flagged (common practice),
+a leakage-times-R error above 10 % of the hysteresis is flagged (common practice),
 and timing resistors above 10 MΩ are marked sensitive to board cleanliness and
 humidity (common practice).
 """

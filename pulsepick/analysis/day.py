@@ -17,8 +17,8 @@ leakage and the diode's reverse leakage) until dawn.
 
 References
 ----------
-Single-diode panel model and Voc against irradiance: facts.md S58. Shockley diode and its
-reverse leakage: pulsepick.parts.diode (facts.md S63, S64). Energy of a capacitor E = CV²/2.
+Single-diode panel model and Voc against irradiance: ref:solar-cell-voc-exercise. Shockley diode and its
+reverse leakage: pulsepick.parts.diode (ref:bat54, ref:1n4148). Energy of a capacitor E = CV²/2.
 """
 
 from __future__ import annotations

@@ -2,7 +2,7 @@
 
 On an unregulated store the supply falls from full at dusk to the end-of-night voltage,
 and with it the Schmitt thresholds, the gate's drive and the LED's current change
-(practice.md item 3). :func:`drift` evaluates the design at every supply step in ONE
+(common practice). :func:`drift` evaluates the design at every supply step in ONE
 vectorised fast-engine call, and finds exactly (by repeated subdivision of the
 bracketing step) the supply below which the LED goes dark and the one below which the
 chip leaves its supply range.
@@ -10,7 +10,7 @@ chip leaves its supply range.
 References
 ----------
 .. [1] Schmitt oscillator period against the thresholds at each supply: onsemi MC14106B
-   astable figure (facts.md S11) with the threshold tables (facts.md S1, S2, S6-S10).
+   astable figure (ref:onsemi-mc14106b) with the threshold tables (ref:nxp-74hc1g14, ref:onsemi-mc74hc14a, ref:onsemi-mc74vhc1g14 to ref:fairchild-cd40106bc).
 """
 
 from __future__ import annotations
@@ -26,7 +26,7 @@ from pulsepick.circuits.base import DARK, RUNS, STATUS_WORDS
 from pulsepick.design import Design
 from pulsepick.errors import RequestError
 
-#: Default supply step, V: a table every 0.1 V from full to end of night (practice.md item 3).
+#: Default supply step, V: a table every 0.1 V from full to end of night (common practice).
 DEFAULT_STEP_V = 0.1
 #: Each refinement pass evaluates this many points across the bracketing interval.
 _REFINE_POINTS = 64
@@ -181,7 +181,7 @@ def drift(design: Design, v_full: float, v_end: float, steps=None) -> DriftResul
     v_end : float
         Supply at the end of the night, V (below ``v_full``).
     steps : None, int or sequence of float
-        None: every 0.1 V (practice.md item 3); see :func:`supply_grid`.
+        None: every 0.1 V (common practice); see :func:`supply_grid`.
 
     Returns
     -------

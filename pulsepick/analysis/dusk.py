@@ -12,7 +12,7 @@ that holds the node at V is explicit in the single-diode model,
 
     IL = I + I0·(exp((V + I·Rs)/a) - 1) + (V + I·Rs)/Rsh,   I = V/R - I_pushed,
 
-and irradiance is proportional to IL (facts.md S58). Levels are turned into lux at about
+and irradiance is proportional to IL (ref:solar-cell-voc-exercise). Levels are turned into lux at about
 120 lx per W/m² (pulsepick.parts.panel; from memory, an estimate at dusk, whose spectrum
 differs from full sun).
 

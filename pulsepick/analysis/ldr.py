@@ -168,7 +168,7 @@ def ldr_rate(design: Design, network: LdrNetwork, *,
         f"{format_eng(network.ldr.r10_typ_ohm, 'Ω')}), gamma {network.ldr.gamma:g} "
         f"±{network.ldr.gamma_tol:g}, dark resistance at least "
         f"{format_eng(network.ldr.dark_min_ohm, 'Ω')}; {network.ldr.source}",
-        "R(E) = R10·(E/10 lux)^-gamma (the gamma definition, facts.md S60) with the dark "
+        "R(E) = R10·(E/10 lux)^-gamma (the gamma definition, ref:token-ldr-notes) with the dark "
         "resistance as a parallel leakage path; corners: low = lowest R10, gamma and the "
         "dark path at its minimum, high = highest R10 and gamma with no dark path",
         f"the power law is published for about {POWER_LAW_RANGE_LUX[0]:g} to "
@@ -176,7 +176,7 @@ def ldr_rate(design: Design, network: LdrNetwork, *,
         f"the photoresistor network takes the place of {param.upper()}; the chip's threshold "
         "spread and the other parts' tolerances come on top of these corners",
         "a CdS cell answers slowly: its dark resistance is specified 10 s after the light "
-        "goes (facts.md S61), so the rate follows the light with a lag",
+        "goes (ref:globe-cds-cell), so the rate follows the light with a lag",
     ]
     return LdrResult(
         design=design, network=network, param=param, lux=lux, resistance_ohm=res,
@@ -242,7 +242,7 @@ def _warnings(lux, per, stat, flash, supply, period_range_s, within, network) ->
         if span.size >= 2 and span.max() / span.min() > 100:
             out.append(
                 f"unclamped, the period spans a factor {span.max() / span.min():.0f} over the "
-                "light range (CdS cells span about three decades, practice.md item 27)")
+                "light range (CdS cells span about three decades, common practice)")
     return out
 
 

@@ -11,9 +11,9 @@ Lock risk
 ---------
 Oscillators on one package share its supply pin, ground and substrate, and two of them
 tuned near each other, or near a simple ratio, pull into step (injection locking; two
-oscillators on one chip "tend to self-synchronize", practice.md item 26). A pair is at risk
+oscillators on one chip "tend to self-synchronize", common practice). A pair is at risk
 when the ratio of its periods, shorter to longer, comes within ``margin`` (3 % by default,
-an estimate of "a few percent", practice.md item 26) of a simple ratio p:q with
+an estimate of "a few percent", common practice) of a simple ratio p:q with
 q <= 4 — 1:4, 1:3, 1:2, 2:3, 3:4, 1:1 — either at the nominal periods or anywhere in the
 pair's P5..P95 band.
 
@@ -57,7 +57,7 @@ from pulsepick.errors import RequestError
 #: Gates in a hex Schmitt package (common practice; the same figure as the parts list's).
 GATES_PER_PACKAGE = 6
 #: Margin around a simple ratio within which a pair is at lock risk, fraction. Estimate:
-#: "within a few percent" (practice.md item 26).
+#: "within a few percent" (common practice).
 DEFAULT_LOCK_MARGIN = 0.03
 #: Largest denominator of a simple ratio p/q (shorter over longer period).
 MAX_RATIO_Q = 4

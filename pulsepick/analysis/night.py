@@ -9,7 +9,7 @@ drain takes are integrated alongside the voltage.
 
 With constant currents this reduces to the backup-time formula
 ``T = C (V0 - V1) / (I + IL)`` (Panasonic Gold Capacitors technical guide,
-facts.md S44), which the tests check.
+ref:panasonic-gold-cap), which the tests check.
 """
 
 from __future__ import annotations
@@ -190,7 +190,7 @@ def simulate_night(
     load : the circuit's :class:`LoadCurve`, or None for a bare storage budget.
     extra_load_a : a fixed extra current, A (a dusk detector, a diode's reverse leakage).
     storage_leak_a : a fixed storage leakage, A, replacing the leakage model (as
-        ``IL`` in the backup-time formula, facts.md S44).
+        ``IL`` in the backup-time formula, ref:panasonic-gold-cap).
     stop_at_v : stop when the storage falls to this voltage, V. The load curve's
         own stop voltage applies too; a bare run without it runs down to 0 V.
     dusk : clock time of dusk, for "stops at HH:MM".
@@ -205,7 +205,7 @@ def simulate_night(
     References
     ----------
     Backup time T = C (V0 - V1) / (I + IL) and the energy E = C V^2 / 2: Panasonic
-    Gold Capacitors technical guide (facts.md S44).
+    Gold Capacitors technical guide (ref:panasonic-gold-cap).
     """
     _check_inputs(storage, v_start_v, duration_s, extra_load_a, storage_leak_a, stop_at_v,
                   t_since_charge_s, capacitance_f, leak_level)
@@ -329,7 +329,7 @@ def simulate_night(
     else:
         reason = f"the storage reaches the stop voltage {v_stop:.2f} V"
 
-    usable = 1.0 - (v_end / v_start_v) ** 2  # E = C V^2 / 2 (facts.md S44)
+    usable = 1.0 - (v_end / v_start_v) ** 2  # E = C V^2 / 2 (ref:panasonic-gold-cap)
     energy_used = float(storage.energy_j(v_start_v, c) - storage.energy_j(v_end, c))
     result_charges = state_end[2:5]
 

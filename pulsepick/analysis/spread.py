@@ -20,7 +20,7 @@ and one given as min/typ/max is triangular with its mode at the typical value, s
 Monte Carlo's median stays near the figures a designer computes from typical values):
 
 * resistors: uniform within the tolerance of their series (E12 10 %, E24 5 %, E96 1 %;
-  facts.md S22, S26); each resistor drawn on its own;
+  ref:iec-60063, ref:e-series-tolerances); each resistor drawn on its own;
 * capacitors: uniform within the (possibly asymmetric) tolerance of their kind
   (``data/parts/capacitor_kinds.csv``); each capacitor drawn on its own;
 * temperature: one ambient temperature per build, uniform over the outdoor range, the
@@ -30,7 +30,7 @@ Monte Carlo's median stays near the figures a designer computes from typical val
   tempco drawn per part within +/-``RESISTOR_TEMPCO_PPM_PER_K`` (estimate);
 * chip thresholds: ONE draw per build for the whole package (gates of one package move
   together). VT+ and VT- are each triangular (min, typ, max) from the datasheet at the
-  build's supply, restricted to the hysteresis window VH min..max (practice.md item 2:
+  build's supply, restricted to the hysteresis window VH min..max (common practice:
   limits taken independently would overstate the spread). The limits in our tables hold
   over the datasheet's temperature range, so the thresholds' own temperature drift is
   inside this draw. For the CMOS 555 the threshold and trigger ratios are triangular
@@ -44,10 +44,10 @@ and the growth of leakage with temperature.
 
 References
 ----------
-.. [1] IEC 60063 series tolerances (facts.md S22, S26).
-.. [2] NXP 74HC1G14 Table 7 (facts.md S1) and the other threshold tables, via
+.. [1] IEC 60063 series tolerances (ref:iec-60063, ref:e-series-tolerances).
+.. [2] NXP 74HC1G14 Table 7 (ref:nxp-74hc1g14) and the other threshold tables, via
    ``data/parts/logic_thresholds.csv``; CMOS 555 ratios via ``data/parts/timers.csv``.
-.. [3] Capacitor kinds: ``data/parts/capacitor_kinds.csv`` (facts.md S46-S49).
+.. [3] Capacitor kinds: ``data/parts/capacitor_kinds.csv`` (ref:holystone-mlcc to ref:maxim-an5527).
 """
 
 from __future__ import annotations
@@ -186,7 +186,7 @@ def part_tolerances(design: Design, resistor_tol_pct=None, cap_tol=None
     resistor_tol_pct : None, float or mapping name -> float
         Percent. None infers each resistor's series from its value: a value in E24 (so
         also every E12/E6 value) is a 5 % part, one found only in E48/E96/E192 takes
-        that series' tolerance (facts.md S26); a value in no series is taken as 5 %.
+        that series' tolerance (ref:e-series-tolerances); a value in no series is taken as 5 %.
     cap_tol : None, float, (minus, plus) or mapping name -> either
         Percent. None takes the usual tolerance of each capacitor's kind.
     """
@@ -282,7 +282,7 @@ def threshold_polygon(p_lo, p_hi, m_lo, m_hi, h_lo, h_hi) -> np.ndarray:
     """Vertices (VT+, VT-) of the box of threshold limits cut by the hysteresis window, V.
 
     The region ``p_lo <= VT+ <= p_hi``, ``m_lo <= VT- <= m_hi`` and
-    ``h_lo <= VT+ - VT- <= h_hi`` (practice.md item 2), as a counter-clockwise
+    ``h_lo <= VT+ - VT- <= h_hi`` (common practice), as a counter-clockwise
     polygon of shape (k, 2). Raises ``PartError`` when the limits leave no room.
     """
     poly = [(p_lo, m_lo), (p_hi, m_lo), (p_hi, m_hi), (p_lo, m_hi)]
@@ -335,7 +335,7 @@ def _polygon_corner_points(pts: np.ndarray, vdd: float, h_lo: float, h_hi: float
     """The polygon's vertices plus points along its hysteresis-limited edges.
 
     Along an edge VT+ - VT- = h the period of a Schmitt core is smallest near
-    VT+ = (VDD + h)/2 (from the period formula, facts.md section 2), inside the edge,
+    VT+ = (VDD + h)/2 (from the period formula, ref:onsemi-mc14106b), inside the edge,
     so the edge is sampled and that point added.
     """
     out = [pts]
@@ -1044,11 +1044,11 @@ def linearised(design: Design, *, temp_range_c: tuple[float, float] = DEFAULT_TE
 # ----------------------------------------------------------------------- tolerance bands
 
 #: Resistor series compared by :func:`tolerance_bands` (tolerances from the series table:
-#: E12 10 %, E24 5 %, E96 1 %, facts.md S26).
+#: E12 10 %, E24 5 %, E96 1 %, ref:e-series-tolerances).
 BAND_SERIES = ("E12", "E24", "E96")
 #: Timing-capacitor classes compared: (kind key, tolerance %). 20 % electrolytic
-#: (practice.md item 7), 10 % X7R (K), 5 % film (J) and 2 % C0G (G): tolerance letters of
-#: IEC 60062 (facts.md S28); the pairing of kind and tolerance is common practice.
+#: (common practice), 10 % X7R (K), 5 % film (J) and 2 % C0G (G): tolerance letters of
+#: IEC 60062 (ref:cap-tolerance-letters); the pairing of kind and tolerance is common practice.
 #: "film" takes the design's own film kind, or polyester when C1 is not film.
 BAND_CAP_CLASSES = (("electrolytic", 20.0), ("x7r", 10.0), ("film", 5.0), ("c0g", 2.0))
 

@@ -22,7 +22,7 @@ Level = Literal["high", "low"]
 
 #: Effective-intensity time constant a, in seconds, for night-time observation:
 #: Schmidt-Clausen form-factor method, C = 0.2 s at night (Gigahertz-Optik pulse
-#: measurement tutorial, facts.md S33); also the conventional Blondel-Rey constant (S30, S31).
+#: measurement tutorial, ref:gigahertz-pulse); also the conventional Blondel-Rey constant (ref:ies-effective-intensity, ref:iala-blondel-rey).
 EFFECTIVE_A_S = 0.2
 
 # Status codes carried per candidate by the engines.
@@ -313,10 +313,10 @@ def effective_current(peak_a: Any, charge_c: Any, a_s: float = EFFECTIVE_A_S) ->
 
     ``Ie = Ip*Q / (a*Ip + Q)`` with the flash's charge Q = integral of I dt and peak
     Ip. For a rectangular flash of length t, Q = Ip*t and this is the Blondel-Rey
-    law ``Ie = Ip*t/(a + t)`` (IES definition of effective intensity, facts.md S30).
+    law ``Ie = Ip*t/(a + t)`` (IES definition of effective intensity, ref:ies-effective-intensity).
     The form-factor method with a = 0.2 s for night-time observation follows the
-    Schmidt-Clausen method (Gigahertz-Optik tutorial, facts.md S33; the closed form
-    itself is from memory, facts.md section 6).
+    Schmidt-Clausen method (Gigahertz-Optik tutorial, ref:gigahertz-pulse; the closed form
+    itself is from memory, ref:iala-blondel-rey).
     """
     peak = np.asarray(peak_a, dtype=float)
     q = np.asarray(charge_c, dtype=float)

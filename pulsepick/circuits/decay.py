@@ -8,7 +8,7 @@ C·dV = I·dt, the time to fall from I_1 to I_2 is exact in closed form:
     t = C·[R_t·ln(I_1/I_2) + (n·V_T/I_s)·(ln(1 + I_s/I_2) − ln(1 + I_s/I_1))]
 
 (integrating dt = C·V_tot'(I)·dI / I; handbook calculus on the Shockley diode law,
-facts.md S50). This serves the pulse stage (flash and reset) and the fade stage
+ref:ideality-factor-glossary). This serves the pulse stage (flash and reset) and the fade stage
 (fade of the hold capacitor), so those need no time stepping.
 """
 

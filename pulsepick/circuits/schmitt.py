@@ -5,7 +5,7 @@ C1 discharges from VT+ to VT-. With a rail-to-rail output and no leakage:
 
     t_high = R1·C1·ln((V − VT−)/(V − VT+)),   t_low = R1·C1·ln(VT+/VT−)
 
-(onsemi MC14106B datasheet, astable multivibrator figure; facts.md S11). Here the
+(onsemi MC14106B datasheet, astable multivibrator figure; ref:onsemi-mc14106b). Here the
 output is a Thevenin source (the gate's output resistance, shifted by the LED stage
 when the stage hangs on this same output), and the capacitor's leakage and the
 input pin's leakage are included exactly in the first-order solution.

@@ -6,7 +6,7 @@ until the trigger comparator trips (about 1/3). With ideal 1/3 and 2/3 levels:
 
     t_high = ln2·(RA + RB)·C,   t_low = ln2·RB·C
 
-(facts.md S21; the switch resistance adds to RB, TLC555-Q1 datasheet, S19). Here the
+(ref:maplin-555-notes; the switch resistance adds to RB, TLC555-Q1 datasheet, ref:ti-tlc555-q1). Here the
 actual threshold and trigger levels (with their spread), the discharge switch
 resistance, the current RA wastes into the switch during the low phase, and the
 capacitor and pin leakage are included. The output pin is separate from the timing

@@ -274,7 +274,7 @@ def render(console, result: BandsResult) -> None:
 def _period_part(design) -> str:
     """The resistor that sets most of the period, named as on the board.
 
-    555 astable: t = ln2·(RA + 2·RB)·C (facts.md S21), so RA when RA > 2·RB, else RB.
+    555 astable: t = ln2·(RA + 2·RB)·C (ref:maplin-555-notes), so RA when RA > 2·RB, else RB.
     Schmitt cores: R1, the timing resistor.
     """
     if design.chip.is_timer:

@@ -27,7 +27,7 @@ VALUE_OPTIONS = {
 }
 
 #: Accepted LED ideality factors: 1 < n < 2 for most diodes, up to about 5 in LED
-#: models (photonica glossary, facts.md S50; Light & Engineering 28-5, S51), with margin.
+#: models (photonica glossary, ref:ideality-factor-glossary; Light & Engineering 28-5, ref:light-eng-28-5), with margin.
 LED_N_RANGE = (0.5, 10.0)
 
 DEFAULT_TIMING_CAP = "film-pet"

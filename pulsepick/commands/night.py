@@ -60,7 +60,7 @@ TURN_ON_CHOICES = ("civil", "sunset")
 _MAX_NIGHT_S = 24 * 3600.0  # a night is at most a day long
 SUPPLY_STEP_V = 0.01  # grid step of the load curve, V (the light's stop voltage resolution)
 SUPPLY_GRID_LOW_V = 0.8  # lowest grid supply, V: below any LED or logic chip in the tables
-# the common single-cell rating (Maxwell BCAP0005, CAP-XX HY: facts.md S38/S39)
+# the common single-cell rating (Maxwell BCAP0005, CAP-XX HY: ref:maxwell-bcap0005/ref:capxx-hy-10f)
 CROSS_CURRENT_EXAMPLE = "--cross-current 15uA"  # option syntax only, not a figure
 NO_DUSK_DETECTOR = ("no dusk detector load included (describe it with --dusk-bleed and the "
                     "panel options, or add its bias from pulsepick dusk with --extra-load)")

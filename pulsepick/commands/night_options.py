@@ -69,7 +69,7 @@ def given_note(storage: Storage, rated_given: bool) -> str:
 
     rating = (f"rating {storage.v_rated_v:g} V given by the user" if rated_given
               else f"rating {storage.v_rated_v:g} V by default (the common single-cell rating, "
-                   "facts.md S38/S39; --rated sets it)")
+                   "ref:maxwell-bcap0005/ref:capxx-hy-10f; --rated sets it)")
     return (f"capacitance {format_eng(storage.capacitance_f, 'F')} given by the user; {rating}; "
             "tolerance taken as 0 (by default)")
 

@@ -51,7 +51,7 @@ _KIND = {
     "C": {"unit": "F", "key": "value_f", "parse": "F", "noun": "capacitor"},
 }
 # Colour codes shown when decoding a resistor: (tolerance %, which parts carry it).
-# 5 % parts come in E6..E24, 1 % parts in E48..E192 (facts.md S22, S26, S29).
+# 5 % parts come in E6..E24, 1 % parts in E48..E192 (ref:iec-60063, ref:e-series-tolerances, ref:iec-60062-colour).
 _COLOUR_CODES = ((5.0, ("E6", "E12", "E24")), (1.0, ("E48", "E96", "E192")))
 
 
@@ -192,7 +192,7 @@ def _show_series(series: Series, as_json: bool) -> int:
     console.print(f"source: {series.source}", markup=False)
     console.print("mantissas of one decade (a part value is mantissa x 10^k):", markup=False)
     per_row = min(12, len(series))
-    # E3..E24 are published with one decimal, E48..E192 with two (facts.md S22, S23)
+    # E3..E24 are published with one decimal, E48..E192 with two (ref:iec-60063, ref:g4usp-preferred-values)
     decimals = 1 if all(abs(m * 10 - round(m * 10)) < 1e-9 for m in series.mantissas) else 2
     rows = []
     for start in range(0, len(series), per_row):

@@ -13,11 +13,11 @@ the electrolytic "0.01*C*V or a floor" limit or an insulation resistance.
 
 References
 ----------
-.. [1] Holy Stone MLCC "General Introduction" (EIA codes, aging), facts.md S46.
-.. [2] TDK FAQ "Temperature characteristics guide (3)", facts.md S47.
-.. [3] MLCC DC-bias articles (Murata examples; Maxim AN5527), facts.md S49.
-.. [4] United Chemi-Con leakage specification as quoted in facts.md S45;
-   Nippon Chemi-Con FAQ on leakage against time, S43.
+.. [1] Holy Stone MLCC "General Introduction" (EIA codes, aging), ref:holystone-mlcc.
+.. [2] TDK FAQ "Temperature characteristics guide (3)", ref:tdk-tempchar-faq.
+.. [3] MLCC DC-bias articles (Murata examples; Maxim AN5527), ref:maxim-an5527.
+.. [4] United Chemi-Con leakage specification as quoted in ref:electrolytic-leakage-spec;
+   Nippon Chemi-Con FAQ on leakage against time, ref:chemicon-leakage-faq.
 """
 
 from __future__ import annotations
@@ -165,7 +165,7 @@ class CapacitorKind:
 
         "cv" kinds: the limit at rated voltage is
         max(k*C[uF]*V_rated[V] uA, floor) (electrolytic: k = 0.01, floor 3 uA,
-        facts.md S45); "typ" is ``leak_typ_factor`` * k*C*V_rated without the
+        ref:electrolytic-leakage-spec); "typ" is ``leak_typ_factor`` * k*C*V_rated without the
         floor (estimate: the settled leakage of a real part scales with C*V).
         "ir" kinds: v / min(leak_ir_ohm, leak_ir_rc_s / C), "typ" scaled by
         ``leak_typ_factor``. Both scale linearly with v/v_rated (negative v

@@ -10,8 +10,8 @@ current. Leakage rises steeply with temperature; that is not modelled here.
 
 References
 ----------
-.. [1] BAT54 datasheets (Diotech, Formosa, Rectron), facts.md S63.
-.. [2] Wikipedia "1N4148 signal diode"; PanJit 1N4148W datasheet, facts.md S64.
+.. [1] BAT54 datasheets (Diotech, Formosa, Rectron), ref:bat54.
+.. [2] Wikipedia "1N4148 signal diode"; PanJit 1N4148W datasheet, ref:1n4148.
 """
 
 from __future__ import annotations

@@ -16,7 +16,7 @@ No reverse breakdown is modelled: at negative voltage the current tends to
 
 References
 ----------
-.. [1] photonica.io glossary "Ideality factor" (diode law and slopes; facts.md S50).
+.. [1] photonica.io glossary "Ideality factor" (diode law and slopes; ref:ideality-factor-glossary).
 .. [2] R. M. Corless et al., "On the Lambert W function", Adv. Comput. Math. 5 (1996)
    (the closed form of the diode-plus-resistor equation; textbook result).
 .. [3] SI 2019 exact values of k and e (pulsepick.physconst; checked against
@@ -63,7 +63,7 @@ def thermal_voltage(temperature_k: float = 300.0) -> float:
 
 
 # k*T/q at 300 K from the exact SI constants (= scipy.constants, CODATA 2018):
-# 25.85 mV (facts.md section 8, derived).
+# 25.85 mV (derived from ref:codata-2018).
 THERMAL_VOLTAGE_300K = thermal_voltage(300.0)
 
 

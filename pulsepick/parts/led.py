@@ -7,15 +7,15 @@ so the voltage at 1 mA and below looks like real parts (a white LED needs about
 2.7 V for 0.1 mA; a blue LED still glows at about 2.3 V and 0.2 uA).
 
 Luminous intensity is taken proportional to current (datasheets plot relative
-intensity against current on a near-linear axis, facts.md S57). Real LEDs are
+intensity against current on a near-linear axis, ref:avago-hlma-sh05). Real LEDs are
 sub-linear at high current and super-linear at very low current; that is from
 memory and not modelled.
 
 References
 ----------
-.. [1] 5 mm LED catalogue table (facts.md S52); Cree LC513FWH1-60Q-A0 (S53);
-   R&D 135-00123 (S54); Broadcom HSMx-A46x Tables 3-4 (S55).
-.. [2] Avago HLMA-SH05 Figure 3, relative intensity against current (facts.md S57).
+.. [1] 5 mm LED catalogue table (ref:led-5mm-catalogue); Cree LC513FWH1-60Q-A0 (ref:cree-lc513fwh1);
+   R&D 135-00123 (ref:rnd-135-00123); Broadcom HSMx-A46x Tables 3-4 (ref:broadcom-hsmx-a46x).
+.. [2] Avago HLMA-SH05 Figure 3, relative intensity against current (ref:avago-hlma-sh05).
 """
 
 from __future__ import annotations

@@ -7,7 +7,7 @@ an engine can evaluate millions of candidates, or one supply swept through a
 night, in one call.
 
 The thresholds set the period of a Schmitt RC oscillator; with the output
-swinging rail to rail (onsemi MC14106B astable, facts.md S11):
+swinging rail to rail (onsemi MC14106B astable, ref:onsemi-mc14106b):
 
     T = R*C*[ln((VDD - VT-)/(VDD - VT+)) + ln(VT+/VT-)].
 
@@ -16,14 +16,14 @@ number, and are labelled so in the table: the extra supply current while the
 input sits between the rails (square-law shoot-through) and how the output
 resistance grows at low supply. Typical input leakage is also an estimate: the
 datasheets guarantee only a maximum, orders of magnitude above real parts
-(practice.md item 5).
+(common practice).
 
 References
 ----------
-.. [1] NXP 74HC1G14 Table 7 (facts.md S1); onsemi MC74HC14A (S2).
-.. [2] onsemi MC74VHC1G14 (facts.md S6); NXP 74LVC3G17 Table 11 (S7).
-.. [3] UTC CD40106 (facts.md S8); TI CD40106B SCHS097F (S9); Fairchild CD40106BC (S10).
-.. [4] onsemi MM74HC04 DC characteristics (facts.md S12).
+.. [1] NXP 74HC1G14 Table 7 (ref:nxp-74hc1g14); onsemi MC74HC14A (ref:onsemi-mc74hc14a).
+.. [2] onsemi MC74VHC1G14 (ref:onsemi-mc74vhc1g14); NXP 74LVC3G17 Table 11 (ref:nxp-74lvc3g17).
+.. [3] UTC CD40106 (ref:utc-cd40106); TI CD40106B SCHS097F (ref:ti-cd40106b); Fairchild CD40106BC (ref:fairchild-cd40106bc).
+.. [4] onsemi MM74HC04 DC characteristics (ref:onsemi-mm74hc04).
 """
 
 from __future__ import annotations

@@ -4,10 +4,10 @@ The panel is ``cells`` identical cells in series, modelled as one equivalent dio
 
     I = IL - I0·(exp((V + I·Rs)/a) - 1) - (V + I·Rs)/Rsh,   a = cells·n·k·T/q
 
-(single-diode model, facts.md S58; the series and shunt resistances are the usual full form).
-The photocurrent IL is proportional to irradiance (facts.md S58); the saturation current I0 and
+(single-diode model, ref:solar-cell-voc-exercise; the series and shunt resistances are the usual full form).
+The photocurrent IL is proportional to irradiance (ref:solar-cell-voc-exercise); the saturation current I0 and
 the resistances do not depend on light, so the open-circuit voltage rises by
-``n·k·T/q·ln(10)`` per decade of irradiance per cell (facts.md S58).
+``n·k·T/q·ln(10)`` per decade of irradiance per cell (ref:solar-cell-voc-exercise).
 
 IL and I0 are fixed by two points of the rated curve at 1000 W/m²: I = Isc at V = 0 and I = 0 at
 V = Voc. The current at a voltage is solved exactly with the Lambert W function (the explicit
@@ -83,7 +83,7 @@ def open_circuit_voltage(photocurrent_a, saturation_current_a: float, diode_volt
     Returns
     -------
     float or array
-        Voc (V). Without a shunt it is a·ln(1 + IL/I0) (facts.md S58).
+        Voc (V). Without a shunt it is a·ln(1 + IL/I0) (ref:solar-cell-voc-exercise).
 
     Notes
     -----
@@ -175,7 +175,7 @@ class PanelModel:
         return self._i0
 
     def photocurrent(self, irradiance_w_m2):
-        """IL (A) at an irradiance (W/m²): proportional to irradiance (facts.md S58)."""
+        """IL (A) at an irradiance (W/m²): proportional to irradiance (ref:solar-cell-voc-exercise)."""
         g = np.asarray(irradiance_w_m2, dtype=float)
         il = self._il_ref * np.maximum(g, 0.0) / RATED_IRRADIANCE_W_M2
         return float(il) if il.ndim == 0 else il

@@ -3,14 +3,14 @@
 Between about 1 and 1000 lux a CdS cell follows a power law. Its maker's *gamma* is
 defined from the resistances at 10 and 100 lux (2854 K light, after pre-illumination),
 
-    gamma = log10(R10 / R100)                       (Token technical notes, facts.md S60, S61)
+    gamma = log10(R10 / R100)                       (Token technical notes, ref:token-ldr-notes, ref:globe-cds-cell)
 
 and so, for any light level E (lux),
 
-    R(E) = R10 · (E / 10 lux)^(-gamma)              (derived from the definition, facts.md §10)
+    R(E) = R10 · (E / 10 lux)^(-gamma)              (derived from the definition, ref:token-ldr-notes)
 
 The power law runs off to infinity in the dark, but a real cell does not: its *dark
-resistance* (measured 10 s after the light is removed, S61) is finite and is published only
+resistance* (measured 10 s after the light is removed, ref:globe-cds-cell) is finite and is published only
 as a minimum. We model it as a leakage conductance in parallel with the power law,
 
     1/R(E) = 1/(R10 · (E/10)^(-gamma)) + 1/R_dark,
@@ -19,13 +19,13 @@ which leaves the power law unchanged (within 1 %) wherever it is below a hundred
 dark resistance and tends to R_dark in the dark. Below about 1 lux this is an extrapolation
 (estimate); the tool says so wherever it shows such light levels.
 
-Tolerance corners: R10 spans its published range, gamma its +/-0.1 tolerance (S60, S61), and
+Tolerance corners: R10 spans its published range, gamma its +/-0.1 tolerance (ref:token-ldr-notes, ref:globe-cds-cell), and
 the dark path is either at its published minimum (the low corner) or absent (the high corner:
 no maximum is published). The typical cell takes the geometric middle of the R10 range
 (estimate) with the published minimum dark resistance.
 
 Types GL5506..GL5539 are in ``data/parts/photoresistors.csv`` (R10 and dark resistance from
-the compiled GL55xx table, facts.md S62; gamma per type from memory, labelled there).
+the compiled GL55xx table, ref:gl55xx-table; gamma per type from memory, labelled there).
 """
 
 from __future__ import annotations
@@ -41,16 +41,16 @@ from pulsepick.errors import PartError
 from pulsepick.tables import load_table
 
 _TABLE = "parts/photoresistors.csv"
-#: The light level R10 is specified at, lux (facts.md S60).
+#: The light level R10 is specified at, lux (ref:token-ldr-notes).
 REFERENCE_LUX = 10.0
-#: The range where the published power law is taken to hold, lux (facts.md section 10).
+#: The range where the published power law is taken to hold, lux (ref:token-ldr-notes).
 POWER_LAW_RANGE_LUX = (1.0, 1000.0)
 Corner = Literal["low", "typ", "high"]
 CORNERS: tuple[str, ...] = ("low", "typ", "high")
 
 
 def power_law_resistance(lux, r10_ohm: float, gamma: float):
-    """R(E) = R10·(E/10 lux)^(-gamma), ohm (the gamma definition, facts.md S60).
+    """R(E) = R10·(E/10 lux)^(-gamma), ohm (the gamma definition, ref:token-ldr-notes).
 
     Examples
     --------
@@ -63,7 +63,7 @@ def power_law_resistance(lux, r10_ohm: float, gamma: float):
 
 
 def gamma_from_points(r10_ohm: float, r100_ohm: float) -> float:
-    """gamma = log10(R10/R100) from the resistances at 10 and 100 lux (facts.md S60)."""
+    """gamma = log10(R10/R100) from the resistances at 10 and 100 lux (ref:token-ldr-notes)."""
     if not (r10_ohm > 0 and r100_ohm > 0):
         raise PartError(f"R10 {r10_ohm!r} and R100 {r100_ohm!r} ohm must both be above 0")
     return math.log10(r10_ohm / r100_ohm)

@@ -5,7 +5,7 @@ voltage, an ESR and a leakage current. Leakage is the part that surprises
 builders: datasheets give a maximum measured after their own settling time,
 while a cell held at voltage for days settles far lower (about 1 uA against a
 30 uA specification, practice notes item 12). Right after charging it is higher
-and falls towards the settled level (Nippon Chemi-Con FAQ, facts.md S43); the
+and falls towards the settled level (Nippon Chemi-Con FAQ, ref:chemicon-leakage-faq); the
 model below uses an initial multiple that decays exponentially (estimate).
 
 The parts are rows of ``data/parts/supercaps.csv``; each row names its sources.
@@ -102,7 +102,7 @@ class Storage:
         Scales linearly with ``v / v_rated`` (estimate: leakage is specified at
         the rated voltage) and falls from ``leak_initial_multiple`` times the
         level towards the level with time constant ``leak_decay_s`` (estimate of
-        the decay described in facts.md S43). ``which`` picks the level:
+        the decay described in ref:chemicon-leakage-faq). ``which`` picks the level:
         ``"settled"`` (typical after days) or ``"max"`` (datasheet maximum).
         Vectorised over ``v`` and ``t_since_charge_s``.
         """
@@ -191,14 +191,14 @@ def custom_storage(
     balanced: bool | None = None,
 ) -> Storage:
     """A storage part from a bare capacitance (F) and rating (V; 2.7 V is the common
-    single-cell rating, facts.md S38/S39).
+    single-cell rating, ref:maxwell-bcap0005/ref:capxx-hy-10f).
 
     Without ``leak_a`` (A at the rated voltage) the leakage levels of the table's
     generic 1 F 2.7 V cell are scaled in proportion to the capacitance (leakage
-    specifications proportional to C, as in facts.md S40; estimate) and so is its
+    specifications proportional to C, as in ref:nichicon-uk; estimate) and so is its
     ESR, inversely (estimate). With ``leak_a`` that value is both the settled
     and the maximum level. ``balanced`` defaults to True for one cell and False
-    for two (a series pair needs balancing, facts.md S42).
+    for two (a series pair needs balancing, ref:spscap-safety).
     """
     if not (np.isfinite(capacitance_f) and capacitance_f > 0):
         raise PartError(

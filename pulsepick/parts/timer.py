@@ -2,9 +2,9 @@
 
 In astable use the timing capacitor swings between the trigger level (about
 VDD/3) and the threshold level (about 2*VDD/3), charging through RA + RB and
-discharging through RB and the discharge switch (LMC555, facts.md S17; TLC555-Q1,
-S19). With the typical ratios both half-periods carry the factor ln 2
-(bipolar 555 text, S21); with real ratios
+discharging through RB and the discharge switch (LMC555, ref:ti-lmc555; TLC555-Q1,
+ref:ti-tlc555-q1). With the typical ratios both half-periods carry the factor ln 2
+(bipolar 555 text, ref:maplin-555-notes); with real ratios
 
     t_high = (RA + RB)*C*ln((1 - trig)/(1 - thr)),   t_low = RB*C*ln(thr/trig).
 
@@ -14,9 +14,9 @@ the spread of the period.
 
 References
 ----------
-.. [1] TI/National "LMC555 CMOS Timer" (facts.md S17).
-.. [2] TI "TLC555 LinCMOS Timers" SLFS043 (facts.md S18).
-.. [3] Philips "ICM7555 General purpose CMOS timer" (facts.md S20).
+.. [1] TI/National "LMC555 CMOS Timer" (ref:ti-lmc555).
+.. [2] TI "TLC555 LinCMOS Timers" SLFS043 (ref:ti-tlc555).
+.. [3] Philips "ICM7555 General purpose CMOS timer" (ref:philips-icm7555).
 """
 
 from __future__ import annotations
@@ -85,7 +85,7 @@ class TimerModel:
         """Supply current (A) at supply ``vdd`` (V, scalar or array), output unloaded.
 
         Linear interpolation between the published supplies (LMC555 at 1.5, 5 and
-        12 V, facts.md S17; no figure exists between them, e.g. at 3 V, so the
+        12 V, ref:ti-lmc555; no figure exists between them, e.g. at 3 V, so the
         straight line is an assumption). Above the last point the last segment is
         extended; below the first point the current falls in proportion to the
         supply, reaching 0 A at 0 V.
