@@ -1,5 +1,7 @@
 """Allow ``python -m pulsepick``."""
 
-from pulsepick.cli import run
+import sys
 
-run()
+from pulsepick.cli import main
+
+sys.exit(main())

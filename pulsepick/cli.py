@@ -10,8 +10,11 @@ from __future__ import annotations
 import argparse
 import importlib
 import os
+import signal
 import sys
+import threading
 import traceback
+import warnings
 from types import ModuleType
 
 from pulsepick import __version__
@@ -21,6 +24,7 @@ from pulsepick.errors import PulsepickError
 EXIT_OK = 0
 EXIT_BUG = 1
 EXIT_BAD_INPUT = 2
+EXIT_INTERRUPTED = 130  # 128 + SIGINT, as shells report Ctrl-C
 
 DESCRIPTION = (
     "pulsepick turns a wanted LED blink (how often, how long, how bright) into standard "
@@ -96,10 +100,97 @@ def build_parser(selected: str | None = None) -> argparse.ArgumentParser:
     return parser
 
 
+def _warnings_are_errors() -> bool:
+    """Whether the caller (a test run) turned warnings into errors."""
+    return any(f[0] == "error" for f in warnings.filters)
+
+
+class _Stopped(BaseException):
+    """A termination signal (SIGTERM, SIGHUP) arrived: leave as Ctrl-C does."""
+
+    def __init__(self, signum: int) -> None:
+        super().__init__(signum)
+        self.signum = signum
+
+
+def _raise_stopped(signum, frame) -> None:
+    raise _Stopped(signum)
+
+
+def _install_signals() -> dict:
+    """SIGTERM and SIGHUP raise :class:`_Stopped` in the main thread, so the worker
+    pools are killed on the way out; the previous handlers are returned."""
+    old: dict = {}
+    if threading.current_thread() is not threading.main_thread():
+        return old
+    for name in ("SIGTERM", "SIGHUP"):
+        sig = getattr(signal, name, None)
+        if sig is not None:
+            old[sig] = signal.signal(sig, _raise_stopped)
+    if signal.getsignal(signal.SIGINT) is signal.SIG_IGN:
+        pass  # started in the background with Ctrl-C ignored: keep it so
+    else:
+        old[signal.SIGINT] = signal.signal(signal.SIGINT, signal.default_int_handler)
+    return old
+
+
+#: An error message shows at most this many lines and characters (longer ones are cut
+#: with a note); the input echoed inside it is cut to ``pulsepick.errors.ECHO_CHARS``.
+MESSAGE_LINES = 4
+MESSAGE_CHARS = 600
+
+
+def error_text(message: str) -> str:
+    """An error message fit for a terminal: no control characters, at most
+    ``MESSAGE_LINES`` lines and ``MESSAGE_CHARS`` characters."""
+    lines = [" ".join("".join(ch if ch.isprintable() else " " for ch in line).split())
+             for line in str(message).splitlines()] or [""]
+    lines = [ln for ln in lines if ln] or [""]
+    cut = len(lines) > MESSAGE_LINES
+    lines = lines[:MESSAGE_LINES]
+    text = "\n".join(lines)
+    if len(text) > MESSAGE_CHARS:
+        text, cut = text[:MESSAGE_CHARS - 1].rstrip(), True
+    return text + (" ... (cut short)" if cut else "")
+
+
 def main(argv: list[str] | None = None) -> int:
-    """Run the program; returns the exit status (0 ok, 1 internal error, 2 bad input)."""
+    """Run the program; returns the exit status.
+
+    0 ok, 1 internal error (a bug), 2 bad input, 130 interrupted by Ctrl-C, 128 + the
+    signal number when stopped by SIGTERM or SIGHUP. Worker processes never outlive it.
+    """
     args_list = list(sys.argv[1:] if argv is None else argv)
     debug = "--debug" in args_list
+    old_handlers = _install_signals()
+    try:
+        with warnings.catch_warnings():
+            if not _warnings_are_errors():
+                # numerical warnings are never shown to the user (tests make them errors)
+                warnings.simplefilter("ignore")
+            return _dispatch(args_list, debug)
+    except KeyboardInterrupt:
+        _say("pulsepick: interrupted")
+        return EXIT_INTERRUPTED
+    except _Stopped as stop:
+        _say(f"pulsepick: stopped by signal {stop.signum}")
+        return 128 + stop.signum
+    finally:
+        for sig, handler in old_handlers.items():
+            try:
+                signal.signal(sig, handler)
+            except (TypeError, ValueError):
+                pass
+
+
+def _say(text: str) -> None:
+    try:
+        print(text, file=sys.stderr)
+    except (OSError, ValueError):
+        pass
+
+
+def _dispatch(args_list: list[str], debug: bool) -> int:
     try:
         parser = build_parser(_selected_command(args_list))
         args = parser.parse_args(args_list)
@@ -110,38 +201,27 @@ def main(argv: list[str] | None = None) -> int:
     except PulsepickError as err:
         if debug:
             traceback.print_exc()
-        print(f"pulsepick: error: {err}", file=sys.stderr)
+        _say(f"pulsepick: error: {error_text(str(err))}")
         return EXIT_BAD_INPUT
-    except KeyboardInterrupt:
-        print("pulsepick: interrupted", file=sys.stderr)
-        return 130
     except BrokenPipeError:
         return EXIT_OK
+    except RecursionError as err:
+        if debug:
+            traceback.print_exc()
+        _say("pulsepick: error: the input is nested too deeply; give a flatter file")
+        del err
+        return EXIT_BAD_INPUT
+    except MemoryError:
+        _say("pulsepick: error: out of memory; ask for less work (fewer --builds, lights or "
+             "days)")
+        return EXIT_BAD_INPUT
     except Exception as err:
         if debug:
             traceback.print_exc()
-        print(
-            f"pulsepick: internal error: {type(err).__name__}: {err}. This is a bug; "
-            "please report it with the command you ran (add --debug for details).",
-            file=sys.stderr,
-        )
+        _say(f"pulsepick: internal error: {type(err).__name__}: {error_text(str(err))}. "
+             "This is a bug; please report it with the command you ran (add --debug for "
+             "details).")
         return EXIT_BUG
-
-
-def run() -> None:
-    """Console-script entry: run ``main`` and leave without the interpreter's teardown.
-
-    Tearing down numpy, scipy and rich at exit costs a noticeable part of a short
-    command's wall time; the streams are flushed first and no worker process outlives
-    its command (the pools are closed), so ending the process directly loses nothing.
-    """
-    code = main()
-    try:
-        sys.stdout.flush()
-        sys.stderr.flush()
-    except BrokenPipeError:
-        pass
-    os._exit(code)
 
 
 if __name__ == "__main__":

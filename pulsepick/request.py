@@ -819,13 +819,18 @@ def make_request(
         defaults.append("stock")
 
     ints = {}
-    for key, value, default, low in (("top", top, DEFAULT_TOP, 1),
-                                     ("builds", builds, DEFAULT_BUILDS, 1),
-                                     ("seed", seed, DEFAULT_SEED, 0)):
+    from pulsepick.limits import MAX_BUILDS, MAX_SEED, MAX_TOP, MIN_BUILDS, check_count
+
+    for key, value, default, low, high in (("top", top, DEFAULT_TOP, 1, MAX_TOP),
+                                           ("builds", builds, DEFAULT_BUILDS, MIN_BUILDS,
+                                            MAX_BUILDS),
+                                           ("seed", seed, DEFAULT_SEED, 0, MAX_SEED)):
         v = opt(key, value, default)
-        if not isinstance(v, int) or isinstance(v, bool) or v < low:
-            problems.append(f"--{key} {v!r}: give a whole number of at least {low}")
-        ints[key] = v
+        try:
+            ints[key] = check_count(f"--{key}", v, low, high)
+        except RequestError as err:
+            problems.append(str(err))
+            ints[key] = default
     choices["buffered"] = {None: "either", True: "yes", False: "no"}[buffered]
     if buffered is None:
         defaults.append("buffered")
@@ -1004,6 +1009,11 @@ def make_build_request(phrases: tuple[str, ...] | list[str], *, names=None,
     """
     from pulsepick.analysis.multi import DEFAULT_LOCK_MARGIN, DEFAULT_PERIOD_TOLERANCE
 
+    from pulsepick.limits import MAX_LIGHTS
+
+    if len(phrases) > MAX_LIGHTS:
+        raise RequestError(f"{len(phrases)} lights: a build takes 1 to {MAX_LIGHTS} lights; "
+                           "split it into several builds")
     problems = []
     lights = []
     names = list(names) if names is not None else [f"light {i}" for i in

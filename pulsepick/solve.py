@@ -1180,15 +1180,9 @@ def _run_tasks(fn, tasks: list[tuple], jobs: int, meanwhile=None) -> list:
         if meanwhile is not None:
             meanwhile()
         return [fn(*t) for t in tasks]
-    import multiprocessing
-    from concurrent.futures import ProcessPoolExecutor
+    from pulsepick.workers import run_pool
 
-    ctx = multiprocessing.get_context("fork")
-    with ProcessPoolExecutor(max_workers=min(jobs, len(tasks)), mp_context=ctx) as pool:
-        futures = [pool.submit(fn, *t) for t in tasks]
-        if meanwhile is not None:
-            meanwhile()
-        return [f.result() for f in futures]
+    return run_pool(fn, tasks, jobs, meanwhile)
 
 
 def _ident_variant(pick: _Pick) -> tuple:
@@ -1570,16 +1564,11 @@ def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
             for c in cands]
     outputs: list[dict[str, Any] | None] = [None] * len(cands)
     if jobs > 1 and len(cands) > 1:
-        import multiprocessing
-        from concurrent.futures import ProcessPoolExecutor
+        from pulsepick.workers import run_pool
 
         order = sorted(range(len(cands)),
                        key=lambda i: _REFERENCE_ORDER.get(cands[i].design.topo.stage, 3))
-        ctx = multiprocessing.get_context("fork")
-        with ProcessPoolExecutor(max_workers=min(jobs, len(cands)), mp_context=ctx) as pool:
-            futures = {i: pool.submit(_assess_one, *args[i]) for i in order}
-            for i, fut in futures.items():
-                outputs[i] = fut.result()
+        outputs = run_pool(_assess_one, args, jobs, order=order)
     else:
         outputs = [_assess_one(*a) for a in args]
     new = []

@@ -63,10 +63,14 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                              "circuit is analysed (otherwise give the circuit options)")
     add_circuit_arguments(parser, supply_default=_SUPPLY_DEFAULT)
     g = parser.add_argument_group("spread")
-    g.add_argument("--builds", type=int, default=DEFAULT_BUILDS, metavar="N",
-                   help=f"Monte Carlo builds per cell (default {DEFAULT_BUILDS:,})")
-    g.add_argument("--seed", type=int, default=0, metavar="S",
-                   help="seed of the random builds (default 0)")
+    from pulsepick.limits import MAX_BUILDS, MAX_SEED, MIN_BUILDS, count_type
+
+    g.add_argument("--builds", type=count_type("--builds", MIN_BUILDS, MAX_BUILDS),
+                   default=DEFAULT_BUILDS, metavar="N",
+                   help=f"Monte Carlo builds per cell, {MIN_BUILDS} to {MAX_BUILDS:,} "
+                        f"(default {DEFAULT_BUILDS:,})")
+    g.add_argument("--seed", type=count_type("--seed", 0, MAX_SEED), default=0, metavar="S",
+                   help=f"seed of the random builds, 0 to {MAX_SEED:,} (default 0)")
     g.add_argument("--temps", default="-20..50 C", metavar="LO..HI",
                    help="ambient temperature range (default -20..50 C)")
     g.add_argument("--target", metavar="T",

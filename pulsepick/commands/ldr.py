@@ -47,8 +47,12 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                    help="clamp resistors to solve for (default both)")
     g.add_argument("--lux-range", metavar="LO..HI", default="0.01..100",
                    help="light levels shown, lux (default 0.01..100)")
-    g.add_argument("--points", type=int, default=21, metavar="N",
-                   help="light levels in the table, evenly spaced in log (default 21)")
+    from pulsepick.limits import count_type
+
+    g.add_argument("--points", type=count_type("--points", 2, 10_000), default=21,
+                   metavar="N",
+                   help="light levels in the table, evenly spaced in log, 2 to 10,000 "
+                        "(default 21)")
     add_circuit_arguments(parser)
     parser.add_argument("--json", action="store_true", help="print plain JSON on stdout")
 

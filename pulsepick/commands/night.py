@@ -68,6 +68,8 @@ NO_DUSK_DETECTOR = ("no dusk detector load included (describe it with --dusk-ble
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     """Options of ``pulsepick night``."""
+    from pulsepick.limits import MAX_TOP, count_type
+
     circuit_options.add_circuit_arguments(parser)
     parser.set_defaults(supply=None)  # None: not given (the solver then takes the storage's)
     parser.add_argument("design", nargs="?", metavar="DESIGN.toml",
@@ -78,7 +80,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         help="solve this blink (e.g. \"one flash every 3 s\") and run the night "
                              "with the solver's pick; --family and --led apply, --supply "
                              "defaults to the storage's start..stop-at")
-    solver.add_argument("--pick", type=int, default=1, metavar="N",
+    solver.add_argument("--pick", type=count_type("--pick", 1, MAX_TOP), default=1,
+                        metavar="N",
                         help="which of the solver's circuits (default 1, the best)")
     store = parser.add_argument_group("storage")
     store.add_argument(

@@ -58,6 +58,15 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         STAGE_CHOICES,
         TIMING_CAP_CHOICES,
     )
+    from pulsepick.limits import (
+        MAX_BUILDS,
+        MAX_LIGHTS,
+        MAX_SEED,
+        MAX_TOP,
+        MIN_BUILDS,
+        count_type,
+        max_jobs,
+    )
 
     parser.add_argument("phrase", nargs="?", metavar="PHRASE", help=_PHRASE_HELP)
     blink = parser.add_argument_group("the blink as flags (instead of, or with, a phrase)")
@@ -118,7 +127,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                           "kind,value[,qty][,dielectric], e.g. 'R,4k7,10' or "
                           "'C,100u,2,electrolytic'")
     multi = parser.add_argument_group("several lights (a several-lights phrase or a design file)")
-    multi.add_argument("--max-packages", type=int, metavar="N",
+    multi.add_argument("--max-packages", type=count_type("--max-packages", 1, MAX_LIGHTS),
+                       metavar="N",
                        help="at most this many chip packages (a hex Schmitt package has 6 "
                             "gates; a 555 is one per light)")
     multi.add_argument("--dusk-detector", action=argparse.BooleanOptionalAction, default=None,
@@ -132,23 +142,26 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                        help="a period ratio this close to a simple ratio is at risk of "
                             "locking (default 3%%)")
     out = parser.add_argument_group("output")
-    out.add_argument("--top", type=int, metavar="N",
-                     help=f"circuits offered (default {DEFAULT_TOP})")
-    out.add_argument("--builds", type=int, metavar="N",
-                     help=f"Monte Carlo builds per circuit (default {DEFAULT_BUILDS})")
-    out.add_argument("--seed", type=int, metavar="S",
-                     help=f"seed of the Monte Carlo builds (default {DEFAULT_SEED})")
+    out.add_argument("--top", type=count_type("--top", 1, MAX_TOP), metavar="N",
+                     help=f"circuits offered, 1 to {MAX_TOP} (default {DEFAULT_TOP})")
+    out.add_argument("--builds", type=count_type("--builds", MIN_BUILDS, MAX_BUILDS),
+                     metavar="N", help=f"Monte Carlo builds per circuit, {MIN_BUILDS} to "
+                                       f"{MAX_BUILDS:,} (default {DEFAULT_BUILDS})")
+    out.add_argument("--seed", type=count_type("--seed", 0, MAX_SEED), metavar="S",
+                     help=f"seed of the Monte Carlo builds, 0 to {MAX_SEED:,} "
+                          f"(default {DEFAULT_SEED})")
     out.add_argument("--json", action="store_true", help="print plain JSON on stdout")
     out.add_argument("--buylist", metavar="FILE.csv",
                      help="write the buy list of one circuit (of the whole build for several "
                           "lights)")
-    out.add_argument("--pick", type=int, default=1, metavar="N",
+    out.add_argument("--pick", type=count_type("--pick", 1, MAX_TOP), default=1, metavar="N",
                      help="the circuit for --buylist (default 1, the best)")
     out.add_argument("--force", action="store_true",
                      help="let --buylist, --plot and --report replace a file")
-    out.add_argument("--jobs", type=int, metavar="N",
-                     help="worker processes for the search and the checks (default: up to "
-                          "2, as the machine has cores)")
+    out.add_argument("--jobs", type=count_type("--jobs", 1), metavar="N",
+                     help="worker processes for the search and the checks, 1 to 4 per CPU "
+                          f"core, here {max_jobs()} (default: up to 2, as the machine has "
+                          "cores)")
     from pulsepick.commands.pictures import add_picture_arguments
 
     add_picture_arguments(parser)
