@@ -183,6 +183,17 @@ def main(argv: list[str] | None = None) -> int:
                 pass
 
 
+def _quiet_stdout() -> None:
+    """The reader of our output left (``| head``): send the rest of stdout nowhere, so
+    the flush at exit does not fail a second time."""
+    try:
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        os.close(devnull)
+    except (OSError, ValueError, AttributeError):
+        pass
+
+
 def _say(text: str) -> None:
     try:
         print(text, file=sys.stderr)
@@ -197,13 +208,16 @@ def _dispatch(args_list: list[str], debug: bool) -> int:
         if not getattr(args, "command", None):
             parser.print_help()
             return EXIT_BAD_INPUT
-        return int(args._run(args) or EXIT_OK)
+        code = int(args._run(args) or EXIT_OK)
+        sys.stdout.flush()  # a closed pipe shows here, not at exit
+        return code
     except PulsepickError as err:
         if debug:
             traceback.print_exc()
         _say(f"pulsepick: error: {error_text(str(err))}")
         return EXIT_BAD_INPUT
     except BrokenPipeError:
+        _quiet_stdout()
         return EXIT_OK
     except RecursionError as err:
         if debug:

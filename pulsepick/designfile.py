@@ -55,7 +55,9 @@ import tomllib
 from dataclasses import dataclass, field
 from typing import Any
 
-from pulsepick.errors import RequestError
+from pulsepick.errors import RequestError, echo
+from pulsepick.infile import BOM, read_text
+from pulsepick.limits import MAX_LIGHTS, MAX_NESTING
 
 #: Keys of each table and what they hold: "text" (a string, or a number read in the
 #: key's unit), "int", "bool".
@@ -137,7 +139,8 @@ def _check_table(path: str, table: str, data: Any, allowed: dict[str, str],
     if unknown:
         raise RequestError(
             f"{path}: unknown key{'s' if len(unknown) > 1 else ''} "
-            f"{', '.join(repr(k) for k in unknown)} in {where}; allowed: {', '.join(allowed)}")
+            f"{', '.join(echo(k) for k in unknown[:5])} in {where}; allowed: "
+            f"{', '.join(allowed)}")
     for key, value in data.items():
         kind = allowed[key]
         ok = {
@@ -149,7 +152,7 @@ def _check_table(path: str, table: str, data: Any, allowed: dict[str, str],
         if not ok:
             want = {"text": "text such as \"2.7V\"", "int": "a whole number",
                     "bool": "true or false", "number": "a number"}[kind]
-            raise RequestError(f"{path}: {where} {key} = {value!r}: give {want}")
+            raise RequestError(f"{path}: {where} {key} = {echo(value)}: give {want}")
     return {k: (str(v) if allowed[k] == "text" and not isinstance(v, str) else v)
             for k, v in data.items()}
 
@@ -170,19 +173,25 @@ def parse_design(text: str, path: str = "design.toml") -> DesignFile:
         one line: a TOML syntax error with its line and column, an unknown table or key
         with the allowed ones, a missing required key, or a value of the wrong type.
     """
+    text = text.removeprefix(BOM)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as err:
         raise RequestError(f"{path}: not valid TOML: {' '.join(str(err).split())}") from err
+    except RecursionError:
+        data = None
+    if data is None or _depth(data) > MAX_NESTING:
+        raise RequestError(f"{path}: tables or lists nested too deeply; a design file needs "
+                           f"3 levels and {MAX_NESTING} are accepted")
     unknown = [k for k in data if k not in TOP_KEYS]
     if unknown:
         raise RequestError(
             f"{path}: unknown key{'s' if len(unknown) > 1 else ''} "
-            f"{', '.join(repr(k) for k in unknown)} at the top; allowed: "
+            f"{', '.join(echo(k) for k in unknown[:5])} at the top; allowed: "
             f"{', '.join(_top_word(k) for k in TOP_KEYS)}")
     name = data.get("name", "")
     if not isinstance(name, str):
-        raise RequestError(f"{path}: name = {name!r}: give text, such as name = \"lantern\"")
+        raise RequestError(f"{path}: name = {echo(name)}: give text, such as name = \"lantern\"")
     build = _check_table(path, "build", data.get("build", {}), BUILD_KEYS)
     raw_lights = data.get("light")
     if raw_lights is None:
@@ -190,6 +199,9 @@ def parse_design(text: str, path: str = "design.toml") -> DesignFile:
                            f"a blink such as {BLINK_EXAMPLE}")
     if not isinstance(raw_lights, list):
         raise RequestError(f"{path}: 'light' must be written [[light]] (one table per light)")
+    if len(raw_lights) > MAX_LIGHTS:
+        raise RequestError(f"{path}: {len(raw_lights)} [[light]] tables; a build takes 1 to "
+                           f"{MAX_LIGHTS} lights; split it into several design files")
     lights = []
     for i, raw in enumerate(raw_lights, start=1):
         spec = _check_table(path, "light", raw, LIGHT_KEYS, index=i)
@@ -231,18 +243,24 @@ def parse_design(text: str, path: str = "design.toml") -> DesignFile:
                       stock_path=stock_path)
 
 
+def _depth(data: Any) -> int:
+    """Nesting depth of parsed TOML (tables and lists), counted without recursion."""
+    deepest = 0
+    stack = [(data, 1)]
+    while stack:
+        item, depth = stack.pop()
+        deepest = max(deepest, depth)
+        if depth > MAX_NESTING:
+            break
+        children = item.values() if isinstance(item, dict) else item
+        stack.extend((c, depth + 1) for c in children if isinstance(c, (dict, list)))
+    return deepest
+
+
 def read_design(path: str) -> DesignFile:
-    """Read a design file from disk (see :func:`parse_design`)."""
-    try:
-        with open(path, "rb") as fh:
-            raw = fh.read()
-    except OSError as err:
-        raise RequestError(f"cannot read the design file {path!r}: {err.strerror}; give a "
-                           "TOML file such as examples/firefly-lantern.toml") from err
-    try:
-        text = raw.decode("utf-8")
-    except UnicodeDecodeError as err:
-        raise RequestError(f"the design file {path!r} is not UTF-8 text") from err
+    """Read a design file from disk (see :func:`parse_design`): a regular UTF-8 file
+    (byte-order mark and CRLF accepted) of at most 10 MB."""
+    text = read_text(path, "design file", "a TOML file such as examples/firefly-lantern.toml")
     return parse_design(text, path)
 
 

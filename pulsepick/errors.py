@@ -40,3 +40,29 @@ class DataFileError(PulsepickError):
 
 class ExportError(OSError, PulsepickError):
     """An output file could not be written (exists without --force, bad folder)."""
+
+
+#: Characters of the user's input echoed in one message at most (longer input is cut).
+ECHO_CHARS = 80
+
+
+def echo(value: object, limit: int = ECHO_CHARS) -> str:
+    """A piece of the user's input as a message shows it: quoted text, plain numbers,
+    ISO dates, never a Python repr; control characters become spaces; cut to ``limit``."""
+    import datetime as _dt
+
+    if isinstance(value, str):
+        text = "".join(ch if ch.isprintable() else " " for ch in value)
+        if len(text) > limit:
+            text = text[:limit - 3] + "..."
+        return f"'{text}'"
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, (_dt.date, _dt.time)):
+        return value.isoformat()
+    if isinstance(value, dict):
+        return "a table"
+    if isinstance(value, (list, tuple)):
+        return "a list"
+    text = str(value)
+    return text if len(text) <= limit else text[:limit - 3] + "..."

@@ -130,6 +130,43 @@ def result_json(result, cautions: tuple[str, ...] = ()) -> dict[str, Any]:
     }
 
 
+#: Characters that make a spreadsheet read a cell as a formula when they lead it, and the
+#: line breaks that could start a new row inside a cell (ref:owasp-csv-injection).
+FORMULA_LEADS = ("=", "+", "-", "@", "\t", "\r")
+
+
+def safe_cell(text: object) -> str:
+    """A CSV cell that no spreadsheet reads as a formula (ref:owasp-csv-injection).
+
+    Line breaks (CR, LF) inside become spaces; a cell that then starts with ``=``,
+    ``+``, ``-``, ``@``, a tab or a CR gets a leading apostrophe, which spreadsheets
+    show as text.
+
+    >>> safe_cell("=1+2")
+    "'=1+2"
+    >>> safe_cell("4k7")
+    '4k7'
+    """
+    cell = "" if text is None else str(text)
+    if cell.startswith(FORMULA_LEADS):
+        cell = "'" + cell
+    return cell.replace("\r\n", " ").replace("\r", " ").replace("\n", " ")
+
+
+def _comment(text: str) -> str:
+    """Text for a ``#`` comment line: one line, never a row of its own."""
+    return " ".join(str(text).split())
+
+
+def _write_rows(out: io.StringIO, rows: list[dict[str, str]]) -> None:
+    """The header and the rows, every cell through :func:`safe_cell`; CRLF row ends
+    (RFC 4180) and quoting that covers any break left in a cell."""
+    writer = csv.DictWriter(out, fieldnames=BUYLIST_COLUMNS, lineterminator="\r\n",
+                            quoting=csv.QUOTE_MINIMAL)
+    writer.writeheader()
+    writer.writerows([{k: safe_cell(v) for k, v in row.items()} for row in rows])
+
+
 def buylist_rows(candidate) -> list[dict[str, str]]:
     """The buy list of a candidate as CSV-ready rows (strings)."""
     return part_rows(candidate.parts)
@@ -171,13 +208,11 @@ def buylist_text(result, pick: int = 1) -> str:
     c = cands[pick - 1]
     req = result.request
     out = io.StringIO()
-    request_text = req.describe().replace("\n", " ")
+    request_text = _comment(req.describe())
     out.write(f"# pulsepick {__version__} buy list; request: {request_text}; "
-              f"seed {req.seed}; builds {req.builds}\n")
-    out.write(f"# candidate {c.rank}: {c.design.label()}, supply {c.design.supply_v:g} V\n")
-    writer = csv.DictWriter(out, fieldnames=BUYLIST_COLUMNS, lineterminator="\n")
-    writer.writeheader()
-    writer.writerows(buylist_rows(c))
+              f"seed {req.seed}; builds {req.builds}\r\n")
+    out.write(f"# candidate {c.rank}: {c.design.label()}, supply {c.design.supply_v:g} V\r\n")
+    _write_rows(out, buylist_rows(c))
     return out.getvalue()
 
 
@@ -194,33 +229,78 @@ def build_buylist_text(result, lines) -> str:
     breq = result.request
     out = io.StringIO()
     seeds = sorted({lr.request.seed for lr in breq.lights})
-    out.write(f"# pulsepick {__version__} buy list; build: {breq.describe()}; "
-              f"{len(result.lights)} lights; seed {', '.join(map(str, seeds))}\n")
-    out.write("# lights: " + "; ".join(
+    out.write(f"# pulsepick {__version__} buy list; build: {_comment(breq.describe())}; "
+              f"{len(result.lights)} lights; seed {', '.join(map(str, seeds))}\r\n")
+    out.write("# lights: " + _comment("; ".join(
         f"{li.name} = {li.pick.design.label()}, period {li.pick.figures['period_s']:.3g} s"
-        for li in result.lights) + "\n")
-    writer = csv.DictWriter(out, fieldnames=BUYLIST_COLUMNS, lineterminator="\n")
-    writer.writeheader()
-    writer.writerows(part_rows(lines))
+        for li in result.lights)) + "\r\n")
+    _write_rows(out, part_rows(lines))
     return out.getvalue()
 
 
 def check_target(path: str, force: bool = False, option: str | None = None) -> None:
-    """Refuse an output path that names a folder, lies in a missing folder, or exists
-    (without ``force``); ``option`` (e.g. ``--plot``) starts the message when given."""
+    """Refuse an output path that names a folder, lies in a missing folder, is a link to
+    a missing file, is not a regular file, or exists (without ``force``); ``option``
+    (e.g. ``--plot``) starts the message when given."""
+    from pulsepick.errors import echo
+
     target = os.path.abspath(path)
     folder = os.path.dirname(target) or "."
-    what = f"{option} {path!r}" if option else repr(path)
+    what = f"{option} {echo(path)}" if option else echo(path)
+    if not path:
+        raise ExportError(f"{what}: give a file name such as buylist.csv")
     if os.path.isdir(target):
         raise ExportError(f"{what} is a folder; give a file name such as buylist.csv")
     if not os.path.isdir(folder):
         raise ExportError(f"{what}: the folder does not exist; create it or give another path")
-    if os.path.exists(target) and not force:
+    if os.path.islink(target) and not os.path.exists(target):
+        raise ExportError(f"{what} is a link to a missing file; remove the link or give "
+                          "another file name")
+    if os.path.exists(target) and not os.path.isfile(target):
+        raise ExportError(f"{what} is not a regular file; give a file name such as "
+                          "buylist.csv")
+    if os.path.lexists(target) and not force:
         raise ExportError(f"{what} exists; add --force to replace it, or give another file name")
+
+
+def _same(a: str, b: str) -> bool:
+    try:
+        return os.path.samefile(a, b)
+    except OSError:
+        return os.path.realpath(a) == os.path.realpath(b)
+
+
+def check_outputs(outputs, inputs=(), *, force: bool = False) -> None:
+    """Check every output file of a run before any work (see :func:`check_target`).
+
+    ``outputs`` are ``(option, path)`` pairs; ``inputs`` the paths the run reads
+    (None entries are skipped). Two options naming one file, or an output that is an
+    input, are refused even with ``force``: the run would destroy its own input or
+    one output would silently replace the other.
+    """
+    from pulsepick.errors import echo
+
+    seen: list[tuple[str, str]] = []
+    for option, path in outputs:
+        check_target(path, force, option)
+        for other_option, other in seen:
+            if _same(path, other):
+                raise ExportError(f"{other_option} and {option} name the same file "
+                                  f"{echo(path)}; give two file names")
+        for src in inputs:
+            if src and os.path.exists(src) and _same(path, src):
+                raise ExportError(f"{option} {echo(path)} is an input of this run; writing "
+                                  "it would destroy the input; give another file name")
+        seen.append((option, path))
 
 
 def write_atomic(path: str, text: str | bytes, *, force: bool = False) -> None:
     """Write ``text`` (or bytes) to ``path`` through a temporary file in the same folder.
+
+    Without ``force`` the finished file is put in place by an exclusive create (a hard
+    link, which fails when the name exists): of two runs racing for one name, the
+    loser gets an error and the winner's file stays whole. With ``force`` it replaces
+    the old file atomically (``os.replace``).
 
     The file gets the permissions a plain ``open()`` would give it (a replaced file
     keeps its own); ``mkstemp`` alone would leave it readable by its owner only.
@@ -231,6 +311,8 @@ def write_atomic(path: str, text: str | bytes, *, force: bool = False) -> None:
         when ``path`` exists and ``force`` is False, names a folder, or cannot be
         written; nothing is written then.
     """
+    from pulsepick.errors import echo
+
     check_target(path, force)
     target = os.path.abspath(path)
     folder = os.path.dirname(target) or "."
@@ -249,14 +331,32 @@ def write_atomic(path: str, text: str | bytes, *, force: bool = False) -> None:
             fh.flush()
             os.fsync(fh.fileno())
         os.chmod(tmp, mode)
-        os.replace(tmp, target)
-        tmp = None
+        if force:
+            os.replace(tmp, target)
+        else:
+            _place_exclusive(tmp, target)
+    except FileExistsError:
+        raise ExportError(f"{echo(path)} was created by someone else meanwhile; add --force "
+                          "to replace it, or give another file name") from None
     except OSError as err:
-        raise ExportError(f"cannot write {path!r}: {err.strerror or err}; check the folder's "
-                          "permissions and free space") from err
+        raise ExportError(f"cannot write {echo(path)}: {err.strerror or err}; check the "
+                          "folder's permissions and free space") from None
     finally:
-        if tmp is not None and os.path.exists(tmp):
+        if tmp is not None and os.path.lexists(tmp):
             os.unlink(tmp)
+
+
+def _place_exclusive(tmp: str, target: str) -> None:
+    """Give the finished temporary file the name ``target`` unless that name exists."""
+    try:
+        os.link(tmp, target)  # atomic, and fails with FileExistsError on an existing name
+    except FileExistsError:
+        raise
+    except OSError:
+        # no hard links on this file system: create the name exclusively, then replace
+        fd = os.open(target, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
+        os.close(fd)
+        os.replace(tmp, target)
 
 
 def read_buylist(text: str) -> tuple[list[str], list[dict[str, str]]]:

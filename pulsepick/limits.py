@@ -17,6 +17,7 @@ MAX_BUILDS = 1_000_000  # Monte Carlo builds per circuit (bench/bench_spread.py:
 MAX_SEED = 2**32 - 1  # seeds of the random builds
 MAX_TOP = 20  # circuits offered by one solve (each is verified and analysed)
 MAX_LIGHTS = 12  # lights in one build (two hex Schmitt packages' worth of gates)
+MAX_STOCK_ROWS = 10_000  # rows of a stock file (a large drawer has a few hundred)
 MAX_PROFILE_ROWS = 10_000  # rows of an irradiance profile (a day by the 10 s)
 MAX_INPUT_BYTES = 10 * 1024 * 1024  # size of any input file (design, stock, profile)
 MAX_NESTING = 16  # nesting depth of a design file (the format itself needs 3)

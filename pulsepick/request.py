@@ -424,6 +424,10 @@ _STOCK_FORMAT = ("columns kind,value[,qty][,dielectric] with kind R or C, a valu
                  "electrolytic")
 
 
+#: Bad rows of a stock file reported in one message at most.
+_MAX_PROBLEMS = 3
+
+
 def parse_stock(text: str, source: str = "stock file") -> Stock:
     """Read a parts drawer (see the module docstring); every bad row is reported.
 
@@ -432,15 +436,24 @@ def parse_stock(text: str, source: str = "stock file") -> Stock:
     RequestError
         naming each row that could not be read (line number and text).
     """
+    from pulsepick.errors import echo
+    from pulsepick.infile import BOM
+    from pulsepick.limits import MAX_STOCK_ROWS
     from pulsepick.units import parse_value
 
-    lines = text.splitlines()
+    lines = text.removeprefix(BOM).splitlines()
     body = [(n, line) for n, line in enumerate(lines, start=1)
             if line.strip() and not line.lstrip().startswith("#")]
     if not body:
         raise RequestError(f"{source} holds no header row; expected {_STOCK_FORMAT}")
+    if len(body) > MAX_STOCK_ROWS + 1:
+        raise RequestError(f"{source} has {len(body) - 1:,} rows; a stock file takes at most "
+                           f"{MAX_STOCK_ROWS:,}")
     header_no, header = body[0]
-    columns = [c.strip().lower() for c in next(csv.reader([header]))]
+    try:
+        columns = [c.strip().lower() for c in next(csv.reader([header]))]
+    except csv.Error:
+        columns = []
     unknown = [c for c in columns if c not in ("kind", "value", "qty", "dielectric")]
     missing = [c for c in ("kind", "value") if c not in columns]
     if unknown or missing or len(set(columns)) != len(columns):
@@ -451,14 +464,21 @@ def parse_stock(text: str, source: str = "stock file") -> Stock:
             what.append(f"unknown {', '.join(unknown)}")
         if len(set(columns)) != len(columns):
             what.append("a column twice")
-        raise RequestError(f"{source} line {header_no}: header {header.strip()!r} has "
+        raise RequestError(f"{source} line {header_no}: header {echo(header.strip())} has "
                            f"{'; '.join(what)}; expected {_STOCK_FORMAT}")
     items: list[StockItem] = []
     problems: list[str] = []
     for n, line in body[1:]:
-        fields = next(csv.reader(io.StringIO(line)))
+        if len(problems) >= _MAX_PROBLEMS:
+            problems.append("and maybe more")
+            break
+        where = f"line {n} {echo(line.strip(), 40)}"
+        try:
+            fields = next(csv.reader(io.StringIO(line)))
+        except csv.Error as err:
+            problems.append(f"{where}: not a CSV row ({err})")
+            continue
         fields = [f.strip() for f in fields]
-        where = f"line {n} {line.strip()!r}"
         if len(fields) > len(columns):
             problems.append(f"{where}: {len(fields)} fields for {len(columns)} columns")
             continue
@@ -466,7 +486,8 @@ def parse_stock(text: str, source: str = "stock file") -> Stock:
         kind_word = row["kind"].lower()
         kind = {"r": "R", "resistor": "R", "c": "C", "capacitor": "C"}.get(kind_word)
         if kind is None:
-            problems.append(f"{where}: kind {row['kind']!r} is not R, resistor, C or capacitor")
+            problems.append(f"{where}: kind {echo(row['kind'], 20)} is not R, resistor, C or "
+                            "capacitor")
             continue
         try:
             value = parse_value(row["value"], "ohm" if kind == "R" else "F")
@@ -480,14 +501,15 @@ def parse_stock(text: str, source: str = "stock file") -> Stock:
                 if qty < 0:
                     raise ValueError
             except ValueError:
-                problems.append(f"{where}: qty {row['qty']!r} is not a whole number >= 0")
+                problems.append(f"{where}: qty {echo(row['qty'], 20)} is not a whole number "
+                                ">= 0")
                 continue
         diel = (row.get("dielectric") or "").lower() or None
         if diel is not None and kind == "R":
             problems.append(f"{where}: a resistor has no dielectric")
             continue
         if diel is not None and diel not in STOCK_DIELECTRICS:
-            problems.append(f"{where}: dielectric {diel!r} unknown; accepted: "
+            problems.append(f"{where}: dielectric {echo(diel, 20)} unknown; accepted: "
                             f"{', '.join(STOCK_DIELECTRICS)}")
             continue
         items.append(StockItem(kind, value, qty, diel, n))
@@ -499,16 +521,11 @@ def parse_stock(text: str, source: str = "stock file") -> Stock:
 
 
 def read_stock(path: str) -> Stock:
-    """Read a parts drawer file (see :func:`parse_stock`)."""
-    try:
-        with open(path, encoding="utf-8") as fh:
-            text = fh.read()
-    except OSError as err:
-        raise RequestError(f"cannot read the stock file {path!r}: {err.strerror}; give a CSV "
-                           f"file with {_STOCK_FORMAT}") from err
-    except UnicodeDecodeError as err:
-        raise RequestError(f"the stock file {path!r} is not UTF-8 text; give a CSV file with "
-                           f"{_STOCK_FORMAT}") from err
+    """Read a parts drawer file (see :func:`parse_stock`): a regular UTF-8 file (byte-order
+    mark and CRLF accepted) of at most 10 MB."""
+    from pulsepick.infile import read_text
+
+    text = read_text(path, "stock file", f"a CSV file with {_STOCK_FORMAT}")
     return parse_stock(text, path)
 
 

@@ -44,6 +44,7 @@ DiodeLeak = Literal["typ", "max"]
 # Integration limits (numerical choices, checked against scipy's Radau in the tests).
 MAX_STEP_S = 300.0  # s, longest step
 MAX_DV_PER_STEP_V = 0.01  # V, largest voltage change per step
+MIN_STEP_S = 1e-3  # s, shortest step
 TIMELINE_STEP_S = 600.0  # s, spacing of the timeline kept for charts
 # Rated-light figures are at full sun (1000 W/m², the panel's rating conditions).
 FULL_SUN_W_M2 = 1000.0
@@ -345,9 +346,12 @@ def _integrate(solver: _Solver, storage: Storage, profile: Profile | None, t0: f
             # Linearly implicit Euler: stable where the charge current falls steeply with V.
             dv = dt * net / (c - dt * min(slope, 0.0))
             held = clamp_v is not None and v >= clamp_v - 1e-12 and net > 0
-            if held or abs(dv) <= MAX_DV_PER_STEP_V or dt <= 1e-3:
+            # An empty storage that the drains would pull below 0 V stays at 0 V: the step
+            # needs no limit there (otherwise a small storage crawls through the night).
+            empty = v <= 0.0 and net <= 0.0
+            if held or empty or abs(dv) <= MAX_DV_PER_STEP_V or dt <= MIN_STEP_S:
                 break
-            dt = max(dt * MAX_DV_PER_STEP_V / abs(dv) * 0.9, 1e-3)
+            dt = max(dt * MAX_DV_PER_STEP_V / abs(dv) * 0.9, MIN_STEP_S)
         v_new = v + dv
         clamp_c = 0.0
         if held:
@@ -363,6 +367,10 @@ def _integrate(solver: _Solver, storage: Storage, profile: Profile | None, t0: f
         v_new = max(v_new, 0.0)
         i_load = float(np.interp(v, day_load.supply_v, day_load.supply_avg_a))
         i_leak = float(storage.leakage_a(v, max(t - t_last_charge, 0.0), leak_level))
+        if empty:
+            # the drains get only what comes in
+            share = min(op.charge_a / (i_load + i_leak), 1.0) if i_load + i_leak > 0 else 0.0
+            i_load, i_leak, v_new = i_load * max(share, 0.0), i_leak * max(share, 0.0), 0.0
         totals["in"] += op.charge_a * dt
         totals["energy"] += op.charge_a * 0.5 * (v + v_new) * dt
         totals["clamp"] += clamp_c

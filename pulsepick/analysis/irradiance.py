@@ -115,13 +115,22 @@ def _number(text: str, what: str, where: str) -> float:
 
 def parse_profile_text(text: str, name: str) -> Profile:
     """Parse the text of a profile CSV (see module docstring); errors name the line."""
-    lines = [(i, line) for i, line in enumerate(text.splitlines(), start=1)
+    from pulsepick.infile import BOM
+    from pulsepick.limits import MAX_PROFILE_ROWS
+
+    lines = [(i, line) for i, line in enumerate(text.removeprefix(BOM).splitlines(), start=1)
              if line.strip() and not line.strip().startswith("#")]
     accepted = "a header 'hour,irradiance_w_m2' (optional 'source'), then rows of numbers"
     if not lines:
         raise RequestError(f"profile {name}: no header row; accepted: {accepted}")
+    if len(lines) > MAX_PROFILE_ROWS + 1:
+        raise RequestError(f"profile {name}: {len(lines) - 1:,} rows; a profile takes 2 to "
+                           f"{MAX_PROFILE_ROWS:,} rows")
     header_no, header = lines[0]
-    columns = [c.strip().lower() for c in next(csv.reader(io.StringIO(header)))]
+    try:
+        columns = [c.strip().lower() for c in next(csv.reader(io.StringIO(header)))]
+    except csv.Error:
+        columns = []
     missing = [c for c in ("hour", "irradiance_w_m2") if c not in columns]
     extra = [c for c in columns if c not in ("hour", "irradiance_w_m2", "source")]
     if missing or extra:
@@ -136,8 +145,11 @@ def parse_profile_text(text: str, name: str) -> Profile:
     hours: list[float] = []
     values: list[float] = []
     for number, line in lines[1:]:
-        fields = [f.strip() for f in next(csv.reader(io.StringIO(line)))]
         where = f"profile {name} line {number}"
+        try:
+            fields = [f.strip() for f in next(csv.reader(io.StringIO(line)))]
+        except csv.Error:
+            raise RequestError(f"{where}: not a CSV row; accepted: {accepted}") from None
         if len(fields) != len(columns):
             raise RequestError(f"{where}: {len(fields)} fields where the header has "
                                f"{len(columns)}; "
@@ -166,10 +178,9 @@ def parse_profile_text(text: str, name: str) -> Profile:
 
 def load_profile_csv(path: str | Path) -> Profile:
     """Read a user's hourly irradiance CSV (header ``hour,irradiance_w_m2``)."""
+    from pulsepick.infile import read_text
+
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as err:
-        raise RequestError(f"profile file {str(p)!r} cannot be read ({err.__class__.__name__}); "
-                           "accepted: a readable UTF-8 CSV file") from err
+    text = read_text(str(p), "profile file", "a UTF-8 CSV file with a header "
+                                              "'hour,irradiance_w_m2' and rows of numbers")
     return parse_profile_text(text, p.name)

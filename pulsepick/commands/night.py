@@ -224,7 +224,7 @@ def run(args: argparse.Namespace) -> int:
     design = _apply_design(args)
     storage = read_storage(args.storage, args.rated)
     night = _read_night(args)
-    check_picture_targets(args)
+    check_picture_targets(args, [args.design, getattr(args, "stock", None)])
     if night is None and not (args.no_circuit and args.stop_at is not None):
         raise RequestError(NO_NIGHT)
     v_start = (storage.v_rated_v if args.start is None

@@ -23,7 +23,7 @@ from typing import Any
 import numpy as np
 
 from pulsepick import __version__
-from pulsepick.errors import ExportError, PulsepickError, RequestError
+from pulsepick.errors import ExportError, PulsepickError, RequestError, echo
 from pulsepick.export import check_target, write_atomic
 from pulsepick.htmlreport import (
     Cell,
@@ -80,26 +80,34 @@ def wants_pictures(args) -> bool:
     return bool(getattr(args, "plot", None) or getattr(args, "report", None))
 
 
-def check_picture_targets(args) -> None:
-    """Refuse bad ``--plot``/``--report`` files before any work is done.
+def check_picture_targets(args, inputs=(), *, with_buylist: bool = False) -> None:
+    """Refuse bad output files before any work is done.
 
     A ``--plot`` suffix other than .png/.svg, a missing plot extra, a missing folder,
-    or an existing file without ``--force``: one :class:`PulsepickError`.
+    a folder, a dangling link, an existing file without ``--force``, two options naming
+    one file, or an output that is one of the run's ``inputs`` (design, stock or
+    profile files): one :class:`PulsepickError`. ``with_buylist`` checks ``--buylist``
+    too (before the search; it is written before the pictures).
     """
+    from pulsepick.export import check_outputs
+
     plot, report = getattr(args, "plot", None), getattr(args, "report", None)
     force = bool(getattr(args, "force", False))
+    outputs = []
+    if with_buylist and getattr(args, "buylist", None):
+        outputs.append(("--buylist", args.buylist))
     if plot:
         image_format(plot)
         require_matplotlib()
-        check_target(plot, force, "--plot")
+        outputs.append(("--plot", plot))
     if report:
         suffix = os.path.splitext(report)[1].lower()
         if suffix not in REPORT_SUFFIXES:
-            raise RequestError(f"--report {report!r}: unknown report type {suffix or '(none)'!r}"
-                               f"; accepted: {', '.join(REPORT_SUFFIXES)}")
-        check_target(report, force, "--report")
-    if plot and report and os.path.abspath(plot) == os.path.abspath(report):
-        raise RequestError("--plot and --report name the same file; give two file names")
+            raise RequestError(f"--report {echo(report)}: unknown report type "
+                               f"{echo(suffix or '(none)')}; accepted: "
+                               f"{', '.join(REPORT_SUFFIXES)}")
+        outputs.append(("--report", report))
+    check_outputs(outputs, inputs, force=force)
 
 
 def write_file_atomic(path: str, data: bytes, *, force: bool = False) -> None:

@@ -263,15 +263,9 @@ def run(args) -> int:
     if args.spread_out:
         raise RequestError("--spread-out applies to several lights (a several-lights phrase "
                            "or a design file)")
+    check_picture_targets(args, [args.stock], with_buylist=True)
     req = request_from_args(args)
     jobs = default_jobs() if args.jobs is None else args.jobs
-    if jobs < 1:
-        raise RequestError(f"--jobs {jobs}: give a whole number of at least 1")
-    if args.pick < 1:
-        raise RequestError(f"--pick {args.pick}: give a candidate number of at least 1")
-    if args.buylist and not args.force:
-        _check_target(args.buylist)
-    check_picture_targets(args)
     result = solve(req, jobs=jobs)
     result = assess(result, jobs=jobs)
     if args.buylist and result.success:
@@ -301,17 +295,6 @@ def _nothing_line(what: str, explanations) -> None:
     reason = f": {first}" if first else ""
     print(f"pulsepick: error: nothing can be offered for \"{what}\"{reason}",
           file=sys.stderr)
-
-
-def _check_target(path: str) -> None:
-    """Refuse an existing buy-list file before the search, not after it."""
-    import os
-
-    from pulsepick.errors import ExportError
-
-    if os.path.exists(path):
-        raise ExportError(f"{path!r} exists; add --force to replace it, or give another "
-                          "file name")
 
 
 # ============================================================================ the report
@@ -704,16 +687,20 @@ def run_build(args) -> int:
     from pulsepick.render import dump_json, make_console
     from pulsepick.solve import default_jobs, solve_build
 
-    breq, design = build_request_from_args(args)
-    jobs = default_jobs() if args.jobs is None else args.jobs
-    if jobs < 1:
-        raise RequestError(f"--jobs {jobs}: give a whole number of at least 1")
-    if args.buylist and not args.force:
-        _check_target(args.buylist)
+    from pulsepick.commands.pictures import check_picture_targets
+
     if getattr(args, "plot", None) or getattr(args, "report", None):
         raise RequestError("--plot and --report draw one light; for several lights run "
                            "'pulsepick solve' on one light's phrase, or 'pulsepick night' "
                            "with the design file")
+    from pulsepick.designfile import is_design_file
+
+    design_path = args.phrase if is_design_file(args.phrase) else None
+    check_picture_targets(args, [args.stock, design_path], with_buylist=True)
+    breq, design = build_request_from_args(args)
+    if design is not None and design.stock_path:
+        check_picture_targets(args, [design.stock_path], with_buylist=True)
+    jobs = default_jobs() if args.jobs is None else args.jobs
     extras = _build_extras(design)
     result = solve_build(breq, jobs=jobs)
     offered = all(li.pick is not None for li in result.lights) and result.plan is not None
