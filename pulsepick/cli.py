@@ -225,6 +225,14 @@ def _dispatch(args_list: list[str], debug: bool) -> int:
         _say("pulsepick: error: the input is nested too deeply; give a flatter file")
         del err
         return EXIT_BAD_INPUT
+    except (ArithmeticError, ValueError, Warning) as err:
+        # numbers beyond what the engines were built for: an overflow, a root that
+        # cannot be bracketed, an integrator that gives up (tests make warnings errors)
+        if debug:
+            traceback.print_exc()
+        _say(f"pulsepick: error: this is outside what the engines handle "
+             f"({error_text(str(err))[:150]}); try values nearer the usual ranges")
+        return EXIT_BAD_INPUT
     except MemoryError:
         _say("pulsepick: error: out of memory; ask for less work (fewer --builds, lights or "
              "days)")

@@ -439,7 +439,7 @@ def parse_stock(text: str, source: str = "stock file") -> Stock:
     from pulsepick.errors import echo
     from pulsepick.infile import BOM
     from pulsepick.limits import MAX_STOCK_ROWS
-    from pulsepick.units import parse_value
+    from pulsepick.units import check_component, parse_value
 
     lines = text.removeprefix(BOM).splitlines()
     body = [(n, line) for n, line in enumerate(lines, start=1)
@@ -490,7 +490,8 @@ def parse_stock(text: str, source: str = "stock file") -> Stock:
                             "capacitor")
             continue
         try:
-            value = parse_value(row["value"], "ohm" if kind == "R" else "F")
+            unit = "ohm" if kind == "R" else "F"
+            value = check_component(parse_value(row["value"], unit), unit, "value")
         except PulsepickError as err:
             problems.append(f"{where}: {err}")
             continue
@@ -704,7 +705,7 @@ def make_request(
     """
     from pulsepick.parts.led import LED_KEYS, get_led
     from pulsepick.series import get_series
-    from pulsepick.units import parse_quantity, parse_range, parse_value
+    from pulsepick.units import check_component, parse_quantity, parse_range, parse_value
 
     problems: list[str] = []
     defaults: list[str] = []
@@ -780,7 +781,8 @@ def make_request(
                                 ("max_r", max_r, DEFAULT_R_RANGE[1])):
         text = opt(key, value, default)
         try:
-            r_vals[key] = parse_value(text, "ohm")
+            r_vals[key] = check_component(parse_value(text, "ohm"), "ohm",
+                                          f"--{key.replace('_', '-')}")
         except PulsepickError as err:
             problems.append(f"--{key.replace('_', '-')} {text!r}: {err}")
 
@@ -788,6 +790,8 @@ def make_request(
     c_lo = c_hi = None
     try:
         c_lo, c_hi = parse_range(cr_text, "capacitance")
+        for c_end in (c_lo, c_hi):
+            check_component(c_end, "F", "--cap-range")
         if c_lo >= c_hi:
             problems.append(f"--cap-range {cr_text}: write the range from small to large, "
                             "e.g. 1n..1m")

@@ -274,6 +274,30 @@ def _kinds(entries: list[tuple[str, Decimal]]) -> list[str]:
     return list(dict.fromkeys(kind for kind, _ in entries))
 
 
+#: Component values the engines handle, per unit: (smallest, largest). A resistor from
+#: 1 mΩ to 1 TΩ and a capacitor from 1 pF to 100 F (estimate: beyond these a part is a
+#: wire, an open circuit or a storage, and the engines' time scales run out of range).
+COMPONENT_RANGE: dict[str, tuple[float, float]] = {"ohm": (1e-3, 1e12), "F": (1e-12, 100.0)}
+
+
+def check_component(value: float, unit: ValueUnit, option: str, *,
+                    allow_zero: bool = False) -> float:
+    """``value`` when it lies in :data:`COMPONENT_RANGE` (zero too with ``allow_zero``);
+    otherwise a :class:`ValueCodeError` naming ``option`` and the accepted range.
+
+    One check for every component value a user gives: options, stock and design files.
+    """
+    lo, hi = COMPONENT_RANGE[unit]
+    if allow_zero and value == 0:
+        return value
+    if not (math.isfinite(value) and lo <= value <= hi):
+        symbol = "Ω" if unit == "ohm" else "F"
+        shown = format_eng(value, symbol) if math.isfinite(value) and value > 0 else f"{value:g}"
+        raise ValueCodeError(f"{option} {shown} is out of range; accepted: "
+                             f"{format_eng(lo, symbol)} to {format_eng(hi, symbol)}")
+    return value
+
+
 def parse_value(text: str, unit: ValueUnit | None = None, *, allow_zero: bool = False) -> float:
     """Read a component value such as ``4k7``, ``100n`` or ``2.2 uF`` (SI units).
 

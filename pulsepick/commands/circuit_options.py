@@ -18,7 +18,7 @@ from pulsepick.errors import RequestError
 from pulsepick.parts.capacitor import CAP_KIND_KEYS
 from pulsepick.parts.diode import DIODE_KEYS
 from pulsepick.parts.led import LED_KEYS, LedModel, custom_led, get_led
-from pulsepick.units import parse_quantity, parse_value
+from pulsepick.units import check_component, parse_quantity, parse_value
 
 #: Command-line option for each component value of the circuits.
 VALUE_OPTIONS = {
@@ -168,7 +168,8 @@ def parts_from_args(args, supply_v: float, core: str | None = None
     for name, val in (("--vt-plus", vt_plus), ("--vt-minus", vt_minus)):
         if val is not None and val >= supply_v:
             raise RequestError(f"{name} {val:g} V must be below the supply {supply_v:g} V")
-    rout = parse_value(args.rout, unit="ohm") if args.rout else None
+    rout = (check_component(parse_value(args.rout, unit="ohm"), "ohm", "--rout")
+            if args.rout else None)
     cross = parse_quantity(args.cross_current, "current", allow_zero=True) \
         if args.cross_current else None
     chip = ChipSpec(family=family, vt_plus_v=vt_plus, vt_minus_v=vt_minus, rout_ohm=rout,
@@ -210,7 +211,9 @@ def design_from_args(args) -> Design:
                             f"(it takes {', '.join(VALUE_OPTIONS[k] for k in wanted)})")
             continue
         unit = "ohm" if wanted[name].kind == "R" else "F"
-        values[name] = parse_value(text, unit=unit, allow_zero=wanted[name].optional)
+        values[name] = check_component(
+            parse_value(text, unit=unit, allow_zero=wanted[name].optional), unit, opt,
+            allow_zero=wanted[name].optional)
     if problems:
         raise RequestError("; ".join(problems))
     supply = supply_from_args(args)
