@@ -427,6 +427,40 @@ def _evaluate(design: Design, batch: _Batch) -> Figures:
     return fast.evaluate(design.topo, vals, env, powered=powered)
 
 
+#: Builds per fast-engine call: the engine's temporaries (quadrature nodes by builds)
+#: stay some tens of MB whatever the number of builds (estimate; bench/bench_spread.py
+#: measures the peak memory of 1,000,000 builds).
+CHUNK_BUILDS = 50_000
+#: Up to this many builds a spread keeps every figure of every build in ``samples``.
+SAMPLES_ALL_UP_TO = 100_000
+
+
+class _Joined:
+    """Figures of several engine calls joined end to end (what :func:`_slice` reads)."""
+
+    def __init__(self, parts: list[Figures], sizes: list[int]) -> None:
+        for k in (*FIGURE_KEYS, "status"):
+            setattr(self, k, np.concatenate([
+                np.broadcast_to(np.asarray(getattr(f, k)).reshape(-1) if np.ndim(getattr(f, k))
+                                else getattr(f, k), (n,))
+                for f, n in zip(parts, sizes, strict=True)]))
+
+
+def _evaluate_chunked(design: Design, batch: _Batch):
+    """:func:`_evaluate` over ``batch`` in calls of at most ``CHUNK_BUILDS`` builds."""
+    n = batch.size
+    if n <= CHUNK_BUILDS:
+        return _evaluate(design, batch)
+    parts, sizes = [], []
+    for start in range(0, n, CHUNK_BUILDS):
+        sl = slice(start, min(start + CHUNK_BUILDS, n))
+        piece = _Batch({k: v[sl] for k, v in batch.factors.items()}, batch.vdd[sl],
+                       batch.chip_a[sl], batch.chip_b[sl], batch.rout_u[sl])
+        parts.append(_evaluate(design, piece))
+        sizes.append(piece.size)
+    return _Joined(parts, sizes)
+
+
 # ----------------------------------------------------------------------- Monte Carlo draws
 
 def _temperature_factors(design: Design, tols, temp_c, rng) -> dict[str, np.ndarray]:
@@ -718,7 +752,7 @@ class SpreadResult:
     unpowered_fraction: float  # builds with the supply outside the chip's range
     success: bool  # some builds oscillate
     message: str  # what went wrong, or ""
-    samples: dict[str, np.ndarray] = field(default_factory=dict, repr=False)  # per build
+    samples: dict[str, np.ndarray] = field(default_factory=dict, repr=False)  # per build (see below)
 
     def width_pct(self, key: str = "period_s") -> float:
         """(P95 - P5) / P50 of ``key``, percent."""
@@ -824,7 +858,7 @@ def spread(design: Design, *, target_period_s: float | None = None,
     if corners:
         cb = _corner_batch(design, tols, temp_range, supply_range, draws.varies)
         pieces.append(cb)
-    fig = _evaluate(design, _Batch.concat(pieces))  # the one engine call
+    fig = _evaluate_chunked(design, _Batch.concat(pieces))
 
     nominal = {k: float(v[0]) for k, v in _slice(fig, slice(0, 1)).items()}
     start = 1
@@ -880,7 +914,10 @@ def spread(design: Design, *, target_period_s: float | None = None,
     n_osc = int(np.sum((st == RUNS) | (st == DARK)))
     success = n_osc > 0
     message = "" if success else "no build oscillates with the chip powered"
-    samples = {k: allb[k] for k in (*FIGURE_KEYS, "status")}
+    # every figure per build for ordinary runs; past SAMPLES_ALL_UP_TO builds only what
+    # the reports use (period and status), so a million builds stay in bounded memory
+    kept = FIGURE_KEYS if builds <= SAMPLES_ALL_UP_TO else ("period_s",)
+    samples = {k: allb[k] for k in (*kept, "status")}
     return SpreadResult(
         design=design, target_period_s=target, builds=builds, seed=seed,
         temp_range_c=temp_range, supply_range_v=supply_range, tolerances=tols,

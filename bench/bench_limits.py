@@ -1,0 +1,70 @@
+"""Bounded work: the largest --builds in bounded memory, and a tiny storage's day.
+
+Targets (from the project's robustness requirements, not timed unit tests):
+
+- ``pulsepick solve ... --builds 1000000`` (the documented maximum) peaks under 1 GB
+  over the whole process tree;
+- ``pulsepick day --storage 1uF ...`` (a storage far too small for its load) finishes
+  its simulation in under 2 s.
+
+Runs the commands as the user would and prints wall time and peak memory (the
+largest resident set of the program and of its worker processes). The scenario is a
+community garden's path marker (demo values).
+
+    python bench/bench_limits.py
+"""
+
+from __future__ import annotations
+
+import resource
+import subprocess
+import sys
+import time
+
+SOLVE = ["solve", "one flash every 3 s", "--builds", "1000000"]
+DAY = ["day", "--storage", "1uF", "--panel", "5v60ma", "--weather", "clear",
+       "--night-load", "30uA"]
+MEMORY_TARGET_MB = 1024.0
+DAY_TARGET_S = 2.0
+
+
+def run(argv: list[str]) -> tuple[float, float, int]:
+    """Wall time (s), peak resident memory of the process tree's largest process (MB)
+    and exit status of ``pulsepick argv``."""
+    t = time.perf_counter()
+    proc = subprocess.run([sys.executable, "-m", "pulsepick", *argv],
+                          stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, check=False)
+    wall = time.perf_counter() - t
+    peak_mb = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024.0
+    return wall, peak_mb, proc.returncode
+
+
+def day_simulation_s() -> float:
+    """The simulation of the tiny-storage day alone, without start-up (s)."""
+    from pulsepick.analysis.day import NightWindow, simulate_days
+    from pulsepick.parts.diode import get_diode
+    from pulsepick.parts.panel import get_panel
+    from pulsepick.parts.storage import custom_storage
+
+    storage = custom_storage(1e-6)
+    t = time.perf_counter()
+    simulate_days(storage, get_panel("5v60ma"), get_diode("schottky"), ["clear"], 30e-6,
+                  NightWindow.centred(12 * 3600.0), 0.0)
+    return time.perf_counter() - t
+
+
+def main() -> None:
+    for label, argv, jobs in (("solve, 1,000,000 builds, --jobs 1", SOLVE + ["--jobs", "1"], 1),
+                              ("solve, 1,000,000 builds, --jobs 2", SOLVE + ["--jobs", "2"], 2)):
+        wall, peak, code = run(argv)
+        print(f"{label:40s} {wall:7.1f} s  peak {peak:7.0f} MB per process "
+              f"(x{jobs} workers; target under {MEMORY_TARGET_MB:.0f} MB)  exit {code}")
+    wall, _, code = run(DAY)
+    print(f"{'day, 1 uF storage, whole command':40s} {wall:7.1f} s  exit {code}")
+    sim = day_simulation_s()
+    print(f"{'day, 1 uF storage, simulation only':40s} {sim:7.2f} s  "
+          f"(target under {DAY_TARGET_S:.0f} s)")
+
+
+if __name__ == "__main__":
+    main()
