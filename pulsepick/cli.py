@@ -10,6 +10,7 @@ from __future__ import annotations
 import argparse
 import importlib
 import os
+import re
 import signal
 import sys
 import threading
@@ -42,6 +43,11 @@ class _Parser(argparse.ArgumentParser):
 
 class _UsageError(PulsepickError):
     pass
+
+
+#: An argument that starts with a minus and a digit (``-20..50``, ``-5``, ``-0.5``) is a
+#: value: no option name starts with a digit.
+_NEGATIVE_VALUE = re.compile(r"^-\.?\d")
 
 
 def _load_command(name: str) -> ModuleType | None:
@@ -93,6 +99,8 @@ def build_parser(selected: str | None = None) -> argparse.ArgumentParser:
             epilog=f"examples:\n{examples}" if examples else None,
             formatter_class=argparse.RawDescriptionHelpFormatter,
         )
+        # values such as -20..50 (a range) or -5 are values, not options
+        cmd._negative_number_matcher = _NEGATIVE_VALUE
         cmd.add_argument("--debug", action="store_true", default=argparse.SUPPRESS,
                          help="show a traceback on internal errors")
         module.add_arguments(cmd)

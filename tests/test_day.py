@@ -328,7 +328,7 @@ def test_bad_profiles_name_the_row(text, words):
 
 
 def test_missing_profile_file(tmp_path):
-    with pytest.raises(RequestError, match="cannot be read"):
+    with pytest.raises(RequestError, match="cannot read"):
         load_profile_csv(tmp_path / "nope.csv")
 
 

@@ -630,6 +630,22 @@ class _Runner:
         return result, v, t_lit, (tl_t, tl_v)
 
 
+#: A storage that carries the night load for less than this share of the night is
+#: reported at once (estimate: a light that fails within the first minutes of a night).
+CARRY_SHARE = 0.01
+
+
+def _carry_s(runner: _Runner) -> float:
+    """Seconds the full storage runs the night load down to the light's stop (the load
+    current at full voltage throughout: a quick bound, not the simulation)."""
+    v_full = min(runner.v_full, runner.storage.v_rated_v)
+    i = float(np.interp(v_full, runner.night_load.supply_v, runner.night_load.supply_avg_a))
+    dv = v_full - runner.v_stop
+    if i <= 0 or dv <= 0:
+        return math.inf
+    return runner.storage.capacitance_f * dv / i
+
+
 def simulate_days(storage: Storage, panel: PanelModel, diode: DiodeModel, weather,
                   night_load: LoadCurve | float | None, night: NightWindow, v_start_v: float,
                   *, days: int | None = None, clamp_v: float | None = None,
@@ -673,6 +689,12 @@ def simulate_days(storage: Storage, panel: PanelModel, diode: DiodeModel, weathe
     runner = _Runner(storage, path, n_load, d_load, leak_level, night, stop_at_v)
 
     warnings: list[str] = []
+    carry_s = _carry_s(runner)
+    if carry_s < CARRY_SHARE * night.night_s:
+        warnings.append(
+            f"the storage cannot carry the night load: from full ({runner.v_full:.2f} V) to "
+            f"the light's stop ({runner.v_stop:.2f} V) it lasts about {carry_s:.3g} s of a "
+            f"{night.night_s / 3600:.3g} h night; choose a larger storage or a lighter load")
     v = float(v_start_v)
     if clamp_v is not None and v > clamp_v:
         warnings.append(f"start voltage {v:.2f} V is above the clamp {clamp_v:.2f} V; "

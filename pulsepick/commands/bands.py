@@ -72,7 +72,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     g.add_argument("--seed", type=count_type("--seed", 0, MAX_SEED), default=0, metavar="S",
                    help=f"seed of the random builds, 0 to {MAX_SEED:,} (default 0)")
     g.add_argument("--temps", default="-20..50 C", metavar="LO..HI",
-                   help="ambient temperature range (default -20..50 C)")
+                   help="ambient temperature range in °C, e.g. -20..50 (default -20..50 C)")
     g.add_argument("--target", metavar="T",
                    help="period the yield is counted against (default: the blink's period, "
                         "or the circuit's nominal period)")
@@ -102,6 +102,10 @@ def _supply(text: str) -> tuple[float, float | None]:
 
 
 def _temps(text: str) -> tuple[float, float]:
+    import re
+
+    if re.fullmatch(r"\s*[-+]?[\d.]+\s*\.\.\s*[-+]?[\d.]+\s*", text):
+        text = f"{text.strip()} C"  # bare numbers, as the help writes them: degrees Celsius
     try:
         lo, hi = parse_range(text, "temperature")
     except PulsepickError as err:

@@ -45,12 +45,13 @@ SUMMARY = "run the storage through a night: when the light stops, or what is lef
 EXAMPLES = [
     "pulsepick night --no-circuit --storage 0.2F --start 2.5V --stop-at 1.8V "
     "--storage-leak 0.2uA --extra-load 10uA",
-    "pulsepick night --storage 5f-2v7 --start 2.6V --dusk 18:30 --dawn 07:10 <circuit options>",
+    "pulsepick night --storage 5f-2v7 --start 2.6V --dusk 18:30 --dawn 07:10 --core schmitt "
+    "--r 2M2 --c 1u --stage pulse --cp 22u --rs 47 --family hc",
     "pulsepick night --storage 1f-5v5 --latitude 52.1 --date 2026-12-21 --longitude 5.1 "
-    "--utc-offset 1 <circuit options>",
+    "--utc-offset 1 --core schmitt --r 2M2 --c 1u --stage pulse --cp 22u --rs 47",
     "pulsepick night --no-circuit --storage 0f47-2v7 --night 12.5h --extra-load 8uA --json",
-    "pulsepick night --storage 5f-2v7 --start 2.6V --dusk 18:30 --dawn 07:10 <circuit options> "
-    "--plot night.png --report night.html",
+    "pulsepick night --storage 5f-2v7 --start 2.6V --dusk 18:30 --dawn 07:10 --core schmitt "
+    "--r 2M2 --c 1u --stage pulse --cp 22u --rs 47 --plot night.png --report night.html",
     'pulsepick night --from-solve "one flash every 3 s" --family lvc --storage 5f-2v7 '
     "--start 2.6V --stop-at 1.8V --night 12h",
     "pulsepick night examples/firefly-lantern.toml",
