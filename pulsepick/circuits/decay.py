@@ -14,6 +14,8 @@ ref:ideality-factor-glossary). This serves the pulse stage (flash and reset) and
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from pulsepick.physconst import K_OVER_Q_V_PER_K
@@ -39,6 +41,9 @@ def decay_time(junction, r_t, cap, i1, i2):
     return cap * (r_t * np.log(i1 / i2) + (nvt / i_s) * (np.log1p(i_s / i2) - np.log1p(i_s / i1)))
 
 
+_LN_TINY = math.log(1e-300)  # ln of the smallest current (A) the iteration keeps
+
+
 def decay_end_current(junction, r_t, cap, i1, t, iterations: int = 30):
     """The current after falling for ``t`` seconds from ``i1`` (inverse of ``decay_time``).
 
@@ -60,7 +65,9 @@ def decay_end_current(junction, r_t, cap, i1, t, iterations: int = 30):
         f = decay_time(junction, r_t, cap, i1, i2) - t
         df = -cap * (r_t + nvt / (i_s + i2))
         step = f / df
-        x = x - step
+        # a current that has all but vanished stays a tiny positive number (1e-300 A),
+        # never an exact zero that the closed form would divide by
+        x = np.maximum(x - step, _LN_TINY)
         if np.all(np.abs(step) < 1e-9):
             break
     return np.minimum(np.exp(x), i1)
