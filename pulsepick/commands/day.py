@@ -17,7 +17,7 @@ from pulsepick import __version__
 from pulsepick.analysis.cautions import GENERAL_CAUTIONS
 from pulsepick.analysis.day import MAX_DAYS, DaysResult, NightWindow, simulate_days
 from pulsepick.analysis.irradiance import WEATHER_WORDS, load_profile_csv, parse_weather
-from pulsepick.commands import circuit_options
+from pulsepick.commands import circuit_options, sky_options
 from pulsepick.commands.night_options import degrees, quantity, read_storage
 from pulsepick.errors import RequestError
 from pulsepick.parts.diode import DIODE_KEYS, get_diode
@@ -34,6 +34,8 @@ EXAMPLES = [
     "--start 0V --profile garden.csv --night 12.5h",
     "pulsepick day --storage 0f22-5v5 --panel 2v40ma --weather dim --latitude 52.1 "
     "--date 2026-12-21 --night-load 10uA --json",
+    "pulsepick day --storage 5f-2v7 --panel 5v60ma --clamp 2.4V --latitude 60 --date "
+    "2026-12-21 --tilt 60 --azimuth 180 --turbidity 3 --weather clear,overcast --days 4",
 ]
 
 TURN_ON_CHOICES = ("civil", "sunset")
@@ -136,6 +138,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                             "used every day")
     light.add_argument("--days", metavar="N",
                        help=f"days to run, 1 to {MAX_DAYS} (default: one per weather word)")
+    sky_options.add_sky_arguments(parser)
     night = parser.add_argument_group("the night (--night, or --latitude with --date)")
     night.add_argument("--night", metavar="T",
                        help=f"length of the night, centred on midnight (default {DEFAULT_NIGHT})")
@@ -206,13 +209,17 @@ def read_night(args: argparse.Namespace) -> tuple[NightWindow, dict]:
     except ValueError as err:
         raise RequestError(f"--date {args.date!r} is not a date; use YYYY-MM-DD such as "
                            "2026-12-21") from err
-    from pulsepick.analysis.sun import night_window
+    from pulsepick.analysis.sun import night_span
 
-    dusk, dawn = night_window(latitude, day, longitude_deg=longitude, utc_offset_h=offset,
-                              turn_on=args.turn_on)
-    window = NightWindow.from_times(dusk, dawn)
+    span = night_span(latitude, day, longitude_deg=longitude, utc_offset_h=offset,
+                      turn_on=args.turn_on)
+    if span.rule == "whole day":
+        raise RequestError(f"{span.note}: the panel gets no daylight to charge from; accepted: "
+                           "a date with daylight, or --night with a length under 24 h")
+    window = NightWindow.from_times(span.dusk, span.dawn)
     return window, {"given": "sun", "latitude_deg": latitude, "longitude_deg": longitude,
                     "utc_offset_h": offset, "date": day.isoformat(), "turn_on": args.turn_on,
+                    "night_rule": span.rule, "night_note": span.note,
                     "night_s": window.night_s}
 
 
@@ -245,8 +252,21 @@ def run(args: argparse.Namespace) -> int:
     panel = read_panel(args)
     diode = get_diode(args.diode)
     window, night_info = read_night(args)
-    weather = _weather(args)
     days = _days(args)
+    sky = None
+    if night_info.get("given") == "sun" and args.profile is None:
+        site = sky_options.read_site(args, night_info)
+        names, indices = sky_options.read_indices(args, days)
+        sky = sky_options.sky_weather(site, date.fromisoformat(night_info["date"]), names,
+                                      indices)
+        weather = list(sky.profiles)
+        days = len(weather)
+    elif sky_options.sky_given(args):
+        raise RequestError("--turbidity, --tilt, --azimuth, --altitude and --sky-index need "
+                           "--latitude with --date (the clear sky of a place and date), and "
+                           "no --profile")
+    else:
+        weather = _weather(args)
     v_start = quantity(args.start, "voltage", "--start", "0V or 2.5V", allow_zero=True)
     stop_at = quantity(args.stop_at, "voltage", "--stop-at", "1.8V", allow_zero=True)
     clamp = None if args.clamp is None else quantity(args.clamp, "voltage", "--clamp", "2.5V")
@@ -261,9 +281,9 @@ def run(args: argparse.Namespace) -> int:
         bleed_ohm=bleed, day_load=day_load, stop_at_v=stop_at, leak_level=args.leakage,
         diode_leak=args.diode_leak)
     if args.json:
-        dump_json(result_json(result, night_info))
+        dump_json(result_json(result, night_info, sky))
     else:
-        render_report(result, night_info, make_console())
+        render_report(result, night_info, make_console(), sky)
     return 0
 
 
@@ -275,8 +295,28 @@ def _full_at(result: DaysResult, seconds: float | None) -> str | None:
     return clock(result.night.dawn_s + seconds)
 
 
-def result_json(result: DaysResult, night_info: dict) -> dict:
-    """The JSON document of a run of days (plain types; units in the key names)."""
+def result_json(result: DaysResult, night_info: dict, sky=None) -> dict:
+    """The JSON document of a run of days (plain types; units in the key names).
+
+    ``sky`` (a :class:`pulsepick.commands.sky_options.SkyWeather`) adds the sky model, the
+    turbidity and each day's clear-sky index and light on the panel's plane.
+    """
+    doc = _result_json(result, night_info)
+    doc["sky"] = None if sky is None else sky.info()
+    for i, day in enumerate(doc["days"]):
+        day["clear_sky_index"] = None if sky is None else sky.indices[i]
+        day["irradiation_wh_m2"] = None if sky is None else sky.irradiation_wh_m2[i]
+    if sky is not None:
+        line = sky.sensitivity_line()
+        if line is not None:
+            doc["warnings"].append(line)
+        doc["assumptions"].extend(sky.lines())
+    if night_info.get("night_note"):
+        doc["warnings"].append(night_info["night_note"])
+    return doc
+
+
+def _result_json(result: DaysResult, night_info: dict) -> dict:
     s, p, path = result.storage, result.path.panel, result.path
     w = result.night
     rec = result.recovery
@@ -400,7 +440,7 @@ def assumption_lines(result: DaysResult) -> list[str]:
     return out
 
 
-def render_report(result: DaysResult, night_info: dict, console) -> None:
+def render_report(result: DaysResult, night_info: dict, console, sky=None) -> None:
     """Print the report: setup, the day-by-day table, verdicts, warnings and cautions."""
     from rich.text import Text
 
@@ -479,9 +519,21 @@ def render_report(result: DaysResult, night_info: dict, console) -> None:
         where = ", ".join(f"{w} days at {v:.2f} V" for w, v in traps.items())
         console.print(f"Equilibrium trap: the charge equals the draw on {where}, under the stop "
                       f"voltage {result.v_stop_v:.2f} V: in that light the storage cannot pass it.")
-    _list(console, "Warnings", result.warnings)
+    if sky is not None:
+        totals = sky.irradiation_wh_m2
+        console.print(f"Light on the panel: {min(totals) / 1e3:.2f} to {max(totals) / 1e3:.2f} "
+                      f"kWh/m² a day (clear sky times each day's index; tilt {sky.site.tilt:g}°, "
+                      f"azimuth {sky.site.azimuth:g}°, turbidity {sky.site.turbidity:g}).")
+        line = sky.sensitivity_line()
+        if line is not None:
+            console.print(line)
+    warnings = list(result.warnings)
+    if night_info.get("night_note"):
+        warnings.append(night_info["night_note"])
+    _list(console, "Warnings", warnings)
     _list(console, "Cautions", list(result.cautions) + list(GENERAL_CAUTIONS))
-    _list(console, "Assumptions", assumption_lines(result))
+    _list(console, "Assumptions", assumption_lines(result) + ([] if sky is None else
+                                                              sky.lines()))
 
 
 def key_value_table(rows: list[list[str]]):
