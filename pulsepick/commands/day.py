@@ -280,11 +280,57 @@ def run(args: argparse.Namespace) -> int:
         storage, panel, diode, weather, night_load, window, v_start, days=days, clamp_v=clamp,
         bleed_ohm=bleed, day_load=day_load, stop_at_v=stop_at, leak_level=args.leakage,
         diode_leak=args.diode_leak)
+    clamped = None
+    if result.proposed_clamp_v is not None:
+        # The unclamped run charges past the rating; the same run with the proposed clamp
+        # says what the storage can really hold.
+        clamped = simulate_days(
+            storage, panel, diode, weather, night_load, window, v_start, days=days,
+            clamp_v=result.proposed_clamp_v, bleed_ohm=bleed, day_load=day_load,
+            stop_at_v=stop_at, leak_level=args.leakage, diode_leak=args.diode_leak,
+            recovery=False)
     if args.json:
-        dump_json(result_json(result, night_info, sky))
+        doc = result_json(result, night_info, sky)
+        doc["over_charge"] = over_charge_json(result, clamped)
+        dump_json(doc)
     else:
-        render_report(result, night_info, make_console(), sky)
+        line = over_charge_line(result, clamped)
+        render_report(result, night_info, make_console(), sky, notes=[line] if line else [])
     return 0
+
+
+def over_charge_json(result: DaysResult, clamped: DaysResult | None) -> dict | None:
+    """What the unclamped run counted above the storage's rating, and the clamped run."""
+    if clamped is None:
+        return None
+    c, rated = result.storage.capacitance_f, result.storage.v_rated_v
+    return {
+        "rated_v": rated,
+        "over_charge_c": [max(r.v_max_v - rated, 0.0) * c for r in result.rows],
+        "with_proposed_clamp": {
+            "clamp_v": clamped.path.clamp_v, "nights_lasted": clamped.nights_lasted,
+            "autonomy_nights": clamped.autonomy_nights,
+            "runtime_s": [r.runtime_s for r in clamped.rows]},
+    }
+
+
+def over_charge_line(result: DaysResult, clamped: DaysResult | None) -> str | None:
+    """A sentence on the over-charge the table counts, and the run with the proposed clamp."""
+    if clamped is None:
+        return None
+    rated = result.storage.v_rated_v
+    top = max(r.v_max_v for r in result.rows)
+    if top <= rated + 0.005:
+        return None
+    over = (top - rated) * result.storage.capacitance_f
+    light = sum(r.runtime_s for r in result.rows)
+    light_c = sum(r.runtime_s for r in clamped.rows)
+    return (f"Over-charge: without a clamp the storage reaches {top:.2f} V, "
+            f"{_eng(over, 'C')} above its {rated:.2f} V rating; the table counts that charge. "
+            f"With the proposed {clamped.path.clamp_v:.1f} V clamp the light runs "
+            f"{hours(light_c)} in all instead of {hours(light)}, {clamped.nights_lasted} of "
+            f"{len(clamped.rows)} nights last, and the autonomy is "
+            f"{clamped.autonomy_nights} night(s).")
 
 
 # --------------------------------------------------------------------------- output
@@ -440,7 +486,8 @@ def assumption_lines(result: DaysResult) -> list[str]:
     return out
 
 
-def render_report(result: DaysResult, night_info: dict, console, sky=None) -> None:
+def render_report(result: DaysResult, night_info: dict, console, sky=None,
+                  notes=()) -> None:
     """Print the report: setup, the day-by-day table, verdicts, warnings and cautions."""
     from rich.text import Text
 
@@ -527,6 +574,8 @@ def render_report(result: DaysResult, night_info: dict, console, sky=None) -> No
         line = sky.sensitivity_line()
         if line is not None:
             console.print(line)
+    for note in notes:
+        console.print(note)
     warnings = list(result.warnings)
     if night_info.get("night_note"):
         warnings.append(night_info["night_note"])
