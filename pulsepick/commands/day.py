@@ -34,6 +34,7 @@ EXAMPLES = [
     "--start 0V --profile garden.csv --night 12.5h",
     "pulsepick day --storage 0f22-5v5 --panel 2v40ma --weather dim --latitude 52.1 "
     "--date 2026-12-21 --night-load 10uA --json",
+    "pulsepick day examples/firefly-lantern.toml --weather clear,overcast --days 3",
     "pulsepick day --storage 5f-2v7 --panel 5v60ma --clamp 2.4V --latitude 60 --date "
     "2026-12-21 --tilt 60 --azimuth 180 --turbidity 3 --weather clear,overcast --days 4",
 ]
@@ -108,6 +109,9 @@ def hours(seconds: float | None) -> str:
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     """Options of ``pulsepick day``."""
+    parser.add_argument("design", nargs="?", metavar="DESIGN.toml",
+                        help="a design file: its storage, panel, place and lights (options "
+                             "given here win)")
     store = parser.add_argument_group("storage")
     store.add_argument("--storage", metavar="KEY|C",
                        help=f"a storage part ({', '.join(STORAGE_KEYS)}) or a capacitance such "
@@ -116,7 +120,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                        help="rated voltage of a storage given as a capacitance (default 2.7V)")
     store.add_argument("--start", metavar="V", default="0V",
                        help="storage voltage at the first dawn (default 0V: empty)")
-    store.add_argument("--stop-at", metavar="V", default=DEFAULT_STOP,
+    store.add_argument("--stop-at", metavar="V", default=None,
                        help=f"the light stops when the storage falls to this voltage "
                             f"(default {DEFAULT_STOP})")
     store.add_argument("--leakage", choices=LEAK_LEVELS, default="settled",
@@ -248,6 +252,11 @@ def _days(args: argparse.Namespace) -> int | None:
 
 def run(args: argparse.Namespace) -> int:
     """Read the options, run the days and nights, print the report or JSON."""
+    from pulsepick.commands import day_design
+
+    design = day_design.apply_design(args)
+    if args.stop_at is None:
+        args.stop_at = DEFAULT_STOP
     storage = read_storage(args.storage, args.rated)
     panel = read_panel(args)
     diode = get_diode(args.diode)
@@ -274,7 +283,8 @@ def run(args: argparse.Namespace) -> int:
     if args.bleed is not None:
         bleed = quantity(args.bleed, "resistance", "--bleed", "240k")
     v_top = max(storage.v_rated_v, clamp or 0.0, v_start, panel.voc_v)
-    night_load = read_night_load(args, v_top)
+    night_load = (read_night_load(args, v_top) if design is None
+                  else day_design.design_load(args, design, storage, v_top))
     day_load = quantity(args.day_load, "current", "--day-load", "2uA", allow_zero=True)
     result = simulate_days(
         storage, panel, diode, weather, night_load, window, v_start, days=days, clamp_v=clamp,
