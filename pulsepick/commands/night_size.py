@@ -23,8 +23,8 @@ def add_size_arguments(parser: argparse.ArgumentParser) -> None:
                        help="answer what storage lasts until dawn with a margin, and the "
                             "largest average load the given storage carries")
     group.add_argument("--margin", metavar="PCT", default=None,
-                       help=f"extra night to last, such as 20%% (default "
-                            f"{DEFAULT_MARGIN:.0%})")
+                       help=f"extra night to last, such as 30%% (default "
+                            f"{DEFAULT_MARGIN * 100:.0f}%%)")
     group.add_argument("--date-range", metavar="FIRST..LAST",
                        help="size for the longest night between two dates (needs --latitude)")
     group.add_argument("--year", metavar="YYYY",
