@@ -55,12 +55,33 @@ def add_panel_arguments(parser: argparse.ArgumentParser) -> None:
     group.add_argument("--panel-isc", metavar="I", help="rated short-circuit current, such as 60mA")
     group.add_argument("--panel-cells", metavar="N",
                        help="cells in series (default: guessed from about 0.6 V per cell)")
+    group.add_argument("--panel-rsh", metavar="R",
+                       help="the panel's measured shunt resistance, such as 400k (default: an "
+                            "estimate, 5000 x Voc/Isc)")
     group.add_argument("--diode", choices=DIODE_KEYS, default="schottky",
                        help="series charging diode (default schottky)")
 
 
 def read_panel(args: argparse.Namespace) -> PanelModel:
-    """The panel from ``--panel`` or ``--panel-voc``/``--panel-isc``/``--panel-cells``."""
+    """The panel from ``--panel`` or ``--panel-voc``/``--panel-isc``/``--panel-cells``, with
+    a measured ``--panel-rsh`` in place of the estimated shunt resistance."""
+    panel = _read_panel(args)
+    text = getattr(args, "panel_rsh", None)
+    if text is None:
+        return panel
+    from dataclasses import replace
+
+    from pulsepick.errors import PulsepickError
+
+    r_sh = quantity(text, "resistance", "--panel-rsh", "400k")
+    try:
+        return replace(panel, r_sh_ohm=r_sh,
+                       source_notes=f"{panel.source_notes}; shunt resistance given")
+    except PulsepickError as err:
+        raise RequestError(f"--panel-rsh {text!r}: {err}") from err
+
+
+def _read_panel(args: argparse.Namespace) -> PanelModel:
     rated = [args.panel_voc, args.panel_isc, args.panel_cells]
     accepted = (f"--panel KEY ({', '.join(panel_keys())}) or --panel-voc 5V --panel-isc 60mA "
                 "[--panel-cells 8]")
