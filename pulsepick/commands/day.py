@@ -164,6 +164,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     light.add_argument("--days", metavar="N",
                        help=f"days to run, 1 to {MAX_DAYS} (default: one per weather word)")
     sky_options.add_sky_arguments(parser)
+    from pulsepick.commands import day_size
+
+    day_size.add_size_arguments(parser)
     night = parser.add_argument_group("the night (--night, or --latitude with --date)")
     night.add_argument("--night", metavar="T",
                        help=f"length of the night, centred on midnight (default {DEFAULT_NIGHT})")
@@ -281,6 +284,8 @@ def run(args: argparse.Namespace) -> int:
     storage = read_storage(args.storage, args.rated)
     panel = read_panel(args)
     diode = get_diode(args.diode)
+    if args.size or args.autonomy is not None:
+        return _run_size(args, design, storage, panel, diode)
     window, night_info = read_night(args)
     days = _days(args)
     sky = None
@@ -327,6 +332,28 @@ def run(args: argparse.Namespace) -> int:
     else:
         line = over_charge_line(result, clamped)
         render_report(result, night_info, make_console(), sky, notes=[line] if line else [])
+    return 0
+
+
+def _run_size(args, design, storage, panel, diode) -> int:
+    from pulsepick.commands import day_design, day_size
+
+    if not args.size:
+        raise RequestError("--autonomy goes with --size (the panel and storage for N nights)")
+    stop_at = quantity(args.stop_at, "voltage", "--stop-at", "1.8V", allow_zero=True)
+    clamp = None if args.clamp is None else quantity(args.clamp, "voltage", "--clamp", "2.5V")
+    day_load = quantity(args.day_load, "current", "--day-load", "2uA", allow_zero=True)
+
+    def load_of(v_top: float):
+        if design is None:
+            return read_night_load(args, v_top)
+        return day_design.design_load(args, design, storage, v_top)
+
+    doc = day_size.run_size(args, storage, panel, diode, load_of, day_load, stop_at, clamp)
+    if args.json:
+        dump_json(doc)
+    else:
+        day_size.render_size(doc, make_console())
     return 0
 
 
