@@ -253,3 +253,55 @@ def test_design_file_reference_page_documents_every_key():
     missing = sorted(keys - rows)
     assert not missing, f"keys missing from docs/design-file.md: {missing}"
     assert len(keys) > 40
+
+
+def test_day_size_for_autonomy_in_the_worst_month(capsys):
+    code, out, err = _run(capsys, ["day", "--storage", "1F", "--rated", "2.7V", "--panel",
+                                   "5v60ma", "--clamp", "2.5V", "--night-load", "30uA",
+                                   "--latitude", "52.1", "--date", "2026-06-01", "--size",
+                                   "--autonomy", "2", "--json"])
+    assert code == 0, err
+    doc = json.loads(out)
+    # the least clear-sky light on a 52° south-facing plane falls in December
+    # (ref:pvlib-clearsky-runs: 2.69 kWh/m² on 21 December at 52 N)
+    assert doc["worst_date"] == "2026-12-15"
+    assert doc["irradiation_wh_m2"] == pytest.approx(2689.0, rel=0.05)
+    # charge of a capacitor: 30 µA over two nights from the 2.5 V clamp to 1.8 V needs
+    # C = I·2·T/0.7 V (hand); leakage only adds to it, a few per cent here
+    bare = 30e-6 * 2 * doc["night_s"] / 0.7
+    assert bare <= doc["min_capacitance_f"] <= 1.10 * bare
+    assert doc["suggested_storage"] == "5f-2v7" and doc["storage_autonomy_nights"] >= 2
+    assert doc["suggested_panel"] is not None and doc["clamp_v"] == 2.5
+
+
+def test_day_size_needs_a_latitude(capsys):
+    code, _, err = _run(capsys, ["day", "--storage", "5f-2v7", "--panel", "5v60ma",
+                                 "--size", "--autonomy", "3"])
+    assert code == 2 and "--size needs --latitude" in err
+
+
+def test_dusk_turn_on_over_the_shunt_resistance_spread(capsys):
+    # The estimated shunt resistance ×0.1 and ×10 moves a 10 lx turn-on to about 46 and 7 lx
+    # (the spread this model gives; the figures the issue measured with it).
+    code, out, err = _run(capsys, ["dusk", "--panel", "5v60ma", "--dusk-at", "10lux",
+                                   "--json"])
+    assert code == 0, err
+    s = json.loads(out)["turn_on_shunt_spread"]
+    assert s["status"] == "estimate"
+    assert s["low_r_sh_ohm"] == pytest.approx(0.1 * s["r_sh_ohm"])
+    assert s["turn_on_low_r_sh_lux"] == pytest.approx(46.0, rel=0.05)
+    assert s["turn_on_high_r_sh_lux"] == pytest.approx(7.0, rel=0.05)
+    code, out, err = _run(capsys, ["dusk", "--panel", "5v60ma", "--dusk-at", "10lux",
+                                   "--panel-rsh", "1M", "--json"])
+    s = json.loads(out)["turn_on_shunt_spread"]
+    assert s["status"] == "given" and s["turn_on_min_lux"] == s["turn_on_max_lux"]
+
+
+def test_dusk_design_file(capsys, tmp_path):
+    path = tmp_path / "lantern.toml"
+    path.write_text(LANTERN, encoding="utf-8")
+    code, out, err = _run(capsys, ["dusk", str(path), "--dusk-at", "10lux", "--json"])
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["panel"]["voc_v"] == 3.0 and doc["supply_v"] == 2.6
+    assert doc["family"] == "hc"
