@@ -305,3 +305,14 @@ def test_dusk_design_file(capsys, tmp_path):
     doc = json.loads(out)
     assert doc["panel"]["voc_v"] == 3.0 and doc["supply_v"] == 2.6
     assert doc["family"] == "hc"
+
+
+def test_ldr_design_file(capsys, tmp_path):
+    path = tmp_path / "lantern.toml"
+    path.write_text(LANTERN, encoding="utf-8")
+    code, out, err = _run(capsys, ["ldr", str(path), "--light", "path marker", "--json"])
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["replaces"] in ("r1", "rb") and len(doc["levels"]) == 21
+    code, _, err = _run(capsys, ["ldr", str(path), "--light", "porch"])
+    assert code == 2 and "accepted: path marker" in err
