@@ -44,7 +44,7 @@ def _pvlib_day(lat: float, day: date, tilt: float, azimuth: float, turbidity: fl
 def test_hourly_light_matches_pvlib_ineichen_within_3_percent(lat, day):
     # pvlib.clearsky.ineichen through Location.get_clearsky at Linke turbidity 3: GHI, DNI
     # and DHI within 3 % wherever the sun is more than 5 degrees up.
-    times, sky, sun, _ = _pvlib_day(lat, day, 0.0, 180.0, step="1h")
+    _, sky, sun, _ = _pvlib_day(lat, day, 0.0, 180.0, step="1h")
     ours = clear_sky(Site(lat), datetime(day.year, day.month, day.day, tzinfo=timezone.utc),
                      np.arange(24) * 3600.0)
     up = (90.0 - sun["apparent_zenith"].to_numpy()) > 5.0
@@ -112,7 +112,7 @@ def test_global_horizontal_within_25_percent_of_haurwitz(lat, day, turbidity):
     # pvlib.clearsky.haurwitz (ref:haurwitz-1945), an independent clear-sky model: daily
     # global horizontal within 25 % (the two published models differ by up to 20 % in
     # winter at high latitude).
-    times, _, sun, _ = _pvlib_day(lat, day, 0.0, 180.0)
+    _, _, sun, _ = _pvlib_day(lat, day, 0.0, 180.0)
     ref = float(clearsky.haurwitz(sun["apparent_zenith"])["ghi"].sum()) / 60.0
     ours = daily_irradiation_wh_m2(Site(lat, turbidity=turbidity), day, plane=False)
     assert ours == pytest.approx(ref, rel=0.25)

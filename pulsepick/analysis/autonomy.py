@@ -29,7 +29,7 @@ from pulsepick.analysis.day import (
     simulate_days,
 )
 from pulsepick.analysis.irradiance import Profile
-from pulsepick.analysis.sky import Site, day_profile, daily_irradiation_wh_m2
+from pulsepick.analysis.sky import Site, daily_irradiation_wh_m2, day_profile
 from pulsepick.errors import RequestError
 from pulsepick.parts.diode import DiodeModel
 from pulsepick.parts.panel import PanelModel, get_panel, panel_keys

@@ -4,7 +4,6 @@ autonomy in the worst month at the latitude (see :mod:`pulsepick.analysis.autono
 from __future__ import annotations
 
 import argparse
-import math
 from datetime import date
 
 from pulsepick.errors import RequestError
@@ -107,6 +106,3 @@ def render_size(doc: dict, console) -> None:
     console.print("\nAssumptions:")
     for note in doc["assumptions"]:
         console.print(f" - {note}", highlight=False)
-
-
-__all__ = ["add_size_arguments", "math", "render_size", "run_size"]

@@ -301,7 +301,7 @@ def run(args: argparse.Namespace) -> int:
     if advice is not None and advice.cautions:
         result = replace(result, cautions=advice.cautions + result.cautions)
     if night.get("note"):
-        result = replace(result, warnings=result.warnings + (night["note"],))
+        result = replace(result, warnings=(*result.warnings, night["note"]))
     if args.json:
         dump_json(result_json(result, night, context))
     else:

@@ -13,7 +13,7 @@ import math
 from dataclasses import dataclass
 from datetime import date, timedelta
 
-from pulsepick.analysis.irradiance import WEATHER_WORDS, Profile
+from pulsepick.analysis.irradiance import Profile
 from pulsepick.analysis.sky import (
     CLEAR_SKY_INDEX,
     DEFAULT_TURBIDITY,
@@ -169,7 +169,3 @@ def sky_weather(site: Site, first: date, names, indices) -> SkyWeather:
                 sens[t] = daily_irradiation_wh_m2(site.with_turbidity(t), first)
     return SkyWeather(site, first, tuple(profiles), tuple(indices), tuple(totals), low, top,
                       sens)
-
-
-__all__ = ["WEATHER_WORDS", "SkyWeather", "add_sky_arguments", "read_indices", "read_site",
-           "sky_given", "sky_weather"]
