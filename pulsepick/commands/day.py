@@ -16,7 +16,12 @@ from datetime import date
 from pulsepick import __version__
 from pulsepick.analysis.cautions import GENERAL_CAUTIONS
 from pulsepick.analysis.day import MAX_DAYS, DaysResult, NightWindow, simulate_days
-from pulsepick.analysis.irradiance import WEATHER_WORDS, load_profile_csv, parse_weather
+from pulsepick.analysis.irradiance import (
+    WEATHER_WORDS,
+    get_profile,
+    load_profile_csv,
+    parse_weather,
+)
 from pulsepick.commands import circuit_options, sky_options
 from pulsepick.commands.night_options import degrees, quantity, read_storage
 from pulsepick.errors import RequestError
@@ -40,6 +45,8 @@ EXAMPLES = [
 ]
 
 TURN_ON_CHOICES = ("civil", "sunset")
+SHAPES_NOTE = ("light: an illustrative day shape, the same in every season; give --latitude "
+               "and --date for the clear sky of a place and date")
 DEFAULT_NIGHT = "12h"
 DEFAULT_STOP = "1.8V"
 
@@ -327,6 +334,11 @@ def run(args: argparse.Namespace) -> int:
             recovery=False)
     if args.json:
         doc = result_json(result, night_info, sky)
+        if sky is None:
+            # the profile shapes' own totals (illustrative light, not the sky of a place)
+            shapes = [w if not isinstance(w, str) else get_profile(w) for w in weather]
+            for i, day in enumerate(doc["days"]):
+                day["irradiation_wh_m2"] = shapes[i % len(shapes)].insolation_wh_m2
         doc["over_charge"] = over_charge_json(result, clamped)
         dump_json(doc)
     else:
@@ -415,6 +427,8 @@ def result_json(result: DaysResult, night_info: dict, sky=None) -> dict:
         if line is not None:
             doc["warnings"].append(line)
         doc["assumptions"].extend(sky.lines())
+    else:
+        doc["assumptions"].append(SHAPES_NOTE)
     if night_info.get("night_note"):
         doc["warnings"].append(night_info["night_note"])
     return doc
@@ -639,7 +653,7 @@ def render_report(result: DaysResult, night_info: dict, console, sky=None,
         warnings.append(night_info["night_note"])
     _list(console, "Warnings", warnings)
     _list(console, "Cautions", list(result.cautions) + list(GENERAL_CAUTIONS))
-    _list(console, "Assumptions", assumption_lines(result) + ([] if sky is None else
+    _list(console, "Assumptions", assumption_lines(result) + ([SHAPES_NOTE] if sky is None else
                                                               sky.lines()))
 
 
