@@ -45,8 +45,9 @@ EXAMPLES = [
 ]
 
 TURN_ON_CHOICES = ("civil", "sunset")
-SHAPES_NOTE = ("light: an illustrative day shape, the same in every season; give --latitude "
-               "and --date for the clear sky of a place and date")
+SHAPES_NOTE = ("light: the --profile file, or an illustrative day shape that is the same in "
+               "every season; --latitude with --date (and no --profile) gives the clear sky of "
+               "a place and date")
 DEFAULT_NIGHT = "12h"
 DEFAULT_STOP = "1.8V"
 
