@@ -82,8 +82,8 @@ def day_simulation_s(capacitance_f: float = 1e-6) -> float:
 
 
 def main() -> None:
-    for label, argv, jobs in (("solve, 1,000,000 builds, --jobs 1", SOLVE + ["--jobs", "1"], 1),
-                              ("solve, 1,000,000 builds, --jobs 2", SOLVE + ["--jobs", "2"], 2)):
+    for label, argv, jobs in (("solve, 1,000,000 builds, --jobs 1", [*SOLVE, "--jobs", "1"], 1),
+                              ("solve, 1,000,000 builds, --jobs 2", [*SOLVE, "--jobs", "2"], 2)):
         wall, peak, code = run(argv)
         print(f"{label:40s} {wall:7.1f} s  peak {peak:7.0f} MB, whole process tree "
               f"({jobs} worker(s); target under {MEMORY_TARGET_MB:.0f} MB)  exit {code}")

@@ -1029,7 +1029,6 @@ def make_build_request(phrases: tuple[str, ...] | list[str], *, names=None,
     light's problems are collected and reported together, each naming its light.
     """
     from pulsepick.analysis.multi import DEFAULT_LOCK_MARGIN, DEFAULT_PERIOD_TOLERANCE
-
     from pulsepick.limits import MAX_LIGHTS
 
     if len(phrases) > MAX_LIGHTS:

@@ -58,7 +58,7 @@ def test_signal_ends_the_whole_tree(sig, status):
             assert proc.poll() is None, proc.stderr.read()
         assert len(kids) == 2  # the two workers asked for with --jobs 2
         proc.send_signal(sig)
-        out, err = proc.communicate(timeout=2.0)  # ends within the 2 s allowed
+        _, err = proc.communicate(timeout=2.0)  # ends within the 2 s allowed
         assert proc.returncode == status
         assert b"Traceback" not in err
         assert len(err.decode().strip().splitlines()) == 1

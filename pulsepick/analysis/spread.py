@@ -752,7 +752,7 @@ class SpreadResult:
     unpowered_fraction: float  # builds with the supply outside the chip's range
     success: bool  # some builds oscillate
     message: str  # what went wrong, or ""
-    samples: dict[str, np.ndarray] = field(default_factory=dict, repr=False)  # per build (see below)
+    samples: dict[str, np.ndarray] = field(default_factory=dict, repr=False)  # per build
 
     def width_pct(self, key: str = "period_s") -> float:
         """(P95 - P5) / P50 of ``key``, percent."""

@@ -24,7 +24,7 @@ import numpy as np
 
 from pulsepick import __version__
 from pulsepick.errors import ExportError, PulsepickError, RequestError, echo
-from pulsepick.export import check_target, write_atomic
+from pulsepick.export import write_atomic
 from pulsepick.htmlreport import (
     Cell,
     Image,

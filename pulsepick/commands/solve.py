@@ -41,6 +41,15 @@ _PHRASE_HELP = (
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     """Options of ``pulsepick solve``."""
+    from pulsepick.limits import (
+        MAX_BUILDS,
+        MAX_LIGHTS,
+        MAX_SEED,
+        MAX_TOP,
+        MIN_BUILDS,
+        count_type,
+        max_jobs,
+    )
     from pulsepick.request import (
         CORE_CHOICES,
         DEFAULT_BUILDS,
@@ -57,15 +66,6 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
         FAMILY_CHOICES,
         STAGE_CHOICES,
         TIMING_CAP_CHOICES,
-    )
-    from pulsepick.limits import (
-        MAX_BUILDS,
-        MAX_LIGHTS,
-        MAX_SEED,
-        MAX_TOP,
-        MIN_BUILDS,
-        count_type,
-        max_jobs,
     )
 
     parser.add_argument("phrase", nargs="?", metavar="PHRASE", help=_PHRASE_HELP)
@@ -683,11 +683,10 @@ def build_request_from_args(args):
 
 def run_build(args) -> int:
     """Solve several lights, print the build report or JSON, write one buy list."""
+    from pulsepick.commands.pictures import check_picture_targets
     from pulsepick.errors import RequestError
     from pulsepick.render import dump_json, make_console
     from pulsepick.solve import default_jobs, solve_build
-
-    from pulsepick.commands.pictures import check_picture_targets
 
     if getattr(args, "plot", None) or getattr(args, "report", None):
         raise RequestError("--plot and --report draw one light; for several lights run "
