@@ -446,18 +446,20 @@ class _Joined:
                 for f, n in zip(parts, sizes, strict=True)]))
 
 
-def _evaluate_chunked(design: Design, batch: _Batch):
-    """:func:`_evaluate` over ``batch`` in calls of at most ``CHUNK_BUILDS`` builds."""
-    n = batch.size
-    if n <= CHUNK_BUILDS:
-        return _evaluate(design, batch)
+def _evaluate_chunked(design: Design, pieces: list[_Batch]):
+    """:func:`_evaluate` over the builds of ``pieces`` one after the other, in calls of
+    at most ``CHUNK_BUILDS`` builds (no joined copy of the inputs is made)."""
+    if sum(b.size for b in pieces) <= CHUNK_BUILDS:
+        return _evaluate(design, _Batch.concat(pieces))
     parts, sizes = [], []
-    for start in range(0, n, CHUNK_BUILDS):
-        sl = slice(start, min(start + CHUNK_BUILDS, n))
-        piece = _Batch({k: v[sl] for k, v in batch.factors.items()}, batch.vdd[sl],
-                       batch.chip_a[sl], batch.chip_b[sl], batch.rout_u[sl])
-        parts.append(_evaluate(design, piece))
-        sizes.append(piece.size)
+    for batch in pieces:
+        n = batch.size
+        for start in range(0, n, CHUNK_BUILDS):
+            sl = slice(start, min(start + CHUNK_BUILDS, n))
+            piece = _Batch({k: v[sl] for k, v in batch.factors.items()}, batch.vdd[sl],
+                           batch.chip_a[sl], batch.chip_b[sl], batch.rout_u[sl])
+            parts.append(_evaluate(design, piece))
+            sizes.append(piece.size)
     return _Joined(parts, sizes)
 
 
@@ -853,12 +855,14 @@ def spread(design: Design, *, target_period_s: float | None = None,
         n_share = min(builds, SHARE_BUILDS)
         runs += [(s, _run_batch(design, draws, names, n_share, s))
                  for s in SOURCES if draws.varies[s]]
+    varies = dict(draws.varies)
+    del draws  # the batches hold what the engine needs; free the raw draws first
     nominal_batch = _Batch.nominal(design, 1, names)
     pieces = [nominal_batch] + [b for _, b in runs]
     if corners:
-        cb = _corner_batch(design, tols, temp_range, supply_range, draws.varies)
+        cb = _corner_batch(design, tols, temp_range, supply_range, varies)
         pieces.append(cb)
-    fig = _evaluate_chunked(design, _Batch.concat(pieces))
+    fig = _evaluate_chunked(design, pieces)  # in engine calls of bounded size
 
     nominal = {k: float(v[0]) for k, v in _slice(fig, slice(0, 1)).items()}
     start = 1
@@ -924,7 +928,7 @@ def spread(design: Design, *, target_period_s: float | None = None,
         yield_band=float(yield_band), nominal=nominal, quantiles=quantiles,
         mc_range=mc_range, corners=corner_rng, corner_count=n_corner, corner_failures=fails,
         corner_stalls=n_stalls,
-        shares=share if shares else {}, source_varies=dict(draws.varies),
+        shares=share if shares else {}, source_varies=varies,
         yield_fraction=float(np.mean(good)),
         stall_fraction=float(np.mean(st == STALLS)),
         dark_fraction=float(np.mean(st == DARK)),
