@@ -24,6 +24,24 @@ MAX_NESTING = 16  # nesting depth of a design file (the format itself needs 3)
 JOBS_PER_CPU = 4  # worker processes per CPU core at most
 
 
+# Memory of a run of the documented maximum stays under a gigabyte: the spread of one
+# circuit needs about this many bytes per build at its peak (bench/bench_limits.py:
+# 1,000,000 builds peak near 360 MB), and every process some fixed amount besides
+# (numpy, scipy and the tables loaded; measured about 150 MB).
+MEMORY_BUDGET_B = 1.0e9
+SPREAD_BYTES_PER_BUILD = 400.0
+PROCESS_BASE_B = 150e6
+
+
+def workers_for_builds(jobs: int, builds: int) -> int:
+    """Worker processes for checking circuits with ``builds`` Monte Carlo builds each:
+    at most ``jobs``, and no more than :data:`MEMORY_BUDGET_B` holds next to this
+    process (one worker at the very least)."""
+    per_worker = PROCESS_BASE_B + SPREAD_BYTES_PER_BUILD * builds
+    room = MEMORY_BUDGET_B - PROCESS_BASE_B
+    return max(1, min(jobs, int(room // per_worker)))
+
+
 def max_jobs() -> int:
     """The largest ``--jobs``: four workers per CPU core."""
     return JOBS_PER_CPU * max(1, os.cpu_count() or 1)

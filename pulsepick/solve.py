@@ -1563,6 +1563,9 @@ def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
              {p.param: p.tolerance_pct for p in c.parts if p.kind == "resistor"})
             for c in cands]
     outputs: list[dict[str, Any] | None] = [None] * len(cands)
+    from pulsepick.limits import workers_for_builds
+
+    jobs = workers_for_builds(jobs, req.builds)  # bounded memory for many builds
     if jobs > 1 and len(cands) > 1:
         from pulsepick.workers import run_pool
 
