@@ -39,7 +39,7 @@ EXAMPLES = [
     "--start 0V --profile garden.csv --night 12.5h",
     "pulsepick day --storage 0f22-5v5 --panel 2v40ma --weather dim --latitude 52.1 "
     "--date 2026-12-21 --night-load 10uA --json",
-    "pulsepick day examples/firefly-lantern.toml --weather clear,overcast --days 3",
+    "pulsepick day examples/garden-path-markers.toml --weather clear,overcast --days 3",
     "pulsepick day --storage 5f-2v7 --panel 5v60ma --clamp 2.4V --latitude 60 --date "
     "2026-12-21 --tilt 60 --azimuth 180 --turbidity 3 --weather clear,overcast --days 4",
 ]
