@@ -1,0 +1,380 @@
+"""Retune a built blinker: what its measured timing says about its chip, and which one
+or two part changes bring it to the wanted blink.
+
+One measured period gives one unknown: the chip's thresholds are taken as the
+family's typical VT+ and VT- times one common scale (estimate: a chip sits high or low
+as a whole). A period and a flash length give both thresholds where the flash is one
+of the timing phases. A 555's levels are fractions of its supply (ratiometric), so a
+miss there comes from the parts; it is carried as an effective scale of C1.
+
+Every change is predicted with the fast engine and the inferred chip, and again at the
+ends of the measurement's uncertainty, which gives the range left over.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, replace
+from typing import Any
+
+import numpy as np
+from scipy.optimize import brentq, least_squares
+
+from pulsepick.analysis.trim import TRIM_STEPS_NOTE, period_part, retune_trimmer
+from pulsepick.circuits.base import get_core, get_stage
+from pulsepick.design import Design
+from pulsepick.engine import fast
+from pulsepick.errors import RequestError
+from pulsepick.units import format_eng
+
+#: A single standard value is enough when it lands within this fraction of the wanted
+#: period; beyond it two-part and trimmer changes are offered.
+SINGLE_ENOUGH = 0.02
+#: Weight of the flash error against the period error in the ranking (estimate).
+FLASH_WEIGHT = 0.5
+#: Candidate single values span this factor either way of the present value.
+SEARCH_FACTOR = 4.0
+#: Largest resistor of a two-part combination, ohm (leakage starts to count; common practice).
+COMBO_MAX_OHM = 10e6
+#: The flash tells the two thresholds apart only if its relative sensitivity to them
+#: differs from the period's by more than this (else the 2-by-2 system is ill-posed).
+_MIN_INDEPENDENCE = 0.05
+
+
+@dataclass(frozen=True)
+class Measured:
+    """What was measured on the built blinker (SI units)."""
+
+    period_s: float  # s
+    period_unc_s: float  # s, +/- uncertainty
+    flash_s: float | None = None  # s, at half peak
+    flash_unc_s: float = 0.0  # s
+    supply_current_a: float | None = None  # A, average draw of the whole blinker
+
+    def __post_init__(self) -> None:
+        if not (math.isfinite(self.period_s) and self.period_s > self.period_unc_s >= 0):
+            raise RequestError(f"the measured period {self.period_s:g} s must be longer than "
+                               f"its uncertainty {self.period_unc_s:g} s; time more periods")
+        if self.flash_s is not None and not (
+                math.isfinite(self.flash_s) and self.period_s > self.flash_s > self.flash_unc_s):
+            raise RequestError(f"the measured flash {self.flash_s:g} s must be shorter than "
+                               "the period and longer than its uncertainty")
+        if self.supply_current_a is not None and not self.supply_current_a > 0:
+            raise RequestError("the measured supply current must be above 0 A, e.g. 40uA")
+
+
+@dataclass(frozen=True)
+class Inferred:
+    """The chip (or the parts' miss) inferred from the measurement."""
+
+    which: str  # "scale" (one threshold scale), "both" (VT+ and VT-), "ratiometric" (555)
+    vt_plus_v: float  # V, at the circuit's supply
+    vt_minus_v: float  # V
+    c_scale: float  # effective scale of C1 (1 except for the 555)
+    bounds: tuple[tuple[float, float, float], ...]  # (VT+, VT-, C scale) at the ends
+    cross_current_a: float | None  # A, crossing current that explains the measured draw
+    text: str  # what was inferred, in words
+
+
+@dataclass(frozen=True)
+class Change:
+    """One way to bring the blinker to the wanted blink."""
+
+    rank: int
+    kind: str  # "single", "series", "parallel" or "trimmer"
+    param: str  # circuit value changed (r1, ra, ...)
+    values: dict[str, float]  # the whole circuit after the change (ohm / farad)
+    parts: tuple[str, ...]  # the change in words, one line per new part
+    new_parts: tuple[tuple[str, str, float, str], ...]  # (ref, "R"/"C"/"RV", value, role)
+    predicted: dict[str, float]  # period_s, flash_s, led_peak_a with the inferred chip
+    period_range_s: tuple[float, float]  # s, over the measurement's uncertainty
+    error: float  # predicted period / wanted - 1
+    note: str
+
+
+@dataclass(frozen=True)
+class RetuneResult:
+    design: Design  # the circuit as built
+    measured: Measured
+    want_period_s: float
+    want_flash_s: float | None
+    inferred: Inferred
+    predicted_now: dict[str, float]  # the built circuit with the inferred chip
+    changes: tuple[Change, ...]
+    notes: tuple[str, ...]
+
+
+def _c_name(design: Design) -> str:
+    return next(p.name for p in get_core(design.topo.core).params if p.kind == "C")
+
+
+def _figures(design: Design, values: dict[str, Any], chip: tuple[float, float, float],
+             cross=None):
+    """Fast figures of ``values`` (arrays allowed) with the chip ``(VT+, VT-, C scale)``."""
+    vtp, vtm, c_scale = chip
+    d = design if cross is None else replace(design, chip=replace(design.chip,
+                                                                  cross_current_a=cross))
+    kw = {} if design.chip.is_timer else {"vt_plus": vtp, "vt_minus": vtm}
+    env, powered = d.env(**kw)
+    c = _c_name(design)
+    vals = {**design.values, **values}
+    vals[c] = np.asarray(vals[c], dtype=float) * c_scale * d.timing_cap_factor(env)
+    return fast.evaluate(design.topo, vals, env, powered=powered)
+
+
+def _scalar(x) -> float:
+    return float(np.ravel(x)[0])
+
+
+def _typical(design: Design) -> tuple[float, float]:
+    env, _ = design.env()
+    return _scalar(env.vt_plus), _scalar(env.vt_minus)
+
+
+def _solve_scale(design: Design, period: float) -> tuple[float, float, float]:
+    """The chip (VT+, VT-, C scale) whose fast period equals ``period``."""
+    if design.chip.is_timer:
+        def f_c(k):
+            return _scalar(_figures(design, {}, (0, 0, k)).period_s) - period
+        return (*_typical(design), brentq(f_c, 0.05, 20.0, xtol=1e-10))
+    vtp0, vtm0 = _typical(design)
+    s_hi = 0.999 * design.supply_v / vtp0
+
+    def f_s(s):
+        p = _scalar(_figures(design, {}, (s * vtp0, s * vtm0, 1.0)).period_s)
+        return (p if math.isfinite(p) else 1e9) - period
+
+    lo, hi = 0.05, s_hi
+    if f_s(lo) * f_s(hi) > 0:
+        raise RequestError(f"no chip of this family gives a period of {period:g} s with these "
+                           "parts; check the values, the supply and the family")
+    s = brentq(f_s, lo, hi, xtol=1e-10)
+    return s * vtp0, s * vtm0, 1.0
+
+
+def _solve_both(design: Design, period: float, flash: float, start) -> tuple | None:
+    """Both thresholds from a period and a flash, or None when the flash cannot tell."""
+    vdd = design.supply_v
+
+    def resid(x):
+        f = _figures(design, {}, (x[0], x[1], 1.0))
+        return [_scalar(f.period_s) / period - 1.0, _scalar(f.flash_s) / flash - 1.0]
+
+    x0 = np.array(start[:2])
+    r0 = np.array(resid(x0))
+    jac = np.zeros((2, 2))
+    for j in range(2):
+        dx = np.zeros(2)
+        dx[j] = 1e-4 * vdd
+        jac[:, j] = (np.array(resid(x0 + dx)) - r0) / dx[j]
+    rows = jac / np.maximum(np.linalg.norm(jac, axis=1, keepdims=True), 1e-300)
+    if abs(np.linalg.det(rows)) < _MIN_INDEPENDENCE:
+        return None
+    sol = least_squares(resid, x0, bounds=([1e-3 * vdd, 1e-3 * vdd], [0.999 * vdd] * 2),
+                        xtol=1e-12, ftol=1e-12)
+    vtp, vtm = float(sol.x[0]), float(sol.x[1])
+    if not (0 < vtm < vtp < vdd) or max(abs(v) for v in sol.fun) > 1e-3:
+        return None
+    return vtp, vtm, 1.0
+
+
+def infer(design: Design, measured: Measured) -> Inferred:
+    """What the measurement says about the chip (or, for a 555, about the parts)."""
+    p, u = measured.period_s, measured.period_unc_s
+    nom = _solve_scale(design, p)
+    ends = [_solve_scale(design, p - u), _solve_scale(design, p + u)]
+    which = "ratiometric" if design.chip.is_timer else "scale"
+    vdd = design.supply_v
+    if design.chip.is_timer:
+        text = (f"the 555's levels are ratiometric, so the chip is not inferred: the parts "
+                f"act as if C1 were {nom[2]:.3f} times its marked value")
+    else:
+        text = (f"one threshold scale: VT+ {nom[0]:.3f} V and VT- {nom[1]:.3f} V at "
+                f"{vdd:g} V (the family's typical pair scaled together; one period gives "
+                "one unknown)")
+        if measured.flash_s is not None:
+            both = _solve_both(design, p, measured.flash_s, nom)
+            if both is None:
+                text += ("; the flash does not tell the two thresholds apart in this "
+                         "circuit (its stage sets the flash), so it is not used for the chip")
+            else:
+                fu = measured.flash_unc_s
+                corners = [_solve_both(design, p + a, measured.flash_s + b, both)
+                           for a in (-u, u) for b in (-fu, fu)]
+                if all(c is not None for c in corners):
+                    nom, ends, which = both, corners, "both"
+                    text = (f"both thresholds from the period and the flash: VT+ "
+                            f"{nom[0]:.3f} V, VT- {nom[1]:.3f} V at {vdd:g} V")
+    cross = None
+    if measured.supply_current_a is not None and not design.chip.is_timer:
+        base = _scalar(_figures(design, {}, nom, cross=0.0).supply_avg_a)
+        cross = max(measured.supply_current_a - base, 0.0)
+        text += (f"; the measured draw leaves {format_eng(cross, 'A')} for the chip's "
+                 "crossing current (replaces the estimate)")
+    return Inferred(which=which, vt_plus_v=nom[0], vt_minus_v=nom[1], c_scale=nom[2],
+                    bounds=tuple(ends), cross_current_a=cross, text=text)
+
+
+# ---------------------------------------------------------------------------- changes
+
+def _candidates(kind: str, x: float, series_r: str, series_c: str, stock,
+                cap_kind: str) -> np.ndarray:
+    from pulsepick.series import get_series
+
+    lo, hi = x / SEARCH_FACTOR, x * SEARCH_FACTOR
+    if stock is not None:
+        pool = stock.resistors() if kind == "R" else [v for v, _ in
+                                                      stock.capacitors((cap_kind,))]
+        vals = np.array(sorted({v for v in pool if lo <= v <= hi}), dtype=float)
+        if vals.size:
+            return vals
+    return get_series(series_r if kind == "R" else series_c).values(lo, hi)
+
+
+def _needed_value(design, param, chip, cross, target) -> float | None:
+    """The exact value of ``param`` that gives the wanted period, or None."""
+    x0 = design.values[param]
+    grid = x0 * np.geomspace(1.0 / 10.0, 10.0, 241)
+    per = np.asarray(_figures(design, {param: grid}, chip, cross).period_s, dtype=float)
+    ok = np.isfinite(per)
+    if ok.sum() < 2:
+        return None
+    lg, lp = np.log(grid[ok]), np.log(per[ok])
+    if np.all(np.diff(lp) > 0):
+        pass
+    elif np.all(np.diff(lp) < 0):
+        lg, lp = lg[::-1], lp[::-1]
+    else:
+        return None
+    t = math.log(target)
+    if not lp[0] <= t <= lp[-1]:
+        return None
+    return float(np.exp(np.interp(t, lp, lg)))
+
+
+def _combos(x: float, series: str) -> list[tuple[str, float, float, float]]:
+    """Best two standard values in series and in parallel for ``x``: (how, a, b, value)."""
+    from pulsepick.series import get_series
+
+    s = get_series(series)
+    out = []
+    big = s.values(x / 100.0, x)
+    rest = x - big
+    ok = rest > 0
+    if ok.any():
+        b = np.asarray(s.nearest(rest[ok]), dtype=float)
+        tot = big[ok] + b
+        i = int(np.argmin(np.abs(tot / x - 1)))
+        out.append(("series", float(big[ok][i]), float(b[i]), float(tot[i])))
+    big = s.values(x, min(10.0 * x, COMBO_MAX_OHM))
+    inv = 1.0 / x - 1.0 / big
+    ok = (inv > 0) & (inv > 1.0 / COMBO_MAX_OHM)
+    if ok.any():
+        b = np.asarray(s.nearest(1.0 / inv[ok]), dtype=float)
+        tot = 1.0 / (1.0 / big[ok] + 1.0 / b)
+        i = int(np.argmin(np.abs(tot / x - 1)))
+        out.append(("parallel", float(big[ok][i]), float(b[i]), float(tot[i])))
+    return out
+
+
+def _ref(param: str) -> str:
+    return param.upper()
+
+
+def retune(design: Design, measured: Measured, want_period_s: float, *,
+           want_flash_s: float | None = None, r_series: str = "E24", c_series: str = "E12",
+           stock=None, top: int = 5) -> RetuneResult:
+    """Infer the chip from ``measured`` and rank changes of one or two parts."""
+    if not want_period_s > 0:
+        raise RequestError("the wanted period must be above 0 s")
+    inf = infer(design, measured)
+    chip = (inf.vt_plus_v, inf.vt_minus_v, inf.c_scale)
+    cross = inf.cross_current_a
+    core, stage = get_core(design.topo.core), get_stage(design.topo.stage)
+    params = [p for p in core.params if design.values.get(p.name, 0) > 0]
+    if want_flash_s is not None:
+        params += [p for p in stage.params if design.values.get(p.name, 0) > 0]
+
+    def score(f) -> np.ndarray:
+        e = np.abs(np.asarray(f.period_s, dtype=float) / want_period_s - 1.0)
+        if want_flash_s is not None:
+            e = e + FLASH_WEIGHT * np.abs(np.asarray(f.flash_s, dtype=float) / want_flash_s - 1)
+        return np.where(np.isfinite(e), e, np.inf)
+
+    raw: list[tuple] = []  # (score, kind, param, new value, parts, new_parts, note)
+    for p in params:
+        x = design.values[p.name]
+        cap_kind = (design.parts.timing_cap if p in core.params
+                    else design.parts.stage_cap)
+        vals = _candidates(p.kind, x, r_series, c_series, stock, cap_kind)
+        vals = vals[~np.isclose(vals, x, rtol=1e-9)]
+        if vals.size == 0:
+            continue
+        sc = score(_figures(design, {p.name: vals}, chip, cross))
+        for i in np.argsort(sc)[:2]:
+            if math.isfinite(sc[i]):
+                unit = "Ω" if p.kind == "R" else "F"
+                v = float(vals[i])
+                raw.append((sc[i], "single", p.name, v,
+                            (f"{_ref(p.name)}: {format_eng(v, unit)} "
+                             f"(was {format_eng(x, unit)})",),
+                            ((_ref(p.name), p.kind, v, p.role),), ""))
+    best_single = min((r[0] for r in raw), default=math.inf)
+    key = period_part(design)
+    needed = _needed_value(design, key, chip, cross, want_period_s)
+    if best_single > SINGLE_ENOUGH and needed is not None:
+        role = next(p.role for p in core.params if p.name == key)
+        for how, a, b, tot in _combos(needed, r_series):
+            ref = _ref(key)
+            words = (f"{ref}: {format_eng(a, 'Ω')} {'+' if how == 'series' else '∥'} "
+                     f"{format_eng(b, 'Ω')} in {how} = {format_eng(tot, 'Ω')}")
+            sc = float(score(_figures(design, {key: np.array([tot])}, chip, cross))[0])
+            raw.append((sc, how, key, tot, (words,),
+                        ((f"{ref}A", "R", a, role), (f"{ref}B", "R", b, role)), ""))
+        lo_hi = [_needed_value(design, key, b, cross, want_period_s) for b in inf.bounds]
+        span = [v for v in lo_hi if v is not None] or [needed]
+        trim = retune_trimmer(needed, min(span), max(span), r_series)
+        if trim is not None:
+            fixed, pot = trim
+            ref = _ref(key)
+            words = (f"{ref}: {format_eng(fixed, 'Ω')} fixed + {format_eng(pot, 'Ω')} "
+                     f"trimmer in series, set to {format_eng(needed - fixed, 'Ω')} "
+                     f"({(needed - fixed) / pot:.0%} of its travel)")
+            sc = float(score(_figures(design, {key: np.array([needed])}, chip, cross))[0])
+            raw.append((sc, "trimmer", key, needed, (words,),
+                        ((ref, "R", fixed, "fixed part of " + role),
+                         (f"RV{ref[1:] or '1'}", "RV", pot, "trimmer of " + role)),
+                        TRIM_STEPS_NOTE))
+    order = sorted(raw, key=lambda r: (r[0] > SINGLE_ENOUGH, len(r[5]), r[1] == "trimmer",
+                                       r[0]))
+    changes = []
+    for rank, (_, kind, param, value, parts, new, note) in enumerate(order[:top], start=1):
+        vals = {**design.values, param: value}
+        f = _figures(design, {param: np.array([value])}, chip, cross).row(0)
+        ends = [_scalar(_figures(design, {param: np.array([value])}, b, cross).period_s)
+                for b in inf.bounds]
+        changes.append(Change(
+            rank=rank, kind=kind, param=param, values=vals, parts=parts, new_parts=new,
+            predicted={k: f[k] for k in ("period_s", "flash_s", "led_peak_a")},
+            period_range_s=(min(ends + [f["period_s"]]), max(ends + [f["period_s"]])),
+            error=f["period_s"] / want_period_s - 1.0, note=note))
+    now = _figures(design, {}, chip, cross).row(0)
+    return RetuneResult(design=design, measured=measured, want_period_s=want_period_s,
+                        want_flash_s=want_flash_s, inferred=inf,
+                        predicted_now={k: now[k] for k in ("period_s", "flash_s",
+                                                           "led_peak_a")},
+                        changes=tuple(changes), notes=tuple(_notes(design)))
+
+
+def _notes(design: Design) -> list[str]:
+    core = get_core(design.topo.core)
+    if design.chip.is_timer:
+        return ["the 555's threshold and trigger levels are fixed fractions of its supply "
+                "(ratiometric), so a missed period comes from the parts (mostly C1's "
+                "tolerance), not from the chip"]
+    r_parts = [p for p in core.params if p.kind == "R"]
+    if len(r_parts) == 1:
+        ref = _ref(r_parts[0].name)
+        return [f"{ref} alone sets both phases: scaling {ref} scales the period exactly, "
+                "whatever the chip's thresholds did"]
+    return []
