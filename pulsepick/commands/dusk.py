@@ -43,8 +43,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     what.add_argument("--dusk-at", metavar="LUX",
                       help="the wanted turn-on level, such as 10lux: gives the resistor")
     gate = parser.add_argument_group("sense gate")
-    gate.add_argument("--family", choices=FAMILY_KEYS, default="hc",
+    gate.add_argument("--family", choices=FAMILY_KEYS, default=None,
                       help="logic family of the Schmitt input that watches the panel (default hc)")
+    gate.add_argument("--chip", metavar="FILE.toml",
+                      help="your measured chip (a profile from 'pulsepick calibrate --save')")
     gate.add_argument("--supply", metavar="V", default="2.5V",
                       help="storage voltage feeding the gate (default 2.5V)")
     gate.add_argument("--series", metavar="E", default="E24",
@@ -61,7 +63,11 @@ def run(args: argparse.Namespace) -> int:
                            "(for the resistor), such as --dusk-at 10lux")
     panel = read_panel(args)
     diode = get_diode(args.diode)
-    family = get_family(args.family)
+    family = get_family(args.family or "hc")
+    if args.chip:
+        from pulsepick.commands.circuit_options import family_from_profile
+
+        family = family_from_profile(args.chip, args.family)
     supply = quantity(args.supply, "voltage", "--supply", "2.5V")
     series = args.series.strip().upper()
     if series not in SERIES_NAMES:

@@ -84,6 +84,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     ctx.add_argument("--led-n", type=float, metavar="N", help="your LED's ideality factor")
     ctx.add_argument("--led-rs", metavar="OHM", help="your LED's series resistance, e.g. 10")
     ctx.add_argument("--led-mcd", metavar="MCD@I", help="your LED's intensity, e.g. 120@20mA")
+    ctx.add_argument("--chip", metavar="FILE.toml",
+                     help="your measured chip (a profile from 'pulsepick calibrate --save')")
     ctx.add_argument("--vt-plus", metavar="V", help="VT+ measured on your Schmitt chip at the "
                                                     "(full) supply")
     ctx.add_argument("--vt-minus", metavar="V", help="VT- measured on your Schmitt chip")
@@ -212,10 +214,15 @@ def request_from_args(args):
     from pulsepick.request import make_request
 
     overrides = _chip_overrides(args)
+    family = args.family
+    if getattr(args, "chip", None):
+        from pulsepick.commands.circuit_options import profile_overrides
+
+        family, overrides = profile_overrides(args.chip, args.family, overrides)
     req = make_request(
         args.phrase, every=args.every, flash=args.flash, peak=args.peak,
         effective=args.effective, intensity=args.intensity, supply=args.supply,
-        family=args.family, led=_led(args), series=args.series, cap_series=args.cap_series,
+        family=family, led=_led(args), series=args.series, cap_series=args.cap_series,
         timing_cap=args.timing_cap, max_r=args.max_r, min_r=args.min_r,
         cap_range=args.cap_range, buffered=args.buffered, stages=args.stages,
         cores=args.cores, stock=args.stock, top=args.top, builds=args.builds, seed=args.seed,
@@ -223,10 +230,11 @@ def request_from_args(args):
     if overrides:
         from dataclasses import replace
 
-        if "vt_plus_v" in overrides or "vt_minus_v" in overrides or "rout_ohm" in overrides:
+        if ("vt_plus_v" in overrides or "vt_minus_v" in overrides or "rout_ohm" in overrides) \
+                and "measured_at_v" not in overrides:
             overrides["measured_at_v"] = req.supply_v
         vtp, vtm = overrides.get("vt_plus_v"), overrides.get("vt_minus_v")
-        if vtp is not None and vtm is not None and not vtm < vtp < req.supply_v:
+        if vtp is not None and vtm is not None and not vtm < vtp < overrides["measured_at_v"]:
             raise RequestError(f"measured thresholds need VT- < VT+ < supply; got VT- "
                                f"{vtm:g} V, VT+ {vtp:g} V at {req.supply_v:g} V")
         req = replace(req, chip_overrides=overrides)
@@ -456,7 +464,7 @@ def _render_request(console, req, result=None) -> None:
                  "cross_current_a": ("crossing current", "A"), "measured_at_v": ("at", "V")}
         rows.append(["chip measured", ", ".join(
             f"{names.get(k, (k, ''))[0]} {format_eng(v, names.get(k, (k, ''))[1])}"
-            for k, v in req.chip_overrides.items()), "given"])
+            for k, v in req.chip_overrides.items() if not isinstance(v, bool)), "given"])
     console.print(simple_table("Request and assumptions", ["", "value", ""], rows))
     crossing = None if result is None else crossing_text(result)
     if crossing:
