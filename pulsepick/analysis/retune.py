@@ -81,7 +81,7 @@ class Change:
     """One way to bring the blinker to the wanted blink."""
 
     rank: int
-    kind: str  # "single", "series", "parallel" or "trimmer"
+    kind: str  # "single", "add-series", "add-parallel", "series", "parallel" or "trimmer"
     param: str  # circuit value changed (r1, ra, ...)
     values: dict[str, float]  # the whole circuit after the change (ohm / farad)
     parts: tuple[str, ...]  # the change in words, one line per new part
@@ -265,7 +265,8 @@ def _combos(x: float, series: str) -> list[tuple[str, float, float, float]]:
         b = np.asarray(s.nearest(rest[ok]), dtype=float)
         tot = big[ok] + b
         i = int(np.argmin(np.abs(tot / x - 1)))
-        out.append(("series", float(big[ok][i]), float(b[i]), float(tot[i])))
+        pair = sorted((float(big[ok][i]), float(b[i])), reverse=True)
+        out.append(("series", pair[0], pair[1], float(tot[i])))
     big = s.values(x, min(10.0 * x, COMBO_MAX_OHM))
     inv = 1.0 / x - 1.0 / big
     ok = (inv > 0) & (inv > 1.0 / COMBO_MAX_OHM)
@@ -275,6 +276,21 @@ def _combos(x: float, series: str) -> list[tuple[str, float, float, float]]:
         i = int(np.argmin(np.abs(tot / x - 1)))
         out.append(("parallel", float(big[ok][i]), float(b[i]), float(tot[i])))
     return out
+
+
+def _added(x: float, x0: float, series: str) -> tuple[str, float, float] | None:
+    """One standard value added to the present ``x0`` to make ``x``: (how, added, total)."""
+    from pulsepick.series import get_series
+
+    s = get_series(series)
+    if x > x0:
+        b = float(s.nearest(x - x0))
+        return "series", b, x0 + b
+    inv = 1.0 / x - 1.0 / x0
+    if inv <= 1.0 / COMBO_MAX_OHM:
+        return None
+    b = float(s.nearest(1.0 / inv))
+    return "parallel", b, 1.0 / (1.0 / x0 + 1.0 / b)
 
 
 def _ref(param: str) -> str:
@@ -324,6 +340,16 @@ def retune(design: Design, measured: Measured, want_period_s: float, *,
     needed = _needed_value(design, key, chip, cross, want_period_s)
     if best_single > SINGLE_ENOUGH and needed is not None:
         role = next(p.role for p in core.params if p.name == key)
+        x0 = design.values[key]
+        added = _added(needed, x0, r_series)
+        if added is not None:
+            how, b, tot = added
+            ref = _ref(key)
+            words = (f"{ref}: keep {format_eng(x0, 'Ω')} and add {format_eng(b, 'Ω')} in "
+                     f"{how} = {format_eng(tot, 'Ω')}")
+            sc = float(score(_figures(design, {key: np.array([tot])}, chip, cross))[0])
+            raw.append((sc, "add-" + how, key, tot, (words,),
+                        ((f"{ref}B", "R", b, f"added in {how} with {ref}"),), ""))
         for how, a, b, tot in _combos(needed, r_series):
             ref = _ref(key)
             words = (f"{ref}: {format_eng(a, 'Ω')} {'+' if how == 'series' else '∥'} "

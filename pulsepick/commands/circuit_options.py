@@ -227,6 +227,13 @@ def profile_overrides(path: str, family: str | None, overrides: dict) -> tuple[s
     return chip.family, out
 
 
+def solver_chip(args) -> tuple[str | None, dict]:
+    """``(family, chip_overrides)`` for a solver request: ``--chip`` when given."""
+    if getattr(args, "chip", None):
+        return profile_overrides(args.chip, args.family, {})
+    return args.family, {}
+
+
 def family_from_profile(path: str, family: str | None = None):
     """The logic family of a profile file with the measured chip's thresholds."""
     from pulsepick.parts.chipprofile import measured_family
