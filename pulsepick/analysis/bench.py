@@ -104,7 +104,7 @@ def limit_percentile(x: float, lo: float, typ: float, hi: float) -> float:
     return 100.0 * (raw - LIMIT_TAIL) / (1.0 - 2.0 * LIMIT_TAIL)
 
 
-def test_design(family: str, r_ohm: float, c_f: float, supply_v: float, led: Any,
+def oscillator_design(family: str, r_ohm: float, c_f: float, supply_v: float, led: Any,
                 timing_cap: str = "film-pet") -> Design:
     """The test oscillator: a plain Schmitt RC core, the LED lit on a spare gate while
     the timing output is high (so the lit time is the high time)."""
@@ -198,7 +198,7 @@ def _refined(design: Design, t_high, t_low, rc_scale):
 
 def calibrate(design: Design, timing: Timing, *, r_tol_pct: float = 1.0,
               c_tol_pct: tuple[float, float] = (5.0, 5.0)) -> Calibration:
-    """VT+ and VT− of the chip in ``design`` (a :func:`test_design`) from its timing.
+    """VT+ and VT− of the chip in ``design`` (a :func:`oscillator_design`) from its timing.
 
     The range covers every corner of the timing uncertainty and the R and C
     tolerances (the thresholds are monotonic in each).
@@ -316,7 +316,7 @@ def recipe(family: str, supply_v: float, led: Any, *, resistors=None, capacitors
                     + 0.2 * (cc > 2.2e-6), np.inf)
     i, j = np.unravel_index(int(np.argmin(cost)), cost.shape)
     r, c = float(rs[i]), float(cs[j])
-    d = test_design(family, r, c, supply_v, led)
+    d = oscillator_design(family, r, c, supply_v, led)
     f = d.fast().row(0)
     return Recipe(design=d, r_ohm=r, c_f=c, period_s=f["period_s"], high_s=f["high_s"],
                   low_s=f["low_s"], from_stock=bool(resistors or capacitors))

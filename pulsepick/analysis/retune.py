@@ -1,9 +1,10 @@
 """Retune a built blinker: what its measured timing says about its chip, and which one
 or two part changes bring it to the wanted blink.
 
-One measured period gives one unknown: the chip's thresholds are taken as the
-family's typical VT+ and VT- times one common scale (estimate: a chip sits high or low
-as a whole). A period and a flash length give both thresholds where the flash is one
+One measured period gives one unknown: the chip is taken at one common position in
+the datasheet spread for both thresholds (the split normal of
+:func:`pulsepick.analysis.bench.limit_percentile`; estimate: a chip sits high or low as
+a whole). A period and a flash length give both thresholds where the flash is one
 of the timing phases. A 555's levels are fractions of its supply (ratiometric), so a
 miss there comes from the parts; it is carried as an effective scale of C1.
 
@@ -20,11 +21,13 @@ from typing import Any
 import numpy as np
 from scipy.optimize import brentq, least_squares
 
+from pulsepick.analysis.bench import Z_LIMIT
 from pulsepick.analysis.trim import TRIM_STEPS_NOTE, period_part, retune_trimmer
 from pulsepick.circuits.base import get_core, get_stage
 from pulsepick.design import Design
 from pulsepick.engine import fast
 from pulsepick.errors import RequestError
+from pulsepick.parts.logic import get_family
 from pulsepick.units import format_eng
 
 #: A single standard value is enough when it lands within this fraction of the wanted
@@ -34,6 +37,11 @@ SINGLE_ENOUGH = 0.02
 FLASH_WEIGHT = 0.5
 #: Candidate single values span this factor either way of the present value.
 SEARCH_FACTOR = 4.0
+#: The one-unknown inference searches this many standard deviations either way of the
+#: typical chip (twice the distance to the datasheet limits).
+Z_SPAN = 2.0 * Z_LIMIT
+#: Positions of VT- in its spread at which a consistent VT+ is sought.
+CONSISTENT_POINTS = 5
 #: Largest resistor of a two-part combination, ohm (leakage starts to count; common practice).
 COMBO_MAX_OHM = 10e6
 #: The flash tells the two thresholds apart only if its relative sensitivity to them
@@ -74,6 +82,7 @@ class Inferred:
     bounds: tuple[tuple[float, float, float], ...]  # (VT+, VT-, C scale) at the ends
     cross_current_a: float | None  # A, crossing current that explains the measured draw
     text: str  # what was inferred, in words
+    consistent: tuple[tuple[float, float, float], ...] = ()  # other chips that fit as well
 
 
 @dataclass(frozen=True)
@@ -87,7 +96,8 @@ class Change:
     parts: tuple[str, ...]  # the change in words, one line per new part
     new_parts: tuple[tuple[str, str, float, str], ...]  # (ref, "R"/"C"/"RV", value, role)
     predicted: dict[str, float]  # period_s, flash_s, led_peak_a with the inferred chip
-    period_range_s: tuple[float, float]  # s, over the measurement's uncertainty
+    period_range_s: tuple[float, float]  # s, over the measurement's uncertainty and the
+    # chips it cannot tell apart
     error: float  # predicted period / wanted - 1
     note: str
 
@@ -137,19 +147,57 @@ def _solve_scale(design: Design, period: float) -> tuple[float, float, float]:
         def f_c(k):
             return _scalar(_figures(design, {}, (0, 0, k)).period_s) - period
         return (*_typical(design), brentq(f_c, 0.05, 20.0, xtol=1e-10))
-    vtp0, vtm0 = _typical(design)
-    s_hi = 0.999 * design.supply_v / vtp0
+    vdd = design.supply_v
 
-    def f_s(s):
-        p = _scalar(_figures(design, {}, (s * vtp0, s * vtm0, 1.0)).period_s)
-        return (p if math.isfinite(p) else 1e9) - period
+    def chip_at(z):
+        return _chip_at_z(design, z)
 
-    lo, hi = 0.05, s_hi
-    if f_s(lo) * f_s(hi) > 0:
-        raise RequestError(f"no chip of this family gives a period of {period:g} s with these "
-                           "parts; check the values, the supply and the family")
-    s = brentq(f_s, lo, hi, xtol=1e-10)
-    return s * vtp0, s * vtm0, 1.0
+    z = np.linspace(-Z_SPAN, Z_SPAN, 481)
+    vtp, vtm = chip_at(z)
+    per = np.asarray(_figures(design, {}, (vtp, vtm, 1.0)).period_s, dtype=float)
+    err = np.where(np.isfinite(per), per - period, np.nan)
+    sign = np.sign(err)
+    cross = np.flatnonzero((sign[:-1] * sign[1:] < 0) & np.isfinite(err[:-1])
+                           & np.isfinite(err[1:]))
+    if cross.size == 0:
+        # the thresholds' common position barely moves this period: take the chip nearest
+        # the typical one among those that fit
+        others = _consistent(design, period)
+        if not others:
+            raise RequestError(f"no chip of this family gives a period of {period:g} s with "
+                               f"these parts at {vdd:g} V; check the values, the supply and "
+                               "the family")
+        t0 = _typical(design)
+        return min(others, key=lambda c: abs(c[0] / t0[0] - 1) + abs(c[1] / t0[1] - 1))
+    i = int(cross[np.argmin(np.abs(z[cross]))])  # the crossing nearest the typical chip
+
+    def f_z(zz):
+        a, b = chip_at(zz)
+        return _scalar(_figures(design, {}, (a, b, 1.0)).period_s) - period
+
+    z0 = brentq(f_z, z[i], z[i + 1], xtol=1e-10)
+    a, b = chip_at(z0)
+    return float(a), float(b), 1.0
+
+
+def _chip_at_z(design: Design, z):
+    """VT+ and VT- at one common position ``z`` (standard deviations) in the spread.
+
+    The split-normal spread of :func:`pulsepick.analysis.bench.limit_percentile`: the
+    datasheet typical as median, the limits at z = -3.09 and +3.09 (estimate).
+    """
+    t = get_family(design.chip.family).thresholds(design.supply_v)
+    z = np.asarray(z, dtype=float)
+    out = []
+    for lo, typ, hi in ((t.vt_plus_min, t.vt_plus_typ, t.vt_plus_max),
+                        (t.vt_minus_min, t.vt_minus_typ, t.vt_minus_max)):
+        lo, typ, hi = float(lo), float(typ), float(hi)
+        sigma = np.where(z < 0, (typ - lo) / Z_LIMIT, (hi - typ) / Z_LIMIT)
+        out.append(typ + z * sigma)
+    vdd = design.supply_v
+    vtp = np.clip(out[0], 1e-3 * vdd, 0.999 * vdd)
+    vtm = np.clip(out[1], 1e-3 * vdd, 0.999 * vtp)
+    return vtp, vtm
 
 
 def _solve_both(design: Design, period: float, flash: float, start) -> tuple | None:
@@ -189,9 +237,9 @@ def infer(design: Design, measured: Measured) -> Inferred:
         text = (f"the 555's levels are ratiometric, so the chip is not inferred: the parts "
                 f"act as if C1 were {nom[2]:.3f} times its marked value")
     else:
-        text = (f"one threshold scale: VT+ {nom[0]:.3f} V and VT- {nom[1]:.3f} V at "
-                f"{vdd:g} V (the family's typical pair scaled together; one period gives "
-                "one unknown)")
+        text = (f"one unknown: VT+ {nom[0]:.3f} V and VT- {nom[1]:.3f} V at {vdd:g} V, the "
+                "chip taken at one common position in the datasheet spread for both "
+                "thresholds (one period gives one unknown)")
         if measured.flash_s is not None:
             both = _solve_both(design, p, measured.flash_s, nom)
             if both is None:
@@ -205,14 +253,45 @@ def infer(design: Design, measured: Measured) -> Inferred:
                     nom, ends, which = both, corners, "both"
                     text = (f"both thresholds from the period and the flash: VT+ "
                             f"{nom[0]:.3f} V, VT- {nom[1]:.3f} V at {vdd:g} V")
+                else:
+                    text += ("; the flash does not tell the two thresholds apart within its "
+                             "timing uncertainty, so it is not used for the chip")
     cross = None
     if measured.supply_current_a is not None and not design.chip.is_timer:
         base = _scalar(_figures(design, {}, nom, cross=0.0).supply_avg_a)
         cross = max(measured.supply_current_a - base, 0.0)
         text += (f"; the measured draw leaves {format_eng(cross, 'A')} for the chip's "
                  "crossing current (replaces the estimate)")
+    others = _consistent(design, p) if which == "scale" else []
     return Inferred(which=which, vt_plus_v=nom[0], vt_minus_v=nom[1], c_scale=nom[2],
-                    bounds=tuple(ends), cross_current_a=cross, text=text)
+                    bounds=tuple(ends), consistent=tuple(others), cross_current_a=cross,
+                    text=text)
+
+
+def _consistent(design: Design, period: float) -> list[tuple[float, float, float]]:
+    """Other chips inside the datasheet limits that give the same measured period.
+
+    VT- is held at several positions of its spread and VT+ solved for; a change is
+    ranked by its worst prediction over these, since one period cannot tell them apart.
+    """
+    t = get_family(design.chip.family).thresholds(design.supply_v)
+    p_lo, p_hi = float(t.vt_plus_min), float(t.vt_plus_max)
+    out = []
+    for z in np.linspace(-Z_LIMIT, Z_LIMIT, CONSISTENT_POINTS):
+        _, vtm = _chip_at_z(design, z)
+        vtm = float(vtm)
+        grid = np.linspace(max(p_lo, vtm * 1.001), p_hi, 97)
+        if grid.size < 2 or grid[0] >= grid[-1]:
+            continue
+        per = np.asarray(_figures(design, {}, (grid, vtm, 1.0)).period_s, dtype=float)
+        err = per - period
+        ok = np.isfinite(err)
+        cross = np.flatnonzero(ok[:-1] & ok[1:] & (np.sign(err[:-1]) * np.sign(err[1:]) < 0))
+        if cross.size:
+            i = int(cross[0])
+            w = err[i] / (err[i] - err[i + 1])
+            out.append((float(grid[i] + w * (grid[i + 1] - grid[i])), vtm, 1.0))
+    return out
 
 
 # ---------------------------------------------------------------------------- changes
@@ -267,6 +346,8 @@ def _combos(x: float, series: str) -> list[tuple[str, float, float, float]]:
         i = int(np.argmin(np.abs(tot / x - 1)))
         pair = sorted((float(big[ok][i]), float(b[i])), reverse=True)
         out.append(("series", pair[0], pair[1], float(tot[i])))
+    if x >= COMBO_MAX_OHM:
+        return out
     big = s.values(x, min(10.0 * x, COMBO_MAX_OHM))
     inv = 1.0 / x - 1.0 / big
     ok = (inv > 0) & (inv > 1.0 / COMBO_MAX_OHM)
@@ -311,11 +392,19 @@ def retune(design: Design, measured: Measured, want_period_s: float, *,
     if want_flash_s is not None:
         params += [p for p in stage.params if design.values.get(p.name, 0) > 0]
 
-    def score(f) -> np.ndarray:
+    chips = [chip, *inf.consistent]
+
+    def score_one(f) -> np.ndarray:
         e = np.abs(np.asarray(f.period_s, dtype=float) / want_period_s - 1.0)
         if want_flash_s is not None:
             e = e + FLASH_WEIGHT * np.abs(np.asarray(f.flash_s, dtype=float) / want_flash_s - 1)
         return np.where(np.isfinite(e), e, np.inf)
+
+    def score(param: str, vals) -> np.ndarray:
+        """Worst error over the chips the measurement cannot tell apart."""
+        vals = np.atleast_1d(np.asarray(vals, dtype=float))
+        return np.max([score_one(_figures(design, {param: vals}, c, cross)) for c in chips],
+                      axis=0)
 
     raw: list[tuple] = []  # (score, kind, param, new value, parts, new_parts, note)
     for p in params:
@@ -326,7 +415,7 @@ def retune(design: Design, measured: Measured, want_period_s: float, *,
         vals = vals[~np.isclose(vals, x, rtol=1e-9)]
         if vals.size == 0:
             continue
-        sc = score(_figures(design, {p.name: vals}, chip, cross))
+        sc = score(p.name, vals)
         for i in np.argsort(sc)[:2]:
             if math.isfinite(sc[i]):
                 unit = "Ω" if p.kind == "R" else "F"
@@ -347,14 +436,14 @@ def retune(design: Design, measured: Measured, want_period_s: float, *,
             ref = _ref(key)
             words = (f"{ref}: keep {format_eng(x0, 'Ω')} and add {format_eng(b, 'Ω')} in "
                      f"{how} = {format_eng(tot, 'Ω')}")
-            sc = float(score(_figures(design, {key: np.array([tot])}, chip, cross))[0])
+            sc = float(score(key, tot)[0])
             raw.append((sc, "add-" + how, key, tot, (words,),
                         ((f"{ref}B", "R", b, f"added in {how} with {ref}"),), ""))
         for how, a, b, tot in _combos(needed, r_series):
             ref = _ref(key)
             words = (f"{ref}: {format_eng(a, 'Ω')} {'+' if how == 'series' else '∥'} "
                      f"{format_eng(b, 'Ω')} in {how} = {format_eng(tot, 'Ω')}")
-            sc = float(score(_figures(design, {key: np.array([tot])}, chip, cross))[0])
+            sc = float(score(key, tot)[0])
             raw.append((sc, how, key, tot, (words,),
                         ((f"{ref}A", "R", a, role), (f"{ref}B", "R", b, role)), ""))
         lo_hi = [_needed_value(design, key, b, cross, want_period_s) for b in inf.bounds]
@@ -366,7 +455,7 @@ def retune(design: Design, measured: Measured, want_period_s: float, *,
             words = (f"{ref}: {format_eng(fixed, 'Ω')} fixed + {format_eng(pot, 'Ω')} "
                      f"trimmer in series, set to {format_eng(needed - fixed, 'Ω')} "
                      f"({(needed - fixed) / pot:.0%} of its travel)")
-            sc = float(score(_figures(design, {key: np.array([needed])}, chip, cross))[0])
+            sc = float(score(key, needed)[0])
             raw.append((sc, "trimmer", key, needed, (words,),
                         ((ref, "R", fixed, "fixed part of " + role),
                          (f"RV{ref[1:] or '1'}", "RV", pot, "trimmer of " + role)),
@@ -378,7 +467,7 @@ def retune(design: Design, measured: Measured, want_period_s: float, *,
         vals = {**design.values, param: value}
         f = _figures(design, {param: np.array([value])}, chip, cross).row(0)
         ends = [_scalar(_figures(design, {param: np.array([value])}, b, cross).period_s)
-                for b in inf.bounds]
+                for b in (*inf.bounds, *inf.consistent)]
         changes.append(Change(
             rank=rank, kind=kind, param=param, values=vals, parts=parts, new_parts=new,
             predicted={k: f[k] for k in ("period_s", "flash_s", "led_peak_a")},

@@ -10,7 +10,7 @@ from pulsepick.analysis.bench import (
     Timing,
     calibrate,
     recipe,
-    test_design,
+    oscillator_design,
 )
 from pulsepick.commands.bench_options import percent, resolution, timed
 from pulsepick.errors import RequestError
@@ -140,7 +140,7 @@ def run(args) -> int:
                            "--c 4u7), or --recipe for one to build")
     r = parse_value(args.r, unit="ohm")
     c = parse_value(args.c, unit="F")
-    design = test_design(family, r, c, supply, led, timing_cap=args.timing_cap)
+    design = oscillator_design(family, r, c, supply, led, timing_cap=args.timing_cap)
     timing = timing_from_args(args)
     r_tol, c_tol = _tolerances(args, design)
     current = None

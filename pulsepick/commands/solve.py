@@ -21,6 +21,8 @@ EXAMPLES = [
     'pulsepick solve "every 4 s, 200 mcd" --led white --supply 3.3V',
     "pulsepick solve --every 3s --flash 40ms --peak 5mA --led red --supply 2.7V..1.8V",
     'pulsepick solve "one flash every 3 s" --stock drawer.csv --buylist parts.csv --pick 1',
+    'pulsepick solve "one flash every 3 s" --trim --buylist parts.csv',
+    'pulsepick solve "one flash every 3 s" --chip chip.toml',
     'pulsepick solve "one flash every 3 s" --cores schmitt-steered --stages direct --json',
     'pulsepick solve "one flash every 3 s" --plot garden.png --report garden.html',
     'pulsepick solve "three lights: every 2.7 s, every 4.1 s, every 6.3 s, 60 ms each" '
@@ -146,6 +148,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                           "lights)")
     out.add_argument("--pick", type=int, default=1, metavar="N",
                      help="the circuit for --buylist (default 1, the best)")
+    out.add_argument("--trim", action="store_true",
+                     help="a fixed resistor + trimmer on the part that sets the period, sized "
+                          "from the spread")
     out.add_argument("--force", action="store_true",
                      help="let --buylist, --plot and --report replace a file")
     out.add_argument("--jobs", type=int, metavar="N",
@@ -269,6 +274,11 @@ def run(args) -> int:
     check_picture_targets(args)
     result = solve(req, jobs=jobs)
     result = assess(result, jobs=jobs)
+    plans = None
+    if getattr(args, "trim", False):
+        from pulsepick.commands.trim_parts import trim_result
+
+        result, plans = trim_result(result, req.r_series)
     if args.buylist and result.success:
         from pulsepick.export import buylist_text, write_atomic
 
@@ -276,11 +286,20 @@ def run(args) -> int:
     if args.json:
         from pulsepick.export import result_json
 
-        dump_json(result_json(result, solve_cautions(req)))
+        out = result_json(result, solve_cautions(req))
+        if plans is not None:
+            from pulsepick.commands.trim_parts import add_trim_json
+
+            add_trim_json(out, plans)
+        dump_json(out)
     else:
         console = make_console()
         render_report(console, result, buylist=args.buylist if result.success else None,
                       pick=args.pick)
+        if plans is not None:
+            from pulsepick.commands.trim_parts import render_trim
+
+            render_trim(console, plans)
     solve_pictures(args, result)
     if not result.success:
         _nothing_line(req.describe(), result.explanations)
