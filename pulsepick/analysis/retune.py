@@ -40,6 +40,8 @@ SEARCH_FACTOR = 4.0
 #: The one-unknown inference searches this many standard deviations either way of the
 #: typical chip (twice the distance to the datasheet limits).
 Z_SPAN = 2.0 * Z_LIMIT
+#: Evaluations allowed to the two-threshold solve before it gives up.
+_MAX_SOLVE_CALLS = 60
 #: Positions of VT- in its spread at which a consistent VT+ is sought.
 CONSISTENT_POINTS = 5
 #: Largest resistor of a two-part combination, ohm (leakage starts to count; common practice).
@@ -215,11 +217,13 @@ def _solve_both(design: Design, period: float, flash: float, start) -> tuple | N
         dx = np.zeros(2)
         dx[j] = 1e-4 * vdd
         jac[:, j] = (np.array(resid(x0 + dx)) - r0) / dx[j]
-    rows = jac / np.maximum(np.linalg.norm(jac, axis=1, keepdims=True), 1e-300)
-    if abs(np.linalg.det(rows)) < _MIN_INDEPENDENCE:
+    norms = np.linalg.norm(jac, axis=1, keepdims=True)
+    rows = jac / np.maximum(norms, 1e-300)
+    # a tenth of the supply on the thresholds must move the flash by a percent or more
+    if abs(np.linalg.det(rows)) < _MIN_INDEPENDENCE or norms[1, 0] * 0.1 * vdd < 0.01:
         return None
     sol = least_squares(resid, x0, bounds=([1e-3 * vdd, 1e-3 * vdd], [0.999 * vdd] * 2),
-                        xtol=1e-12, ftol=1e-12)
+                        xtol=1e-12, ftol=1e-12, max_nfev=_MAX_SOLVE_CALLS)
     vtp, vtm = float(sol.x[0]), float(sol.x[1])
     if not (0 < vtm < vtp < vdd) or max(abs(v) for v in sol.fun) > 1e-3:
         return None
