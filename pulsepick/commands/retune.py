@@ -26,7 +26,7 @@ EXAMPLES = [
     "pulsepick retune --design examples/garden-path-markers.toml --light \"gate\" "
     "--measured-period 3.4s --measured-flash 60ms",
     "pulsepick retune --core timer555 --ra 1M --rb 22k --c 2u2 --stage direct --lit low "
-    "--rs 220 --supply 3V --every 2s --measured-period 2.3s --json",
+    "--rs 220 --supply 3V --every 1.6s --measured-period 1.75s --json",
     'pulsepick retune --from-solve "one flash every 3 s" --measured-period 3.9s '
     "--stock drawer.csv --buylist new-parts.csv",
 ]
