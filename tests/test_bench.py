@@ -13,8 +13,8 @@ from pulsepick.analysis.bench import (
     closed_form_phases,
     invert_phases,
     limit_percentile,
-    recipe,
     oscillator_design,
+    recipe,
 )
 from pulsepick.errors import RequestError
 from pulsepick.parts.led import get_led

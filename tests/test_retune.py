@@ -7,8 +7,8 @@ import dataclasses
 
 import numpy as np
 import pytest
-
 from engine_cases import random_design
+
 from pulsepick.analysis.retune import Measured, infer, retune
 from pulsepick.analysis.trim import period_part, size_trimmer, trimmer_values
 from pulsepick.circuits.base import Topology

@@ -475,7 +475,7 @@ def retune(design: Design, measured: Measured, want_period_s: float, *,
         changes.append(Change(
             rank=rank, kind=kind, param=param, values=vals, parts=parts, new_parts=new,
             predicted={k: f[k] for k in ("period_s", "flash_s", "led_peak_a")},
-            period_range_s=(min(ends + [f["period_s"]]), max(ends + [f["period_s"]])),
+            period_range_s=(min(*ends, f["period_s"]), max(*ends, f["period_s"])),
             error=f["period_s"] / want_period_s - 1.0, note=note))
     now = _figures(design, {}, chip, cross).row(0)
     return RetuneResult(design=design, measured=measured, want_period_s=want_period_s,

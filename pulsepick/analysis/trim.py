@@ -30,7 +30,7 @@ RETUNE_MARGIN = 0.10
 
 def trimmer_values() -> np.ndarray:
     """All trimmer values offered, ohm (1-2-5 steps)."""
-    lo, hi = (int(math.floor(math.log10(x))) for x in TRIM_RANGE_OHM)
+    lo, hi = (math.floor(math.log10(x)) for x in TRIM_RANGE_OHM)
     vals = [m * 10.0 ** d for d in range(lo, hi + 1) for m in TRIM_MANTISSAS]
     return np.array([v for v in vals if TRIM_RANGE_OHM[0] <= v <= TRIM_RANGE_OHM[1]])
 

@@ -25,9 +25,9 @@ from pulsepick.commands.circuit_options import (
     DEFAULT_TIMING_CAP,
     VALUE_OPTIONS,
     add_circuit_arguments,
-    solver_chip,
     design_from_args,
     parts_from_args,
+    solver_chip,
 )
 from pulsepick.commands.pictures import (
     add_picture_arguments,

@@ -9,8 +9,8 @@ from pulsepick.analysis.bench import (
     DEFAULT_RESOLUTION_S,
     Timing,
     calibrate,
-    recipe,
     oscillator_design,
+    recipe,
 )
 from pulsepick.commands.bench_options import percent, resolution, timed
 from pulsepick.errors import RequestError
@@ -84,8 +84,9 @@ def timing_from_args(args) -> Timing:
     given = [k for k in ("high", "low", "period", "duty") if getattr(args, k) is not None]
     pairs = ({"high", "low"}, {"period", "high"}, {"period", "low"}, {"period", "duty"})
     if set(given) not in pairs:
+        got = ", ".join("--" + g for g in given) or "none"
         raise RequestError("give two timed figures: --high T --low T, --period T --high T, "
-                           f"or --period T --duty PCT (got {', '.join('--' + g for g in given) or 'none'})")
+                           f"or --period T --duty PCT (got {got})")
     high = low = None
     if args.high:
         high, n = timed(args.high, "--high", "2.6s")

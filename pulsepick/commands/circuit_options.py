@@ -157,7 +157,7 @@ def parts_from_args(args, supply_v: float, core: str | None = None
     """
     default = "timer555" if core == "timer555" else "hc"
     family = (args.family or default).strip().lower()
-    if getattr(args, "chip", None) and not args.family and core != "timer555":
+    if getattr(args, "chip", None) and not args.family and not _timer_core(core):
         family = "hc"  # the profile names the family; this only passes the check below
     if family not in CHIP_KEYS:
         raise RequestError(f"unknown --family {args.family!r}; accepted: {', '.join(CHIP_KEYS)}")
@@ -188,6 +188,11 @@ def parts_from_args(args, supply_v: float, core: str | None = None
     return chip, parts
 
 
+def _timer_core(core: str | None) -> bool:
+    """True for a registered core that runs on a timer chip rather than a Schmitt gate."""
+    return core in core_names() and get_core(core).chip_kind == "timer"
+
+
 def chip_from_profile(path: str, family: str | None = None, core: str | None = None, *,
                       rout: float | None = None, cross: float | None = None,
                       thresholds_given: bool = False) -> ChipSpec:
@@ -205,9 +210,9 @@ def chip_from_profile(path: str, family: str | None = None, core: str | None = N
     if family and family.strip().lower() != profile.family:
         raise RequestError(f"--chip {path} holds a {profile.family} chip but --family is "
                            f"{family!r}; leave out --family or give the matching profile")
-    if core == "timer555":
-        raise RequestError(f"--chip {path} describes a Schmitt chip; the 555 core uses "
-                           "timer555 (leave out --chip)")
+    if _timer_core(core):
+        raise RequestError(f"--chip {path} describes a Schmitt chip; the {core} core uses "
+                           "its own timer chip (leave out --chip)")
     current = cross if cross is not None else profile.supply_current_a
     return ChipSpec(family=profile.family, vt_plus_v=profile.vt_plus_v,
                     vt_minus_v=profile.vt_minus_v, rout_ohm=rout, cross_current_a=current,
