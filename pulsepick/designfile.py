@@ -297,8 +297,10 @@ def build_request(design: DesignFile, **overrides: Any):
 
     b = {**design.build, **{k: v for k, v in overrides.items() if v is not None}}
     context = {k: b[k] for k in _BUILD_CONTEXT if k in b}
-    if "chip" in design.build and "family" not in overrides:
-        context.update(chip_context(design.path, design.build["chip"], b.get("family")))
+    context.pop("chip", None)
+    chip = overrides.get("chip") or design.build.get("chip")
+    if chip:
+        context.update(chip_context(design.path, chip, b.get("family")))
     if "supply" not in context:
         supply = storage_supply(design)
         if supply is not None:

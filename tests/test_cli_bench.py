@@ -180,3 +180,23 @@ def test_solve_trim_json(capsys):
     assert trim["yield_trimmed"] >= 0.85
     refs = [p["ref"] for p in cand["parts"]]
     assert any(r.startswith("RV") for r in refs)
+
+
+def test_chip_option_reaches_every_light_of_a_build(tmp_path):
+    from pulsepick.cli import build_parser
+    from pulsepick.commands.solve import build_request_from_args
+
+    chip = tmp_path / "chip.toml"
+    chip.write_text(profile_text(ChipProfile("hc", 3.0, 1.7, 0.9)))
+    parser = build_parser("solve")
+    for phrase in ("two lights: every 2 s, every 3 s", "examples/firefly-lantern.toml"):
+        args = parser.parse_args(["solve", phrase, "--chip", str(chip)])
+        breq, _ = build_request_from_args(args)
+        assert len(breq.lights) >= 2
+        for light in breq.lights:
+            assert light.request.families == ("hc",)
+            assert light.request.chip_overrides["vt_minus_v"] == 0.9
+
+
+def test_trim_is_refused_for_several_lights(capsys):
+    bad(capsys, ["solve", "two lights: every 2 s, every 3 s", "--trim"], "--trim")

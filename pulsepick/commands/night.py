@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import math
+import os
 from dataclasses import replace
 from datetime import date, datetime, timedelta
 
@@ -342,6 +343,8 @@ def _solved_load(args, design, storage, v_start: float, stop_at: float | None):
         from pulsepick.designfile import build_request
 
         overrides = {"supply": args.supply, "family": args.family}
+        if getattr(args, "chip", None):
+            overrides["chip"] = os.path.abspath(args.chip)
         result = solve_build(build_request(design, **overrides), jobs=jobs, assess_picks=False)
         missing = [li.name for li in result.lights if li.pick is None]
         if missing:

@@ -691,7 +691,14 @@ def build_request_from_args(args):
     if _chip_overrides(args):
         raise RequestError("--vt-plus, --vt-minus, --rout and --cross-current describe one "
                            "chip; they apply to a single light")
+    if getattr(args, "trim", False):
+        raise RequestError("--trim sizes one light's trimmer; run 'pulsepick solve' on one "
+                           "light's phrase with --trim")
     context = _build_context(args)
+    if getattr(args, "chip", None):
+        import os
+
+        context["chip"] = os.path.abspath(args.chip)
     if is_design_file(args.phrase):
         design = read_design(args.phrase)
         overrides = {k: v for k, v in context.items() if v is not None}
@@ -704,6 +711,11 @@ def build_request_from_args(args):
             overrides["dusk_detector"] = args.dusk_detector
         return build_request(design, **overrides), design
     phrases = split_lights(args.phrase)
+    if context.get("chip"):
+        from pulsepick.commands.circuit_options import profile_overrides
+
+        context["family"], context["chip_overrides"] = profile_overrides(
+            context.pop("chip"), context.get("family"), {})
     return make_build_request(
         phrases, max_packages=args.max_packages,
         dusk_detector=True if args.dusk_detector is None else args.dusk_detector,
