@@ -156,3 +156,16 @@ def test_impossible_measurements_are_refused():
         Measured(3.0, 0.02, flash_s=4.0)
     with pytest.raises(RequestError, match="no chip of this family"):
         retune(_plain(), Measured(60.0, 0.02), 3.0)
+
+
+def test_measured_draw_replaces_the_crossing_current_estimate():
+    d = _plain()
+    f = d.fast(vt_plus=1.8, vt_minus=0.9).row(0)
+    base = infer(d, Measured(f["period_s"], 0.02))
+    no_cross = dataclasses.replace(d, chip=dataclasses.replace(d.chip, cross_current_a=0.0))
+    kw = {"vt_plus": base.vt_plus_v, "vt_minus": base.vt_minus_v}
+    without = float(np.ravel(no_cross.fast(**kw).supply_avg_a)[0])
+    # the measured draw minus what the rest of the circuit draws is the chip's own
+    inf = infer(d, Measured(f["period_s"], 0.02, supply_current_a=without + 15e-6))
+    assert inf.cross_current_a == pytest.approx(15e-6, rel=1e-6)
+    assert "crossing current" in inf.text

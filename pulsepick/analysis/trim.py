@@ -92,6 +92,7 @@ class TrimPlan:
     yield_before: float  # fraction of builds within the band, untrimmed
     yield_after: float  # fraction of builds that can be trimmed to the target
     note: str = TRIM_STEPS_NOTE
+    ref: str = ""  # reference designator of the replaced resistor on the board (R1, ...)
 
 
 def _needed(design, key: str, ratio: np.ndarray) -> np.ndarray:

@@ -26,6 +26,8 @@ def trim_result(result, series: str):
         if plan is None:
             cands.append(c)
             continue
+        ref = next((p.ref for p in c.parts if p.param == plan.param), plan.param.upper())
+        plan = dataclasses.replace(plan, ref=ref)
         plans[c.rank] = plan
         cands.append(dataclasses.replace(c, parts=_parts(c.parts, plan)))
     return result.with_candidates(tuple(cands)), plans
@@ -56,7 +58,7 @@ def _parts(parts, plan: TrimPlan) -> tuple:
 def trim_json(plan: TrimPlan | None) -> dict | None:
     if plan is None:
         return None
-    return {"part": plan.param, "fixed_ohm": plan.fixed_ohm, "trimmer_ohm": plan.trimmer_ohm,
+    return {"part": plan.param, "ref": plan.ref, "fixed_ohm": plan.fixed_ohm, "trimmer_ohm": plan.trimmer_ohm,
             "needed_range_ohm": list(plan.needed_range_ohm), "setting_ohm": plan.setting_ohm,
             "yield_untrimmed": plan.yield_before, "yield_trimmed": plan.yield_after,
             "note": plan.note}
@@ -78,7 +80,7 @@ def render_trim(console, plans: dict[int, TrimPlan]) -> None:
     for rank, p in sorted(plans.items()):
         lo, hi = p.needed_range_ohm
         print_wrapped(console, (
-            f"#{rank}: {p.param.upper()} becomes {format_eng(p.fixed_ohm, 'Ω')} fixed + "
+            f"#{rank}: {p.ref} ({p.param.upper()}) becomes {format_eng(p.fixed_ohm, 'Ω')} fixed + "
             f"{format_eng(p.trimmer_ohm, 'Ω')} trimmer; the P5..P95 builds need "
             f"{format_eng(lo, 'Ω')} .. {format_eng(hi, 'Ω')} in total, the typical build "
             f"{format_eng(p.fixed_ohm + p.setting_ohm, 'Ω')} "
