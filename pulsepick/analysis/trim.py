@@ -53,21 +53,24 @@ def size_trimmer(needed: float, lo: float, hi: float, series: str = "E24"
                  ) -> tuple[float, float] | None:
     """``(fixed, trimmer)`` in ohm covering ``lo..hi`` with ``needed`` near mid-travel.
 
-    The fixed part is a standard value of ``series`` at or below ``lo``; the trimmer is
-    the smallest 1-2-5 value that reaches ``hi`` from it while ``needed`` sits within
-    30-70 % of the travel. None when no pair fits.
+    The fixed part is a standard value of ``series`` that stays at or below ``lo`` at the
+    top of its tolerance; the trimmer is the smallest 1-2-5 value that reaches ``hi``
+    from the fixed part at the bottom of its tolerance, with ``needed`` within 30-70 % of
+    the travel. None when no pair fits.
     """
     from pulsepick.series import get_series
 
     s = get_series(series)
+    tol = s.tolerance_pct / 100.0  # the fixed part's own tolerance (its series' usual)
     for pot in trimmer_values():
         if pot < hi - lo:
             continue
-        fixed_vals = s.values(max(lo / 100.0, 1.0), lo)
+        fixed_vals = s.values(max(lo / 100.0, 1.0), lo / (1.0 + tol))
         if fixed_vals.size == 0:
             continue
         pos = (needed - fixed_vals) / pot
-        ok = (fixed_vals + pot >= hi) & (pos >= MID_TRAVEL[0]) & (pos <= MID_TRAVEL[1])
+        ok = ((fixed_vals * (1.0 - tol) + pot >= hi) & (pos >= MID_TRAVEL[0])
+              & (pos <= MID_TRAVEL[1]))
         if ok.any():
             i = int(np.argmin(np.where(ok, np.abs(pos - 0.5), np.inf)))
             return float(fixed_vals[i]), float(pot)
