@@ -200,3 +200,13 @@ def test_chip_option_reaches_every_light_of_a_build(tmp_path):
 
 def test_trim_is_refused_for_several_lights(capsys):
     bad(capsys, ["solve", "two lights: every 2 s, every 3 s", "--trim"], "--trim")
+
+
+def test_calibrate_text_report(capsys):
+    assert main([*OSC, "--high", "2.6s", "--low", "3.5s"]) == 0
+    text = capsys.readouterr().out
+    assert "VT+" in text and "VT-" in text and "datasheet spread" in text
+    assert "--c-tol" in text  # C's tolerance dominates the range: the report says how to narrow it
+    assert main(["calibrate", "--recipe", "--family", "hc", "--supply", "3V"]) == 0
+    text = capsys.readouterr().out
+    assert "10 periods" in text and "lit" in text and "mains" in text

@@ -169,3 +169,14 @@ def test_measured_draw_replaces_the_crossing_current_estimate():
     inf = infer(d, Measured(f["period_s"], 0.02, supply_current_a=without + 15e-6))
     assert inf.cross_current_a == pytest.approx(15e-6, rel=1e-6)
     assert "crossing current" in inf.text
+
+
+def test_retune_takes_values_from_the_drawer():
+    from pulsepick.request import parse_stock
+
+    stock = parse_stock("kind,value,qty,dielectric\nR,1M6,5,\nR,1M8,5,\nR,3M3,2,\n",
+                        "drawer.csv")
+    res = retune(_plain(), Measured(3.9, 0.02), 3.0, stock=stock)
+    singles = [c for c in res.changes if c.kind == "single" and c.param == "r1"]
+    assert singles
+    assert {c.values["r1"] for c in singles} <= {1.6e6, 1.8e6, 3.3e6}
