@@ -314,11 +314,9 @@ def load_index_csv(path) -> tuple[float, ...]:
     """Read a user's daily clear-sky indices (header ``day,clear_sky_index``)."""
     from pathlib import Path
 
+    from pulsepick.infile import read_text
+
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as err:
-        raise RequestError(f"clear-sky index file {str(p)!r} cannot be read "
-                           f"({err.__class__.__name__}); accepted: a readable UTF-8 CSV file"
-                           ) from err
+    text = read_text(str(p), "clear-sky index file",
+                     "a UTF-8 CSV file with a header 'day,clear_sky_index'")
     return parse_index_text(text, p.name)
