@@ -46,11 +46,17 @@ def test_help_example_runs(name, line, tmp_path, monkeypatch, capsys):
         "R,47k,10\nR,22k,10\nR,10k,10\nR,4k7,10\nR,1k,10\nR,470,10\nR,220,10\nR,100,10\n"
         "R,47,10\nR,22,10\nR,10,10\nC,1u,5,film\nC,2u2,5,x7r\nC,470n,5,film\nC,220n,5,film\n"
         "C,100n,5,film\nC,10u,5,electrolytic\nC,22u,5,electrolytic\nC,47u,5,electrolytic\n"
-        "C,100u,5,electrolytic\nC,220u,5,electrolytic\nC,330u,5,electrolytic\n")
+        "C,100u,5,electrolytic\nC,220u,5,electrolytic\nC,330u,5,electrolytic\n"
+        "R,1M5,5\nR,3M3,5\nR,4M7,5\nC,1u5,5,film\nC,4u7,5,film\n")
     (tmp_path / "garden.csv").write_text(
         "hour,irradiance_w_m2\n5,0\n7,150\n10,600\n13,800\n16,500\n19,100\n21,0\n")
     shutil.copytree(REPO / "examples", tmp_path / "examples")
     monkeypatch.chdir(tmp_path)
+    if "chip.toml" in line and "--save" not in line:
+        # the chip profile the calibrate example saves
+        assert main(["calibrate", "--r", "1M5", "--c", "4u7", "--supply", "3V", "--family",
+                     "hc", "--high", "2.6s", "--low", "3.5s", "--save", "chip.toml"]) == 0
+        capsys.readouterr()
     argv = shlex.split(line)
     assert argv[0] == "pulsepick" and argv[1] == name
     code = main(argv[1:])
