@@ -1677,7 +1677,8 @@ def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
         return (len(plan.packages), plan.gates_needed), plan
 
     cur, plan = state(chosen)
-    while limit is not None and cur[0] > limit:
+    # without a limit, as few packages as the offered circuits allow (packed by default)
+    while cur[0] > (limit if limit is not None else 1):
         best = None
         for i, res in enumerate(results):
             for k in range(len(res.candidates)):
@@ -1686,11 +1687,13 @@ def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
                 trial = chosen.copy()
                 trial[i] = k
                 st, _ = state(trial)
-                if st < cur:
+                if st < cur if limit is not None else st[0] < cur[0]:
                     cost = res.candidates[k].score - res.candidates[chosen[i]].score
                     key = (st, cost)
                     if best is None or key < best[0]:
                         best = (key, trial)
+        if best is None and limit is None:
+            break
         if best is None:
             raise RequestError(package_limit_error(plan, limit))
         chosen = best[1]
@@ -1745,7 +1748,9 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
         text = multi.package_limit_error(least, breq.max_packages)
         if text is not None:
             raise RequestError(text)
-    results = [solve(li.request, jobs=jobs) for li in breq.lights]
+    from pulsepick.packing import solve_lights
+
+    results, pack_notes = solve_lights(breq, solve, jobs=jobs)
     failed = [n for n, r in zip(names, results, strict=True) if not r.success]
     if failed:
         lights = tuple(LightPick(n, r, r.candidates[0] if r.candidates else None,
@@ -1805,7 +1810,7 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
     if assess_picks:
         picks = [assess(r.with_candidates((c,)), jobs=jobs).candidates[0]
                  for r, c in zip(results, picks, strict=True)]
-    warnings = []
+    warnings = list(pack_notes)
     for r in risks:
         if r.at_risk:
             warnings.append(_risk_text(names, r, margin))
