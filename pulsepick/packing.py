@@ -18,6 +18,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
+from pulsepick.errors import RequestError
 from pulsepick.request import FAMILY_CHOICES, SolveRequest
 
 #: The logic families a light can share a package on (every family key but the 555).
@@ -74,7 +75,10 @@ def family_plan(req: SolveRequest) -> FamilyPlan:
         ranges = ", ".join(f"{f} runs {m.vdd_min_v:g}-{m.vdd_max_v:g} V" for f, m in
                            ((f, chip_model(ChipSpec(family=f))) for f in given))
         span = f"{hi:g} V down to {lo:g} V"
-        if covering:
+        if covering and defaulted:
+            note = (f"{ranges}, not the whole supply range ({span}); the lights use "
+                    f"{covering[0]}, which does (--family {covering[0]})")
+        elif covering:
             note = (f"{ranges}, not the whole supply range ({span}); {covering[0]} does "
                     f"(--family {covering[0]})")
         else:
@@ -150,4 +154,98 @@ def solve_lights(breq, solve_fn, *, jobs: int = 1):
 
 
 __all__ = ["FamilyPlan", "SCHMITT_FAMILIES", "covers", "families_covering", "family_plan",
-           "on_family", "on_timer", "packable", "solve_lights", "supply_span"]
+           "on_family", "on_timer", "packable", "solve_lights", "supply_span", "build_lock_share", "lock_remedies",
+           "remedies_text", "share_text"]
+
+
+# ============================================================================ lock share
+
+def build_lock_share(breq, picks, groups, *, seed: int = 0):
+    """The lock share of the chosen circuits (:func:`pulsepick.analysis.lock.lock_share`),
+    over the night's supply range and each pick's resistor tolerances."""
+    from pulsepick.analysis.lock import lock_share
+
+    req = breq.lights[0].request
+    lo, hi = supply_span(req)
+    return lock_share([c.design for c in picks], groups, seed=seed, margin=breq.lock_margin,
+                      supply_range_v=(lo, hi) if hi > lo else None,
+                      resistor_tol_pct=[_r_tols(c) for c in picks])
+
+
+def _r_tols(c):
+    tols = {p.param: p.tolerance_pct for p in c.parts if p.kind == "resistor"}
+    return tols or None
+
+
+def lock_remedies(breq, picks, groups, share, options_fn, *, seed: int = 0) -> tuple:
+    """Ways to lower the lock share, ranked by the share each leaves.
+
+    ``options_fn(i, tolerance)`` gives light ``i``'s standard-value variants
+    (:class:`pulsepick.analysis.multi.PeriodOptions`) within ``tolerance`` of its period
+    asked. Tighter parts re-run the Monte Carlo with 1 % resistors and 5 % capacitors; a
+    wider period tolerance (twice the one given) and the spread-out search rescale the
+    builds; a separate package moves the light in the most near-lock builds to its own.
+    A trimmer is not offered (no trimmer model in this version).
+    """
+    from pulsepick.analysis.lock import (
+        TIGHT_CAP_PCT,
+        TIGHT_RESISTOR_PCT,
+        Remedy,
+        lock_share,
+        minimise_share,
+        rank_remedies,
+        share_of,
+    )
+
+    if share.share <= 0:
+        return ()
+    req = breq.lights[0].request
+    lo, hi = supply_span(req)
+    out = []
+    tight = lock_share([c.design for c in picks], groups, seed=seed, margin=breq.lock_margin,
+                       supply_range_v=(lo, hi) if hi > lo else None,
+                       resistor_tol_pct=[TIGHT_RESISTOR_PCT] * len(picks),
+                       cap_tol=TIGHT_CAP_PCT)
+    out.append(Remedy(f"tighter timing parts ({TIGHT_RESISTOR_PCT:g} % resistors, "
+                      f"{TIGHT_CAP_PCT:g} % capacitors)", tight.share, "--series E96"))
+    periods = [float(c.figures["period_s"]) for c in picks]
+    asked = [li.request.targets.period_s for li in breq.lights]
+    for tol, words, opt in (
+            (breq.period_tolerance, f"spread the periods out within {breq.period_tolerance:.0%}",
+             "--spread-out"),
+            (min(0.5, 2 * breq.period_tolerance),
+             f"a wider period tolerance ({min(0.5, 2 * breq.period_tolerance):.0%}) for the "
+             "spread-out search", f"--period-tolerance {min(0.5, 2 * breq.period_tolerance):.0%}")):
+        if opt == "--spread-out" and breq.spread_out:
+            continue
+        try:
+            opts = [options_fn(i, tol).periods_s for i in range(len(picks))]
+            _, res = minimise_share(asked, opts, share, periods, groups)
+        except RequestError:  # a light without variants: no remedy of this kind
+            continue
+        out.append(Remedy(words, res.share, opt))
+    worst = max(range(len(picks)), key=lambda i: sum(p.share for p in share.pairs
+                                                     if i in (p.a, p.b)))
+    alone = [g if i != worst else max(groups) + 1 for i, g in enumerate(groups)]
+    sep = share_of(periods, share.log_dev, alone, margin=share.margin, max_q=share.max_q)
+    out.append(Remedy(f"{breq.lights[worst].name} on a package of its own", sep.share,
+                      "--max-packages"))
+    return rank_remedies(out)
+
+
+def share_text(names, pair, margin: float, spread_out: bool) -> str:
+    """The warning for one pair near a lock in some builds."""
+    head = (f"{names[pair.a]} and {names[pair.b]} share a package and come within "
+            f"{margin:.0%} of {pair.nearest} in {pair.share:.1%} of builds (ratios p:q with "
+            "q <= 4 lock most readily)")
+    return head + (", with the periods already spread out" if spread_out else "")
+
+
+def remedies_text(remedies, spread_out: bool) -> str | None:
+    """One line: the remedies, from the one leaving the least lock share."""
+    offered = [r for r in remedies if not (spread_out and r.option == "--spread-out")]
+    if not offered:
+        return None
+    return "to lower the share of builds near a lock, best first: " + "; ".join(
+        f"{r.action}: {r.share:.1%}" + (f" ({r.option})" if r.option else "")
+        for r in offered)

@@ -1628,6 +1628,9 @@ class BuildResult:
     message: str
     warnings: tuple[str, ...]
     search_s: float  # s, wall time
+    lock_share: Any = None  # LockShare (pulsepick.analysis.lock) of the circuits as chosen
+    lock_share_before: Any = None  # the same before the spread-out search moved periods
+    remedies: tuple = ()  # Remedy, ranked by the lock share each leaves
 
     @property
     def picks(self) -> tuple[Candidate, ...]:
@@ -1782,6 +1785,12 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
     risks_before = None
     choice = None
     moved = [False] * len(picks)
+    from pulsepick import packing
+    from pulsepick.analysis.lock import ACCEPTABLE_LOCK_SHARE, minimise_share
+
+    lock_seed = breq.lights[0].request.seed
+    share = packing.build_lock_share(breq, picks, groups, seed=lock_seed)
+    share_before = None
     if breq.spread_out:
         options = [_period_options(breq.lights[i].request, c, asked[i], breq.period_tolerance)
                    for i, c in enumerate(picks)]
@@ -1794,7 +1803,13 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
             offsets[(i, j)] = (lo - x, hi - x) if math.isfinite(lo) else (0.0, 0.0)
         choice = multi.choose_periods(asked, [o.periods_s for o in options], pairs, offsets,
                                       margin=margin, tolerance=breq.period_tolerance)
+        # the least share of builds near a lock, from the clearest choice among others
+        best, _ = minimise_share(asked, [o.periods_s for o in options], share, periods,
+                                 groups, starts=[list(choice.chosen)])
+        choice = replace(choice, chosen=tuple(best), chosen_s=tuple(
+            float(options[i].periods_s[k]) for i, k in enumerate(best)))
         risks_before = risks
+        share_before = share
         new = []
         for i, c in enumerate(picks):
             values = options[i].values[choice.chosen[i]]
@@ -1807,26 +1822,41 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
         samples = bands(picks)
         periods = [c.figures["period_s"] for c in picks]
         risks = multi.lock_risks(periods, groups, samples, margin=margin)
+        share = packing.build_lock_share(breq, picks, groups, seed=lock_seed)
+        choice = replace(choice, success=share.share <= ACCEPTABLE_LOCK_SHARE, message=(
+            f"the share of builds with a pair near a lock goes from {share_before.share:.1%} "
+            f"to {share.share:.1%} (least within {breq.period_tolerance:.0%} of the periods "
+            "asked)"))
+    remedies = packing.lock_remedies(
+        breq, picks, groups, share,
+        lambda i, tol: _period_options(breq.lights[i].request, picks[i], asked[i], tol),
+        seed=lock_seed)
     if assess_picks:
         picks = [assess(r.with_candidates((c,)), jobs=jobs).candidates[0]
                  for r, c in zip(results, picks, strict=True)]
     warnings = list(pack_notes)
-    for r in risks:
-        if r.at_risk:
-            warnings.append(_risk_text(names, r, margin))
+    for p in share.pairs:
+        if p.share > 0:
+            warnings.append(packing.share_text(names, p, margin, breq.spread_out))
+    if any(p.share > 0 for p in share.pairs) and packing.remedies_text(remedies,
+                                                                       breq.spread_out):
+        warnings.append(packing.remedies_text(remedies, breq.spread_out))
     total = float(sum(c.figures["supply_avg_a"] for c in picks))
-    ok = not (breq.spread_out and any(r.at_risk for r in risks))
+    ok = not (breq.spread_out and share.share > ACCEPTABLE_LOCK_SHARE)
     message = (f"{len(picks)} lights on {len(plan.packages)} "
                f"package{'s' if len(plan.packages) != 1 else ''}")
     if breq.spread_out and choice is not None:
-        message += "; " + (choice.message if not ok else "periods spread out: every pair on "
-                           "a package keeps clear of the simple ratios over its P5..P95 band")
+        message += "; " + (
+            f"periods spread out, yet {share.share:.1%} of builds keep a pair near a lock; "
+            "see the remedies" if not ok else
+            f"periods spread out: {share.share:.1%} of builds have a pair near a lock")
     lights = tuple(LightPick(n, r, c, asked[i], moved[i])
                    for i, (n, r, c) in enumerate(zip(names, results, picks, strict=True)))
     return BuildResult(request=breq, lights=lights, plan=plan, risks=risks,
                        risks_before=risks_before, spread_out=choice, total_supply_a=total,
                        success=ok, message=message, warnings=tuple(warnings),
-                       search_s=time.perf_counter() - t0)
+                       search_s=time.perf_counter() - t0, lock_share=share,
+                       lock_share_before=share_before, remedies=remedies)
 
 
 def _period_options(req: SolveRequest, c: Candidate, asked_s: float, tolerance: float):
@@ -1856,18 +1886,6 @@ def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float]) -> Candi
                    parts=_parts(req, design, figs), reference=None, spread=None, drift=None,
                    warnings=(), crossing_current=None, median_note=None,
                    notes=(*c.notes, "timing values moved by the spread-out search"))
-
-
-def _risk_text(names, r, margin: float) -> str:
-    where = []
-    if r.nominal_near:
-        where.append(f"the nominal periods stand at {r.ratio:.3f}")
-    if r.band_near:
-        where.append(f"over its P5..P95 band ({r.band[0]:.3f}..{r.band[1]:.3f}) the ratio "
-                     f"comes within {margin:.0%}")
-    return (f"{names[r.a]} and {names[r.b]} share a package and may pull into step: "
-            f"{' and '.join(where)} of {r.nearest} (ratios p:q with q <= 4 lock most "
-            "readily); use --spread-out, or separate packages and good decoupling")
 
 
 __all__ = [

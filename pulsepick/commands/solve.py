@@ -765,6 +765,18 @@ def _risk_json(names, r) -> dict:
             "clearance": r.clearance, "at_risk": r.at_risk}
 
 
+def _share_json(names, share) -> dict | None:
+    """The lock share (pulsepick.analysis.lock.LockShare) as plain data."""
+    if share is None:
+        return None
+    return {"lock_share": share.share, "stderr": share.stderr, "builds": share.builds,
+            "seed": share.seed, "margin": share.margin, "max_q": share.max_q,
+            "packages": [{"ref": f"U{g}", "lock_share": v}
+                         for g, v in sorted(share.packages.items())],
+            "pairs": [{"lights": [names[p.a], names[p.b]], "package": f"U{p.package}",
+                       "lock_share": p.share, "nearest": p.nearest} for p in share.pairs]}
+
+
 def build_json(result, **extras) -> dict:
     """The whole build as plain JSON data."""
     from pulsepick import __version__
@@ -796,6 +808,10 @@ def build_json(result, **extras) -> dict:
             "oscillators": plan.oscillators, "buffers": plan.buffers, "dusk": plan.dusk,
             "needed": plan.gates_needed, "timers": plan.timers, "count": plan.describe()},
         "lock_risks": [_risk_json(names, r) for r in result.risks],
+        "lock_share": _share_json(names, result.lock_share),
+        "lock_share_before_spread_out": _share_json(names, result.lock_share_before),
+        "lock_remedies": [{"action": r.action, "lock_share": r.share, "option": r.option}
+                          for r in result.remedies],
         "lock_risks_before_spread_out": None if result.risks_before is None else
         [_risk_json(names, r) for r in result.risks_before],
         "total_supply_avg_a": result.total_supply_a,
@@ -832,7 +848,8 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
                      + (" *" if li.moved else ""), _eng(f["flash_s"], "s"),
                      _eng(f["led_peak_a"], "A"), _eng(f["supply_avg_a"], "A")])
     console.print(simple_table(
-        f"Lights ({result.search_s:.1f} s; * period moved by --spread-out)",
+        "Lights" + (" (* period moved by --spread-out)" if any(li.moved for li in
+                                                              result.lights) else ""),
         ["light", "asked", "circuit", "chip", "period", "flash", "peak", "supply"], rows,
         justify=["left", "right", "left", "left", "right", "right", "right", "right"]))
     console.print()
@@ -854,20 +871,25 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
                                f"{'s' if p.gates_used != 1 else ''} ({who}{extra})")
     console.print()
     if result.risks:
+        share = result.lock_share
         rows = []
         for r in result.risks:
             band = "-" if r.band[0] != r.band[0] else f"{r.band[0]:.3f}..{r.band[1]:.3f}"
-            state = ("near" if r.nominal_near else "band near" if r.band_near else "clear")
-            rows.append([f"{names[r.a]} / {names[r.b]}", f"{r.ratio:.3f}", band, r.nearest,
-                         f"{r.clearance * 100:+.1f} %", state])
+            ps = share.pair(r.a, r.b) if share is not None else None
+            rows.append([f"{names[r.a]} / {names[r.b]}", f"{r.ratio:.3f}", band,
+                         ps.nearest if ps is not None and ps.share > 0 else r.nearest,
+                         f"{ps.share:.1%}" if ps is not None else "-"])
         console.print(simple_table(
-            f"Lock risk: period ratios of lights on one package against p:q, q <= 4, "
-            f"margin {breq.lock_margin:.0%}",
-            ["pair", "ratio", "P5..P95", "nearest", "clearance", ""], rows,
-            justify=["left", "right", "right", "right", "right", "left"]))
-        print_wrapped(console, "the band: each light's own parts vary independently; the "
-                               "package's thresholds, supply and temperature move all its "
-                               "periods together and leave the ratio")
+            f"Lock risk: share of builds with a pair within {breq.lock_margin:.0%} of p:q, "
+            "q <= 4",
+            ["pair", "ratio", "P5..P95", "nearest", "lock share"], rows,
+            justify=["left", "right", "right", "right", "right"]))
+        if share is not None:
+            per_pkg = ", ".join(f"U{g} {v:.1%}" for g, v in sorted(share.packages.items()))
+            print_wrapped(console, f"any pair near a lock: {share.share:.1%} of "
+                                   f"{share.builds:,} builds (seed {share.seed}; {per_pkg}); "
+                                   "each light's own parts vary, the package's thresholds, "
+                                   "supply and temperature are shared")
         console.print()
     if result.spread_out is not None:
         so = result.spread_out
