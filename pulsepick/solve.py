@@ -1631,6 +1631,7 @@ class BuildResult:
     lock_share: Any = None  # LockShare (pulsepick.analysis.lock) of the circuits as chosen
     lock_share_before: Any = None  # the same before the spread-out search moved periods
     remedies: tuple = ()  # Remedy, ranked by the lock share each leaves
+    gating: Any = None  # BuildGating (pulsepick.analysis.gating); None without a detector
 
     @property
     def picks(self) -> tuple[Candidate, ...]:
@@ -1663,9 +1664,12 @@ def _least_uses(breq) -> list:
 def _plan(breq, names, cands):
     from pulsepick.analysis.multi import plan_packages
 
+    from pulsepick.analysis.gating import detector_gates
+
     return plan_packages([_use(n, c) for n, c in zip(names, cands, strict=True)],
                          dusk_detector=breq.dusk_detector,
-                         periods_s=[c.figures["period_s"] for c in cands])
+                         periods_s=[c.figures["period_s"] for c in cands],
+                         dusk_gates=detector_gates([c.design.topo for c in cands]))
 
 
 def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
@@ -1680,6 +1684,7 @@ def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
         return (len(plan.packages), plan.gates_needed), plan
 
     cur, plan = state(chosen)
+    first, start = list(chosen), cur
     # without a limit, as few packages as the offered circuits allow (packed by default)
     while cur[0] > (limit if limit is not None else 1):
         best = None
@@ -1690,13 +1695,14 @@ def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
                 trial = chosen.copy()
                 trial[i] = k
                 st, _ = state(trial)
-                if st < cur if limit is not None else st[0] < cur[0]:
+                if st < cur:
                     cost = res.candidates[k].score - res.candidates[chosen[i]].score
                     key = (st, cost)
                     if best is None or key < best[0]:
                         best = (key, trial)
         if best is None and limit is None:
-            break
+            # fewer gates that saved no package are not worth the circuits' scores
+            return chosen if cur[0] < start[0] else first
         if best is None:
             raise RequestError(package_limit_error(plan, limit))
         chosen = best[1]
@@ -1841,6 +1847,18 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
     if any(p.share > 0 for p in share.pairs) and packing.remedies_text(remedies,
                                                                        breq.spread_out):
         warnings.append(packing.remedies_text(remedies, breq.spread_out))
+    gating = None
+    if breq.dusk_detector:
+        from pulsepick.analysis.gating import build_gating
+
+        gating = build_gating([c.design for c in picks], *packing.supply_span(
+            breq.lights[0].request))
+        for h in gating.holds:
+            if not h.holds:
+                warnings.append(
+                    f"{names[h.light]}: the dusk hold leaves its timing node at "
+                    f"{h.node_v:.2f} V at the end of the night's supply, not beyond the "
+                    f"threshold limit of {h.limit_v:.2f} V; it may keep blinking by day")
     total = float(sum(c.figures["supply_avg_a"] for c in picks))
     ok = not (breq.spread_out and share.share > ACCEPTABLE_LOCK_SHARE)
     message = (f"{len(picks)} lights on {len(plan.packages)} "
@@ -1856,7 +1874,7 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
                        risks_before=risks_before, spread_out=choice, total_supply_a=total,
                        success=ok, message=message, warnings=tuple(warnings),
                        search_s=time.perf_counter() - t0, lock_share=share,
-                       lock_share_before=share_before, remedies=remedies)
+                       lock_share_before=share_before, remedies=remedies, gating=gating)
 
 
 def _period_options(req: SolveRequest, c: Candidate, asked_s: float, tolerance: float):

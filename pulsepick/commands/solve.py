@@ -745,9 +745,13 @@ def build_lines(result, *, storage=None, panel=None, charge_diode=None) -> tuple
     """Every part of the build (``PartLine`` tuple)."""
     from pulsepick.analysis.multi import build_part_lines
 
+    from pulsepick.analysis.gating import hold_part_lines
+
     names = [li.name for li in result.lights]
+    holds = () if result.gating is None else hold_part_lines(result.gating, names)
     return build_part_lines(names, [li.pick.parts for li in result.lights], result.plan,
-                            storage=storage, panel=panel, charge_diode=charge_diode)
+                            storage=storage, panel=panel, charge_diode=charge_diode,
+                            hold_lines=holds)
 
 
 def build_buylist_text(result, **extras) -> str:
@@ -763,6 +767,18 @@ def _risk_json(names, r) -> dict:
             "band_p5": r.band[0], "band_p95": r.band[1], "nearest": r.nearest,
             "nominal_near": r.nominal_near, "band_near": r.band_near,
             "clearance": r.clearance, "at_risk": r.at_risk}
+
+
+def _gating_json(names, gating) -> dict | None:
+    """The dusk gating (pulsepick.analysis.gating.BuildGating) as plain data."""
+    if gating is None:
+        return None
+    return {"arrangement": gating.arrangement, "detector_gates": gating.detector_gates,
+            "hold_diode": gating.diode, "held_supply_a": gating.held_a,
+            "held_supply_end_a": gating.held_end_a,
+            "lights": [{"name": names[h.light], "hold": h.kind, "held_supply_a": h.held_a,
+                        "held_supply_end_a": h.held_end_a, "node_v": h.node_v,
+                        "limit_v": h.limit_v, "holds": h.holds} for h in gating.holds]}
 
 
 def _share_json(names, share) -> dict | None:
@@ -815,6 +831,7 @@ def build_json(result, **extras) -> dict:
         "lock_risks_before_spread_out": None if result.risks_before is None else
         [_risk_json(names, r) for r in result.risks_before],
         "total_supply_avg_a": result.total_supply_a,
+        "dusk_gating": _gating_json(names, result.gating),
         "warnings": list(result.warnings),
         "cautions": list(solve_cautions(breq, storage="storage" in extras)),
     }
@@ -898,6 +915,16 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
                                + ", ".join(f"{n} {a:.3g} s -> {c:.3g} s" for n, a, c in
                                            zip(names, so.asked_s, so.chosen_s, strict=True)))
         print_wrapped(console, so.message)
+        console.print()
+    if result.gating is not None:
+        g = result.gating
+        console.print("[bold]Dusk gating[/bold]")
+        print_wrapped(console, f"{g.arrangement}; the detector takes "
+                               f"{g.detector_gates} gate{'s' if g.detector_gates != 1 else ''}")
+        print_wrapped(console, f"held by day the lights draw {_eng(g.held_a, 'A')} "
+                               f"({_eng(g.held_end_a, 'A')} at the end of the night's supply) "
+                               "through their timing resistors and hold diodes, besides the "
+                               "chip's quiescent current")
         console.print()
     console.print("[bold]Energy budget[/bold]")
     night_c = _eng(result.total_supply_a * 12 * 3600, "C")
