@@ -697,10 +697,9 @@ def run_build(args) -> int:
         raise RequestError(f"--jobs {jobs}: give a whole number of at least 1")
     if args.buylist and not args.force:
         _check_target(args.buylist)
-    if getattr(args, "plot", None) or getattr(args, "report", None):
-        raise RequestError("--plot and --report draw one light; for several lights run "
-                           "'pulsepick solve' on one light's phrase, or 'pulsepick night' "
-                           "with the design file")
+    from pulsepick.commands.pictures import check_picture_targets
+
+    check_picture_targets(args)
     extras = _build_extras(design)
     result = solve_build(breq, jobs=jobs)
     offered = all(li.pick is not None for li in result.lights) and result.plan is not None
@@ -716,6 +715,10 @@ def run_build(args) -> int:
     if not offered:
         _nothing_line(breq.describe(), list(result.warnings) or [result.message])
         return 2
+    from pulsepick.buildreport import build_pictures
+    from pulsepick.commands.pictures import announce
+
+    announce(args, build_pictures(args, result, build_lines(result, **extras), design))
     return 0
 
 
