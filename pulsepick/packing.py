@@ -249,3 +249,84 @@ def remedies_text(remedies, spread_out: bool) -> str | None:
     return "to lower the share of builds near a lock, best first: " + "; ".join(
         f"{r.action}: {r.share:.1%}" + (f" ({r.option})" if r.option else "")
         for r in offered)
+
+
+# ============================================================================ light-set rates
+
+#: The rate range a photoresistor light is clamped to, as fractions of the period asked
+#: (the period in the dark): twice as fast in bright light at most, 15 % slower at the dark
+#: corner (design choice).
+LDR_FASTEST, LDR_SLOWEST = 0.5, 1.15
+
+
+@dataclass(frozen=True)
+class LightRate:
+    """A light whose rate is set by a photoresistor in place of its timing resistor."""
+
+    light: int  # light index
+    key: str  # photoresistor key
+    clamp: object  # ClampResult (pulsepick.analysis.ldr)
+    rate: object  # LdrResult: period against light at the photoresistor's corners
+
+
+def light_rates(breq, picks) -> dict[int, LightRate]:
+    """The photoresistor network of every light that names one (see ``LDR_FASTEST``)."""
+    from pulsepick.analysis.ldr import ldr_rate, solve_clamp
+    from pulsepick.parts.photoresistor import get_photoresistor
+
+    out = {}
+    for i, key in enumerate(breq.photoresistors):
+        if not key or i >= len(picks):
+            continue
+        design = picks[i].design
+        asked = breq.lights[i].request.targets.period_s
+        bounds = (LDR_FASTEST * asked, LDR_SLOWEST * asked)
+        clamp = solve_clamp(design, get_photoresistor(key), bounds,
+                            series=breq.lights[i].request.r_series)
+        out[i] = LightRate(i, key, clamp, ldr_rate(design, clamp.network,
+                                                   period_range_s=bounds))
+    return out
+
+
+def rate_part_lines(rate: LightRate, param_lines) -> tuple:
+    """The light's own part lines with its timing resistor replaced by the photoresistor
+    and its clamp resistors (``PartLine``)."""
+    from dataclasses import replace as _replace
+
+    from pulsepick.analysis.ldr import timing_param
+    from pulsepick.partslist import PartLine
+    from pulsepick.units import format_eng, format_rkm
+
+    net = rate.clamp.network
+    name = timing_param(rate.rate.design)
+    out = []
+    for line in param_lines:
+        if line.param != name:
+            out.append(line)
+            continue
+        out.append(PartLine(
+            ref="LDR", kind="photoresistor", value=None, unit="", display=net.ldr.name,
+            code=rate.key, series="", tolerance="", tolerance_pct=None, dielectric="",
+            rating="", role=f"photoresistor in place of {name.upper()}: the rate follows "
+            "the light", param=name, note="keep it shaded from the light's own LED"))
+        for what, value in (("series", net.series_ohm), ("parallel", net.parallel_ohm)):
+            if 0 < value < float("inf"):
+                out.append(_replace(line, value=value, display=format_eng(value, "Ω"),
+                                    code=format_rkm(value, "R"), param=f"{name}_{what}",
+                                    role=f"{what} clamp resistor of the photoresistor"))
+    return tuple(out)
+
+
+#: Light level by day at which a photoresistor light's held draw is taken, lux: an
+#: overcast day in the shade of a handrail (estimate; brighter light lowers the
+#: photoresistor further, down to its series clamp).
+DAY_LUX = 100.0
+
+
+def held_designs(picks, rates) -> list:
+    """The circuits as they stand by day: a photoresistor light's timing resistance at
+    ``DAY_LUX`` (its clamps included), the others as chosen."""
+    from pulsepick.analysis.ldr import with_network_value
+
+    return [with_network_value(c.design, rates[i].clamp.network, DAY_LUX) if i in rates
+            else c.design for i, c in enumerate(picks)]

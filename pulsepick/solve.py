@@ -1632,6 +1632,7 @@ class BuildResult:
     lock_share_before: Any = None  # the same before the spread-out search moved periods
     remedies: tuple = ()  # Remedy, ranked by the lock share each leaves
     gating: Any = None  # BuildGating (pulsepick.analysis.gating); None without a detector
+    rates: Any = None  # {light index: LightRate (pulsepick.packing)} for photoresistor lights
 
     @property
     def picks(self) -> tuple[Candidate, ...]:
@@ -1847,11 +1848,12 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
     if any(p.share > 0 for p in share.pairs) and packing.remedies_text(remedies,
                                                                        breq.spread_out):
         warnings.append(packing.remedies_text(remedies, breq.spread_out))
+    rates = packing.light_rates(breq, picks) if breq.photoresistors else {}
     gating = None
     if breq.dusk_detector:
         from pulsepick.analysis.gating import build_gating
 
-        gating = build_gating([c.design for c in picks], *packing.supply_span(
+        gating = build_gating(packing.held_designs(picks, rates), *packing.supply_span(
             breq.lights[0].request))
         for h in gating.holds:
             if not h.holds:
@@ -1859,6 +1861,8 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
                     f"{names[h.light]}: the dusk hold leaves its timing node at "
                     f"{h.node_v:.2f} V at the end of the night's supply, not beyond the "
                     f"threshold limit of {h.limit_v:.2f} V; it may keep blinking by day")
+    for i, lr in rates.items():
+        warnings.extend(f"{names[i]}: {w}" for w in getattr(lr.rate, "warnings", ()))
     total = float(sum(c.figures["supply_avg_a"] for c in picks))
     ok = not (breq.spread_out and share.share > ACCEPTABLE_LOCK_SHARE)
     message = (f"{len(picks)} lights on {len(plan.packages)} "
@@ -1874,7 +1878,8 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
                        risks_before=risks_before, spread_out=choice, total_supply_a=total,
                        success=ok, message=message, warnings=tuple(warnings),
                        search_s=time.perf_counter() - t0, lock_share=share,
-                       lock_share_before=share_before, remedies=remedies, gating=gating)
+                       lock_share_before=share_before, remedies=remedies, gating=gating,
+                       rates=rates)
 
 
 def _period_options(req: SolveRequest, c: Candidate, asked_s: float, tolerance: float):

@@ -19,8 +19,10 @@ Which one a light takes follows from the level that keeps its LED dark: a direct
 while its driver is high (or a fade stage) needs the driver low, one lit while the driver
 is low needs it high, and a capacitor-coupled flash (``pulse``) is dark at either level; a
 buffer inverts once more. ``hold-low`` is taken wherever it keeps the LED dark (it needs no
-extra gate). A CMOS 555 takes the detector's output on its RESET pin instead (held low by
-day, the timer cannot run; no diode).
+extra gate), except for a steered core, which is held at the level where its steering
+diode is off (held at the other, its fast-phase resistor would carry current all day). A
+CMOS 555 takes the detector's output on its RESET pin instead (held low by day, the timer
+cannot run; no diode).
 
 By day the held oscillator still draws a steady current: the capacitor sits at one end
 and the output at the other rail, so the timing resistor carries (supply - diode drop)/R.
@@ -57,6 +59,10 @@ def hold_kind(topo) -> HoldKind:
         return "reset"
     level = dark_driver_level(topo)
     if level == "either":
+        # a steered core held at its steered level would pass its fast-phase resistor's
+        # current all day: hold it at the other level
+        if topo.core == "schmitt-steered":
+            return "hold-high" if topo.steer == "high" else "hold-low"
         return "hold-low"
     osc_dark = level if not topo.buffered else ("low" if level == "high" else "high")
     return "hold-low" if osc_dark == "high" else "hold-high"

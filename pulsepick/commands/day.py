@@ -106,6 +106,9 @@ def hours(seconds: float | None) -> str:
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     """Options of ``pulsepick day``."""
+    parser.add_argument("design", nargs="?", metavar="DESIGN.toml",
+                        help="a design file: its storage, panel, night and every light's "
+                             "load (night) and held draw (day)")
     store = parser.add_argument_group("storage")
     store.add_argument("--storage", metavar="KEY|C",
                        help=f"a storage part ({', '.join(STORAGE_KEYS)}) or a capacitance such "
@@ -241,6 +244,8 @@ def _days(args: argparse.Namespace) -> int | None:
 
 def run(args: argparse.Namespace) -> int:
     """Read the options, run the days and nights, print the report or JSON."""
+    if getattr(args, "design", None) is not None:
+        return _run_design(args)
     storage = read_storage(args.storage, args.rated)
     panel = read_panel(args)
     diode = get_diode(args.diode)
@@ -264,6 +269,28 @@ def run(args: argparse.Namespace) -> int:
         dump_json(result_json(result, night_info))
     else:
         render_report(result, night_info, make_console())
+    return 0
+
+
+def _run_design(args: argparse.Namespace) -> int:
+    """``pulsepick day DESIGN.toml`` (see :mod:`pulsepick.commands.day_design`)."""
+    from pulsepick.commands.day_design import design_inputs
+
+    d = design_inputs(args)
+    v_start = quantity(args.start, "voltage", "--start", "0V or 2.5V", allow_zero=True)
+    clamp = None if args.clamp is None else quantity(args.clamp, "voltage", "--clamp", "2.5V")
+    bleed = math.inf
+    if args.bleed is not None:
+        bleed = quantity(args.bleed, "resistance", "--bleed", "240k")
+    result = simulate_days(
+        d["storage"], d["panel"], d["diode"], _weather(args), d["night_load"], d["window"],
+        v_start, days=_days(args), clamp_v=clamp, bleed_ohm=bleed, day_load=d["day_load"],
+        stop_at_v=d["stop_at"] if d["stop_at"] is not None else 1.8,
+        leak_level=args.leakage, diode_leak=args.diode_leak)
+    if args.json:
+        dump_json(result_json(result, d["night_info"]))
+    else:
+        render_report(result, d["night_info"], make_console())
     return 0
 
 

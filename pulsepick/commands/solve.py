@@ -751,8 +751,13 @@ def build_lines(result, *, storage=None, panel=None, charge_diode=None) -> tuple
     from pulsepick.analysis.gating import hold_part_lines
 
     names = [li.name for li in result.lights]
+    from pulsepick.packing import rate_part_lines
+
     holds = () if result.gating is None else hold_part_lines(result.gating, names)
-    return build_part_lines(names, [li.pick.parts for li in result.lights], result.plan,
+    rates = result.rates or {}
+    own = [rate_part_lines(rates[i], li.pick.parts) if i in rates else li.pick.parts
+           for i, li in enumerate(result.lights)]
+    return build_part_lines(names, own, result.plan,
                             storage=storage, panel=panel, charge_diode=charge_diode,
                             hold_lines=holds)
 
@@ -770,6 +775,38 @@ def _risk_json(names, r) -> dict:
             "band_p5": r.band[0], "band_p95": r.band[1], "nearest": r.nearest,
             "nominal_near": r.nominal_near, "band_near": r.band_near,
             "clearance": r.clearance, "at_risk": r.at_risk}
+
+
+def _rate_text(lr) -> str:
+    """One paragraph: the photoresistor network and the period it gives against light."""
+    import math
+
+    net, rate = lr.clamp.network, lr.rate
+    per, lux = rate.period_s["typ"], rate.lux
+    clamps = [f"{_eng(net.series_ohm, 'Ω')} in series" if net.series_ohm > 0 else "",
+              f"{_eng(net.parallel_ohm, 'Ω')} across it" if math.isfinite(net.parallel_ohm)
+              else ""]
+    clamps = [c for c in clamps if c]
+    return (f"{net.ldr.name} in place of the timing resistor"
+            + (f", with {' and '.join(clamps)}" if clamps else "")
+            + f": typical period {_eng(float(per[0]), 's')} at {lux[0]:g} lx, "
+            f"{_eng(float(per[-1]), 's')} at {lux[-1]:g} lx"
+            + ("" if rate.within_range is None else
+               "; every corner within " if rate.within_range else "; not every corner within ")
+            + (f"{_eng(rate.period_range_s[0], 's')}..{_eng(rate.period_range_s[1], 's')}"
+               if rate.period_range_s else ""))
+
+
+def _rate_json(names, lr) -> dict:
+    """A photoresistor light (pulsepick.packing.LightRate) as plain data."""
+    net, rate = lr.clamp.network, lr.rate
+    per = rate.period_s["typ"]
+    return {"light": names[lr.light], "photoresistor": lr.key,
+            "series_ohm": net.series_ohm,
+            "parallel_ohm": None if net.parallel_ohm == float("inf") else net.parallel_ohm,
+            "lux": [float(x) for x in rate.lux], "period_typ_s": [float(x) for x in per],
+            "period_range_s": list(rate.period_range_s or ()),
+            "within_range": rate.within_range}
 
 
 def _gating_json(names, gating) -> dict | None:
@@ -835,6 +872,7 @@ def build_json(result, **extras) -> dict:
         [_risk_json(names, r) for r in result.risks_before],
         "total_supply_avg_a": result.total_supply_a,
         "dusk_gating": _gating_json(names, result.gating),
+        "light_rates": [_rate_json(names, r) for r in (result.rates or {}).values()],
         "warnings": list(result.warnings),
         "cautions": list(solve_cautions(breq, storage="storage" in extras)),
     }
@@ -928,6 +966,10 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
                                f"({_eng(g.held_end_a, 'A')} at the end of the night's supply) "
                                "through their timing resistors and hold diodes, besides the "
                                "chip's quiescent current")
+        console.print()
+    for i, lr in (result.rates or {}).items():
+        console.print(f"[bold]{names[i]}: rate set by the light[/bold]", highlight=False)
+        print_wrapped(console, _rate_text(lr))
         console.print()
     console.print("[bold]Energy budget[/bold]")
     night_c = _eng(result.total_supply_a * 12 * 3600, "C")
