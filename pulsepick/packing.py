@@ -153,11 +153,6 @@ def solve_lights(breq, solve_fn, *, jobs: int = 1):
     return results, notes
 
 
-__all__ = ["FamilyPlan", "SCHMITT_FAMILIES", "covers", "families_covering", "family_plan",
-           "on_family", "on_timer", "packable", "solve_lights", "supply_span", "build_lock_share", "lock_remedies",
-           "remedies_text", "share_text"]
-
-
 # ============================================================================ lock share
 
 def build_lock_share(breq, picks, groups, *, seed: int = 0):
@@ -330,3 +325,28 @@ def held_designs(picks, rates) -> list:
 
     return [with_network_value(c.design, rates[i].clamp.network, DAY_LUX) if i in rates
             else c.design for i, c in enumerate(picks)]
+
+
+__all__ = [
+    "DAY_LUX",
+    "LDR_FASTEST",
+    "LDR_SLOWEST",
+    "SCHMITT_FAMILIES",
+    "FamilyPlan",
+    "LightRate",
+    "build_lock_share",
+    "covers",
+    "families_covering",
+    "family_plan",
+    "held_designs",
+    "light_rates",
+    "lock_remedies",
+    "on_family",
+    "on_timer",
+    "packable",
+    "rate_part_lines",
+    "remedies_text",
+    "share_text",
+    "solve_lights",
+    "supply_span",
+]

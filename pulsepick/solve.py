@@ -1663,9 +1663,8 @@ def _least_uses(breq) -> list:
 
 
 def _plan(breq, names, cands):
-    from pulsepick.analysis.multi import plan_packages
-
     from pulsepick.analysis.gating import detector_gates
+    from pulsepick.analysis.multi import plan_packages
 
     return plan_packages([_use(n, c) for n, c in zip(names, cands, strict=True)],
                          dusk_detector=breq.dusk_detector,
@@ -1674,8 +1673,10 @@ def _plan(breq, names, cands):
 
 
 def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
-    """Swap lights to other offered circuits (fewer gates, a shared family) until the
-    build fits ``max_packages``; raises with the count when it cannot."""
+    """Swap lights to other offered circuits (fewer gates, a shared family) so the build
+    takes as few packages as the offered circuits allow; raises with the count when it
+    cannot fit ``max_packages``. Among choices with the fewest packages the one reached
+    with the fewest swaps (the best scores) is kept."""
     from pulsepick.analysis.multi import package_limit_error
 
     limit = breq.max_packages
@@ -1685,9 +1686,8 @@ def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
         return (len(plan.packages), plan.gates_needed), plan
 
     cur, plan = state(chosen)
-    first, start = list(chosen), cur
-    # without a limit, as few packages as the offered circuits allow (packed by default)
-    while cur[0] > (limit if limit is not None else 1):
+    history = [(cur[0], list(chosen))]
+    while cur[0] > 1:
         best = None
         for i, res in enumerate(results):
             for k in range(len(res.candidates)):
@@ -1701,14 +1701,15 @@ def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
                     key = (st, cost)
                     if best is None or key < best[0]:
                         best = (key, trial)
-        if best is None and limit is None:
-            # fewer gates that saved no package are not worth the circuits' scores
-            return chosen if cur[0] < start[0] else first
         if best is None:
-            raise RequestError(package_limit_error(plan, limit))
+            break
         chosen = best[1]
         cur, plan = state(chosen)
-    return chosen
+        history.append((cur[0], list(chosen)))
+    if limit is not None and cur[0] > limit:
+        raise RequestError(package_limit_error(plan, limit))
+    fewest = min(n for n, _ in history)
+    return next(c for n, c in history if n == fewest)
 
 
 def _one_family(breq, names, results, chosen: list[int]) -> list[int]:

@@ -279,6 +279,18 @@ def rank_remedies(remedies: Sequence[Remedy]) -> tuple[Remedy, ...]:
     return tuple(sorted(remedies, key=lambda r: r.share))
 
 
-__all__ = ["ACCEPTABLE_LOCK_SHARE", "LOCK_BUILDS", "LockShare", "PairShare", "Remedy", "TIGHT_CAP_PCT",
-           "TIGHT_RESISTOR_PCT", "lock_share", "minimise_share", "near_lock",
-           "package_builds", "rank_remedies", "share_of"]
+__all__ = [
+    "ACCEPTABLE_LOCK_SHARE",
+    "LOCK_BUILDS",
+    "TIGHT_CAP_PCT",
+    "TIGHT_RESISTOR_PCT",
+    "LockShare",
+    "PairShare",
+    "Remedy",
+    "lock_share",
+    "minimise_share",
+    "near_lock",
+    "package_builds",
+    "rank_remedies",
+    "share_of",
+]

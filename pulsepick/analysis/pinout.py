@@ -57,4 +57,4 @@ def package_map(plan, names, topos=None) -> tuple[GateUse, ...]:
     return tuple(out)
 
 
-__all__ = ["GROUND_PIN", "GateUse", "HEX_GATE_PINS", "SUPPLY_PIN", "package_map"]
+__all__ = ["GROUND_PIN", "HEX_GATE_PINS", "SUPPLY_PIN", "GateUse", "package_map"]

@@ -746,9 +746,8 @@ def _build_extras(design) -> dict:
 
 def build_lines(result, *, storage=None, panel=None, charge_diode=None) -> tuple:
     """Every part of the build (``PartLine`` tuple)."""
-    from pulsepick.analysis.multi import build_part_lines
-
     from pulsepick.analysis.gating import hold_part_lines
+    from pulsepick.analysis.multi import build_part_lines
 
     names = [li.name for li in result.lights]
     from pulsepick.packing import rate_part_lines
