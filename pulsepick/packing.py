@@ -228,12 +228,15 @@ def lock_remedies(breq, picks, groups, share, options_fn, *, seed: int = 0) -> t
     return rank_remedies(out)
 
 
-def share_text(names, pair, margin: float, spread_out: bool) -> str:
-    """The warning for one pair near a lock in some builds."""
+def share_text(names, pair, margin: float, spread_out: bool, share: float,
+               n_pairs: int) -> str:
+    """The lock warning: the pair most often near a lock and the build's share."""
     head = (f"{names[pair.a]} and {names[pair.b]} share a package and come within "
-            f"{margin:.0%} of {pair.nearest} in {pair.share:.1%} of builds (ratios p:q with "
-            "q <= 4 lock most readily)")
-    return head + (", with the periods already spread out" if spread_out else "")
+            f"{margin:.0%} of {pair.nearest} in {pair.share:.1%} of builds")
+    if n_pairs > 1:
+        head += f" (any pair: {share:.1%})"
+    return head + ("; the periods are already spread out" if spread_out else
+                   "; they may pull into step")
 
 
 def remedies_text(remedies, spread_out: bool) -> str | None:

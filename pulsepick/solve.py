@@ -1843,9 +1843,10 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
         picks = [assess(r.with_candidates((c,)), jobs=jobs).candidates[0]
                  for r, c in zip(results, picks, strict=True)]
     warnings = list(pack_notes)
-    for p in share.pairs:
-        if p.share > 0:
-            warnings.append(packing.share_text(names, p, margin, breq.spread_out))
+    near = [p for p in share.pairs if p.share > 0]
+    if near:
+        warnings.append(packing.share_text(names, max(near, key=lambda p: p.share), margin,
+                                           breq.spread_out, share.share, len(near)))
     if any(p.share > 0 for p in share.pairs) and packing.remedies_text(remedies,
                                                                        breq.spread_out):
         warnings.append(packing.remedies_text(remedies, breq.spread_out))
@@ -1870,8 +1871,8 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
                f"package{'s' if len(plan.packages) != 1 else ''}")
     if breq.spread_out and choice is not None:
         message += "; " + (
-            f"periods spread out, yet {share.share:.1%} of builds keep a pair near a lock; "
-            "see the remedies" if not ok else
+            f"periods spread out; {share.share:.1%} of builds keep a pair near a lock"
+            if not ok else
             f"periods spread out: {share.share:.1%} of builds have a pair near a lock")
     lights = tuple(LightPick(n, r, c, asked[i], moved[i])
                    for i, (n, r, c) in enumerate(zip(names, results, picks, strict=True)))

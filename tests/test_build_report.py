@@ -3,6 +3,7 @@ read back (about a minute: the example is solved, run through a night and two da
 
 from __future__ import annotations
 
+import argparse
 import contextlib
 import io
 import json
@@ -100,18 +101,37 @@ def test_package_map_uses_the_standard_hex_pins():
 
 @pytest.mark.slow
 def test_example_solve_report_night_and_day(tmp_path):
+    """The footbridge example: solved once (as 'pulsepick solve' does: JSON, console, report,
+    buy list), then 'pulsepick night' and 'pulsepick day' on the file."""
+    from pulsepick.buildreport import build_pictures
+    from pulsepick.commands.solve import (
+        _build_extras,
+        build_buylist_text,
+        build_json,
+        build_lines,
+        render_build,
+    )
+    from pulsepick.designfile import build_request, read_design
+    from pulsepick.render import make_console
+    from pulsepick.solve import solve_build
+
+    design = read_design(EXAMPLE)
+    result = solve_build(build_request(design), jobs=2)
+    extras = _build_extras(design)
+    doc = json.loads(json.dumps(build_json(result, **extras)))
     report, buy = tmp_path / "bridge.html", tmp_path / "bridge.csv"
-    code, out, err = _run(["solve", EXAMPLE, "--json", "--report", str(report),
-                           "--buylist", str(buy)])
-    assert code == 0, err
-    doc = json.loads(out)
+    args = argparse.Namespace(report=str(report), plot=str(tmp_path / "bridge.png"),
+                              force=False, json=True)
+    written = build_pictures(args, result, build_lines(result, **extras), design)
+    assert written == [f"picture written to {tmp_path / 'bridge.png'}",
+                       f"report written to {report}"]
+    buy.write_text(build_buylist_text(result, **extras), encoding="utf-8")
+
     names = [li["name"] for li in doc["lights"]]
     assert names == ["upstream", "midspan", "downstream"]
     assert len(doc["packages"]) == 1 and doc["packages"][0]["family"] == "lvc"
     assert doc["packages"][0]["dusk_detector"]
-    stages = [li["circuit"]["topology"]["stage"] if "topology" in li["circuit"] else
-              li["circuit"]["stage"] for li in doc["lights"]]
-    assert stages[2] == "pulse"
+    assert result.lights[2].pick.design.topo.stage == "pulse"
     (rate,) = doc["light_rates"]
     assert rate["light"] == "midspan" and rate["photoresistor"] == "gl5528"
     # slower in the dark than in bright light (a CdS cell's resistance falls with light)
@@ -119,6 +139,18 @@ def test_example_solve_report_night_and_day(tmp_path):
     gating = doc["dusk_gating"]
     assert gating["detector_gates"] in (1, 2)
     assert all(h["holds"] for h in gating["lights"])
+
+    # the console: a summary screen, then one screen per light (100 columns; a screen is
+    # taken as 50 lines)
+    out = io.StringIO()
+    render_build(make_console(out, width=100), result, storage=True)
+    lines = out.getvalue().splitlines()
+    starts = [k for k, line in enumerate(lines) for n in names
+              if line.startswith(f"{n}: ")]
+    assert len(starts) == 3 and starts[0] <= 50
+    ends = [*starts[1:], next(k for k, line in enumerate(lines) if line == "Cautions")]
+    assert all(b - a <= 50 for a, b in zip(starts, ends, strict=True))
+    assert "GL5528" in "\n".join(lines[starts[1]:ends[1]])
 
     # the report, read back
     t = Tables(report.read_text(encoding="utf-8"))

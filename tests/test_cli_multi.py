@@ -112,10 +112,12 @@ def test_design_file_with_storage_gets_the_supercap_caution(tmp_path, capsys):
     assert POLARITY_AND_SHORTS in doc["cautions"] and NOT_A_SAFETY_LIGHT in doc["cautions"]
 
 
-def test_build_refuses_pictures_and_reports_nothing_on_stderr(capsys, tmp_path):
-    assert main(["solve", "two lights: every 2 s, every 3 s", "--plot",
-                 str(tmp_path / "x.png")]) == 2
-    assert "--plot and --report draw one light" in _error_line(capsys)
+def test_build_checks_pictures_first_and_reports_nothing_on_stderr(capsys, tmp_path):
+    # a build takes --report and --plot (pulsepick.buildreport); a bad file is refused
+    # before any solving
+    assert main(["solve", "two lights: every 2 s, every 3 s", "--report",
+                 str(tmp_path / "x.txt")]) == 2
+    assert "--report" in _error_line(capsys)
     # a white LED never shows on 1.2 V (data/parts/leds.csv estimate): nothing to offer
     code = main(["solve", "two lights: every 2 s, every 3 s", "--led", "white", "--supply",
                  "1.2V", "--stages", "direct", "--jobs", "1"])

@@ -950,43 +950,25 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
         console.print()
     if result.spread_out is not None:
         so = result.spread_out
-        console.print("[bold]Spread-out periods[/bold]")
-        print_wrapped(console, f"within {so.tolerance:.0%} of the periods asked: "
-                               + ", ".join(f"{n} {a:.3g} s -> {c:.3g} s" for n, a, c in
-                                           zip(names, so.asked_s, so.chosen_s, strict=True)))
+        console.print("[bold]Spread-out periods[/bold] (* in the table of lights)")
         print_wrapped(console, so.message)
         console.print()
     if result.gating is not None:
         g = result.gating
-        console.print("[bold]Dusk gating[/bold]")
-        print_wrapped(console, f"{g.arrangement}; the detector takes "
-                               f"{g.detector_gates} gate{'s' if g.detector_gates != 1 else ''}")
-        print_wrapped(console, f"held by day the lights draw {_eng(g.held_a, 'A')} "
-                               f"({_eng(g.held_end_a, 'A')} at the end of the night's supply) "
-                               "through their timing resistors and hold diodes, besides the "
-                               "chip's quiescent current")
-        console.print()
-    for i, lr in (result.rates or {}).items():
-        console.print(f"[bold]{names[i]}: rate set by the light[/bold]", highlight=False)
-        print_wrapped(console, _rate_text(lr))
+        console.print(f"[bold]Dusk gating[/bold] ({g.detector_gates} gate"
+                      f"{'s' if g.detector_gates != 1 else ''})", highlight=False)
+        print_wrapped(console, g.arrangement)
         console.print()
     console.print("[bold]Energy budget[/bold]")
     night_c = _eng(result.total_supply_a * 12 * 3600, "C")
-    print_wrapped(console, f"all lights together draw {_eng(result.total_supply_a, 'A')} on "
-                           f"average at the design supply ({night_c} "
-                           "over a 12 h night); run 'pulsepick night' with the design file for "
-                           "the storage")
+    held = ("" if result.gating is None else
+            f"; held by day {_eng(result.gating.held_a, 'A')} besides the chips' quiescent "
+            "current")
+    print_wrapped(console, f"all lights draw {_eng(result.total_supply_a, 'A')} on average at "
+                           f"the design supply ({night_c} over a 12 h night){held}; "
+                           "'pulsepick night' runs the storage")
     console.print()
-    for li in result.lights:
-        c = li.pick
-        console.print(f"[bold]{li.name}[/bold]: {c.design.topo.label()} on "
-                      f"{c.design.chip.family}, {c.design.supply_v:g} V", highlight=False)
-        prow = [[p.ref, p.display, p.code, p.tolerance, p.dielectric or "-", p.role]
-                for p in c.parts if p.kind != "chip"]
-        console.print(simple_table(None, ["ref", "value", "code", "tol", "kind", "role"], prow))
-        for w in list(c.notes) + list(c.warnings):
-            print_wrapped(console, w, indent="  - ", hang="    ")
-        console.print()
+    # the summary screen ends with the warnings and the verdict; then one screen per light
     if result.warnings:
         console.print("[bold]Warnings[/bold]")
         for w in result.warnings:
@@ -994,6 +976,25 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
         console.print()
     console.print(f"[bold]{result.message}[/bold]", highlight=False)
     console.print()
+    rates = result.rates or {}
+    for i, li in enumerate(result.lights):
+        c = li.pick
+        console.print(f"[bold]{li.name}[/bold]: {c.design.topo.label()} on "
+                      f"{c.design.chip.family}, {c.design.supply_v:g} V", highlight=False)
+        own = c.parts
+        if i in rates:
+            from pulsepick.packing import rate_part_lines
+
+            own = rate_part_lines(rates[i], c.parts)
+        prow = [[p.ref, p.display, p.code, p.tolerance, p.dielectric or "-", p.role]
+                for p in own if p.kind != "chip"]
+        console.print(simple_table(None, ["ref", "value", "code", "tol", "kind", "role"], prow))
+        if i in rates:
+            print_wrapped(console, "rate set by the light: " + _rate_text(rates[i]),
+                          indent="  * ", hang="    ")
+        for w in list(c.notes) + list(c.warnings):
+            print_wrapped(console, w, indent="  - ", hang="    ")
+        console.print()
     if buylist:
         console.print(f"Buy list of the whole build written to {buylist}", markup=False)
         console.print()
