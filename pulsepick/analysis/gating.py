@@ -156,3 +156,15 @@ def hold_part_lines(gating: BuildGating, names) -> tuple:
 
 __all__ = ["BuildGating", "LightHold", "build_gating", "detector_gates", "hold_part_lines",
            "light_hold"]
+
+
+def night_leak_a(topos, supply_v: float) -> float:
+    """The hold diodes' reverse leakage at night (A), the detector's line sitting a supply
+    away from each held node: the diode's typical leakage scaled down in proportion to the
+    reverse voltage from its test voltage (estimate; a Schottky's leakage falls with
+    voltage, data/parts/diodes.csv)."""
+    from pulsepick.parts.diode import get_diode
+
+    d = get_diode(HOLD_DIODE)
+    n = sum(1 for t in topos if hold_kind(t) != "reset")
+    return n * d.leak_typ_a * min(1.0, supply_v / d.leak_at_v)
