@@ -93,7 +93,10 @@ def test_two_lights_json_and_one_buylist(tmp_path, capsys):
     # every part of both lights is in the list once, quantities summed
     n_parts = sum(len([p for p in li["circuit"]["parts"] if p["kind"] != "chip"])
                   for li in doc["lights"])
-    # plus one dusk hold diode per light (pulsepick.analysis.gating)
+    # ... plus one 100 nF decoupling capacitor per package (common practice)
+    n_parts += len(doc["packages"])
+    assert sum(1 for r in rows if "decoupling" in r["notes"]) == 1
+    # ... plus one dusk hold diode per light (pulsepick.analysis.gating)
     holds = [h for h in doc["dusk_gating"]["lights"] if h["hold"] != "reset"]
     assert len(holds) == 2
     assert sum(int(r["qty"]) for r in rows if r["kind"] != "chip") == n_parts + len(holds)

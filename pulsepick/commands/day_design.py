@@ -1,83 +1,95 @@
-"""``pulsepick day DESIGN.toml``: the days and nights of a whole build from its design file.
-
-The storage, the panel with its charge diode and the night come from the file (as
-``pulsepick night`` reads them); the night load is every light's load curve added
-(:func:`pulsepick.analysis.multi.combined_load_curve`) and the day load is what the build
-draws with the dusk detector holding the lights still (:mod:`pulsepick.analysis.gating`)
-plus each package's quiescent current.
-"""
+"""``pulsepick day DESIGN.toml``: the storage, panel, charge path, place and lights of a
+design file fill the day's options (options given on the command line win)."""
 
 from __future__ import annotations
 
 import argparse
-from dataclasses import replace
 
 from pulsepick.errors import RequestError
 
-#: Options the design file gives; with a design file they are refused on the command line.
-FILE_OPTIONS = ("storage", "rated", "panel", "panel_voc", "panel_isc", "panel_cells",
-                "night", "latitude", "longitude", "date", "utc_offset", "night_load",
-                "stop_at")
+# [site] keys read as the day's options of the same name.
+_SITE = ("latitude", "date", "longitude", "utc_offset", "turn_on", "turbidity", "tilt",
+         "azimuth", "altitude")
 
 
-def design_inputs(args: argparse.Namespace) -> dict:
-    """Storage, panel, diode, night window, night and day loads of ``args.design``."""
-    from pulsepick.analysis.day import NightWindow
-    from pulsepick.analysis.multi import combined_load_curve
-    from pulsepick.commands import night as night_cmd
-    from pulsepick.commands.night_options import read_storage
-    from pulsepick.design import load_curve
-    from pulsepick.designfile import build_request, is_design_file, panel_part, read_design
-    from pulsepick.engine.environment import chip_model
-    from pulsepick.parts.diode import DIODE_KEYS, get_diode
-    from pulsepick.solve import default_jobs, solve_build
-    from pulsepick.units import parse_quantity
+def apply_design(args: argparse.Namespace):
+    """Fill ``args`` from the design file ``args.design``; return the design (or None)."""
+    if getattr(args, "design", None) is None:
+        return None
+    from pulsepick.designfile import is_design_file, read_design
 
     if not is_design_file(args.design):
         raise RequestError(f"{args.design!r} is not a design file; give a .toml design such "
-                           "as examples/footbridge-fireflies.toml")
-    given = [f"--{k.replace('_', '-')}" for k in FILE_OPTIONS
-             if getattr(args, k, None) not in (None, "0A", "1.8V")]
-    if given:
-        raise RequestError(f"{', '.join(given)}: the design file gives these; leave them out "
-                           "or run without the design file")
+                           "as examples/firefly-lantern.toml")
+    if any(v is not None for k, v in vars(args).items() if k.startswith("value_")) or \
+            args.night_load is not None:
+        raise RequestError("give the night load one way: the design file's lights, "
+                           "--night-load, or the circuit's values")
     design = read_design(args.design)
-    if design.storage is None or design.panel is None:
-        raise RequestError(f"{args.design}: the day needs a [storage] and a [panel] table")
-    parser = argparse.ArgumentParser(add_help=False)
-    night_cmd.add_arguments(parser)
-    nargs = parser.parse_args([args.design])
-    night_cmd._apply_design(nargs)
-    night = night_cmd._read_night(nargs)
-    if night is None or night.get("dusk") is None:
-        raise RequestError(f"{args.design}: the day needs the night's clock times: [night] "
-                           "with dusk and dawn, or [site]")
-    window = NightWindow.from_times(night["dusk"], night["dusk"].__class__.fromtimestamp(
-        night["dusk"].timestamp() + night["duration_s"]))
-    storage = read_storage(nargs.storage, nargs.rated)
-    diode = str(design.panel.get("diode", "schottky")).strip().lower()
-    if diode not in DIODE_KEYS:
-        raise RequestError(f"{args.design}: [panel] diode {diode!r} unknown; accepted: "
-                           f"{', '.join(DIODE_KEYS)}")
-    result = solve_build(build_request(design), jobs=default_jobs(), assess_picks=False)
-    missing = [li.name for li in result.lights if li.pick is None]
-    if missing:
-        raise RequestError(f"{args.design}: the solver offers nothing for {', '.join(missing)}; "
-                           f"run 'pulsepick solve {args.design}' for the reasons")
-    panel = panel_part(design)
-    grid = night_cmd.supply_grid(max(storage.v_rated_v, panel.voc_v))
-    curves = [replace(load_curve(li.pick.design, grid), label=li.name) for li in result.lights]
-    name = design.name or args.design
-    night_load = combined_load_curve(curves, label=f"{name} ({len(curves)} lights)")
-    top = result.lights[0].pick.design.supply_v
-    iq = sum(float(chip_model(li.pick.design.chip).iq_typ_a) if not li.pick.design.chip.is_timer
-             else 0.0 for li in result.lights[:1])
-    held = result.gating.held_a if result.gating is not None else 0.0
-    stop = parse_quantity(nargs.stop_at, "voltage", bare_ok=True) if nargs.stop_at else None
-    return {"storage": storage, "panel": panel, "diode": get_diode(diode), "window": window,
-            "night_load": night_load, "day_load": held + iq, "stop_at": stop,
-            "night_info": {"given": "design file", "night_s": window.night_s,
-                           "supply_v": top}}
+    s = design.storage
+    if s is None and args.storage is None:
+        raise RequestError(f"{args.design}: no [storage] table; the day needs one, such as "
+                           "[storage] with part = \"5f-2v7\"")
+    if s is not None:
+        if args.storage is None:
+            args.storage = s.get("part", s.get("capacitance"))
+            if "rated" in s and args.rated is None:
+                args.rated = s["rated"]
+        if "stop_at" in s and args.stop_at is None:
+            args.stop_at = s["stop_at"]
+        if "leakage" in s:
+            args.leakage = s["leakage"]
+    p = design.panel
+    given_panel = any(getattr(args, k) is not None for k in ("panel", "panel_voc", "panel_isc"))
+    if p is not None and not given_panel:
+        if "part" in p:
+            args.panel = p["part"]
+        else:
+            args.panel_voc, args.panel_isc = p["voc"], p["isc"]
+            if "cells" in p:
+                args.panel_cells = str(p["cells"])
+        if "diode" in p:
+            args.diode = str(p["diode"]).strip().lower()
+        if "clamp" in p and args.clamp is None:
+            args.clamp = p["clamp"]
+    if args.night is None and args.latitude is None:
+        if design.site is not None:
+            for key in _SITE:
+                if key in design.site and getattr(args, key, None) is None:
+                    setattr(args, key, str(design.site[key]))
+        elif design.night is not None:
+            from pulsepick.commands.design_night import design_night
+
+            args.night = f"{design_night(design).night_s:g}s"
+    return design
 
 
-__all__ = ["FILE_OPTIONS", "design_inputs"]
+def design_load(args: argparse.Namespace, design, storage, v_top_v: float):
+    """The night load of every light of the design (the solver's picks), as a curve."""
+    from pulsepick.commands.night import _solved_load
+
+    shim = argparse.Namespace(supply=None, family=None, design=args.design,
+                              cross_current=None)
+    load, _ = _solved_load(shim, design, storage, v_top_v, None)
+    return load
+
+
+def design_loads(args: argparse.Namespace, design, storage, v_top_v: float):
+    """The night load curve of every light, and the day load (A): with a dusk detector,
+    what the lights draw held still by it plus the chip's typical quiescent current
+    (:mod:`pulsepick.analysis.gating`); without one, 0."""
+    from pulsepick.analysis.gating import build_gating
+    from pulsepick.commands.night import _solved_load
+    from pulsepick.engine.environment import chip_model
+
+    shim = argparse.Namespace(supply=None, family=None, design=args.design,
+                              cross_current=None)
+    load, designs = _solved_load(shim, design, storage, v_top_v, None)
+    if not design.build.get("dusk_detector", True):
+        return load, 0.0
+    ds = [d for _, d in designs]
+    top = ds[0].supply_v
+    gating = build_gating(ds, top, top)
+    schmitt = [d for d in ds if not d.chip.is_timer]
+    iq = float(chip_model(schmitt[0].chip).iq_typ_a) if schmitt else 0.0
+    return load, gating.held_a + iq
