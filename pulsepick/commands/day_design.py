@@ -76,20 +76,31 @@ def design_load(args: argparse.Namespace, design, storage, v_top_v: float):
 
 def design_loads(args: argparse.Namespace, design, storage, v_top_v: float):
     """The night load curve of every light, and the day load (A): with a dusk detector,
-    what the lights draw held still by it plus the chip's typical quiescent current
-    (:mod:`pulsepick.analysis.gating`); without one, 0."""
-    from pulsepick.analysis.gating import build_gating
-    from pulsepick.commands.night import _solved_load
-    from pulsepick.engine.environment import chip_model
+    what the lights draw held still by it (a photoresistor light at its daytime
+    resistance) plus the chip's typical quiescent current (:mod:`pulsepick.analysis.gating`);
+    without one, 0."""
+    from dataclasses import replace
 
-    shim = argparse.Namespace(supply=None, family=None, design=args.design,
-                              cross_current=None)
-    load, designs = _solved_load(shim, design, storage, v_top_v, None)
-    if not design.build.get("dusk_detector", True):
+    from pulsepick.analysis.multi import combined_load_curve
+    from pulsepick.commands.night import supply_grid
+    from pulsepick.design import load_curve
+    from pulsepick.designfile import build_request
+    from pulsepick.engine.environment import chip_model
+    from pulsepick.solve import default_jobs, solve_build
+
+    result = solve_build(build_request(design), jobs=default_jobs(), assess_picks=False)
+    missing = [li.name for li in result.lights if li.pick is None]
+    if missing:
+        raise RequestError(f"{args.design}: the solver offers nothing for "
+                           f"{', '.join(missing)}; run 'pulsepick solve {args.design}' for "
+                           "the reasons")
+    grid = supply_grid(max(v_top_v, storage.v_rated_v))
+    curves = [replace(load_curve(li.pick.design, grid), label=f"{li.name}: "
+                      f"{li.pick.design.label()}") for li in result.lights]
+    name = design.name or args.design
+    load = combined_load_curve(curves, label=f"{name} ({len(curves)} lights)")
+    if result.gating is None:
         return load, 0.0
-    ds = [d for _, d in designs]
-    top = ds[0].supply_v
-    gating = build_gating(ds, top, top)
-    schmitt = [d for d in ds if not d.chip.is_timer]
+    schmitt = [li.pick.design for li in result.lights if not li.pick.design.chip.is_timer]
     iq = float(chip_model(schmitt[0].chip).iq_typ_a) if schmitt else 0.0
-    return load, gating.held_a + iq
+    return load, result.gating.held_a + iq
