@@ -1083,6 +1083,12 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
         explanations.append(
             f"At {req.supply_v:.2f} V these chips are outside their supply range and were "
             f"left out: {', '.join(unpowered)}.")
+    if "family" not in req.defaults:
+        from pulsepick.packing import family_plan
+
+        note = family_plan(req).note  # the family given stops before the end of the night
+        if note:
+            explanations.append(f"Family {note}.")
     space = _space(req)
     where = f"in {req.stock.source}" if req.stock is not None else "in the allowed ranges"
     if space.c_timing.size == 0:

@@ -189,3 +189,14 @@ def test_example_solve_report_night_and_day(tmp_path):
     # the day load is the held draw plus the chip's typical quiescent current (0.1 uA for
     # LVC, data/parts/logic_families.csv, an estimate), not the lights' running draw
     assert day["day_load_a"] == pytest.approx(gating["held_supply_a"] + 1e-7, rel=1e-6)
+
+
+def test_single_light_names_the_family_that_covers_the_supply_range():
+    """HC's recommended supply is 2.0-6.0 V (ref:nxp-74hc1g14), LVC's from 1.65 V
+    (ref:nxp-74lvc3g17): for 2.7 V down to 1.8 V the note names lvc."""
+    code, out, err = _run(["solve", "one flash every 2 s", "--family", "hc", "--supply",
+                           "2.7V..1.8V", "--json", "--top", "1", "--jobs", "1"])
+    assert code == 0, err
+    doc = json.loads(out)
+    assert ("Family hc runs 2-6 V, not the whole supply range (2.7 V down to 1.8 V); lvc "
+            "does (--family lvc).") in doc["explanations"]
