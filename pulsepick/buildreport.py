@@ -79,7 +79,7 @@ def build_views(result, night=None) -> list:
         if c is not None and c.reference is not None:
             v = wave_view(c.design, c.reference, li.asked_s)
             if v is not None:
-                views.append(v)
+                views.append(replace(v, source=f"{li.name}, reference simulation"))
     if night is not None:
         views.append(night_view(night[0]))
     return views
