@@ -239,3 +239,75 @@ def test_dusk_report_renders_the_shunt_line_into_a_plain_console():
     text = " ".join(buf.getvalue().split())
     assert text.index("turns off (day)") < text.index("Panel shunt resistance") \
         < text.index("Hysteresis:") < text.index("Cautions:")
+
+
+# --------------------------------------------------------------------------- the design's clamp
+
+CLAMPED_LANTERN = """
+name = "Clamped path lantern"
+
+[storage]
+part = "5f-2v7"
+start = "2.6V"
+stop_at = "1.8V"
+
+[panel]
+voc = "{voc}"
+isc = "20mA"
+clamp = "2.4V"
+
+[site]
+latitude = 52.1
+date = "2026-12-21"
+
+[[light]]
+name = "path marker"
+blink = "one flash every 3 s"
+"""
+
+
+def test_the_design_files_own_clamp_goes_in_the_buy_list(capsys, tmp_path):
+    # A 3 V panel through a Schottky reaches about 2.9 V, past the 2.7 V cell: the file's
+    # 2.4 V clamp is part of the build, rated for 2.4 V x 20 mA = 48 mW (P = V I) with 50 %
+    # margin, at least the common 0.25 W (common practice).
+    path = tmp_path / "clamped.toml"
+    path.write_text(CLAMPED_LANTERN.format(voc="3V"), encoding="utf-8")
+    buy = tmp_path / "parts.csv"
+    code, out, err = _run(capsys, ["solve", str(path), "--buylist", str(buy)])
+    assert code == 0, err
+    rows = [line for line in buy.read_text(encoding="utf-8").splitlines()
+            if "clamp-2.4V" in line]
+    assert len(rows) == 1 and "2.4 V zener" in rows[0] and ",0.25 W," in rows[0]
+    assert "Proposed: a shunt clamp" not in " ".join(out.split())
+    # A 2 V panel cannot pass 2.7 V: no clamp needed, none listed.
+    path.write_text(CLAMPED_LANTERN.format(voc="2V"), encoding="utf-8")
+    code, out, err = _run(capsys, ["solve", str(path), "--buylist", str(buy), "--force"])
+    assert code == 0, err
+    assert "clamp-" not in buy.read_text(encoding="utf-8")
+
+
+# --------------------------------------------------------------------------- a new user's commands
+
+REPO = __import__("pathlib").Path(__file__).resolve().parents[1]
+
+
+def _design_examples():
+    import importlib
+    import shlex
+
+    out = []
+    for name in ("day", "dusk", "night", "ldr", "solve"):
+        for text in importlib.import_module(f"pulsepick.commands.{name}").EXAMPLES:
+            if "examples/" in text and "<" not in text:
+                out.append(pytest.param(shlex.split(text)[1:], id=f"{name}-{len(out)}"))
+    return out
+
+
+@pytest.mark.parametrize("argv", _design_examples())
+def test_help_examples_on_the_shipped_design_files_run(capsys, tmp_path, monkeypatch, argv):
+    # What a new user copies from --help: every example on a shipped design file works.
+    monkeypatch.chdir(tmp_path)  # files an example writes land here
+    argv = [str(REPO / a) if a.startswith("examples/") else a for a in argv]
+    code, out, err = _run(capsys, argv)
+    assert code == 0, err
+    assert out.strip() and err == ""

@@ -39,7 +39,7 @@ EXAMPLES = [
     "--start 0V --profile garden.csv --night 12.5h",
     "pulsepick day --storage 0f22-5v5 --panel 2v40ma --weather dim --latitude 52.1 "
     "--date 2026-12-21 --night-load 10uA --json",
-    "pulsepick day examples/firefly-lantern.toml --weather clear,overcast --days 3",
+    "pulsepick day examples/garden-path-markers.toml --weather clear,overcast --days 3",
     "pulsepick day --storage 5f-2v7 --panel 5v60ma --clamp 2.4V --latitude 60 --date "
     "2026-12-21 --tilt 60 --azimuth 180 --turbidity 3 --weather clear,overcast --days 4",
 ]
@@ -725,7 +725,7 @@ def render_report(result: DaysResult, night_info: dict, console, sky=None,
 def _nights_range(result: DaysResult) -> str:
     """How the nights of a run change with the dates ('' when they are all alike)."""
     lengths = [r.night_s for r in result.rows if math.isfinite(r.night_s)]
-    if len(lengths) < 2 or max(lengths) - min(lengths) < 60.0:
+    if len(lengths) < 2 or hours(min(lengths)) == hours(max(lengths)):
         return ""
     last = result.rows[-1]
     return (f"; each date its own: the last night {hours(last.night_s)}, dusk "

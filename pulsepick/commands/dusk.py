@@ -32,7 +32,7 @@ EXAMPLES = [
     "pulsepick dusk --panel 5v60ma --bleed 240k --family hc --supply 2.5V",
     "pulsepick dusk --panel 5v60ma --dusk-at 10lux --family hc --supply 2.5V --series E12",
     "pulsepick dusk --panel-voc 6V --panel-isc 100mA --dusk-at 20lux --diode si --json",
-    "pulsepick dusk examples/garden-path-markers.toml --dusk-at 10lux --panel-rsh 350k",
+    "pulsepick dusk examples/garden-path-markers.toml --dusk-at 20lux --panel-rsh 350k",
 ]
 
 
