@@ -3,7 +3,7 @@ date's clear sky; ``dusk`` puts the shunt-resistance spread under its light-leve
 
 import io
 import json
-from datetime import date, datetime, timedelta, timezone
+from datetime import UTC, date, datetime, timedelta
 
 import numpy as np
 import pandas as pd
@@ -23,7 +23,6 @@ from pulsepick.parts.storage import custom_storage
 # that one warning from the reference library is let through, every other stays an error.
 pytestmark = pytest.mark.filterwarnings("ignore:DatetimeIndex.dayofyear is deprecated")
 
-UTC = timezone.utc
 STEADY = Profile(name="steady", hours=np.array([0.0, 24.0]),
                  irradiance_w_m2=np.array([50.0, 50.0]))
 

@@ -296,20 +296,20 @@ def weak_light(args: argparse.Namespace, night_info: dict, n_days: int, sky=None
     clear sky times the dim clear-sky index; else None (the dim profile shape)."""
     if night_info.get("given") != "sun":
         return None
+    from dataclasses import replace
     from datetime import timedelta
 
     from pulsepick.analysis.sky import CLEAR_SKY_INDEX, day_profile
 
-    from dataclasses import replace
-
     site = sky.site if sky is not None else sky_options.read_site(args, night_info)
     first = date.fromisoformat(night_info["date"])
+    dim = CLEAR_SKY_INDEX["dim"]
     out = []
     for i in range(n_days):
         when = first + timedelta(days=i)
-        prof = day_profile(site, when, CLEAR_SKY_INDEX["dim"], name="dim")
+        prof = day_profile(site, when, dim, name="dim")
         out.append(replace(prof, source=f"the clear sky of {when.isoformat()} on the panel "
-                                        f"times the dim clear-sky index {CLEAR_SKY_INDEX['dim']:g}"))
+                                        f"times the dim clear-sky index {dim:g}"))
     return out
 
 
