@@ -310,3 +310,21 @@ def test_help_examples_on_the_shipped_design_files_run(capsys, tmp_path, monkeyp
     code, out, err = _run(capsys, argv)
     assert code == 0, err
     assert out.strip() and err == ""
+
+
+def test_polar_night_says_no_sun_rather_than_a_turbidity_spread(capsys):
+    # 70 N, 10 December: pvlib's SPA puts the sun's highest apparent elevation about 2.8
+    # degrees below the horizon (below); the run says so instead of a spread of zeros.
+    times = pd.date_range("2026-12-10", periods=1440, freq="1min", tz="UTC")
+    top = 90.0 - solarposition.get_solarposition(times, 70.0, 0.0)["apparent_zenith"].min()
+    assert top < 0.0
+    code, out, err = _run(capsys, [
+        "day", "--storage", "5f-2v7", "--panel", "5v60ma", "--clamp", "2.4V",
+        "--night-load", "10uA", "--latitude", "70", "--longitude", "0", "--utc-offset", "0",
+        "--date", "2026-12-10", "--days", "2", "--json"])
+    assert code == 0, err
+    doc = json.loads(out)
+    assert doc["sky"]["highest_elevation_deg"] == pytest.approx(top, abs=0.3)
+    lines = [w for w in doc["warnings"] if w.startswith(("No sun:", "Low sun:"))]
+    assert len(lines) == 1 and lines[0].startswith("No sun:")
+    assert [d["irradiation_wh_m2"] for d in doc["days"]] == [0.0, 0.0]

@@ -180,7 +180,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                        help=f"length of the night, centred on midnight (default {DEFAULT_NIGHT})")
     night.add_argument("--latitude", metavar="DEG", help="latitude, north positive; needs --date")
     night.add_argument("--longitude", metavar="DEG", help="longitude, east positive")
-    night.add_argument("--date", metavar="YYYY-MM-DD", help="the first evening's date")
+    night.add_argument("--date", metavar="YYYY-MM-DD",
+                       help="the first evening's date (each later day of a run takes its own "
+                            "date's night and sky)")
     night.add_argument("--utc-offset", metavar="H", help="local clock offset from UTC in hours")
     night.add_argument("--turn-on", choices=TURN_ON_CHOICES, default="civil",
                        help="the light turns on at civil dusk (default) or at sunset")
