@@ -328,3 +328,17 @@ def test_polar_night_says_no_sun_rather_than_a_turbidity_spread(capsys):
     lines = [w for w in doc["warnings"] if w.startswith(("No sun:", "Low sun:"))]
     assert len(lines) == 1 and lines[0].startswith("No sun:")
     assert [d["irradiation_wh_m2"] for d in doc["days"]] == [0.0, 0.0]
+
+
+def test_a_run_into_polar_night_without_twilight_is_refused(capsys):
+    # 80 N: from 6 November the sun stays more than 6 degrees under the horizon all day
+    # (pvlib's SPA below: -6.06 degrees at best), so the night that starts on the 5th (day 17
+    # from 20 October) has no civil dawn and no daylight is left to charge from.
+    times = pd.date_range("2026-11-06", periods=1440, freq="1min", tz="UTC")
+    top = 90.0 - solarposition.get_solarposition(times, 80.0, 0.0)["apparent_zenith"].min()
+    assert top < -6.0
+    code, _, err = _run(capsys, ["day", "--storage", "5f-2v7", "--panel", "5v60ma",
+                                 "--latitude", "80", "--date", "2026-10-20", "--days", "40"])
+    assert code == 2 and "day 17 of the run: polar night" in err and "2026-11-05" in err
+    assert "fewer --days" in err
+    assert "Traceback" not in err and len(err.strip().splitlines()) == 1
