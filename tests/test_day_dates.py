@@ -342,3 +342,27 @@ def test_a_run_into_polar_night_without_twilight_is_refused(capsys):
     assert code == 2 and "day 17 of the run: polar night" in err and "2026-11-05" in err
     assert "fewer --days" in err
     assert "Traceback" not in err and len(err.strip().splitlines()) == 1
+
+
+def test_the_report_names_the_last_nights_length(capsys, monkeypatch):
+    # 60 N from 1 November, light on at sunset: the first night 15.3 h and the fifth 15.7 h
+    # (pvlib's SPA sunset to next sunrise, as in the month-long run above).
+    monkeypatch.setenv("NO_COLOR", "1")
+    code, out, err = _run(capsys, [
+        "day", "--storage", "5f-2v7", "--panel", "5v60ma", "--clamp", "2.4V",
+        "--night-load", "20uA", "--latitude", "60", "--longitude", "0", "--utc-offset", "0",
+        "--date", "2026-11-01", "--turn-on", "sunset", "--days", "5"])
+    assert code == 0, err
+    flat = " ".join(out.split())
+    first, _ = _spa_events(date(2026, 11, 2), 60.0)
+    _, sset = _spa_events(date(2026, 11, 1), 60.0)
+    rise5, _ = _spa_events(date(2026, 11, 6), 60.0)
+    _, sset5 = _spa_events(date(2026, 11, 5), 60.0)
+    import re
+
+    shown = re.search(r"night (\d+\.\d) h, dusk .*?the last night (\d+\.\d) h", flat)
+    assert shown, flat[:400]
+    # within the report's rounding (0.05 h) and the sun times' 2 minutes
+    assert float(shown[1]) == pytest.approx((first - sset).total_seconds() / 3600, abs=0.09)
+    assert float(shown[2]) == pytest.approx((rise5 - sset5).total_seconds() / 3600, abs=0.09)
+    assert float(shown[2]) - float(shown[1]) >= 0.2
