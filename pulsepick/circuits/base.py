@@ -193,6 +193,15 @@ class DriverView:
         return self.v_low - self.r_low * self.i_core_low[0 if at_edge else 1]
 
 
+#: Node names a module's ``spice(values, env, topo)`` lines use in the circuit-simulator
+#: netlists of ``tests/reference/`` (the harness there supplies the gates and models):
+#: ``vdd`` supply, ``tim`` timing node (C1 to ground), ``out`` timing output, ``stn``
+#: high while that output is low, ``drv`` the node driving the stage; LED current flows
+#: through the zero-volt source ``VLED``; diode models ``DLED``, ``DSTEER``, ``DRESET``,
+#: ``DFADE``; switch model ``SWDIS`` (the 555 discharge switch).
+SPICE_NODES = ("vdd", "tim", "out", "stn", "drv")
+
+
 _CORES: dict[str, Any] = {}
 _STAGES: dict[str, Any] = {}
 

@@ -64,5 +64,11 @@ class DirectStage:
         i = env.led_scalar.current(across, v["rs"]) if across > 0 else 0.0
         return -i, [], i, i
 
+    def spice(self, v, env, topo):
+        """Circuit-simulator lines of the stage (nodes: see ``base.SPICE_NODES``)."""
+        if topo.lit == "high":
+            return (f"RS drv la {v['rs']:.9g}", "VLED la lk 0", "DLED lk 0 DLED")
+        return (f"RS vdd la {v['rs']:.9g}", "VLED la lk 0", "DLED lk drv DLED")
+
 
 register_stage(DirectStage())

@@ -180,6 +180,11 @@ class FadeStage:
         i_led = env.led_scalar.current(vh, 0.0) if vh > 0 else 0.0
         return feed, [(feed - i_led) / v["ch"]], i_led, 0.0
 
+    def spice(self, v, env, topo):
+        """Circuit-simulator lines of the stage (nodes: see ``base.SPICE_NODES``)."""
+        return (f"RS drv fa {v['rs']:.9g}", "DF fa hold DFADE", f"CH hold 0 {v['ch']:.9g}",
+                "VLED hold lk 0", "DLED lk 0 DLED")
+
 
 def _q_at(t, grid):
     """LED charge since an empty CH at time ``t`` of the rise; steady current past the grid."""

@@ -87,5 +87,11 @@ class PulseStage:
         i_cp = i_led - i_dio
         return i_cp, [i_cp / v["cp"]], i_led, 0.0
 
+    def spice(self, v, env, topo):
+        """Circuit-simulator lines of the stage (nodes: see ``base.SPICE_NODES``)."""
+        rs = max(v["rs"], 1e-6)  # a zero resistor as a micro-ohm (the simulator needs R > 0)
+        return (f"CP drv pn {v['cp']:.9g}", f"RS pn la {rs:.9g}", "VLED la lk 0",
+                "DLED lk 0 DLED", "DRST 0 pn DRESET")
+
 
 register_stage(PulseStage())

@@ -90,5 +90,9 @@ class SchmittCore:
         i_r = (vo - vc) / v["r1"]
         return i_r - env.cap_leak_g * vc - env.pin_leak_a, i_r, 0.0
 
+    def spice(self, v, env, topo):
+        """Circuit-simulator lines of the timing network (nodes: see ``base.SPICE_NODES``)."""
+        return (f"R1 out tim {v['r1']:.9g}",)
+
 
 register_core(SchmittCore())

@@ -130,5 +130,10 @@ class SteeredSchmittCore:
         i_out = i_r + i_b
         return i_out - env.cap_leak_g * vc - env.pin_leak_a, i_out, 0.0
 
+    def spice(self, v, env, topo):
+        """Circuit-simulator lines of the timing network (nodes: see ``base.SPICE_NODES``)."""
+        diode = "D2 out br DSTEER" if topo.steer == "high" else "D2 br out DSTEER"
+        return (f"R1 out tim {v['r1']:.9g}", diode, f"R2 br tim {v['r2']:.9g}")
+
 
 register_core(SteeredSchmittCore())

@@ -84,5 +84,11 @@ class Timer555Core:
         i_c = (v_node - vc) / rb
         return i_c - env.cap_leak_g * vc - env.pin_leak_a, 0.0, (env.vdd - v_node) / ra
 
+    def spice(self, v, env, topo):
+        """Circuit-simulator lines of the timing network (nodes: see ``base.SPICE_NODES``):
+        the discharge switch conducts while the output is low."""
+        return (f"RA vdd dis {v['ra']:.9g}", f"RB dis tim {v['rb']:.9g}",
+                "SDIS dis 0 stn 0 SWDIS")
+
 
 register_core(Timer555Core())
