@@ -148,42 +148,29 @@ def parts_list(design, *, r_series: str = "E24", c_series: str = "E12",
                 dielectric=kind.name, rating=f"{rating_v:g} V", role=p.role, param=p.name,
                 note=note,
             ))
-    n_d = 0
-    diodes = []
-    if topo.core == "schmitt-steered":
-        diodes.append((parts.steer_diode, "steering diode (fast phase)",
-                       f"cathode towards the {'capacitor' if topo.steer == 'high' else 'output'}"))
-    if topo.stage == "pulse":
-        diodes.append((parts.reset_diode, "reset diode for the flash capacitor",
-                       "anode to ground, cathode to the LED side of the flash capacitor"))
-    if topo.stage == "fade":
-        diodes.append((parts.fade_diode, "charge diode into the hold capacitor",
-                       "anode to the series resistor, cathode to the hold capacitor"))
-    for key, role, note in diodes:
-        n_d += 1
-        d = get_diode(key)
+    extras = get_core(topo.core).extra_parts(topo) + get_stage(topo.stage).extra_parts(topo)
+    counts: dict[str, int] = {}
+    for extra in extras:
+        key = extra.part_key(parts)
+        if extra.kind == "diode":
+            prefix, display = "D", get_diode(key).name
+        else:
+            from pulsepick.parts.transistor import get_transistor
+
+            prefix, display = "Q", get_transistor(key).name
+        counts[prefix] = counts.get(prefix, 0) + 1
         lines.append(PartLine(
-            ref=f"D{n_d}", kind="diode", value=None, unit="", display=d.name, code=key,
-            series="", tolerance="", tolerance_pct=None, dielectric="", rating="", role=role,
-            note=note,
+            ref=f"{prefix}{counts[prefix]}", kind=extra.kind, value=None, unit="",
+            display=display, code=key, series="", tolerance="", tolerance_pct=None,
+            dielectric="", rating="", role=extra.role, note=extra.note,
         ))
     led = parts.led
     lines.append(PartLine(
         ref="LED1", kind="led", value=None, unit="", display=led.name, code=led.key,
         series="", tolerance="", tolerance_pct=None, dielectric="", rating="",
-        role="the light", note=_led_note(topo),
+        role="the light", note=get_stage(topo.stage).led_note(topo),
     ))
     return tuple(lines)
-
-
-def _led_note(topo) -> str:
-    if topo.stage == "direct" and topo.lit == "low":
-        return "anode towards the supply (lit while its driver is low)"
-    if topo.stage == "direct":
-        return "cathode to ground (lit while its driver is high)"
-    if topo.stage == "pulse":
-        return "cathode to ground, anode to the flash capacitor"
-    return "across the hold capacitor, cathode to ground"
 
 
 def _chip_line(design) -> PartLine:

@@ -64,10 +64,33 @@ class SchmittCore:
     name: str = "schmitt"
     chip_kind: str = "schmitt"
     params: tuple[Param, ...] = (
-        Param("r1", "R", "timing resistor"),
-        Param("c1", "C", "timing capacitor"),
+        Param("r1", "R", "timing resistor", option="--r",
+              help="timing resistor R1 (schmitt cores), e.g. 2M2",
+              example="2M2"),
+        Param("c1", "C", "timing capacitor", option="--c", help="timing capacitor C1, e.g. 1u",
+              example="1u"),
     )
     drives_stage_from_timing_output: bool = True
+    default_family: str = "hc"
+    bufferable: bool = True
+    steers: tuple[str, ...] = ("high",)
+    search_rank: int = 1
+    ldr_param: str = "r1"
+    timing_search: str = "one-resistor"  # how the solver searches the timing network
+    slow_phase_core: str = "schmitt"  # the core that times the slow phase alone
+
+    def label(self, topo):
+        return self.name
+
+    def extra_parts(self, topo):
+        return ()
+
+    def end_currents(self, v, env, topo):
+        """(charging at VT+, discharging at VT-), A: R1 from the unloaded output."""
+        return (env.vdd - env.vt_plus) / v["r1"], env.vt_minus / v["r1"]
+
+    def timing_resistances(self, v):
+        return {"R1": v["r1"]}
 
     def phase_times(self, v, env: Env, topo: Topology, high: Drive, low: Drive,
                     with_cross: bool = True) -> PhaseTimes:
