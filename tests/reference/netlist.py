@@ -77,6 +77,11 @@ CASES = {
     "timer555-fade": ("timer555", "fade", {}, {"ra": 220e3, "rb": 1e6, "c1": 470e-9,
                                                "rs": 1e3, "ch": 220e-6}, "timer555", "green",
                       9.0),
+    "schmitt-hc-transistor": ("schmitt", "transistor", {}, {"r1": 1e6, "c1": 1e-6, "rs": 22.0,
+                                                            "rbase": 2.2e3}, "hc", "amber", 3.0),
+    "timer555-transistor": ("timer555", "transistor", {}, {"ra": 1e6, "rb": 100e3, "c1": 1e-6,
+                                                           "rs": 47.0, "rbase": 4.7e3},
+                            "timer555", "white", 5.0),
 }
 
 
