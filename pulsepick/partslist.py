@@ -33,7 +33,7 @@ class PartLine:
     """One part of a design."""
 
     ref: str  # reference designator: U1, R1, C1, D1, LED1
-    kind: str  # "chip", "resistor", "capacitor", "diode" or "led"
+    kind: str  # "chip", "resistor", "capacitor", "diode", "transistor" or "led"
     value: float | None  # ohm or farad; None for chips, diodes and LEDs
     unit: str  # "ohm", "F" or "" (no value)
     display: str  # value in engineering notation ("4.7 kΩ"), or the part's name

@@ -1257,7 +1257,10 @@ def _current_explanation(req: SolveRequest, aims, running: list[Candidate]) -> s
     need = peak_needed(req)
     limits = [led_current_limit(req.led, stage) for stage in req.stages]
     limit, limit_words = max(limits, key=lambda x: x[0])
-    drive = _drive_limit_a(req)
+    # a stage whose LED current does not pass through the gate lifts the drive limit
+    through_gate = all(get_stage(s).gate_carries_led for s in req.stages
+                       if _stage_wanted(req, s))
+    drive = _drive_limit_a(req) if through_gate else math.inf
     cap = min(limit, drive)
     if not need > cap * math.exp(SIGMA):
         return None

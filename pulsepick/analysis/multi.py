@@ -624,7 +624,7 @@ def build_part_lines(names: Sequence[str], part_lines: Sequence[tuple], plan: Pa
         counters[prefix] = counters.get(prefix, 0) + 1
         return f"{prefix}{counters[prefix]}"
 
-    prefix_of = {"resistor": "R", "capacitor": "C", "diode": "D", "led": "LED"}
+    prefix_of = {"resistor": "R", "capacitor": "C", "diode": "D", "transistor": "Q", "led": "LED"}
     for name, own in zip(names, part_lines, strict=True):
         for line in own:
             if line.kind == "chip":

@@ -205,6 +205,7 @@ class Stage(Protocol):
     lits: tuple[Level, ...]  # Topology.lit values worth searching
     pulsed: bool  # gives short flashes: an LED's pulsed current rating applies
     steady_load: bool  # draws a steady current from its driver while lit
+    gate_carries_led: bool  # the LED current flows through the driving gate's output
     search: Any  # searchgrid.StageSearch: the solver's search sizes
     search_rank: int  # solver and reference-run order: costliest first (lower first)
     search_from_peak_a: float  # A: searched by default only from this aimed peak up (0: always)

@@ -47,6 +47,7 @@ class DirectStage:
     n_states: int = 0
     lits: tuple[str, ...] = ("high", "low")
     pulsed: bool = False
+    gate_carries_led: bool = True
     steady_load: bool = True
     search: StageSearch = StageSearch(coarse_keep=2, timing_keep=32, per_decade=3)
     search_rank: int = 2

@@ -109,6 +109,7 @@ class FadeStage:
     n_states: int = 1
     lits: tuple[str, ...] = ("high",)
     pulsed: bool = True
+    gate_carries_led: bool = True
     steady_load: bool = False
     search: StageSearch = StageSearch(coarse_keep=1, timing_keep=6, per_decade=2)
     search_rank: int = 0

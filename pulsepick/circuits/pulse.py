@@ -58,6 +58,7 @@ class PulseStage:
     n_states: int = 1
     lits: tuple[str, ...] = ("high",)
     pulsed: bool = True
+    gate_carries_led: bool = True
     steady_load: bool = False
     search: StageSearch = StageSearch(coarse_keep=2, timing_keep=16, per_decade=3)
     search_rank: int = 1

@@ -12,7 +12,8 @@ The transistor is the Ebers-Moll transport model of ``pulsepick.parts.transistor
 collector (LED) current the collector voltage follows from the LED law, the
 base-emitter voltage from the collector equation in closed form, and the base current
 from the model; the base loop (driver, RBASE) then fixes the current (one monotone root,
-bisection in ln I for the fast engine, regula falsi for the reference engine).
+bisection in ln I, over numpy arrays for the fast engine and in plain ``math`` for the
+reference engine).
 """
 
 from __future__ import annotations
@@ -54,6 +55,7 @@ FORCED_GAIN = 10.0
 #: (estimate, inside the data sheet's VBE(sat) and VCE(sat) limits, ref:onsemi-2n3904).
 VBE_GUESS_V, VCE_GUESS_V = 0.75, 0.1
 _BISECTIONS = 70
+_SCALAR_BISECTIONS = 90
 
 
 def on_current(tr, led, vdd, v_src, r_base, rs):
@@ -90,8 +92,8 @@ def on_current(tr, led, vdd, v_src, r_base, rs):
 
 def _on_current_scalar(tr, junction, vdd: float, v_src: float, r_base: float, rs: float
                        ) -> tuple[float, float]:
-    """Scalar twin of :func:`on_current` for the reference engine: regula falsi
-    (Illinois) in ln I on the same monotone base-loop residual."""
+    """Scalar twin of :func:`on_current` for the reference engine (plain ``math``, its
+    own bracket) on the same monotone base-loop residual."""
     nvt, i_s, bf, br = tr.n_vt, tr.i_s_a, tr.bf, tr.br
     k = 1.0 + 1.0 / br
     vc_min = nvt * math.log(k)
@@ -109,37 +111,22 @@ def _on_current_scalar(tr, junction, vdd: float, v_src: float, r_base: float, rs
         ib = i_s * ((u - 1.0) / bf + (u * w - 1.0) / br)
         return (v_src - nvt * math.log(u)) / r_base - ib, ib
 
-    # bracket: just above the reverse floor, and where the collector would reach vc_min
+    # bracket: just above the reverse floor, and a current the supply cannot push through
+    # the LED and RS (the collector would go below ground: the residual is -inf there)
     a = math.log(i_s / br * (1.0 + 1e-6))
-    b = math.log(max((vdd - vc_min) / max(rs + junction.r_s, 1e-3), 1e-30))
-    fa, _ = residual(a)
-    if not fa > 0:
+    b = math.log(max(vdd / max(rs + junction.r_s, 1e-3), 2.0 * math.exp(a)))
+    if not residual(a)[0] > 0:
         return 0.0, 0.0
-    fb = -math.inf
-    while fb == -math.inf and b > a:
-        fb, _ = residual(b)
-        if fb == -math.inf:
-            b = a + 0.999 * (b - a)
-    if fb >= 0:
-        return math.exp(b), residual(b)[1]
-    side = 0
-    for _ in range(200):
-        c = b - fb * (b - a) / (fb - fa)
-        fc, _ = residual(c)
-        if abs(b - a) < 1e-13 or fc == 0:
-            break
-        if fc > 0:
-            a, fa = c, fc
-            if side == 1:
-                fb *= 0.5
-            side = 1
+    # plain bisection: near full saturation the root sits a hair below the pole of the
+    # residual, where secant steps would stall
+    for _ in range(_SCALAR_BISECTIONS):
+        m = 0.5 * (a + b)
+        if residual(m)[0] > 0:
+            a = m
         else:
-            b, fb = c, fc
-            if side == -1:
-                fa *= 0.5
-            side = -1
-    x = 0.5 * (a + b)
-    return math.exp(x), residual(x)[1]
+            b = m
+    i, ib = math.exp(a), residual(a)[1]
+    return i, ib
 
 
 @dataclass(frozen=True)
@@ -153,6 +140,7 @@ class TransistorStage:
     n_states: int = 0
     lits: tuple[str, ...] = ("high",)
     pulsed: bool = False
+    gate_carries_led: bool = False  # the LED current comes from the supply, not the gate
     steady_load: bool = True
     search: StageSearch = StageSearch(coarse_keep=2, timing_keep=16, per_decade=3)
     search_rank: int = 1
