@@ -12,7 +12,6 @@ from typing import Any
 
 import numpy as np
 
-from pulsepick.analysis.loadcurve import LoadCurve
 from pulsepick.circuits.base import (
     RUNS,
     STATUS_WORDS,
@@ -24,6 +23,7 @@ from pulsepick.circuits.base import (
 )
 from pulsepick.engine import fast, reference
 from pulsepick.engine.environment import ChipSpec, PartChoice, make_env
+from pulsepick.engine.loadcurve import LoadCurve
 from pulsepick.errors import CircuitError
 from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
 

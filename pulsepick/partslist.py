@@ -14,15 +14,13 @@ import math
 from dataclasses import dataclass
 
 from pulsepick.circuits.base import get_core, get_stage
+from pulsepick.parts.logic import GATES_PER_PACKAGE
 
 #: Usual power rating of a through-hole resistor, W (common practice).
 RESISTOR_RATING_W = 0.25
 #: Next rating up when a resistor would run above half of the usual one, W (common
 #: practice: run resistors at no more than half their rating).
 RESISTOR_RATING_HIGH_W = 0.5
-#: Gates in a Schmitt-inverter package: the 74HC14, 74AHC14, 74LVC14A and CD40106B are
-#: hex inverters (common practice).
-GATES_PER_PACKAGE = 6
 #: Tolerance assumed for a resistor taken from a parts drawer, percent (common practice:
 #: the everyday through-hole resistor is a 5 % part).
 DRAWER_RESISTOR_TOL_PCT = 5.0

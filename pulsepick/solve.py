@@ -61,7 +61,6 @@ list is not five near-copies, and each is verified with the reference engine (se
 
 from __future__ import annotations
 
-import importlib
 import itertools
 import math
 import time
@@ -87,6 +86,7 @@ from pulsepick.circuits.searchgrid import (
     STAGE_R_SPAN_MIN_OHM,  # noqa: F401
     SearchContext,
 )
+from pulsepick.analysis.spread import DEFAULT_TEMP_RANGE_C
 from pulsepick.engine.environment import TIMER_KEY
 from pulsepick.errors import RequestError
 from pulsepick.request import ASSUMED_PEAK_A, SolveRequest
@@ -119,8 +119,8 @@ THRESHOLD_STEP = 0.01
 #: computed counts as this far off). Wide enough that a period far beyond reach still
 #: ranks the longest reachable one first.
 BIG_LOG = 20.0
-#: Outdoor temperature range for the capacitor drift term, C (the issue's default range).
-TEMP_RANGE_C = (-20.0, 50.0)
+#: Outdoor temperature range for the capacitor drift term, C (the spread's default range).
+TEMP_RANGE_C = DEFAULT_TEMP_RANGE_C
 #: Decades of hours of class-2 aging counted (10^4 h, about a year). Estimate.
 AGING_DECADES = 4.0
 #: Search sizes: slow-phase pairs kept, timing networks kept, coarse stage points
@@ -1384,54 +1384,40 @@ def _why_low(req: SolveRequest, key: str) -> str:
 
 # ============================================================================ assessment
 
-def _optional(module: str, name: str):
-    """``module.name`` when that module exists (others may add it later), else None."""
-    try:
-        mod = importlib.import_module(module)
-    except ModuleNotFoundError as err:
-        if err.name != module:
-            raise
-        return None
-    return getattr(mod, name, None)
-
-
 def _assess_one(design, target_period_s: float, builds: int, seed: int,
                 supply_end_v: float | None, r_tols: dict[str, float]) -> dict[str, Any]:
     """Reference run, spread, drift and warnings of one design (runs in a worker)."""
+    from pulsepick.analysis.checks import assumptions, circuit_warnings
+    from pulsepick.analysis.drift import drift
+    from pulsepick.analysis.spread import spread
     from pulsepick.errors import PulsepickError
 
     out: dict[str, Any] = {"timings_s": {}, "warnings": []}
     t = time.perf_counter()
     out["reference"] = design.reference()
     out["timings_s"]["reference"] = time.perf_counter() - t
-    spread_fn = _optional("pulsepick.analysis.spread", "spread")
-    if spread_fn is not None:
-        t = time.perf_counter()
-        supply_range = None if supply_end_v is None else (supply_end_v, design.supply_v)
-        try:
-            out["spread"] = spread_fn(design, target_period_s=target_period_s, builds=builds,
-                                      seed=seed, supply_range_v=supply_range,
-                                      resistor_tol_pct=r_tols or None)
-        except PulsepickError as err:
-            out["warnings"].append(f"spread analysis: {err}")
-        out["timings_s"]["spread"] = time.perf_counter() - t
-    drift_fn = _optional("pulsepick.analysis.drift", "drift")
-    if drift_fn is not None and supply_end_v is not None:
+    t = time.perf_counter()
+    supply_range = None if supply_end_v is None else (supply_end_v, design.supply_v)
+    try:
+        out["spread"] = spread(design, target_period_s=target_period_s, builds=builds,
+                               seed=seed, supply_range_v=supply_range,
+                               resistor_tol_pct=r_tols or None)
+    except PulsepickError as err:
+        out["warnings"].append(f"spread analysis: {err}")
+    out["timings_s"]["spread"] = time.perf_counter() - t
+    if supply_end_v is not None:
         t = time.perf_counter()
         try:
-            out["drift"] = drift_fn(design, design.supply_v, supply_end_v)
+            out["drift"] = drift(design, design.supply_v, supply_end_v)
         except PulsepickError as err:
             out["warnings"].append(f"drift analysis: {err}")
         out["timings_s"]["drift"] = time.perf_counter() - t
-    checks_fn = _optional("pulsepick.analysis.checks", "circuit_warnings")
-    if checks_fn is not None:
-        try:
-            out["warnings"].extend(checks_fn(design))
-        except PulsepickError as err:
-            out["warnings"].append(f"checks: {err}")
-    assumptions_fn = _optional("pulsepick.analysis.checks", "assumptions")
-    if assumptions_fn is not None and not design.chip.is_timer:
-        out["crossing_current"] = assumptions_fn(design).get("crossing_current")
+    try:
+        out["warnings"].extend(circuit_warnings(design))
+    except PulsepickError as err:
+        out["warnings"].append(f"checks: {err}")
+    if not design.chip.is_timer:
+        out["crossing_current"] = assumptions(design).get("crossing_current")
     if out.get("spread") is not None:
         out["median_note"] = median_note(design, out["spread"])
     return out

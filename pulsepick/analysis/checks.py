@@ -15,6 +15,7 @@ from typing import Any
 
 import numpy as np
 
+from pulsepick.analysis.spread import DEFAULT_TEMP_RANGE_C, TEMP_RANGE_TEXT
 from pulsepick.circuits.base import DARK, RUNS, STALLS, Topology, get_core
 from pulsepick.design import Design
 from pulsepick.engine.environment import chip_model
@@ -155,14 +156,16 @@ def circuit_findings(design: Design) -> list[Finding]:
             f"{kind.name} as the timing capacitor: tolerance -{kind.tol_minus_pct:g}/"
             f"+{kind.tol_plus_pct:g} %, leakage and drift set the period; prefer film or C0G"))
     elif kind.class2:
-        lo = float(np.ravel(kind.temperature_factor(-20.0, which="min"))[0])
-        hi = float(np.ravel(kind.temperature_factor(50.0, which="max"))[0])
+        t_lo, t_hi = DEFAULT_TEMP_RANGE_C
+        lo = float(np.ravel(kind.temperature_factor(t_lo, which="min"))[0])
+        hi = float(np.ravel(kind.temperature_factor(t_hi, which="max"))[0])
         bias = float(np.ravel(kind.dc_bias_factor(vdd, rating))[0])
         out.append(Finding(
             "timing-cap-kind",
             f"{kind.name} as the timing capacitor: tolerance "
             f"±{kind.tol_plus_pct:g} %, {100 * (lo - 1):+.0f}/{100 * (hi - 1):+.0f} % over "
-            f"-20..50 °C, keeps {100 * bias:.0f} % of its value at {vdd:g} V bias, and ages; "
+            f"{TEMP_RANGE_TEXT}, keeps {100 * bias:.0f} % of its value at {vdd:g} V bias, and "
+            "ages; "
             "prefer film or C0G"))
 
     r_min = min(_timing_resistances(design).values())

@@ -28,6 +28,7 @@ from pulsepick.commands.night_options import (
     quantity,
     read_date,
     read_storage,
+    supply_grid,
     utc_offset,
 )
 from pulsepick.commands.pictures import (
@@ -36,6 +37,7 @@ from pulsepick.commands.pictures import (
     check_picture_targets,
     night_pictures,
 )
+from pulsepick.commands.wording import duration_text, verdict
 from pulsepick.errors import RequestError
 from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS
 from pulsepick.render import dump_json, make_console, simple_table
@@ -58,8 +60,6 @@ EXAMPLES = [
 
 TURN_ON_CHOICES = ("civil", "sunset")
 _MAX_NIGHT_S = 24 * 3600.0  # a night is at most a day long
-SUPPLY_STEP_V = 0.01  # grid step of the load curve, V (the light's stop voltage resolution)
-SUPPLY_GRID_LOW_V = 0.8  # lowest grid supply, V: below any LED or logic chip in the tables
 # the common single-cell rating (Maxwell BCAP0005, CAP-XX HY: ref:maxwell-bcap0005/ref:capxx-hy-10f)
 CROSS_CURRENT_EXAMPLE = "--cross-current 15uA"  # option syntax only, not a figure
 NO_DUSK_DETECTOR = ("no dusk detector load included (describe it with --dusk-bleed and the "
@@ -205,13 +205,6 @@ def _night_from_sun(args: argparse.Namespace) -> dict:
         "latitude_deg": latitude, "longitude_deg": longitude, "utc_offset_h": offset,
         "date": day.isoformat(), "turn_on": args.turn_on,
     }
-
-
-def supply_grid(v_top_v: float, v_low_v: float | None = None) -> np.ndarray:
-    """Ascending supply voltages (V) for the circuit's load curve, ending at ``v_top_v``."""
-    low = min(SUPPLY_GRID_LOW_V, 0.5 * v_top_v) if v_low_v is None else v_low_v
-    count = max(2, math.ceil((v_top_v - low) / SUPPLY_STEP_V) + 1)
-    return np.linspace(low, v_top_v, count)
 
 
 # ---------------------------------------------------------------------------- run
@@ -587,42 +580,6 @@ def _public(entry: dict | None) -> dict | None:
 
 def _hm(moment: datetime | None) -> str | None:
     return None if moment is None else moment.strftime("%H:%M")
-
-
-def duration_text(seconds: float) -> str:
-    """``8 h 10 min``, ``45 min``, ``3 d 4 h`` (rounded to the minute)."""
-    minutes = round(seconds / 60.0)
-    hours, minutes = divmod(minutes, 60)
-    if hours >= 48:
-        days, hours = divmod(hours, 24)
-        return f"{days} d {hours} h"
-    return f"{hours} h {minutes} min" if hours else f"{minutes} min"
-
-
-def verdict(result: NightResult, open_ended: bool = False) -> str:
-    """One line: does it last the night, or when does the light stop.
-
-    ``open_ended`` is a run with no night (until the stop voltage, however long).
-    """
-    stop = f"{result.v_stop_v:.2f} V"
-    if result.lasts_the_night:
-        if open_ended:
-            return (f"storage stays above {stop} for {duration_text(result.duration_s)}, "
-                    f"{result.v_end_v:.2f} V left")
-        return f"lasts the night, {result.v_end_v:.2f} V left at dawn"
-    if result.runtime_s == 0.0:
-        if not math.isfinite(result.v_stop_v):
-            return f"light never starts: the circuit is not lit at {result.v_start_v:.2f} V"
-        return (f"light never starts: {result.v_start_v:.2f} V is not above the stop voltage "
-                f"{stop}")
-    what = "light stops" if result.load is not None else f"storage reaches {stop}"
-    after = duration_text(result.runtime_s)
-    if open_ended:
-        return f"{what} after {after}"
-    left = duration_text(result.duration_s - result.runtime_s)
-    if result.stops_at is not None:
-        return f"{what} at {result.stops_at} after {after}, {left} before dawn"
-    return f"{what} after {after}, {left} before dawn"
 
 
 def _eng(value: float | None, unit: str) -> str:

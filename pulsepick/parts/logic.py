@@ -43,6 +43,10 @@ FamilyKey = Literal["hc", "ahc", "lvc", "4000n", "4000w"]
 FAMILY_KEYS: tuple[str, ...] = get_args(FamilyKey)
 Which = Literal["typ", "max"]
 
+#: Gates in a Schmitt-inverter package: the 74HC14, 74AHC14, 74LVC14A and CD40106B are
+#: hex inverters (common practice).
+GATES_PER_PACKAGE = 6
+
 _FAMILIES = "parts/logic_families.csv"
 _THRESHOLDS = "parts/logic_thresholds.csv"
 _THRESHOLD_FIELDS = (
