@@ -18,6 +18,7 @@ from pulsepick.errors import CircuitError
 
 Array = np.ndarray
 ChipKind = Literal["schmitt", "timer"]
+PartKind = Literal["diode", "transistor"]  # parts a circuit adds beyond its R and C values
 Level = Literal["high", "low"]
 
 #: Effective-intensity time constant a, in seconds, for night-time observation:
@@ -52,7 +53,7 @@ class Param:
 class ExtraPart:
     """A part other than the resistors and capacitors a circuit's params give."""
 
-    kind: Literal["diode", "transistor"]
+    kind: PartKind
     role: str  # what it does, for parts lists
     note: str  # how it goes in (polarity, pins)
     choice: str = ""  # the PartChoice field that names the part (the user picks it) ...
