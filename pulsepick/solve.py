@@ -69,6 +69,7 @@ from typing import Any
 
 import numpy as np
 
+from pulsepick.analysis.spread import DEFAULT_TEMP_RANGE_C
 from pulsepick.circuits.base import (
     DARK,
     RUNS,
@@ -81,12 +82,9 @@ from pulsepick.circuits.base import (
     stage_names,
 )
 from pulsepick.circuits.searchgrid import (
-    STAGE_DROP_V,  # noqa: F401 - part of this module's documented constants
     STAGE_R_MIN_OHM,
-    STAGE_R_SPAN_MIN_OHM,  # noqa: F401
     SearchContext,
 )
-from pulsepick.analysis.spread import DEFAULT_TEMP_RANGE_C
 from pulsepick.engine.environment import TIMER_KEY
 from pulsepick.errors import RequestError
 from pulsepick.request import ASSUMED_PEAK_A, SolveRequest
@@ -357,7 +355,8 @@ def led_current_limit(led, stage: str | None = None) -> tuple[float, str]:
 
     cont = getattr(led, "i_max_a", None)
     pulsed = getattr(led, "i_pulse_max_a", None)
-    if stage is not None and get_stage(stage).pulsed and pulsed is not None and (cont is None or pulsed > cont):
+    short_flash = stage is not None and get_stage(stage).pulsed
+    if short_flash and pulsed is not None and (cont is None or pulsed > cont):
         return float(pulsed), f"its pulsed rating of {format_eng(pulsed, 'A')}"
     if cont is None:
         return math.inf, "no rating (not in our tables)"

@@ -16,9 +16,9 @@ import pytest
 
 sys.path.insert(0, str(Path(__file__).parent / "reference"))
 
-from netlist import CASES, NETLISTS, OUTPUTS, design, netlist  # noqa: E402
+from netlist import CASES, NETLISTS, OUTPUTS, design, netlist
 
-from pulsepick.circuits.base import core_names, stage_names  # noqa: E402
+from pulsepick.circuits.base import core_names, stage_names
 
 PERIOD_TOL, PEAK_TOL = 0.01, 0.03
 

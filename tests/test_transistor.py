@@ -19,7 +19,7 @@ from pulsepick.parts.led import get_led
 from pulsepick.parts.transistor import TRANSISTOR_KEYS, get_transistor
 
 sys.path.insert(0, str(Path(__file__).parent / "reference"))
-from test_reference_netlists import OUT  # noqa: E402  ngspice outputs, tests/reference
+from test_reference_netlists import OUT
 
 TR = get_transistor(PART)
 

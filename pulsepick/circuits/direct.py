@@ -9,6 +9,7 @@ resistance against the driver's output resistance (no fixed "Vf").
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
@@ -49,7 +50,7 @@ class DirectStage:
     pulsed: bool = False
     gate_carries_led: bool = True
     steady_load: bool = True
-    search: StageSearch = StageSearch(coarse_keep=2, timing_keep=32, per_decade=3)
+    search: ClassVar[StageSearch] = StageSearch(coarse_keep=2, timing_keep=32, per_decade=3)
     search_rank: int = 2
     search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
 

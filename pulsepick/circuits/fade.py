@@ -13,6 +13,7 @@ the rising edge comes from a short fixed-point iteration to periodic steady stat
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
@@ -111,7 +112,7 @@ class FadeStage:
     pulsed: bool = True
     gate_carries_led: bool = True
     steady_load: bool = False
-    search: StageSearch = StageSearch(coarse_keep=1, timing_keep=6, per_decade=2)
+    search: ClassVar[StageSearch] = StageSearch(coarse_keep=1, timing_keep=6, per_decade=2)
     search_rank: int = 0
     search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
 

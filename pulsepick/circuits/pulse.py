@@ -14,6 +14,7 @@ iteration to the periodic steady state.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
@@ -60,7 +61,7 @@ class PulseStage:
     pulsed: bool = True
     gate_carries_led: bool = True
     steady_load: bool = False
-    search: StageSearch = StageSearch(coarse_keep=2, timing_keep=16, per_decade=3)
+    search: ClassVar[StageSearch] = StageSearch(coarse_keep=2, timing_keep=16, per_decade=3)
     search_rank: int = 1
     search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
 

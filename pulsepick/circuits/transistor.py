@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
@@ -142,7 +143,7 @@ class TransistorStage:
     pulsed: bool = False
     gate_carries_led: bool = False  # the LED current comes from the supply, not the gate
     steady_load: bool = True
-    search: StageSearch = StageSearch(coarse_keep=2, timing_keep=16, per_decade=3)
+    search: ClassVar[StageSearch] = StageSearch(coarse_keep=2, timing_keep=16, per_decade=3)
     search_rank: int = 1
     #: A gate drives an LED of up to about 20 mA itself; the switch earns its two parts
     #: above that (design choice; the stage takes 20-100 mA LEDs).

@@ -21,9 +21,9 @@ from dataclasses import dataclass
 from functools import cache
 from typing import Literal, get_args
 
-from pulsepick.errors import DataFileError, PartError
+from pulsepick.errors import PartError
 from pulsepick.physconst import K_OVER_Q_V_PER_K
-from pulsepick.tables import load_table
+from pulsepick.tables import keyed_row
 
 TransistorKey = Literal["npn-small"]
 TRANSISTOR_KEYS: tuple[str, ...] = get_args(TransistorKey)
@@ -67,12 +67,7 @@ def get_transistor(key: str) -> TransistorModel:
     PartError
         for an unknown key; the message lists the accepted keys.
     """
-    rows = {row["key"]: row for row in load_table(_TABLE).rows}
-    if set(rows) != set(TRANSISTOR_KEYS):
-        raise DataFileError(f"{_TABLE} must hold exactly the keys {', '.join(TRANSISTOR_KEYS)}")
-    if key not in rows:
-        raise PartError(f"unknown transistor {key!r}; accepted: {', '.join(TRANSISTOR_KEYS)}")
-    row = rows[key]
+    row = keyed_row(_TABLE, key, TRANSISTOR_KEYS, "transistor")
     return TransistorModel(
         key=key, name=str(row["name"]), i_s_a=row["i_s_a"], bf=row["bf"], br=row["br"],
         n=row["n"], ic_max_a=row["ic_max_a"], vceo_max_v=row["vceo_max_v"],

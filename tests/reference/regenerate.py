@@ -22,7 +22,7 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
-from netlist import CASES, NETLISTS, OUTPUTS, design, netlist  # noqa: E402
+from netlist import CASES, NETLISTS, OUTPUTS, design, netlist
 
 FIELDS = ("case", "period_s", "high_s", "led_peak_a", "simulator")
 
