@@ -20,7 +20,7 @@ from rich.text import Text
 from pulsepick import __version__
 from pulsepick.analysis.cautions import NOT_A_SAFETY_LIGHT
 from pulsepick.analysis.night import NightResult, simulate_night, simulate_until_stop
-from pulsepick.commands import circuit_options
+from pulsepick.commands import circuit_options, night_size
 from pulsepick.commands.day import add_panel_arguments
 from pulsepick.commands.night_options import (
     clock_time,
@@ -37,6 +37,7 @@ from pulsepick.commands.pictures import (
     check_picture_targets,
     night_pictures,
 )
+from pulsepick.commands.solved_load import one_circuit, solved_load
 from pulsepick.commands.wording import duration_text, verdict
 from pulsepick.errors import RequestError
 from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS
@@ -119,6 +120,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     night.add_argument("--utc-offset", metavar="H", help="local clock offset from UTC in hours")
     night.add_argument("--turn-on", choices=TURN_ON_CHOICES, default="civil",
                        help="the light turns on at civil dusk (default) or at sunset")
+    night_size.add_size_arguments(parser)
     out = parser.add_argument_group("output")
     out.add_argument("--no-circuit", action="store_true",
                      help="a bare storage budget: no circuit, only leakage and --extra-load")
@@ -194,17 +196,34 @@ def _night_from_sun(args: argparse.Namespace) -> dict:
     longitude = None if args.longitude is None else degrees(args.longitude, "--longitude", 180.0)
     offset = None if args.utc_offset is None else utc_offset(args.utc_offset)
     day = read_date(args.date)
-    from pulsepick.analysis.sun import night_window
+    from pulsepick.analysis.sun import night_span
 
-    dusk, dawn = night_window(latitude, day, longitude_deg=longitude, utc_offset_h=offset,
-                              turn_on=args.turn_on)
+    span = night_span(latitude, day, longitude_deg=longitude, utc_offset_h=offset,
+                      turn_on=args.turn_on)
+    dusk, dawn = span.dusk, span.dawn
     if dawn <= dusk:
         dawn += timedelta(days=1)
     return {
         "dusk": dusk, "duration_s": (dawn - dusk).total_seconds(), "given": "sun",
         "latitude_deg": latitude, "longitude_deg": longitude, "utc_offset_h": offset,
         "date": day.isoformat(), "turn_on": args.turn_on,
+        **({"note": span.note} if span.note else {}),
     }
+
+
+def _clamp_advice(args, design, storage):
+    """The over-voltage advice when the design file or the options name a panel."""
+    from pulsepick.commands.design_night import design_clamp
+
+    if design is not None and design.panel is not None:
+        return design_clamp(design)
+    if args.panel is None and args.panel_voc is None:
+        return None
+    from pulsepick.analysis.overvoltage import clamp_advice
+    from pulsepick.commands.day import read_panel
+    from pulsepick.parts.diode import get_diode
+
+    return clamp_advice(storage, read_panel(args), get_diode(args.diode))
 
 
 # ---------------------------------------------------------------------------- run
@@ -213,6 +232,7 @@ def run(args: argparse.Namespace) -> int:
     """Read the options, simulate the night, print the report or JSON."""
     design = _apply_design(args)
     storage = read_storage(args.storage, args.rated)
+    dates = night_size.apply_date_range(args)
     night = _read_night(args)
     check_picture_targets(args)
     if night is None and not (args.no_circuit and args.stop_at is not None):
@@ -234,7 +254,7 @@ def run(args: argparse.Namespace) -> int:
 
     load, designs = None, []
     if design is not None or args.from_solve is not None:
-        load, designs = _solved_load(args, design, storage, v_start, stop_at)
+        load, designs = solved_load(args, design, storage, v_start, stop_at)
     elif not args.no_circuit:
         if getattr(args, "supply", "") is None:
             args.supply = "3.0V"  # the check options' default supply
@@ -248,6 +268,14 @@ def run(args: argparse.Namespace) -> int:
     extra_all = extra + (dusk_bias["bias_a"] if dusk_bias else 0.0)
     options = {"extra_load_a": extra_all, "storage_leak_a": leak, "t_since_charge_s": charge_age,
                "leak_level": args.leakage}
+    if args.size:
+        sized = night_size.run_size(args, storage, v_start, stop_at, load, night or {},
+                                    options, dates)
+        if args.json:
+            dump_json(night_size.size_json(sized, night, dates))
+        else:
+            night_size.render_size(sized, make_console(), dates)
+        return 0
     if night is None:
         # A budget check by hand: run until the stop voltage, however long that takes.
         night = {"dusk": None, "duration_s": None, "given": "none"}
@@ -263,6 +291,11 @@ def run(args: argparse.Namespace) -> int:
     result = replace(result, assumptions=result.assumptions + tuple(
         entry["note"] for entry in (context["crossing_current"], context["dusk_detector"])
         if entry is not None))
+    advice = _clamp_advice(args, design, storage)
+    if advice is not None and advice.cautions:
+        result = replace(result, cautions=advice.cautions + result.cautions)
+    if night.get("note"):
+        result = replace(result, warnings=(*result.warnings, night["note"]))
     if args.json:
         dump_json(result_json(result, night, context))
     else:
@@ -288,7 +321,7 @@ def _apply_design(args: argparse.Namespace):
         raise RequestError(f"{args.design!r} is not a design file; give a .toml design such "
                            "as examples/firefly-lantern.toml (the circuit options describe a "
                            "circuit by hand)")
-    _one_circuit(args, "a design file")
+    one_circuit(args, "a design file")
     design = read_design(args.design)
     s = design.storage
     if s is None:
@@ -312,82 +345,6 @@ def _apply_design(args: argparse.Namespace):
             if value is not None and getattr(args, key, None) is None:
                 setattr(args, key, value)
     return design
-
-
-def _one_circuit(args: argparse.Namespace, what: str) -> None:
-    given = [k for k in vars(args) if k.startswith("value_") and getattr(args, k) is not None]
-    if given or args.no_circuit or (what == "a design file" and args.from_solve is not None):
-        raise RequestError(f"give the circuit one way: {what}, --from-solve, the circuit "
-                           "values (--core, --r, --c ...) or --no-circuit")
-
-
-def _solved_load(args, design, storage, v_start: float, stop_at: float | None):
-    """The load curve of the solver's pick, or of every light of a build, added."""
-    from dataclasses import replace
-
-    from pulsepick.analysis.multi import combined_load_curve
-    from pulsepick.design import load_curve
-    from pulsepick.solve import default_jobs, solve, solve_build
-
-    grid = supply_grid(max(v_start, storage.v_rated_v))
-    jobs = default_jobs()
-    if design is not None:
-        from pulsepick.designfile import build_request
-
-        overrides = {"supply": args.supply, "family": args.family}
-        result = solve_build(build_request(design, **overrides), jobs=jobs, assess_picks=False)
-        missing = [li.name for li in result.lights if li.pick is None]
-        if missing:
-            raise RequestError(f"{args.design}: the solver offers nothing for "
-                               f"{', '.join(missing)}; run 'pulsepick solve {args.design}' "
-                               "for the reasons")
-        designs = [(li.name, _with_cross_current(li.pick.design, args))
-                   for li in result.lights]
-        curves = [replace(load_curve(d, grid), label=f"{name}: {d.label()}")
-                  for name, d in designs]
-        name = design.name or args.design
-        return combined_load_curve(curves, label=f"{name} ({len(curves)} lights)"), designs
-    _one_circuit(args, "--from-solve")
-    from pulsepick.request import make_build_request, make_request, split_lights
-
-    supply = args.supply
-    if supply is None:
-        supply = f"{v_start:g}V" + (f"..{stop_at:g}V" if stop_at else "")
-    if args.pick < 1:
-        raise RequestError(f"--pick {args.pick}: give a circuit number of at least 1")
-    phrases = split_lights(args.from_solve)
-    if phrases is not None:
-        breq = make_build_request(phrases, supply=supply, family=args.family, led=args.led,
-                                  source=args.from_solve)
-        result = solve_build(breq, jobs=jobs, assess_picks=False)
-        if any(li.pick is None for li in result.lights):
-            raise RequestError(f"--from-solve {args.from_solve!r}: the solver offers nothing "
-                               "for some lights; run 'pulsepick solve' for the reasons")
-        designs = [(li.name, _with_cross_current(li.pick.design, args))
-                   for li in result.lights]
-        return (combined_load_curve([load_curve(d, grid) for _, d in designs],
-                                    label=f"{args.from_solve} ({len(phrases)} lights)"),
-                designs)
-    req = make_request(args.from_solve, supply=supply, family=args.family, led=args.led)
-    result = solve(req, jobs=jobs)
-    if not result.success:
-        raise RequestError(f"--from-solve {args.from_solve!r}: nothing can be offered; "
-                           f"{' '.join(result.explanations) or result.message}")
-    if args.pick > len(result.candidates):
-        raise RequestError(f"--pick {args.pick}: the solver offers {len(result.candidates)} "
-                           f"circuits; choose 1 to {len(result.candidates)}")
-    pick = _with_cross_current(result.candidates[args.pick - 1].design, args)
-    return (replace(load_curve(pick, grid), label=f"{pick.label()} (solver pick {args.pick})"),
-            [(None, pick)])
-
-
-def _with_cross_current(design, args):
-    """The solver's design with a measured ``--cross-current`` in place of the estimate."""
-    text = getattr(args, "cross_current", None)
-    if text is None or design.chip.is_timer:
-        return design
-    measured = quantity(text, "current", "--cross-current", "15uA", allow_zero=True)
-    return replace(design, chip=replace(design.chip, cross_current_a=measured))
 
 
 def crossing_current(designs, v_start_v: float, load) -> dict | None:
