@@ -125,7 +125,10 @@ def netlist(name: str) -> str:
              f"LED {d.parts.led.key}, supply {vdd:g} V",
              f"* {gate}: hysteresis switch VT+ {vtp:.6g} V, VT- {vtm:.6g} V; output "
              f"resistance high {_f(env.rout_high):.6g} ohm, low {_f(env.rout_low):.6g} ohm",
-             "* (see tests/reference/netlist.py for what is modelled and how)",
+             "* input-pin leakage: current source ILEAK; timing capacitor leakage: RLEAK",
+             "* LED and diodes: the simulator's diode with our IS, N, RS (N scaled to 27 C)",
+             "* not modelled: quiescent and crossing currents (they move neither the period",
+             "* nor the LED peak); see tests/reference/netlist.py",
              f"VDD vdd 0 DC {vdd:.9g}",
              f"C1 tim 0 {values['c1']:.9g}",
              f"ILEAK tim 0 DC {_f(env.pin_leak_a):.9g}"]
