@@ -190,6 +190,10 @@ class Core(Protocol):
         """The resistances (ohm) that set each phase, by the name a report shows."""
         ...
 
+    def spice(self, v: dict[str, float], env: Env, topo: Topology) -> tuple[str, ...]:
+        """Its lines in the circuit-simulator netlists (node names: ``SPICE_NODES``)."""
+        ...
+
     def phase_times(self, v: dict[str, Any], env: Env, topo: Topology,
                     high: Drive, low: Drive) -> PhaseTimes: ...
 
@@ -223,6 +227,10 @@ class Stage(Protocol):
 
     def refine(self, ctx: Any, point: dict[str, float]) -> list[dict[str, float]]:
         """The point and its series neighbours."""
+        ...
+
+    def spice(self, v: dict[str, float], env: Env, topo: Topology) -> tuple[str, ...]:
+        """Its lines in the circuit-simulator netlists (node names: ``SPICE_NODES``)."""
         ...
 
     def fast(self, v: dict[str, Any], env: Env, topo: Topology, drv: DriverView,
