@@ -150,17 +150,20 @@ def parts_list(design, *, r_series: str = "E24", c_series: str = "E12",
     counts: dict[str, int] = {}
     for extra in extras:
         key = extra.part_key(parts)
+        rating = ""
         if extra.kind == "diode":
             prefix, display = "D", get_diode(key).name
         else:
             from pulsepick.parts.transistor import get_transistor
 
-            prefix, display = "Q", get_transistor(key).name
+            model = get_transistor(key)
+            prefix, display = "Q", model.name
+            rating = f"{model.vceo_max_v:g} V, {model.ic_max_a * 1e3:g} mA"
         counts[prefix] = counts.get(prefix, 0) + 1
         lines.append(PartLine(
             ref=f"{prefix}{counts[prefix]}", kind=extra.kind, value=None, unit="",
             display=display, code=key, series="", tolerance="", tolerance_pct=None,
-            dielectric="", rating="", role=extra.role, note=extra.note,
+            dielectric="", rating=rating, role=extra.role, note=extra.note,
         ))
     led = parts.led
     lines.append(PartLine(

@@ -119,6 +119,8 @@ def test_solve_offers_the_switch_for_fifty_milliamperes_and_lists_it(capsys, tmp
     _, rows = read_buylist(path.read_text(encoding="utf-8"))
     kinds = {r["kind"]: r for r in rows}
     assert kinds["transistor"]["code"] == "npn-small" and kinds["transistor"]["refs"] == "Q1"
+    # VCEO 40 V, IC 200 mA: 2N3904 maximum ratings (ref:onsemi-2n3904)
+    assert kinds["transistor"]["rating"] == "40 V, 200 mA"
     assert "base resistor" in " ".join(r["notes"] for r in rows)
     peak = [r for r in csv.reader(io.StringIO(path.read_text(encoding="utf-8")))
             if r and r[0].startswith("# candidate 1")]
