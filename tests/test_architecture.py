@@ -147,8 +147,16 @@ def _circuit_context(node: ast.AST, parents: dict) -> bool:
     """True when a string constant stands for a core or a stage where it is used."""
     parent = parents.get(node)
     if isinstance(parent, ast.Compare):
-        text = ast.unparse(parent)
-        return "core" in text or "stage" in text or "topo" in text
+        # compared with something named core or stage (topo.core, stage, ...), not with
+        # another vocabulary's field (core.chip_kind, chip.family)
+        for operand in (parent.left, *parent.comparators):
+            if operand is node:
+                continue
+            last = operand.attr if isinstance(operand, ast.Attribute) else getattr(
+                operand, "id", "")
+            if last.endswith(("core", "stage")):
+                return True
+        return False
     if isinstance(parent, ast.keyword):
         return parent.arg in ("core", "stage")
     if isinstance(parent, ast.Call):

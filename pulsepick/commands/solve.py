@@ -21,6 +21,8 @@ EXAMPLES = [
     'pulsepick solve "every 4 s, 200 mcd" --led white --supply 3.3V',
     "pulsepick solve --every 3s --flash 40ms --peak 5mA --led red --supply 2.7V..1.8V",
     'pulsepick solve "one flash every 3 s" --stock drawer.csv --buylist parts.csv --pick 1',
+    'pulsepick solve "one flash every 3 s" --trim --buylist parts.csv',
+    'pulsepick solve "one flash every 3 s" --chip chip.toml',
     'pulsepick solve "one flash every 3 s" --cores schmitt-steered --stages direct --json',
     'pulsepick solve "one flash every 3 s" --plot garden.png --report garden.html',
     'pulsepick solve "three lights: every 2.7 s, every 4.1 s, every 6.3 s, 60 ms each" '
@@ -84,6 +86,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     ctx.add_argument("--led-n", type=float, metavar="N", help="your LED's ideality factor")
     ctx.add_argument("--led-rs", metavar="OHM", help="your LED's series resistance, e.g. 10")
     ctx.add_argument("--led-mcd", metavar="MCD@I", help="your LED's intensity, e.g. 120@20mA")
+    ctx.add_argument("--chip", metavar="FILE.toml",
+                     help="your measured chip (a profile from 'pulsepick calibrate --save')")
     ctx.add_argument("--vt-plus", metavar="V", help="VT+ measured on your Schmitt chip at the "
                                                     "(full) supply")
     ctx.add_argument("--vt-minus", metavar="V", help="VT- measured on your Schmitt chip")
@@ -144,6 +148,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                           "lights)")
     out.add_argument("--pick", type=int, default=1, metavar="N",
                      help="the circuit for --buylist (default 1, the best)")
+    out.add_argument("--trim", action="store_true",
+                     help="a fixed resistor + trimmer on the part that sets the period, sized "
+                          "from the spread")
     out.add_argument("--force", action="store_true",
                      help="let --buylist, --plot and --report replace a file")
     out.add_argument("--jobs", type=int, metavar="N",
@@ -212,10 +219,15 @@ def request_from_args(args):
     from pulsepick.request import make_request
 
     overrides = _chip_overrides(args)
+    family = args.family
+    if getattr(args, "chip", None):
+        from pulsepick.commands.circuit_options import profile_overrides
+
+        family, overrides = profile_overrides(args.chip, args.family, overrides)
     req = make_request(
         args.phrase, every=args.every, flash=args.flash, peak=args.peak,
         effective=args.effective, intensity=args.intensity, supply=args.supply,
-        family=args.family, led=_led(args), series=args.series, cap_series=args.cap_series,
+        family=family, led=_led(args), series=args.series, cap_series=args.cap_series,
         timing_cap=args.timing_cap, max_r=args.max_r, min_r=args.min_r,
         cap_range=args.cap_range, buffered=args.buffered, stages=args.stages,
         cores=args.cores, stock=args.stock, top=args.top, builds=args.builds, seed=args.seed,
@@ -223,10 +235,11 @@ def request_from_args(args):
     if overrides:
         from dataclasses import replace
 
-        if "vt_plus_v" in overrides or "vt_minus_v" in overrides or "rout_ohm" in overrides:
+        if ("vt_plus_v" in overrides or "vt_minus_v" in overrides or "rout_ohm" in overrides) \
+                and "measured_at_v" not in overrides:
             overrides["measured_at_v"] = req.supply_v
         vtp, vtm = overrides.get("vt_plus_v"), overrides.get("vt_minus_v")
-        if vtp is not None and vtm is not None and not vtm < vtp < req.supply_v:
+        if vtp is not None and vtm is not None and not vtm < vtp < overrides["measured_at_v"]:
             raise RequestError(f"measured thresholds need VT- < VT+ < supply; got VT- "
                                f"{vtm:g} V, VT+ {vtp:g} V at {req.supply_v:g} V")
         req = replace(req, chip_overrides=overrides)
@@ -261,6 +274,11 @@ def run(args) -> int:
     check_picture_targets(args)
     result = solve(req, jobs=jobs)
     result = assess(result, jobs=jobs)
+    plans = None
+    if getattr(args, "trim", False):
+        from pulsepick.commands.trim_parts import trim_result
+
+        result, plans = trim_result(result, req.r_series)
     if args.buylist and result.success:
         from pulsepick.export import buylist_text, write_atomic
 
@@ -268,11 +286,20 @@ def run(args) -> int:
     if args.json:
         from pulsepick.export import result_json
 
-        dump_json(result_json(result, solve_cautions(req)))
+        out = result_json(result, solve_cautions(req))
+        if plans is not None:
+            from pulsepick.commands.trim_parts import add_trim_json
+
+            add_trim_json(out, plans)
+        dump_json(out)
     else:
         console = make_console()
         render_report(console, result, buylist=args.buylist if result.success else None,
                       pick=args.pick)
+        if plans is not None:
+            from pulsepick.commands.trim_parts import render_trim
+
+            render_trim(console, plans)
     solve_pictures(args, result)
     if not result.success:
         _nothing_line(req.describe(), result.explanations)
@@ -457,7 +484,7 @@ def _render_request(console, req, result=None) -> None:
                  "cross_current_a": ("crossing current", "A"), "measured_at_v": ("at", "V")}
         rows.append(["chip measured", ", ".join(
             f"{names.get(k, (k, ''))[0]} {format_eng(v, names.get(k, (k, ''))[1])}"
-            for k, v in req.chip_overrides.items()), "given"])
+            for k, v in req.chip_overrides.items() if not isinstance(v, bool)), "given"])
     console.print(simple_table("Request and assumptions", ["", "value", ""], rows))
     crossing = None if result is None else crossing_text(result)
     if crossing:
@@ -665,7 +692,14 @@ def build_request_from_args(args):
     if _chip_overrides(args):
         raise RequestError("--vt-plus, --vt-minus, --rout and --cross-current describe one "
                            "chip; they apply to a single light")
+    if getattr(args, "trim", False):
+        raise RequestError("--trim sizes one light's trimmer; run 'pulsepick solve' on one "
+                           "light's phrase with --trim")
     context = _build_context(args)
+    if getattr(args, "chip", None):
+        import os
+
+        context["chip"] = os.path.abspath(args.chip)
     if is_design_file(args.phrase):
         design = read_design(args.phrase)
         overrides = {k: v for k, v in context.items() if v is not None}
@@ -678,6 +712,11 @@ def build_request_from_args(args):
             overrides["dusk_detector"] = args.dusk_detector
         return build_request(design, **overrides), design
     phrases = split_lights(args.phrase)
+    if context.get("chip"):
+        from pulsepick.commands.circuit_options import profile_overrides
+
+        context["family"], context["chip_overrides"] = profile_overrides(
+            context.pop("chip"), context.get("family"), {})
     return make_build_request(
         phrases, max_packages=args.max_packages,
         dusk_detector=True if args.dusk_detector is None else args.dusk_detector,

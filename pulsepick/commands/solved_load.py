@@ -6,6 +6,7 @@ Shared by the two commands, so that neither imports the other.
 from __future__ import annotations
 
 import argparse
+import os
 from dataclasses import replace
 
 from pulsepick.commands.night_options import quantity, supply_grid
@@ -31,6 +32,8 @@ def solved_load(args, design, storage, v_start: float, stop_at: float | None):
         from pulsepick.designfile import build_request
 
         overrides = {"supply": args.supply, "family": args.family}
+        if getattr(args, "chip", None):
+            overrides["chip"] = os.path.abspath(args.chip)
         result = solve_build(build_request(design, **overrides), jobs=jobs, assess_picks=False)
         missing = [li.name for li in result.lights if li.pick is None]
         if missing:
@@ -44,6 +47,7 @@ def solved_load(args, design, storage, v_start: float, stop_at: float | None):
         name = design.name or args.design
         return combined_load_curve(curves, label=f"{name} ({len(curves)} lights)"), designs
     one_circuit(args, "--from-solve")
+    from pulsepick.commands.circuit_options import solver_chip
     from pulsepick.request import make_build_request, make_request, split_lights
 
     supply = args.supply
@@ -53,7 +57,9 @@ def solved_load(args, design, storage, v_start: float, stop_at: float | None):
         raise RequestError(f"--pick {args.pick}: give a circuit number of at least 1")
     phrases = split_lights(args.from_solve)
     if phrases is not None:
-        breq = make_build_request(phrases, supply=supply, family=args.family, led=args.led,
+        family, measured = solver_chip(args)
+        breq = make_build_request(phrases, supply=supply, family=family, led=args.led,
+                                  chip_overrides=measured,
                                   source=args.from_solve)
         result = solve_build(breq, jobs=jobs, assess_picks=False)
         if any(li.pick is None for li in result.lights):
@@ -64,7 +70,9 @@ def solved_load(args, design, storage, v_start: float, stop_at: float | None):
         return (combined_load_curve([load_curve(d, grid) for _, d in designs],
                                     label=f"{args.from_solve} ({len(phrases)} lights)"),
                 designs)
-    req = make_request(args.from_solve, supply=supply, family=args.family, led=args.led)
+    family, measured = solver_chip(args)
+    req = make_request(args.from_solve, supply=supply, family=family, led=args.led,
+                       chip_overrides=measured)
     result = solve(req, jobs=jobs)
     if not result.success:
         raise RequestError(f"--from-solve {args.from_solve!r}: nothing can be offered; "
