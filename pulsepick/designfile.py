@@ -37,7 +37,9 @@ timing_cap, min_r, max_r, cap_range, buffered, cores, stages, stock (a CSV path 
 to the design file), max_packages, dusk_detector, spread_out, period_tolerance,
 lock_margin, top, builds, seed, chip (a chip profile from ``pulsepick calibrate --save``,
 relative to the design file); ``[[light]]``: name, blink (required), led, family,
-timing_cap, buffered, cores, stages, chip; ``[storage]``: part or capacitance (one required),
+timing_cap, buffered, cores, stages, chip, photoresistor (a photoresistor key: it sets the
+light's rate with the light, the blink's period being the one in the dark); ``[storage]``:
+part or capacitance (one required),
 rated, start, stop_at, storage_leak, leakage, charge_age, extra_load; ``[panel]``: part,
 or voc with isc (and cells); diode; clamp; ``[night]``: dusk, dawn, length; ``[site]``:
 latitude and date (required), longitude, utc_offset, turn_on, turbidity, tilt, azimuth,
@@ -72,6 +74,7 @@ BUILD_KEYS: dict[str, str] = {
 LIGHT_KEYS: dict[str, str] = {
     "name": "text", "blink": "text", "led": "text", "family": "text", "timing_cap": "text",
     "buffered": "bool", "cores": "text", "stages": "text", "chip": "text",
+    "photoresistor": "text",
 }
 STORAGE_KEYS: dict[str, str] = {
     "part": "text", "capacitance": "text", "rated": "text", "start": "text",
@@ -104,6 +107,7 @@ class LightSpec:
     name: str
     blink: str  # the blink phrase
     context: dict[str, Any] = field(default_factory=dict)  # per-light solver options
+    photoresistor: str | None = None  # a photoresistor key: the light's rate follows light
 
 
 @dataclass(frozen=True)
@@ -205,8 +209,18 @@ def parse_design(text: str, path: str = "design.toml") -> DesignFile:
         context = {k: spec[k] for k in _LIGHT_CONTEXT if k in spec}
         if "chip" in spec:
             context.update(chip_context(path, spec["chip"], spec.get("family")))
+        ldr = spec.get("photoresistor")
+        if ldr is not None:
+            from pulsepick.parts.photoresistor import photoresistor_keys
+
+            ldr = str(ldr).strip().lower()
+            if ldr not in photoresistor_keys():
+                raise RequestError(f"{path}: [[light]] {i} photoresistor {ldr!r} unknown; "
+                                   f"accepted: {', '.join(photoresistor_keys())}")
+            # the photoresistor takes the place of a Schmitt core's timing resistor R1
+            context.setdefault("cores", "schmitt,schmitt-steered")
         lights.append(LightSpec(name=spec.get("name") or f"light {i}", blink=spec["blink"],
-                                context=context))
+                                context=context, photoresistor=ldr))
     storage = panel = night = site = None
     if "storage" in data:
         storage = _check_table(path, "storage", data["storage"], STORAGE_KEYS)
@@ -320,7 +334,7 @@ def build_request(design: DesignFile, **overrides: Any):
         max_packages=b.get("max_packages"), dusk_detector=b.get("dusk_detector", True),
         lock_margin=b.get("lock_margin"), spread_out=b.get("spread_out", False),
         period_tolerance=b.get("period_tolerance"), name=design.name, source=design.path,
-        **context)
+        photoresistors=tuple(li.photoresistor for li in design.lights), **context)
 
 
 def storage_part(design: DesignFile):

@@ -24,19 +24,27 @@ PACKAGE = Path(__file__).resolve().parent.parent / "pulsepick"
 #: Import layers, top to bottom: a module may import its own layer and the ones below.
 LAYERS = (
     ("commands", "cli", "__main__"),
-    ("render", "htmlreport", "plot", "export", "partslist", "textplot"),
-    ("solve", "request", "designfile", "analysis"),
+    ("render", "htmlreport", "plot", "export", "partslist", "textplot", "buildreport"),
+    ("solve", "request", "designfile", "analysis", "packing"),
     ("design",),
     ("engine",),
     ("circuits",),
     ("parts",),
     ("units", "series", "tables", "errors", "physconst", "colour", "data"),
 )
-#: Known upward imports, to go when the output layer is split out: the solver and the
-#: multi-light planner build parts lists (reference designators) for their results.
+#: Known upward imports, to go when the output layer is split out: the solver, the
+#: multi-light planner, the package packer and the dusk holds build parts lists
+#: (reference designators) for their results; the build report reuses the night
+#: command's option readers and pictures.
 KNOWN_UPWARD = {
     ("pulsepick.solve", "pulsepick.partslist"),
     ("pulsepick.analysis.multi", "pulsepick.partslist"),
+    ("pulsepick.analysis.gating", "pulsepick.partslist"),
+    ("pulsepick.packing", "pulsepick.partslist"),
+    ("pulsepick.buildreport", "pulsepick.commands.night"),
+    ("pulsepick.buildreport", "pulsepick.commands.night_options"),
+    ("pulsepick.buildreport", "pulsepick.commands.pictures"),
+    ("pulsepick.buildreport", "pulsepick.commands.wording"),
 }
 
 
@@ -198,7 +206,7 @@ def test_every_core_and_stage_declares_what_the_program_asks():
         core = get_core(name)
         assert all(hasattr(core, f) for f in core_fields), name
         for method in ("label", "extra_parts", "end_currents", "timing_resistances",
-                       "phase_times", "ref_currents", "spice"):
+                       "held_resistance", "phase_times", "ref_currents", "spice"):
             assert callable(getattr(core, method)), (name, method)
         assert all(p.flag.startswith("--") and p.help for p in core.params), name
     for name in stage_names():

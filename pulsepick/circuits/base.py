@@ -190,6 +190,11 @@ class Core(Protocol):
         """The resistances (ohm) that set each phase, by the name a report shows."""
         ...
 
+    def held_resistance(self, v: dict[str, Any], topo: Topology, output: Level) -> float:
+        """Resistance (ohm) from the output (at ``output``) to a timing node held at the
+        other rail by the dusk detector (nan where the core is not held that way)."""
+        ...
+
     def spice(self, v: dict[str, float], env: Env, topo: Topology) -> tuple[str, ...]:
         """Its lines in the circuit-simulator netlists (node names: ``SPICE_NODES``)."""
         ...

@@ -89,6 +89,10 @@ class SchmittCore:
         """(charging at VT+, discharging at VT-), A: R1 from the unloaded output."""
         return (env.vdd - env.vt_plus) / v["r1"], env.vt_minus / v["r1"]
 
+    def held_resistance(self, v, topo, output):
+        """Resistance (ohm) from the output to a timing node held at the other rail."""
+        return float(v["r1"])
+
     def timing_resistances(self, v):
         return {"R1": v["r1"]}
 

@@ -130,6 +130,15 @@ class SteeredSchmittCore:
             down = down + branch.current(vtm, r_ext=v["r2"])
         return up, down
 
+    def held_resistance(self, v, topo, output):
+        """Resistance (ohm) from the output to a timing node held at the other rail: R1,
+        and R2 in parallel where the steering diode conducts at that output level."""
+        r1 = float(v["r1"])
+        if topo.steer == output:
+            r2 = float(v["r2"])
+            return r1 * r2 / (r1 + r2)
+        return r1
+
     def timing_resistances(self, v):
         return {"R1": v["r1"], "R2": v["r2"]}
 

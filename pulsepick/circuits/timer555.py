@@ -73,6 +73,10 @@ class Timer555Core:
         r_d = ra * rdis / (ra + rdis)
         return (env.vdd - env.vt_plus) / (ra + rb), (env.vt_minus - v_d0) / (rb + r_d)
 
+    def held_resistance(self, v, topo, output):
+        """Not defined: a 555 is held by its RESET pin, not at its timing node."""
+        return float("nan")
+
     def timing_resistances(self, v):
         return {"RA+RB": v["ra"] + v["rb"], "RB": v["rb"]}
 

@@ -266,6 +266,15 @@ def run(args: argparse.Namespace) -> int:
 
     dusk_bias = _dusk_bias(args, designs, v_start)
     extra_all = extra + (dusk_bias["bias_a"] if dusk_bias else 0.0)
+    hold_note = None
+    if design is not None and design.build.get("dusk_detector", True):
+        # the dusk holds' diodes leak at night (pulsepick.analysis.gating)
+        from pulsepick.analysis.gating import night_leak_a
+
+        hold_leak = night_leak_a([d.topo for _, d in designs], v_start)
+        extra_all += hold_leak
+        hold_note = (f"dusk holds: the hold diodes' reverse leakage, {hold_leak * 1e9:.0f} nA "
+                     "together (typical, an estimate), is drawn all night")
     options = {"extra_load_a": extra_all, "storage_leak_a": leak, "t_since_charge_s": charge_age,
                "leak_level": args.leakage}
     if args.size:
@@ -290,7 +299,7 @@ def run(args: argparse.Namespace) -> int:
     }
     result = replace(result, assumptions=result.assumptions + tuple(
         entry["note"] for entry in (context["crossing_current"], context["dusk_detector"])
-        if entry is not None))
+        if entry is not None) + ((hold_note,) if hold_note else ()))
     advice = _clamp_advice(args, design, storage)
     if advice is not None and advice.cautions:
         result = replace(result, cautions=advice.cautions + result.cautions)

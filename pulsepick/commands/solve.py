@@ -737,10 +737,9 @@ def run_build(args) -> int:
         raise RequestError(f"--jobs {jobs}: give a whole number of at least 1")
     if args.buylist and not args.force:
         _check_target(args.buylist)
-    if getattr(args, "plot", None) or getattr(args, "report", None):
-        raise RequestError("--plot and --report draw one light; for several lights run "
-                           "'pulsepick solve' on one light's phrase, or 'pulsepick night' "
-                           "with the design file")
+    from pulsepick.commands.pictures import check_picture_targets
+
+    check_picture_targets(args)
     extras = _build_extras(design)
     from pulsepick.commands.design_night import design_clamp, design_night
 
@@ -749,6 +748,10 @@ def run_build(args) -> int:
     if advice is not None and advice.proposed_clamp_v is not None:
         extras["clamp_v"] = advice.proposed_clamp_v
         extras["clamp_w"] = advice.proposed_clamp_w
+    elif advice is not None and advice.clamp_v is not None and advice.clamp_needed:
+        # the file's own clamp is a part of the build: it goes in the buy list too
+        extras["clamp_v"] = advice.clamp_v
+        extras["clamp_w"] = advice.clamp_v * advice.isc_a
     result = solve_build(breq, jobs=jobs)
     offered = all(li.pick is not None for li in result.lights) and result.plan is not None
     if args.buylist and offered:
@@ -773,6 +776,10 @@ def run_build(args) -> int:
     if not offered:
         _nothing_line(breq.describe(), list(result.warnings) or [result.message])
         return 2
+    from pulsepick.buildreport import build_pictures
+    from pulsepick.commands.pictures import announce
+
+    announce(args, build_pictures(args, result, build_lines(result, **extras), design))
     return 0
 
 
@@ -800,14 +807,22 @@ def _build_extras(design) -> dict:
 
 def build_lines(result, *, storage=None, panel=None, charge_diode=None, clamp_v=None,
                 clamp_w=None) -> tuple:
-    """Every part of the build (``PartLine`` tuple), with a decoupling capacitor per
-    package and, when the panel can exceed the storage's rating, the proposed clamp."""
+    """Every part of the build (``PartLine`` tuple), with the dusk holds' diodes, a
+    decoupling capacitor per package and, when the panel can exceed the storage's rating,
+    the proposed clamp."""
+    from pulsepick.analysis.gating import hold_part_lines
     from pulsepick.analysis.multi import build_part_lines
     from pulsepick.partslist import charge_path_lines
 
     names = [li.name for li in result.lights]
-    lines = build_part_lines(names, [li.pick.parts for li in result.lights], result.plan,
-                             storage=storage, panel=panel, charge_diode=charge_diode)
+    from pulsepick.packing import rate_part_lines
+
+    holds = () if result.gating is None else hold_part_lines(result.gating, names)
+    rates = result.rates or {}
+    own = [rate_part_lines(rates[i], li.pick.parts) if i in rates else li.pick.parts
+           for i, li in enumerate(result.lights)]
+    lines = build_part_lines(names, own, result.plan, storage=storage, panel=panel,
+                             charge_diode=charge_diode, hold_lines=holds)
     return lines + charge_path_lines(lines, result.plan, clamp_v=clamp_v, clamp_w=clamp_w)
 
 
@@ -824,6 +839,62 @@ def _risk_json(names, r) -> dict:
             "band_p5": r.band[0], "band_p95": r.band[1], "nearest": r.nearest,
             "nominal_near": r.nominal_near, "band_near": r.band_near,
             "clearance": r.clearance, "at_risk": r.at_risk}
+
+
+def _rate_text(lr) -> str:
+    """One paragraph: the photoresistor network and the period it gives against light."""
+    import math
+
+    net, rate = lr.clamp.network, lr.rate
+    per, lux = rate.period_s["typ"], rate.lux
+    clamps = [f"{_eng(net.series_ohm, 'Ω')} in series" if net.series_ohm > 0 else "",
+              f"{_eng(net.parallel_ohm, 'Ω')} across it" if math.isfinite(net.parallel_ohm)
+              else ""]
+    clamps = [c for c in clamps if c]
+    return (f"{net.ldr.name} in place of the timing resistor"
+            + (f", with {' and '.join(clamps)}" if clamps else "")
+            + f": typical period {_eng(float(per[0]), 's')} at {lux[0]:g} lx, "
+            f"{_eng(float(per[-1]), 's')} at {lux[-1]:g} lx"
+            + ("" if rate.within_range is None else
+               "; every corner within " if rate.within_range else "; not every corner within ")
+            + (f"{_eng(rate.period_range_s[0], 's')}..{_eng(rate.period_range_s[1], 's')}"
+               if rate.period_range_s else ""))
+
+
+def _rate_json(names, lr) -> dict:
+    """A photoresistor light (pulsepick.packing.LightRate) as plain data."""
+    net, rate = lr.clamp.network, lr.rate
+    per = rate.period_s["typ"]
+    return {"light": names[lr.light], "photoresistor": lr.key,
+            "series_ohm": net.series_ohm,
+            "parallel_ohm": None if net.parallel_ohm == float("inf") else net.parallel_ohm,
+            "lux": [float(x) for x in rate.lux], "period_typ_s": [float(x) for x in per],
+            "period_range_s": list(rate.period_range_s or ()),
+            "within_range": rate.within_range}
+
+
+def _gating_json(names, gating) -> dict | None:
+    """The dusk gating (pulsepick.analysis.gating.BuildGating) as plain data."""
+    if gating is None:
+        return None
+    return {"arrangement": gating.arrangement, "detector_gates": gating.detector_gates,
+            "hold_diode": gating.diode, "held_supply_a": gating.held_a,
+            "held_supply_end_a": gating.held_end_a,
+            "lights": [{"name": names[h.light], "hold": h.kind, "held_supply_a": h.held_a,
+                        "held_supply_end_a": h.held_end_a, "node_v": h.node_v,
+                        "limit_v": h.limit_v, "holds": h.holds} for h in gating.holds]}
+
+
+def _share_json(names, share) -> dict | None:
+    """The lock share (pulsepick.analysis.lock.LockShare) as plain data."""
+    if share is None:
+        return None
+    return {"lock_share": share.share, "stderr": share.stderr, "builds": share.builds,
+            "seed": share.seed, "margin": share.margin, "max_q": share.max_q,
+            "packages": [{"ref": f"U{g}", "lock_share": v}
+                         for g, v in sorted(share.packages.items())],
+            "pairs": [{"lights": [names[p.a], names[p.b]], "package": f"U{p.package}",
+                       "lock_share": p.share, "nearest": p.nearest} for p in share.pairs]}
 
 
 def build_json(result, **extras) -> dict:
@@ -857,9 +928,15 @@ def build_json(result, **extras) -> dict:
             "oscillators": plan.oscillators, "buffers": plan.buffers, "dusk": plan.dusk,
             "needed": plan.gates_needed, "timers": plan.timers, "count": plan.describe()},
         "lock_risks": [_risk_json(names, r) for r in result.risks],
+        "lock_share": _share_json(names, result.lock_share),
+        "lock_share_before_spread_out": _share_json(names, result.lock_share_before),
+        "lock_remedies": [{"action": r.action, "lock_share": r.share, "option": r.option}
+                          for r in result.remedies],
         "lock_risks_before_spread_out": None if result.risks_before is None else
         [_risk_json(names, r) for r in result.risks_before],
         "total_supply_avg_a": result.total_supply_a,
+        "dusk_gating": _gating_json(names, result.gating),
+        "light_rates": [_rate_json(names, r) for r in (result.rates or {}).values()],
         "warnings": list(result.warnings),
         "cautions": list(solve_cautions(breq, storage="storage" in extras)),
     }
@@ -896,7 +973,8 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
                      + (" *" if li.moved else ""), _eng(f["flash_s"], "s"),
                      _eng(f["led_peak_a"], "A"), _eng(f["supply_avg_a"], "A")])
     console.print(simple_table(
-        f"Lights ({result.search_s:.1f} s; * period moved by --spread-out)",
+        "Lights" + (" (* period moved by --spread-out)" if any(li.moved for li in
+                                                              result.lights) else ""),
         ["light", "asked", "circuit", "chip", "period", "flash", "peak", "supply"], rows,
         justify=["left", "right", "left", "left", "right", "right", "right", "right"]))
     console.print()
@@ -918,50 +996,51 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
                                f"{'s' if p.gates_used != 1 else ''} ({who}{extra})")
     console.print()
     if result.risks:
+        share = result.lock_share
         rows = []
         for r in result.risks:
             band = "-" if r.band[0] != r.band[0] else f"{r.band[0]:.3f}..{r.band[1]:.3f}"
-            state = ("near" if r.nominal_near else "band near" if r.band_near else "clear")
-            rows.append([f"{names[r.a]} / {names[r.b]}", f"{r.ratio:.3f}", band, r.nearest,
-                         f"{r.clearance * 100:+.1f} %", state])
+            ps = share.pair(r.a, r.b) if share is not None else None
+            rows.append([f"{names[r.a]} / {names[r.b]}", f"{r.ratio:.3f}", band,
+                         ps.nearest if ps is not None and ps.share > 0 else r.nearest,
+                         f"{ps.share:.1%}" if ps is not None else "-"])
         console.print(simple_table(
-            f"Lock risk: period ratios of lights on one package against p:q, q <= 4, "
-            f"margin {breq.lock_margin:.0%}",
-            ["pair", "ratio", "P5..P95", "nearest", "clearance", ""], rows,
-            justify=["left", "right", "right", "right", "right", "left"]))
-        print_wrapped(console, "the band: each light's own parts vary independently; the "
-                               "package's thresholds, supply and temperature move all its "
-                               "periods together and leave the ratio")
+            f"Lock risk: share of builds with a pair within {breq.lock_margin:.0%} of p:q, "
+            "q <= 4",
+            ["pair", "ratio", "P5..P95", "nearest", "lock share"], rows,
+            justify=["left", "right", "right", "right", "right"]))
+        if share is not None:
+            per_pkg = ", ".join(f"U{g} {v:.1%}" for g, v in sorted(share.packages.items()))
+            print_wrapped(console, f"any pair near a lock: {share.share:.1%} of "
+                                   f"{share.builds:,} builds (seed {share.seed}; {per_pkg}); "
+                                   "each light's own parts vary, the package's thresholds, "
+                                   "supply and temperature are shared")
         console.print()
     if result.spread_out is not None:
         so = result.spread_out
-        console.print("[bold]Spread-out periods[/bold]")
-        print_wrapped(console, f"within {so.tolerance:.0%} of the periods asked: "
-                               + ", ".join(f"{n} {a:.3g} s -> {c:.3g} s" for n, a, c in
-                                           zip(names, so.asked_s, so.chosen_s, strict=True)))
+        console.print("[bold]Spread-out periods[/bold] (* in the table of lights)")
         print_wrapped(console, so.message)
+        console.print()
+    if result.gating is not None:
+        g = result.gating
+        console.print(f"[bold]Dusk gating[/bold] ({g.detector_gates} gate"
+                      f"{'s' if g.detector_gates != 1 else ''})", highlight=False)
+        print_wrapped(console, g.arrangement)
         console.print()
     console.print("[bold]Energy budget[/bold]")
     night_s = 12 * 3600 if night is None else night.night_s
     night_c = _eng(result.total_supply_a * night_s, "C")
     night_words = "a 12 h night" if night is None else f"the {night.text}"
-    print_wrapped(console, f"all lights together draw {_eng(result.total_supply_a, 'A')} on "
-                           f"average at the design supply ({night_c} "
-                           f"over {night_words}); run 'pulsepick night' with the design file "
-                           "for the storage")
+    held = ("" if result.gating is None else
+            f"; held by day {_eng(result.gating.held_a, 'A')} besides the chips' quiescent "
+            "current")
+    print_wrapped(console, f"all lights draw {_eng(result.total_supply_a, 'A')} on average at "
+                           f"the design supply ({night_c} over {night_words}){held}; "
+                           "'pulsepick night' runs the storage")
     if night is not None and night.note:
         print_wrapped(console, night.note)
     console.print()
-    for li in result.lights:
-        c = li.pick
-        console.print(f"[bold]{li.name}[/bold]: {c.design.topo.label()} on "
-                      f"{c.design.chip.family}, {c.design.supply_v:g} V", highlight=False)
-        prow = [[p.ref, p.display, p.code, p.tolerance, p.dielectric or "-", p.role]
-                for p in c.parts if p.kind != "chip"]
-        console.print(simple_table(None, ["ref", "value", "code", "tol", "kind", "role"], prow))
-        for w in list(c.notes) + list(c.warnings):
-            print_wrapped(console, w, indent="  - ", hang="    ")
-        console.print()
+    # the summary screen ends with the warnings and the verdict; then one screen per light
     if result.warnings:
         console.print("[bold]Warnings[/bold]")
         for w in result.warnings:
@@ -969,6 +1048,25 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
         console.print()
     console.print(f"[bold]{result.message}[/bold]", highlight=False)
     console.print()
+    rates = result.rates or {}
+    for i, li in enumerate(result.lights):
+        c = li.pick
+        console.print(f"[bold]{li.name}[/bold]: {c.design.topo.label()} on "
+                      f"{c.design.chip.family}, {c.design.supply_v:g} V", highlight=False)
+        own = c.parts
+        if i in rates:
+            from pulsepick.packing import rate_part_lines
+
+            own = rate_part_lines(rates[i], c.parts)
+        prow = [[p.ref, p.display, p.code, p.tolerance, p.dielectric or "-", p.role]
+                for p in own if p.kind != "chip"]
+        console.print(simple_table(None, ["ref", "value", "code", "tol", "kind", "role"], prow))
+        if i in rates:
+            print_wrapped(console, "rate set by the light: " + _rate_text(rates[i]),
+                          indent="  * ", hang="    ")
+        for w in list(c.notes) + list(c.warnings):
+            print_wrapped(console, w, indent="  - ", hang="    ")
+        console.print()
     if buylist:
         console.print(f"Buy list of the whole build written to {buylist}", markup=False)
         console.print()
