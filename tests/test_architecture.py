@@ -30,7 +30,8 @@ LAYERS = (
     ("engine",),
     ("circuits",),
     ("parts",),
-    ("units", "series", "tables", "errors", "physconst", "colour", "data"),
+    ("units", "series", "tables", "errors", "physconst", "colour", "data", "limits", "infile",
+     "workers"),
 )
 #: Known upward imports, to go when the output layer is split out: the solver, the
 #: multi-light planner, the package packer and the dusk holds build parts lists
