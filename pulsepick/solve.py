@@ -1572,7 +1572,7 @@ def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
         return result
     # the spread uses the resistor tolerances of the parts list (the series asked for)
     args = [_assess_args(req, c) for c in cands]
-    outputs = _assess_outputs(args, jobs)
+    outputs, _ = _assess_outputs(args, jobs)
     return result.with_candidates(tuple(_assessed(c, out) for c, out in zip(
         cands, outputs, strict=True)))
 
@@ -1583,10 +1583,12 @@ def _assess_args(req, c) -> tuple:
             {p.param: p.tolerance_pct for p in c.parts if p.kind == "resistor"})
 
 
-def _assess_outputs(args: list, jobs: int) -> list[dict[str, Any]]:
+def _assess_outputs(args: list, jobs: int, during=None) -> tuple[list[dict[str, Any]], Any]:
     """:func:`_assess_one` of each argument tuple, on up to ``jobs`` worker processes
-    (the longest reference runs first)."""
+    (the longest reference runs first), and the result of ``during()`` (None when not
+    given), which runs in this process while the workers work."""
     outputs: list[dict[str, Any] | None] = [None] * len(args)
+    meanwhile = None
     if jobs > 1 and len(args) > 1:
         import multiprocessing
         from concurrent.futures import ProcessPoolExecutor
@@ -1596,11 +1598,15 @@ def _assess_outputs(args: list, jobs: int) -> list[dict[str, Any]]:
         ctx = multiprocessing.get_context("fork")
         with ProcessPoolExecutor(max_workers=min(jobs, len(args)), mp_context=ctx) as pool:
             futures = {i: pool.submit(_assess_one, *args[i]) for i in order}
+            if during is not None:
+                meanwhile = during()
             for i, fut in futures.items():
                 outputs[i] = fut.result()
     else:
         outputs = [_assess_one(*a) for a in args]
-    return [out for out in outputs if out is not None]
+        if during is not None:
+            meanwhile = during()
+    return [out for out in outputs if out is not None], meanwhile
 
 
 def _assessed(c, out: dict[str, Any]):
@@ -1867,15 +1873,22 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
             f"the share of builds with a pair near a lock goes from {share_before.share:.1%} "
             f"to {share.share:.1%} (least within {breq.period_tolerance:.0%} of the periods "
             "asked)"))
-    remedies = packing.lock_remedies(
-        breq, picks, groups, share,
-        lambda i, tol: _period_options(breq.lights[i].request, picks[i], asked[i], tol),
-        seed=lock_seed, designs=night)
+    chosen_picks = list(picks)
+
+    def remedies_fn():
+        return packing.lock_remedies(
+            breq, chosen_picks, groups, share,
+            lambda i, tol: _period_options(breq.lights[i].request, chosen_picks[i], asked[i],
+                                           tol),
+            seed=lock_seed, designs=night)
+
     if assess_picks:
-        # every light's runs shared among the workers at once
-        outs = _assess_outputs([_assess_args(r.request, c) for r, c in zip(
-            results, picks, strict=True)], jobs)
+        # every light's runs shared among the workers at once, the remedies meanwhile
+        outs, remedies = _assess_outputs([_assess_args(r.request, c) for r, c in zip(
+            results, picks, strict=True)], jobs, during=remedies_fn)
         picks = [_assessed(c, out) for c, out in zip(picks, outs, strict=True)]
+    else:
+        remedies = remedies_fn()
     warnings = list(pack_notes)
     near = [p for p in share.pairs if p.share > 0]
     if near:

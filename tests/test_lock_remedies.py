@@ -126,3 +126,37 @@ def test_photoresistor_light_runs_at_the_night_light_level():
     bright = night_designs(replace(breq, night_lux=10.0), res.picks, res.rates)
     assert float(bright[1].fast().period_s[0]) != pytest.approx(
         float(night.fast().period_s[0]), rel=0.01)
+
+
+def _run(argv) -> tuple[int, str, str]:
+    import contextlib
+    import io
+
+    from pulsepick.cli import main
+
+    out, err = io.StringIO(), io.StringIO()
+    with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
+        code = main(argv)
+    return code, out.getvalue(), err.getvalue()
+
+
+def test_a_limit_asked_decides_the_verdict_in_json_and_exit_status():
+    import json
+
+    code, out, err = _run(["solve", "three lights: every 2.7 s, every 4.1 s, every 6.3 s, "
+                           "60 ms each", "--led", "amber", "--supply", "2.7V..1.8V",
+                           "--max-lock-share", "0.1%", "--json"])
+    doc = json.loads(out)
+    share = doc["lock_share"]["lock_share"]
+    assert share > 0.001  # three lights on one package: some builds come near a lock
+    assert code == 3 and doc["success"] is False
+    assert doc["max_lock_share"] == pytest.approx(0.001)
+    assert doc["lock_grade"] == lock_grade(share)
+    assert doc["message"].endswith(f"{share:.1%} of builds have a pair near a lock, above "
+                                   "the 0.1% limit asked (--max-lock-share)")
+    # every remedy offered lowers the share
+    assert doc["lock_remedies"] and all(r["lock_share"] < share
+                                        for r in doc["lock_remedies"])
+    # one light: the option is refused
+    code, _, err = _run(["solve", "every 2 s for 50 ms", "--max-lock-share", "5%"])
+    assert code == 2 and "--max-lock-share applies to several lights" in err
