@@ -442,6 +442,7 @@ def crossing_text(result) -> str | None:
 
 
 def _render_request(console, req, result=None) -> None:
+    from pulsepick.analysis.spread import TEMP_RANGE_TEXT
     from pulsepick.render import simple_table
     from pulsepick.units import format_eng
 
@@ -479,7 +480,7 @@ def _render_request(console, req, result=None) -> None:
          mark("buffered")],
         ["parts drawer", req.stock.source if req.stock else "any standard value",
          mark("stock")],
-        ["spread", f"{req.builds:,} builds, seed {req.seed}, -20..50 °C",
+        ["spread", f"{req.builds:,} builds, seed {req.seed}, {TEMP_RANGE_TEXT}",
          mark("builds", "seed")],
     ]
     if req.chip_overrides:
@@ -753,6 +754,10 @@ def run_build(args) -> int:
     if advice is not None and advice.proposed_clamp_v is not None:
         extras["clamp_v"] = advice.proposed_clamp_v
         extras["clamp_w"] = advice.proposed_clamp_w
+    elif advice is not None and advice.clamp_v is not None and advice.clamp_needed:
+        # the file's own clamp is a part of the build: it goes in the buy list too
+        extras["clamp_v"] = advice.clamp_v
+        extras["clamp_w"] = advice.clamp_v * advice.isc_a
     result = solve_build(breq, jobs=jobs)
     offered = all(li.pick is not None for li in result.lights) and result.plan is not None
     if args.buylist and offered:
