@@ -50,8 +50,8 @@ def test_buylist_written_and_refused_when_it_exists(capsys, tmp_path):
     code = main(["solve", "one flash every 3 s", *QUICK, "--buylist", str(path)])
     out, _ = capsys.readouterr()
     assert code == 0 and "written to" in out
-    comments, rows = read_buylist(path.read_text(encoding="utf-8"))
-    assert "one flash every 3 s" in comments[0] and rows
+    rows = read_buylist(path.read_text(encoding="utf-8-sig"))
+    assert rows and all("one flash every 3 s" in r["request"] for r in rows)
     before = path.read_text(encoding="utf-8")
     code = main(["solve", "one flash every 3 s", *QUICK, "--buylist", str(path)])
     out, err = capsys.readouterr()
