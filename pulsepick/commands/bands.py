@@ -163,19 +163,24 @@ def _analyse(args) -> BandsResult:
 
 # ---------------------------------------------------------------------------- output
 
+def bands_json(result: BandsResult) -> dict:
+    """The ``--json`` document of a bands analysis."""
+    out = result.as_dict()
+    out["dominant_source_label"] = SOURCE_LABELS[result.dominant_source()]
+    out["advice"] = _advice(result)
+    out["design"] = {"circuit": result.design.topo.label(), "chip": result.design.chip.family,
+                     "led": result.design.parts.led.key,
+                     "timing_cap": result.design.parts.timing_cap,
+                     "supply_v": result.design.supply_v,
+                     "values": dict(result.design.values)}
+    return out
+
+
 def run(args) -> int:
     check_picture_targets(args)
     result = _analyse(args)
     if args.json:
-        out = result.as_dict()
-        out["dominant_source_label"] = SOURCE_LABELS[result.dominant_source()]
-        out["advice"] = _advice(result)
-        out["design"] = {"circuit": result.design.topo.label(), "chip": result.design.chip.family,
-                         "led": result.design.parts.led.key,
-                         "timing_cap": result.design.parts.timing_cap,
-                         "supply_v": result.design.supply_v,
-                         "values": dict(result.design.values)}
-        dump_json(out)
+        dump_json(bands_json(result))
         announce(args, bands_pictures(args, result, tuple(_advice(result))))
         return 0
     render(make_console(), result)

@@ -104,13 +104,7 @@ def run(args) -> int:
     figures = figures_dict(fig)
     reason = _status_reason(figures["status"], findings)
     if args.json:
-        out = dict(figures)
-        out["status"] = {"state": figures["status"], "reason": reason}
-        out["assumptions"] = {**assumed, "engine": engine,
-                              "circuit": design.topo.label(),
-                              "values": {k: v for k, v in design.values.items()}}
-        out["warnings"] = [f.text for f in findings]
-        dump_json(out)
+        dump_json(check_json(design, figures, reason, findings, assumed, engine))
         announce(args, check_pictures(args, design, figures, reason, findings, assumed, ref,
                                       engine))
         return 0
@@ -122,6 +116,17 @@ def run(args) -> int:
     _render_cautions(console)
     announce(args, check_pictures(args, design, figures, reason, findings, assumed, ref, engine))
     return 0
+
+
+def check_json(design: Design, figures: dict, reason, findings, assumed, engine: str) -> dict:
+    """The ``--json`` document of a check."""
+    out = dict(figures)
+    out["status"] = {"state": figures["status"], "reason": reason}
+    out["assumptions"] = {**assumed, "engine": engine,
+                          "circuit": design.topo.label(),
+                          "values": {k: v for k, v in design.values.items()}}
+    out["warnings"] = [f.text for f in findings]
+    return out
 
 
 def values_line(design: Design) -> str:

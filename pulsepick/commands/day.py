@@ -241,6 +241,16 @@ def _days(args: argparse.Namespace) -> int | None:
 
 def run(args: argparse.Namespace) -> int:
     """Read the options, run the days and nights, print the report or JSON."""
+    result, night_info = compute(args)
+    if args.json:
+        dump_json(result_json(result, night_info))
+    else:
+        render_report(result, night_info, make_console())
+    return 0
+
+
+def compute(args: argparse.Namespace):
+    """The days and nights the options describe: ``(result, night_info)``."""
     storage = read_storage(args.storage, args.rated)
     panel = read_panel(args)
     diode = get_diode(args.diode)
@@ -260,11 +270,7 @@ def run(args: argparse.Namespace) -> int:
         storage, panel, diode, weather, night_load, window, v_start, days=days, clamp_v=clamp,
         bleed_ohm=bleed, day_load=day_load, stop_at_v=stop_at, leak_level=args.leakage,
         diode_leak=args.diode_leak)
-    if args.json:
-        dump_json(result_json(result, night_info))
-    else:
-        render_report(result, night_info, make_console())
-    return 0
+    return result, night_info
 
 
 # --------------------------------------------------------------------------- output

@@ -218,6 +218,18 @@ def supply_grid(v_top_v: float, v_low_v: float | None = None) -> np.ndarray:
 
 def run(args: argparse.Namespace) -> int:
     """Read the options, simulate the night, print the report or JSON."""
+    result, night, context, designs = compute(args)
+    if args.json:
+        dump_json(result_json(result, night, context))
+    else:
+        render_report(result, night, make_console(), context)
+    only = designs[0][1] if len(designs) == 1 else None
+    announce(args, night_pictures(args, result, night, only))
+    return 0
+
+
+def compute(args: argparse.Namespace):
+    """The night the options describe: ``(result, night, context, designs)``."""
     design = _apply_design(args)
     storage = read_storage(args.storage, args.rated)
     night = _read_night(args)
@@ -270,13 +282,7 @@ def run(args: argparse.Namespace) -> int:
     result = replace(result, assumptions=result.assumptions + tuple(
         entry["note"] for entry in (context["crossing_current"], context["dusk_detector"])
         if entry is not None))
-    if args.json:
-        dump_json(result_json(result, night, context))
-    else:
-        render_report(result, night, make_console(), context)
-    only = designs[0][1] if len(designs) == 1 else None
-    announce(args, night_pictures(args, result, night, only))
-    return 0
+    return result, night, context, designs
 
 
 # ---------------------------------------------------------------------------- solver circuits
