@@ -16,16 +16,57 @@ from rich.console import Console
 from rich.table import Table
 
 REPORT_WIDTH = 100
+#: Narrowest report we lay out; a smaller COLUMNS is raised to this.
+MIN_WIDTH = 40
+
+
+class _TrimmedLines:
+    """A text stream that drops the spaces at the end of every line written through it
+    (tables pad their cells to the column width; the padding is noise in a file)."""
+
+    def __init__(self, target: TextIO) -> None:
+        self._target = target
+        self._pending = ""
+
+    def write(self, text: str) -> int:
+        lines = (self._pending + text).split("\n")
+        self._pending = lines.pop()
+        if lines:
+            self._target.write("\n".join(line.rstrip(" ") for line in lines) + "\n")
+        return len(text)
+
+    def flush(self) -> None:
+        self._target.flush()
+
+    def isatty(self) -> bool:
+        return hasattr(self._target, "isatty") and self._target.isatty()
+
+    def fileno(self) -> int:
+        return self._target.fileno()
+
+    @property
+    def encoding(self) -> str:
+        return getattr(self._target, "encoding", "utf-8") or "utf-8"
+
+
+def report_width(interactive: bool = False) -> int | None:
+    """The width to lay a report out in: ``COLUMNS`` when set (also when the output
+    is redirected), else 100 for a file or pipe and the terminal's own for a terminal."""
+    text = os.environ.get("COLUMNS", "").strip()
+    if text.isdigit() and int(text) > 0:
+        return max(MIN_WIDTH, int(text))
+    return None if interactive else REPORT_WIDTH
 
 
 def make_console(file: TextIO | None = None, width: int | None = None) -> Console:
-    """A console that honours NO_COLOR and stays readable at 100 columns."""
+    """A console that honours NO_COLOR and COLUMNS, stays readable at 100 columns and
+    writes no spaces at the ends of lines."""
     no_color = bool(os.environ.get("NO_COLOR"))
     target = file if file is not None else sys.stdout
     interactive = hasattr(target, "isatty") and target.isatty()
     return Console(
-        file=target,
-        width=width or (None if interactive else REPORT_WIDTH),
+        file=_TrimmedLines(target),
+        width=width or report_width(interactive),
         no_color=no_color,
         color_system=None if (no_color or not interactive) else "auto",
         highlight=False,

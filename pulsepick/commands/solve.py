@@ -142,8 +142,14 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     out.add_argument("--buylist", metavar="FILE.csv",
                      help="write the buy list of one circuit (of the whole build for several "
                           "lights)")
-    out.add_argument("--pick", type=int, default=1, metavar="N",
-                     help="the circuit for --buylist (default 1, the best)")
+    out.add_argument("--pick", type=int, default=None, metavar="N",
+                     help="the circuit for --buylist, the short block and --schematic "
+                          "(default 1, the best); with --detail, show only this one")
+    out.add_argument("--detail", action="store_true",
+                     help="the full report of every circuit (or of --pick N): figures from "
+                          "both engines, spread, drift, waveform, schematic")
+    out.add_argument("--schematic", action="store_true",
+                     help="draw the circuit's schematic in plain characters")
     out.add_argument("--force", action="store_true",
                      help="let --buylist, --plot and --report replace a file")
     out.add_argument("--jobs", type=int, metavar="N",
@@ -251,6 +257,8 @@ def run(args) -> int:
         raise RequestError("--spread-out applies to several lights (a several-lights phrase "
                            "or a design file)")
     req = request_from_args(args)
+    picked = args.pick is not None
+    args.pick = 1 if args.pick is None else args.pick
     jobs = default_jobs() if args.jobs is None else args.jobs
     if jobs < 1:
         raise RequestError(f"--jobs {jobs}: give a whole number of at least 1")
@@ -270,9 +278,15 @@ def run(args) -> int:
 
         dump_json(result_json(result, solve_cautions(req)))
     else:
+        from pulsepick.commands.solve_summary import render_detail, render_summary
+
         console = make_console()
-        render_report(console, result, buylist=args.buylist if result.success else None,
-                      pick=args.pick)
+        buylist = args.buylist if result.success else None
+        if args.detail:
+            render_detail(console, result, buylist=buylist, pick=args.pick, only=picked)
+        else:
+            render_summary(console, result, buylist=buylist, pick=args.pick,
+                           schematic=args.schematic)
     solve_pictures(args, result)
     if not result.success:
         _nothing_line(req.describe(), result.explanations)
@@ -347,8 +361,10 @@ def _bullet(console, text: str, indent: str = "  - ", hang: str = "    ") -> Non
     print_wrapped(console, text, indent=indent, hang=hang)
 
 
-def render_report(console, result, *, buylist: str | None = None, pick: int = 1) -> None:
-    """The terminal report of a solver result (readable at 100 columns, no colour needed)."""
+def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
+                  schematics: bool = False) -> None:
+    """The terminal report of a solver result (readable at 100 columns, no colour needed);
+    ``schematics`` draws each candidate."""
     from pulsepick.export import solve_cautions
     from pulsepick.render import simple_table
 
@@ -389,6 +405,12 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1)
     console.print()
     for c in result.candidates:
         _render_candidate(console, req, c)
+        if schematics:
+            from pulsepick.schematic import schematic_lines
+
+            for line in schematic_lines(c.design, c.parts):
+                console.print(f"  {line}", markup=False, highlight=False)
+            console.print()
         if c.rank == 1:
             _render_waveform(console, c)
     if buylist:
