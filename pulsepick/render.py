@@ -8,6 +8,7 @@ from __future__ import annotations
 import json
 import math
 import os
+import re
 import sys
 from typing import Any, TextIO
 
@@ -94,23 +95,50 @@ def dump_json(obj: Any, file: TextIO | None = None) -> None:
     target.write("\n")
 
 
+#: A cell that is one value with its unit ("4.7 kΩ", "+1.2 %", "2.7..3.3 s", "-"): such
+#: a column is never wrapped, so a value and its unit stay on one line.
+_VALUE_CELL = re.compile(r"^[-+±−~<>]?[\d.,]+((\.\.|-)[\d.,]+)?( ?\S{1,6})?$|^-$")
+
+
+def _is_value(cell: str) -> bool:
+    return bool(_VALUE_CELL.match(cell.strip())) and len(cell) <= 16
+
+
 def simple_table(title: str | None, columns: list[str], rows: list[list[str]],
                  justify: list[str] | None = None) -> Table:
     """A plain-bordered table that survives NO_COLOR and copy-paste."""
     table = Table(title=title, box=box.SIMPLE_HEAD, title_justify="left", pad_edge=False)
     for i, name in enumerate(columns):
-        table.add_column(name, justify=(justify[i] if justify else "left"))  # type: ignore[arg-type]
+        cells = [str(row[i]) for row in rows if i < len(row)]
+        values = [len(c) for c in cells if _is_value(c)]
+        side = justify[i] if justify else "left"
+        table.add_column(name, justify=side,  # type: ignore[arg-type]
+                         no_wrap=bool(cells) and len(values) == len(cells),
+                         min_width=max(values, default=None))
     for row in rows:
         table.add_row(*row)
     return table
 
 
-def print_wrapped(console: Console, text: str, indent: str = "  ", hang: str = "    ") -> None:
-    """Print a paragraph wrapped to the console width with a hanging indent."""
+#: A number and the unit after it ("3 s", "4.7 kΩ", "55 %"): wrapped text never
+#: breaks the line between them.
+_VALUE_UNIT = re.compile(r"(?<=\d) (?=(?:[pnuµmkMG]?(?:Ω|F|A|V|s|Hz|W|C|J|lx|lux|cd|h)|mcd|min"
+                         r"|%|°C|builds)(?!\w))")
+_GLUE = "\u00a0"  # textwrap breaks only at ASCII whitespace, so this joins two words
+
+
+def wrap_text(text: str, width: int, indent: str = "  ", hang: str = "    ") -> list[str]:
+    """``text`` wrapped to ``width`` with a hanging indent, values kept with their units."""
     import textwrap
 
-    width = max(40, (console.width or REPORT_WIDTH) - 1)
-    lines = textwrap.wrap(text, width=width, initial_indent=indent, subsequent_indent=hang,
+    glued = _VALUE_UNIT.sub(_GLUE, text)
+    lines = textwrap.wrap(glued, width=width, initial_indent=indent, subsequent_indent=hang,
                           break_long_words=False, break_on_hyphens=False)
-    for line in lines or [indent]:
+    return [line.replace(_GLUE, " ") for line in lines] or [indent.rstrip()]
+
+
+def print_wrapped(console: Console, text: str, indent: str = "  ", hang: str = "    ") -> None:
+    """Print a paragraph wrapped to the console width with a hanging indent."""
+    width = max(MIN_WIDTH, (console.width or REPORT_WIDTH) - 1)
+    for line in wrap_text(text, width, indent, hang):
         console.print(line, markup=False, highlight=False)

@@ -95,7 +95,7 @@ def test_check_known_figure():
 
 
 def test_unknown_keyword_is_refused():
-    with pytest.raises(RequestError, match="unknown keyword colour; accepted: .*every"):
+    with pytest.raises(RequestError, match=r"unknown keyword colour; accepted: .*every"):
         pp.solve("every 3 s", colour="red")
     with pytest.raises(RequestError, match="unknown keyword"):
         pp.check(core="schmitt", wires=3)

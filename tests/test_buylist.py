@@ -9,7 +9,6 @@ import math
 import pytest
 
 from pulsepick.cli import main
-from pulsepick.request import DEFAULT_SEED
 from pulsepick.export import (
     BUYLIST_COLUMNS,
     PROVENANCE_COLUMNS,
@@ -17,6 +16,7 @@ from pulsepick.export import (
     safe_cell,
     write_buylist_csv,
 )
+from pulsepick.request import DEFAULT_SEED
 
 QUICK = ["--cores", "timer555", "--stages", "direct", "--top", "1", "--builds", "200",
          "--jobs", "1"]
@@ -52,7 +52,7 @@ def test_header_first_bom_and_csv_reader(written):
     assert raw.startswith(b"\xef\xbb\xbf")  # UTF-8 byte-order mark (Unicode 15, section 23.8)
     text = raw.decode("utf-8-sig")
     first = text.splitlines()[0]
-    columns = BUYLIST_COLUMNS + (STOCK_COLUMN,) + PROVENANCE_COLUMNS
+    columns = (*BUYLIST_COLUMNS, STOCK_COLUMN, *PROVENANCE_COLUMNS)
     assert first == ",".join(columns)
     with written.open(encoding="utf-8-sig", newline="") as fh:
         rows = list(csv.DictReader(fh))
@@ -88,8 +88,8 @@ def test_every_column_is_neutralised():
     # formula starts listed by ref:owasp-csv-injection: = + - @ tab CR
     nasty = ["=HYPERLINK(\"x\")", "+1+1", "-2+3", "@SUM(A1)", "\tlead", "\rlead",
              "two\r\nlines", "one\nline", " =spaced"]
-    columns = BUYLIST_COLUMNS + (STOCK_COLUMN,) + PROVENANCE_COLUMNS
-    rows = [{c: nasty[i % len(nasty)] for i, c in enumerate(BUYLIST_COLUMNS + (STOCK_COLUMN,))}]
+    columns = (*BUYLIST_COLUMNS, STOCK_COLUMN, *PROVENANCE_COLUMNS)
+    rows = [{c: nasty[i % len(nasty)] for i, c in enumerate((*BUYLIST_COLUMNS, STOCK_COLUMN))}]
     prov = {c: nasty[i % len(nasty)] for i, c in enumerate(PROVENANCE_COLUMNS)}
     text = write_buylist_csv(rows, prov, stock=True)
     body = text.removeprefix("\ufeff")

@@ -10,8 +10,8 @@ import pytest
 from pulsepick.circuits.base import Topology, core_names, get_core, get_stage, stage_names
 from pulsepick.design import Design
 from pulsepick.engine.environment import ChipSpec, PartChoice
-from pulsepick.partslist import parts_list
 from pulsepick.parts.led import get_led
+from pulsepick.partslist import parts_list
 from pulsepick.schematic import schematic_lines, schematic_svg
 
 # Demo values of our own (a garden path marker), standard E-series values (ref:iec-60063)

@@ -57,6 +57,12 @@ def night_word(c) -> str:
     return {None: "-", True: "yes", False: "NO"}[lasts]
 
 
+def circuit_text(c) -> str:
+    """The circuit and, when the label does not say it, the chip family."""
+    label, family = c.design.topo.label(), c.design.chip.family
+    return label if label.startswith(family) else f"{label} on {family}"
+
+
 def parts_codes(c) -> str:
     """The resistors and capacitors as RKM codes, in designator order."""
     return " ".join(p.code for p in c.parts if p.kind in ("resistor", "capacitor"))
@@ -77,7 +83,7 @@ def ranked_table(result) -> Table:
         period = _eng(med if med is not None else c.figures["period_s"], "s")
         f = c.figures
         table.add_row(
-            str(c.rank), f"{c.design.topo.label()} on {c.design.chip.family}", parts_codes(c),
+            str(c.rank), circuit_text(c), parts_codes(c),
             period, band_text(p5, p95), "-" if yld is None else f"{yld * 100:.0f} %",
             _eng(f["flash_s"], "s"), _eng(f["led_peak_a"], "A"), night_word(c))
     return table
@@ -181,7 +187,9 @@ def render_block(console, req, c, *, schematic: bool = False) -> None:
             f"supply {_eng(f['supply_avg_a'], 'A')} average"]
     ref = c.reference_figures
     if ref is not None and math.isfinite(ref.get("period_s", math.nan)) and f["period_s"]:
-        figs.append(f"reference simulation period {(ref['period_s'] / f['period_s'] - 1) * 100:+.1f} %")
+        gap = (ref["period_s"] / f["period_s"] - 1) * 100
+        figs.append("reference simulation agrees within 0.1 %" if abs(gap) < 0.1 else
+                    f"reference simulation period {gap:+.1f} %")
     print_wrapped(console, "figures: " + ", ".join(figs), indent="  ", hang="    ")
     med, p5, p95, yld = _spread(c)
     if med is not None:
