@@ -411,6 +411,10 @@ def _values_summary(d: dict) -> str:
         return f"{d['series']}, {d['count']} values per decade"
     if "in_series" in d:
         return f"{d['value_eng']} ({d['code']}), in {', '.join(d['in_series']) or 'no series'}"
+    if isinstance(d.get("nearest"), dict):
+        n, b, a = d["nearest"], d["below"], d["above"]
+        return (f"nearest in {d['series']}: {n['value_eng']} ({n['code']}, "
+                f"{n['error_pct']:+.2f} %); below {b['code']}, above {a['code']}")
     return ", ".join(f"{k}" for k in d)
 
 
@@ -464,9 +468,9 @@ def _bands_rows(d: dict) -> list[dict]:
 def _values_rows(d: dict) -> list[dict]:
     if "mantissas" in d:
         return [{"series": d["series"], "mantissa": m} for m in d["mantissas"]]
-    if "nearest" in d:
+    if isinstance(d.get("nearest"), list):
         return list(d["nearest"])
-    return [d]
+    return [{k: v for k, v in d.items() if not isinstance(v, (dict, list))}]
 
 
 _ROWS = {"solve": _solve_rows, "check": _check_rows, "night": _night_rows, "day": _day_rows,
