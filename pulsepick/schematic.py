@@ -315,27 +315,35 @@ def schematic_svg(design, parts=None) -> str:
     with schemdraw.Drawing(show=False, canvas="svg") as d:
         d.config(fontsize=11, unit=2.5)
         if topo.core == "timer555":
-            ic = elm.Ic(pins=[elm.IcPin(name="DIS", pin="7", side="left"),
+            # left pins are listed bottom to top
+            ic = elm.Ic(pins=[elm.IcPin(name="TRG", pin="2", side="left"),
                               elm.IcPin(name="THR", pin="6", side="left"),
-                              elm.IcPin(name="TRG", pin="2", side="left"),
+                              elm.IcPin(name="DIS", pin="7", side="left"),
                               elm.IcPin(name="VDD", pin="8", side="top"),
                               elm.IcPin(name="RST", pin="4", side="top"),
                               elm.IcPin(name="GND", pin="1", side="bot"),
                               elm.IcPin(name="OUT", pin="3", side="right")],
-                        edgepadW=0.5, pinspacing=1.5).label(lab.chip, "bottom")
+                        size=(4, 6), pinspacing=2).label(two(lab.chip), "center")
             d += ic
-            d += elm.Line().at(ic.DIS).left().length(1.5)
+            d += elm.Line().at(ic.DIS).left().length(2)
             dis = d.here
-            d += elm.Resistor().up().label(two(lab.get("ra")))
+            d += elm.Dot()
+            d += elm.Resistor().at(dis).up().label(two(lab.get("ra")))
             d += elm.Vdd()
-            d += elm.Line().at(ic.THR).left().length(1.5)
-            d += elm.Resistor().to(dis).label(two(lab.get("rb")))
-            d += elm.Line().at(ic.TRG).left().length(1.5)
-            d += elm.Capacitor().down().label(two(lab.get("c1")))
+            d += elm.Resistor().at(dis).down().toy(ic.THR).label(two(lab.get("rb")))
+            thr = d.here
+            d += elm.Dot()
+            d += elm.Line().to(ic.THR)
+            d += elm.Line().at(thr).toy(ic.TRG)
+            trg = d.here
+            d += elm.Dot()
+            d += elm.Line().to(ic.TRG)
+            d += elm.Capacitor().at(trg).down().label(two(lab.get("c1")))
             d += elm.Ground()
-            d += elm.Line().at(ic.THR).left().length(0.01)
-            d += elm.Line().at(ic.VDD).up().length(0.5)
-            d += elm.Line().at(ic.RST).up().length(0.5)
+            d += elm.Line().at(ic.VDD).up().length(0.75)
+            d += elm.Vdd()
+            d += elm.Line().at(ic.RST).up().length(0.75)
+            d += elm.Vdd()
             d += elm.Ground().at(ic.GND)
             d += elm.Line().at(ic.OUT).right().length(1)
         else:
@@ -345,19 +353,19 @@ def schematic_svg(design, parts=None) -> str:
             d += elm.Ground()
             d += elm.Line().at(node).up().length(1.5)
             top = d.here
-            d += elm.Resistor().right().label(two(lab.get("r1")))
-            fb = d.here
+            d += (r1 := elm.Resistor().right().length(4).label(two(lab.get("r1"))))
             if topo.core == "schmitt-steered":
                 d += elm.Line().at(top).up().length(1.5)
-                d += elm.Resistor().right().length(2.5).label(lab.get("r2"))
-                diode = elm.Diode().right().length(2.5).label(lab.core_diode)
+                d += elm.Resistor().right().length(2).label(two(lab.get("r2")))
+                diode = elm.Diode().right().length(2).label(two(lab.core_diode))
                 d += diode.reverse() if topo.steer == "high" else diode
-                d += elm.Line().down().length(1.5)
+                d += elm.Line().down().toy(r1.end)
             d += (gate := logic.SchmittNot().at(node).right().label(lab.chip, "bottom"))
-            d += elm.Line().at(gate.out).right().length(0.5)
-            d += elm.Line().toy(fb)
-            d += elm.Line().tox(fb)
-            d += elm.Line().at(gate.out).right().length(1)
+            d += elm.Line().at(gate.out).tox(r1.end)
+            d += elm.Dot()
+            junction = d.here
+            d += elm.Line().at(junction).toy(r1.end)
+            d.here = junction
         if topo.buffered:
             d += logic.Not().right().label(lab.buffer, "bottom")
         drive = d.here
