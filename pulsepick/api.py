@@ -44,8 +44,12 @@ __all__ = ["Result", "bands", "check", "day", "night", "solve", "values"]
 #: The SI unit written after a plain number, by the option's placeholder word.
 _UNIT_OF_METAVAR = {"T": "s", "I": "A", "A": "A", "V": "V", "V|FULL..END": "V", "CD": "cd",
                     "KEY|C": "F"}
-#: Options the API leaves to itself (the output is the returned object).
-_NOT_OPTIONS = {"help", "json", "debug"}
+#: Options the API leaves to itself: the output is the returned object, and files are
+#: written from it (e.g. ``pulsepick.export.buylist_text(r.result)``), never as a side
+#: effect of a keyword.
+_NOT_OPTIONS = {"help", "json", "debug", "plot", "report", "buylist", "force", "detail",
+                "schematic", "no_drawing"}
+_NOT_OPTIONS_OF = {"solve": {"pick"}}  # solve's --pick chooses what to print or write
 #: Solved requests kept for a repeated call (results are seeded and reproducible).
 _SOLVE_CACHE: OrderedDict[str, Any] = OrderedDict()
 _SOLVE_CACHE_SIZE = 8
@@ -135,7 +139,7 @@ def _argv(command: str, arg: Any, options: dict[str, Any]) -> list[str]:
         for opt in action.option_strings:
             if opt.startswith("--") and not opt.startswith("--no-"):
                 name = opt[2:].replace("-", "_")
-                if name not in _NOT_OPTIONS:
+                if name not in _NOT_OPTIONS | _NOT_OPTIONS_OF.get(command, set()):
                     by_name[name] = (opt, action)
     unknown = sorted(set(options) - set(by_name))
     if unknown:

@@ -99,6 +99,10 @@ def test_unknown_keyword_is_refused():
         pp.solve("every 3 s", colour="red")
     with pytest.raises(RequestError, match="unknown keyword"):
         pp.check(core="schmitt", wires=3)
+    # files are written from the returned result, never as a side effect of a keyword
+    for word in ("buylist", "plot", "report", "json"):
+        with pytest.raises(RequestError, match=f"unknown keyword {word}"):
+            pp.solve("every 3 s", **{word: "x"})
 
 
 def test_to_frame():
