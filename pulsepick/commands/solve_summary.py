@@ -72,7 +72,8 @@ def ranked_table(result) -> Table:
     """The one summary table of the candidates."""
     table = Table(title=f"Ranked circuits ({result.evaluated:,} evaluated in "
                         f"{result.search_s:.2f} s; period: the median of the builds)",
-                  box=box.SIMPLE_HEAD, title_justify="left", pad_edge=False)
+                  box=box.SIMPLE_HEAD, title_justify="left", pad_edge=False,
+                  collapse_padding=True)
     table.add_column("#", justify="right", no_wrap=True)
     table.add_column("circuit", ratio=3)
     table.add_column("parts", ratio=2)
