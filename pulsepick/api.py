@@ -87,11 +87,9 @@ class Result:
         return _SUMMARIES[self.command](self.data)
 
     def __repr__(self) -> str:
-        return f"<pulsepick {self.command} {self._what()}: {self.summary()}>"
-
-    def _what(self) -> str:
         first = self.options.get("_arg")
-        return str(first) if first is not None else "(options)"
+        what = "" if first is None else f" {first}"
+        return f"<pulsepick {self.command}{what}: {self.summary()}>"
 
     def to_frame(self):
         """The candidates, the night, the days, the bands or the values as a table.

@@ -82,7 +82,7 @@ def test_check_night_bands_values_match_the_json(capsys):
     ]
     for r, argv in cases:
         assert r.to_dict() == _cli_json(capsys, argv), argv[0]
-        assert repr(r).startswith(f"<pulsepick {argv[0]} ")
+        assert repr(r).startswith(f"<pulsepick {argv[0]}") and repr(r).endswith(">")
 
 
 def test_check_known_figure():
