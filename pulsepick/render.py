@@ -37,6 +37,9 @@ class _TrimmedLines:
         return len(text)
 
     def flush(self) -> None:
+        if self._pending:  # a line without its end yet: never hold text back
+            self._target.write(self._pending)
+            self._pending = ""
         self._target.flush()
 
     def isatty(self) -> bool:
