@@ -84,7 +84,10 @@ class Result:
 
     def summary(self) -> str:
         """One line saying what was computed."""
-        return _SUMMARIES[self.command](self.data)
+        try:
+            return _SUMMARIES[self.command](self.data)
+        except (KeyError, TypeError, IndexError):  # another form (e.g. --size): its keys
+            return "keys " + ", ".join(list(self.data)[:8])
 
     def __repr__(self) -> str:
         first = self.options.get("_arg")
@@ -296,9 +299,12 @@ def night(design: str | None = None, **options: Any) -> Result:
     from pulsepick.commands import night as cmd
 
     args = _parse("night", design, options)
-    result, info, context, _ = cmd.compute(args)
-    return Result("night", _record(design, options), result,
-                  _json(cmd.result_json(result, info, context)))
+    out = cmd.compute(args)
+    if out.sized:
+        data = cmd.night_size.size_json(out.result, out.night, out.dates)
+    else:
+        data = cmd.result_json(out.result, out.night, out.context)
+    return Result("night", _record(design, options), out.result, _json(data))
 
 
 def day(**options: Any) -> Result:
@@ -314,8 +320,10 @@ def day(**options: Any) -> Result:
     from pulsepick.commands import day as cmd
 
     args = _parse("day", None, options)
-    result, info = cmd.compute(args)
-    return Result("day", _record(None, options), result, _json(cmd.result_json(result, info)))
+    out = cmd.compute(args)
+    if out.size is not None:
+        return Result("day", _record(None, options), out.size, _json(out.size))
+    return Result("day", _record(None, options), out.result, _json(cmd.day_json(out)))
 
 
 def bands(**options: Any) -> Result:
@@ -453,12 +461,16 @@ def _check_rows(d: dict) -> list[dict]:
 
 
 def _night_rows(d: dict) -> list[dict]:
+    if "timeline" not in d:
+        return [{k: v for k, v in d.items() if not isinstance(v, (dict, list))}]
     t = d["timeline"]
     n = len(t["t_s"])
     return [{k: t[k][i] for k in t} for i in range(n)]
 
 
 def _day_rows(d: dict) -> list[dict]:
+    if "days" not in d:
+        return [{k: v for k, v in d.items() if not isinstance(v, (dict, list))}]
     return [{k: v for k, v in day.items() if not isinstance(v, (list, dict))}
             for day in d["days"]]
 
