@@ -138,7 +138,9 @@ def _argv(command: str, arg: Any, options: dict[str, Any]) -> list[str]:
     by_name = {}
     for action in parser._actions:
         for opt in action.option_strings:
-            if opt.startswith("--") and not opt.startswith("--no-"):
+            negative = isinstance(action, argparse.BooleanOptionalAction) and \
+                opt.startswith("--no-")
+            if opt.startswith("--") and not negative:
                 name = opt[2:].replace("-", "_")
                 if name not in _NOT_OPTIONS | _NOT_OPTIONS_OF.get(command, set()):
                     by_name[name] = (opt, action)

@@ -114,3 +114,16 @@ def test_to_frame():
     night = pp.night(**CHECK, storage="5f-2v7", night="12h").to_frame()
     assert len(night) >= 10 and night["t_s"].iloc[0] == 0.0
     assert night["t_s"].iloc[-1] == pytest.approx(12 * 3600.0)
+
+
+def test_sizing_forms_match_the_json(capsys):
+    # night --size: 30 µA over 12 h + 20 % from 2.6 V to 1.8 V needs
+    # 30e-6 × 51840 / 0.8 = 1.944 F (hand)
+    r = pp.night(no_circuit=True, storage="5f-2v7", start="2.6V", stop_at="1.8V",
+                 storage_leak=0.0, extra_load=30e-6, night="12h", size=True)
+    cli = _cli_json(capsys, ["night", "--no-circuit", "--storage", "5f-2v7", "--start", "2.6V",
+                             "--stop-at", "1.8V", "--storage-leak", "0A", "--extra-load",
+                             "30uA", "--night", "12h", "--size"])
+    assert r.to_dict() == cli
+    assert r.to_dict()["min_capacitance_f"] == pytest.approx(1.944, rel=0.005)
+    assert repr(r).startswith("<pulsepick night: ")
