@@ -219,7 +219,7 @@ def solve(phrase: str | None = None, *, cache: bool = True, **options: Any) -> R
     from pulsepick.commands import solve as cmd
 
     args = _parse("solve", phrase, options)
-    key = json.dumps(_argv("solve", phrase, options))
+    key = _cache_key(_argv("solve", phrase, options), (phrase, options.get("stock")))
     if cache and key in _SOLVE_CACHE:
         result, data = _SOLVE_CACHE[key]
         _SOLVE_CACHE.move_to_end(key)
@@ -230,6 +230,19 @@ def solve(phrase: str | None = None, *, cache: bool = True, **options: Any) -> R
         while len(_SOLVE_CACHE) > _SOLVE_CACHE_SIZE:
             _SOLVE_CACHE.popitem(last=False)
     return Result("solve", _record(phrase, options), result, data)
+
+
+def _cache_key(argv: list[str], paths) -> str:
+    """The request's words and the state of the files it reads (a design file, a parts
+    drawer): an edited file is solved again."""
+    import os
+
+    stamps = []
+    for path in paths:
+        if isinstance(path, str) and os.path.isfile(path):
+            st = os.stat(path)
+            stamps.append([os.path.abspath(path), st.st_mtime_ns, st.st_size])
+    return json.dumps([argv, stamps])
 
 
 def _solve(args, cmd):

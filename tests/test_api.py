@@ -127,3 +127,19 @@ def test_sizing_forms_match_the_json(capsys):
     assert r.to_dict() == cli
     assert r.to_dict()["min_capacitance_f"] == pytest.approx(1.944, rel=0.005)
     assert repr(r).startswith("<pulsepick night: ")
+
+
+def test_an_edited_drawer_is_solved_again(tmp_path):
+    drawer = tmp_path / "drawer.csv"
+    # E6 values (IEC 60063, ref:iec-60063) of our own drawer
+    drawer.write_text("kind,value,qty\n" + "".join(
+        f"R,{m * d:g},5\n" for d in (1e3, 1e4, 1e5, 1e6) for m in (1.0, 2.2, 4.7))
+        + "".join(f"C,{m * d:g},5\n" for d in (1e-7, 1e-6) for m in (1.0, 2.2, 4.7)),
+        encoding="utf-8")
+    a = pp.solve("one flash every 3 s", stock=str(drawer), **SOLVE)
+    assert pp.solve("one flash every 3 s", stock=str(drawer), **SOLVE).result is a.result
+    import os
+
+    os.utime(drawer, ns=(1, 1))  # the file changed (its time stamp)
+    b = pp.solve("one flash every 3 s", stock=str(drawer), **SOLVE)
+    assert b.result is not a.result
