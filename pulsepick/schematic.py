@@ -219,7 +219,7 @@ def _stage_pulse(cv: _Canvas, lab: Labels, x0: int, y: int, topo) -> int:
     cv.put(xn + 3, y + 2, lab.stage_diode)
     _ground(cv, xn, y + 4)
     rs = lab.get("rs")
-    x1 = xn + max(len(lab.stage_diode) + 4, 6)
+    x1 = xn + len(lab.stage_diode) + 7
     if rs:
         x1 = max(x1, xn + len(rs) + 6)
         cv.put(xn + 2, y, f"[{rs}]")

@@ -28,9 +28,11 @@ def _designs():
         for buffered, lit, steer in itertools.product(buffers, lits, steers):
             names = [p.name for p in get_core(core).params + get_stage(stage).params]
             topo = Topology(core=core, stage=stage, buffered=buffered, lit=lit, steer=steer)
-            yield Design(topo=topo, values={n: VALUES[n] for n in names},
-                         chip=ChipSpec(family), parts=PartChoice(led=get_led("red")),
-                         supply_v=3.0)
+            values = {n: VALUES[n] for n in names}
+            # the pulse stage's series resistor is optional (0: left out)
+            for rs in ((VALUES["rs"], 0.0) if stage == "pulse" else (values["rs"],)):
+                yield Design(topo=topo, values={**values, "rs": rs}, chip=ChipSpec(family),
+                             parts=PartChoice(led=get_led("red")), supply_v=3.0)
 
 
 DESIGNS = list(_designs())
