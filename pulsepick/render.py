@@ -140,6 +140,12 @@ def wrap_text(text: str, width: int, indent: str = "  ", hang: str = "    ") -> 
     return [line.replace(_GLUE, " ") for line in lines] or [indent.rstrip()]
 
 
+def plot_columns(console: Console, used: int = 20, most: int = 72) -> int:
+    """Plot columns for a plain-character chart whose labels and margins take ``used``
+    columns: ``most`` at 100 columns, fewer on a narrower console (never under 24)."""
+    return max(24, min(most, (console.width or REPORT_WIDTH) - used))
+
+
 def print_wrapped(console: Console, text: str, indent: str = "  ", hang: str = "    ") -> None:
     """Print a paragraph wrapped to the console width with a hanging indent."""
     width = max(MIN_WIDTH, (console.width or REPORT_WIDTH) - 1)

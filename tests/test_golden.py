@@ -79,3 +79,12 @@ def test_value_never_parts_from_its_unit(capsys, monkeypatch):
     for before, line in itertools.pairwise(lines):
         if re.search(r"\d$", before.rstrip()):
             assert not unit.match(line), (before, line)
+
+
+@pytest.mark.parametrize("name", ["check", "night", "bands"])
+def test_reports_fit_sixty_columns(name, capsys, monkeypatch):
+    monkeypatch.setenv("COLUMNS", "60")
+    assert main(CASES[name]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert len(lines) > 20 and max(len(line) for line in lines) <= 60
+    assert all(line == line.rstrip() for line in lines)

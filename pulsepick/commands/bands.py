@@ -36,7 +36,13 @@ from pulsepick.commands.pictures import (
     oscillating_periods,
 )
 from pulsepick.errors import PulsepickError, RequestError
-from pulsepick.render import dump_json, make_console, print_wrapped, simple_table
+from pulsepick.render import (
+    dump_json,
+    make_console,
+    plot_columns,
+    print_wrapped,
+    simple_table,
+)
 from pulsepick.textplot import spread_lines
 from pulsepick.units import format_eng, format_rkm, parse_quantity, parse_range
 
@@ -259,7 +265,8 @@ def render(console, result: BandsResult) -> None:
     periods, not_drawn = oscillating_periods(cur)
     console.print("[bold]period over the builds, as specified[/bold]")
     for line in spread_lines(periods, p5_s=p5, p95_s=p95, target_s=result.target_period_s,
-                             yield_band=result.yield_band, not_drawn=not_drawn):
+                             yield_band=result.yield_band, not_drawn=not_drawn,
+                             width=plot_columns(console)):
         console.print(line, markup=False, highlight=False)
     console.print()
 

@@ -17,7 +17,13 @@ from pulsepick.commands.pictures import (
     check_pictures,
 )
 from pulsepick.design import Design
-from pulsepick.render import dump_json, make_console, print_wrapped, simple_table
+from pulsepick.render import (
+    dump_json,
+    make_console,
+    plot_columns,
+    print_wrapped,
+    simple_table,
+)
 from pulsepick.textplot import waveform_lines
 from pulsepick.units import format_eng, format_rkm
 
@@ -182,7 +188,8 @@ def _render_waveform(console, design: Design, ref) -> None:
     for line in waveform_lines(ref.trace["t_s"], ref.trace["vc_v"], ref.trace["led_a"],
                                vt_plus=float(np.ravel(env.vt_plus)[0]),
                                vt_minus=float(np.ravel(env.vt_minus)[0]),
-                               high_s=float(ref.figures.row()["high_s"])):
+                               high_s=float(ref.figures.row()["high_s"]),
+                               width=plot_columns(console)):
         console.print(line, markup=False)
 
 

@@ -39,7 +39,7 @@ from pulsepick.commands.pictures import (
 )
 from pulsepick.errors import RequestError
 from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS
-from pulsepick.render import dump_json, make_console, simple_table
+from pulsepick.render import dump_json, make_console, plot_columns, simple_table
 
 NAME = "night"
 SUMMARY = "run the storage through a night: when the light stops, or what is left at dawn"
@@ -780,7 +780,7 @@ def render_report(result: NightResult, night: dict, console,
                                "right"]))
         console.print()
 
-    for line in night_chart(result, night["dusk"]):
+    for line in night_chart(result, night["dusk"], plot_columns(console, _LABEL + 12)):
         console.print(Text(line))
     console.print()
 
@@ -801,10 +801,11 @@ _LIGHT_ROWS = 4
 _LABEL = 11  # width of the row labels
 
 
-def night_chart(result: NightResult, dusk: datetime | None) -> list[str]:
-    """A plain-character chart of the storage voltage and the light over the night."""
+def night_chart(result: NightResult, dusk: datetime | None,
+                cols: int = CHART_COLUMNS) -> list[str]:
+    """A plain-character chart of the storage voltage and the light over the night,
+    ``cols`` plot columns wide."""
     tl = result.timeline
-    cols = CHART_COLUMNS
     t_cols = np.linspace(0.0, result.duration_s, cols)
     runtime = result.duration_s if result.lasts_the_night else result.runtime_s
     on = t_cols <= runtime + 1e-9

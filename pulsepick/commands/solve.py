@@ -593,8 +593,11 @@ def _render_spread_drawing(console, s, target_s) -> None:
     p5, _, p95 = s.quantiles["period_s"]
     if periods.size == 0 or not (math.isfinite(p5) and math.isfinite(p95)):
         return
+    from pulsepick.render import plot_columns
+
     for line in spread_lines(periods, p5_s=p5, p95_s=p95, target_s=target_s,
-                             yield_band=s.yield_band, not_drawn=missing):
+                             yield_band=s.yield_band, not_drawn=missing,
+                             width=plot_columns(console)):
         console.print(f"  {line}", markup=False, highlight=False)
 
 
@@ -625,6 +628,7 @@ def _render_waveform(console, c) -> None:
     import numpy as np
 
     from pulsepick import textplot
+    from pulsepick.render import plot_columns
 
     ref = c.reference
     if ref is None or not ref.trace:
@@ -635,7 +639,8 @@ def _render_waveform(console, c) -> None:
     for line in textplot.waveform_lines(ref.trace["t_s"], ref.trace["vc_v"], ref.trace["led_a"],
                                         vt_plus=float(np.ravel(env.vt_plus)[0]),
                                         vt_minus=float(np.ravel(env.vt_minus)[0]),
-                                        high_s=high if high and math.isfinite(high) else None):
+                                        high_s=high if high and math.isfinite(high) else None,
+                                        width=plot_columns(console)):
         console.print(f"  {line}", markup=False)
     console.print()
 
