@@ -13,7 +13,7 @@ __version__ = "0.1.0"
 
 #: The Python API (see :mod:`pulsepick.api`), imported on first use so that the
 #: command line starts quickly.
-_API = ("solve", "check", "night", "day", "bands", "values", "Result")
+_API = ("solve", "check", "night", "day", "bands", "values", "calibrate", "retune", "Result")
 __all__ = ["__version__", *_API]
 
 

@@ -39,7 +39,8 @@ from typing import Any
 
 from pulsepick.errors import RequestError
 
-__all__ = ["Result", "bands", "check", "day", "night", "solve", "values"]
+__all__ = ["Result", "bands", "calibrate", "check", "day", "night", "retune", "solve",
+           "values"]
 
 #: The SI unit written after a plain number, by the option's placeholder word.
 _UNIT_OF_METAVAR = {"T": "s", "I": "A", "A": "A", "V": "V", "V|FULL..END": "V", "CD": "cd",
@@ -48,7 +49,7 @@ _UNIT_OF_METAVAR = {"T": "s", "I": "A", "A": "A", "V": "V", "V|FULL..END": "V", 
 #: written from it (e.g. ``pulsepick.export.buylist_text(r.result)``), never as a side
 #: effect of a keyword.
 _NOT_OPTIONS = {"help", "json", "debug", "plot", "report", "buylist", "force", "detail",
-                "schematic", "no_drawing"}
+                "schematic", "no_drawing", "save"}
 _NOT_OPTIONS_OF = {"solve": {"pick"}}  # solve's --pick chooses what to print or write
 #: Solved requests kept for a repeated call (results are seeded and reproducible).
 _SOLVE_CACHE: OrderedDict[str, Any] = OrderedDict()
@@ -246,21 +247,11 @@ def _cache_key(argv: list[str], paths) -> str:
 
 
 def _solve(args, cmd):
-    from pulsepick.export import result_json, solve_cautions
-    from pulsepick.solve import assess, default_jobs, solve_build
-    from pulsepick.solve import solve as solve_core
-
-    jobs = default_jobs() if args.jobs is None else args.jobs
-    if jobs < 1:
-        raise RequestError(f"jobs={jobs}: give a whole number of at least 1")
     if cmd._is_build(args):
-        breq, design = cmd.build_request_from_args(args)
-        extras = cmd._build_extras(design)
-        result = solve_build(breq, jobs=jobs)
-        return result, cmd.build_json(result, **extras)
-    req = cmd.request_from_args(args)
-    result = assess(solve_core(req, jobs=jobs), jobs=jobs)
-    return result, result_json(result, solve_cautions(req))
+        done = cmd.compute_build(args)
+        return done.result, _json(cmd.build_doc(done))
+    done = cmd.compute(args)
+    return done.result, _json(cmd.solve_json(done))
 
 
 @dataclass(frozen=True)
@@ -358,6 +349,43 @@ def bands(**options: Any) -> Result:
     return Result("bands", _record(None, options), result, _json(cmd.bands_json(result)))
 
 
+def calibrate(**options: Any) -> Result:
+    """Chip thresholds from a timed test oscillator (``pulsepick calibrate``).
+
+    ``.result`` is the ``--json`` document (as for :func:`values`).
+
+    Examples
+    --------
+    >>> import pulsepick as pp
+    >>> r = pp.calibrate(family="hc", supply="3V", recipe=True)  # a test oscillator to build
+    >>> r.to_dict()["family"], r.to_dict()["supply_v"]
+    ('hc', 3.0)
+    """
+    return _captured("calibrate", None, options)
+
+
+def retune(**options: Any) -> Result:
+    """Part changes that bring a built circuit back to its blink (``pulsepick retune``).
+
+    ``.result`` is the ``--json`` document (as for :func:`values`).
+    """
+    return _captured("retune", None, options)
+
+
+def _captured(command: str, arg: Any, options: dict[str, Any]) -> Result:
+    """Run a command with ``--json`` and keep its document."""
+    import importlib
+
+    cmd = importlib.import_module(f"pulsepick.commands.{command}")
+    args = _parse(command, arg, options)
+    args.json = True
+    buf = io.StringIO()
+    with contextlib.redirect_stdout(buf):
+        cmd.run(args)
+    data = json.loads(buf.getvalue())
+    return Result(command, _record(arg, options), data, data)
+
+
 def values(what: str | float | None = None, **options: Any) -> Result:
     """E-series values: a series, a decoded value, or picks (``pulsepick values``).
 
@@ -367,15 +395,7 @@ def values(what: str | float | None = None, **options: Any) -> Result:
     >>> pp.values("100n").to_dict()["value_f"]
     1e-07
     """
-    from pulsepick.commands import values as cmd
-
-    args = _parse("values", what, options)
-    args.json = True
-    buf = io.StringIO()
-    with contextlib.redirect_stdout(buf):
-        cmd.run(args)
-    data = json.loads(buf.getvalue())
-    return Result("values", _record(what, options), data, data)
+    return _captured("values", what, options)
 
 
 def _json(obj: Any) -> dict[str, Any]:
@@ -443,7 +463,12 @@ def _values_summary(d: dict) -> str:
     return ", ".join(f"{k}" for k in d)
 
 
-_SUMMARIES = {"solve": _solve_summary, "check": _check_summary, "night": _night_summary,
+def _doc_summary(d: dict) -> str:
+    return "keys " + ", ".join(list(d)[:8])
+
+
+_SUMMARIES = {"calibrate": _doc_summary, "retune": _doc_summary, "solve": _solve_summary,
+              "check": _check_summary, "night": _night_summary,
               "day": _day_summary, "bands": _bands_summary, "values": _values_summary}
 
 
@@ -502,5 +527,10 @@ def _values_rows(d: dict) -> list[dict]:
     return [{k: v for k, v in d.items() if not isinstance(v, (dict, list))}]
 
 
-_ROWS = {"solve": _solve_rows, "check": _check_rows, "night": _night_rows, "day": _day_rows,
+def _doc_rows(d: dict) -> list[dict]:
+    return [{k: v for k, v in d.items() if not isinstance(v, (dict, list))}]
+
+
+_ROWS = {"calibrate": _doc_rows, "retune": _doc_rows, "solve": _solve_rows,
+         "check": _check_rows, "night": _night_rows, "day": _day_rows,
          "bands": _bands_rows, "values": _values_rows}

@@ -233,7 +233,7 @@ def part_rows(lines, stock=None) -> list[dict[str, str]]:
     return rows
 
 
-def _today() -> str:
+def today() -> str:
     """Today's date (UTC, ISO 8601); ``SOURCE_DATE_EPOCH`` fixes it for reproducible files."""
     from datetime import UTC, datetime
 
@@ -272,7 +272,7 @@ def buylist_text(result, pick: int = 1) -> str:
         "seed": str(req.seed),
         "builds": str(req.builds),
         "circuit": f"candidate {c.rank}: {c.design.label()}, supply {c.design.supply_v:g} V",
-        "date": _today(),
+        "date": today(),
     }
     return write_buylist_csv(buylist_rows(c, req.stock), provenance,
                              stock=req.stock is not None)
@@ -300,7 +300,7 @@ def build_buylist_text(result, lines) -> str:
         "circuit": "; ".join(
             f"{li.name} = {li.pick.design.label()}, period "
             f"{li.pick.figures['period_s']:.3g} s" for li in result.lights),
-        "date": _today(),
+        "date": today(),
     }
     stock = stocks[0] if stocks else None
     return write_buylist_csv(part_rows(lines, stock), provenance, stock=stock is not None)

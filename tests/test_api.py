@@ -143,3 +143,21 @@ def test_an_edited_drawer_is_solved_again(tmp_path):
     os.utime(drawer, ns=(1, 1))  # the file changed (its time stamp)
     b = pp.solve("one flash every 3 s", stock=str(drawer), **SOLVE)
     assert b.result is not a.result
+
+
+def test_bench_loop_functions_match_the_json(capsys):
+    r = pp.retune(core="schmitt", r="2M2", c="1u", stage="pulse", cp="22u", rs=47,
+                  supply="3V", want="one flash every 3 s",
+                  measured_period="10 flashes in 39 s")
+    cli = _cli_json(capsys, ["retune", "--core", "schmitt", "--r", "2M2", "--c", "1u",
+                             "--stage", "pulse", "--cp", "22u", "--rs", "47", "--supply", "3V",
+                             "--want", "one flash every 3 s", "--measured-period",
+                             "10 flashes in 39 s"])
+    assert r.to_dict() == cli
+    # R1 alone sets the period of a plain Schmitt core: 2.2 MΩ x 3/3.9 (t ∝ R1·C1,
+    # ref:onsemi-mc14106b), within the 2 % a standard value allows
+    assert r.to_dict()["changes"][0]["values"]["r1_ohm"] == pytest.approx(2.2e6 * 3 / 3.9,
+                                                                          rel=0.02)
+    c = pp.calibrate(family="hc", supply="3V", recipe=True)
+    assert c.to_dict() == _cli_json(capsys, ["calibrate", "--family", "hc", "--supply", "3V",
+                                             "--recipe"])

@@ -51,6 +51,8 @@ SHAPES_NOTE = ("light: the --profile file, or an illustrative day shape that is 
                "a place and date")
 DEFAULT_NIGHT = "12h"
 DEFAULT_STOP = "1.8V"
+#: The day load when none is given (a design file with a dusk detector: its held draw).
+DEFAULT_DAY_LOAD = "0A"
 
 
 # --------------------------------------------------------------------------- shared options
@@ -189,7 +191,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     loads.add_argument("--night-load", metavar="I",
                        help="the blinker's average current at night, such as 30uA (default 0A; "
                             "or describe the circuit with the circuit options)")
-    loads.add_argument("--day-load", metavar="I", default="0A",
+    loads.add_argument("--day-load", metavar="I", default=DEFAULT_DAY_LOAD,
                        help="current drawn by day with the oscillators gated off, such as 2uA")
     out = parser.add_argument_group("output")
     out.add_argument("--json", action="store_true", help="write the result as JSON on stdout")
@@ -361,9 +363,13 @@ def compute(args: argparse.Namespace) -> DayRun:
     if args.bleed is not None:
         bleed = quantity(args.bleed, "resistance", "--bleed", "240k")
     v_top = max(storage.v_rated_v, clamp or 0.0, v_start, panel.voc_v)
-    night_load = (read_night_load(args, v_top) if design is None
-                  else day_design.design_load(args, design, storage, v_top))
     day_load = quantity(args.day_load, "current", "--day-load", "2uA", allow_zero=True)
+    if design is None:
+        night_load = read_night_load(args, v_top)
+    else:
+        night_load, held_a = day_design.design_loads(args, design, storage, v_top)
+        if args.day_load == DEFAULT_DAY_LOAD:
+            day_load = held_a  # the lights held off by the dusk detector
     result = simulate_days(
         storage, panel, diode, weather, night_load, window, v_start, days=days, clamp_v=clamp,
         bleed_ohm=bleed, day_load=day_load, stop_at_v=stop_at, leak_level=args.leakage,

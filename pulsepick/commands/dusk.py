@@ -49,6 +49,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     gate = parser.add_argument_group("sense gate")
     gate.add_argument("--family", choices=FAMILY_KEYS, default=None,
                       help="logic family of the Schmitt input that watches the panel (default hc)")
+    gate.add_argument("--chip", metavar="FILE.toml",
+                      help="your measured chip (a profile from 'pulsepick calibrate --save')")
     gate.add_argument("--supply", metavar="V", default=None,
                       help="storage voltage feeding the gate (default 2.5V)")
     gate.add_argument("--series", metavar="E", default="E24",
@@ -61,6 +63,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     """Read the options, solve the detector, print the report or JSON."""
     _apply_design(args)
+    family_given = args.family
     if args.family is None:
         args.family = "hc"
     if args.supply is None:
@@ -71,6 +74,10 @@ def run(args: argparse.Namespace) -> int:
     panel = read_panel(args)
     diode = get_diode(args.diode)
     family = get_family(args.family)
+    if args.chip:
+        from pulsepick.commands.circuit_options import family_from_profile
+
+        family = family_from_profile(args.chip, family_given)
     supply = quantity(args.supply, "voltage", "--supply", "2.5V")
     series = args.series.strip().upper()
     if series not in SERIES_NAMES:
