@@ -32,7 +32,7 @@ EXAMPLES = [
     "pulsepick dusk --panel 5v60ma --bleed 240k --family hc --supply 2.5V",
     "pulsepick dusk --panel 5v60ma --dusk-at 10lux --family hc --supply 2.5V --series E12",
     "pulsepick dusk --panel-voc 6V --panel-isc 100mA --dusk-at 20lux --diode si --json",
-    "pulsepick dusk examples/garden-path-markers.toml --dusk-at 10lux --panel-rsh 350k",
+    "pulsepick dusk examples/garden-path-markers.toml --dusk-at 20lux --panel-rsh 350k",
 ]
 
 
@@ -97,9 +97,8 @@ def run(args: argparse.Namespace) -> int:
         doc["turn_on_shunt_spread"] = shunt_json(spread)
         dump_json(doc)
     else:
-        console = make_console()
-        render_report(result, console)
-        console.print(shunt_line(spread, custom=result.panel.key == "custom"))
+        render_report(result, make_console(),
+                      shunt=shunt_line(spread, custom=result.panel.key == "custom"))
     return 0
 
 
@@ -215,8 +214,9 @@ def _lux(value: float) -> str:
     return "never" if not math.isfinite(value) else f"{value:.3g} lx"
 
 
-def render_report(r: DuskResult, console) -> None:
-    """Print the levels, the losses, the gating, warnings and cautions."""
+def render_report(r: DuskResult, console, shunt: str | None = None) -> None:
+    """Print the levels (with the ``shunt`` line on their spread under the table), the
+    losses, the gating, warnings and cautions."""
     from rich.text import Text
 
     console.print(Text(f"pulsepick dusk: {r.panel.name} as the light sensor, "
@@ -239,6 +239,8 @@ def render_report(r: DuskResult, console) -> None:
     ]
     console.print(simple_table("Light levels", ["", "panel voltage", "typical", "range"], rows,
                                justify=["left", "left", "right", "right"]))
+    if shunt:
+        console.print(shunt)
     if math.isfinite(r.hysteresis_lux):
         console.print(f"Hysteresis: {r.hysteresis_lux:.3g} lx (turn-off {r.hysteresis_ratio:.2f} "
                       "times the turn-on level).")

@@ -808,6 +808,10 @@ def compute_build(args) -> BuildRun:
     if advice is not None and advice.proposed_clamp_v is not None:
         extras["clamp_v"] = advice.proposed_clamp_v
         extras["clamp_w"] = advice.proposed_clamp_w
+    elif advice is not None and advice.clamp_v is not None and advice.clamp_needed:
+        # the file's own clamp is a part of the build: it goes in the buy list too
+        extras["clamp_v"] = advice.clamp_v
+        extras["clamp_w"] = advice.clamp_v * advice.isc_a
     result = solve_build(breq, jobs=jobs)
     offered = all(li.pick is not None for li in result.lights) and result.plan is not None
     return BuildRun(result, breq, design, extras, night, advice, offered)
