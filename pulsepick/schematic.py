@@ -43,22 +43,48 @@ def labels_of(design, parts) -> Labels:
     """The labels of ``design`` from its parts list (``PartLine`` tuple)."""
     by_param = {p.param: f"{p.ref} {p.code}" for p in parts if p.param}
     chip = next((p for p in parts if p.kind == "chip"), None)
-    diodes = [p for p in parts if p.kind == "diode"]
-    core_diode = stage_diode = ""
-    if design.topo.core == "schmitt-steered" and diodes:
-        core_diode = f"{diodes[0].ref} {diodes[0].code}"
-        diodes = diodes[1:]
-    if diodes:
-        stage_diode = f"{diodes[0].ref} {diodes[0].code}"
+    diodes = [p for p in parts if p.kind == "diode" and "dusk" not in p.role]
+    steer = [p for p in diodes if "steering" in p.role]
+    others = [p for p in diodes if p not in steer]
     led = next((p for p in parts if p.kind == "led"), None)
-    gate = "U1A" if chip is not None and chip.code != "timer555" else "U1"
+    switch = next((p for p in parts if p.kind == "transistor"), None)
+    timer = _core_form(design.topo) == "timer-chip"
     return Labels(
         by_param=by_param,
-        chip=f"{gate} {chip.code}" if chip is not None else "U1",
-        core_diode=core_diode, stage_diode=stage_diode,
+        chip=(f"{'U1' if timer else 'U1A'} {chip.code}" if chip is not None else "U1"),
+        core_diode=f"{steer[0].ref} {steer[0].code}" if steer else "",
+        stage_diode=f"{others[0].ref} {others[0].code}" if others else "",
         led=f"{led.ref} {led.code}" if led is not None else "LED1",
         buffer="U1B",
+        extra={"switch": f"{switch.ref} {switch.code}"} if switch is not None else {},
     )
+
+
+def _core_form(topo) -> str:
+    """How a core is drawn, from what the registry says about it: "timer" (an astable
+    timer chip), "gate-steered" (Schmitt gate with a diode branch) or "gate"."""
+    from pulsepick.circuits.base import get_core
+
+    core = get_core(topo.core)
+    if core.chip_kind == "timer":
+        return "timer-chip"
+    return "gate-steered" if core.timing_search == "steered" else "gate"
+
+
+def _stage_form(topo) -> str:
+    """How a stage is drawn, from its component values: "coupled" (a coupling capacitor),
+    "held" (a hold capacitor), "switched" (a base resistor) or "series" (the LED and its
+    series resistor alone)."""
+    from pulsepick.circuits.base import get_stage
+
+    names = {p.name for p in get_stage(topo.stage).params}
+    for key, form in (("cp", "coupled"), ("ch", "held"), ("rbase", "switched")):
+        if key in names:
+            return form
+    if names == {"rs"}:
+        return "series"
+    raise SchematicError(f"no drawing for the stage {topo.stage!r} (values "
+                         f"{', '.join(sorted(names))})")
 
 
 # ---------------------------------------------------------------------------- text canvas
@@ -116,7 +142,8 @@ def _ground(cv: _Canvas, x: int, y: int) -> None:
 def _core_schmitt(cv: _Canvas, lab: Labels, x0: int, y: int, topo) -> int:
     gate = f"|>o {lab.chip}"
     span = max(len(gate) + 6, len(lab.get("r1")) + 8)
-    if topo.core == "schmitt-steered":
+    steered = _core_form(topo) == "gate-steered"
+    if steered:
         diode = ("-|<-" if topo.steer == "high" else "->|-") + f" {lab.core_diode}"
         span = max(span, len(lab.get("r2")) + len(diode) + 8)
     x1 = x0 + span
@@ -126,7 +153,7 @@ def _core_schmitt(cv: _Canvas, lab: Labels, x0: int, y: int, topo) -> int:
     cv.put(x0 + 3, top - 1, lab.get("r1"))
     cv.hline(x0, x1, top)
     cv.put(x0 + 3, top, "[   ]")
-    if topo.core == "schmitt-steered":
+    if steered:
         top -= 3
         cv.put(x0 + 3, top - 1, f"{lab.get('r2')}  {diode.split(' ', 1)[1]}")
         cv.hline(x0, x1, top)
@@ -138,7 +165,7 @@ def _core_schmitt(cv: _Canvas, lab: Labels, x0: int, y: int, topo) -> int:
     cv.put(x1, top, "+")
     cv.put(x0, y, "+")
     cv.put(x1, y, "+")
-    if topo.core == "schmitt-steered":
+    if steered:
         cv.put(x0, y - 2, "+")
         cv.put(x1, y - 2, "+")
     row = _vcap(cv, x0, y + 2, lab.get("c1"))
@@ -255,17 +282,30 @@ def _stage_fade(cv: _Canvas, lab: Labels, x0: int, y: int, topo) -> int:
     return x1
 
 
-#: Text drawing of each core and stage, by registered name.
-TEXT_CORES = {"schmitt": _core_schmitt, "schmitt-steered": _core_schmitt,
-              "timer555": _core_timer555}
-TEXT_STAGES = {"direct": _stage_direct, "pulse": _stage_pulse, "fade": _stage_fade}
+def _stage_switch(cv: _Canvas, lab: Labels, x0: int, y: int, topo) -> int:
+    """An NPN low-side switch: base resistor from the driver, LED and series resistor
+    from the supply to the collector, emitter to ground."""
+    res = f"[{lab.get('rbase')}]"
+    xq = x0 + len(res) + 5
+    cv.hline(x0, xq - 2, y)
+    cv.put(x0 + 2, y, res)
+    cv.put(xq - 1, y, "|<")
+    cv.put(xq + 2, y, f"{lab.extra.get('switch', 'Q1')} (C up, E down)")
+    cv.put(xq - 1, y - 7, "VDD")
+    cv.vline(xq, y - 6, y - 1)
+    _vres(cv, xq, y - 5, lab.get("rs"))
+    cv.put(xq - 1, y - 3, "_V_")
+    cv.put(xq + 3, y - 3, f"{lab.led} (anode up)")
+    cv.vline(xq, y + 1, y + 1)
+    _ground(cv, xq, y + 2)
+    return xq
 
 
-def _drawer(table: dict, name: str, what: str):
-    if name not in table:
-        raise SchematicError(f"no drawing for the {what} {name!r}; drawn: "
-                             f"{', '.join(sorted(table))}")
-    return table[name]
+#: Text drawing of each form of core and stage (see _core_form and _stage_form).
+TEXT_CORES = {"gate": _core_schmitt, "gate-steered": _core_schmitt,
+              "timer-chip": _core_timer555}
+TEXT_STAGES = {"series": _stage_direct, "coupled": _stage_pulse, "held": _stage_fade,
+               "switched": _stage_switch}
 
 
 def schematic_lines(design, parts=None) -> list[str]:
@@ -281,10 +321,10 @@ def schematic_lines(design, parts=None) -> list[str]:
     lab = labels_of(design, parts)
     cv = _Canvas()
     y = 10
-    x = _drawer(TEXT_CORES, topo.core, "core")(cv, lab, 0, y, topo)
+    x = TEXT_CORES[_core_form(topo)](cv, lab, 0, y, topo)
     if topo.buffered:
         x = _buffer(cv, lab, x + 1, y)
-    _drawer(TEXT_STAGES, topo.stage, "stage")(cv, lab, x + 1, y, topo)
+    TEXT_STAGES[_stage_form(topo)](cv, lab, x + 1, y, topo)
     header = f"schematic: {topo.label()} ({design.chip.family}, {design.supply_v:g} V)"
     return [header, *cv.lines()]
 
@@ -306,15 +346,14 @@ def schematic_svg(design, parts=None) -> str:
         parts = parts_list(design)
     topo = design.topo
     lab = labels_of(design, parts)
-    _drawer(TEXT_CORES, topo.core, "core")
-    _drawer(TEXT_STAGES, topo.stage, "stage")
+    core_form, stage_form = _core_form(topo), _stage_form(topo)
 
     def two(text: str) -> str:
         return text.replace(" ", "\n", 1)
 
     with schemdraw.Drawing(show=False, canvas="svg") as d:
         d.config(fontsize=11, unit=2.5)
-        if topo.core == "timer555":
+        if core_form == "timer-chip":
             # left pins are listed bottom to top
             ic = elm.Ic(pins=[elm.IcPin(name="TRG", pin="2", side="left"),
                               elm.IcPin(name="THR", pin="6", side="left"),
@@ -354,7 +393,7 @@ def schematic_svg(design, parts=None) -> str:
             d += elm.Line().at(node).up().length(1.5)
             top = d.here
             d += (r1 := elm.Resistor().right().length(4).label(two(lab.get("r1"))))
-            if topo.core == "schmitt-steered":
+            if core_form == "gate-steered":
                 d += elm.Line().at(top).up().length(1.5)
                 d += elm.Resistor().right().length(2).label(two(lab.get("r2")))
                 diode = elm.Diode().right().length(2).label(two(lab.core_diode))
@@ -369,7 +408,7 @@ def schematic_svg(design, parts=None) -> str:
         if topo.buffered:
             d += logic.Not().right().label(lab.buffer, "bottom")
         drive = d.here
-        if topo.stage == "direct":
+        if stage_form == "series":
             d += elm.Resistor().right().label(two(lab.get("rs")))
             if topo.lit == "high":
                 d += elm.LED().down().label(lab.led)
@@ -377,7 +416,16 @@ def schematic_svg(design, parts=None) -> str:
             else:
                 d += elm.LED().up().reverse().label(lab.led)
                 d += elm.Vdd()
-        elif topo.stage == "pulse":
+        elif stage_form == "switched":
+            d += elm.Resistor().right().label(two(lab.get("rbase")))
+            d += (q := elm.BjtNpn(circle=True).right().anchor("base")
+                  .label(lab.extra.get("switch", "Q1"), "right"))
+            d += elm.Ground().at(q.emitter)
+            d += elm.Line().at(q.collector).up().length(0.5)
+            d += elm.LED().up().reverse().label(lab.led)
+            d += elm.Resistor().up().label(two(lab.get("rs")))
+            d += elm.Vdd()
+        elif stage_form == "coupled":
             d += elm.Capacitor().right().label(two(lab.get("cp")))
             d += elm.Dot()
             node = d.here

@@ -16,7 +16,7 @@ from pulsepick.schematic import schematic_lines, schematic_svg
 
 # Demo values of our own (a garden path marker), standard E-series values (ref:iec-60063)
 VALUES = {"r1": 2.2e6, "r2": 47e3, "ra": 1e6, "rb": 22e3, "c1": 1e-6, "rs": 220.0,
-          "cp": 22e-6, "ch": 100e-6}
+          "cp": 22e-6, "ch": 100e-6, "rbase": 2.2e3}
 
 
 def _designs():
@@ -30,7 +30,7 @@ def _designs():
             topo = Topology(core=core, stage=stage, buffered=buffered, lit=lit, steer=steer)
             values = {n: VALUES[n] for n in names}
             # the pulse stage's series resistor is optional (0: left out)
-            for rs in ((VALUES["rs"], 0.0) if stage == "pulse" else (values["rs"],)):
+            for rs in ((VALUES["rs"], 0.0) if "cp" in names else (values["rs"],)):
                 yield Design(topo=topo, values={**values, "rs": rs}, chip=ChipSpec(family),
                              parts=PartChoice(led=get_led("red")), supply_v=3.0)
 
@@ -41,7 +41,7 @@ DESIGNS = list(_designs())
 def test_every_core_and_stage_is_covered():
     seen = {(d.topo.core, d.topo.stage) for d in DESIGNS}
     assert seen == set(itertools.product(core_names(), stage_names()))
-    assert len(seen) == 9  # 3 cores x 3 stages registered today
+    assert len(seen) == len(core_names()) * len(stage_names()) >= 12  # 3 x 4 today
 
 
 @pytest.mark.parametrize("design", DESIGNS, ids=lambda d: d.topo.label())
@@ -55,7 +55,7 @@ def test_text_drawing_names_every_part(design):
     for p in parts:
         if p.kind in ("resistor", "capacitor"):
             assert f"{p.ref} {p.code}" in text, p.ref
-        elif p.kind in ("diode", "led"):
+        elif p.kind in ("diode", "led", "transistor"):
             assert p.ref in text, p.ref
     assert "GND" in text
     assert ("U1B" in text) == design.topo.buffered
@@ -70,7 +70,7 @@ def test_svg_drawing_names_every_part(design):
     assert root.tag.endswith("svg")
     texts = " ".join(t for t in root.itertext())
     for p in parts:
-        if p.kind in ("resistor", "capacitor", "diode", "led"):
+        if p.kind in ("resistor", "capacitor", "diode", "led", "transistor"):
             assert p.ref in texts, p.ref
 
 

@@ -324,7 +324,7 @@ def run(args) -> int:
     if args.json:
         dump_json(solve_json(done))
     else:
-        from pulsepick.commands.solve_summary import render_detail, render_summary
+        from pulsepick.commands.solve_summary import render_summary
 
         console = make_console()
         buylist = args.buylist if result.success else None
@@ -467,6 +467,22 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
         console.print(f"Buy list of circuit {pick} written to {buylist}", markup=False)
         console.print()
     _render_cautions(console, cautions)
+
+
+def render_detail(console, result, *, buylist: str | None = None, pick: int = 1,
+                  only: bool = False) -> None:
+    """The full report (every candidate, or only ``pick`` when ``only``), each with its
+    schematic."""
+    from dataclasses import replace
+
+    if only and result.success:
+        if pick > len(result.candidates):
+            from pulsepick.errors import RequestError
+
+            raise RequestError(f"--pick {pick}: there are {len(result.candidates)} circuits; "
+                               f"choose 1 to {len(result.candidates)}")
+        result = replace(result, candidates=(result.candidates[pick - 1],))
+    render_report(console, result, buylist=buylist, pick=pick, schematics=True)
 
 
 def crossing_text(result) -> str | None:

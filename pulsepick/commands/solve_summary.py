@@ -4,7 +4,7 @@ About 60 lines at 100 columns: the request and its assumptions folded into a few
 wrapped lines, the ranked circuits (parts as RKM codes, the builds' median period,
 P5..P95, yield, flash, peak and whether the circuit lasts the night), then the
 best circuit's parts, key figures, spread and warnings, and the cautions. The full
-report of every candidate is ``--detail`` (:func:`pulsepick.commands.solve.render_report`).
+report of every candidate is ``--detail`` (:func:`pulsepick.commands.solve.render_detail`).
 """
 
 from __future__ import annotations
@@ -19,9 +19,44 @@ _NUMERIC = ("period", "P5..P95", "yield", "flash", "peak", "night")
 
 
 def _eng(x, unit: str) -> str:
-    from pulsepick.commands.solve import _eng as eng
+    """Engineering text of a figure; times as the solver words them; "-" when missing."""
+    from pulsepick.solve import time_text
+    from pulsepick.units import format_eng
 
-    return eng(x, unit)
+    if x is None or not isinstance(x, (int, float)) or not math.isfinite(x):
+        return "-"
+    return time_text(x) if unit == "s" else format_eng(x, unit, 3)
+
+
+def _bullet(console, text: str, indent: str = "  - ", hang: str = "    ") -> None:
+    from pulsepick.render import print_wrapped
+
+    print_wrapped(console, text, indent=indent, hang=hang)
+
+
+def _render_cautions(console, cautions) -> None:
+    console.print("[bold]Cautions[/bold]")
+    for text in cautions:
+        _bullet(console, text)
+
+
+def _crossing_text(result) -> str | None:
+    """The crossing-current assumption of the Schmitt candidates, once for the report."""
+    texts = [(c.rank, c.crossing_current) for c in result.candidates if c.crossing_current]
+    if not texts:
+        return None
+    ranks = " ".join(f"#{r}" for r, _ in texts)
+    if len({t for _, t in texts}) == 1:
+        return f"crossing current of the Schmitt gate ({ranks}): {texts[0][1]}"
+    return (f"crossing current of the Schmitt gate ({ranks}): "
+            + "; ".join(f"#{r} {t}" for r, t in texts))
+
+
+def _source_words(key: str) -> str:
+    """A spread source in plain words ("chip thresholds", not the key)."""
+    from pulsepick.analysis.spread import SOURCE_LABELS
+
+    return SOURCE_LABELS.get(key, key.replace("_", " "))
 
 
 def _spread(c) -> tuple[float | None, float | None, float | None, float | None]:
@@ -121,7 +156,6 @@ def assumptions_text(req) -> str:
 def render_summary(console, result, *, buylist: str | None = None, pick: int = 1,
                    schematic: bool = False) -> None:
     """The compact report of a solver result (see the module docstring)."""
-    from pulsepick.commands.solve import _bullet, _render_cautions, crossing_text
     from pulsepick.export import solve_cautions
     from pulsepick.render import print_wrapped
 
@@ -149,7 +183,7 @@ def render_summary(console, result, *, buylist: str | None = None, pick: int = 1
     console.print()
     chosen = result.candidates[min(max(pick, 1), len(result.candidates)) - 1]
     render_block(console, req, chosen, schematic=schematic)
-    crossing = crossing_text(result)
+    crossing = _crossing_text(result)
     if crossing:
         print_wrapped(console, crossing, indent="  ", hang="    ")
     console.print()
@@ -165,7 +199,6 @@ def render_summary(console, result, *, buylist: str | None = None, pick: int = 1
 
 def render_block(console, req, c, *, schematic: bool = False) -> None:
     """One short block for a candidate: parts, key figures, spread, night, warnings."""
-    from pulsepick.commands.solve import _bullet
     from pulsepick.render import print_wrapped, simple_table
 
     d = c.design
@@ -199,8 +232,6 @@ def render_block(console, req, c, *, schematic: bool = False) -> None:
                 f"{yld * 100:.0f} % within ±{s.yield_band * 100:.0f} % over {s.builds:,} builds")
         shares = sorted(((v, k) for k, v in s.shares.items() if v > 0.05), reverse=True)
         if shares:
-            from pulsepick.commands.solve import _source_words
-
             text += "; spread mostly from " + ", ".join(
                 f"{_source_words(k)} {v * 100:.0f} %" for v, k in shares[:3])
         print_wrapped(console, text, indent="  ", hang="    ")
@@ -223,20 +254,3 @@ def render_block(console, req, c, *, schematic: bool = False) -> None:
         for line in schematic_lines(c.design, c.parts):
             console.print(f"  {line}", markup=False, highlight=False)
 
-
-def render_detail(console, result, *, buylist: str | None = None, pick: int = 1,
-                  only: bool = False) -> None:
-    """The full report (every candidate, or only ``pick`` when ``only``), each with its
-    schematic."""
-    from dataclasses import replace
-
-    from pulsepick.commands.solve import render_report
-
-    if only and result.success:
-        if pick > len(result.candidates):
-            from pulsepick.errors import RequestError
-
-            raise RequestError(f"--pick {pick}: there are {len(result.candidates)} circuits; "
-                               f"choose 1 to {len(result.candidates)}")
-        result = replace(result, candidates=(result.candidates[pick - 1],))
-    render_report(console, result, buylist=buylist, pick=pick, schematics=True)
