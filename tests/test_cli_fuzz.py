@@ -120,10 +120,10 @@ def _mutated_examples(name: str, value, options):
 @pytest.fixture(scope="module")
 def stand_ins():
     """Replace the expensive work with :func:`_skip` (restored afterwards)."""
-    import pulsepick.commands.bands as bands
-    import pulsepick.commands.day as day
-    import pulsepick.design as design
-    import pulsepick.solve as solve
+    bands = importlib.import_module("pulsepick.commands.bands")
+    day = importlib.import_module("pulsepick.commands.day")
+    design = importlib.import_module("pulsepick.design")
+    solve = importlib.import_module("pulsepick.solve")  # the module, not pulsepick.solve()
 
     mp = pytest.MonkeyPatch()
     mp.setattr(solve, "solve", _skip)

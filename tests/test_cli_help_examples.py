@@ -37,10 +37,9 @@ def test_examples_are_listed_in_help(capsys):
 @pytest.mark.parametrize(("name", "line"), EXAMPLES, ids=[f"{n}-{i}" for i, (n, _) in
                                                           enumerate(EXAMPLES)])
 def test_help_example_runs(name, line, tmp_path, monkeypatch, capsys):
-    import pulsepick.request
-
-    monkeypatch.setattr(pulsepick.request, "DEFAULT_TOP", 2)
-    monkeypatch.setattr(pulsepick.request, "DEFAULT_BUILDS", 300)
+    request = importlib.import_module("pulsepick.request")
+    monkeypatch.setattr(request, "DEFAULT_TOP", 2)
+    monkeypatch.setattr(request, "DEFAULT_BUILDS", 300)
     (tmp_path / "drawer.csv").write_text(
         "kind,value,qty,dielectric\nR,2M2,10\nR,1M,10\nR,470k,10\nR,220k,10\nR,100k,10\n"
         "R,47k,10\nR,22k,10\nR,10k,10\nR,4k7,10\nR,1k,10\nR,470,10\nR,220,10\nR,100,10\n"

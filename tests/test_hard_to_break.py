@@ -40,13 +40,15 @@ def refused(argv, capsys, *words):
 
 def _no_solve(monkeypatch):
     """Make any search fail loudly: the refusal must come before the work."""
-    import pulsepick.solve
+    import importlib
+
+    solver = importlib.import_module("pulsepick.solve")  # the module, not pulsepick.solve()
 
     def boom(*a, **k):
         raise AssertionError("the search ran")
 
-    monkeypatch.setattr(pulsepick.solve, "solve", boom)
-    monkeypatch.setattr(pulsepick.solve, "solve_build", boom)
+    monkeypatch.setattr(solver, "solve", boom)
+    monkeypatch.setattr(solver, "solve_build", boom)
 
 
 # ------------------------------------------------------------------------------- hangs
@@ -335,7 +337,7 @@ PAYLOADS = [
 
 
 def _bad_cell(cell: str) -> bool:
-    return cell.startswith(export.FORMULA_LEADS) or "\r" in cell or "\n" in cell
+    return cell.startswith(export.FORMULA_STARTS) or "\r" in cell or "\n" in cell
 
 
 @pytest.mark.parametrize("payload", PAYLOADS)
@@ -356,14 +358,13 @@ def test_injection_through_design_and_light_names(tmp_path, capsys):
     buy = tmp_path / "buy.csv"
     code, _, err = run(["solve", d, "--buylist", buy], capsys)
     assert code == 0, err
-    raw = buy.read_bytes().decode("utf-8")
-    lines = raw.split("\r\n")
+    raw = buy.read_bytes().decode("utf-8-sig")
     assert "\r" not in raw.replace("\r\n", "") and "\n" not in raw.replace("\r\n", "")
-    assert all(ln.startswith("#") for ln in lines[:2])
-    rows = list(csv.reader(io.StringIO("\r\n".join(lines[2:]), newline="")))
+    rows = list(csv.reader(io.StringIO(raw, newline="")))
     cells = [c for row in rows for c in row]
-    assert len(rows) > 3 and cells
+    assert rows[0][0] == "qty" and len(rows) > 3 and cells
     assert [c for c in cells if _bad_cell(c)] == []
+    assert any("=1+2" in c for c in cells) or any("cmd|" in c for c in cells)
 
 
 def test_tolerance_cell_is_not_a_formula():
@@ -373,8 +374,8 @@ def test_tolerance_cell_is_not_a_formula():
                     code="470m", series="E6", tolerance="-10/+20 %", tolerance_pct=20.0,
                     dielectric="supercapacitor", rating="2.7 V", role="storage",
                     note="x\r\n=note from a drawer")
-    out = io.StringIO()
-    export._write_rows(out, export.part_rows((part,)))
-    rows = list(csv.DictReader(io.StringIO(out.getvalue(), newline="")))
-    assert rows[0]["tolerance"] == "'-10/+20 %"
+    text = export.write_buylist_csv(export.part_rows((part,)), {"request": "=1+2"})
+    rows = list(csv.DictReader(io.StringIO(text.removeprefix("\ufeff"), newline="")))
+    assert rows[0]["tolerance"].endswith("10/+20 %") and not _bad_cell(rows[0]["tolerance"])
     assert "=note from a drawer" in rows[0]["notes"] and not _bad_cell(rows[0]["notes"])
+    assert rows[0]["request"] == "'=1+2"

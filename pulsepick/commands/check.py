@@ -18,7 +18,13 @@ from pulsepick.commands.pictures import (
 )
 from pulsepick.commands.wording import FIGURE_ROWS
 from pulsepick.design import Design
-from pulsepick.render import dump_json, make_console, print_wrapped, simple_table
+from pulsepick.render import (
+    dump_json,
+    make_console,
+    plot_columns,
+    print_wrapped,
+    simple_table,
+)
 from pulsepick.textplot import waveform_lines
 from pulsepick.units import format_eng, format_rkm
 
@@ -92,13 +98,7 @@ def run(args) -> int:
     figures = figures_dict(fig)
     reason = _status_reason(figures["status"], findings)
     if args.json:
-        out = dict(figures)
-        out["status"] = {"state": figures["status"], "reason": reason}
-        out["assumptions"] = {**assumed, "engine": engine,
-                              "circuit": design.topo.label(),
-                              "values": {k: v for k, v in design.values.items()}}
-        out["warnings"] = [f.text for f in findings]
-        dump_json(out)
+        dump_json(check_json(design, figures, reason, findings, assumed, engine))
         announce(args, check_pictures(args, design, figures, reason, findings, assumed, ref,
                                       engine))
         return 0
@@ -110,6 +110,17 @@ def run(args) -> int:
     _render_cautions(console)
     announce(args, check_pictures(args, design, figures, reason, findings, assumed, ref, engine))
     return 0
+
+
+def check_json(design: Design, figures: dict, reason, findings, assumed, engine: str) -> dict:
+    """The ``--json`` document of a check."""
+    out = dict(figures)
+    out["status"] = {"state": figures["status"], "reason": reason}
+    out["assumptions"] = {**assumed, "engine": engine,
+                          "circuit": design.topo.label(),
+                          "values": {k: v for k, v in design.values.items()}}
+    out["warnings"] = [f.text for f in findings]
+    return out
 
 
 def values_line(design: Design) -> str:
@@ -165,7 +176,8 @@ def _render_waveform(console, design: Design, ref) -> None:
     for line in waveform_lines(ref.trace["t_s"], ref.trace["vc_v"], ref.trace["led_a"],
                                vt_plus=float(np.ravel(env.vt_plus)[0]),
                                vt_minus=float(np.ravel(env.vt_minus)[0]),
-                               high_s=float(ref.figures.row()["high_s"])):
+                               high_s=float(ref.figures.row()["high_s"]),
+                               width=plot_columns(console)):
         console.print(line, markup=False)
 
 
