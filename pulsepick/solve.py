@@ -30,8 +30,8 @@ of about two, so they guide without pulling a stated aim off. The period term ad
 the expected squared spread of the period: resistor and capacitor tolerance, the
 capacitor's drift over -20..+50 °C and its aging (a class-2 ceramic is evaluated at
 the value left under its DC bias), the shift the guaranteed-maximum pin and capacitor
-leakage causes at 25 °C, the chip's thresholds (triangular between minimum, typical
-and maximum), and, for a supply range, the change from full to end of night (the
+leakage causes at 25 °C, the chip's thresholds (median at the typical value, limits
+at the 0.1 %/99.9 % points), and, for a supply range, the change from full to end of night (the
 others taken as uniform within their bounds: variance bound²/3).
 A timing network that stalls with the hot-end maximum leakage costs 3 more. An
 electrolytic timing capacitor, a resistor near the leakage limit or a chip with
@@ -165,6 +165,39 @@ class Candidate:
     timings_s: dict[str, float] = field(default_factory=dict)  # s, per assessment step
     crossing_current: str | None = None  # the crossing-current assumption (Schmitt chips)
     median_note: str | None = None  # why the median build is off the nominal, after assess()
+    aim_levels_v: tuple[float, float] | None = None  # V, (VT+, VT-) of the median chip aimed at
+
+    def _period_quantile(self, i: int) -> float | None:
+        if self.spread is None or "period_s" not in self.spread.quantiles:
+            return None
+        return float(self.spread.quantiles["period_s"][i])
+
+    @property
+    def median_period_s(self) -> float | None:
+        """s, the Monte Carlo median build's period (after assess())."""
+        return self._period_quantile(1)
+
+    @property
+    def p5_period_s(self) -> float | None:
+        """s, 5 % of the builds blink faster (after assess())."""
+        return self._period_quantile(0)
+
+    @property
+    def p95_period_s(self) -> float | None:
+        """s, 5 % of the builds blink slower (after assess())."""
+        return self._period_quantile(2)
+
+    @property
+    def yield_fraction(self) -> float | None:
+        """Share of the builds within the yield band of the asked period (after assess())."""
+        return None if self.spread is None else float(self.spread.yield_fraction)
+
+    @property
+    def lasts_night(self) -> bool | None:
+        """With a supply range: still running and lit at the end-of-night supply."""
+        if self.end_figures is None:
+            return None
+        return int(self.end_figures["status"]) == RUNS
 
     @property
     def reference_figures(self) -> dict[str, float] | None:
@@ -420,6 +453,7 @@ class _Searcher:
         self.long_target = t.period_s - self.short_target
         self.cap_var = np.array([_cap_var(k) for k in self.space.kinds])
         self.leak_margin = LEAK_MARGIN
+        self.aim: tuple[str, str] | None = None  # (core, steer) whose median chip is aimed at
 
     # -- bookkeeping ------------------------------------------------------------------------
     def _note_range(self, key: str, x) -> None:
@@ -459,7 +493,7 @@ class _Searcher:
     def set_chip_envs(self, env, model) -> None:
         """The environments the timing sweep needs: typical, leaky, and shifted thresholds.
 
-        The chip's threshold spread enters the period variance as triangular spreads of
+        The chip's threshold spread enters the period variance as split-normal spreads of
         VT+ and VT- (or the 555's threshold and trigger levels) between their datasheet
         minimum, typical and maximum at the design supply, propagated with finite
         differences; measured thresholds (the user's own chip) carry none.
@@ -724,7 +758,14 @@ class _Searcher:
     def _rows_env(self, vdd: np.ndarray):
         from pulsepick.engine.environment import PartChoice, make_env
 
-        return make_env(self.chip, PartChoice(led=self.req.led), vdd)
+        env, powered = make_env(self.chip, PartChoice(led=self.req.led), vdd)
+        if self.aim is None:
+            return env, powered
+        vtp, vtm = np.array(env.vt_plus, dtype=float), np.array(env.vt_minus, dtype=float)
+        for v in np.unique(vdd):
+            sel = vdd == v
+            vtp[sel], vtm[sel] = aim_levels(self.req, self.chip, *self.aim, supply_v=float(v))
+        return replace(env, vt_plus=vtp, vt_minus=vtm), powered
 
     def stage(self, topo: Topology, tim: _Timing, env) -> list[_Pick]:
         """Search one topology's stage values over the kept timing networks."""
@@ -886,9 +927,10 @@ def peak_needed(req: SolveRequest) -> float:
 
 
 def _triangular_var(low: float, mode: float, high: float) -> float:
-    """Variance of a triangular distribution (V²): (a² + b² + c² - ab - ac - bc)/18."""
-    a, b, c = low, high, mode
-    return max((a * a + b * b + c * c - a * b - a * c - b * c) / 18.0, 0.0)
+    """Variance (V²) of one threshold: the chip spread's split normal."""
+    from pulsepick.analysis.chipspread import split_normal_var
+
+    return split_normal_var(low, mode, high)
 
 
 def _slice_figures(f, sl: slice):
@@ -1030,6 +1072,34 @@ def _prechecks(req: SolveRequest) -> tuple[list[str], bool]:
 _TIMING_CACHE: dict[Any, Any] = {}
 
 
+def aim_levels(req: SolveRequest, chip, core: str, steer: str,
+               supply_v: float | None = None) -> tuple[float, float]:
+    """The switching levels (VT+, VT-) in V the search aims with: the median chip's.
+
+    The phase weights are the aimed long and short phases for a steered core or a 555
+    (the slow phase is the charging one for a fast low phase and for the 555), the
+    typical chip's own ratio for the plain core (see :mod:`pulsepick.analysis.median`).
+    """
+    from pulsepick.analysis.median import median_levels
+
+    t = req.targets
+    short = min(min(req.flash_s, 0.99 * t.period_s), t.period_s - min(req.flash_s,
+                                                                      0.99 * t.period_s))
+    long = t.period_s - short
+    v = req.supply_v if supply_v is None else supply_v
+    if core == "schmitt":
+        return median_levels(chip, v, None, None, req.seed)
+    if core == "schmitt-steered" and steer == "high":
+        return median_levels(chip, v, short, long, req.seed)
+    return median_levels(chip, v, long, short, req.seed)
+
+
+def aim_env(req: SolveRequest, chip, core: str, steer: str, env):
+    """``env`` with the median chip's levels (:func:`aim_levels`)."""
+    vtp, vtm = aim_levels(req, chip, core, steer)
+    return replace(env, vt_plus=np.asarray(vtp), vt_minus=np.asarray(vtm))
+
+
 def _search_task(req: SolveRequest, family: str, core: str, steer: str,
                  topos: list[Topology]) -> tuple[list[_Pick], int, dict[str, list[float]]]:
     """One search task (a core variant and its stage topologies) for one chip family."""
@@ -1039,6 +1109,8 @@ def _search_task(req: SolveRequest, family: str, core: str, steer: str,
     model = chip_model(chip)
     s = _Searcher(req, chip)
     env, _ = make_env(chip, PartChoice(led=req.led), req.supply_v)
+    env = aim_env(req, chip, core, steer, env)
+    s.aim = (core, steer)
     s.set_chip_envs(env, model)
     if _TIMING_CACHE.get("request") != req:
         _TIMING_CACHE.clear()
@@ -1146,6 +1218,7 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
                                                                             pick.values)),
             period_spread=math.sqrt(pick.var), end_figures=pick.end_figures,
             notes=_candidate_notes(req, design, figs, pick.end_figures),
+            aim_levels_v=aim_levels(req, design.chip, pick.topo.core, pick.topo.steer),
         ))
     running = [c for c in candidates if c.figures["status"] == RUNS]
     nearest = None
@@ -1443,13 +1516,19 @@ def _optional(module: str, name: str):
 
 
 def _assess_one(design, target_period_s: float, builds: int, seed: int,
-                supply_end_v: float | None, r_tols: dict[str, float]) -> dict[str, Any]:
-    """Reference run, spread, drift and warnings of one design (runs in a worker)."""
+                supply_end_v: float | None, r_tols: dict[str, float],
+                levels: tuple[float, float] | None = None) -> dict[str, Any]:
+    """Reference run, spread, drift and warnings of one design (runs in a worker).
+
+    ``levels`` (V): the reference run uses these switching levels (the median chip the
+    search aimed at), so that it checks the figures the candidate shows.
+    """
     from pulsepick.errors import PulsepickError
 
     out: dict[str, Any] = {"timings_s": {}, "warnings": []}
     t = time.perf_counter()
-    out["reference"] = design.reference()
+    kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
+    out["reference"] = design.reference(**kw)
     out["timings_s"]["reference"] = time.perf_counter() - t
     spread_fn = _optional("pulsepick.analysis.spread", "spread")
     if spread_fn is not None:
@@ -1517,7 +1596,7 @@ def median_note(design, spread) -> str | None:
     """A line when the Monte Carlo median period is off the nominal one, with the cause.
 
     The nominal figures use the chip's typical thresholds; the builds draw them between
-    the datasheet limits (triangular, mode at the typical value), so where the typical
+    the datasheet limits (median at the typical value), so where the typical
     value sits near one limit the median build moves away from the nominal. A supply
     range spread over the builds moves it too.
     """
@@ -1566,7 +1645,8 @@ def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
         return result
     # the spread uses the resistor tolerances of the parts list (the series asked for)
     args = [(c.design, req.targets.period_s, req.builds, req.seed, req.supply_end_v,
-             {p.param: p.tolerance_pct for p in c.parts if p.kind == "resistor"})
+             {p.param: p.tolerance_pct for p in c.parts if p.kind == "resistor"},
+             c.aim_levels_v)
             for c in cands]
     outputs: list[dict[str, Any] | None] = [None] * len(cands)
     if jobs > 1 and len(cands) > 1:

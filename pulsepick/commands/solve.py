@@ -374,18 +374,23 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1)
         _render_cautions(console, cautions)
         return
     rows = []
+    night = req.supply_end_v is not None
     for c in result.candidates:
         f = c.figures
-        rows.append([
+        row = [
             str(c.rank), c.design.topo.label(), c.design.chip.family,
-            _eng(f["period_s"], "s"), _eng(f["flash_s"], "s"), _eng(f["led_peak_a"], "A"),
-            _eng(f["supply_avg_a"], "A"), f"{c.score:.2f}",
-        ])
+            *_spread_cells(c, f), _eng(f["flash_s"], "s"),
+            _eng(f["led_peak_a"], "A"), _eng(f["supply_avg_a"], "A"),
+        ]
+        if night:
+            row.append({None: "-", True: "yes", False: "NO"}[c.lasts_night])
+        rows.append(row + [f"{c.score:.2f}"])
+    heads = ["#", "circuit", "chip", "period", "P5..P95", "±10 %", "flash",
+             "peak", "supply"] + (["night"] if night else []) + ["score"]
     console.print(simple_table(
         f"Ranked circuits ({result.evaluated:,} evaluated in {result.search_s:.2f} s; lower "
-        "score is better)",
-        ["#", "circuit", "chip", "period", "flash", "peak", "supply", "score"],
-        rows, justify=["right", "left", "left"] + ["right"] * 5))
+        "score is better; period: the median of the builds)",
+        heads, rows, justify=["right", "left", "left"] + ["right"] * (len(heads) - 3)))
     console.print()
     for c in result.candidates:
         _render_candidate(console, req, c)
@@ -395,6 +400,19 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1)
         console.print(f"Buy list of circuit {pick} written to {buylist}", markup=False)
         console.print()
     _render_cautions(console, cautions)
+
+
+def _spread_cells(c, f) -> list[str]:
+    """The builds' median period, P5..P95 and the share within the yield band; before
+    assess() the median chip's period and "-"."""
+    med = c.median_period_s
+    if med is None or not math.isfinite(med):
+        return [_eng(f["period_s"], "s"), "-", "-"]
+    lo, hi = _eng(c.p5_period_s, "s"), _eng(c.p95_period_s, "s")
+    lo_num, _, lo_unit = lo.partition(" ")
+    if lo_unit and hi.endswith(" " + lo_unit):
+        lo = lo_num
+    return [_eng(med, "s"), f"{lo}..{hi}", f"{c.yield_fraction:.0%}"]
 
 
 def crossing_text(result) -> str | None:
@@ -494,7 +512,7 @@ def _render_candidate(console, req, c) -> None:
         rows.append([word, aim_text, _fig_text(key, fast, unit), _pct(err),
                      _fig_text(key, refv, unit) if ref else "-", agree])
     console.print(simple_table(
-        "figures at the design supply (* assumed aim)",
+        "figures of the median chip at the design supply (* assumed aim)",
         ["", "aim", "fast engine", "error", "reference", "ref vs fast"], rows,
         justify=["left", "right", "right", "right", "right", "right"]))
     if c.reference is not None and not c.reference.success:
