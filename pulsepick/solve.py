@@ -47,12 +47,15 @@ comes within a factor of ten of the current that moves it at a threshold (chargi
 at VT+, discharging at VT-; common practice), checked on the bare
 timing network and again with the phases as the LED stage's load stretches them.
 
-The nominal figures use the chip's typical thresholds. The Monte Carlo spread draws
-them between the datasheet limits, so where the typical value sits near one limit
-(HC VT+ at 3 V) the median build is off the nominal; :func:`assess` says so in
-``Candidate.median_note`` rather than centring the search on the spread model (the
-datasheet typical is the best single estimate of a part; the limits are guarantees
-over process and temperature).
+The search aims at the median build, not the typical chip: every network is evaluated
+with the switching levels of the median chip of its core (:func:`aim_levels`,
+:mod:`pulsepick.analysis.median`). The Monte Carlo spread draws the thresholds with the
+typical value as the median and the limits as the 0.1 %/99.9 % points; the period is
+non-linear in them and the hysteresis window cuts the draw, so where the typical value
+sits near one limit (HC VT+ at 3 V) the typical chip's period is several per cent off
+the median build's. The candidate's figures are the median chip's, and the reference
+engine checks them at the same levels; :func:`assess` adds a ``median_note`` when the
+Monte Carlo median still moves off them (a supply range, lopsided parts).
 
 The best circuit of each different topology (core and stage) is offered, so the
 list is not five near-copies, and each is verified with the reference engine (see
@@ -1559,7 +1562,10 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
     if assumptions_fn is not None and not design.chip.is_timer:
         out["crossing_current"] = assumptions_fn(design).get("crossing_current")
     if out.get("spread") is not None:
-        out["median_note"] = median_note(design, out["spread"])
+        aimed = None
+        if levels is not None:
+            aimed = float(np.ravel(design.fast(**kw).period_s)[0])
+        out["median_note"] = median_note(design, out["spread"], aimed)
     return out
 
 
@@ -1592,16 +1598,19 @@ def _thresholds_off_centre(design) -> bool:
     return False
 
 
-def median_note(design, spread) -> str | None:
+def median_note(design, spread, aimed_period_s: float | None = None) -> str | None:
     """A line when the Monte Carlo median period is off the nominal one, with the cause.
 
-    The nominal figures use the chip's typical thresholds; the builds draw them between
-    the datasheet limits (median at the typical value), so where the typical
-    value sits near one limit the median build moves away from the nominal. A supply
-    range spread over the builds moves it too.
+    The nominal figures use the chip's typical thresholds (or, with ``aimed_period_s``,
+    the median chip the solver aimed at); the builds draw them with the typical value
+    as the median, so where the typical value sits near one limit the median build
+    moves away from the typical chip's. A supply range spread over the builds moves it
+    too.
     """
     p50 = spread.quantiles.get("period_s", (math.nan,) * 3)[1]
     nominal = spread.nominal.get("period_s", math.nan)
+    if aimed_period_s is not None:
+        nominal = aimed_period_s
     if not (math.isfinite(p50) and math.isfinite(nominal) and nominal > 0):
         return None
     shift = p50 / nominal - 1.0
@@ -1611,7 +1620,8 @@ def median_note(design, spread) -> str | None:
             f"{time_text(nominal)})")
     causes = []
     shares = spread.shares
-    if _thresholds_off_centre(design) and shares.get("chip_thresholds", 0.0) > 0:
+    if (aimed_period_s is None and _thresholds_off_centre(design)
+            and shares.get("chip_thresholds", 0.0) > 0):
         causes.append("the chip's typical thresholds sit off-centre in its datasheet limits "
                       "(the builds draw them between the minimum and maximum); measure your "
                       "chip's thresholds and give --vt-plus and --vt-minus to centre on it")
@@ -1924,7 +1934,9 @@ def _r_tols(c: Candidate) -> dict[str, float] | None:
 def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float]) -> Candidate:
     """The candidate with new timing values: figures, errors and parts follow."""
     design = replace(c.design, values=dict(values))
-    figs = design.fast().row(0)
+    kw = {} if c.aim_levels_v is None else {"vt_plus": c.aim_levels_v[0],
+                                            "vt_minus": c.aim_levels_v[1]}
+    figs = design.fast(**kw).row(0)
     errors = {key: (figs[key] / target - 1.0 if np.isfinite(figs[key]) else math.nan)
               for key, (target, _) in req.aims().items()}
     return replace(c, design=design, figures=figs, errors=errors,
