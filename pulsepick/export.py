@@ -88,6 +88,7 @@ def candidate_json(c) -> dict[str, Any]:
         "p95_period_s": _opt(c.p95_period_s),
         "yield": _opt(c.yield_fraction),
         "lasts_night": c.lasts_night,
+        "misses": list(c.misses),
         "aim_levels_v": None if c.aim_levels_v is None else list(c.aim_levels_v),
         "median_note": c.median_note,
     }

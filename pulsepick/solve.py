@@ -169,6 +169,7 @@ class Candidate:
     crossing_current: str | None = None  # the crossing-current assumption (Schmitt chips)
     median_note: str | None = None  # why the median build is off the nominal, after assess()
     aim_levels_v: tuple[float, float] | None = None  # V, (VT+, VT-) of the median chip aimed at
+    misses: tuple[str, ...] = ()  # aimed figures missed by more than MISS_FACTOR (flagged)
 
     def _period_quantile(self, i: int) -> float | None:
         if self.spread is None or "period_s" not in self.spread.quantiles:
@@ -371,6 +372,29 @@ def _best_per_group(cost: np.ndarray, group: np.ndarray, k: int, total: int) -> 
     first = np.maximum.accumulate(np.where(start, np.arange(g.size), 0))
     keep = order[(np.arange(g.size) - first) < k]
     return keep[np.argsort(cost[keep], kind="stable")[:total]]
+
+
+#: A shown figure further than this factor from its aim is a miss (flagged, and shown
+#: only when nothing closer exists; design choice).
+MISS_FACTOR = 2.0
+#: Figures held to MISS_FACTOR: the flash and the brightness aim.
+MISS_KEYS = ("flash_s", "led_peak_a", "effective_a", "effective_mcd")
+_MISS_WORDS = {"flash_s": "flash", "led_peak_a": "peak", "effective_a": "effective",
+               "effective_mcd": "intensity"}
+
+
+def misses(req: SolveRequest, figs: dict[str, float]) -> tuple[str, ...]:
+    """The aimed flash/brightness figures of ``figs`` off their aim by more than
+    ``MISS_FACTOR``, as short texts ("flash 2.24 s")."""
+    out = []
+    for key, (target, _) in req.aims().items():
+        if key not in MISS_KEYS:
+            continue
+        got = float(figs.get(key, math.nan))
+        if not (math.isfinite(got) and got > 0 and target > 0) or \
+                abs(math.log(got / target)) > math.log(MISS_FACTOR):
+            out.append(f"{_MISS_WORDS[key]} {figure_text(key, got)}")
+    return tuple(out)
 
 
 #: LED stages whose flash is a short pulse (a datasheet's pulsed current limit may apply).
@@ -1181,6 +1205,11 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
             old = seen.get(key)
             seen[key] = [min(lo, old[0]), max(hi, old[1])] if old else [lo, hi]
     picks.sort(key=lambda p: p.cost)
+    # a circuit whose flash or brightness misses its aim by more than a factor of two is
+    # shown only when nothing closer exists (and is then flagged)
+    near = [p for p in picks if not misses(req, p.figures)]
+    if near:
+        picks = near
 
     # diversity: the best of each topology (core and stage) first, then the next best
     chosen: list[_Pick] = []
@@ -1203,7 +1232,16 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
                 chosen.append(pick)
     chosen.sort(key=lambda p: p.cost)
 
+    from pulsepick.analysis.ratings import over_rating
     from pulsepick.design import Design
+
+    def _over(pick: _Pick) -> bool:
+        d = Design(pick.topo, pick.values, _chip(req, pick.family), PartChoice(led=req.led),
+                   req.supply_v)
+        return over_rating(d, float(pick.figures["led_peak_a"]))
+
+    # a circuit with a current over a rating (the LED's, a gate pin's) never ranks first
+    chosen.sort(key=_over)
 
     aims = req.aims()
     candidates = []
@@ -1222,6 +1260,7 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
             period_spread=math.sqrt(pick.var), end_figures=pick.end_figures,
             notes=_candidate_notes(req, design, figs, pick.end_figures),
             aim_levels_v=aim_levels(req, design.chip, pick.topo.core, pick.topo.steer),
+            misses=misses(req, figs),
         ))
     running = [c for c in candidates if c.figures["status"] == RUNS]
     nearest = None
@@ -1555,7 +1594,7 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
     checks_fn = _optional("pulsepick.analysis.checks", "circuit_warnings")
     if checks_fn is not None:
         try:
-            out["warnings"].extend(checks_fn(design))
+            out["warnings"].extend(checks_fn(design, levels=levels))
         except PulsepickError as err:
             out["warnings"].append(f"checks: {err}")
     assumptions_fn = _optional("pulsepick.analysis.checks", "assumptions")

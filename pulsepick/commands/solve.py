@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import math
+import re
 
 NAME = "solve"
 SUMMARY = "find standard parts for a wanted blink: ranked circuits, spread, drift, buy list"
@@ -377,8 +378,11 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1)
     night = req.supply_end_v is not None
     for c in result.candidates:
         f = c.figures
+        label = c.design.topo.label()
+        if c.misses:
+            label += " ! " + ", ".join(c.misses)
         row = [
-            str(c.rank), c.design.topo.label(), c.design.chip.family,
+            str(c.rank), label, c.design.chip.family,
             *_spread_cells(c, f), _eng(f["flash_s"], "s"),
             _eng(f["led_peak_a"], "A"), _eng(f["supply_avg_a"], "A"),
         ]
@@ -423,6 +427,13 @@ def crossing_text(result) -> str | None:
     ranks = " ".join(f"#{r}" for r, _ in texts)
     if len({t for _, t in texts}) == 1:
         return f"crossing current of the Schmitt gate ({ranks}): {texts[0][1]}"
+    # one label and one explanation, the figure of each candidate beside its rank
+    parts = [re.match(r"^(ESTIMATE|measured:) (\S+ \S+)(.*)$", t) for _, t in texts]
+    if all(parts) and len({(m.group(1), m.group(3)) for m in parts}) == 1:
+        figures = ", ".join(f"#{r} {m.group(2)}" for (r, _), m in zip(texts, parts,
+                                                                         strict=True))
+        return (f"crossing current of the Schmitt gate: {parts[0].group(1)} {figures}"
+                f"{parts[0].group(3)}")
     return (f"crossing current of the Schmitt gate ({ranks}): "
             + "; ".join(f"#{r} {t}" for r, t in texts))
 
