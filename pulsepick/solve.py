@@ -374,6 +374,10 @@ def _best_per_group(cost: np.ndarray, group: np.ndarray, k: int, total: int) -> 
     return keep[np.argsort(cost[keep], kind="stable")[:total]]
 
 
+#: Cost per step of the timing capacitor's size/cost class (small 0, large 1, bulky or
+#: rare 2; pulsepick.parts.capsize) by ``--prefer`` (design choice: "balanced" breaks
+#: ties between otherwise equal circuits, "compact" outweighs a few per cent of fit).
+PREFER_WEIGHTS = {"figures": 0.0, "balanced": 1.0, "compact": 5.0}
 #: A shown figure further than this factor from its aim is a miss (flagged, and shown
 #: only when nothing closer exists; design choice).
 MISS_FACTOR = 2.0
@@ -516,6 +520,20 @@ class _Searcher:
                 k = get_cap_kind(key)
                 g[sel] = k.leak_conductance(c[sel], pick_voltage_rating(k, self.v), which=which)
         return g
+
+    def _size_cost(self, c: np.ndarray, kind: np.ndarray) -> np.ndarray:
+        """Cost of the timing capacitor's size/cost class, weighted by ``--prefer``."""
+        from pulsepick.parts.capsize import size_rank
+
+        weight = PREFER_WEIGHTS[self.req.prefer]
+        out = np.zeros(np.shape(c))
+        if weight == 0:
+            return out
+        for i, key in enumerate(self.space.kinds):
+            sel = kind == i
+            if np.any(sel):
+                out[sel] = weight * size_rank(key, c[sel])
+        return out
 
     def set_chip_envs(self, env, model) -> None:
         """The environments the timing sweep needs: typical, leaky, and shifted thresholds.
@@ -661,7 +679,7 @@ class _Searcher:
                 slope = np.log((a + b) / period) / step
             slope = np.where((st4 == RUNS) & np.isfinite(slope), slope, 0.0)
             var = var + slope**2 * chip_var
-        penalty = np.where(st3 == RUNS, 0.0, PENALTY_HOT_LEAK)
+        penalty = np.where(st3 == RUNS, 0.0, PENALTY_HOT_LEAK) + self._size_cost(c, kind)
         t = self.req.targets
         cost = (_log_err(period, t.period_s) ** 2 + var) / SIGMA**2
         cost = cost + penalty
@@ -871,6 +889,10 @@ class _Searcher:
                 continue
             breakdown = {k: float(np.asarray(v).reshape(-1)[i]) for k, v in parts.items()}
             breakdown["night"] = float(night[i])
+            kind_i = np.array([int(tim.kind[t_idx[i]])])
+            size = float(self._size_cost(np.array([values["c1"]]), kind_i)[0])
+            breakdown["size"] = size
+            breakdown["spread"] -= size
             picks.append(_Pick(
                 cost=float(cost[i]), topo=topo, family=self.chip.family, values=values,
                 kind=self.space.kinds[int(tim.kind[t_idx[i]])], var=float(tim.var[t_idx[i]]),

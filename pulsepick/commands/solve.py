@@ -114,6 +114,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     ctx.add_argument("--cores", metavar="LIST",
                      help=f"oscillator cores to search, a comma list of "
                           f"{', '.join(CORE_CHOICES)} (default all)")
+    ctx.add_argument("--prefer", metavar="WHAT",
+                     help="how the ranking weighs a capacitor's size and cost class: "
+                          "figures (not at all), balanced (between otherwise equal "
+                          "circuits) or compact (strongly); default balanced")
     ctx.add_argument("--stock", metavar="FILE.csv",
                      help="pick only parts from your drawer: a CSV with columns "
                           "kind,value[,qty][,dielectric], e.g. 'R,4k7,10' or "
@@ -220,6 +224,7 @@ def request_from_args(args):
         timing_cap=args.timing_cap, max_r=args.max_r, min_r=args.min_r,
         cap_range=args.cap_range, buffered=args.buffered, stages=args.stages,
         cores=args.cores, stock=args.stock, top=args.top, builds=args.builds, seed=args.seed,
+        prefer=args.prefer,
     )
     if overrides:
         from dataclasses import replace
