@@ -376,8 +376,9 @@ def _best_per_group(cost: np.ndarray, group: np.ndarray, k: int, total: int) -> 
 
 #: Cost per step of the timing capacitor's size/cost class (small 0, large 1, bulky or
 #: rare 2; pulsepick.parts.capsize) by ``--prefer`` (design choice: "balanced" breaks
-#: ties between otherwise equal circuits, "compact" outweighs a few per cent of fit).
-PREFER_WEIGHTS = {"figures": 0.0, "balanced": 1.0, "compact": 5.0}
+#: ties between otherwise equal circuits like one more part, "compact" outweighs a few
+#: per cent of fit and a wider spread).
+PREFER_WEIGHTS = {"figures": 0.0, "balanced": 0.1, "compact": 2.0}
 #: A shown figure further than this factor from its aim is a miss (flagged, and shown
 #: only when nothing closer exists; design choice).
 MISS_FACTOR = 2.0

@@ -268,8 +268,9 @@ def test_solver_aims_at_the_median_build():
     # NXP 74HC1G14, ref:nxp-74hc1g14): the typical value sits near the minimum, so the typical
     # chip's period is off the builds' median; the solver aims at the median build. Target:
     # the Monte Carlo median within 3 % of the asked 3 s.
+    # 2,000 builds (the default): the median's sampling error is under 1 % here
     req = make_request("one flash every 3 s", family="hc", cores="schmitt-steered",
-                       stages="direct", buffered=True, top=1, builds=400)
+                       stages="direct", buffered=True, top=1)
     c = assess(solve(req), jobs=1).candidates[0]
     p50 = c.spread.quantiles["period_s"][1]
     assert abs(p50 / 3.0 - 1) < 0.03
