@@ -106,8 +106,8 @@ _INFER_SERIES = ("E24", "E48", "E96", "E192")
 _FALLBACK_SERIES = "E24"
 #: Standard normal 95 % quantile (scipy.stats.norm.ppf(0.95)).
 Z95 = 1.6448536269514722
-_EDGE_SAMPLES = 9  # points along each hysteresis-limited edge of the threshold polygon
-_SUPPLY_SAMPLES = 5  # evenly spaced corner supplies across a supply range
+_EDGE_SAMPLES = 5  # points along each hysteresis-limited edge of the threshold polygon
+_SUPPLY_SAMPLES = 3  # evenly spaced corner supplies across a supply range
 #: Builds of each one-source-at-a-time run (the first ones of the full run's draws): the
 #: variance of 500 builds is within about 6 % (sqrt(2/500)), plenty for a share.
 SHARE_BUILDS = 500
