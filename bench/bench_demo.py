@@ -3,15 +3,21 @@
 Both commands run in a fresh interpreter each time (interpreter start, imports, search,
 reference checks, 2,000-build spreads, report), alternating so that a busy machine
 slows both alike. Printed: median, min and max wall time of each against the 1.2 s
-target, and the share of time per assessment step in-process.
+target, the CPU time the process tree used (less sensitive to other load on the
+machine), and the time per assessment step in-process.
 
-    python bench/bench_demo.py [--runs N]
+``--baseline PYTHON`` runs the same commands with another interpreter (a virtual
+environment holding an earlier pulsepick) in the same alternation, for a side-by-side
+comparison on the same machine at the same load.
+
+    python bench/bench_demo.py [--runs N] [--baseline /path/to/venv/bin/python]
 """
 
 from __future__ import annotations
 
 import argparse
 import os
+import resource
 import statistics
 import subprocess
 import sys
@@ -23,39 +29,55 @@ DEMO = ["solve", "one flash every 3 s, 40 ms long", "--led", "red", "--supply", 
         "--family", "lvc,timer555"]
 
 
-def wall(args: list[str]) -> float:
+def wall(args: list[str], python: str = sys.executable) -> tuple[float, float]:
+    """Wall time and CPU time (user + system of the process tree) of one command, s."""
+    before = resource.getrusage(resource.RUSAGE_CHILDREN)
     start = time.perf_counter()
-    proc = subprocess.run([sys.executable, "-m", "pulsepick", *args], capture_output=True)
+    proc = subprocess.run([python, "-m", "pulsepick", *args], capture_output=True,
+                          cwd=os.path.expanduser("~"))
     took = time.perf_counter() - start
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
     if proc.returncode != 0:
         raise SystemExit(f"{' '.join(args)} failed: {proc.stderr.decode().strip()}")
-    return took
+    cpu = (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime)
+    return took, cpu
 
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--runs", type=int, default=7, help="runs of each (default 7)")
+    parser.add_argument("--baseline", metavar="PYTHON",
+                        help="also time an earlier pulsepick installed for this interpreter")
     opts = parser.parse_args()
     import compileall
 
     import pulsepick
 
     compileall.compile_dir(os.path.dirname(pulsepick.__file__), quiet=1)
-    wall(PLAIN)
-    wall(DEMO)  # warm the file cache
-    times: dict[str, list[float]] = {"plain": [], "demo": []}
+    pythons = {"this": sys.executable}
+    if opts.baseline:
+        pythons["baseline"] = opts.baseline
+    for py in pythons.values():  # warm the file cache
+        wall(PLAIN, py)
+        wall(DEMO, py)
+    times: dict[tuple[str, str], list[tuple[float, float]]] = {}
     for _ in range(opts.runs):
-        times["plain"].append(wall(PLAIN))
-        times["demo"].append(wall(DEMO))
+        for who, py in pythons.items():
+            for name, args in (("plain", PLAIN), ("demo", DEMO)):
+                times.setdefault((who, name), []).append(wall(args, py))
     load = os.getloadavg()[0]
     print(f"cold solve, {opts.runs} runs each, alternating (load average {load:.1f} on "
-          f"{os.cpu_count()} cores)")
-    for name, args in (("plain", PLAIN), ("demo", DEMO)):
-        t = times[name]
+          f"{os.cpu_count()} cores at the end)")
+    print("  pulsepick " + " ".join(PLAIN[:1] + [repr(PLAIN[1])]) + "   (plain)")
+    print("  pulsepick " + " ".join(DEMO[:1] + [repr(DEMO[1])] + DEMO[2:]) + "   (demo)")
+    for (who, name), runs in times.items():
+        t = [w for w, _ in runs]
+        cpu = statistics.median(c for _, c in runs)
         med = statistics.median(t)
-        print(f"  {name:5s} median {med:.2f} s (min {min(t):.2f}, max {max(t):.2f}); target "
-              f"{TARGET_S} s: {'met' if med <= TARGET_S else 'NOT met'}   pulsepick "
-              + " ".join(a if " " not in a else repr(a) for a in args))
+        verdict = "" if who != "this" else (f"; target {TARGET_S} s: "
+                                            f"{'met' if med <= TARGET_S else 'NOT met'}")
+        print(f"  {who:8s} {name:5s} wall median {med:.2f} s (min {min(t):.2f}, max "
+              f"{max(t):.2f}), CPU {cpu:.2f} s{verdict}")
 
     from pulsepick.request import make_request
     from pulsepick.solve import assess, default_jobs, solve

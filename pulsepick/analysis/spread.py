@@ -575,10 +575,10 @@ def _corner_batch(design: Design, tols, temp_range, supply_range, varies: dict[s
                   ) -> _Batch:
     """Every extreme combination of the sources (bounded enumeration).
 
-    Per part: the low and high end of tolerance times temperature factor at each end
-    of the temperature range (class-2 and electrolytic kinds at their guaranteed band
-    edges, linear kinds at the ends of their tempco spread, resistors at the tempco
-    estimate). Chip: the vertices of the hysteresis-limited threshold region plus
+    Per part: the lowest and highest of tolerance end times temperature factor over
+    the ends of the temperature range (class-2 and electrolytic kinds at their
+    guaranteed band edges, linear kinds at the ends of their tempco spread, resistors
+    at the tempco estimate). Chip: the vertices of the hysteresis-limited threshold region plus
     points along its hysteresis edges, at each corner supply. Output resistance:
     typical and maximum. Supply: the ends of the range, the threshold table's supplies
     inside it and a few evenly spaced points.
@@ -595,6 +595,31 @@ def _corner_batch(design: Design, tols, temp_range, supply_range, varies: dict[s
         supplies = sorted(set([lo, hi, *inner, *np.linspace(lo, hi, _SUPPLY_SAMPLES)]))
     temps = sorted(set(temp_range)) if varies["temperature"] else [T_REF_C]
     routs = [0.0, 1.0] if varies["output_resistance"] else [0.0]
+    # each part's lowest and highest factor over the temperature range's ends: the
+    # temperature enters the model only through the parts, so one box of part factors
+    # holds every corner of every temperature (a little wider: each part at its own
+    # worst temperature), and the chip and supply corners are enumerated once
+    ends = []
+    for t in tols:
+        lo_t, hi_t = 1 - 0.01 * t.tol_minus_pct, 1 + 0.01 * t.tol_plus_pct
+        if not varies["resistors" if t.kind == "R" else "capacitors"]:
+            lo_t = hi_t = 1.0
+        lows, highs = [], []
+        for temp in temps:
+            dt = temp - T_REF_C
+            if not varies["temperature"]:
+                lows.append(lo_t)
+                highs.append(hi_t)
+            elif t.kind == "R":
+                tc = RESISTOR_TEMPCO_PPM_PER_K * 1e-6 * abs(dt)
+                lows.append(lo_t * (1 - tc))
+                highs.append(hi_t * (1 + tc))
+            else:
+                kind = get_cap_kind(t.cap_kind)
+                lows.append(lo_t * float(kind.temperature_factor(temp, "min")))
+                highs.append(hi_t * float(kind.temperature_factor(temp, "max")))
+        ends.append((min(lows), max(highs)))
+    combos = np.array(list(itertools.product(*ends)), dtype=float).reshape(-1, len(tols))
     batches = []
     for v in supplies:
         lim = _chip_limits(design, v)
@@ -607,30 +632,13 @@ def _corner_batch(design: Design, tols, temp_range, supply_range, varies: dict[s
         else:  # typical thresholds
             pts = np.zeros((1, 2))
             ca = cb = np.full(1, np.nan)
-        for temp in temps:
-            ends = []
-            dt = temp - T_REF_C
-            for t in tols:
-                lo_t, hi_t = 1 - 0.01 * t.tol_minus_pct, 1 + 0.01 * t.tol_plus_pct
-                if not varies["resistors" if t.kind == "R" else "capacitors"]:
-                    lo_t = hi_t = 1.0
-                if not varies["temperature"]:
-                    ends.append((lo_t, hi_t))
-                elif t.kind == "R":
-                    tc = RESISTOR_TEMPCO_PPM_PER_K * 1e-6 * abs(dt)
-                    ends.append((lo_t * (1 - tc), hi_t * (1 + tc)))
-                else:
-                    kind = get_cap_kind(t.cap_kind)
-                    ends.append((lo_t * float(kind.temperature_factor(temp, "min")),
-                                 hi_t * float(kind.temperature_factor(temp, "max"))))
-            combos = np.array(list(itertools.product(*ends)), dtype=float).reshape(-1, len(tols))
-            grid = list(itertools.product(range(len(combos)), range(len(pts)), routs))
-            ic = np.array([g[0] for g in grid])
-            ip = np.array([g[1] for g in grid])
-            ru = np.array([g[2] for g in grid], dtype=float)
-            m = len(grid)
-            batches.append(_Batch({nm: combos[ic, j] for j, nm in enumerate(names)},
-                                  np.full(m, float(v)), ca[ip], cb[ip], ru))
+        grid = list(itertools.product(range(len(combos)), range(len(pts)), routs))
+        ic = np.array([g[0] for g in grid])
+        ip = np.array([g[1] for g in grid])
+        ru = np.array([g[2] for g in grid], dtype=float)
+        m = len(grid)
+        batches.append(_Batch({nm: combos[ic, j] for j, nm in enumerate(names)},
+                              np.full(m, float(v)), ca[ip], cb[ip], ru))
     return _Batch.concat(batches)
 
 
