@@ -31,8 +31,8 @@ the expected squared spread of the period: resistor and capacitor tolerance, the
 capacitor's drift over -20..+50 °C and its aging (a class-2 ceramic is evaluated at
 the value left under its DC bias), the shift the guaranteed-maximum pin and capacitor
 leakage causes at 25 °C, the chip's thresholds (median at the typical value, limits
-at the 0.1 %/99.9 % points), and, for a supply range, the change from full to end of night (the
-others taken as uniform within their bounds: variance bound²/3).
+at the 0.1 %/99.9 % points), and, for a supply range, the change from full to end of
+night (the others taken as uniform within their bounds: variance bound²/3).
 A timing network that stalls with the hot-end maximum leakage costs 3 more. An
 electrolytic timing capacitor, a resistor near the leakage limit or a chip with
 wide thresholds so ranks lower. Then one point per decade of energy per flash

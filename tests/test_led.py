@@ -119,9 +119,9 @@ def test_custom_led_refuses_impossible():
 
 
 # Maximum continuous current: the datasheet test current where a row has one, a lower bound on
-# the rating (ref:cree-lc513fwh1 white 20 mA, ref:broadcom-hsmx-a46x amber 50 mA); the other rows are
-# marked "from memory" in the table and only checked for that mark and for covering their test
-# current.
+# the rating (ref:cree-lc513fwh1 white 20 mA, ref:broadcom-hsmx-a46x amber 50 mA); the other
+# rows are marked "from memory" in the table and only checked for that mark and for covering
+# their test current.
 DATASHEET_I_MAX = {"amber": 50e-3, "white": 20e-3}
 
 

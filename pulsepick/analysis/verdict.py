@@ -141,8 +141,9 @@ def _stall_reason(design, env) -> str:
         return (f"stalls: the {kind.name} timing capacitor's typical leakage "
                 f"{format_eng(leak, 'A')} at VT+ takes the charging current of "
                 f"{format_eng(i_up, 'A')}; use a film capacitor or a smaller resistor")
-    return (f"stalls: the current that moves C1 at a threshold ({format_eng(min(i_up, i_down), 'A')})"
-            " is lost to leakage; use a smaller resistor with a larger capacitor")
+    least = format_eng(min(i_up, i_down), "A")
+    return (f"stalls: the current that moves C1 at a threshold ({least}) is lost to "
+            "leakage; use a smaller resistor with a larger capacitor")
 
 
 def _dark_reason(design, peak_a: float) -> str:
