@@ -35,7 +35,6 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from scipy.special import ndtr, ndtri
 
 from pulsepick.errors import PartError
 
@@ -55,15 +54,35 @@ def split_normal_fraction(u, typ_frac) -> np.ndarray:
     the limits. The median is ``typ_frac``; 0 and 1 are the 0.1 % and 99.9 % points
     of the untruncated halves, and the draw is truncated there.
     """
+    from scipy.special import ndtri
+
     u = np.asarray(u, dtype=float)
+    z = ndtri(TAIL_SHARE + u * (1.0 - 2.0 * TAIL_SHARE))
+    return _from_z(z, typ_frac)
+
+
+def _from_z(z, typ_frac) -> np.ndarray:
+    """A standard normal value (truncated to +/-Z_TAIL) mapped onto the split normal."""
     t = np.asarray(typ_frac, dtype=float)
-    z = ndtri(TAIL_SHARE + u * (1.0 - 2.0 * TAIL_SHARE)) / Z_TAIL  # in [-1, 1]
+    z = np.asarray(z, dtype=float) / Z_TAIL  # in [-1, 1]
     x = np.where(z < 0, t + t * z, t + (1.0 - t) * z)
     return np.clip(x, 0.0, 1.0)
 
 
+def _truncated_normal(rng, n: int) -> np.ndarray:
+    """``n`` standard normal draws within +/-Z_TAIL (rejection: 0.2 % drawn again)."""
+    z = rng.standard_normal(n)
+    bad = np.abs(z) > Z_TAIL
+    while np.any(bad):
+        z[bad] = rng.standard_normal(int(bad.sum()))
+        bad = np.abs(z) > Z_TAIL
+    return z
+
+
 def split_normal_cdf(x, typ_frac) -> np.ndarray:
     """CDF of the truncated split normal on [0, 1] (inverse of :func:`split_normal_fraction`)."""
+    from scipy.special import ndtr
+
     x = np.clip(np.asarray(x, dtype=float), 0.0, 1.0)
     t = np.asarray(typ_frac, dtype=float)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -123,8 +142,8 @@ def draw_fractions(p_lo, p_typ, p_hi, m_lo, m_typ, m_hi, h_lo, h_hi, rng
     for _ in range(_MAX_REJECTION_ROUNDS):
         if todo.size == 0:
             return a, b
-        ua = split_normal_fraction(rng.random(todo.size), mode_a[todo])
-        ub = split_normal_fraction(rng.random(todo.size), mode_b[todo])
+        ua = _from_z(_truncated_normal(rng, todo.size), mode_a[todo])
+        ub = _from_z(_truncated_normal(rng, todo.size), mode_b[todo])
         p = p_lo[todo] + ua * (p_hi[todo] - p_lo[todo])
         m = m_lo[todo] + ub * (m_hi[todo] - m_lo[todo])
         h = p - m
@@ -184,6 +203,8 @@ def threshold_percentile(family: str, supply_v: float, vt_plus_v: float,
     """
     p_lo, p_typ, p_hi, m_lo, m_typ, m_hi, _, _ = (float(np.asarray(x).reshape(-1)[0])
                                                    for x in threshold_limits(family, supply_v))
+
+    from scipy.special import ndtr
 
     def pct(x, lo, typ, hi):
         # the untruncated split normal, so that the limits read 0.1 % and 99.9 %
