@@ -38,8 +38,9 @@ to the design file), max_packages, dusk_detector, spread_out, period_tolerance,
 lock_margin, top, builds, seed; ``[[light]]``: name, blink (required), led, family,
 timing_cap, buffered, cores, stages; ``[storage]``: part or capacitance (one required),
 rated, start, stop_at, storage_leak, leakage, charge_age, extra_load; ``[panel]``: part,
-or voc with isc (and cells); diode; ``[night]``: dusk, dawn, length; ``[site]``:
-latitude and date (required), longitude, utc_offset, turn_on.
+or voc with isc (and cells); diode; clamp; ``[night]``: dusk, dawn, length; ``[site]``:
+latitude and date (required), longitude, utc_offset, turn_on, turbidity, tilt, azimuth,
+altitude. Every key, its unit, default and an example: docs/design-file.md.
 
 Without ``[build] supply`` the lights are solved for the storage's night: from its start
 voltage down to ``stop_at`` (or steady at the start voltage without one).
@@ -78,9 +79,13 @@ STORAGE_KEYS: dict[str, str] = {
 }
 PANEL_KEYS: dict[str, str] = {"part": "text", "voc": "text", "isc": "text", "cells": "int",
                               "diode": "text"}
+PANEL_KEYS["clamp"] = "text"  # a shunt clamp across the storage, such as "2.4V"
 NIGHT_KEYS: dict[str, str] = {"dusk": "text", "dawn": "text", "length": "text"}
 SITE_KEYS: dict[str, str] = {"latitude": "number", "date": "text", "longitude": "number",
                              "utc_offset": "number", "turn_on": "text"}
+# The sky over the site and the way the panel faces (the day's light).
+SITE_KEYS.update({"turbidity": "number", "tilt": "number", "azimuth": "number",
+                  "altitude": "number"})
 TOP_KEYS: dict[str, Any] = {"name": "text", "build": BUILD_KEYS, "light": LIGHT_KEYS,
                             "storage": STORAGE_KEYS, "panel": PANEL_KEYS, "night": NIGHT_KEYS,
                             "site": SITE_KEYS}

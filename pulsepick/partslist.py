@@ -249,3 +249,46 @@ def buy_rows(lines: tuple[PartLine, ...]) -> tuple[BuyRow, ...]:
             f"{m.ref}: {m.role}" + (f" ({m.note})" if m.note else "") for m in members))
         rows.append(BuyRow(len(members), tuple(m.ref for m in members), first, bands, notes))
     return tuple(rows)
+
+
+# A 100 nF ceramic across each package's supply pins, as close as it goes (common practice).
+DECOUPLING_F = 100e-9
+
+
+def _next_ref(lines, prefix: str) -> int:
+    """The next free number of a designator prefix (C, D) among ``lines``."""
+    used = [int(p.ref[len(prefix):]) for p in lines
+            if p.ref.startswith(prefix) and p.ref[len(prefix):].isdigit()]
+    return max(used, default=0) + 1
+
+
+def charge_path_lines(lines, plan, *, clamp_v: float | None = None,
+                      clamp_w: float | None = None) -> tuple[PartLine, ...]:
+    """Parts a build adds around its chips and storage: one decoupling capacitor per
+    package, and the shunt clamp across the storage when the panel can exceed its rating.
+
+    ``lines`` are the build's parts so far (for the next free designators); ``plan`` the
+    package plan (its ``packages``); ``clamp_v`` (V) and ``clamp_w`` (W, at the panel's
+    full-sun short-circuit current) the proposed clamp, or None.
+    """
+    out: list[PartLine] = []
+    c_next = _next_ref(lines, "C")
+    for pkg in getattr(plan, "packages", ()):
+        out.append(PartLine(
+            ref=f"C{c_next}", kind="capacitor", value=DECOUPLING_F, unit="F",
+            display="100 nF", code="100n", series="E12", tolerance="±10 %", tolerance_pct=10.0,
+            dielectric="X7R ceramic", rating="16 V",
+            role=f"decoupling for U{pkg.number} (supply pin to ground, close to the chip)",
+            note="common practice"))
+        c_next += 1
+    if clamp_v is not None:
+        watts = "" if clamp_w is None else f"{max(clamp_w * 1.5, 0.25):.2g} W"
+        out.append(PartLine(
+            ref=f"D{_next_ref(lines, 'D')}", kind="diode", value=None, unit="",
+            display=f"{clamp_v:.1f} V zener (or a TL431-style shunt set to {clamp_v:.1f} V)",
+            code=f"clamp-{clamp_v:.1f}V", series="", tolerance="", tolerance_pct=None,
+            dielectric="", rating=watts,
+            role="shunt clamp across the storage: keeps it under its rating",
+            note="the panel can charge the storage past its rating without it; rated for the "
+                 "panel's full-sun short-circuit current with 50 % margin (common practice)"))
+    return tuple(out)

@@ -93,6 +93,9 @@ def test_two_lights_json_and_one_buylist(tmp_path, capsys):
     # every part of both lights is in the list once, quantities summed
     n_parts = sum(len([p for p in li["circuit"]["parts"] if p["kind"] != "chip"])
                   for li in doc["lights"])
+    # ... plus one 100 nF decoupling capacitor per package (common practice)
+    n_parts += len(doc["packages"])
+    assert sum(1 for r in rows if "decoupling" in r["notes"]) == 1
     assert sum(int(r["qty"]) for r in rows if r["kind"] != "chip") == n_parts
     # a steady supply and no storage named: no supercapacitor caution
     assert not any("supercapacitor" in t for t in doc["cautions"])

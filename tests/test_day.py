@@ -142,6 +142,22 @@ def test_charge_balance_of_a_clamped_day():
     assert 0 < day.clamp_peak_w < 2.5 * 0.060
 
 
+@pytest.mark.parametrize("weather, start", [("clear", 0.0), ("overcast", 1.0), ("dim", 0.3)])
+def test_unclamped_day_accounting_adds_up(weather, start):
+    # Conservation of charge (C·dV/dt = I_in - I_load - I_leak, summed over the steps):
+    # charge_in = C·ΔV + leaked + delivered within 0.5 %, with a leaky storage and a day load.
+    store = get_storage("1f-5v5")
+    path = ChargePath(get_panel("5v60ma"), get_diode("schottky"))
+    day = simulate_day(store, path, get_profile(weather), v_start_v=start, day_load=5e-6)
+    stored = store.capacitance_f * (day.v_end_v - day.v_start_v)
+    out = stored + day.charge_leak_c + day.charge_load_c + day.charge_clamp_c
+    assert day.charge_leak_c > 0 and day.charge_load_c > 0
+    assert day.charge_in_c == pytest.approx(out, rel=0.005)
+    # energy in lies between the charge times the lowest and the highest voltage of the day
+    assert min(day.v_start_v, day.v_end_v) * day.charge_in_c <= day.energy_in_j
+    assert day.energy_in_j <= day.v_max_v * day.charge_in_c
+
+
 def test_dark_day_only_drains():
     store = custom_storage(1.0, leak_a=0.0)
     path = ChargePath(get_panel("5v60ma"), get_diode("si"))

@@ -10,7 +10,10 @@ from pvlib import solarposition
 from pulsepick.analysis.sun import (
     CIVIL_ZENITH_DEG,
     SUNRISE_ZENITH_DEG,
+    julian_day,
+    night_span,
     night_window,
+    solar_position,
     sun_events,
 )
 from pulsepick.errors import RequestError
@@ -87,16 +90,47 @@ def test_polar_day_and_night():
     assert winter.polar == "night" and winter.sunset is None
     with pytest.raises(RequestError, match="midnight sun"):
         night_window(78.2, date(2026, 6, 21), 15.6, 2.0)
-    with pytest.raises(RequestError, match=r"polar night.*give the night length"):
-        night_window(78.2, date(2026, 12, 21), 15.6, 1.0)
+    # At 78.2 N on 21 December the sun culminates near 90 - 78.2 - 23.4 = -11.6 degrees
+    # (hand): neither sunset nor civil dusk, so the whole day is night, and it says so.
+    span = night_span(78.2, date(2026, 12, 21), 15.6, 1.0)
+    assert span.rule == "whole day" and span.night_s == 86400.0
+    assert "neither sunset nor civil dusk" in span.note
+
+
+@pytest.mark.parametrize("turn_on", ["civil", "sunset"])
+def test_polar_night_at_70_north_is_the_civil_dark_span(turn_on):
+    # 70 N, 21 December: the sun does not rise (noon elevation about 90 - 70 - 23.4 = -3.4
+    # degrees, hand) but civil twilight comes around noon. pvlib's SPA geometric zenith
+    # crosses 96 degrees at our civil dusk and at the next civil dawn within 2 minutes.
+    span = night_span(70.0, date(2026, 12, 21), 0.0, 0.0, turn_on=turn_on)
+    if turn_on == "civil":
+        assert span.rule == "civil" and span.note is None
+    else:  # no sunset to turn on at: the civil dark span, and it says so
+        assert span.rule == "civil (no sunset)" and "polar night" in span.note
+    assert abs(_zenith_crossing_offset_s(70.0, 0.0, span.dusk, CIVIL_ZENITH_DEG,
+                                         False)) < TWO_MINUTES_S
+    assert abs(_zenith_crossing_offset_s(70.0, 0.0, span.dawn, CIVIL_ZENITH_DEG,
+                                         True)) < TWO_MINUTES_S
+    assert 19.5 * 3600 < span.night_s < 21.0 * 3600  # roughly 20 h
+
+
+def test_midnight_sun_at_70_north():
+    # 70 N, 21 June: pvlib's SPA says the sun stays up all day (lowest elevation above the
+    # -0.833 degrees of sunset), and we refuse to give a night.
+    times = pd.date_range("2026-06-21", periods=24 * 12, freq="5min", tz="UTC")
+    z = solarposition.get_solarposition(times, 70.0, 0.0)["zenith"].to_numpy()
+    assert z.max() < SUNRISE_ZENITH_DEG
+    with pytest.raises(RequestError, match="midnight sun"):
+        night_span(70.0, date(2026, 6, 21), 0.0, 0.0)
 
 
 def test_white_nights_have_no_civil_dusk():
     # At 62 N on midsummer the sun dips only to about -4.6° (90 - 62 - 23.4): no civil
     # dusk, but a sunset.
-    with pytest.raises(RequestError, match=r"no civil dusk.*sunset"):
-        night_window(62.0, date(2026, 6, 21), 10.0, 1.0, turn_on="civil")
+    span = night_span(62.0, date(2026, 6, 21), 10.0, 1.0, turn_on="civil")
+    assert span.rule == "sunset (no civil dusk)" and "white night" in span.note
     dusk, dawn = night_window(62.0, date(2026, 6, 21), 10.0, 1.0, turn_on="sunset")
+    assert (span.dusk, span.dawn) == (dusk, dawn)
     assert 4 * 3600 < (dawn - dusk).total_seconds() < 7 * 3600
 
 
@@ -147,3 +181,17 @@ def test_bad_places_are_refused(args, words):
 def test_unknown_turn_on_is_refused():
     with pytest.raises(RequestError, match="accepted: civil, sunset"):
         night_window(50.0, date(2026, 1, 1), turn_on="midnight")  # type: ignore[arg-type]
+
+
+@pytest.mark.parametrize("latitude", (-33.9, 0.0, 52.1, 70.0))
+def test_solar_position_matches_pvlib_spa(latitude):
+    # pvlib's SPA geometric zenith and azimuth, hourly over two days: within 0.05 degrees.
+    times = pd.date_range("2026-06-21", periods=24, freq="1h", tz="UTC").append(
+        pd.date_range("2026-12-21", periods=24, freq="1h", tz="UTC"))
+    ref = solarposition.get_solarposition(times, latitude, 5.1)
+    jd = np.array([julian_day(t.to_pydatetime()) for t in times])
+    zen, az = solar_position(latitude, 5.1, jd)
+    np.testing.assert_allclose(zen, ref["zenith"].to_numpy(), atol=0.05)
+    up = ref["zenith"].to_numpy() < 89.0
+    d_az = (az - ref["azimuth"].to_numpy() + 180.0) % 360.0 - 180.0
+    assert np.all(np.abs(d_az[up]) < 0.1)

@@ -363,8 +363,14 @@ def _integrate(solver: _Solver, storage: Storage, profile: Profile | None, t0: f
         v_new = max(v_new, 0.0)
         i_load = float(np.interp(v, day_load.supply_v, day_load.supply_avg_a))
         i_leak = float(storage.leakage_a(v, max(t - t_last_charge, 0.0), leak_level))
-        totals["in"] += op.charge_a * dt
-        totals["energy"] += op.charge_a * 0.5 * (v + v_new) * dt
+        # The charge in is what this very step moved: the storage's change, what the clamp
+        # took, and the drains over the step (so the totals add up to C·ΔV + drains).
+        if held:
+            charge_in = clamp_c + (i_load + i_leak) * dt
+        else:
+            charge_in = c * dv + (i_load + i_leak) * dt
+        totals["in"] += charge_in
+        totals["energy"] += charge_in * 0.5 * (v + v_new)
         totals["clamp"] += clamp_c
         totals["load"] += i_load * dt
         totals["leak"] += i_leak * dt

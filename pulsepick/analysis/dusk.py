@@ -304,3 +304,48 @@ def bleed_for_dusk(panel: PanelModel, dusk_lux: float, family: LogicFamily, supp
     result = dusk_levels(panel, picked, family, supply_v, diode, profile=profile)
     return replace(result, wanted_lux=float(dusk_lux), exact_bleed_ohm=exact,
                    series=series.upper())
+
+
+# A small panel's shunt resistance is rarely published; the estimate (DEFAULT_R_SH_FACTOR ×
+# Voc/Isc, pulsepick.parts.panel) may be off tenfold either way (estimate).
+RSH_SPREAD = (0.1, 10.0)
+
+
+@dataclass(frozen=True)
+class ShuntSpread:
+    """The turn-on level over the panel's shunt-resistance spread."""
+
+    r_sh_ohm: float  # Ω, the shunt resistance used
+    given: bool  # the user gave it (no spread then)
+    low_ohm: float  # Ω, the low end of the spread
+    high_ohm: float  # Ω, the high end
+    on_low_r_lux: float  # lx, typical turn-on level with the low shunt resistance
+    on_high_r_lux: float  # lx, with the high shunt resistance
+    on_typ_lux: float  # lx, with the shunt resistance used
+
+    @property
+    def range_lux(self) -> tuple[float, float]:
+        """(lowest, highest) typical turn-on level over the spread (lx)."""
+        values = [v for v in (self.on_low_r_lux, self.on_high_r_lux, self.on_typ_lux)
+                  if math.isfinite(v)]
+        return (min(values), max(values)) if values else (math.nan, math.nan)
+
+
+def shunt_spread(result: DuskResult, given: bool = False) -> ShuntSpread:
+    """The typical turn-on level of ``result``'s bleed with the panel's shunt resistance at
+    the ends of its spread (×0.1 and ×10, estimate); no spread when ``given``."""
+    panel = result.panel
+    th = result.family.thresholds(result.supply_v)
+    vt = float(th.vt_minus_typ)
+    pushed = _leak(result.diode, result.supply_v, vt, "typ") + result.family.leak_typ_a
+
+    def level(r_sh: float) -> float:
+        p = replace(panel, r_sh_ohm=r_sh)
+        return float(lux_from_irradiance(
+            irradiance_at_threshold(p, vt, result.bleed_ohm, pushed)))
+
+    r = panel.r_sh_ohm
+    lo, hi = (r, r) if given or math.isinf(r) else (r * RSH_SPREAD[0], r * RSH_SPREAD[1])
+    return ShuntSpread(r_sh_ohm=r, given=given, low_ohm=lo, high_ohm=hi,
+                       on_low_r_lux=level(lo), on_high_r_lux=level(hi),
+                       on_typ_lux=result.turn_on.typ_lux)

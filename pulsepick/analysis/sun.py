@@ -28,6 +28,8 @@ from datetime import date as Date
 from datetime import datetime, timedelta, timezone
 from typing import Literal
 
+import numpy as np
+
 from pulsepick.errors import RequestError
 
 # Zenith angles of the events (NOAA General Solar Position Calculations).
@@ -74,33 +76,72 @@ class _SolarTerms:
     eqtime_min: float
 
 
-def _solar_terms(jd: float) -> _SolarTerms:
-    """Declination and equation of time at Julian day ``jd`` (Meeus ch. 25 and 28)."""
+def _solar_terms(jd) -> _SolarTerms:
+    """Declination and equation of time at Julian day ``jd`` (Meeus ch. 25 and 28).
+
+    ``jd`` may be a float or a numpy array (the sky model takes many instants at once).
+    """
     jc = (jd - 2451545.0) / 36525.0
     l0 = (280.46646 + jc * (36000.76983 + jc * 0.0003032)) % 360.0
     m = 357.52911 + jc * (35999.05029 - 0.0001537 * jc)
     e = 0.016708634 - jc * (0.000042037 + 0.0000001267 * jc)
-    m_rad = math.radians(m)
-    c = (math.sin(m_rad) * (1.914602 - jc * (0.004817 + 0.000014 * jc))
-         + math.sin(2 * m_rad) * (0.019993 - 0.000101 * jc)
-         + math.sin(3 * m_rad) * 0.000289)
+    m_rad = np.radians(m)
+    c = (np.sin(m_rad) * (1.914602 - jc * (0.004817 + 0.000014 * jc))
+         + np.sin(2 * m_rad) * (0.019993 - 0.000101 * jc)
+         + np.sin(3 * m_rad) * 0.000289)
     true_long = l0 + c
-    omega = math.radians(125.04 - 1934.136 * jc)
-    app_long = true_long - 0.00569 - 0.00478 * math.sin(omega)
+    omega = np.radians(125.04 - 1934.136 * jc)
+    app_long = true_long - 0.00569 - 0.00478 * np.sin(omega)
     seconds = 21.448 - jc * (46.815 + jc * (0.00059 - jc * 0.001813))
     mean_obliq = 23.0 + (26.0 + seconds / 60.0) / 60.0
-    obliq = math.radians(mean_obliq + 0.00256 * math.cos(omega))
-    decl = math.asin(math.sin(obliq) * math.sin(math.radians(app_long)))
-    y = math.tan(obliq / 2.0) ** 2
-    l0_rad = math.radians(l0)
-    eqtime = 4.0 * math.degrees(
-        y * math.sin(2 * l0_rad)
-        - 2 * e * math.sin(m_rad)
-        + 4 * e * y * math.sin(m_rad) * math.cos(2 * l0_rad)
-        - 0.5 * y * y * math.sin(4 * l0_rad)
-        - 1.25 * e * e * math.sin(2 * m_rad)
+    obliq = np.radians(mean_obliq + 0.00256 * np.cos(omega))
+    decl = np.arcsin(np.sin(obliq) * np.sin(np.radians(app_long)))
+    y = np.tan(obliq / 2.0) ** 2
+    l0_rad = np.radians(l0)
+    eqtime = 4.0 * np.degrees(
+        y * np.sin(2 * l0_rad)
+        - 2 * e * np.sin(m_rad)
+        + 4 * e * y * np.sin(m_rad) * np.cos(2 * l0_rad)
+        - 0.5 * y * y * np.sin(4 * l0_rad)
+        - 1.25 * e * e * np.sin(2 * m_rad)
     )
     return _SolarTerms(decl, eqtime)
+
+
+def julian_day(when: datetime) -> float:
+    """Julian day of a timezone-aware datetime (naive: taken as UTC)."""
+    if when.tzinfo is not None:
+        when = when.astimezone(timezone.utc).replace(tzinfo=None)
+    midnight = datetime(when.year, when.month, when.day)
+    return (when.toordinal() + _JD_UNIX_ORDINAL_OFFSET
+            + (when - midnight).total_seconds() / 86400.0)
+
+
+def solar_position(latitude_deg: float, longitude_deg: float, jd):
+    """The sun's geometric zenith and azimuth angles (degrees) at Julian day(s) ``jd``.
+
+    The hour angle follows from the true solar time (UTC, the equation of time and the
+    longitude); the zenith from cos Z = sin(lat)·sin(decl) + cos(lat)·cos(decl)·cos(HA); the
+    azimuth is measured from north through east. Same solar terms as :func:`sun_events`
+    (Meeus ch. 25 and 28; NOAA GML's "General Solar Position Calculations"). No refraction.
+
+    Returns
+    -------
+    (zenith_deg, azimuth_deg) : numpy arrays shaped like ``jd``.
+    """
+    jd = np.asarray(jd, dtype=float)
+    terms = _solar_terms(jd)
+    utc_min = ((jd - 0.5) % 1.0) * 1440.0
+    true_solar_min = utc_min + terms.eqtime_min + 4.0 * longitude_deg
+    ha = np.radians(true_solar_min / 4.0 - 180.0)
+    lat = np.radians(latitude_deg)
+    decl = terms.declination_rad
+    cos_z = np.sin(lat) * np.sin(decl) + np.cos(lat) * np.cos(decl) * np.cos(ha)
+    zenith = np.degrees(np.arccos(np.clip(cos_z, -1.0, 1.0)))
+    # Azimuth from south, westward positive; +180 turns it to from north, eastward.
+    az_south = np.arctan2(np.sin(ha), np.cos(ha) * np.sin(lat) - np.tan(decl) * np.cos(lat))
+    azimuth = (np.degrees(az_south) + 180.0) % 360.0
+    return zenith, azimuth
 
 
 def _cos_hour_angle(lat_rad: float, decl: float, zenith_deg: float) -> float:
@@ -201,6 +242,72 @@ def sun_events(latitude_deg: float, date: Date, longitude_deg: float = 0.0,
     )
 
 
+@dataclass(frozen=True)
+class NightSpan:
+    """The night that starts on a date, and how it was found."""
+
+    dusk: datetime  # the light turns on
+    dawn: datetime  # the light turns off (the next morning)
+    rule: str  # "civil", "sunset", "civil (no sunset)", "sunset (no civil dusk)", "whole day"
+    note: str | None  # a sentence for the user when the rule differs from the one asked
+
+    @property
+    def night_s(self) -> float:
+        """Length of the night (s)."""
+        return (self.dawn - self.dusk).total_seconds()
+
+
+def night_span(latitude_deg: float, date: Date, longitude_deg: float | None = None,
+               utc_offset_h: float | None = None, turn_on: TurnOn = "civil") -> NightSpan:
+    """The night that starts on ``date``, polar and edge dates included.
+
+    As :func:`night_window`, and where the asked events do not happen:
+
+    - the sun does not rise (polar night) but civil twilight comes: the night is the civil
+      dark span, civil dusk to the next civil dawn, whatever ``turn_on`` asks;
+    - the sun sets but stays above 6° below the horizon (white nights) with
+      ``turn_on="civil"``: the night is sunset to sunrise;
+    - neither sunset nor civil dusk (the sun stays more than 6° below the horizon all
+      day): the whole day, local midnight to midnight, is night.
+
+    Raises
+    ------
+    RequestError
+        Under the midnight sun (the sun does not set): there is no night.
+    """
+    if turn_on not in TURN_ON_CHOICES:
+        raise RequestError(
+            f"turn-on {turn_on!r} is not known; accepted: {', '.join(TURN_ON_CHOICES)}")
+    lon = 0.0 if longitude_deg is None else longitude_deg
+    offset = 0.0 if longitude_deg is None and utc_offset_h is None else utc_offset_h
+    today = sun_events(latitude_deg, date, lon, offset)
+    tomorrow = sun_events(latitude_deg, date + timedelta(days=1), lon, offset)
+    where = f"at latitude {latitude_deg:g} on {date.isoformat()}"
+    if today.polar == "day" or tomorrow.polar == "day":
+        raise RequestError(
+            f"midnight sun {where}: the sun does not set, so there is no night; "
+            "give the night length instead")
+    civil = today.civil_dusk is not None and tomorrow.civil_dawn is not None
+    sunset = today.sunset is not None and tomorrow.sunrise is not None
+    if turn_on == "civil" and civil:
+        return NightSpan(today.civil_dusk, tomorrow.civil_dawn, "civil", None)
+    if turn_on == "sunset" and sunset:
+        return NightSpan(today.sunset, tomorrow.sunrise, "sunset", None)
+    if civil and not sunset:
+        return NightSpan(today.civil_dusk, tomorrow.civil_dawn, "civil (no sunset)",
+                         f"polar night {where}: the sun does not rise; the night is the civil "
+                         "dark span, civil dusk to civil dawn")
+    if sunset and not civil:
+        return NightSpan(today.sunset, tomorrow.sunrise, "sunset (no civil dusk)",
+                         f"white night {where}: the sun stays above 6 degrees below the "
+                         "horizon; the night is sunset to sunrise")
+    midnight = datetime(date.year, date.month, date.day,
+                        tzinfo=timezone(timedelta(hours=today.utc_offset_h)))
+    return NightSpan(midnight, midnight + timedelta(days=1), "whole day",
+                     f"polar night {where}: neither sunset nor civil dusk happens (the sun stays "
+                     "more than 6 degrees below the horizon); the whole day is taken as night")
+
+
 def night_window(latitude_deg: float, date: Date, longitude_deg: float | None = None,
                  utc_offset_h: float | None = None,
                  turn_on: TurnOn = "civil") -> tuple[datetime, datetime]:
@@ -216,34 +323,13 @@ def night_window(latitude_deg: float, date: Date, longitude_deg: float | None = 
         When the light is taken to turn on: at civil dusk (the default; off at civil dawn) or
         at sunset (off at sunrise).
 
+    Polar and edge dates follow :func:`night_span` (the civil dark span in polar night,
+    sunset to sunrise in white nights, the whole day when neither happens).
+
     Raises
     ------
     RequestError
-        In polar night or polar day, or when civil twilight never ends (white nights) with
-        ``turn_on="civil"``: there is then no night window to give.
+        Under the midnight sun: there is then no night window to give.
     """
-    if turn_on not in TURN_ON_CHOICES:
-        raise RequestError(
-            f"turn-on {turn_on!r} is not known; accepted: {', '.join(TURN_ON_CHOICES)}")
-    lon = 0.0 if longitude_deg is None else longitude_deg
-    offset = 0.0 if longitude_deg is None and utc_offset_h is None else utc_offset_h
-    today = sun_events(latitude_deg, date, lon, offset)
-    tomorrow = sun_events(latitude_deg, date + timedelta(days=1), lon, offset)
-    where = f"at latitude {latitude_deg:g} on {date.isoformat()}"
-    for ev in (today, tomorrow):
-        if ev.polar == "night":
-            raise RequestError(
-                f"polar night {where}: the sun does not rise, so there is no dusk and dawn; "
-                "give the night length instead (for example 24h)")
-        if ev.polar == "day":
-            raise RequestError(
-                f"midnight sun {where}: the sun does not set, so there is no night; "
-                "give the night length instead")
-    if turn_on == "civil":
-        if today.civil_dusk is None or tomorrow.civil_dawn is None:
-            raise RequestError(
-                f"no civil dusk {where}: the sun stays above 6 degrees below the horizon all "
-                "night (white nights); accepted: turn-on at sunset, or a given night length")
-        return today.civil_dusk, tomorrow.civil_dawn
-    assert today.sunset is not None and tomorrow.sunrise is not None
-    return today.sunset, tomorrow.sunrise
+    span = night_span(latitude_deg, date, longitude_deg, utc_offset_h, turn_on)
+    return span.dusk, span.dawn

@@ -16,8 +16,13 @@ from datetime import date
 from pulsepick import __version__
 from pulsepick.analysis.cautions import GENERAL_CAUTIONS
 from pulsepick.analysis.day import MAX_DAYS, DaysResult, NightWindow, simulate_days
-from pulsepick.analysis.irradiance import WEATHER_WORDS, load_profile_csv, parse_weather
-from pulsepick.commands import circuit_options
+from pulsepick.analysis.irradiance import (
+    WEATHER_WORDS,
+    get_profile,
+    load_profile_csv,
+    parse_weather,
+)
+from pulsepick.commands import circuit_options, sky_options
 from pulsepick.commands.night_options import degrees, quantity, read_storage
 from pulsepick.errors import RequestError
 from pulsepick.parts.diode import DIODE_KEYS, get_diode
@@ -34,9 +39,15 @@ EXAMPLES = [
     "--start 0V --profile garden.csv --night 12.5h",
     "pulsepick day --storage 0f22-5v5 --panel 2v40ma --weather dim --latitude 52.1 "
     "--date 2026-12-21 --night-load 10uA --json",
+    "pulsepick day examples/firefly-lantern.toml --weather clear,overcast --days 3",
+    "pulsepick day --storage 5f-2v7 --panel 5v60ma --clamp 2.4V --latitude 60 --date "
+    "2026-12-21 --tilt 60 --azimuth 180 --turbidity 3 --weather clear,overcast --days 4",
 ]
 
 TURN_ON_CHOICES = ("civil", "sunset")
+SHAPES_NOTE = ("light: the --profile file, or an illustrative day shape that is the same in "
+               "every season; --latitude with --date (and no --profile) gives the clear sky of "
+               "a place and date")
 DEFAULT_NIGHT = "12h"
 DEFAULT_STOP = "1.8V"
 
@@ -52,12 +63,33 @@ def add_panel_arguments(parser: argparse.ArgumentParser) -> None:
     group.add_argument("--panel-isc", metavar="I", help="rated short-circuit current, such as 60mA")
     group.add_argument("--panel-cells", metavar="N",
                        help="cells in series (default: guessed from about 0.6 V per cell)")
+    group.add_argument("--panel-rsh", metavar="R",
+                       help="the panel's measured shunt resistance, such as 400k (default: an "
+                            "estimate, 5000 x Voc/Isc)")
     group.add_argument("--diode", choices=DIODE_KEYS, default="schottky",
                        help="series charging diode (default schottky)")
 
 
 def read_panel(args: argparse.Namespace) -> PanelModel:
-    """The panel from ``--panel`` or ``--panel-voc``/``--panel-isc``/``--panel-cells``."""
+    """The panel from ``--panel`` or ``--panel-voc``/``--panel-isc``/``--panel-cells``, with
+    a measured ``--panel-rsh`` in place of the estimated shunt resistance."""
+    panel = _read_panel(args)
+    text = getattr(args, "panel_rsh", None)
+    if text is None:
+        return panel
+    from dataclasses import replace
+
+    from pulsepick.errors import PulsepickError
+
+    r_sh = quantity(text, "resistance", "--panel-rsh", "400k")
+    try:
+        return replace(panel, r_sh_ohm=r_sh,
+                       source_notes=f"{panel.source_notes}; shunt resistance given")
+    except PulsepickError as err:
+        raise RequestError(f"--panel-rsh {text!r}: {err}") from err
+
+
+def _read_panel(args: argparse.Namespace) -> PanelModel:
     rated = [args.panel_voc, args.panel_isc, args.panel_cells]
     accepted = (f"--panel KEY ({', '.join(panel_keys())}) or --panel-voc 5V --panel-isc 60mA "
                 "[--panel-cells 8]")
@@ -106,6 +138,9 @@ def hours(seconds: float | None) -> str:
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     """Options of ``pulsepick day``."""
+    parser.add_argument("design", nargs="?", metavar="DESIGN.toml",
+                        help="a design file: its storage, panel, place and lights (options "
+                             "given here win)")
     store = parser.add_argument_group("storage")
     store.add_argument("--storage", metavar="KEY|C",
                        help=f"a storage part ({', '.join(STORAGE_KEYS)}) or a capacitance such "
@@ -114,7 +149,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                        help="rated voltage of a storage given as a capacitance (default 2.7V)")
     store.add_argument("--start", metavar="V", default="0V",
                        help="storage voltage at the first dawn (default 0V: empty)")
-    store.add_argument("--stop-at", metavar="V", default=DEFAULT_STOP,
+    store.add_argument("--stop-at", metavar="V", default=None,
                        help=f"the light stops when the storage falls to this voltage "
                             f"(default {DEFAULT_STOP})")
     store.add_argument("--leakage", choices=LEAK_LEVELS, default="settled",
@@ -136,6 +171,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                             "used every day")
     light.add_argument("--days", metavar="N",
                        help=f"days to run, 1 to {MAX_DAYS} (default: one per weather word)")
+    sky_options.add_sky_arguments(parser)
+    from pulsepick.commands import day_size
+
+    day_size.add_size_arguments(parser)
     night = parser.add_argument_group("the night (--night, or --latitude with --date)")
     night.add_argument("--night", metavar="T",
                        help=f"length of the night, centred on midnight (default {DEFAULT_NIGHT})")
@@ -206,13 +245,17 @@ def read_night(args: argparse.Namespace) -> tuple[NightWindow, dict]:
     except ValueError as err:
         raise RequestError(f"--date {args.date!r} is not a date; use YYYY-MM-DD such as "
                            "2026-12-21") from err
-    from pulsepick.analysis.sun import night_window
+    from pulsepick.analysis.sun import night_span
 
-    dusk, dawn = night_window(latitude, day, longitude_deg=longitude, utc_offset_h=offset,
-                              turn_on=args.turn_on)
-    window = NightWindow.from_times(dusk, dawn)
+    span = night_span(latitude, day, longitude_deg=longitude, utc_offset_h=offset,
+                      turn_on=args.turn_on)
+    if span.rule == "whole day":
+        raise RequestError(f"{span.note}: the panel gets no daylight to charge from; accepted: "
+                           "a date with daylight, or --night with a length under 24 h")
+    window = NightWindow.from_times(span.dusk, span.dawn)
     return window, {"given": "sun", "latitude_deg": latitude, "longitude_deg": longitude,
                     "utc_offset_h": offset, "date": day.isoformat(), "turn_on": args.turn_on,
+                    "night_rule": span.rule, "night_note": span.note,
                     "night_s": window.night_s}
 
 
@@ -241,12 +284,32 @@ def _days(args: argparse.Namespace) -> int | None:
 
 def run(args: argparse.Namespace) -> int:
     """Read the options, run the days and nights, print the report or JSON."""
+    from pulsepick.commands import day_design
+
+    design = day_design.apply_design(args)
+    if args.stop_at is None:
+        args.stop_at = DEFAULT_STOP
     storage = read_storage(args.storage, args.rated)
     panel = read_panel(args)
     diode = get_diode(args.diode)
+    if args.size or args.autonomy is not None:
+        return _run_size(args, design, storage, panel, diode)
     window, night_info = read_night(args)
-    weather = _weather(args)
     days = _days(args)
+    sky = None
+    if night_info.get("given") == "sun" and args.profile is None:
+        site = sky_options.read_site(args, night_info)
+        names, indices = sky_options.read_indices(args, days)
+        sky = sky_options.sky_weather(site, date.fromisoformat(night_info["date"]), names,
+                                      indices)
+        weather = list(sky.profiles)
+        days = len(weather)
+    elif sky_options.sky_given(args):
+        raise RequestError("--turbidity, --tilt, --azimuth, --altitude and --sky-index need "
+                           "--latitude with --date (the clear sky of a place and date), and "
+                           "no --profile")
+    else:
+        weather = _weather(args)
     v_start = quantity(args.start, "voltage", "--start", "0V or 2.5V", allow_zero=True)
     stop_at = quantity(args.stop_at, "voltage", "--stop-at", "1.8V", allow_zero=True)
     clamp = None if args.clamp is None else quantity(args.clamp, "voltage", "--clamp", "2.5V")
@@ -254,17 +317,91 @@ def run(args: argparse.Namespace) -> int:
     if args.bleed is not None:
         bleed = quantity(args.bleed, "resistance", "--bleed", "240k")
     v_top = max(storage.v_rated_v, clamp or 0.0, v_start, panel.voc_v)
-    night_load = read_night_load(args, v_top)
+    night_load = (read_night_load(args, v_top) if design is None
+                  else day_design.design_load(args, design, storage, v_top))
     day_load = quantity(args.day_load, "current", "--day-load", "2uA", allow_zero=True)
     result = simulate_days(
         storage, panel, diode, weather, night_load, window, v_start, days=days, clamp_v=clamp,
         bleed_ohm=bleed, day_load=day_load, stop_at_v=stop_at, leak_level=args.leakage,
         diode_leak=args.diode_leak)
+    clamped = None
+    if result.proposed_clamp_v is not None:
+        # The unclamped run charges past the rating; the same run with the proposed clamp
+        # says what the storage can really hold.
+        clamped = simulate_days(
+            storage, panel, diode, weather, night_load, window, v_start, days=days,
+            clamp_v=result.proposed_clamp_v, bleed_ohm=bleed, day_load=day_load,
+            stop_at_v=stop_at, leak_level=args.leakage, diode_leak=args.diode_leak,
+            recovery=False)
     if args.json:
-        dump_json(result_json(result, night_info))
+        doc = result_json(result, night_info, sky)
+        if sky is None:
+            # the profile shapes' own totals (illustrative light, not the sky of a place)
+            shapes = [w if not isinstance(w, str) else get_profile(w) for w in weather]
+            for i, day in enumerate(doc["days"]):
+                day["irradiation_wh_m2"] = shapes[i % len(shapes)].insolation_wh_m2
+        doc["over_charge"] = over_charge_json(result, clamped)
+        dump_json(doc)
     else:
-        render_report(result, night_info, make_console())
+        line = over_charge_line(result, clamped)
+        render_report(result, night_info, make_console(), sky, notes=[line] if line else [])
     return 0
+
+
+def _run_size(args, design, storage, panel, diode) -> int:
+    from pulsepick.commands import day_design, day_size
+
+    if not args.size:
+        raise RequestError("--autonomy goes with --size (the panel and storage for N nights)")
+    stop_at = quantity(args.stop_at, "voltage", "--stop-at", "1.8V", allow_zero=True)
+    clamp = None if args.clamp is None else quantity(args.clamp, "voltage", "--clamp", "2.5V")
+    day_load = quantity(args.day_load, "current", "--day-load", "2uA", allow_zero=True)
+
+    def load_of(v_top: float):
+        if design is None:
+            return read_night_load(args, v_top)
+        return day_design.design_load(args, design, storage, v_top)
+
+    doc = day_size.run_size(args, storage, panel, diode, load_of, day_load, stop_at, clamp)
+    if args.json:
+        dump_json(doc)
+    else:
+        day_size.render_size(doc, make_console())
+    return 0
+
+
+def over_charge_json(result: DaysResult, clamped: DaysResult | None) -> dict | None:
+    """What the unclamped run counted above the storage's rating, and the clamped run."""
+    if clamped is None:
+        return None
+    c, rated = result.storage.capacitance_f, result.storage.v_rated_v
+    return {
+        "rated_v": rated,
+        "over_charge_c": [max(r.v_max_v - rated, 0.0) * c for r in result.rows],
+        "with_proposed_clamp": {
+            "clamp_v": clamped.path.clamp_v, "nights_lasted": clamped.nights_lasted,
+            "autonomy_nights": clamped.autonomy_nights,
+            "runtime_s": [r.runtime_s for r in clamped.rows]},
+    }
+
+
+def over_charge_line(result: DaysResult, clamped: DaysResult | None) -> str | None:
+    """A sentence on the over-charge the table counts, and the run with the proposed clamp."""
+    if clamped is None:
+        return None
+    rated = result.storage.v_rated_v
+    top = max(r.v_max_v for r in result.rows)
+    if top <= rated + 0.005:
+        return None
+    over = (top - rated) * result.storage.capacitance_f
+    light = sum(r.runtime_s for r in result.rows)
+    light_c = sum(r.runtime_s for r in clamped.rows)
+    return (f"Over-charge: without a clamp the storage reaches {top:.2f} V, "
+            f"{_eng(over, 'C')} above its {rated:.2f} V rating; the table counts that charge. "
+            f"With the proposed {clamped.path.clamp_v:.1f} V clamp the light runs "
+            f"{hours(light_c)} in all instead of {hours(light)}, {clamped.nights_lasted} of "
+            f"{len(clamped.rows)} nights last, and the autonomy is "
+            f"{clamped.autonomy_nights} night(s).")
 
 
 # --------------------------------------------------------------------------- output
@@ -275,8 +412,30 @@ def _full_at(result: DaysResult, seconds: float | None) -> str | None:
     return clock(result.night.dawn_s + seconds)
 
 
-def result_json(result: DaysResult, night_info: dict) -> dict:
-    """The JSON document of a run of days (plain types; units in the key names)."""
+def result_json(result: DaysResult, night_info: dict, sky=None) -> dict:
+    """The JSON document of a run of days (plain types; units in the key names).
+
+    ``sky`` (a :class:`pulsepick.commands.sky_options.SkyWeather`) adds the sky model, the
+    turbidity and each day's clear-sky index and light on the panel's plane.
+    """
+    doc = _result_json(result, night_info)
+    doc["sky"] = None if sky is None else sky.info()
+    for i, day in enumerate(doc["days"]):
+        day["clear_sky_index"] = None if sky is None else sky.indices[i]
+        day["irradiation_wh_m2"] = None if sky is None else sky.irradiation_wh_m2[i]
+    if sky is not None:
+        line = sky.sensitivity_line()
+        if line is not None:
+            doc["warnings"].append(line)
+        doc["assumptions"].extend(sky.lines())
+    else:
+        doc["assumptions"].append(SHAPES_NOTE)
+    if night_info.get("night_note"):
+        doc["warnings"].append(night_info["night_note"])
+    return doc
+
+
+def _result_json(result: DaysResult, night_info: dict) -> dict:
     s, p, path = result.storage, result.path.panel, result.path
     w = result.night
     rec = result.recovery
@@ -400,7 +559,8 @@ def assumption_lines(result: DaysResult) -> list[str]:
     return out
 
 
-def render_report(result: DaysResult, night_info: dict, console) -> None:
+def render_report(result: DaysResult, night_info: dict, console, sky=None,
+                  notes=()) -> None:
     """Print the report: setup, the day-by-day table, verdicts, warnings and cautions."""
     from rich.text import Text
 
@@ -479,9 +639,23 @@ def render_report(result: DaysResult, night_info: dict, console) -> None:
         where = ", ".join(f"{w} days at {v:.2f} V" for w, v in traps.items())
         console.print(f"Equilibrium trap: the charge equals the draw on {where}, under the stop "
                       f"voltage {result.v_stop_v:.2f} V: in that light the storage cannot pass it.")
-    _list(console, "Warnings", result.warnings)
+    if sky is not None:
+        totals = sky.irradiation_wh_m2
+        console.print(f"Light on the panel: {min(totals) / 1e3:.2f} to {max(totals) / 1e3:.2f} "
+                      f"kWh/m² a day (clear sky times each day's index; tilt {sky.site.tilt:g}°, "
+                      f"azimuth {sky.site.azimuth:g}°, turbidity {sky.site.turbidity:g}).")
+        line = sky.sensitivity_line()
+        if line is not None:
+            console.print(line)
+    for note in notes:
+        console.print(note)
+    warnings = list(result.warnings)
+    if night_info.get("night_note"):
+        warnings.append(night_info["night_note"])
+    _list(console, "Warnings", warnings)
     _list(console, "Cautions", list(result.cautions) + list(GENERAL_CAUTIONS))
-    _list(console, "Assumptions", assumption_lines(result))
+    _list(console, "Assumptions", assumption_lines(result) + ([SHAPES_NOTE] if sky is None else
+                                                              sky.lines()))
 
 
 def key_value_table(rows: list[list[str]]):

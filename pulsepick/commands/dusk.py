@@ -32,20 +32,24 @@ EXAMPLES = [
     "pulsepick dusk --panel 5v60ma --bleed 240k --family hc --supply 2.5V",
     "pulsepick dusk --panel 5v60ma --dusk-at 10lux --family hc --supply 2.5V --series E12",
     "pulsepick dusk --panel-voc 6V --panel-isc 100mA --dusk-at 20lux --diode si --json",
+    "pulsepick dusk examples/garden-path-markers.toml --dusk-at 10lux --panel-rsh 350k",
 ]
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
     """Options of ``pulsepick dusk``."""
+    parser.add_argument("design", nargs="?", metavar="DESIGN.toml",
+                        help="a design file: its panel, charge diode, storage (the gate's supply) "
+                             "and chip family (options given here win)")
     what = parser.add_argument_group("solve (one of)")
     what.add_argument("--bleed", metavar="R",
                       help="the bleed resistor across the panel, such as 240k: gives the levels")
     what.add_argument("--dusk-at", metavar="LUX",
                       help="the wanted turn-on level, such as 10lux: gives the resistor")
     gate = parser.add_argument_group("sense gate")
-    gate.add_argument("--family", choices=FAMILY_KEYS, default="hc",
+    gate.add_argument("--family", choices=FAMILY_KEYS, default=None,
                       help="logic family of the Schmitt input that watches the panel (default hc)")
-    gate.add_argument("--supply", metavar="V", default="2.5V",
+    gate.add_argument("--supply", metavar="V", default=None,
                       help="storage voltage feeding the gate (default 2.5V)")
     gate.add_argument("--series", metavar="E", default="E24",
                       help=f"E-series for the resistor: {', '.join(SERIES_NAMES)} (default E24)")
@@ -56,6 +60,11 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     """Read the options, solve the detector, print the report or JSON."""
+    _apply_design(args)
+    if args.family is None:
+        args.family = "hc"
+    if args.supply is None:
+        args.supply = "2.5V"
     if (args.bleed is None) == (args.dusk_at is None):
         raise RequestError("give one of --bleed R (for the light levels) or --dusk-at LUX "
                            "(for the resistor), such as --dusk-at 10lux")
@@ -73,11 +82,74 @@ def run(args: argparse.Namespace) -> int:
     else:
         lux = quantity(args.dusk_at, "illuminance", "--dusk-at", "10lux")
         result = bleed_for_dusk(panel, lux, family, supply, diode, series=series)
+    from pulsepick.analysis.dusk import shunt_spread
+
+    spread = shunt_spread(result, given=args.panel_rsh is not None)
     if args.json:
-        dump_json(result_json(result))
+        doc = result_json(result)
+        doc["turn_on_shunt_spread"] = shunt_json(spread)
+        dump_json(doc)
     else:
-        render_report(result, make_console())
+        console = make_console()
+        render_report(result, console)
+        console.print(shunt_line(spread, custom=result.panel.key == "custom"))
     return 0
+
+
+def shunt_json(s) -> dict:
+    """The turn-on level over the panel's shunt-resistance spread (JSON)."""
+    lo, hi = s.range_lux
+    return {"r_sh_ohm": s.r_sh_ohm, "given": s.given,
+            "status": "given" if s.given else "estimate",
+            "low_r_sh_ohm": s.low_ohm, "high_r_sh_ohm": s.high_ohm,
+            "turn_on_low_r_sh_lux": s.on_low_r_lux, "turn_on_high_r_sh_lux": s.on_high_r_lux,
+            "turn_on_min_lux": lo, "turn_on_max_lux": hi}
+
+
+def shunt_line(s, custom: bool = False) -> str:
+    """The turn-on range over the shunt-resistance spread, in words."""
+    if s.given:
+        return (f"Panel shunt resistance {_eng(s.r_sh_ohm, 'Ω')} (given): the turn-on level "
+                f"above uses it.")
+    lo, hi = s.range_lux
+    how = " (5000 × Voc/Isc)" if custom else ""
+    return (f"Panel shunt resistance {_eng(s.r_sh_ohm, 'Ω')} is an estimate{how}; "
+            f"from {_eng(s.low_ohm, 'Ω')} to {_eng(s.high_ohm, 'Ω')} the typical turn-on moves "
+            f"from {_lux(s.on_low_r_lux)} to {_lux(s.on_high_r_lux)} (range {_lux(lo)} .. "
+            f"{_lux(hi)}, estimate); measure the panel and give --panel-rsh to narrow it.")
+
+
+def _apply_design(args: argparse.Namespace) -> None:
+    """Fill the panel, diode, supply and family from a design file (options given win)."""
+    if getattr(args, "design", None) is None:
+        return
+    from pulsepick.designfile import is_design_file, read_design, storage_part
+
+    if not is_design_file(args.design):
+        raise RequestError(f"{args.design!r} is not a design file; give a .toml design such "
+                           "as examples/garden-path-markers.toml")
+    design = read_design(args.design)
+    p = design.panel
+    if p is None and args.panel is None and args.panel_voc is None:
+        raise RequestError(f"{args.design}: no [panel] table; the dusk detector needs the "
+                           "panel, such as [panel] with part = \"5v60ma\"")
+    if p is not None and args.panel is None and args.panel_voc is None:
+        if "part" in p:
+            args.panel = p["part"]
+        else:
+            args.panel_voc, args.panel_isc = p["voc"], p["isc"]
+            if "cells" in p:
+                args.panel_cells = str(p["cells"])
+        if "diode" in p:
+            args.diode = str(p["diode"]).strip().lower()
+    if args.supply is None and design.storage is not None:
+        start = design.storage.get("start")
+        args.supply = str(start) if start is not None else f"{storage_part(design).v_rated_v:g}V"
+    if args.family is None:
+        families = [f.strip().lower() for f in str(design.build.get("family", "")).split(",")]
+        schmitt = [f for f in families if f in FAMILY_KEYS]
+        if schmitt:
+            args.family = schmitt[0]
 
 
 def _level_json(level: Level) -> dict:

@@ -20,6 +20,7 @@ EXAMPLES = [
     "--c 2u2 --cp 330u --rs 100",
     "pulsepick ldr --r10 15k --gamma 0.6 --dark 1M --series-r 470k --core schmitt "
     "--stage direct --c 1u --rs 330 --json",
+    "pulsepick ldr examples/garden-path-markers.toml --light gate --period-range 1s..6s",
 ]
 
 
@@ -29,6 +30,11 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     from pulsepick.commands.circuit_options import add_circuit_arguments
     from pulsepick.parts.photoresistor import photoresistor_keys
 
+    parser.add_argument("design", nargs="?", metavar="DESIGN.toml",
+                        help="a design file: the solver's circuit for one of its lights "
+                             "(--light) takes the photoresistor")
+    parser.add_argument("--light", metavar="NAME",
+                        help="which light of the design file (default: the first)")
     g = parser.add_argument_group("the photoresistor (it replaces R1, or RB on a 555)")
     g.add_argument("--photoresistor", metavar="KEY",
                    help=f"type: {', '.join(photoresistor_keys())} (default gl5528)")
@@ -96,15 +102,21 @@ def run(args) -> int:
     from pulsepick.units import parse_range, parse_value
 
     ldr = _photoresistor(args)
-    core = (args.core or "").strip().lower()
-    param = "rb" if core == "timer555" else "r1"
-    option = "--rb" if param == "rb" else "--r"
-    if getattr(args, f"value_{param}") is not None:
-        raise RequestError(f"the photoresistor takes the place of {param.upper()}: leave out "
-                           f"{option} and give a fixed resistor in series with --series-r")
-    setattr(args, f"value_{param}", "1M")  # a stand-in: the network replaces it
-    design = design_from_args(args)
-    assert timing_param(design) == param
+    if getattr(args, "design", None) is not None:
+        design = _design_light(args)
+    else:
+        if args.light is not None:
+            raise RequestError("--light names a light of a design file; give the file first")
+        core = (args.core or "").strip().lower()
+        param = "rb" if core == "timer555" else "r1"
+        option = "--rb" if param == "rb" else "--r"
+        if getattr(args, f"value_{param}") is not None:
+            raise RequestError(f"the photoresistor takes the place of {param.upper()}: leave "
+                               f"out {option} and give a fixed resistor in series with "
+                               "--series-r")
+        setattr(args, f"value_{param}", "1M")  # a stand-in: the network replaces it
+        design = design_from_args(args)
+        assert timing_param(design) == param
     lux_range = _lux_range(args.lux_range)
     period_range = None
     if args.period_range is not None:
@@ -124,6 +136,33 @@ def run(args) -> int:
     else:
         render(make_console(), result, clamp)
     return 0 if clamp is None or clamp.success else 2
+
+
+def _design_light(args):
+    """The solver's circuit for one light of the design file (``--light``, or the first)."""
+    from pulsepick.designfile import build_request, is_design_file, read_design
+    from pulsepick.errors import RequestError
+    from pulsepick.solve import default_jobs, solve_build
+
+    if not is_design_file(args.design):
+        raise RequestError(f"{args.design!r} is not a design file; give a .toml design such "
+                           "as examples/garden-path-markers.toml")
+    given = [k for k in vars(args) if k.startswith("value_") and getattr(args, k) is not None]
+    if given:
+        raise RequestError("give the circuit one way: a design file or the circuit values "
+                           "(--core, --r, --c ...)")
+    design = read_design(args.design)
+    names = [li.name for li in design.lights]
+    name = names[0] if args.light is None else args.light
+    if name not in names:
+        raise RequestError(f"--light {args.light!r} is not in {args.design}; accepted: "
+                           f"{', '.join(names)}")
+    result = solve_build(build_request(design), jobs=default_jobs(), assess_picks=False)
+    light = result.lights[names.index(name)]
+    if light.pick is None:
+        raise RequestError(f"{args.design}: the solver offers nothing for {name}; run "
+                           f"'pulsepick solve {args.design}' for the reasons")
+    return light.pick.design
 
 
 def _json(result, clamp) -> dict:

@@ -20,7 +20,7 @@ from rich.text import Text
 from pulsepick import __version__
 from pulsepick.analysis.cautions import NOT_A_SAFETY_LIGHT
 from pulsepick.analysis.night import NightResult, simulate_night, simulate_until_stop
-from pulsepick.commands import circuit_options
+from pulsepick.commands import circuit_options, night_size
 from pulsepick.commands.day import add_panel_arguments
 from pulsepick.commands.night_options import (
     clock_time,
@@ -119,6 +119,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     night.add_argument("--utc-offset", metavar="H", help="local clock offset from UTC in hours")
     night.add_argument("--turn-on", choices=TURN_ON_CHOICES, default="civil",
                        help="the light turns on at civil dusk (default) or at sunset")
+    night_size.add_size_arguments(parser)
     out = parser.add_argument_group("output")
     out.add_argument("--no-circuit", action="store_true",
                      help="a bare storage budget: no circuit, only leakage and --extra-load")
@@ -194,17 +195,34 @@ def _night_from_sun(args: argparse.Namespace) -> dict:
     longitude = None if args.longitude is None else degrees(args.longitude, "--longitude", 180.0)
     offset = None if args.utc_offset is None else utc_offset(args.utc_offset)
     day = read_date(args.date)
-    from pulsepick.analysis.sun import night_window
+    from pulsepick.analysis.sun import night_span
 
-    dusk, dawn = night_window(latitude, day, longitude_deg=longitude, utc_offset_h=offset,
-                              turn_on=args.turn_on)
+    span = night_span(latitude, day, longitude_deg=longitude, utc_offset_h=offset,
+                      turn_on=args.turn_on)
+    dusk, dawn = span.dusk, span.dawn
     if dawn <= dusk:
         dawn += timedelta(days=1)
     return {
         "dusk": dusk, "duration_s": (dawn - dusk).total_seconds(), "given": "sun",
         "latitude_deg": latitude, "longitude_deg": longitude, "utc_offset_h": offset,
         "date": day.isoformat(), "turn_on": args.turn_on,
+        **({"note": span.note} if span.note else {}),
     }
+
+
+def _clamp_advice(args, design, storage):
+    """The over-voltage advice when the design file or the options name a panel."""
+    from pulsepick.commands.design_night import design_clamp
+
+    if design is not None and design.panel is not None:
+        return design_clamp(design)
+    if args.panel is None and args.panel_voc is None:
+        return None
+    from pulsepick.analysis.overvoltage import clamp_advice
+    from pulsepick.commands.day import read_panel
+    from pulsepick.parts.diode import get_diode
+
+    return clamp_advice(storage, read_panel(args), get_diode(args.diode))
 
 
 def supply_grid(v_top_v: float, v_low_v: float | None = None) -> np.ndarray:
@@ -220,6 +238,7 @@ def run(args: argparse.Namespace) -> int:
     """Read the options, simulate the night, print the report or JSON."""
     design = _apply_design(args)
     storage = read_storage(args.storage, args.rated)
+    dates = night_size.apply_date_range(args)
     night = _read_night(args)
     check_picture_targets(args)
     if night is None and not (args.no_circuit and args.stop_at is not None):
@@ -255,6 +274,14 @@ def run(args: argparse.Namespace) -> int:
     extra_all = extra + (dusk_bias["bias_a"] if dusk_bias else 0.0)
     options = {"extra_load_a": extra_all, "storage_leak_a": leak, "t_since_charge_s": charge_age,
                "leak_level": args.leakage}
+    if args.size:
+        sized = night_size.run_size(args, storage, v_start, stop_at, load, night or {},
+                                    options, dates)
+        if args.json:
+            dump_json(night_size.size_json(sized, night, dates))
+        else:
+            night_size.render_size(sized, make_console(), dates)
+        return 0
     if night is None:
         # A budget check by hand: run until the stop voltage, however long that takes.
         night = {"dusk": None, "duration_s": None, "given": "none"}
@@ -270,6 +297,11 @@ def run(args: argparse.Namespace) -> int:
     result = replace(result, assumptions=result.assumptions + tuple(
         entry["note"] for entry in (context["crossing_current"], context["dusk_detector"])
         if entry is not None))
+    advice = _clamp_advice(args, design, storage)
+    if advice is not None and advice.cautions:
+        result = replace(result, cautions=advice.cautions + result.cautions)
+    if night.get("note"):
+        result = replace(result, warnings=(*result.warnings, night["note"]))
     if args.json:
         dump_json(result_json(result, night, context))
     else:

@@ -736,6 +736,13 @@ def run_build(args) -> int:
                            "'pulsepick solve' on one light's phrase, or 'pulsepick night' "
                            "with the design file")
     extras = _build_extras(design)
+    from pulsepick.commands.design_night import design_clamp, design_night
+
+    night = None if design is None else design_night(design)
+    advice = design_clamp(design)
+    if advice is not None and advice.proposed_clamp_v is not None:
+        extras["clamp_v"] = advice.proposed_clamp_v
+        extras["clamp_w"] = advice.proposed_clamp_w
     result = solve_build(breq, jobs=jobs)
     offered = all(li.pick is not None for li in result.lights) and result.plan is not None
     if args.buylist and offered:
@@ -743,10 +750,20 @@ def run_build(args) -> int:
 
         write_atomic(args.buylist, build_buylist_text(result, **extras), force=args.force)
     if args.json:
-        dump_json(build_json(result, **extras))
+        doc = build_json(result, **extras)
+        doc["night"] = None if night is None else {
+            "night_s": night.night_s, "given": night.given, "text": night.text,
+            "note": night.note}
+        if advice is not None:
+            doc["clamp"] = {"v_possible_v": advice.v_possible_v, "v_rated_v": advice.v_rated_v,
+                            "over": advice.over, "proposed_clamp_v": advice.proposed_clamp_v,
+                            "proposed_clamp_w": advice.proposed_clamp_w}
+            doc["cautions"] = list(advice.cautions) + doc["cautions"]
+        dump_json(doc)
     else:
         render_build(make_console(), result, buylist=args.buylist if offered else None,
-                     storage="storage" in extras)
+                     storage="storage" in extras, night=night,
+                     cautions=() if advice is None else advice.cautions)
     if not offered:
         _nothing_line(breq.describe(), list(result.warnings) or [result.message])
         return 2
@@ -775,13 +792,17 @@ def _build_extras(design) -> dict:
     return out
 
 
-def build_lines(result, *, storage=None, panel=None, charge_diode=None) -> tuple:
-    """Every part of the build (``PartLine`` tuple)."""
+def build_lines(result, *, storage=None, panel=None, charge_diode=None, clamp_v=None,
+                clamp_w=None) -> tuple:
+    """Every part of the build (``PartLine`` tuple), with a decoupling capacitor per
+    package and, when the panel can exceed the storage's rating, the proposed clamp."""
     from pulsepick.analysis.multi import build_part_lines
+    from pulsepick.partslist import charge_path_lines
 
     names = [li.name for li in result.lights]
-    return build_part_lines(names, [li.pick.parts for li in result.lights], result.plan,
-                            storage=storage, panel=panel, charge_diode=charge_diode)
+    lines = build_part_lines(names, [li.pick.parts for li in result.lights], result.plan,
+                             storage=storage, panel=panel, charge_diode=charge_diode)
+    return lines + charge_path_lines(lines, result.plan, clamp_v=clamp_v, clamp_w=clamp_w)
 
 
 def build_buylist_text(result, **extras) -> str:
@@ -841,10 +862,13 @@ def build_json(result, **extras) -> dict:
     return out
 
 
-def render_build(console, result, *, buylist: str | None = None, storage: bool = False) -> None:
+def render_build(console, result, *, buylist: str | None = None, storage: bool = False,
+                 night=None, cautions=()) -> None:
     """The terminal report of a several-lights build (readable at 100 columns).
 
     ``storage``: the build names a storage part (the supercapacitor caution applies).
+    ``night``: the design file's night (:class:`pulsepick.commands.design_night.DesignNight`).
+    ``cautions``: cautions of the charge path (over-voltage and the proposed clamp).
     """
     from pulsepick.export import solve_cautions
     from pulsepick.render import print_wrapped, simple_table
@@ -875,7 +899,7 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
         for w in result.warnings:
             print_wrapped(console, w, indent="  - ", hang="    ")
         console.print()
-        _render_cautions(console, solve_cautions(breq, storage=storage))
+        _render_cautions(console, tuple(cautions) + tuple(solve_cautions(breq, storage=storage)))
         return
     plan = result.plan
     console.print("[bold]Packages[/bold]")
@@ -912,11 +936,15 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
         print_wrapped(console, so.message)
         console.print()
     console.print("[bold]Energy budget[/bold]")
-    night_c = _eng(result.total_supply_a * 12 * 3600, "C")
+    night_s = 12 * 3600 if night is None else night.night_s
+    night_c = _eng(result.total_supply_a * night_s, "C")
+    night_words = "a 12 h night" if night is None else f"the {night.text}"
     print_wrapped(console, f"all lights together draw {_eng(result.total_supply_a, 'A')} on "
                            f"average at the design supply ({night_c} "
-                           "over a 12 h night); run 'pulsepick night' with the design file for "
-                           "the storage")
+                           f"over {night_words}); run 'pulsepick night' with the design file "
+                           "for the storage")
+    if night is not None and night.note:
+        print_wrapped(console, night.note)
     console.print()
     for li in result.lights:
         c = li.pick
@@ -938,4 +966,4 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
     if buylist:
         console.print(f"Buy list of the whole build written to {buylist}", markup=False)
         console.print()
-    _render_cautions(console, solve_cautions(breq, storage=storage))
+    _render_cautions(console, tuple(cautions) + tuple(solve_cautions(breq, storage=storage)))
