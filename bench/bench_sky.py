@@ -38,10 +38,11 @@ def main() -> None:
           f"{min(totals) / 1e3:.2f} to {max(totals) / 1e3:.2f} kWh/m²")
 
     span = night_span(52.1, first, 5.1, 1.0)
-    window = NightWindow.from_times(span.dusk, span.dawn)
+    spans = [night_span(52.1, first + timedelta(days=i), 5.1, 1.0) for i in range(7)]
+    windows = [NightWindow.from_times(s.dusk, s.dawn) for s in spans]  # each date's own
     profiles = [day_profile(site, first + timedelta(days=i)) for i in range(7)]
     storage, panel, diode = get_storage("5f-2v7"), get_panel("5v60ma"), get_diode("schottky")
-    t, r = _time(lambda: simulate_days(storage, panel, diode, profiles, 30e-6, window, 0.0,
+    t, r = _time(lambda: simulate_days(storage, panel, diode, profiles, 30e-6, windows, 0.0,
                                        days=7, clamp_v=2.4))
     print(f"7 sky days at 52 N in December:              {t:.3f} s (goal 3 s); "
           f"{r.nights_lasted} of 7 nights lasted")

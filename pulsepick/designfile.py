@@ -35,8 +35,11 @@ Tables and their keys
 ``name`` (text) at the top; ``[build]``: supply, family, led, series, cap_series,
 timing_cap, min_r, max_r, cap_range, buffered, cores, stages, stock (a CSV path relative
 to the design file), max_packages, dusk_detector, spread_out, period_tolerance,
-lock_margin, top, builds, seed; ``[[light]]``: name, blink (required), led, family,
-timing_cap, buffered, cores, stages; ``[storage]``: part or capacitance (one required),
+lock_margin, top, builds, seed, chip (a chip profile from ``pulsepick calibrate --save``,
+relative to the design file); ``[[light]]``: name, blink (required), led, family,
+timing_cap, buffered, cores, stages, chip, photoresistor (a photoresistor key: it sets the
+light's rate with the light, the blink's period being the one in the dark); ``[storage]``:
+part or capacitance (one required),
 rated, start, stop_at, storage_leak, leakage, charge_age, extra_load; ``[panel]``: part,
 or voc with isc (and cells); diode; clamp; ``[night]``: dusk, dawn, length; ``[site]``:
 latitude and date (required), longitude, utc_offset, turn_on, turbidity, tilt, azimuth,
@@ -66,11 +69,12 @@ BUILD_KEYS: dict[str, str] = {
     "cap_range": "text", "buffered": "bool", "cores": "text", "stages": "text",
     "stock": "text", "max_packages": "int", "dusk_detector": "bool", "spread_out": "bool",
     "period_tolerance": "text", "lock_margin": "text", "top": "int", "builds": "int",
-    "seed": "int",
+    "seed": "int", "chip": "text",
 }
 LIGHT_KEYS: dict[str, str] = {
     "name": "text", "blink": "text", "led": "text", "family": "text", "timing_cap": "text",
-    "buffered": "bool", "cores": "text", "stages": "text",
+    "buffered": "bool", "cores": "text", "stages": "text", "chip": "text",
+    "photoresistor": "text",
 }
 STORAGE_KEYS: dict[str, str] = {
     "part": "text", "capacitance": "text", "rated": "text", "start": "text",
@@ -103,6 +107,7 @@ class LightSpec:
     name: str
     blink: str  # the blink phrase
     context: dict[str, Any] = field(default_factory=dict)  # per-light solver options
+    photoresistor: str | None = None  # a photoresistor key: the light's rate follows light
 
 
 @dataclass(frozen=True)
@@ -202,8 +207,20 @@ def parse_design(text: str, path: str = "design.toml") -> DesignFile:
             raise RequestError(f"{path}: [[light]] {i} has no 'blink' (required): the blink "
                                f"as a phrase, such as {BLINK_EXAMPLE}")
         context = {k: spec[k] for k in _LIGHT_CONTEXT if k in spec}
+        if "chip" in spec:
+            context.update(chip_context(path, spec["chip"], spec.get("family")))
+        ldr = spec.get("photoresistor")
+        if ldr is not None:
+            from pulsepick.parts.photoresistor import photoresistor_keys
+
+            ldr = str(ldr).strip().lower()
+            if ldr not in photoresistor_keys():
+                raise RequestError(f"{path}: [[light]] {i} photoresistor {ldr!r} unknown; "
+                                   f"accepted: {', '.join(photoresistor_keys())}")
+            # the photoresistor takes the place of a Schmitt core's timing resistor R1
+            context.setdefault("cores", "schmitt,schmitt-steered")
         lights.append(LightSpec(name=spec.get("name") or f"light {i}", blink=spec["blink"],
-                                context=context))
+                                context=context, photoresistor=ldr))
     storage = panel = night = site = None
     if "storage" in data:
         storage = _check_table(path, "storage", data["storage"], STORAGE_KEYS)
@@ -234,6 +251,28 @@ def parse_design(text: str, path: str = "design.toml") -> DesignFile:
     return DesignFile(path=path, name=name, build=build, lights=tuple(lights),
                       storage=storage, panel=panel, night=night, site=site,
                       stock_path=stock_path)
+
+
+def chip_context(path: str, chip: str, family: str | None) -> dict[str, Any]:
+    """Solver context of ``chip = "chip.toml"`` (a path relative to the design file):
+    the profile's family and its measured thresholds."""
+    from pulsepick.errors import PulsepickError
+    from pulsepick.parts.chipprofile import read_profile
+
+    where = os.path.normpath(os.path.join(os.path.dirname(os.path.abspath(path)), chip))
+    try:
+        profile = read_profile(where)
+    except PulsepickError as err:
+        raise RequestError(f"{path}: chip = {chip!r}: {err}") from err
+    if family is not None and str(family).strip().lower() != profile.family:
+        raise RequestError(f"{path}: chip = {chip!r} holds a {profile.family} chip but family "
+                           f"is {family!r}; leave out family or give the matching profile")
+    overrides: dict[str, Any] = {"vt_plus_v": profile.vt_plus_v,
+                                 "vt_minus_v": profile.vt_minus_v,
+                                 "measured_at_v": profile.supply_v, "follows_family": True}
+    if profile.supply_current_a is not None:
+        overrides["cross_current_a"] = profile.supply_current_a
+    return {"family": profile.family, "chip_overrides": overrides}
 
 
 def read_design(path: str) -> DesignFile:
@@ -277,6 +316,10 @@ def build_request(design: DesignFile, **overrides: Any):
 
     b = {**design.build, **{k: v for k, v in overrides.items() if v is not None}}
     context = {k: b[k] for k in _BUILD_CONTEXT if k in b}
+    context.pop("chip", None)
+    chip = overrides.get("chip") or design.build.get("chip")
+    if chip:
+        context.update(chip_context(design.path, chip, b.get("family")))
     if "supply" not in context:
         supply = storage_supply(design)
         if supply is not None:
@@ -291,7 +334,7 @@ def build_request(design: DesignFile, **overrides: Any):
         max_packages=b.get("max_packages"), dusk_detector=b.get("dusk_detector", True),
         lock_margin=b.get("lock_margin"), spread_out=b.get("spread_out", False),
         period_tolerance=b.get("period_tolerance"), name=design.name, source=design.path,
-        **context)
+        photoresistors=tuple(li.photoresistor for li in design.lights), **context)
 
 
 def storage_part(design: DesignFile):

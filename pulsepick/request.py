@@ -978,6 +978,7 @@ class BuildRequest:
     period_tolerance: float = 0.10  # fraction the spread-out search may move a period
     name: str = ""  # the build's name
     source: str = ""  # the phrase or the design file
+    photoresistors: tuple[str | None, ...] = ()  # per light: photoresistor key, or None
 
     def __post_init__(self) -> None:
         problems = []
@@ -1008,7 +1009,8 @@ def make_build_request(phrases: tuple[str, ...] | list[str], *, names=None,
                        max_packages: int | None = None, dusk_detector: bool = True,
                        lock_margin: str | float | None = None, spread_out: bool = False,
                        period_tolerance: str | float | None = None, name: str = "",
-                       source: str = "", **context: Any) -> BuildRequest:
+                       source: str = "", photoresistors: tuple = (),
+                       **context: Any) -> BuildRequest:
     """A :class:`BuildRequest`: one :func:`make_request` per light phrase, same context.
 
     ``per_light`` holds per-light overrides of the context (e.g. another ``led``). Every
@@ -1051,4 +1053,5 @@ def make_build_request(phrases: tuple[str, ...] | list[str], *, names=None,
         raise RequestError("; ".join(problems))
     return BuildRequest(lights=tuple(lights), max_packages=max_packages,
                         dusk_detector=dusk_detector, lock_margin=margin, spread_out=spread_out,
-                        period_tolerance=tol, name=name, source=source)
+                        period_tolerance=tol, name=name, source=source,
+                        photoresistors=tuple(photoresistors))

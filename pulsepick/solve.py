@@ -1205,6 +1205,12 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
         explanations.append(
             f"At {req.supply_v:.2f} V these chips are outside their supply range and were "
             f"left out: {', '.join(unpowered)}.")
+    if "family" not in req.defaults:
+        from pulsepick.packing import family_plan
+
+        note = family_plan(req).note  # the family given stops before the end of the night
+        if note:
+            explanations.append(f"Family {note}.")
     space = _space(req)
     where = f"in {req.stock.source}" if req.stock is not None else "in the allowed ranges"
     if space.c_timing.size == 0:
@@ -1780,6 +1786,11 @@ class BuildResult:
     message: str
     warnings: tuple[str, ...]
     search_s: float  # s, wall time
+    lock_share: Any = None  # LockShare (pulsepick.analysis.lock) of the circuits as chosen
+    lock_share_before: Any = None  # the same before the spread-out search moved periods
+    remedies: tuple = ()  # Remedy, ranked by the lock share each leaves
+    gating: Any = None  # BuildGating (pulsepick.analysis.gating); None without a detector
+    rates: Any = None  # {light index: LightRate (pulsepick.packing)} for photoresistor lights
 
     @property
     def picks(self) -> tuple[Candidate, ...]:
@@ -1810,16 +1821,20 @@ def _least_uses(breq) -> list:
 
 
 def _plan(breq, names, cands):
+    from pulsepick.analysis.gating import detector_gates
     from pulsepick.analysis.multi import plan_packages
 
     return plan_packages([_use(n, c) for n, c in zip(names, cands, strict=True)],
                          dusk_detector=breq.dusk_detector,
-                         periods_s=[c.figures["period_s"] for c in cands])
+                         periods_s=[c.figures["period_s"] for c in cands],
+                         dusk_gates=detector_gates([c.design.topo for c in cands]))
 
 
 def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
-    """Swap lights to other offered circuits (fewer gates, a shared family) until the
-    build fits ``max_packages``; raises with the count when it cannot."""
+    """Swap lights to other offered circuits (fewer gates, a shared family) so the build
+    takes as few packages as the offered circuits allow; raises with the count when it
+    cannot fit ``max_packages``. Among choices with the fewest packages the one reached
+    with the fewest swaps (the best scores) is kept."""
     from pulsepick.analysis.multi import package_limit_error
 
     limit = breq.max_packages
@@ -1829,7 +1844,8 @@ def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
         return (len(plan.packages), plan.gates_needed), plan
 
     cur, plan = state(chosen)
-    while limit is not None and cur[0] > limit:
+    history = [(cur[0], list(chosen))]
+    while cur[0] > 1:
         best = None
         for i, res in enumerate(results):
             for k in range(len(res.candidates)):
@@ -1844,10 +1860,14 @@ def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
                     if best is None or key < best[0]:
                         best = (key, trial)
         if best is None:
-            raise RequestError(package_limit_error(plan, limit))
+            break
         chosen = best[1]
         cur, plan = state(chosen)
-    return chosen
+        history.append((cur[0], list(chosen)))
+    if limit is not None and cur[0] > limit:
+        raise RequestError(package_limit_error(plan, limit))
+    fewest = min(n for n, _ in history)
+    return next(c for n, c in history if n == fewest)
 
 
 def _one_family(breq, names, results, chosen: list[int]) -> list[int]:
@@ -1897,7 +1917,9 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
         text = multi.package_limit_error(least, breq.max_packages)
         if text is not None:
             raise RequestError(text)
-    results = [solve(li.request, jobs=jobs) for li in breq.lights]
+    from pulsepick.packing import solve_lights
+
+    results, pack_notes = solve_lights(breq, solve, jobs=jobs)
     failed = [n for n, r in zip(names, results, strict=True) if not r.success]
     if failed:
         lights = tuple(LightPick(n, r, r.candidates[0] if r.candidates else None,
@@ -1929,6 +1951,12 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
     risks_before = None
     choice = None
     moved = [False] * len(picks)
+    from pulsepick import packing
+    from pulsepick.analysis.lock import ACCEPTABLE_LOCK_SHARE, minimise_share
+
+    lock_seed = breq.lights[0].request.seed
+    share = packing.build_lock_share(breq, picks, groups, seed=lock_seed)
+    share_before = None
     if breq.spread_out:
         options = [_period_options(breq.lights[i].request, c, asked[i], breq.period_tolerance)
                    for i, c in enumerate(picks)]
@@ -1941,7 +1969,13 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
             offsets[(i, j)] = (lo - x, hi - x) if math.isfinite(lo) else (0.0, 0.0)
         choice = multi.choose_periods(asked, [o.periods_s for o in options], pairs, offsets,
                                       margin=margin, tolerance=breq.period_tolerance)
+        # the least share of builds near a lock, from the clearest choice among others
+        best, _ = minimise_share(asked, [o.periods_s for o in options], share, periods,
+                                 groups, starts=[list(choice.chosen)])
+        choice = replace(choice, chosen=tuple(best), chosen_s=tuple(
+            float(options[i].periods_s[k]) for i, k in enumerate(best)))
         risks_before = risks
+        share_before = share
         new = []
         for i, c in enumerate(picks):
             values = options[i].values[choice.chosen[i]]
@@ -1954,26 +1988,58 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
         samples = bands(picks)
         periods = [c.figures["period_s"] for c in picks]
         risks = multi.lock_risks(periods, groups, samples, margin=margin)
+        share = packing.build_lock_share(breq, picks, groups, seed=lock_seed)
+        choice = replace(choice, success=share.share <= ACCEPTABLE_LOCK_SHARE, message=(
+            f"the share of builds with a pair near a lock goes from {share_before.share:.1%} "
+            f"to {share.share:.1%} (least within {breq.period_tolerance:.0%} of the periods "
+            "asked)"))
+    remedies = packing.lock_remedies(
+        breq, picks, groups, share,
+        lambda i, tol: _period_options(breq.lights[i].request, picks[i], asked[i], tol),
+        seed=lock_seed)
     if assess_picks:
         picks = [assess(r.with_candidates((c,)), jobs=jobs).candidates[0]
                  for r, c in zip(results, picks, strict=True)]
-    warnings = []
-    for r in risks:
-        if r.at_risk:
-            warnings.append(_risk_text(names, r, margin))
+    warnings = list(pack_notes)
+    near = [p for p in share.pairs if p.share > 0]
+    if near:
+        warnings.append(packing.share_text(names, max(near, key=lambda p: p.share), margin,
+                                           breq.spread_out, share.share, len(near)))
+    if any(p.share > 0 for p in share.pairs) and packing.remedies_text(remedies,
+                                                                       breq.spread_out):
+        warnings.append(packing.remedies_text(remedies, breq.spread_out))
+    rates = packing.light_rates(breq, picks) if breq.photoresistors else {}
+    gating = None
+    if breq.dusk_detector:
+        from pulsepick.analysis.gating import build_gating
+
+        gating = build_gating(packing.held_designs(picks, rates), *packing.supply_span(
+            breq.lights[0].request))
+        for h in gating.holds:
+            if not h.holds:
+                warnings.append(
+                    f"{names[h.light]}: the dusk hold leaves its timing node at "
+                    f"{h.node_v:.2f} V at the end of the night's supply, not beyond the "
+                    f"threshold limit of {h.limit_v:.2f} V; it may keep blinking by day")
+    for i, lr in rates.items():
+        warnings.extend(f"{names[i]}: {w}" for w in getattr(lr.rate, "warnings", ()))
     total = float(sum(c.figures["supply_avg_a"] for c in picks))
-    ok = not (breq.spread_out and any(r.at_risk for r in risks))
+    ok = not (breq.spread_out and share.share > ACCEPTABLE_LOCK_SHARE)
     message = (f"{len(picks)} lights on {len(plan.packages)} "
                f"package{'s' if len(plan.packages) != 1 else ''}")
     if breq.spread_out and choice is not None:
-        message += "; " + (choice.message if not ok else "periods spread out: every pair on "
-                           "a package keeps clear of the simple ratios over its P5..P95 band")
+        message += "; " + (
+            f"periods spread out; {share.share:.1%} of builds keep a pair near a lock"
+            if not ok else
+            f"periods spread out: {share.share:.1%} of builds have a pair near a lock")
     lights = tuple(LightPick(n, r, c, asked[i], moved[i])
                    for i, (n, r, c) in enumerate(zip(names, results, picks, strict=True)))
     return BuildResult(request=breq, lights=lights, plan=plan, risks=risks,
                        risks_before=risks_before, spread_out=choice, total_supply_a=total,
                        success=ok, message=message, warnings=tuple(warnings),
-                       search_s=time.perf_counter() - t0)
+                       search_s=time.perf_counter() - t0, lock_share=share,
+                       lock_share_before=share_before, remedies=remedies, gating=gating,
+                       rates=rates)
 
 
 def _period_options(req: SolveRequest, c: Candidate, asked_s: float, tolerance: float):
@@ -2005,18 +2071,6 @@ def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float]) -> Candi
                    parts=_parts(req, design, figs), reference=None, spread=None, drift=None,
                    warnings=(), crossing_current=None, median_note=None,
                    notes=(*c.notes, "timing values moved by the spread-out search"))
-
-
-def _risk_text(names, r, margin: float) -> str:
-    where = []
-    if r.nominal_near:
-        where.append(f"the nominal periods stand at {r.ratio:.3f}")
-    if r.band_near:
-        where.append(f"over its P5..P95 band ({r.band[0]:.3f}..{r.band[1]:.3f}) the ratio "
-                     f"comes within {margin:.0%}")
-    return (f"{names[r.a]} and {names[r.b]} share a package and may pull into step: "
-            f"{' and '.join(where)} of {r.nearest} (ratios p:q with q <= 4 lock most "
-            "readily); use --spread-out, or separate packages and good decoupling")
 
 
 __all__ = [

@@ -96,7 +96,10 @@ def test_two_lights_json_and_one_buylist(tmp_path, capsys):
     # ... plus one 100 nF decoupling capacitor per package (common practice)
     n_parts += len(doc["packages"])
     assert sum(1 for r in rows if "decoupling" in r["notes"]) == 1
-    assert sum(int(r["qty"]) for r in rows if r["kind"] != "chip") == n_parts
+    # ... plus one dusk hold diode per light (pulsepick.analysis.gating)
+    holds = [h for h in doc["dusk_gating"]["lights"] if h["hold"] != "reset"]
+    assert len(holds) == 2
+    assert sum(int(r["qty"]) for r in rows if r["kind"] != "chip") == n_parts + len(holds)
     # a steady supply and no storage named: no supercapacitor caution
     assert not any("supercapacitor" in t for t in doc["cautions"])
     assert any("not a safety" in t for t in doc["cautions"])
@@ -112,10 +115,12 @@ def test_design_file_with_storage_gets_the_supercap_caution(tmp_path, capsys):
     assert POLARITY_AND_SHORTS in doc["cautions"] and NOT_A_SAFETY_LIGHT in doc["cautions"]
 
 
-def test_build_refuses_pictures_and_reports_nothing_on_stderr(capsys, tmp_path):
-    assert main(["solve", "two lights: every 2 s, every 3 s", "--plot",
-                 str(tmp_path / "x.png")]) == 2
-    assert "--plot and --report draw one light" in _error_line(capsys)
+def test_build_checks_pictures_first_and_reports_nothing_on_stderr(capsys, tmp_path):
+    # a build takes --report and --plot (pulsepick.buildreport); a bad file is refused
+    # before any solving
+    assert main(["solve", "two lights: every 2 s, every 3 s", "--report",
+                 str(tmp_path / "x.txt")]) == 2
+    assert "--report" in _error_line(capsys)
     # a white LED never shows on 1.2 V (data/parts/leds.csv estimate): nothing to offer
     code = main(["solve", "two lights: every 2 s, every 3 s", "--led", "white", "--supply",
                  "1.2V", "--stages", "direct", "--jobs", "1"])

@@ -70,6 +70,17 @@ def charging_currents(design: Design, env) -> tuple[float, float]:
     return up, down
 
 
+def _thresholds_from(design) -> str:
+    """Where the thresholds in use come from, in words."""
+    chip = design.chip
+    if not chip.measured:
+        return "datasheet typical at this supply, interpolated"
+    if chip.follows_family and chip.measured_at_v != design.supply_v:
+        return (f"measured by the user at {chip.measured_at_v:g} V, following the family's "
+                "typical shape to this supply (estimate)")
+    return "measured by the user"
+
+
 def assumptions(design: Design) -> dict[str, Any]:
     """What the figures rest on, for every report."""
     env, _ = design.env()
@@ -81,8 +92,7 @@ def assumptions(design: Design) -> dict[str, Any]:
         "supply_v": design.supply_v,
         "vt_plus_v": float(np.ravel(env.vt_plus)[0]),
         "vt_minus_v": float(np.ravel(env.vt_minus)[0]),
-        "thresholds_from": ("measured by the user" if design.chip.measured
-                            else "datasheet typical at this supply, interpolated"),
+        "thresholds_from": _thresholds_from(design),
         "rout_high_ohm": float(np.ravel(env.rout_high)[0]),
         "rout_low_ohm": float(np.ravel(env.rout_low)[0]),
         "led": led.name,
@@ -100,8 +110,10 @@ def assumptions(design: Design) -> dict[str, Any]:
     }
     if not design.chip.is_timer:
         if design.chip.cross_current_a is not None:
+            how = (" (a measured chip's draw)" if design.chip.follows_family
+                   else " (given with --cross-current)")
             out["crossing_current"] = (f"measured: {format_eng(design.chip.cross_current_a, 'A')}"
-                                       " (given with --cross-current)")
+                                       + how)
         else:
             f = design.fast()
             out["crossing_current"] = (

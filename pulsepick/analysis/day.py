@@ -24,6 +24,7 @@ reverse leakage: pulsepick.parts.diode (ref:bat54, ref:1n4148). Energy of a capa
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 from datetime import datetime, timedelta
 from typing import Literal
@@ -510,6 +511,9 @@ class DayRow:
     flashes: float  # flashes in the night
     stops_at_s: float | None  # s after dusk, when the light stopped
     v_next_dawn_v: float  # V, at the next dawn
+    dawn_s: float = math.nan  # s after midnight, this day's dawn (clock)
+    dusk_s: float = math.nan  # s after midnight, this day's dusk (clock)
+    night_s: float = math.nan  # s, the night after this day
 
 
 @dataclass(frozen=True)
@@ -555,6 +559,7 @@ class DaysResult:
     warnings: tuple[str, ...]
     cautions: tuple[str, ...]
     nights: tuple[NightResult | None, ...] = field(default=(), repr=False)  # per night
+    windows: tuple[NightWindow, ...] = ()  # the night window of each day (its own date's)
 
 
 def _weather_profiles(weather) -> list[Profile]:
@@ -589,16 +594,18 @@ class _Runner:
         self.v_stop = _night_stop(night_load, stop_at_v)
         self.v_full = path.clamp_v if path.clamp_v is not None else storage.v_rated_v
 
-    def day(self, profile: Profile | None, t0: float, v0: float, t_last: float) -> dict:
+    def day(self, profile: Profile | None, t0: float, v0: float, t_last: float,
+            t1: float | None = None) -> dict:
         dawn = t0
-        dusk = t0 + (DAY_S - self.window.night_s)
+        dusk = t0 + (DAY_S - self.window.night_s) if t1 is None else max(t1, t0)
         return _integrate(self.solver, self.storage, profile, dawn, dusk, v0,
                           day_load=self.day_load, leak_level=self.leak_level,
                           clamp_v=self.path.clamp_v, v_full=self.v_full, t_last_charge=t_last)
 
-    def night(self, t_dusk: float, v_dusk: float, t_last: float, dusk_dt: datetime | None):
+    def night(self, t_dusk: float, v_dusk: float, t_last: float, dusk_dt: datetime | None,
+              window: NightWindow | None = None):
         """Lit part with simulate_night, the rest dark; returns (result, v_dawn, tl)."""
-        w = self.window
+        w = self.window if window is None else window
         diode_leak = float(self.path.diode.reverse_current(v_dusk, self.path.diode_leak))
         result = None
         t_lit = 0.0
@@ -629,12 +636,14 @@ class _Runner:
 
 
 def simulate_days(storage: Storage, panel: PanelModel, diode: DiodeModel, weather,
-                  night_load: LoadCurve | float | None, night: NightWindow, v_start_v: float,
+                  night_load: LoadCurve | float | None,
+                  night: NightWindow | Sequence[NightWindow], v_start_v: float,
                   *, days: int | None = None, clamp_v: float | None = None,
                   bleed_ohm: float = math.inf, day_load: LoadCurve | float | None = None,
                   stop_at_v: float | None = None, leak_level: str = "settled",
                   diode_leak: DiodeLeak = "typ", autonomy: bool = True,
-                  recovery: bool = True) -> DaysResult:
+                  recovery: bool = True,
+                  weak_light: Sequence[Profile] | None = None) -> DaysResult:
     """Alternate days of charging and nights of blinking.
 
     Parameters
@@ -643,7 +652,10 @@ def simulate_days(storage: Storage, panel: PanelModel, diode: DiodeModel, weathe
     weather : weather words (clear, overcast, dim) or :class:`Profile` objects, one per
         day; repeated in turn when ``days`` is longer.
     night_load : the blinker at night (LoadCurve, or a constant current in A).
-    night : the night window.
+    night : the night window, the same every day; or one window per day (each date's own
+        dusk and dawn), at least as many as the days. Day 1 runs from the first window's
+        dawn clock time to its dusk; each later day from the night before's dawn to its own
+        window's dusk.
     v_start_v : storage voltage at the first dawn (V); 0 for empty.
     days : number of days (default: one per weather entry).
     clamp_v : shunt clamp voltage (V), or None.
@@ -654,6 +666,9 @@ def simulate_days(storage: Storage, panel: PanelModel, diode: DiodeModel, weathe
     diode_leak : the diode's reverse leakage figure, "typ" or "max".
     autonomy : also count the nights the storage lasts from full with no sun.
     recovery : also check the restart from empty in the weakest light of the run.
+    weak_light : the weak light of each day (such as its date's clear sky times the dim
+        clear-sky index), one per day or one for all; the restart check takes the weakest of
+        these and the run's own days (default: the dim profile shape).
     """
     _check_storage_voltage(v_start_v, "start voltage")
     if leak_level not in LEAK_LEVELS:
@@ -664,6 +679,8 @@ def simulate_days(storage: Storage, panel: PanelModel, diode: DiodeModel, weathe
     n_days = len(profiles) if days is None else int(days)
     if not 1 <= n_days <= MAX_DAYS:
         raise RequestError(f"days {days!r}: accepted 1 to {MAX_DAYS}")
+    windows = _day_windows(night, n_days)
+    night = windows[0]
     path = ChargePath(panel=panel, diode=diode, bleed_ohm=bleed_ohm, clamp_v=clamp_v,
                       diode_leak=diode_leak)
     n_load = _as_load(night_load, "night load")
@@ -677,27 +694,30 @@ def simulate_days(storage: Storage, panel: PanelModel, diode: DiodeModel, weathe
                         "the clamp pulls it down at once")
         v = clamp_v
     v_first = v
-    day_len = DAY_S - night.night_s
     rows: list[DayRow] = []
     nights: list[NightResult | None] = []
     tl_t: list[float] = []
     tl_v: list[float] = []
     t_last = -1e9
     dawn_clock = night.dawn_s
+    dusks = _dusk_times(windows, dawn_clock)  # clock seconds after midnight of day 1
     for i in range(n_days):
         prof = profiles[i % len(profiles)]
-        t0 = dawn_clock + i * DAY_S  # clock seconds after midnight of day 1
+        w = windows[i]
+        # Each day runs from the night before's dawn to its own date's dusk.
+        t0 = dawn_clock if i == 0 else dusks[i - 1] + windows[i - 1].night_s
         v_dawn = v
-        d = runner.day(prof, t0, v, t_last)
+        t_dusk = max(dusks[i], t0)
+        d = runner.day(prof, t0, v, t_last, t_dusk)
         t_last = d["t_last_charge"]
         tl_t.extend(d["tl"][0])
         tl_v.extend(d["tl"][1])
-        t_dusk = t0 + day_len
-        dusk_dt = (night.dusk_date + timedelta(days=i)) if night.dusk_date is not None else None
+        dusk_dt = (None if night.dusk_date is None
+                   else night.dusk_date + timedelta(seconds=t_dusk - dusks[0]))
         ts = np.linspace(t0, t_dusk, 97)
         g_peak = float(np.max(irradiance_at(prof, ts)))
         v_eq = equilibrium_voltage(path, storage, g_peak, d_load, leak_level=leak_level)
-        res, v_next, t_lit, ntl = runner.night(t_dusk, d["v"], t_last, dusk_dt)
+        res, v_next, t_lit, ntl = runner.night(t_dusk, d["v"], t_last, dusk_dt, w)
         tl_t.extend(ntl[0])
         tl_v.extend(ntl[1])
         nights.append(res)
@@ -711,6 +731,7 @@ def simulate_days(storage: Storage, panel: PanelModel, diode: DiodeModel, weathe
             v_dusk_v=d["v"], v_eq_v=v_eq, runtime_s=t_lit, lasted=lasted,
             flashes=0.0 if res is None else res.flashes,
             stops_at_s=None if lasted else t_lit, v_next_dawn_v=v_next,
+            dawn_s=t0 % DAY_S, dusk_s=t_dusk % DAY_S, night_s=w.night_s,
         ))
         v = v_next
 
@@ -721,11 +742,12 @@ def simulate_days(storage: Storage, panel: PanelModel, diode: DiodeModel, weathe
         autonomy_nights, capped = _autonomy(runner)
 
     rec = None
+    restart_note = None
     if recovery:
-        weakest = min(profiles, key=lambda p: p.insolation_wh_m2)
-        if weakest.insolation_wh_m2 > get_profile("dim").insolation_wh_m2:
-            weakest = get_profile("dim")
-        rec = _recovery(runner, weakest, night)
+        weakest, weakest_night = _weakest_light(profiles, windows, n_days, weak_light)
+        rec = _recovery(runner, weakest, weakest_night)
+        if weak_light is not None:
+            restart_note = f"restart check in the weakest light: {weakest.name}, {weakest.source}"
 
     # Over-voltage and the clamp.
     drop = diode_drop_v(diode)
@@ -763,12 +785,17 @@ def simulate_days(storage: Storage, panel: PanelModel, diode: DiodeModel, weathe
     if bleed_ohm != math.inf:
         assumptions.append(
             f"the dusk detector's bleed {bleed_ohm / 1e3:g} kohm takes panel current by day")
-    for prof in {p.name: p for p in profiles}.values():
-        lit_in_night = _light_in_night(prof, night)
+    shares: dict[str, float] = {}
+    for i in range(n_days if len(set(windows)) > 1 else min(n_days, len(profiles))):
+        prof = profiles[i % len(profiles)]
+        shares[prof.name] = max(shares.get(prof.name, 0.0), _light_in_night(prof, windows[i]))
+    for name, lit_in_night in shares.items():
         if lit_in_night > 0.05:
             warnings.append(
-                f"{lit_in_night:.0%} of the {prof.name} profile's light falls inside the night "
+                f"{lit_in_night:.0%} of the {name} profile's light falls inside the night "
                 "window and is not used; check the night times against the profile")
+    if restart_note is not None:
+        assumptions.append(restart_note)
     if storage.cells_in_series > 1:
         assumptions.append(f"{storage.cells_in_series} cells in series, balanced: "
                            f"{'yes' if storage.balanced else 'no'}")
@@ -783,8 +810,56 @@ def simulate_days(storage: Storage, panel: PanelModel, diode: DiodeModel, weathe
         proposed_clamp_w=proposed_w, clamp_at_isc_w=clamp_w,
         timeline_t_s=np.array(tl_t, dtype=float) - dawn_clock, timeline_v_v=np.array(tl_v),
         assumptions=tuple(assumptions), warnings=tuple(warnings), cautions=tuple(cautions),
-        nights=tuple(nights),
+        nights=tuple(nights), windows=windows,
     )
+
+
+def _day_windows(night, n_days: int) -> tuple[NightWindow, ...]:
+    """One night window per day: the same window repeated, or the ones given per day."""
+    if isinstance(night, NightWindow):
+        return (night,) * n_days
+    windows = tuple(night)
+    bad = [w for w in windows if not isinstance(w, NightWindow)]
+    if bad or len(windows) < n_days:
+        raise RequestError(f"night windows: give one NightWindow, or one per day ({n_days} "
+                           f"days, {len(windows)} windows given)")
+    return windows[:n_days]
+
+
+def _dusk_times(windows: tuple[NightWindow, ...], dawn_clock: float) -> list[float]:
+    """Each day's dusk as clock seconds after midnight of day 1.
+
+    The first dusk follows the first dawn by a day less the first night (as a single window
+    always did); later dusks keep their dates' distance from it, or fall one day apart with
+    their own clock times when the windows carry no dates.
+    """
+    first = windows[0]
+    out = [dawn_clock + DAY_S - first.night_s]
+    for i, w in enumerate(windows[1:], start=1):
+        if w.dusk_date is not None and first.dusk_date is not None:
+            out.append(out[0] + (w.dusk_date - first.dusk_date).total_seconds())
+        else:
+            out.append(out[0] + i * DAY_S + (w.dusk_s - first.dusk_s))
+    return out
+
+
+def _weakest_light(profiles, windows, n_days: int, weak_light) -> tuple[Profile, NightWindow]:
+    """The weakest light of the run or of the given weak lights, with its day's window."""
+    if weak_light is None:
+        weak = [get_profile("dim")]
+    elif isinstance(weak_light, Profile):
+        weak = [weak_light]
+    else:
+        weak = list(weak_light)
+    best: tuple[Profile, NightWindow] | None = None
+    for i in range(n_days):
+        for prof in (profiles[i % len(profiles)], weak[i % len(weak)] if weak else None):
+            if prof is None:
+                continue
+            if best is None or prof.insolation_wh_m2 < best[0].insolation_wh_m2:
+                best = (prof, windows[i])
+    assert best is not None
+    return best
 
 
 def _trapezoid(y: np.ndarray, x: np.ndarray) -> float:
@@ -834,7 +909,7 @@ def _recovery(runner: _Runner, profile: Profile, night: NightWindow) -> Recovery
     drop = diode_drop_v(path.diode)
     v_eq = equilibrium_voltage(path, runner.storage, g_peak, runner.day_load,
                                leak_level=runner.leak_level)
-    d = runner.day(profile, t0, 0.0, -1e9)
+    d = runner.day(profile, t0, 0.0, -1e9, t0 + day_len)
     v_dusk = d["v"]
     return Recovery(
         weather=profile.name, peak_irradiance_w_m2=g_peak, panel_voc_v=voc, diode_drop_v=drop,

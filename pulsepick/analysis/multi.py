@@ -116,7 +116,7 @@ class PackagePlan:
     n_lights: int
     oscillators: int  # Schmitt oscillator gates
     buffers: int  # buffer gates
-    dusk: int  # 1 with a dusk detector, else 0
+    dusk: int  # gates of the dusk detector (its sense gate and any hold inverter), else 0
     timers: int  # 555 packages
 
     @property
@@ -150,8 +150,8 @@ class PackagePlan:
                          f"{_n(self.timers, 'package')}")
         text = "; ".join(words)
         if self.dusk:
-            text += " plus 1 gate for the dusk detector" if not schmitt or self.timers \
-                else " plus 1 for the dusk detector"
+            gates = _n(self.dusk, "gate") if not schmitt or self.timers else str(self.dusk)
+            text += f" plus {gates} for the dusk detector"
         return text
 
 
@@ -161,14 +161,16 @@ def _n(k: int, word: str) -> str:
 
 def plan_packages(uses: Sequence[LightUse], *, dusk_detector: bool = True,
                   dusk_family: str | None = None,
-                  periods_s: Sequence[float] | None = None) -> PackagePlan:
+                  periods_s: Sequence[float] | None = None,
+                  dusk_gates: int = 1) -> PackagePlan:
     """Place the lights on packages per logic family, as few packages as the gates need.
 
     The dusk detector's gate goes with ``dusk_family`` (default: the first Schmitt
     light's family, or ``hc`` when every light is on a 555). With ``periods_s`` (s), each
     light goes to the package with room where its period keeps furthest from a simple
     ratio with the lights already there (nominal ratios widened by ``PLAN_BAND``);
-    without, first fit, largest first.
+    without, first fit, largest first. ``dusk_gates``: the detector's sense gate plus its
+    hold inverter when one is needed (``pulsepick.analysis.gating``).
     """
     if not uses:
         raise RequestError("a build needs at least one light")
@@ -180,7 +182,7 @@ def plan_packages(uses: Sequence[LightUse], *, dusk_detector: bool = True,
         items.sort(key=lambda t: -t[0])
         mine: list[dict[str, Any]] = []
         if dusk_detector and family == dfam:
-            items.insert(0, (1, -1))
+            items.insert(0, (dusk_gates, -1))
         if periods_s is not None:
             total = sum(size for size, _ in items)
             mine = [{"family": family, "used": 0, "lights": [], "dusk": False}
@@ -211,7 +213,7 @@ def plan_packages(uses: Sequence[LightUse], *, dusk_detector: bool = True,
         packages=out, n_lights=len(uses),
         oscillators=sum(1 for u in uses if not u.is_timer),
         buffers=sum(1 for u in uses if not u.is_timer and u.buffered),
-        dusk=int(dusk_detector), timers=sum(1 for u in uses if u.is_timer))
+        dusk=dusk_gates if dusk_detector else 0, timers=sum(1 for u in uses if u.is_timer))
 
 
 #: Half-width (log units) added to nominal ratios when placing lights on packages: about
@@ -587,7 +589,8 @@ def with_values(design, values: dict[str, float]):
 # ============================================================================ parts
 
 def build_part_lines(names: Sequence[str], part_lines: Sequence[tuple], plan: PackagePlan, *,
-                     storage=None, panel=None, charge_diode: str | None = None) -> tuple:
+                     storage=None, panel=None, charge_diode: str | None = None,
+                     hold_lines: Sequence = ()) -> tuple:
     """Every part of the build, numbered across the lights (``PartLine`` tuple).
 
     Chips come first, one line per package (U1, U2, ...); then each light's resistors,
@@ -608,7 +611,8 @@ def build_part_lines(names: Sequence[str], part_lines: Sequence[tuple], plan: Pa
         else:
             parts = [f"Schmitt gates for {who}"] if who else []
             if pkg.dusk:
-                parts.append("the dusk detector")
+                parts.append("the dusk detector" + (" and its hold inverter"
+                                                    if plan.dusk > 1 else ""))
             role = " and ".join(parts)
             unused = GATES_PER_PACKAGE - pkg.gates_used
             note = (f"uses {pkg.gates_used} of {GATES_PER_PACKAGE} gates"
@@ -624,13 +628,16 @@ def build_part_lines(names: Sequence[str], part_lines: Sequence[tuple], plan: Pa
         counters[prefix] = counters.get(prefix, 0) + 1
         return f"{prefix}{counters[prefix]}"
 
-    prefix_of = {"resistor": "R", "capacitor": "C", "diode": "D", "led": "LED"}
+    prefix_of = {"resistor": "R", "capacitor": "C", "diode": "D", "led": "LED",
+                 "photoresistor": "LDR"}
     for name, own in zip(names, part_lines, strict=True):
         for line in own:
             if line.kind == "chip":
                 continue
             lines.append(replace(line, ref=ref(prefix_of.get(line.kind, "X")),
                                  role=f"{name}: {line.role}"))
+    for line in hold_lines:  # the dusk detector's hold diodes (pulsepick.analysis.gating)
+        lines.append(replace(line, ref=ref("D")))
     if storage is not None:
         lines.append(PartLine(
             ref=ref("C"), kind="storage", value=storage.capacitance_f, unit="F",

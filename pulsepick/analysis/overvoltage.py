@@ -33,11 +33,17 @@ class ClampAdvice:
     proposed_clamp_w: float | None  # W, its dissipation at the panel's full-sun Isc
     isc_a: float  # A, the panel's full-sun short-circuit current
     cautions: tuple[str, ...]  # the over-voltage caution and the proposal, as sentences
+    v_unclamped_v: float = math.nan  # V, Voc at full sun minus the diode drop (no clamp)
 
     @property
     def over(self) -> bool:
         """The panel can push the storage past its rating."""
         return self.v_possible_v > self.v_rated_v
+
+    @property
+    def clamp_needed(self) -> bool:
+        """Without any clamp the panel could push the storage past its rating."""
+        return self.v_unclamped_v > self.v_rated_v
 
 
 def clamp_advice(storage: Storage, panel: PanelModel, diode: DiodeModel,
@@ -62,4 +68,4 @@ def clamp_advice(storage: Storage, panel: PanelModel, diode: DiodeModel,
             f"it dissipates up to {proposed_w * 1e3:.0f} mW. Or choose a storage rated at "
             f"{v_possible:.1f} V or more.")
     return ClampAdvice(v_possible, storage.v_rated_v, clamp_v, proposed, proposed_w, isc,
-                       tuple(cautions))
+                       tuple(cautions), voc - diode_drop_v(diode))

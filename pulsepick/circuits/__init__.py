@@ -16,4 +16,5 @@ CIRCUIT_MODULES = (
     "direct",
     "pulse",
     "fade",
+    "dusk_hold",
 )

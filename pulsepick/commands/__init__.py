@@ -20,4 +20,6 @@ COMMAND_MODULES = (
     "day",
     "dusk",
     "ldr",
+    "calibrate",
+    "retune",
 )

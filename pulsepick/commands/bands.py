@@ -27,6 +27,7 @@ from pulsepick.commands.circuit_options import (
     add_circuit_arguments,
     design_from_args,
     parts_from_args,
+    solver_chip,
 )
 from pulsepick.commands.pictures import (
     add_picture_arguments,
@@ -132,8 +133,10 @@ def _design_from_phrase(args, supply_text: str):
     full, _ = _supply(supply_text)
     _, parts = parts_from_args(args, full)
     timing_cap = None if args.timing_cap == DEFAULT_TIMING_CAP else args.timing_cap
-    req = make_request(args.phrase, supply=supply_text, family=args.family, led=parts.led,
-                       timing_cap=timing_cap, top=1, builds=args.builds, seed=args.seed)
+    family, measured = solver_chip(args)
+    req = make_request(args.phrase, supply=supply_text, family=family, led=parts.led,
+                       timing_cap=timing_cap, top=1, builds=args.builds, seed=args.seed,
+                       chip_overrides=measured)
     result = solve(req)
     if not result.candidates:
         why = "; ".join(result.explanations) or result.message or "no circuit found"

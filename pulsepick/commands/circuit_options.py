@@ -45,6 +45,8 @@ def add_part_arguments(parser: argparse.ArgumentParser) -> None:
     g.add_argument("--led-n", type=float, metavar="N", help="custom LED ideality factor")
     g.add_argument("--led-rs", metavar="OHM", help="custom LED series resistance, e.g. 10")
     g.add_argument("--led-mcd", metavar="MCD@I", help="custom LED intensity, e.g. 120@20mA")
+    g.add_argument("--chip", metavar="FILE.toml",
+                   help="your measured chip (a profile from 'pulsepick calibrate --save')")
     g.add_argument("--vt-plus", metavar="V", help="measured VT+ of your chip at --supply")
     g.add_argument("--vt-minus", metavar="V", help="measured VT- of your chip at --supply")
     g.add_argument("--rout", metavar="OHM", help="measured gate output resistance")
@@ -155,6 +157,8 @@ def parts_from_args(args, supply_v: float, core: str | None = None
     """
     default = "timer555" if core == "timer555" else "hc"
     family = (args.family or default).strip().lower()
+    if getattr(args, "chip", None) and not args.family and not _timer_core(core):
+        family = "hc"  # the profile names the family; this only passes the check below
     if family not in CHIP_KEYS:
         raise RequestError(f"unknown --family {args.family!r}; accepted: {', '.join(CHIP_KEYS)}")
     for opt, kind in (("timing_cap", args.timing_cap), ("stage_cap", args.stage_cap)):
@@ -171,13 +175,78 @@ def parts_from_args(args, supply_v: float, core: str | None = None
     rout = parse_value(args.rout, unit="ohm") if args.rout else None
     cross = parse_quantity(args.cross_current, "current", allow_zero=True) \
         if args.cross_current else None
-    chip = ChipSpec(family=family, vt_plus_v=vt_plus, vt_minus_v=vt_minus, rout_ohm=rout,
-                    cross_current_a=cross,
-                    measured_at_v=supply_v if (vt_plus or vt_minus or rout) else None)
+    if getattr(args, "chip", None):
+        chip = chip_from_profile(args.chip, args.family, core, rout=rout, cross=cross,
+                                 thresholds_given=bool(vt_plus or vt_minus))
+    else:
+        chip = ChipSpec(family=family, vt_plus_v=vt_plus, vt_minus_v=vt_minus, rout_ohm=rout,
+                        cross_current_a=cross,
+                        measured_at_v=supply_v if (vt_plus or vt_minus or rout) else None)
     parts = PartChoice(led=led_from_args(args), timing_cap=args.timing_cap,
                        stage_cap=args.stage_cap, steer_diode=args.steer_diode,
                        reset_diode=args.reset_diode, fade_diode=args.fade_diode)
     return chip, parts
+
+
+def _timer_core(core: str | None) -> bool:
+    """True for a registered core that runs on a timer chip rather than a Schmitt gate."""
+    return core in core_names() and get_core(core).chip_kind == "timer"
+
+
+def chip_from_profile(path: str, family: str | None = None, core: str | None = None, *,
+                      rout: float | None = None, cross: float | None = None,
+                      thresholds_given: bool = False) -> ChipSpec:
+    """The chip of a profile file (``--chip``); a measured ``cross`` replaces its current.
+
+    The thresholds follow the family's published shape at other supplies. Refuses a
+    profile beside ``--vt-plus``/``--vt-minus``, another ``--family`` or a 555 core.
+    """
+    from pulsepick.parts.chipprofile import read_profile
+
+    if thresholds_given:
+        raise RequestError("--chip already gives the thresholds; leave out --vt-plus and "
+                           "--vt-minus, or leave out --chip")
+    profile = read_profile(path)
+    if family and family.strip().lower() != profile.family:
+        raise RequestError(f"--chip {path} holds a {profile.family} chip but --family is "
+                           f"{family!r}; leave out --family or give the matching profile")
+    if _timer_core(core):
+        raise RequestError(f"--chip {path} describes a Schmitt chip; the {core} core uses "
+                           "its own timer chip (leave out --chip)")
+    current = cross if cross is not None else profile.supply_current_a
+    return ChipSpec(family=profile.family, vt_plus_v=profile.vt_plus_v,
+                    vt_minus_v=profile.vt_minus_v, rout_ohm=rout, cross_current_a=current,
+                    measured_at_v=profile.supply_v, follows_family=True)
+
+
+def profile_overrides(path: str, family: str | None, overrides: dict) -> tuple[str, dict]:
+    """The solver's family and measured-chip figures from a profile file (``--chip``)."""
+    if "vt_plus_v" in overrides or "vt_minus_v" in overrides:
+        chip_from_profile(path, thresholds_given=True)
+    chip = chip_from_profile(path, family)
+    out = dict(overrides)
+    out.update(vt_plus_v=chip.vt_plus_v, vt_minus_v=chip.vt_minus_v,
+               measured_at_v=chip.measured_at_v, follows_family=True)
+    if chip.cross_current_a is not None and "cross_current_a" not in out:
+        out["cross_current_a"] = chip.cross_current_a
+    return chip.family, out
+
+
+def solver_chip(args) -> tuple[str | None, dict]:
+    """``(family, chip_overrides)`` for a solver request: ``--chip`` when given."""
+    if getattr(args, "chip", None):
+        return profile_overrides(args.chip, args.family, {})
+    return args.family, {}
+
+
+def family_from_profile(path: str, family: str | None = None):
+    """The logic family of a profile file with the measured chip's thresholds."""
+    from pulsepick.parts.chipprofile import measured_family
+    from pulsepick.parts.logic import get_family
+
+    chip = chip_from_profile(path, family)
+    return measured_family(get_family(chip.family), chip.measured_at_v, chip.vt_plus_v,
+                           chip.vt_minus_v)
 
 
 def supply_from_args(args) -> float:

@@ -39,7 +39,7 @@ EXAMPLES = [
     "--start 0V --profile garden.csv --night 12.5h",
     "pulsepick day --storage 0f22-5v5 --panel 2v40ma --weather dim --latitude 52.1 "
     "--date 2026-12-21 --night-load 10uA --json",
-    "pulsepick day examples/firefly-lantern.toml --weather clear,overcast --days 3",
+    "pulsepick day examples/garden-path-markers.toml --weather clear,overcast --days 3",
     "pulsepick day --storage 5f-2v7 --panel 5v60ma --clamp 2.4V --latitude 60 --date "
     "2026-12-21 --tilt 60 --azimuth 180 --turbidity 3 --weather clear,overcast --days 4",
 ]
@@ -50,6 +50,8 @@ SHAPES_NOTE = ("light: the --profile file, or an illustrative day shape that is 
                "a place and date")
 DEFAULT_NIGHT = "12h"
 DEFAULT_STOP = "1.8V"
+#: The day load when none is given (a design file with a dusk detector: its held draw).
+DEFAULT_DAY_LOAD = "0A"
 
 
 # --------------------------------------------------------------------------- shared options
@@ -180,7 +182,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                        help=f"length of the night, centred on midnight (default {DEFAULT_NIGHT})")
     night.add_argument("--latitude", metavar="DEG", help="latitude, north positive; needs --date")
     night.add_argument("--longitude", metavar="DEG", help="longitude, east positive")
-    night.add_argument("--date", metavar="YYYY-MM-DD", help="the first evening's date")
+    night.add_argument("--date", metavar="YYYY-MM-DD",
+                       help="the first evening's date (each later day of a run takes its own "
+                            "date's night and sky)")
     night.add_argument("--utc-offset", metavar="H", help="local clock offset from UTC in hours")
     night.add_argument("--turn-on", choices=TURN_ON_CHOICES, default="civil",
                        help="the light turns on at civil dusk (default) or at sunset")
@@ -188,7 +192,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     loads.add_argument("--night-load", metavar="I",
                        help="the blinker's average current at night, such as 30uA (default 0A; "
                             "or describe the circuit with the circuit options)")
-    loads.add_argument("--day-load", metavar="I", default="0A",
+    loads.add_argument("--day-load", metavar="I", default=DEFAULT_DAY_LOAD,
                        help="current drawn by day with the oscillators gated off, such as 2uA")
     out = parser.add_argument_group("output")
     out.add_argument("--json", action="store_true", help="write the result as JSON on stdout")
@@ -259,6 +263,60 @@ def read_night(args: argparse.Namespace) -> tuple[NightWindow, dict]:
                     "night_s": window.night_s}
 
 
+def read_windows(night_info: dict, first: NightWindow, n_days: int):
+    """The night window of each day of the run: each date's own dusk and dawn when the place
+    and the first date are known (the sky's light changes per date, so does the night);
+    else the one window. Adds a note to ``night_info`` when a later date turns polar."""
+    if night_info.get("given") != "sun" or n_days <= 1:
+        return first
+    from datetime import timedelta
+
+    from pulsepick.analysis.sun import night_span
+
+    day = date.fromisoformat(night_info["date"])
+    windows = [first]
+    rules = {night_info.get("night_rule")}
+    for i in range(1, n_days):
+        when = day + timedelta(days=i)
+        try:
+            span = night_span(night_info["latitude_deg"], when, night_info["longitude_deg"],
+                              night_info["utc_offset_h"], night_info["turn_on"])
+        except RequestError as err:
+            raise RequestError(f"day {i + 1} of the run: {err}; accepted: fewer --days, or "
+                               "--night with a length") from err
+        if span.rule == "whole day":
+            raise RequestError(f"day {i + 1} of the run: {span.note}: the panel gets no "
+                               "daylight to charge from; accepted: fewer --days, or --night "
+                               "with a length under 24 h")
+        if span.note and span.rule not in rules and not night_info.get("night_note"):
+            night_info["night_note"] = f"from day {i + 1}: {span.note}"
+        rules.add(span.rule)
+        windows.append(NightWindow.from_times(span.dusk, span.dawn))
+    return tuple(windows)
+
+
+def weak_light(args: argparse.Namespace, night_info: dict, n_days: int, sky=None):
+    """The weak light of each day for the restart check: with a place and date, each date's
+    clear sky times the dim clear-sky index; else None (the dim profile shape)."""
+    if night_info.get("given") != "sun":
+        return None
+    from dataclasses import replace
+    from datetime import timedelta
+
+    from pulsepick.analysis.sky import CLEAR_SKY_INDEX, day_profile
+
+    site = sky.site if sky is not None else sky_options.read_site(args, night_info)
+    first = date.fromisoformat(night_info["date"])
+    dim = CLEAR_SKY_INDEX["dim"]
+    out = []
+    for i in range(n_days):
+        when = first + timedelta(days=i)
+        prof = day_profile(site, when, dim, name="dim")
+        out.append(replace(prof, source=f"the clear sky of {when.isoformat()} on the panel "
+                                        f"times the dim clear-sky index {dim:g}"))
+    return out
+
+
 def _weather(args: argparse.Namespace):
     if args.weather is not None and args.profile is not None:
         raise RequestError("give the light one way: --weather words or --profile FILE.csv")
@@ -317,13 +375,19 @@ def run(args: argparse.Namespace) -> int:
     if args.bleed is not None:
         bleed = quantity(args.bleed, "resistance", "--bleed", "240k")
     v_top = max(storage.v_rated_v, clamp or 0.0, v_start, panel.voc_v)
-    night_load = (read_night_load(args, v_top) if design is None
-                  else day_design.design_load(args, design, storage, v_top))
     day_load = quantity(args.day_load, "current", "--day-load", "2uA", allow_zero=True)
+    if design is None:
+        night_load = read_night_load(args, v_top)
+    else:
+        night_load, held_a = day_design.design_loads(args, design, storage, v_top)
+        if args.day_load == DEFAULT_DAY_LOAD:
+            day_load = held_a  # the lights held off by the dusk detector
+    n_days = len(weather) if days is None else days
+    window = read_windows(night_info, window, n_days)
     result = simulate_days(
         storage, panel, diode, weather, night_load, window, v_start, days=days, clamp_v=clamp,
         bleed_ohm=bleed, day_load=day_load, stop_at_v=stop_at, leak_level=args.leakage,
-        diode_leak=args.diode_leak)
+        diode_leak=args.diode_leak, weak_light=weak_light(args, night_info, n_days, sky))
     clamped = None
     if result.proposed_clamp_v is not None:
         # The unclamped run charges past the rating; the same run with the proposed clamp
@@ -406,10 +470,16 @@ def over_charge_line(result: DaysResult, clamped: DaysResult | None) -> str | No
 
 # --------------------------------------------------------------------------- output
 
-def _full_at(result: DaysResult, seconds: float | None) -> str | None:
+def _full_at(result: DaysResult, seconds: float | None, row=None) -> str | None:
     if seconds is None:
         return None
-    return clock(result.night.dawn_s + seconds)
+    dawn = result.night.dawn_s if row is None or math.isnan(row.dawn_s) else row.dawn_s
+    return clock(dawn + seconds)
+
+
+def _dusk_of(result: DaysResult, row) -> float:
+    """The row's own dusk (clock seconds), or the run's window's."""
+    return result.night.dusk_s if math.isnan(row.dusk_s) else row.dusk_s
 
 
 def result_json(result: DaysResult, night_info: dict, sky=None) -> dict:
@@ -464,11 +534,13 @@ def _result_json(result: DaysResult, night_info: dict) -> dict:
         "days": [
             {"day": r.day, "weather": r.weather, "v_dawn_v": r.v_dawn_v, "v_max_v": r.v_max_v,
              "full": r.full, "time_to_full_s": r.time_to_full_s,
-             "full_at": _full_at(result, r.time_to_full_s), "charge_in_c": r.charge_in_c,
+             "full_at": _full_at(result, r.time_to_full_s, r), "charge_in_c": r.charge_in_c,
              "energy_in_j": r.energy_in_j, "charge_clamp_c": r.charge_clamp_c,
              "v_dusk_v": r.v_dusk_v, "v_eq_v": r.v_eq_v, "runtime_s": r.runtime_s,
-             "lasted": r.lasted, "stops_at": None if r.lasted else clock(w.dusk_s + r.runtime_s),
-             "flashes": r.flashes, "v_next_dawn_v": r.v_next_dawn_v}
+             "lasted": r.lasted,
+             "stops_at": None if r.lasted else clock(_dusk_of(result, r) + r.runtime_s),
+             "flashes": r.flashes, "v_next_dawn_v": r.v_next_dawn_v,
+             "dawn": clock(r.dawn_s), "dusk": clock(r.dusk_s), "night_s": r.night_s}
             for r in result.rows
         ],
         "nights_lasted": result.nights_lasted,
@@ -582,7 +654,7 @@ def render_report(result: DaysResult, night_info: dict, console, sky=None,
         ["night", f"{hours(w.night_s)}, dusk {clock(w.dusk_s)}, dawn {clock(w.dawn_s)}"
                   + (f" ({night_info['date']}, latitude {night_info['latitude_deg']:g}, "
                      f"{night_info['turn_on']} turn-on)"
-                     if night_info.get("given") == "sun" else "")],
+                     if night_info.get("given") == "sun" else "") + _nights_range(result)],
         ["loads", f"night {_night_load_text(n_load)}; day {_amps(d_load)}"],
     ]
     console.print(key_value_table(setup))
@@ -591,7 +663,7 @@ def render_report(result: DaysResult, night_info: dict, console, sky=None,
     for r in result.rows:
         rows.append([
             str(r.day), r.weather, _v(r.v_dawn_v),
-            ("at dawn" if r.time_to_full_s == 0 else _full_at(result, r.time_to_full_s))
+            ("at dawn" if r.time_to_full_s == 0 else _full_at(result, r.time_to_full_s, r))
             if r.full else "not full", _v(r.v_max_v), _v(r.v_dusk_v),
             _eng(r.charge_in_c, "C"), _eng(r.energy_in_j, "J"), _eng(r.charge_clamp_c, "C"),
             "all night" if r.lasted else (hours(r.runtime_s) if r.runtime_s > 0 else "no light"),
@@ -656,6 +728,16 @@ def render_report(result: DaysResult, night_info: dict, console, sky=None,
     _list(console, "Cautions", list(result.cautions) + list(GENERAL_CAUTIONS))
     _list(console, "Assumptions", assumption_lines(result) + ([SHAPES_NOTE] if sky is None else
                                                               sky.lines()))
+
+
+def _nights_range(result: DaysResult) -> str:
+    """How the nights of a run change with the dates ('' when they are all alike)."""
+    lengths = [r.night_s for r in result.rows if math.isfinite(r.night_s)]
+    if len(lengths) < 2 or hours(min(lengths)) == hours(max(lengths)):
+        return ""
+    last = result.rows[-1]
+    return (f"; each date its own: the last night {hours(last.night_s)}, dusk "
+            f"{clock(last.dusk_s)} (nights {hours(min(lengths))} to {hours(max(lengths))})")
 
 
 def key_value_table(rows: list[list[str]]):

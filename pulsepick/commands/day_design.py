@@ -72,3 +72,35 @@ def design_load(args: argparse.Namespace, design, storage, v_top_v: float):
                               cross_current=None)
     load, _ = _solved_load(shim, design, storage, v_top_v, None)
     return load
+
+
+def design_loads(args: argparse.Namespace, design, storage, v_top_v: float):
+    """The night load curve of every light, and the day load (A): with a dusk detector,
+    what the lights draw held still by it (a photoresistor light at its daytime
+    resistance) plus the chip's typical quiescent current (:mod:`pulsepick.analysis.gating`);
+    without one, 0."""
+    from dataclasses import replace
+
+    from pulsepick.analysis.multi import combined_load_curve
+    from pulsepick.commands.night import supply_grid
+    from pulsepick.design import load_curve
+    from pulsepick.designfile import build_request
+    from pulsepick.engine.environment import chip_model
+    from pulsepick.solve import default_jobs, solve_build
+
+    result = solve_build(build_request(design), jobs=default_jobs(), assess_picks=False)
+    missing = [li.name for li in result.lights if li.pick is None]
+    if missing:
+        raise RequestError(f"{args.design}: the solver offers nothing for "
+                           f"{', '.join(missing)}; run 'pulsepick solve {args.design}' for "
+                           "the reasons")
+    grid = supply_grid(max(v_top_v, storage.v_rated_v))
+    curves = [replace(load_curve(li.pick.design, grid), label=f"{li.name}: "
+                      f"{li.pick.design.label()}") for li in result.lights]
+    name = design.name or args.design
+    load = combined_load_curve(curves, label=f"{name} ({len(curves)} lights)")
+    if result.gating is None:
+        return load, 0.0
+    schmitt = [li.pick.design for li in result.lights if not li.pick.design.chip.is_timer]
+    iq = float(chip_model(schmitt[0].chip).iq_typ_a) if schmitt else 0.0
+    return load, result.gating.held_a + iq

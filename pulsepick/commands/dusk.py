@@ -32,7 +32,7 @@ EXAMPLES = [
     "pulsepick dusk --panel 5v60ma --bleed 240k --family hc --supply 2.5V",
     "pulsepick dusk --panel 5v60ma --dusk-at 10lux --family hc --supply 2.5V --series E12",
     "pulsepick dusk --panel-voc 6V --panel-isc 100mA --dusk-at 20lux --diode si --json",
-    "pulsepick dusk examples/garden-path-markers.toml --dusk-at 10lux --panel-rsh 350k",
+    "pulsepick dusk examples/garden-path-markers.toml --dusk-at 20lux --panel-rsh 350k",
 ]
 
 
@@ -49,6 +49,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     gate = parser.add_argument_group("sense gate")
     gate.add_argument("--family", choices=FAMILY_KEYS, default=None,
                       help="logic family of the Schmitt input that watches the panel (default hc)")
+    gate.add_argument("--chip", metavar="FILE.toml",
+                      help="your measured chip (a profile from 'pulsepick calibrate --save')")
     gate.add_argument("--supply", metavar="V", default=None,
                       help="storage voltage feeding the gate (default 2.5V)")
     gate.add_argument("--series", metavar="E", default="E24",
@@ -61,6 +63,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     """Read the options, solve the detector, print the report or JSON."""
     _apply_design(args)
+    family_given = args.family
     if args.family is None:
         args.family = "hc"
     if args.supply is None:
@@ -71,6 +74,10 @@ def run(args: argparse.Namespace) -> int:
     panel = read_panel(args)
     diode = get_diode(args.diode)
     family = get_family(args.family)
+    if args.chip:
+        from pulsepick.commands.circuit_options import family_from_profile
+
+        family = family_from_profile(args.chip, family_given)
     supply = quantity(args.supply, "voltage", "--supply", "2.5V")
     series = args.series.strip().upper()
     if series not in SERIES_NAMES:
@@ -90,9 +97,8 @@ def run(args: argparse.Namespace) -> int:
         doc["turn_on_shunt_spread"] = shunt_json(spread)
         dump_json(doc)
     else:
-        console = make_console()
-        render_report(result, console)
-        console.print(shunt_line(spread, custom=result.panel.key == "custom"))
+        render_report(result, make_console(),
+                      shunt=shunt_line(spread, custom=result.panel.key == "custom"))
     return 0
 
 
@@ -208,8 +214,9 @@ def _lux(value: float) -> str:
     return "never" if not math.isfinite(value) else f"{value:.3g} lx"
 
 
-def render_report(r: DuskResult, console) -> None:
-    """Print the levels, the losses, the gating, warnings and cautions."""
+def render_report(r: DuskResult, console, shunt: str | None = None) -> None:
+    """Print the levels (with the ``shunt`` line on their spread under the table), the
+    losses, the gating, warnings and cautions."""
     from rich.text import Text
 
     console.print(Text(f"pulsepick dusk: {r.panel.name} as the light sensor, "
@@ -232,6 +239,8 @@ def render_report(r: DuskResult, console) -> None:
     ]
     console.print(simple_table("Light levels", ["", "panel voltage", "typical", "range"], rows,
                                justify=["left", "left", "right", "right"]))
+    if shunt:
+        console.print(shunt)
     if math.isfinite(r.hysteresis_lux):
         console.print(f"Hysteresis: {r.hysteresis_lux:.3g} lx (turn-off {r.hysteresis_ratio:.2f} "
                       "times the turn-on level).")

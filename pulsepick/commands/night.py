@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import math
+import os
 from dataclasses import replace
 from datetime import date, datetime, timedelta
 
@@ -272,6 +273,15 @@ def run(args: argparse.Namespace) -> int:
 
     dusk_bias = _dusk_bias(args, designs, v_start)
     extra_all = extra + (dusk_bias["bias_a"] if dusk_bias else 0.0)
+    hold_note = None
+    if design is not None and design.build.get("dusk_detector", True):
+        # the dusk holds' diodes leak at night (pulsepick.analysis.gating)
+        from pulsepick.analysis.gating import night_leak_a
+
+        hold_leak = night_leak_a([d.topo for _, d in designs], v_start)
+        extra_all += hold_leak
+        hold_note = (f"dusk holds: the hold diodes' reverse leakage, {hold_leak * 1e9:.0f} nA "
+                     "together (typical, an estimate), is drawn all night")
     options = {"extra_load_a": extra_all, "storage_leak_a": leak, "t_since_charge_s": charge_age,
                "leak_level": args.leakage}
     if args.size:
@@ -296,7 +306,7 @@ def run(args: argparse.Namespace) -> int:
     }
     result = replace(result, assumptions=result.assumptions + tuple(
         entry["note"] for entry in (context["crossing_current"], context["dusk_detector"])
-        if entry is not None))
+        if entry is not None) + ((hold_note,) if hold_note else ()))
     advice = _clamp_advice(args, design, storage)
     if advice is not None and advice.cautions:
         result = replace(result, cautions=advice.cautions + result.cautions)
@@ -374,6 +384,8 @@ def _solved_load(args, design, storage, v_start: float, stop_at: float | None):
         from pulsepick.designfile import build_request
 
         overrides = {"supply": args.supply, "family": args.family}
+        if getattr(args, "chip", None):
+            overrides["chip"] = os.path.abspath(args.chip)
         result = solve_build(build_request(design, **overrides), jobs=jobs, assess_picks=False)
         missing = [li.name for li in result.lights if li.pick is None]
         if missing:
@@ -387,6 +399,7 @@ def _solved_load(args, design, storage, v_start: float, stop_at: float | None):
         name = design.name or args.design
         return combined_load_curve(curves, label=f"{name} ({len(curves)} lights)"), designs
     _one_circuit(args, "--from-solve")
+    from pulsepick.commands.circuit_options import solver_chip
     from pulsepick.request import make_build_request, make_request, split_lights
 
     supply = args.supply
@@ -396,7 +409,9 @@ def _solved_load(args, design, storage, v_start: float, stop_at: float | None):
         raise RequestError(f"--pick {args.pick}: give a circuit number of at least 1")
     phrases = split_lights(args.from_solve)
     if phrases is not None:
-        breq = make_build_request(phrases, supply=supply, family=args.family, led=args.led,
+        family, measured = solver_chip(args)
+        breq = make_build_request(phrases, supply=supply, family=family, led=args.led,
+                                  chip_overrides=measured,
                                   source=args.from_solve)
         result = solve_build(breq, jobs=jobs, assess_picks=False)
         if any(li.pick is None for li in result.lights):
@@ -407,7 +422,9 @@ def _solved_load(args, design, storage, v_start: float, stop_at: float | None):
         return (combined_load_curve([load_curve(d, grid) for _, d in designs],
                                     label=f"{args.from_solve} ({len(phrases)} lights)"),
                 designs)
-    req = make_request(args.from_solve, supply=supply, family=args.family, led=args.led)
+    family, measured = solver_chip(args)
+    req = make_request(args.from_solve, supply=supply, family=family, led=args.led,
+                       chip_overrides=measured)
     result = solve(req, jobs=jobs)
     if not result.success:
         raise RequestError(f"--from-solve {args.from_solve!r}: nothing can be offered; "

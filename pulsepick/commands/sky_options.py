@@ -123,6 +123,10 @@ class SkyWeather:
         """When the sun stays low: the first day's light at turbidity ±1."""
         if not self.low_sun:
             return None
+        if self.highest_elevation_deg <= 0.0:
+            return (f"No sun: on {self.first_date.isoformat()} the sun stays below the horizon "
+                    f"(at most {self.highest_elevation_deg:.1f} degrees); the clear-sky model "
+                    "gives no light, and twilight alone does not charge the storage (estimate).")
         t = self.site.turbidity
         parts = [f"{v / 1e3:.2f} kWh/m² at turbidity {k:g}"
                  for k, v in sorted(self.sensitivity_wh_m2.items())]

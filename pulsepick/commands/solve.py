@@ -22,6 +22,8 @@ EXAMPLES = [
     'pulsepick solve "every 4 s, 200 mcd" --led white --supply 3.3V',
     "pulsepick solve --every 3s --flash 40ms --peak 5mA --led red --supply 2.7V..1.8V",
     'pulsepick solve "one flash every 3 s" --stock drawer.csv --buylist parts.csv --pick 1',
+    'pulsepick solve "one flash every 3 s" --trim --buylist parts.csv',
+    'pulsepick solve "one flash every 3 s" --chip chip.toml',
     'pulsepick solve "one flash every 3 s" --cores schmitt-steered --stages direct --json',
     'pulsepick solve "one flash every 3 s" --plot garden.png --report garden.html',
     'pulsepick solve "three lights: every 2.7 s, every 4.1 s, every 6.3 s, 60 ms each" '
@@ -85,6 +87,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     ctx.add_argument("--led-n", type=float, metavar="N", help="your LED's ideality factor")
     ctx.add_argument("--led-rs", metavar="OHM", help="your LED's series resistance, e.g. 10")
     ctx.add_argument("--led-mcd", metavar="MCD@I", help="your LED's intensity, e.g. 120@20mA")
+    ctx.add_argument("--chip", metavar="FILE.toml",
+                     help="your measured chip (a profile from 'pulsepick calibrate --save')")
     ctx.add_argument("--vt-plus", metavar="V", help="VT+ measured on your Schmitt chip at the "
                                                     "(full) supply")
     ctx.add_argument("--vt-minus", metavar="V", help="VT- measured on your Schmitt chip")
@@ -149,6 +153,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                           "lights)")
     out.add_argument("--pick", type=int, default=1, metavar="N",
                      help="the circuit for --buylist (default 1, the best)")
+    out.add_argument("--trim", action="store_true",
+                     help="a fixed resistor + trimmer on the part that sets the period, sized "
+                          "from the spread")
     out.add_argument("--force", action="store_true",
                      help="let --buylist, --plot and --report replace a file")
     out.add_argument("--jobs", type=int, metavar="N",
@@ -217,10 +224,15 @@ def request_from_args(args):
     from pulsepick.request import make_request
 
     overrides = _chip_overrides(args)
+    family = args.family
+    if getattr(args, "chip", None):
+        from pulsepick.commands.circuit_options import profile_overrides
+
+        family, overrides = profile_overrides(args.chip, args.family, overrides)
     req = make_request(
         args.phrase, every=args.every, flash=args.flash, peak=args.peak,
         effective=args.effective, intensity=args.intensity, supply=args.supply,
-        family=args.family, led=_led(args), series=args.series, cap_series=args.cap_series,
+        family=family, led=_led(args), series=args.series, cap_series=args.cap_series,
         timing_cap=args.timing_cap, max_r=args.max_r, min_r=args.min_r,
         cap_range=args.cap_range, buffered=args.buffered, stages=args.stages,
         cores=args.cores, stock=args.stock, top=args.top, builds=args.builds, seed=args.seed,
@@ -229,10 +241,11 @@ def request_from_args(args):
     if overrides:
         from dataclasses import replace
 
-        if "vt_plus_v" in overrides or "vt_minus_v" in overrides or "rout_ohm" in overrides:
+        if ("vt_plus_v" in overrides or "vt_minus_v" in overrides or "rout_ohm" in overrides) \
+                and "measured_at_v" not in overrides:
             overrides["measured_at_v"] = req.supply_v
         vtp, vtm = overrides.get("vt_plus_v"), overrides.get("vt_minus_v")
-        if vtp is not None and vtm is not None and not vtm < vtp < req.supply_v:
+        if vtp is not None and vtm is not None and not vtm < vtp < overrides["measured_at_v"]:
             raise RequestError(f"measured thresholds need VT- < VT+ < supply; got VT- "
                                f"{vtm:g} V, VT+ {vtp:g} V at {req.supply_v:g} V")
         req = replace(req, chip_overrides=overrides)
@@ -267,6 +280,11 @@ def run(args) -> int:
     check_picture_targets(args)
     result = solve(req, jobs=jobs)
     result = assess(result, jobs=jobs)
+    plans = None
+    if getattr(args, "trim", False):
+        from pulsepick.commands.trim_parts import trim_result
+
+        result, plans = trim_result(result, req.r_series)
     if args.buylist and result.success:
         from pulsepick.export import buylist_text, write_atomic
 
@@ -274,11 +292,20 @@ def run(args) -> int:
     if args.json:
         from pulsepick.export import result_json
 
-        dump_json(result_json(result, solve_cautions(req)))
+        out = result_json(result, solve_cautions(req))
+        if plans is not None:
+            from pulsepick.commands.trim_parts import add_trim_json
+
+            add_trim_json(out, plans)
+        dump_json(out)
     else:
         console = make_console()
         render_report(console, result, buylist=args.buylist if result.success else None,
                       pick=args.pick)
+        if plans is not None:
+            from pulsepick.commands.trim_parts import render_trim
+
+            render_trim(console, plans)
     solve_pictures(args, result)
     if not result.success:
         _nothing_line(req.describe(), result.explanations)
@@ -490,7 +517,7 @@ def _render_request(console, req, result=None) -> None:
                  "cross_current_a": ("crossing current", "A"), "measured_at_v": ("at", "V")}
         rows.append(["chip measured", ", ".join(
             f"{names.get(k, (k, ''))[0]} {format_eng(v, names.get(k, (k, ''))[1])}"
-            for k, v in req.chip_overrides.items()), "given"])
+            for k, v in req.chip_overrides.items() if not isinstance(v, bool)), "given"])
     console.print(simple_table("Request and assumptions", ["", "value", ""], rows))
     crossing = None if result is None else crossing_text(result)
     if crossing:
@@ -698,7 +725,14 @@ def build_request_from_args(args):
     if _chip_overrides(args):
         raise RequestError("--vt-plus, --vt-minus, --rout and --cross-current describe one "
                            "chip; they apply to a single light")
+    if getattr(args, "trim", False):
+        raise RequestError("--trim sizes one light's trimmer; run 'pulsepick solve' on one "
+                           "light's phrase with --trim")
     context = _build_context(args)
+    if getattr(args, "chip", None):
+        import os
+
+        context["chip"] = os.path.abspath(args.chip)
     if is_design_file(args.phrase):
         design = read_design(args.phrase)
         overrides = {k: v for k, v in context.items() if v is not None}
@@ -711,6 +745,11 @@ def build_request_from_args(args):
             overrides["dusk_detector"] = args.dusk_detector
         return build_request(design, **overrides), design
     phrases = split_lights(args.phrase)
+    if context.get("chip"):
+        from pulsepick.commands.circuit_options import profile_overrides
+
+        context["family"], context["chip_overrides"] = profile_overrides(
+            context.pop("chip"), context.get("family"), {})
     return make_build_request(
         phrases, max_packages=args.max_packages,
         dusk_detector=True if args.dusk_detector is None else args.dusk_detector,
@@ -731,10 +770,9 @@ def run_build(args) -> int:
         raise RequestError(f"--jobs {jobs}: give a whole number of at least 1")
     if args.buylist and not args.force:
         _check_target(args.buylist)
-    if getattr(args, "plot", None) or getattr(args, "report", None):
-        raise RequestError("--plot and --report draw one light; for several lights run "
-                           "'pulsepick solve' on one light's phrase, or 'pulsepick night' "
-                           "with the design file")
+    from pulsepick.commands.pictures import check_picture_targets
+
+    check_picture_targets(args)
     extras = _build_extras(design)
     from pulsepick.commands.design_night import design_clamp, design_night
 
@@ -743,6 +781,10 @@ def run_build(args) -> int:
     if advice is not None and advice.proposed_clamp_v is not None:
         extras["clamp_v"] = advice.proposed_clamp_v
         extras["clamp_w"] = advice.proposed_clamp_w
+    elif advice is not None and advice.clamp_v is not None and advice.clamp_needed:
+        # the file's own clamp is a part of the build: it goes in the buy list too
+        extras["clamp_v"] = advice.clamp_v
+        extras["clamp_w"] = advice.clamp_v * advice.isc_a
     result = solve_build(breq, jobs=jobs)
     offered = all(li.pick is not None for li in result.lights) and result.plan is not None
     if args.buylist and offered:
@@ -767,6 +809,10 @@ def run_build(args) -> int:
     if not offered:
         _nothing_line(breq.describe(), list(result.warnings) or [result.message])
         return 2
+    from pulsepick.buildreport import build_pictures
+    from pulsepick.commands.pictures import announce
+
+    announce(args, build_pictures(args, result, build_lines(result, **extras), design))
     return 0
 
 
@@ -794,14 +840,22 @@ def _build_extras(design) -> dict:
 
 def build_lines(result, *, storage=None, panel=None, charge_diode=None, clamp_v=None,
                 clamp_w=None) -> tuple:
-    """Every part of the build (``PartLine`` tuple), with a decoupling capacitor per
-    package and, when the panel can exceed the storage's rating, the proposed clamp."""
+    """Every part of the build (``PartLine`` tuple), with the dusk holds' diodes, a
+    decoupling capacitor per package and, when the panel can exceed the storage's rating,
+    the proposed clamp."""
+    from pulsepick.analysis.gating import hold_part_lines
     from pulsepick.analysis.multi import build_part_lines
     from pulsepick.partslist import charge_path_lines
 
     names = [li.name for li in result.lights]
-    lines = build_part_lines(names, [li.pick.parts for li in result.lights], result.plan,
-                             storage=storage, panel=panel, charge_diode=charge_diode)
+    from pulsepick.packing import rate_part_lines
+
+    holds = () if result.gating is None else hold_part_lines(result.gating, names)
+    rates = result.rates or {}
+    own = [rate_part_lines(rates[i], li.pick.parts) if i in rates else li.pick.parts
+           for i, li in enumerate(result.lights)]
+    lines = build_part_lines(names, own, result.plan, storage=storage, panel=panel,
+                             charge_diode=charge_diode, hold_lines=holds)
     return lines + charge_path_lines(lines, result.plan, clamp_v=clamp_v, clamp_w=clamp_w)
 
 
@@ -818,6 +872,62 @@ def _risk_json(names, r) -> dict:
             "band_p5": r.band[0], "band_p95": r.band[1], "nearest": r.nearest,
             "nominal_near": r.nominal_near, "band_near": r.band_near,
             "clearance": r.clearance, "at_risk": r.at_risk}
+
+
+def _rate_text(lr) -> str:
+    """One paragraph: the photoresistor network and the period it gives against light."""
+    import math
+
+    net, rate = lr.clamp.network, lr.rate
+    per, lux = rate.period_s["typ"], rate.lux
+    clamps = [f"{_eng(net.series_ohm, 'Ω')} in series" if net.series_ohm > 0 else "",
+              f"{_eng(net.parallel_ohm, 'Ω')} across it" if math.isfinite(net.parallel_ohm)
+              else ""]
+    clamps = [c for c in clamps if c]
+    return (f"{net.ldr.name} in place of the timing resistor"
+            + (f", with {' and '.join(clamps)}" if clamps else "")
+            + f": typical period {_eng(float(per[0]), 's')} at {lux[0]:g} lx, "
+            f"{_eng(float(per[-1]), 's')} at {lux[-1]:g} lx"
+            + ("" if rate.within_range is None else
+               "; every corner within " if rate.within_range else "; not every corner within ")
+            + (f"{_eng(rate.period_range_s[0], 's')}..{_eng(rate.period_range_s[1], 's')}"
+               if rate.period_range_s else ""))
+
+
+def _rate_json(names, lr) -> dict:
+    """A photoresistor light (pulsepick.packing.LightRate) as plain data."""
+    net, rate = lr.clamp.network, lr.rate
+    per = rate.period_s["typ"]
+    return {"light": names[lr.light], "photoresistor": lr.key,
+            "series_ohm": net.series_ohm,
+            "parallel_ohm": None if net.parallel_ohm == float("inf") else net.parallel_ohm,
+            "lux": [float(x) for x in rate.lux], "period_typ_s": [float(x) for x in per],
+            "period_range_s": list(rate.period_range_s or ()),
+            "within_range": rate.within_range}
+
+
+def _gating_json(names, gating) -> dict | None:
+    """The dusk gating (pulsepick.analysis.gating.BuildGating) as plain data."""
+    if gating is None:
+        return None
+    return {"arrangement": gating.arrangement, "detector_gates": gating.detector_gates,
+            "hold_diode": gating.diode, "held_supply_a": gating.held_a,
+            "held_supply_end_a": gating.held_end_a,
+            "lights": [{"name": names[h.light], "hold": h.kind, "held_supply_a": h.held_a,
+                        "held_supply_end_a": h.held_end_a, "node_v": h.node_v,
+                        "limit_v": h.limit_v, "holds": h.holds} for h in gating.holds]}
+
+
+def _share_json(names, share) -> dict | None:
+    """The lock share (pulsepick.analysis.lock.LockShare) as plain data."""
+    if share is None:
+        return None
+    return {"lock_share": share.share, "stderr": share.stderr, "builds": share.builds,
+            "seed": share.seed, "margin": share.margin, "max_q": share.max_q,
+            "packages": [{"ref": f"U{g}", "lock_share": v}
+                         for g, v in sorted(share.packages.items())],
+            "pairs": [{"lights": [names[p.a], names[p.b]], "package": f"U{p.package}",
+                       "lock_share": p.share, "nearest": p.nearest} for p in share.pairs]}
 
 
 def build_json(result, **extras) -> dict:
@@ -851,9 +961,15 @@ def build_json(result, **extras) -> dict:
             "oscillators": plan.oscillators, "buffers": plan.buffers, "dusk": plan.dusk,
             "needed": plan.gates_needed, "timers": plan.timers, "count": plan.describe()},
         "lock_risks": [_risk_json(names, r) for r in result.risks],
+        "lock_share": _share_json(names, result.lock_share),
+        "lock_share_before_spread_out": _share_json(names, result.lock_share_before),
+        "lock_remedies": [{"action": r.action, "lock_share": r.share, "option": r.option}
+                          for r in result.remedies],
         "lock_risks_before_spread_out": None if result.risks_before is None else
         [_risk_json(names, r) for r in result.risks_before],
         "total_supply_avg_a": result.total_supply_a,
+        "dusk_gating": _gating_json(names, result.gating),
+        "light_rates": [_rate_json(names, r) for r in (result.rates or {}).values()],
         "warnings": list(result.warnings),
         "cautions": list(solve_cautions(breq, storage="storage" in extras)),
     }
@@ -890,7 +1006,8 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
                      + (" *" if li.moved else ""), _eng(f["flash_s"], "s"),
                      _eng(f["led_peak_a"], "A"), _eng(f["supply_avg_a"], "A")])
     console.print(simple_table(
-        f"Lights ({result.search_s:.1f} s; * period moved by --spread-out)",
+        "Lights" + (" (* period moved by --spread-out)" if any(li.moved for li in
+                                                              result.lights) else ""),
         ["light", "asked", "circuit", "chip", "period", "flash", "peak", "supply"], rows,
         justify=["left", "right", "left", "left", "right", "right", "right", "right"]))
     console.print()
@@ -912,50 +1029,51 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
                                f"{'s' if p.gates_used != 1 else ''} ({who}{extra})")
     console.print()
     if result.risks:
+        share = result.lock_share
         rows = []
         for r in result.risks:
             band = "-" if r.band[0] != r.band[0] else f"{r.band[0]:.3f}..{r.band[1]:.3f}"
-            state = ("near" if r.nominal_near else "band near" if r.band_near else "clear")
-            rows.append([f"{names[r.a]} / {names[r.b]}", f"{r.ratio:.3f}", band, r.nearest,
-                         f"{r.clearance * 100:+.1f} %", state])
+            ps = share.pair(r.a, r.b) if share is not None else None
+            rows.append([f"{names[r.a]} / {names[r.b]}", f"{r.ratio:.3f}", band,
+                         ps.nearest if ps is not None and ps.share > 0 else r.nearest,
+                         f"{ps.share:.1%}" if ps is not None else "-"])
         console.print(simple_table(
-            f"Lock risk: period ratios of lights on one package against p:q, q <= 4, "
-            f"margin {breq.lock_margin:.0%}",
-            ["pair", "ratio", "P5..P95", "nearest", "clearance", ""], rows,
-            justify=["left", "right", "right", "right", "right", "left"]))
-        print_wrapped(console, "the band: each light's own parts vary independently; the "
-                               "package's thresholds, supply and temperature move all its "
-                               "periods together and leave the ratio")
+            f"Lock risk: share of builds with a pair within {breq.lock_margin:.0%} of p:q, "
+            "q <= 4",
+            ["pair", "ratio", "P5..P95", "nearest", "lock share"], rows,
+            justify=["left", "right", "right", "right", "right"]))
+        if share is not None:
+            per_pkg = ", ".join(f"U{g} {v:.1%}" for g, v in sorted(share.packages.items()))
+            print_wrapped(console, f"any pair near a lock: {share.share:.1%} of "
+                                   f"{share.builds:,} builds (seed {share.seed}; {per_pkg}); "
+                                   "each light's own parts vary, the package's thresholds, "
+                                   "supply and temperature are shared")
         console.print()
     if result.spread_out is not None:
         so = result.spread_out
-        console.print("[bold]Spread-out periods[/bold]")
-        print_wrapped(console, f"within {so.tolerance:.0%} of the periods asked: "
-                               + ", ".join(f"{n} {a:.3g} s -> {c:.3g} s" for n, a, c in
-                                           zip(names, so.asked_s, so.chosen_s, strict=True)))
+        console.print("[bold]Spread-out periods[/bold] (* in the table of lights)")
         print_wrapped(console, so.message)
+        console.print()
+    if result.gating is not None:
+        g = result.gating
+        console.print(f"[bold]Dusk gating[/bold] ({g.detector_gates} gate"
+                      f"{'s' if g.detector_gates != 1 else ''})", highlight=False)
+        print_wrapped(console, g.arrangement)
         console.print()
     console.print("[bold]Energy budget[/bold]")
     night_s = 12 * 3600 if night is None else night.night_s
     night_c = _eng(result.total_supply_a * night_s, "C")
     night_words = "a 12 h night" if night is None else f"the {night.text}"
-    print_wrapped(console, f"all lights together draw {_eng(result.total_supply_a, 'A')} on "
-                           f"average at the design supply ({night_c} "
-                           f"over {night_words}); run 'pulsepick night' with the design file "
-                           "for the storage")
+    held = ("" if result.gating is None else
+            f"; held by day {_eng(result.gating.held_a, 'A')} besides the chips' quiescent "
+            "current")
+    print_wrapped(console, f"all lights draw {_eng(result.total_supply_a, 'A')} on average at "
+                           f"the design supply ({night_c} over {night_words}){held}; "
+                           "'pulsepick night' runs the storage")
     if night is not None and night.note:
         print_wrapped(console, night.note)
     console.print()
-    for li in result.lights:
-        c = li.pick
-        console.print(f"[bold]{li.name}[/bold]: {c.design.topo.label()} on "
-                      f"{c.design.chip.family}, {c.design.supply_v:g} V", highlight=False)
-        prow = [[p.ref, p.display, p.code, p.tolerance, p.dielectric or "-", p.role]
-                for p in c.parts if p.kind != "chip"]
-        console.print(simple_table(None, ["ref", "value", "code", "tol", "kind", "role"], prow))
-        for w in list(c.notes) + list(c.warnings):
-            print_wrapped(console, w, indent="  - ", hang="    ")
-        console.print()
+    # the summary screen ends with the warnings and the verdict; then one screen per light
     if result.warnings:
         console.print("[bold]Warnings[/bold]")
         for w in result.warnings:
@@ -963,6 +1081,25 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
         console.print()
     console.print(f"[bold]{result.message}[/bold]", highlight=False)
     console.print()
+    rates = result.rates or {}
+    for i, li in enumerate(result.lights):
+        c = li.pick
+        console.print(f"[bold]{li.name}[/bold]: {c.design.topo.label()} on "
+                      f"{c.design.chip.family}, {c.design.supply_v:g} V", highlight=False)
+        own = c.parts
+        if i in rates:
+            from pulsepick.packing import rate_part_lines
+
+            own = rate_part_lines(rates[i], c.parts)
+        prow = [[p.ref, p.display, p.code, p.tolerance, p.dielectric or "-", p.role]
+                for p in own if p.kind != "chip"]
+        console.print(simple_table(None, ["ref", "value", "code", "tol", "kind", "role"], prow))
+        if i in rates:
+            print_wrapped(console, "rate set by the light: " + _rate_text(rates[i]),
+                          indent="  * ", hang="    ")
+        for w in list(c.notes) + list(c.warnings):
+            print_wrapped(console, w, indent="  - ", hang="    ")
+        console.print()
     if buylist:
         console.print(f"Buy list of the whole build written to {buylist}", markup=False)
         console.print()

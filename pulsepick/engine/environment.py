@@ -15,6 +15,7 @@ import numpy as np
 from pulsepick.circuits.base import Env
 from pulsepick.errors import PartError
 from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
+from pulsepick.parts.chipprofile import measured_family
 from pulsepick.parts.diode import get_diode
 from pulsepick.parts.logic import FAMILY_KEYS, custom_family, get_family
 from pulsepick.parts.timer import get_timer
@@ -33,6 +34,7 @@ class ChipSpec:
     rout_ohm: float | None = None  # ohm, measured output resistance (both sides)
     cross_current_a: float | None = None  # A, measured average crossing current
     measured_at_v: float | None = None  # V, the supply the measurements were made at
+    follows_family: bool = False  # measured thresholds follow the family's shape in supply
 
     def __post_init__(self) -> None:
         if self.family not in CHIP_KEYS:
@@ -73,6 +75,9 @@ def chip_model(spec: ChipSpec):
         at = spec.measured_at_v
         if at is None:
             raise PartError("measured thresholds need the supply they were measured at")
+        if spec.follows_family and spec.vt_plus_v is not None and spec.vt_minus_v is not None:
+            family = measured_family(family, at, spec.vt_plus_v, spec.vt_minus_v)
+            return custom_family(family, at, rout=spec.rout_ohm)
         family = custom_family(family, at, vt_plus=spec.vt_plus_v, vt_minus=spec.vt_minus_v,
                                rout=spec.rout_ohm)
     return family

@@ -1,0 +1,355 @@
+"""Which chip family a whole build shares, so its lights go on as few packages as they can.
+
+A build's lights share one supply. A hex Schmitt package holds six gates (common practice),
+so several lights, the dusk detector and its gating gates fit one package when they share
+a logic family. A CMOS 555 is one package per light, so it is used only when a light cannot
+be met on the shared package, or when the request allows no logic family
+(``--family timer555``).
+
+The family is chosen over the whole supply range of the night (from full down to the end
+of the night): a family whose recommended supply range does not cover it stops or runs out
+of specification before dawn (datasheet supply range, ``data/parts/logic_families.csv``).
+With the family left at its default, the families that cover the range are tried in the
+order of :data:`pulsepick.request.FAMILY_CHOICES`; with a family given, it is used as given
+and a note names the family that does cover the range.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, replace
+
+from pulsepick.errors import RequestError
+from pulsepick.request import FAMILY_CHOICES, SolveRequest
+
+#: The logic families a light can share a package on (every family key but the 555).
+SCHMITT_FAMILIES = tuple(f for f in FAMILY_CHOICES if f not in ("timer555", "any"))
+
+
+def supply_span(req: SolveRequest) -> tuple[float, float]:
+    """The lowest and highest supply (V) the build runs at over the night."""
+    end = req.supply_end_v if req.supply_end_v is not None else req.supply_v
+    return min(end, req.supply_v), req.supply_v
+
+
+def covers(family: str, lo_v: float, hi_v: float) -> bool:
+    """True when ``family``'s recommended supply range holds ``lo_v``..``hi_v`` (V)."""
+    from pulsepick.engine.environment import ChipSpec, chip_model
+
+    model = chip_model(ChipSpec(family=family))
+    return bool(model.in_range(lo_v)) and bool(model.in_range(hi_v))
+
+
+def families_covering(lo_v: float, hi_v: float) -> tuple[str, ...]:
+    """The logic families whose supply range holds ``lo_v``..``hi_v`` (V), in order."""
+    return tuple(f for f in SCHMITT_FAMILIES if covers(f, lo_v, hi_v))
+
+
+@dataclass(frozen=True)
+class FamilyPlan:
+    """The Schmitt families to try for the shared package, best first."""
+
+    order: tuple[str, ...]  # families to try, those covering the supply range first
+    covering: tuple[str, ...]  # every logic family covering the supply range
+    given: tuple[str, ...]  # the Schmitt families the request named (or allowed by default)
+    defaulted: bool  # the family was left at its default
+    lo_v: float  # V, lowest supply of the night
+    hi_v: float  # V, full supply
+    note: str | None  # a family given cannot run over the range: which one can
+
+
+def family_plan(req: SolveRequest) -> FamilyPlan:
+    """The order in which the build's shared package family is tried (see module doc)."""
+    from pulsepick.engine.environment import ChipSpec, chip_model
+
+    lo, hi = supply_span(req)
+    given = tuple(f for f in req.families if f != "timer555")
+    defaulted = "family" in req.defaults
+    covering = families_covering(lo, hi)
+    pool = list(dict.fromkeys([*given, *(SCHMITT_FAMILIES if defaulted else ())]))
+    first = [f for f in pool if f in covering]
+    # a family that runs at the full supply but not to the end of the night comes last
+    rest = [f for f in given if f not in covering
+            and bool(chip_model(ChipSpec(family=f)).in_range(hi))]
+    note = None
+    if given and not any(f in covering for f in given):
+        ranges = ", ".join(f"{f} runs {m.vdd_min_v:g}-{m.vdd_max_v:g} V" for f, m in
+                           ((f, chip_model(ChipSpec(family=f))) for f in given))
+        span = f"{hi:g} V down to {lo:g} V"
+        if covering and defaulted:
+            note = (f"{ranges}, not the whole supply range ({span}); the lights use "
+                    f"{covering[0]}, which does (--family {covering[0]})")
+        elif covering:
+            note = (f"{ranges}, not the whole supply range ({span}); {covering[0]} does "
+                    f"(--family {covering[0]})")
+        else:
+            note = (f"{ranges}, not the whole supply range ({span}), and no logic family "
+                    "covers it; narrow the supply range or use the CMOS 555")
+    order = tuple(dict.fromkeys([*first, *rest]))
+    return FamilyPlan(order=order, covering=covering, given=given, defaulted=defaulted,
+                      lo_v=lo, hi_v=hi, note=note)
+
+
+def on_family(req: SolveRequest, family: str) -> SolveRequest | None:
+    """``req`` searching only ``family`` with the Schmitt cores (None: no such core)."""
+    cores = tuple(c for c in req.cores if c != "timer555")
+    if not cores:
+        return None
+    return replace(req, families=(family,), cores=cores)
+
+
+def on_timer(req: SolveRequest) -> SolveRequest | None:
+    """``req`` searching only the CMOS 555 (None: the request does not allow it)."""
+    if "timer555" not in req.families or "timer555" not in req.cores:
+        return None
+    return replace(req, families=("timer555",), cores=("timer555",))
+
+
+def packable(req: SolveRequest) -> bool:
+    """True when the light may go on a shared Schmitt package."""
+    return any(f != "timer555" for f in req.families) and any(
+        c != "timer555" for c in req.cores)
+
+
+def solve_lights(breq, solve_fn, *, jobs: int = 1):
+    """Solve every light of ``breq`` for one shared package family, 555s only where needed.
+
+    Returns ``(results, notes)``: one ``SolveResult`` per light and the notes for the
+    build's warnings. ``solve_fn(request, jobs=...)`` is the single-light solver. The
+    families of :func:`family_plan` are tried in turn; the first on which every packable
+    light is met is used, else the one meeting the most. A light not met there (or not
+    allowed a logic family) is solved on the CMOS 555 when its request allows one.
+    """
+    lights = list(breq.lights)
+    plan = family_plan(lights[0].request)
+    notes = [plan.note] if plan.note else []
+    results: list = [None] * len(lights)
+    want = [i for i, li in enumerate(lights) if packable(li.request)]
+    best: tuple[int, str, dict] | None = None
+    for family in plan.order:
+        got = {}
+        for i in want:
+            sub = on_family(lights[i].request, family)
+            res = solve_fn(sub, jobs=jobs) if sub is not None else None
+            if res is not None and res.success:
+                got[i] = res
+        if best is None or len(got) > best[0]:
+            best = (len(got), family, got)
+        if len(got) == len(want):
+            break
+    if best is not None:
+        for i, res in best[2].items():
+            results[i] = res
+    for i, li in enumerate(lights):
+        if results[i] is not None:
+            continue
+        sub = on_timer(li.request)
+        res = solve_fn(sub if sub is not None else li.request, jobs=jobs)
+        if sub is not None and not res.success:
+            res = solve_fn(li.request, jobs=jobs)
+        results[i] = res
+        if best is not None and i in want and res.success:
+            notes.append(f"{li.name} cannot be met on the shared {best[1]} package; it "
+                         "runs on its own CMOS 555")
+    return results, notes
+
+
+# ============================================================================ lock share
+
+def build_lock_share(breq, picks, groups, *, seed: int = 0):
+    """The lock share of the chosen circuits (:func:`pulsepick.analysis.lock.lock_share`),
+    over the night's supply range and each pick's resistor tolerances."""
+    from pulsepick.analysis.lock import lock_share
+
+    req = breq.lights[0].request
+    lo, hi = supply_span(req)
+    return lock_share([c.design for c in picks], groups, seed=seed, margin=breq.lock_margin,
+                      supply_range_v=(lo, hi) if hi > lo else None,
+                      resistor_tol_pct=[_r_tols(c) for c in picks])
+
+
+def _r_tols(c):
+    tols = {p.param: p.tolerance_pct for p in c.parts if p.kind == "resistor"}
+    return tols or None
+
+
+def lock_remedies(breq, picks, groups, share, options_fn, *, seed: int = 0) -> tuple:
+    """Ways to lower the lock share, ranked by the share each leaves.
+
+    ``options_fn(i, tolerance)`` gives light ``i``'s standard-value variants
+    (:class:`pulsepick.analysis.multi.PeriodOptions`) within ``tolerance`` of its period
+    asked. Tighter parts re-run the Monte Carlo with 1 % resistors and 5 % capacitors; a
+    wider period tolerance (twice the one given) and the spread-out search rescale the
+    builds; a separate package moves the light in the most near-lock builds to its own.
+    A trimmer is not offered (no trimmer model in this version).
+    """
+    from pulsepick.analysis.lock import (
+        TIGHT_CAP_PCT,
+        TIGHT_RESISTOR_PCT,
+        Remedy,
+        lock_share,
+        minimise_share,
+        rank_remedies,
+        share_of,
+    )
+
+    if share.share <= 0:
+        return ()
+    req = breq.lights[0].request
+    lo, hi = supply_span(req)
+    out = []
+    tight = lock_share([c.design for c in picks], groups, seed=seed, margin=breq.lock_margin,
+                       supply_range_v=(lo, hi) if hi > lo else None,
+                       resistor_tol_pct=[TIGHT_RESISTOR_PCT] * len(picks),
+                       cap_tol=TIGHT_CAP_PCT)
+    out.append(Remedy(f"tighter timing parts ({TIGHT_RESISTOR_PCT:g} % resistors, "
+                      f"{TIGHT_CAP_PCT:g} % capacitors)", tight.share, "--series E96"))
+    periods = [float(c.figures["period_s"]) for c in picks]
+    asked = [li.request.targets.period_s for li in breq.lights]
+    for tol, words, opt in (
+            (breq.period_tolerance, f"spread the periods out within {breq.period_tolerance:.0%}",
+             "--spread-out"),
+            (min(0.5, 2 * breq.period_tolerance),
+             f"a wider period tolerance ({min(0.5, 2 * breq.period_tolerance):.0%}) for the "
+             "spread-out search", f"--period-tolerance {min(0.5, 2 * breq.period_tolerance):.0%}")):
+        if opt == "--spread-out" and breq.spread_out:
+            continue
+        try:
+            opts = [options_fn(i, tol).periods_s for i in range(len(picks))]
+            _, res = minimise_share(asked, opts, share, periods, groups)
+        except RequestError:  # a light without variants: no remedy of this kind
+            continue
+        out.append(Remedy(words, res.share, opt))
+    worst = max(range(len(picks)), key=lambda i: sum(p.share for p in share.pairs
+                                                     if i in (p.a, p.b)))
+    alone = [g if i != worst else max(groups) + 1 for i, g in enumerate(groups)]
+    sep = share_of(periods, share.log_dev, alone, margin=share.margin, max_q=share.max_q)
+    out.append(Remedy(f"{breq.lights[worst].name} on a package of its own", sep.share,
+                      "--max-packages"))
+    return rank_remedies(out)
+
+
+def share_text(names, pair, margin: float, spread_out: bool, share: float,
+               n_pairs: int) -> str:
+    """The lock warning: the pair most often near a lock and the build's share."""
+    head = (f"{names[pair.a]} and {names[pair.b]} share a package and come within "
+            f"{margin:.0%} of {pair.nearest} in {pair.share:.1%} of builds")
+    if n_pairs > 1:
+        head += f" (any pair: {share:.1%})"
+    return head + ("; the periods are already spread out" if spread_out else
+                   "; they may pull into step")
+
+
+def remedies_text(remedies, spread_out: bool) -> str | None:
+    """One line: the remedies, from the one leaving the least lock share."""
+    offered = [r for r in remedies if not (spread_out and r.option == "--spread-out")]
+    if not offered:
+        return None
+    return "to lower the share of builds near a lock, best first: " + "; ".join(
+        f"{r.action}: {r.share:.1%}" + (f" ({r.option})" if r.option else "")
+        for r in offered)
+
+
+# ============================================================================ light-set rates
+
+#: The rate range a photoresistor light is clamped to, as fractions of the period asked
+#: (the period in the dark): twice as fast in bright light at most, 15 % slower at the dark
+#: corner (design choice).
+LDR_FASTEST, LDR_SLOWEST = 0.5, 1.15
+
+
+@dataclass(frozen=True)
+class LightRate:
+    """A light whose rate is set by a photoresistor in place of its timing resistor."""
+
+    light: int  # light index
+    key: str  # photoresistor key
+    clamp: object  # ClampResult (pulsepick.analysis.ldr)
+    rate: object  # LdrResult: period against light at the photoresistor's corners
+
+
+def light_rates(breq, picks) -> dict[int, LightRate]:
+    """The photoresistor network of every light that names one (see ``LDR_FASTEST``)."""
+    from pulsepick.analysis.ldr import ldr_rate, solve_clamp
+    from pulsepick.parts.photoresistor import get_photoresistor
+
+    out = {}
+    for i, key in enumerate(breq.photoresistors):
+        if not key or i >= len(picks):
+            continue
+        design = picks[i].design
+        asked = breq.lights[i].request.targets.period_s
+        bounds = (LDR_FASTEST * asked, LDR_SLOWEST * asked)
+        clamp = solve_clamp(design, get_photoresistor(key), bounds,
+                            series=breq.lights[i].request.r_series)
+        out[i] = LightRate(i, key, clamp, ldr_rate(design, clamp.network,
+                                                   period_range_s=bounds))
+    return out
+
+
+def rate_part_lines(rate: LightRate, param_lines) -> tuple:
+    """The light's own part lines with its timing resistor replaced by the photoresistor
+    and its clamp resistors (``PartLine``)."""
+    from dataclasses import replace as _replace
+
+    from pulsepick.analysis.ldr import timing_param
+    from pulsepick.partslist import PartLine
+    from pulsepick.units import format_eng, format_rkm
+
+    net = rate.clamp.network
+    name = timing_param(rate.rate.design)
+    out = []
+    for line in param_lines:
+        if line.param != name:
+            out.append(line)
+            continue
+        out.append(PartLine(
+            ref="LDR", kind="photoresistor", value=None, unit="", display=net.ldr.name,
+            code=rate.key, series="", tolerance="", tolerance_pct=None, dielectric="",
+            rating="", role=f"photoresistor in place of {name.upper()}: the rate follows "
+            "the light", param=name, note="keep it shaded from the light's own LED"))
+        for what, value in (("series", net.series_ohm), ("parallel", net.parallel_ohm)):
+            if 0 < value < float("inf"):
+                out.append(_replace(line, value=value, display=format_eng(value, "Ω"),
+                                    code=format_rkm(value, "R"), param=f"{name}_{what}",
+                                    role=f"{what} clamp resistor of the photoresistor"))
+    return tuple(out)
+
+
+#: Light level by day at which a photoresistor light's held draw is taken, lux: an
+#: overcast day in the shade of a handrail (estimate; brighter light lowers the
+#: photoresistor further, down to its series clamp).
+DAY_LUX = 100.0
+
+
+def held_designs(picks, rates) -> list:
+    """The circuits as they stand by day: a photoresistor light's timing resistance at
+    ``DAY_LUX`` (its clamps included), the others as chosen."""
+    from pulsepick.analysis.ldr import with_network_value
+
+    return [with_network_value(c.design, rates[i].clamp.network, DAY_LUX) if i in rates
+            else c.design for i, c in enumerate(picks)]
+
+
+__all__ = [
+    "DAY_LUX",
+    "LDR_FASTEST",
+    "LDR_SLOWEST",
+    "SCHMITT_FAMILIES",
+    "FamilyPlan",
+    "LightRate",
+    "build_lock_share",
+    "covers",
+    "families_covering",
+    "family_plan",
+    "held_designs",
+    "light_rates",
+    "lock_remedies",
+    "on_family",
+    "on_timer",
+    "packable",
+    "rate_part_lines",
+    "remedies_text",
+    "share_text",
+    "solve_lights",
+    "supply_span",
+]
