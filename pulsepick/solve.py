@@ -548,16 +548,16 @@ class _Searcher:
         chip = self.chip
         if chip.is_timer:
             leak, hot = model.leak_a, model.leak_a
-            plus = _triangular_var(model.thr_ratio_min * v, model.thr_ratio_typ * v,
+            plus = _threshold_var(model.thr_ratio_min * v, model.thr_ratio_typ * v,
                                    model.thr_ratio_max * v)
-            minus = _triangular_var(model.trig_ratio_min * v, model.trig_ratio_typ * v,
+            minus = _threshold_var(model.trig_ratio_min * v, model.trig_ratio_typ * v,
                                     model.trig_ratio_max * v)
         else:
             leak, hot = model.leak_max_a, model.leak_max_hot_a
             th = model.thresholds(v)
-            plus = _triangular_var(float(th.vt_plus_min), float(th.vt_plus_typ),
+            plus = _threshold_var(float(th.vt_plus_min), float(th.vt_plus_typ),
                                    float(th.vt_plus_max))
-            minus = _triangular_var(float(th.vt_minus_min), float(th.vt_minus_typ),
+            minus = _threshold_var(float(th.vt_minus_min), float(th.vt_minus_typ),
                                     float(th.vt_minus_max))
         if chip.measured:
             plus = minus = 0.0
@@ -976,7 +976,7 @@ def peak_needed(req: SolveRequest) -> float:
     return eff * (EFFECTIVE_A_S + flash) / flash
 
 
-def _triangular_var(low: float, mode: float, high: float) -> float:
+def _threshold_var(low: float, mode: float, high: float) -> float:
     """Variance (V²) of one threshold: the chip spread's split normal."""
     from pulsepick.analysis.chipspread import split_normal_var
 

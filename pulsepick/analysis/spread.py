@@ -450,7 +450,7 @@ def _temperature_factors(design: Design, tols, temp_c, rng) -> dict[str, np.ndar
 
 
 def _modes(lim: _ChipLimits) -> tuple[np.ndarray, np.ndarray]:
-    """Typical VT+ and VT- as fractions of their limits (the triangular modes)."""
+    """Typical VT+ and VT- as fractions of their limits (the medians of the draw)."""
     return (_to_fraction(lim.p_typ, lim.p_lo, lim.p_hi),
             _to_fraction(lim.m_typ, lim.m_lo, lim.m_hi))
 
