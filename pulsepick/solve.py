@@ -2051,7 +2051,8 @@ def _period_options(req: SolveRequest, c: Candidate, asked_s: float, tolerance: 
         r_values = req.stock.resistors()
         c_values = [v for v, k in req.stock.capacitors((c.design.parts.timing_cap,))]
     return period_options(c.design, asked_s, tolerance, r_series=req.r_series,
-                          c_series=req.c_series, r_values=r_values, c_values=c_values)
+                          c_series=req.c_series, r_values=r_values, c_values=c_values,
+                          levels=c.aim_levels_v)
 
 
 def _r_tols(c: Candidate) -> dict[str, float] | None:
