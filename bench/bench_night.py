@@ -14,9 +14,9 @@ from datetime import datetime
 
 import numpy as np
 
-from pulsepick.analysis.loadcurve import LoadCurve
 from pulsepick.analysis.night import simulate_night, simulate_until_stop
-from pulsepick.commands.night import supply_grid
+from pulsepick.commands.night_options import supply_grid
+from pulsepick.engine.loadcurve import LoadCurve
 from pulsepick.parts.storage import custom_storage, get_storage
 
 TARGET_S = 0.5  # s per 12-hour night, from the project's speed requirement

@@ -46,7 +46,7 @@ def build_night(design_file, result):
     from pulsepick.analysis.multi import combined_load_curve
     from pulsepick.analysis.night import simulate_night
     from pulsepick.commands import night as night_cmd
-    from pulsepick.commands.night_options import read_storage
+    from pulsepick.commands.night_options import read_storage, supply_grid
     from pulsepick.design import load_curve
     from pulsepick.units import parse_quantity
 
@@ -62,7 +62,7 @@ def build_night(design_file, result):
                else parse_quantity(args.start, "voltage", bare_ok=True))
     stop_at = None if args.stop_at is None else parse_quantity(args.stop_at, "voltage",
                                                                 bare_ok=True)
-    grid = night_cmd.supply_grid(max(v_start, storage.v_rated_v))
+    grid = supply_grid(max(v_start, storage.v_rated_v))
     curves = [replace(load_curve(li.pick.design, grid), label=li.name) for li in result.lights]
     load = combined_load_curve(curves, label=f"{len(curves)} lights")
     extra = parse_quantity(args.extra_load, "current", bare_ok=True, allow_zero=True)
@@ -162,7 +162,7 @@ def build_report(result, lines, *, night=None, images=None) -> Report:
     sections.append(Section("energy", "Energy budget", (
         Table("energy", "", ("", "value"), tuple(budget), numeric=(False, True)),)))
     if night is not None:
-        from pulsepick.commands.night import verdict
+        from pulsepick.commands.wording import verdict
 
         res = night[0]
         sections.append(Section("night", "The night", (

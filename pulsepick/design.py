@@ -12,10 +12,18 @@ from typing import Any
 
 import numpy as np
 
-from pulsepick.analysis.loadcurve import LoadCurve
-from pulsepick.circuits.base import RUNS, STATUS_WORDS, Figures, Topology, check_values
+from pulsepick.circuits.base import (
+    RUNS,
+    STATUS_WORDS,
+    Figures,
+    Topology,
+    check_values,
+    core_fits_chip,
+    get_core,
+)
 from pulsepick.engine import fast, reference
 from pulsepick.engine.environment import ChipSpec, PartChoice, make_env
+from pulsepick.engine.loadcurve import LoadCurve
 from pulsepick.errors import CircuitError
 from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
 
@@ -35,8 +43,9 @@ class Design:
         object.__setattr__(self, "values", check_values(self.topo, dict(self.values)))
         if not (np.isfinite(self.supply_v) and self.supply_v > 0):
             raise CircuitError(f"supply {self.supply_v} V: needs a positive voltage")
-        if self.chip.is_timer != (self.topo.core == "timer555"):
-            want = "timer555" if self.topo.core == "timer555" else "a Schmitt family"
+        if not core_fits_chip(self.topo.core, self.chip.is_timer):
+            core = get_core(self.topo.core)
+            want = core.default_family if core.chip_kind == "timer" else "a Schmitt family"
             raise CircuitError(f"core {self.topo.core} needs chip {want}, not {self.chip.family}")
 
     def env(self, vdd=None, **kwargs):

@@ -14,15 +14,13 @@ import math
 from dataclasses import dataclass
 
 from pulsepick.circuits.base import get_core, get_stage
+from pulsepick.parts.logic import GATES_PER_PACKAGE
 
 #: Usual power rating of a through-hole resistor, W (common practice).
 RESISTOR_RATING_W = 0.25
 #: Next rating up when a resistor would run above half of the usual one, W (common
 #: practice: run resistors at no more than half their rating).
 RESISTOR_RATING_HIGH_W = 0.5
-#: Gates in a Schmitt-inverter package: the 74HC14, 74AHC14, 74LVC14A and CD40106B are
-#: hex inverters (common practice).
-GATES_PER_PACKAGE = 6
 #: Tolerance assumed for a resistor taken from a parts drawer, percent (common practice:
 #: the everyday through-hole resistor is a 5 % part).
 DRAWER_RESISTOR_TOL_PCT = 5.0
@@ -33,7 +31,7 @@ class PartLine:
     """One part of a design."""
 
     ref: str  # reference designator: U1, R1, C1, D1, LED1
-    kind: str  # "chip", "resistor", "capacitor", "diode" or "led"
+    kind: str  # "chip", "resistor", "capacitor", "diode", "transistor" or "led"
     value: float | None  # ohm or farad; None for chips, diodes and LEDs
     unit: str  # "ohm", "F" or "" (no value)
     display: str  # value in engineering notation ("4.7 kΩ"), or the part's name
@@ -152,42 +150,32 @@ def parts_list(design, *, r_series: str = "E24", c_series: str = "E12",
                 dielectric=kind.name, rating=f"{rating_v:g} V", role=p.role, param=p.name,
                 note=note,
             ))
-    n_d = 0
-    diodes = []
-    if topo.core == "schmitt-steered":
-        diodes.append((parts.steer_diode, "steering diode (fast phase)",
-                       f"cathode towards the {'capacitor' if topo.steer == 'high' else 'output'}"))
-    if topo.stage == "pulse":
-        diodes.append((parts.reset_diode, "reset diode for the flash capacitor",
-                       "anode to ground, cathode to the LED side of the flash capacitor"))
-    if topo.stage == "fade":
-        diodes.append((parts.fade_diode, "charge diode into the hold capacitor",
-                       "anode to the series resistor, cathode to the hold capacitor"))
-    for key, role, note in diodes:
-        n_d += 1
-        d = get_diode(key)
+    extras = get_core(topo.core).extra_parts(topo) + get_stage(topo.stage).extra_parts(topo)
+    counts: dict[str, int] = {}
+    for extra in extras:
+        key = extra.part_key(parts)
+        rating = ""
+        if extra.kind == "diode":
+            prefix, display = "D", get_diode(key).name
+        else:
+            from pulsepick.parts.transistor import get_transistor
+
+            model = get_transistor(key)
+            prefix, display = "Q", model.name
+            rating = f"{model.vceo_max_v:g} V, {model.ic_max_a * 1e3:g} mA"
+        counts[prefix] = counts.get(prefix, 0) + 1
         lines.append(PartLine(
-            ref=f"D{n_d}", kind="diode", value=None, unit="", display=d.name, code=key,
-            series="", tolerance="", tolerance_pct=None, dielectric="", rating="", role=role,
-            note=note,
+            ref=f"{prefix}{counts[prefix]}", kind=extra.kind, value=None, unit="",
+            display=display, code=key, series="", tolerance="", tolerance_pct=None,
+            dielectric="", rating=rating, role=extra.role, note=extra.note,
         ))
     led = parts.led
     lines.append(PartLine(
         ref="LED1", kind="led", value=None, unit="", display=led.name, code=led.key,
         series="", tolerance="", tolerance_pct=None, dielectric="", rating="",
-        role="the light", note=_led_note(topo),
+        role="the light", note=get_stage(topo.stage).led_note(topo),
     ))
     return tuple(lines)
-
-
-def _led_note(topo) -> str:
-    if topo.stage == "direct" and topo.lit == "low":
-        return "anode towards the supply (lit while its driver is low)"
-    if topo.stage == "direct":
-        return "cathode to ground (lit while its driver is high)"
-    if topo.stage == "pulse":
-        return "cathode to ground, anode to the flash capacitor"
-    return "across the hold capacitor, cathode to ground"
 
 
 def _chip_line(design) -> PartLine:

@@ -62,7 +62,9 @@ import re
 from dataclasses import dataclass, field
 from typing import Any
 
+from pulsepick.circuits.base import core_fits_chip, core_names, get_core, stage_names
 from pulsepick.errors import PulsepickError, RequestError
+from pulsepick.parts.timer import TIMER_KEYS
 
 #: Phrases that work, quoted in every error about an unreadable phrase.
 PHRASE_EXAMPLES = (
@@ -116,8 +118,8 @@ TIMING_CAP_CHOICES: dict[str, tuple[str, ...]] = {
 #: Dielectric words accepted in a stock file (a capacitor kind or "film").
 STOCK_DIELECTRICS = ("film", "film-pet", "film-pp", "c0g", "x7r", "x5r", "y5v",
                      "electrolytic", "tantalum")
-CORE_CHOICES = ("schmitt", "schmitt-steered", "timer555")
-STAGE_CHOICES = ("direct", "pulse", "fade")
+CORE_CHOICES = core_names()
+STAGE_CHOICES = stage_names()
 
 
 def _quote(text: str) -> str:
@@ -799,20 +801,19 @@ def make_request(
     except RequestError as err:
         problems.append(str(err))
     if families and core_list:
-        has_timer = "timer555" in families
-        has_schmitt = any(f != "timer555" for f in families)
-        kept = tuple(c for c in core_list if (c == "timer555" and has_timer)
-                     or (c != "timer555" and has_schmitt))
+        kept = tuple(c for c in core_list
+                     if any(core_fits_chip(c, f in TIMER_KEYS) for f in families))
         if not kept:
             problems.append(f"--cores {','.join(core_list)} cannot run on --family "
                             f"{','.join(families)}: the timer555 core needs the timer555 "
                             "family and the Schmitt cores a logic family")
         core_list = kept
     if buffered and core_list:
-        if core_list == ("timer555",):
+        bufferable = tuple(c for c in core_list if get_core(c).bufferable)
+        if not bufferable:
             problems.append("--buffered needs a Schmitt core (a 555 output drives the stage "
                             "itself)")
-        core_list = tuple(c for c in core_list if c != "timer555")
+        core_list = bufferable
 
     stock_obj = None
     if isinstance(stock, Stock):

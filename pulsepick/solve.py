@@ -64,7 +64,6 @@ list is not five near-copies, and each is verified with the reference engine (se
 
 from __future__ import annotations
 
-import importlib
 import itertools
 import math
 import time
@@ -73,7 +72,23 @@ from typing import Any
 
 import numpy as np
 
-from pulsepick.circuits.base import DARK, RUNS, STALLS, UNPOWERED, Topology, get_core
+from pulsepick.analysis.spread import DEFAULT_TEMP_RANGE_C
+from pulsepick.circuits.base import (
+    DARK,
+    RUNS,
+    STALLS,
+    UNPOWERED,
+    Topology,
+    core_fits_chip,
+    get_core,
+    get_stage,
+    stage_names,
+)
+from pulsepick.circuits.searchgrid import (
+    STAGE_R_MIN_OHM,
+    SearchContext,
+)
+from pulsepick.engine.environment import TIMER_KEY
 from pulsepick.errors import RequestError
 from pulsepick.request import ASSUMED_PEAK_A, SolveRequest
 
@@ -105,28 +120,17 @@ THRESHOLD_STEP = 0.01
 #: computed counts as this far off). Wide enough that a period far beyond reach still
 #: ranks the longest reachable one first.
 BIG_LOG = 20.0
-#: Outdoor temperature range for the capacitor drift term, C (the issue's default range).
-TEMP_RANGE_C = (-20.0, 50.0)
+#: Outdoor temperature range for the capacitor drift term, C (the spread's default range).
+TEMP_RANGE_C = DEFAULT_TEMP_RANGE_C
 #: Decades of hours of class-2 aging counted (10^4 h, about a year). Estimate.
 AGING_DECADES = 4.0
 #: Search sizes: slow-phase pairs kept, timing networks kept, coarse stage points
 #: refined, picks kept per topology variant.
 K_SLOW, K_TIMING, K_KEEP = 40, 32, 3
-#: Per stage: coarse stage points refined, timing networks crossed with the stage sets,
-#: and coarse grid values per decade (the fade stage is the costliest to evaluate).
-K_COARSE = {"direct": 2, "pulse": 2, "fade": 1}
-K_TIMING_STAGE = {"direct": 32, "pulse": 16, "fade": 6}
-COARSE_PER_DECADE = {"direct": 3, "pulse": 3, "fade": 2}
-#: Drop assumed across the reset or charge diode (or the residual on the flash
-#: capacitor) when estimating a stage's resistor, V. Estimate (ref:bat54: a BAT54
-#: drops 0.22-0.29 V at 0.1-1 mA); only centres the search.
-STAGE_DROP_V = 0.3
+#: Per stage, the search sizes (coarse points refined, timing networks crossed with the
+#: stage sets, coarse values per decade) are the stage module's ``search``; the stage
+#: resistor bounds and first-estimate drop are in ``pulsepick.circuits.searchgrid``.
 LN2 = math.log(2.0)
-#: Stage resistors run from this value up to --max-r, ohm (a few ohms: common practice).
-STAGE_R_MIN_OHM = 1.0
-#: The stage resistor search reaches at least up to this value, ohm (design choice:
-#: the first estimate can come out near zero when the driver's resistance is guessed high).
-STAGE_R_SPAN_MIN_OHM = 100.0
 #: Flash and hold capacitors of at least this value are electrolytic, smaller ones X7R
 #: ceramic (common practice for coupling and reservoir parts).
 STAGE_ELECTROLYTIC_FROM_F = 1e-6
@@ -402,10 +406,6 @@ def misses(req: SolveRequest, figs: dict[str, float]) -> tuple[str, ...]:
     return tuple(out)
 
 
-#: LED stages whose flash is a short pulse (a datasheet's pulsed current limit may apply).
-PULSED_STAGES = ("pulse", "fade")
-
-
 def led_current_limit(led, stage: str | None = None) -> tuple[float, str]:
     """The highest nominal LED peak the solver offers (A) and where it comes from.
 
@@ -420,7 +420,8 @@ def led_current_limit(led, stage: str | None = None) -> tuple[float, str]:
 
     cont = getattr(led, "i_max_a", None)
     pulsed = getattr(led, "i_pulse_max_a", None)
-    if stage in PULSED_STAGES and pulsed is not None and (cont is None or pulsed > cont):
+    short_flash = stage is not None and get_stage(stage).pulsed
+    if short_flash and pulsed is not None and (cont is None or pulsed > cont):
         return float(pulsed), f"its pulsed rating of {format_eng(pulsed, 'A')}"
     if cont is None:
         return math.inf, "no rating (not in our tables)"
@@ -431,12 +432,11 @@ def led_current_limit(led, stage: str | None = None) -> tuple[float, str]:
 
 
 def n_parts(topo: Topology, values: dict[str, float]) -> int:
-    """Parts count of a circuit: chip, resistors, capacitors, diodes and the LED."""
-    from pulsepick.circuits.base import get_core, get_stage
-
-    params = get_core(topo.core).params + get_stage(topo.stage).params
-    count = 2 + sum(1 for p in params if not (p.optional and values.get(p.name, 1.0) == 0))
-    count += (topo.core == "schmitt-steered") + (topo.stage in ("pulse", "fade"))
+    """Parts count of a circuit: chip, resistors, capacitors, diodes, transistors, the LED."""
+    core, stage = get_core(topo.core), get_stage(topo.stage)
+    count = 2 + sum(1 for p in core.params + stage.params
+                    if not (p.optional and values.get(p.name, 1.0) == 0))
+    count += len(core.extra_parts(topo)) + len(stage.extra_parts(topo))
     return count
 
 
@@ -599,21 +599,9 @@ class _Searcher:
         charging at VT+ and discharging at VT-, through every path that conducts then,
         with an unloaded output (vectorised twin of
         :func:`pulsepick.analysis.checks.charging_currents`)."""
-        vdd = float(np.ravel(env.vdd)[0])
-        vtp = float(np.ravel(env.vt_plus)[0])
-        vtm = float(np.ravel(env.vt_minus)[0])
-        if topo.core == "timer555":
-            rdis = float(np.ravel(env.r_discharge)[0])
-            return (vdd - vtp) / (values["ra"] + values["rb"]), vtm / (values["rb"] + rdis)
-        up = (vdd - vtp) / values["r1"]
-        down = vtm / values["r1"]
-        if topo.core == "schmitt-steered":
-            branch = env.steer_diode.junction
-            if topo.steer == "high":
-                up = up + branch.current(vdd - vtp, r_ext=values["r2"])
-            else:
-                down = down + branch.current(vtm, r_ext=values["r2"])
-        return up, down
+        first = {k: float(np.ravel(getattr(env, k))[0])
+                 for k in ("vdd", "vt_plus", "vt_minus", "r_discharge")}
+        return get_core(topo.core).end_currents(values, replace(env, **first), topo)
 
     def _leak_ok(self, topo: Topology, values: dict, g_typ: np.ndarray,
                  check: tuple[str, ...] = ("up", "down"), scale_up=1.0,
@@ -698,14 +686,16 @@ class _Searcher:
         nr, nc = R.size, C.size
         ri = np.tile(np.arange(nr), nc)
         ci = np.repeat(np.arange(nc), nr)
-        plain = Topology("schmitt", "direct")
-        if core == "schmitt":
+        core_model = get_core(core)
+        search = core_model.timing_search
+        plain = Topology(core_model.slow_phase_core, stage_names()[0])
+        if search == "one-resistor":
             vals = {"r1": R[ri], "c1": C[ci]}
             cost, var, g, pen, th, tl = self._timing_eval(plain, vals, sp.c_kind[ci], None)
             keep = _best_per_group(cost, ci, 2, K_TIMING)
             return _Timing({k: v[keep] for k, v in vals.items()}, sp.c_kind[ci][keep], g[keep],
                            var[keep], cost[keep], pen[keep], th[keep], tl[keep])
-        if core == "schmitt-steered":
+        if search == "steered":
             # step 1: R1·C1 sets the slow phase (the plain core's phase)
             vals = {"r1": R[ri], "c1": C[ci]}
             c_kind = sp.c_kind[ci]
@@ -723,17 +713,17 @@ class _Searcher:
             k1, kr = keep1.size, nr
             base = np.repeat(keep1, kr)
             vals2 = {"r1": vals["r1"][base], "r2": np.tile(R, k1), "c1": vals["c1"][base]}
-            topo = Topology("schmitt-steered", "direct", steer=steer)
+            topo = Topology(core, stage_names()[0], steer=steer)
             short_of = (lambda a, b: a) if steer == "high" else (lambda a, b: b)
             cost, var, g2, pen, th, tl = self._timing_eval(topo, vals2, c_kind[base], short_of)
             keep = _best_per_group(cost, ci[base], 2, K_TIMING)
             return _Timing({k: v[keep] for k, v in vals2.items()}, c_kind[base][keep],
                            g2[keep], var[keep], cost[keep], pen[keep], th[keep], tl[keep])
-        # timer555, step 1: RB·C1 sets the low phase (RA at its smallest)
+        # two resistors (RA, RB), step 1: RB·C1 sets the low phase (RA at its smallest)
         vals = {"ra": np.full(ri.size, R[0]), "rb": R[ri], "c1": C[ci]}
         c_kind = sp.c_kind[ci]
         g = self._cap_leak(vals["c1"], c_kind, "typ")
-        topo = Topology("timer555", "direct")
+        topo = Topology(core, stage_names()[0])
         th, tl, st = self._periods(topo, self._working(vals, c_kind, self.envs["typ"]),
                                    replace(self.envs["typ"], cap_leak_g=g))
         ok1 = (st == RUNS) & self._leak_ok(topo, vals, g, ("down",))  # RB discharges
@@ -753,53 +743,35 @@ class _Searcher:
         """The peak LED current the aims imply (A): stated, or from the effective aim."""
         return peak_needed(self.req)
 
+    def _search_context(self, topo: Topology, env) -> SearchContext:
+        """What the stage module needs to lay out its grid (see ``searchgrid``)."""
+        led = self.req.led
+        # centred at the LED's limit when the aim is above it (nothing above is offered)
+        peak = min(self._peak_aim(), 0.95 * led_current_limit(led, topo.stage)[0])
+
+        def first(x):
+            return float(np.asarray(x, dtype=float).reshape(-1)[0])
+
+        return SearchContext(
+            led=led, supply_v=self.v, peak_a=peak, rout_high_ohm=first(env.rout_high),
+            rout_low_ohm=first(env.rout_low), r_values=self.space.r_stage,
+            c_values=self.space.c_stage, r_max_ohm=self.req.r_max_ohm,
+            flash_s=min(self.req.flash_s, 0.5 * self.req.targets.period_s),
+            period_s=self.req.targets.period_s)
+
     def _stage_grid(self, topo: Topology, env) -> dict[str, np.ndarray]:
         """Stage values around a first estimate from the aims (one pass, coarse for caps).
 
         The estimate is only a centre: resistors span a decade either side (and at
         least up to 100 ohm) and capacitors one and a half decades, so the
-        evaluation, not the estimate, decides.
+        evaluation, not the estimate, decides. The stage module lays the grid out.
         """
-        from pulsepick.circuits.decay import n_vt
-
-        stage = topo.stage
-        sp, led, v = self.space, self.req.led, self.v
-        # centred at the LED's limit when the aim is above it (nothing above is offered)
-        peak = min(self._peak_aim(), 0.95 * led_current_limit(led, stage)[0])
-        side = env.rout_low if (stage == "direct" and topo.lit == "low") else env.rout_high
-        rout = float(np.asarray(side, dtype=float).reshape(-1)[0])
-        drop = STAGE_DROP_V if stage != "direct" else 0.0
-        rs_est = (v - float(led.voltage(peak)) - drop) / peak - rout
-        rs_est = min(max(rs_est, STAGE_R_MIN_OHM), self.req.r_max_ohm)
-        rs = _around(sp.r_stage, rs_est, 10.0, floor_hi=STAGE_R_SPAN_MIN_OHM)
-        if stage == "direct":
-            return {"rs": rs}
-        rs = _thin(rs, COARSE_PER_DECADE[stage])
-        nvt = n_vt(led.junction)
-        flash = min(self.req.flash_s, 0.5 * self.req.targets.period_s)
-        if stage == "pulse":
-            r_total = rs_est + rout + nvt / peak + float(led.junction.r_s)
-            c_est = flash / (LN2 * r_total)
-            rs = np.concatenate([[0.0], rs])
-        else:
-            c_est = 0.5 * flash * peak / nvt
-        cs = _thin(_around(sp.c_stage, c_est, 30.0), COARSE_PER_DECADE[stage])
-        name = "cp" if stage == "pulse" else "ch"
-        return {name: np.repeat(cs, rs.size), "rs": np.tile(rs, cs.size)}
+        self._ctx = self._search_context(topo, env)
+        return get_stage(topo.stage).search_grid(self._ctx, topo)
 
     def _refine(self, stage: str, point: dict[str, float]) -> list[dict[str, float]]:
         """The point and its series neighbours (one step either side)."""
-        sp = self.space
-        out = []
-        r0 = point["rs"]
-        rs = [0.0] if r0 == 0 else _neighbours(sp.r_stage, r0).tolist()
-        if stage == "direct":
-            return [{"rs": r} for r in rs]
-        name = "cp" if stage == "pulse" else "ch"
-        for c in _neighbours(sp.c_stage, point[name]).tolist():
-            for r in rs:
-                out.append({name: c, "rs": r})
-        return out
+        return get_stage(stage).refine(self._ctx, point)
 
     def _rows_env(self, vdd: np.ndarray):
         from pulsepick.engine.environment import PartChoice, make_env
@@ -818,14 +790,15 @@ class _Searcher:
         sname = topo.stage
         npart = n_parts(topo, {})
         grid = self._stage_grid(topo, env)
-        size = grid["rs"].size
+        size = next(iter(grid.values())).size
         if size == 0 or tim.cost.size == 0:
             return []
         # step 1: the stage grid at the best timing network
         i_limit = led_current_limit(self.req.led, sname)[0]
         _f, cost, _ = self._eval_cost(topo, tim, np.zeros(size, dtype=int), grid, env, npart,
                                       i_limit)
-        order = [i for i in np.argsort(cost, kind="stable")[:K_COARSE[sname]]
+        search = get_stage(sname).search
+        order = [i for i in np.argsort(cost, kind="stable")[:search.coarse_keep]
                  if np.isfinite(cost[i])]
         if not order:
             return []
@@ -837,8 +810,8 @@ class _Searcher:
         stage_sets = {k: np.array([p[k] for p in sets.values()]) for k in names}
         # step 2: every kept timing network with every stage set, at the design supply
         # and (for a supply range) at the end of the night, in one evaluation
-        n_t = min(tim.cost.size, K_TIMING_STAGE.get(sname, K_TIMING))
-        n_s = stage_sets["rs"].size
+        n_t = min(tim.cost.size, search.timing_keep)
+        n_s = stage_sets[names[0]].size
         t_idx = np.repeat(np.arange(n_t), n_s)
         s_vals = {k: np.tile(v, n_t) for k, v in stage_sets.items()}
         n = t_idx.size
@@ -993,35 +966,11 @@ def _slice_figures(f, sl: slice):
     return Figures(**{k: cut(getattr(f, k)) for k in Figures.KEYS}, status=cut(f.status))
 
 
-def _around(values: np.ndarray, centre: float, factor: float,
-            floor_hi: float = 0.0) -> np.ndarray:
-    """Values within ``factor`` of ``centre`` (by ratio, the upper end at least
-    ``floor_hi``); the nearest few when none are."""
-    if values.size == 0:
-        return values
-    sel = values[(values >= centre / factor) & (values <= max(centre * factor, floor_hi))]
-    if sel.size:
-        return sel
-    order = np.argsort(np.abs(np.log(values / centre)))
-    return np.sort(values[order[:3]])
-
-
-def _thin(values: np.ndarray, per_decade: int) -> np.ndarray:
-    """About ``per_decade`` values per decade, taken from ``values`` (sorted)."""
-    if values.size <= 3:
-        return values
-    logs = np.log10(values)
-    grid = np.arange(logs[0], logs[-1] + 1e-9, 1.0 / per_decade)
-    idx = np.unique(np.clip(np.searchsorted(logs, grid), 0, values.size - 1))
-    return values[idx]
-
-
-def _neighbours(values: np.ndarray, x: float) -> np.ndarray:
-    """``x`` and the series values just below and above it."""
-    if values.size == 0:
-        return np.array([x])
-    i = int(np.argmin(np.abs(np.log(values / x))))
-    return values[max(i - 1, 0): i + 2]
+def _stage_wanted(req: SolveRequest, stage: str) -> bool:
+    """A stage that only earns its parts at high currents is searched when the aimed
+    peak reaches its ``search_from_peak_a``, or when the request names it."""
+    floor = get_stage(stage).search_from_peak_a
+    return floor <= 0 or "stages" not in req.defaults or peak_needed(req) >= floor
 
 
 def _variants(req: SolveRequest) -> list[tuple[str, str, list[Topology]]]:
@@ -1032,29 +981,29 @@ def _variants(req: SolveRequest) -> list[tuple[str, str, list[Topology]]]:
     """
     out = []
     for core in req.cores:
-        steers = ("high", "low") if core == "schmitt-steered" else ("high",)
-        if core == "timer555":
+        steers = get_core(core).steers
+        if not get_core(core).bufferable:
             bufs: tuple[bool, ...] = (False,)
         elif req.buffered is None:
             bufs = (False, True)
         else:
             bufs = (req.buffered,)
-        order = {"fade": 0, "pulse": 1, "direct": 2}
         for steer in steers:
             topos = []
-            for stage in sorted(req.stages, key=order.__getitem__):
-                lits = ("high", "low") if stage == "direct" else ("high",)
-                topos += [Topology(core, stage, buf, lit, steer) for buf in bufs for lit in lits]
+            for stage in sorted(req.stages, key=lambda s: get_stage(s).search_rank):
+                if not _stage_wanted(req, stage):
+                    continue
+                topos += [Topology(core, stage, buf, lit, steer) for buf in bufs
+                          for lit in get_stage(stage).lits]
             out.append((core, steer, topos))
-    rank = {"schmitt-steered": 0, "schmitt": 1, "timer555": 2}
-    out.sort(key=lambda t: rank[t[0]])
+    out.sort(key=lambda t: get_core(t[0]).search_rank)
     return out
 
 
 def _chip(req: SolveRequest, family: str):
     from pulsepick.engine.environment import ChipSpec
 
-    if family == "timer555" or not req.chip_overrides:
+    if family == TIMER_KEY or not req.chip_overrides:
         return ChipSpec(family)
     return ChipSpec(family, **req.chip_overrides)
 
@@ -1199,7 +1148,7 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
             unpowered.append(f"{family} ({model.vdd_min_v:g}-{model.vdd_max_v:g} V)")
             continue
         for core, steer, topos in _variants(req):
-            if (core == "timer555") == chip.is_timer:
+            if core_fits_chip(core, chip.is_timer):
                 tasks.append((req, family, core, steer, topos))
     if unpowered:
         explanations.append(
@@ -1383,8 +1332,8 @@ def _candidate_notes(req, design, figs, end) -> tuple[str, ...]:
 
         notes.append(f"at the end of the night ({req.supply_end_v:.2f} V) the circuit is "
                      f"{status_word(end['status'])}")
-    if design.topo.stage == "direct" and not design.topo.buffered \
-            and design.topo.core != "timer555":
+    if get_stage(design.topo.stage).steady_load and not design.topo.buffered \
+            and get_core(design.topo.core).drives_stage_from_timing_output:
         notes.append("the LED hangs on the timing gate's output: its load is in the figures")
     if figs["status"] == DARK:
         notes.append(f"the LED gets {format_eng(figs['led_peak_a'], 'A')}: too little to be seen")
@@ -1451,7 +1400,10 @@ def _current_explanation(req: SolveRequest, aims, running: list[Candidate]) -> s
     need = peak_needed(req)
     limits = [led_current_limit(req.led, stage) for stage in req.stages]
     limit, limit_words = max(limits, key=lambda x: x[0])
-    drive = _drive_limit_a(req)
+    # a stage whose LED current does not pass through the gate lifts the drive limit
+    through_gate = all(get_stage(s).gate_carries_led for s in req.stages
+                       if _stage_wanted(req, s))
+    drive = _drive_limit_a(req) if through_gate else math.inf
     cap = min(limit, drive)
     if not need > cap * math.exp(SIGMA):
         return None
@@ -1575,17 +1527,6 @@ def _why_low(req: SolveRequest, key: str) -> str:
 
 # ============================================================================ assessment
 
-def _optional(module: str, name: str):
-    """``module.name`` when that module exists (others may add it later), else None."""
-    try:
-        mod = importlib.import_module(module)
-    except ModuleNotFoundError as err:
-        if err.name != module:
-            raise
-        return None
-    return getattr(mod, name, None)
-
-
 def _assess_one(design, target_period_s: float, builds: int, seed: int,
                 supply_end_v: float | None, r_tols: dict[str, float],
                 levels: tuple[float, float] | None = None) -> dict[str, Any]:
@@ -1594,6 +1535,9 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
     ``levels`` (V): the reference run uses these switching levels (the median chip the
     search aimed at), so that it checks the figures the candidate shows.
     """
+    from pulsepick.analysis.checks import assumptions, circuit_warnings
+    from pulsepick.analysis.drift import drift
+    from pulsepick.analysis.spread import spread
     from pulsepick.errors import PulsepickError
 
     out: dict[str, Any] = {"timings_s": {}, "warnings": []}
@@ -1601,34 +1545,28 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
     kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
     out["reference"] = design.reference(**kw)
     out["timings_s"]["reference"] = time.perf_counter() - t
-    spread_fn = _optional("pulsepick.analysis.spread", "spread")
-    if spread_fn is not None:
-        t = time.perf_counter()
-        supply_range = None if supply_end_v is None else (supply_end_v, design.supply_v)
-        try:
-            out["spread"] = spread_fn(design, target_period_s=target_period_s, builds=builds,
-                                      seed=seed, supply_range_v=supply_range,
-                                      resistor_tol_pct=r_tols or None)
-        except PulsepickError as err:
-            out["warnings"].append(f"spread analysis: {err}")
-        out["timings_s"]["spread"] = time.perf_counter() - t
-    drift_fn = _optional("pulsepick.analysis.drift", "drift")
-    if drift_fn is not None and supply_end_v is not None:
+    t = time.perf_counter()
+    supply_range = None if supply_end_v is None else (supply_end_v, design.supply_v)
+    try:
+        out["spread"] = spread(design, target_period_s=target_period_s, builds=builds,
+                               seed=seed, supply_range_v=supply_range,
+                               resistor_tol_pct=r_tols or None)
+    except PulsepickError as err:
+        out["warnings"].append(f"spread analysis: {err}")
+    out["timings_s"]["spread"] = time.perf_counter() - t
+    if supply_end_v is not None:
         t = time.perf_counter()
         try:
-            out["drift"] = drift_fn(design, design.supply_v, supply_end_v)
+            out["drift"] = drift(design, design.supply_v, supply_end_v)
         except PulsepickError as err:
             out["warnings"].append(f"drift analysis: {err}")
         out["timings_s"]["drift"] = time.perf_counter() - t
-    checks_fn = _optional("pulsepick.analysis.checks", "circuit_warnings")
-    if checks_fn is not None:
-        try:
-            out["warnings"].extend(checks_fn(design, levels=levels))
-        except PulsepickError as err:
-            out["warnings"].append(f"checks: {err}")
-    assumptions_fn = _optional("pulsepick.analysis.checks", "assumptions")
-    if assumptions_fn is not None and not design.chip.is_timer:
-        out["crossing_current"] = assumptions_fn(design).get("crossing_current")
+    try:
+        out["warnings"].extend(circuit_warnings(design, levels=levels))
+    except PulsepickError as err:
+        out["warnings"].append(f"checks: {err}")
+    if not design.chip.is_timer:
+        out["crossing_current"] = assumptions(design).get("crossing_current")
     if out.get("spread") is not None:
         aimed = None
         if levels is not None:
@@ -1702,10 +1640,6 @@ def median_note(design, spread, aimed_period_s: float | None = None) -> str | No
     return text + ": " + "; and ".join(causes)
 
 
-#: Expected cost of a reference run per stage, for scheduling the longest first.
-_REFERENCE_ORDER = {"fade": 0, "pulse": 1, "direct": 2}
-
-
 def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
     """Verify every candidate with the reference engine and add spread, drift, warnings.
 
@@ -1732,7 +1666,7 @@ def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
         from concurrent.futures import ProcessPoolExecutor
 
         order = sorted(range(len(cands)),
-                       key=lambda i: _REFERENCE_ORDER.get(cands[i].design.topo.stage, 3))
+                       key=lambda i: get_stage(cands[i].design.topo.stage).search_rank)
         ctx = multiprocessing.get_context("fork")
         with ProcessPoolExecutor(max_workers=min(jobs, len(cands)), mp_context=ctx) as pool:
             futures = {i: pool.submit(_assess_one, *args[i]) for i in order}
@@ -1811,12 +1745,12 @@ def _least_uses(breq) -> list:
     out = []
     for li in breq.lights:
         req = li.request
-        schmitt = [f for f in req.families if f != "timer555"]
-        cores = [c for c in req.cores if c != "timer555"]
+        schmitt = [f for f in req.families if f != TIMER_KEY]
+        cores = [c for c in req.cores if get_core(c).chip_kind != "timer"]
         if schmitt and cores:
             out.append(LightUse(li.name, schmitt[0], bool(req.buffered)))
         else:
-            out.append(LightUse(li.name, "timer555", False))
+            out.append(LightUse(li.name, TIMER_KEY, False))
     return out
 
 
@@ -1873,17 +1807,17 @@ def _fit_packages(breq, names, results, chosen: list[int]) -> list[int]:
 def _one_family(breq, names, results, chosen: list[int]) -> list[int]:
     """Lights on one package need one logic family: move the others to the commonest."""
     fams = [results[i].candidates[k].design.chip.family for i, k in enumerate(chosen)]
-    schmitt = [f for f in fams if f != "timer555"]
+    schmitt = [f for f in fams if f != TIMER_KEY]
     if len(set(schmitt)) <= 1:
         return chosen
     order = list(breq.lights[0].request.families)
     target = max(set(schmitt), key=lambda f: (schmitt.count(f), -order.index(f)
                                                if f in order else 0))
     for i in range(len(chosen)):
-        if fams[i] in (target, "timer555"):
+        if fams[i] in (target, TIMER_KEY):
             continue
         alts = [j for j, c in enumerate(results[i].candidates)
-                if c.design.chip.family in (target, "timer555")]
+                if c.design.chip.family in (target, TIMER_KEY)]
         if alts:
             chosen[i] = alts[0]
     return chosen

@@ -13,7 +13,7 @@ from dataclasses import dataclass
 from functools import cache
 from importlib import resources
 
-from pulsepick.errors import DataFileError
+from pulsepick.errors import DataFileError, PartError
 
 
 @dataclass(frozen=True)
@@ -79,3 +79,22 @@ def load_table(name: str) -> Table:
     except (FileNotFoundError, OSError) as err:
         raise DataFileError(f"data table {name} is missing from the installation") from err
     return parse_table(text, name)
+
+
+def keyed_row(name: str, key: str, keys: tuple[str, ...], what: str) -> dict[str, object]:
+    """The row of table ``name`` whose ``key`` column is ``key``.
+
+    The part tables are keyed: each holds exactly the keys its module accepts (``keys``).
+    Raises ``PartError`` for a key outside ``keys`` (``what`` names the part in the
+    message, which lists the accepted keys) and ``DataFileError`` for a table whose keys
+    are not exactly ``keys``.
+
+    >>> keyed_row("parts/diodes.csv", "si", ("si", "schottky"), "diode")["n"]
+    1.752
+    """
+    if key not in keys:
+        raise PartError(f"unknown {what} {key!r}; accepted: {', '.join(keys)}")
+    rows = {row["key"]: row for row in load_table(name).rows}
+    if set(rows) != set(keys):
+        raise DataFileError(f"{name} must hold exactly the keys {', '.join(keys)}")
+    return rows[key]

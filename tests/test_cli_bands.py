@@ -166,8 +166,10 @@ def test_timer_advice_names_ra_when_ra_sets_the_period(capsys):
                             "--builds", "600", "--timing-cap", "c0g"])
     text = " ".join(doc["advice"])
     assert "trim RB" not in text
-    if doc["current"]["variance_shares"]["chip_thresholds"] >= 0.5:
-        assert "trim RA on the built circuit" in text
+    # the chip's threshold spread leads here (55 % with these seeded builds), so the
+    # advice is to trim, and it names RA
+    assert doc["current"]["variance_shares"]["chip_thresholds"] >= 0.5
+    assert "trim RA on the built circuit" in text
 
 
 def test_best_pair_line_skips_a_change_that_rounds_to_nothing():

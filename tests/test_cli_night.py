@@ -11,9 +11,9 @@ from rich.console import Console
 
 from pulsepick import cli
 from pulsepick.analysis.cautions import NOT_A_SAFETY_LIGHT, POLARITY_AND_SHORTS
-from pulsepick.analysis.loadcurve import LoadCurve
 from pulsepick.analysis.night import simulate_night
 from pulsepick.commands import night as night_cmd
+from pulsepick.engine.loadcurve import LoadCurve
 from pulsepick.parts.storage import custom_storage, get_storage
 
 # The bare budget of the Panasonic Gold Capacitors technical guide (ref:panasonic-gold-cap):

@@ -6,10 +6,18 @@ import math
 
 import numpy as np
 import pytest
-from engine_cases import random_design
+from engine_cases import FIRST_STAGES, LATER_STAGES, random_design
 
 from pulsepick.analysis.checks import stage_loading_shift
-from pulsepick.circuits.base import RUNS, STALLS, Env, Figures, Topology
+from pulsepick.circuits.base import (
+    RUNS,
+    STALLS,
+    Env,
+    Figures,
+    Topology,
+    core_names,
+    stage_names,
+)
 from pulsepick.engine import fast
 from pulsepick.parts.diode import get_diode
 from pulsepick.parts.led import get_led
@@ -108,10 +116,38 @@ def test_fast_and_reference_agree_on_random_circuits():
             failures.append((design.topo.label(), design.chip.family, design.parts.led.key,
                              round(design.supply_v, 2), design.values, problems))
     assert not failures, "\n".join(map(str, failures))
-    stages = {k[1] for k in kinds}
-    assert stages == {"direct", "pulse", "fade"}
+    assert {k[1] for k in kinds} == set(FIRST_STAGES)
     assert {k[2] for k in kinds} == {True, False}
-    assert {k[0] for k in kinds} == {"schmitt", "schmitt-steered", "timer555"}
+    assert {k[0] for k in kinds} == set(core_names())
+
+
+def _agreement(seed: int, count: int, stages: tuple[str, ...]):
+    rng = np.random.default_rng(seed)
+    compared, kinds, failures = 0, set(), []
+    while compared < count:
+        design = random_design(rng, stages)
+        shift = stage_loading_shift(design)
+        if shift is not None and abs(shift) > MAX_LOADING_SHIFT:
+            continue
+        compared += 1
+        kinds.add((design.topo.core, design.topo.stage, design.topo.buffered))
+        problems = _compare(design)
+        if problems:
+            failures.append((design.topo.label(), design.chip.family, design.parts.led.key,
+                             round(design.supply_v, 2), design.values, problems))
+    return kinds, failures
+
+
+@pytest.mark.slow
+def test_fast_and_reference_agree_on_random_circuits_of_later_stages():
+    # every stage registered after the first run's three, on every core, both drives
+    assert set(FIRST_STAGES) | set(LATER_STAGES) == set(stage_names())
+    assert LATER_STAGES
+    kinds, failures = _agreement(20261202, 60, LATER_STAGES)
+    assert not failures, "\n".join(map(str, failures))
+    assert {k[1] for k in kinds} == set(LATER_STAGES)
+    assert {k[2] for k in kinds} == {True, False}
+    assert {k[0] for k in kinds} == set(core_names())
 
 
 def test_figures_keys_are_the_published_set():

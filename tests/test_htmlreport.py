@@ -125,7 +125,7 @@ def check_report(tmp_path_factory):
 
 
 def test_check_report_figures_are_the_json_figures(check_report):
-    from pulsepick.commands.check import FIGURE_ROWS
+    from pulsepick.commands.wording import FIGURE_ROWS
 
     out, doc, page = check_report
     assert_self_contained(doc, page)

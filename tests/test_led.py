@@ -31,8 +31,8 @@ def test_voltage_at_test_point(key, vf, at):
     assert (led.vf_test_v, led.i_test_a) == (vf, at)
     assert led.voltage(at) == pytest.approx(vf, abs=1e-9)
     assert led.current(vf) == pytest.approx(at, rel=1e-9)
-    if led.vf_max_v is not None:
-        assert led.vf_max_v > vf
+    assert led.vf_max_v is not None  # every LED in our table has a maximum VF
+    assert led.vf_max_v > vf
 
 
 # VF at 20 mA against a published typical: (key, low, high, source)
@@ -125,16 +125,27 @@ def test_custom_led_refuses_impossible():
 DATASHEET_I_MAX = {"amber": 50e-3, "white": 20e-3}
 
 
-@pytest.mark.parametrize("key", LED_KEYS)
-def test_table_maximum_current(key):
+RECALLED_I_MAX = tuple(k for k in LED_KEYS if k not in DATASHEET_I_MAX)
+
+
+def test_every_led_has_a_maximum_current_from_one_place_or_the_other():
+    assert set(DATASHEET_I_MAX) <= set(LED_KEYS) and len(RECALLED_I_MAX) > 0
+
+
+@pytest.mark.parametrize("key", sorted(DATASHEET_I_MAX))
+def test_table_maximum_current_from_datasheets(key):
+    led = get_led(key)
+    assert led.i_max_a is not None and led.i_max_a >= led.i_test_a
+    assert led.i_max_a == pytest.approx(DATASHEET_I_MAX[key])
+    assert "lower bound" in " ".join(led.source_notes)
+
+
+@pytest.mark.parametrize("key", RECALLED_I_MAX)
+def test_table_maximum_current_from_memory(key):
     led = get_led(key)
     assert led.i_max_a is not None and led.i_max_a >= led.i_test_a
     notes = " ".join(led.source_notes)
-    if key in DATASHEET_I_MAX:
-        assert led.i_max_a == pytest.approx(DATASHEET_I_MAX[key])
-        assert "lower bound" in notes
-    else:
-        assert "i_max_a" in notes and "from memory" in notes
+    assert "i_max_a" in notes and "from memory" in notes
 
 
 def test_custom_led_maximum_current():

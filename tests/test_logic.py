@@ -182,9 +182,9 @@ def test_unknown_family_lists_keys():
 
 
 def test_family_names_are_hex_parts():
-    # The buy list plans with hex packages (pulsepick.partslist.GATES_PER_PACKAGE = 6), so each
+    # The buy list plans with hex packages (pulsepick.parts.logic.GATES_PER_PACKAGE = 6), so each
     # family is named after a hex Schmitt inverter, not a single- or triple-gate part.
-    from pulsepick.partslist import GATES_PER_PACKAGE
+    from pulsepick.parts.logic import GATES_PER_PACKAGE
 
     assert GATES_PER_PACKAGE == 6
     names = {key: get_family(key).name for key in FAMILY_KEYS}

@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 
 from pulsepick.analysis import multi
-from pulsepick.analysis.loadcurve import constant_load
+from pulsepick.engine.loadcurve import constant_load
 from pulsepick.errors import RequestError
 
 

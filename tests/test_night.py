@@ -12,8 +12,8 @@ from pulsepick.analysis.cautions import (
     SERIES_BALANCING,
     storage_cautions,
 )
-from pulsepick.analysis.loadcurve import LoadCurve, constant_load
 from pulsepick.analysis.night import TIMELINE_POINTS, simulate_night, simulate_until_stop
+from pulsepick.engine.loadcurve import LoadCurve, constant_load
 from pulsepick.errors import CircuitError, PartError, RequestError
 from pulsepick.parts.storage import custom_storage, get_storage
 

@@ -82,6 +82,7 @@ def test_default_request_offers_diverse_circuits():
     assert result.success and len(result.candidates) == 5
     kinds = {(c.design.topo.core, c.design.topo.stage) for c in result.candidates}
     assert len(kinds) == 5  # the best of each topology, not near-copies
+    assert len(result.candidates) == 5
     assert [c.rank for c in result.candidates] == [1, 2, 3, 4, 5]
     scores = [c.score for c in result.candidates]
     assert scores == sorted(scores)
@@ -95,7 +96,9 @@ def test_default_request_offers_diverse_circuits():
 def test_short_flash_is_lit_in_the_short_phase():
     req = make_request("flash every 2 s for 20 ms", cores="schmitt-steered,timer555",
                        stages="direct")
-    for c in solve(req).candidates[:2]:
+    cands = solve(req).candidates[:2]
+    assert len(cands) == 2
+    for c in cands:
         f = c.figures
         assert f["flash_s"] == pytest.approx(0.02, rel=STEP)
         assert min(f["high_s"], f["low_s"]) == pytest.approx(f["flash_s"], rel=0.01)
@@ -362,7 +365,9 @@ def test_offered_figures_are_the_designs_own():
 
     req = make_request("flash every 1 s for 30 ms", timing_cap="x7r", supply="2.7V..1.8V",
                        family="lvc,timer555", stages="direct,pulse", top=4)
-    for c in solve(req).candidates:
+    cands = solve(req).candidates
+    assert len(cands) == 4
+    for c in cands:
         topo = c.design.topo
         vtp, vtm = c.aim_levels_v
         assert (vtp, vtm) == aim_levels(req, c.design.chip, topo.core, topo.steer)
@@ -377,6 +382,7 @@ def test_offered_figures_are_the_designs_own():
 def test_no_near_copies_fill_the_list():
     req = make_request("flash every 1 s for 30 ms", stages="direct", top=5)
     cands = solve(req).candidates
+    assert len(cands) == 5
     timing = set()
     for c in cands:
         core_values = tuple(v for k, v in sorted(c.design.values.items()) if k != "rs")

@@ -16,7 +16,8 @@ from typing import Any
 
 import numpy as np
 
-from pulsepick.circuits.base import DARK, RUNS, STALLS, Topology
+from pulsepick.analysis.spread import DEFAULT_TEMP_RANGE_C, TEMP_RANGE_TEXT
+from pulsepick.circuits.base import DARK, RUNS, STALLS, Topology, get_core
 from pulsepick.design import Design
 from pulsepick.engine.environment import chip_model
 from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
@@ -40,13 +41,7 @@ class Finding:
 
 
 def _timing_resistances(design: Design) -> dict[str, float]:
-    v = design.values
-    if design.topo.core == "timer555":
-        return {"RA+RB": v["ra"] + v["rb"], "RB": v["rb"]}
-    out = {"R1": v["r1"]}
-    if "r2" in v:
-        out["R2"] = v["r2"]
-    return out
+    return get_core(design.topo.core).timing_resistances(design.values)
 
 
 def charging_currents(design: Design, env) -> tuple[float, float]:
@@ -56,18 +51,8 @@ def charging_currents(design: Design, env) -> tuple[float, float]:
     that conducts in that phase (the steering branch too); leakage against the
     direction of motion must stay well below these for the oscillator to switch.
     """
-    vdd, vtp, vtm = (float(np.ravel(x)[0]) for x in (env.vdd, env.vt_plus, env.vt_minus))
-    v = design.values
-    if design.topo.core == "timer555":
-        return (vdd - vtp) / (v["ra"] + v["rb"]), vtm / v["rb"]
-    up, down = (vdd - vtp) / v["r1"], vtm / v["r1"]
-    if design.topo.core == "schmitt-steered":
-        branch = env.steer_diode.junction
-        if design.topo.steer == "high":
-            up += float(np.ravel(branch.current(vdd - vtp, r_ext=v["r2"]))[0])
-        else:
-            down += float(np.ravel(branch.current(vtm, r_ext=v["r2"]))[0])
-    return up, down
+    up, down = get_core(design.topo.core).end_currents(design.values, env, design.topo)
+    return float(np.ravel(up)[0]), float(np.ravel(down)[0])
 
 
 def _thresholds_from(design) -> str:
@@ -226,14 +211,16 @@ def circuit_findings(design: Design, status=None, peak_a: float | None = None,
             f"{kind.name} as the timing capacitor: tolerance -{kind.tol_minus_pct:g}/"
             f"+{kind.tol_plus_pct:g} %, leakage and drift set the period; prefer film or C0G"))
     elif kind.class2:
-        lo = float(np.ravel(kind.temperature_factor(-20.0, which="min"))[0])
-        hi = float(np.ravel(kind.temperature_factor(50.0, which="max"))[0])
+        t_lo, t_hi = DEFAULT_TEMP_RANGE_C
+        lo = float(np.ravel(kind.temperature_factor(t_lo, which="min"))[0])
+        hi = float(np.ravel(kind.temperature_factor(t_hi, which="max"))[0])
         bias = float(np.ravel(kind.dc_bias_factor(vdd, rating))[0])
         out.append(Finding(
             "timing-cap-kind",
             f"{kind.name} as the timing capacitor: tolerance "
             f"±{kind.tol_plus_pct:g} %, {100 * (lo - 1):+.0f}/{100 * (hi - 1):+.0f} % over "
-            f"-20..50 °C, keeps {100 * bias:.0f} % of its value at {vdd:g} V bias, and ages; "
+            f"{TEMP_RANGE_TEXT}, keeps {100 * bias:.0f} % of its value at {vdd:g} V bias, and "
+            "ages; "
             "prefer film or C0G"))
 
     r_min = min(_timing_resistances(design).values())
@@ -300,7 +287,7 @@ def stage_loading_shift(design: Design) -> float | None:
     None where the stage never loads the timing gate (buffered, or the 555's own output).
     """
     topo = design.topo
-    if topo.buffered or topo.core == "timer555":
+    if topo.buffered or not get_core(topo.core).drives_stage_from_timing_output:
         return None
     buffered = Topology(topo.core, topo.stage, True, topo.lit, topo.steer)
     env, powered = design.env()

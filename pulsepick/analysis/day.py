@@ -33,8 +33,8 @@ import numpy as np
 
 from pulsepick.analysis.cautions import storage_cautions
 from pulsepick.analysis.irradiance import DAY_S, Profile, get_profile, irradiance_at
-from pulsepick.analysis.loadcurve import LoadCurve, constant_load
 from pulsepick.analysis.night import DEFAULT_T_SINCE_CHARGE_S, NightResult, simulate_night
+from pulsepick.engine.loadcurve import LoadCurve, constant_load
 from pulsepick.errors import RequestError
 from pulsepick.parts.diode import DiodeModel
 from pulsepick.parts.panel import PanelModel

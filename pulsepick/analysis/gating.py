@@ -73,14 +73,10 @@ class BuildGating:
 
 
 def _timing_r(design, kind: str) -> float:
-    v = design.values
-    r1 = float(v.get("r1", np.nan))
-    if design.topo.core == "schmitt-steered":
-        conducting = "high" if kind == "hold-low" else "low"
-        if design.topo.steer == conducting:
-            r2 = float(v["r2"])
-            return r1 * r2 / (r1 + r2)
-    return r1
+    from pulsepick.circuits.base import get_core
+
+    output = "high" if kind == "hold-low" else "low"  # the oscillator's output while held
+    return get_core(design.topo.core).held_resistance(design.values, design.topo, output)
 
 
 def light_hold(design, index: int, supply_lo_v: float, supply_hi_v: float) -> LightHold:

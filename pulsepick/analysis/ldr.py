@@ -26,7 +26,7 @@ from typing import Literal
 
 import numpy as np
 
-from pulsepick.circuits.base import DARK, RUNS, STALLS
+from pulsepick.circuits.base import DARK, RUNS, STALLS, get_core
 from pulsepick.design import Design
 from pulsepick.engine import fast
 from pulsepick.errors import RequestError
@@ -49,7 +49,7 @@ CLAMP_MODES = ("series", "parallel", "both")
 
 def timing_param(design: Design) -> str:
     """The value the photoresistor replaces: ``r1`` (Schmitt cores) or ``rb`` (555)."""
-    return "rb" if design.topo.core == "timer555" else "r1"
+    return get_core(design.topo.core).ldr_param
 
 
 @dataclass(frozen=True)

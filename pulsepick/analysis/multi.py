@@ -3,7 +3,7 @@
 Gates and packages
 ------------------
 A hex Schmitt-inverter package holds six gates (74HC14, 74AHC14, 74LVC14A, CD40106B; common
-practice, ``pulsepick.partslist.GATES_PER_PACKAGE``). Each Schmitt oscillator takes one
+practice, ``pulsepick.parts.logic.GATES_PER_PACKAGE``). Each Schmitt oscillator takes one
 gate, each buffer one more, and the dusk detector's sense input one. Only lights of the
 same logic family share a package. A CMOS 555 is one package per light.
 
@@ -51,11 +51,10 @@ from typing import Any
 
 import numpy as np
 
-from pulsepick.analysis.loadcurve import LoadCurve
+from pulsepick.engine.loadcurve import LoadCurve
 from pulsepick.errors import RequestError
+from pulsepick.parts.logic import GATES_PER_PACKAGE
 
-#: Gates in a hex Schmitt package (common practice; the same figure as the parts list's).
-GATES_PER_PACKAGE = 6
 #: Margin around a simple ratio within which a pair is at lock risk, fraction. Estimate:
 #: "within a few percent" (common practice).
 DEFAULT_LOCK_MARGIN = 0.03
@@ -632,8 +631,8 @@ def build_part_lines(names: Sequence[str], part_lines: Sequence[tuple], plan: Pa
         counters[prefix] = counters.get(prefix, 0) + 1
         return f"{prefix}{counters[prefix]}"
 
-    prefix_of = {"resistor": "R", "capacitor": "C", "diode": "D", "led": "LED",
-                 "photoresistor": "LDR"}
+    prefix_of = {"resistor": "R", "capacitor": "C", "diode": "D", "transistor": "Q",
+                 "led": "LED", "photoresistor": "LDR"}
     for name, own in zip(names, part_lines, strict=True):
         for line in own:
             if line.kind == "chip":

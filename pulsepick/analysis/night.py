@@ -22,7 +22,7 @@ import numpy as np
 from scipy.integrate import solve_ivp
 
 from pulsepick.analysis.cautions import GENERAL_CAUTIONS, storage_cautions
-from pulsepick.analysis.loadcurve import LoadCurve
+from pulsepick.engine.loadcurve import LoadCurve
 from pulsepick.errors import PartError, RequestError
 from pulsepick.parts.storage import LEAK_LEVELS, Storage
 from pulsepick.units import format_eng

@@ -20,8 +20,8 @@ from dataclasses import dataclass
 from datetime import date as Date
 from datetime import timedelta
 
-from pulsepick.analysis.loadcurve import LoadCurve
 from pulsepick.analysis.night import simulate_night
+from pulsepick.engine.loadcurve import LoadCurve
 from pulsepick.errors import RequestError
 from pulsepick.parts.storage import STORAGE_KEYS, Storage, get_storage
 

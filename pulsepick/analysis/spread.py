@@ -94,6 +94,8 @@ FIGURE_KEYS = ("period_s", "flash_s", "led_peak_a", "effective_a", "effective_mc
 QUANTILE_LEVELS = (5.0, 50.0, 95.0)  # percent
 DEFAULT_BUILDS = 2000
 DEFAULT_TEMP_RANGE_C = (-20.0, 50.0)  # C, outdoor range of a garden light (common practice)
+#: The same range as text, for reports.
+TEMP_RANGE_TEXT = f"{DEFAULT_TEMP_RANGE_C[0]:g}..{DEFAULT_TEMP_RANGE_C[1]:g} °C"
 DEFAULT_YIELD_BAND = 0.10  # +/- fraction of the target period counted as a good build
 #: Resistor temperature coefficient, +/- ppm/K around zero: ESTIMATE (metal-film parts are
 #: commonly sold at 50-100 ppm/K, carbon film is worse; common practice).

@@ -18,6 +18,7 @@ from pulsepick.errors import CircuitError
 
 Array = np.ndarray
 ChipKind = Literal["schmitt", "timer"]
+PartKind = Literal["diode", "transistor"]  # parts a circuit adds beyond its R and C values
 Level = Literal["high", "low"]
 
 #: Effective-intensity time constant a, in seconds, for night-time observation:
@@ -39,6 +40,28 @@ class Param:
     role: str  # what it does, for parts lists ("timing resistor")
     optional: bool = False  # may be absent (then ``default`` is used)
     default: float = 0.0  # ohm or farad when optional and absent
+    option: str = ""  # command-line option that sets it ("--rs"); "--" + name when empty
+    help: str = ""  # command-line help, e.g. "LED series resistor RS"
+    example: str = ""  # an example value in RKM or engineering notation, e.g. "470R"
+
+    @property
+    def flag(self) -> str:
+        return self.option or f"--{self.name}"
+
+
+@dataclass(frozen=True)
+class ExtraPart:
+    """A part other than the resistors and capacitors a circuit's params give."""
+
+    kind: PartKind
+    role: str  # what it does, for parts lists
+    note: str  # how it goes in (polarity, pins)
+    choice: str = ""  # the PartChoice field that names the part (the user picks it) ...
+    key: str = ""  # ... or the part table key when the circuit fixes it
+
+    def part_key(self, parts: Any) -> str:
+        """The part table key, given the build's ``PartChoice``."""
+        return getattr(parts, self.choice) if self.choice else self.key
 
 
 @dataclass(frozen=True)
@@ -79,13 +102,7 @@ class Topology:
     steer: Level = "high"  # schmitt-steered: the phase the diode branch speeds up
 
     def label(self) -> str:
-        parts = [self.core]
-        if self.core == "schmitt-steered":
-            parts[0] += f" (fast {self.steer})"
-        stage = self.stage
-        if self.stage == "direct":
-            stage += f" ({'to ground' if self.lit == 'high' else 'from supply'})"
-        parts.append(stage)
+        parts = [get_core(self.core).label(self), get_stage(self.stage).label(self)]
         if self.buffered:
             parts.append("buffered")
         return " + ".join(parts)
@@ -146,10 +163,41 @@ class StageFigures:
 
 
 class Core(Protocol):
+    """An oscillator core: everything the rest of the program asks about it."""
+
     name: str
     chip_kind: ChipKind
     params: tuple[Param, ...]
     drives_stage_from_timing_output: bool
+    default_family: str  # chip family when none is named
+    bufferable: bool  # may drive its stage through a spare gate
+    steers: tuple[Level, ...]  # Topology.steer values worth searching
+    search_rank: int  # solver order: costliest first (lower first)
+    ldr_param: str  # the timing resistor a light-dependent resistor can replace
+    timing_search: Literal["one-resistor", "steered", "two-resistor"]  # solver's timing search
+    slow_phase_core: str  # the core that times the slow phase alone (itself, or a plainer one)
+
+    def label(self, topo: Topology) -> str: ...
+
+    def extra_parts(self, topo: Topology) -> tuple[ExtraPart, ...]: ...
+
+    def end_currents(self, v: dict[str, Any], env: Env, topo: Topology) -> tuple[Any, Any]:
+        """Currents (A) moving C1 as it reaches VT+ (charging) and VT- (discharging),
+        with an unloaded output; vectorised."""
+        ...
+
+    def timing_resistances(self, v: dict[str, Any]) -> dict[str, Any]:
+        """The resistances (ohm) that set each phase, by the name a report shows."""
+        ...
+
+    def held_resistance(self, v: dict[str, Any], topo: Topology, output: Level) -> float:
+        """Resistance (ohm) from the output (at ``output``) to a timing node held at the
+        other rail by the dusk detector (nan where the core is not held that way)."""
+        ...
+
+    def spice(self, v: dict[str, float], env: Env, topo: Topology) -> tuple[str, ...]:
+        """Its lines in the circuit-simulator netlists (node names: ``SPICE_NODES``)."""
+        ...
 
     def phase_times(self, v: dict[str, Any], env: Env, topo: Topology,
                     high: Drive, low: Drive) -> PhaseTimes: ...
@@ -159,9 +207,36 @@ class Core(Protocol):
 
 
 class Stage(Protocol):
+    """An LED stage: everything the rest of the program asks about it."""
+
     name: str
     params: tuple[Param, ...]
     n_states: int
+    lits: tuple[Level, ...]  # Topology.lit values worth searching
+    pulsed: bool  # gives short flashes: an LED's pulsed current rating applies
+    steady_load: bool  # draws a steady current from its driver while lit
+    gate_carries_led: bool  # the LED current flows through the driving gate's output
+    search: Any  # searchgrid.StageSearch: the solver's search sizes
+    search_rank: int  # solver and reference-run order: costliest first (lower first)
+    search_from_peak_a: float  # A: searched by default only from this aimed peak up (0: always)
+
+    def label(self, topo: Topology) -> str: ...
+
+    def extra_parts(self, topo: Topology) -> tuple[ExtraPart, ...]: ...
+
+    def led_note(self, topo: Topology) -> str: ...
+
+    def search_grid(self, ctx: Any, topo: Topology) -> dict[str, Any]:
+        """Coarse grid of the stage's values (searchgrid.SearchContext -> arrays)."""
+        ...
+
+    def refine(self, ctx: Any, point: dict[str, float]) -> list[dict[str, float]]:
+        """The point and its series neighbours."""
+        ...
+
+    def spice(self, v: dict[str, float], env: Env, topo: Topology) -> tuple[str, ...]:
+        """Its lines in the circuit-simulator netlists (node names: ``SPICE_NODES``)."""
+        ...
 
     def fast(self, v: dict[str, Any], env: Env, topo: Topology, drv: DriverView,
              t_on: Any, t_off: Any, state: Any) -> StageFigures: ...
@@ -191,6 +266,15 @@ class DriverView:
     def low_level(self, at_edge: bool = False):
         """Low level seen by the stage, lifted by current the timing network pushes in."""
         return self.v_low - self.r_low * self.i_core_low[0 if at_edge else 1]
+
+
+#: Node names a module's ``spice(values, env, topo)`` lines use in the circuit-simulator
+#: netlists of ``tests/reference/`` (the harness there supplies the gates and models):
+#: ``vdd`` supply, ``tim`` timing node (C1 to ground), ``out`` timing output, ``stn``
+#: high while that output is low, ``drv`` the node driving the stage; LED current flows
+#: through the zero-volt source ``VLED``; diode models ``DLED``, ``DSTEER``, ``DRESET``,
+#: ``DFADE``; switch model ``SWDIS`` (the 555 discharge switch).
+SPICE_NODES = ("vdd", "tim", "out", "stn", "drv")
 
 
 _CORES: dict[str, Any] = {}
@@ -242,13 +326,35 @@ def stage_names() -> tuple[str, ...]:
     return tuple(_STAGES)
 
 
+def core_fits_chip(name: str, timer_chip: bool) -> bool:
+    """True when core ``name`` runs on a timer chip (``timer_chip``) or a logic gate."""
+    return (get_core(name).chip_kind == "timer") == bool(timer_chip)
+
+
+def value_params() -> dict[str, Param]:
+    """Every component value the registered circuits take, by name, in the order the
+    command line lists them: the cores' resistors, their capacitors, then the stages'
+    capacitors and resistors (the first module to declare a name describes it)."""
+    _load_modules()
+    core_params = [p for c in _CORES.values() for p in c.params]
+    stage_params = [p for s in _STAGES.values() for p in s.params]
+    out: dict[str, Param] = {}
+    for group in ([p for p in core_params if p.kind == "R"],
+                  [p for p in core_params if p.kind == "C"],
+                  [p for p in stage_params if p.kind == "C"],
+                  [p for p in stage_params if p.kind == "R"]):
+        for p in group:
+            out.setdefault(p.name, p)
+    return out
+
+
 def check_values(topo: Topology, values: dict[str, Any]) -> dict[str, Any]:
     """Fill optional defaults and refuse missing, zero or negative values.
 
     Returns a new mapping holding exactly the parameters the topology uses.
     """
     core, stage = get_core(topo.core), get_stage(topo.stage)
-    if topo.buffered and core.chip_kind == "timer":
+    if topo.buffered and not core.bufferable:
         raise CircuitError("a buffer gate is only used with Schmitt cores; the 555 output "
                            "already drives the stage (drop --buffered)")
     out: dict[str, Any] = {}

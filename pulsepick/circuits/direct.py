@@ -9,6 +9,7 @@ resistance against the driver's output resistance (no fixed "Vf").
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
@@ -22,6 +23,16 @@ from pulsepick.circuits.base import (
     register_stage,
 )
 from pulsepick.circuits.decay import n_vt
+from pulsepick.circuits.searchgrid import (
+    STAGE_R_SPAN_MIN_OHM,
+    SearchContext,
+    StageSearch,
+    around,
+    neighbours,
+)
+
+#: LED series resistor option, shared by the stages that have one.
+RS_PARAM = dict(option="--rs", help="LED series resistor RS, e.g. 47 or 470R", example="470")
 
 
 def led_dynamic_resistance(led, i):
@@ -33,8 +44,34 @@ def led_dynamic_resistance(led, i):
 @dataclass(frozen=True)
 class DirectStage:
     name: str = "direct"
-    params: tuple[Param, ...] = (Param("rs", "R", "LED series resistor"),)
+    params: tuple[Param, ...] = (Param("rs", "R", "LED series resistor", **RS_PARAM),)
     n_states: int = 0
+    lits: tuple[str, ...] = ("high", "low")
+    pulsed: bool = False
+    gate_carries_led: bool = True
+    steady_load: bool = True
+    search: ClassVar[StageSearch] = StageSearch(coarse_keep=2, timing_keep=32, per_decade=3)
+    search_rank: int = 2
+    search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
+
+    def label(self, topo):
+        return f"{self.name} ({'to ground' if topo.lit == 'high' else 'from supply'})"
+
+    def extra_parts(self, topo):
+        return ()
+
+    def led_note(self, topo):
+        if topo.lit == "low":
+            return "anode towards the supply (lit while its driver is low)"
+        return "cathode to ground (lit while its driver is high)"
+
+    def search_grid(self, ctx: SearchContext, topo):
+        rout = ctx.rout_low_ohm if topo.lit == "low" else ctx.rout_high_ohm
+        rs_est = ctx.series_resistor(0.0, rout)
+        return {"rs": around(ctx.r_values, rs_est, 10.0, floor_hi=STAGE_R_SPAN_MIN_OHM)}
+
+    def refine(self, ctx: SearchContext, point):
+        return [{"rs": r} for r in neighbours(ctx.r_values, point["rs"]).tolist()]
 
     def fast(self, v, env: Env, topo: Topology, drv: DriverView, t_on, t_off, state):
         rs = v["rs"]
@@ -63,6 +100,12 @@ class DirectStage:
         across = env.vdd - vo
         i = env.led_scalar.current(across, v["rs"]) if across > 0 else 0.0
         return -i, [], i, i
+
+    def spice(self, v, env, topo):
+        """Circuit-simulator lines of the stage (nodes: see ``base.SPICE_NODES``)."""
+        if topo.lit == "high":
+            return (f"RS drv la {v['rs']:.9g}", "VLED la lk 0", "DLED lk 0 DLED")
+        return (f"RS vdd la {v['rs']:.9g}", "VLED la lk 0", "DLED lk drv DLED")
 
 
 register_stage(DirectStage())

@@ -13,12 +13,14 @@ the rising edge comes from a short fixed-point iteration to periodic steady stat
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
 from pulsepick.circuits.base import (
     DriverView,
     Env,
+    ExtraPart,
     Load,
     Param,
     StageFigures,
@@ -26,7 +28,16 @@ from pulsepick.circuits.base import (
     register_stage,
 )
 from pulsepick.circuits.decay import decay_end_current, decay_time, n_vt
-from pulsepick.circuits.direct import led_dynamic_resistance
+from pulsepick.circuits.direct import RS_PARAM, led_dynamic_resistance
+from pulsepick.circuits.searchgrid import (
+    STAGE_DROP_V,
+    STAGE_R_SPAN_MIN_OHM,
+    SearchContext,
+    StageSearch,
+    around,
+    neighbours,
+    thin,
+)
 
 #: Node set in y for the rise: dense where the LED is coming on, sparse on the tail.
 _Y_NODES = np.concatenate([np.linspace(0.0, 8.0, 49)[:-1], np.linspace(8.0, 40.0, 17)])
@@ -92,10 +103,42 @@ def _rise_grid(env: Env, v_src, r_in, rs, ch):
 class FadeStage:
     name: str = "fade"
     params: tuple[Param, ...] = (
-        Param("rs", "R", "charge resistor"),
-        Param("ch", "C", "hold capacitor across the LED"),
+        Param("rs", "R", "charge resistor", **RS_PARAM),
+        Param("ch", "C", "hold capacitor across the LED", option="--ch",
+              help="fade stage hold capacitor CH, e.g. 100u", example="100u"),
     )
     n_states: int = 1
+    lits: tuple[str, ...] = ("high",)
+    pulsed: bool = True
+    gate_carries_led: bool = True
+    steady_load: bool = False
+    search: ClassVar[StageSearch] = StageSearch(coarse_keep=1, timing_keep=6, per_decade=2)
+    search_rank: int = 0
+    search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
+
+    def label(self, topo):
+        return self.name
+
+    def extra_parts(self, topo):
+        return (ExtraPart("diode", "charge diode into the hold capacitor",
+                          "anode to the series resistor, cathode to the hold capacitor",
+                          choice="fade_diode"),)
+
+    def led_note(self, topo):
+        return "across the hold capacitor, cathode to ground"
+
+    def search_grid(self, ctx: SearchContext, topo):
+        rs_est = ctx.series_resistor(STAGE_DROP_V)
+        rs = thin(around(ctx.r_values, rs_est, 10.0, floor_hi=STAGE_R_SPAN_MIN_OHM),
+                  self.search.per_decade)
+        c_est = 0.5 * ctx.flash_s * ctx.peak_a / n_vt(ctx.led.junction)
+        cs = thin(around(ctx.c_values, c_est, 30.0), self.search.per_decade)
+        return {"ch": np.repeat(cs, rs.size), "rs": np.tile(rs, cs.size)}
+
+    def refine(self, ctx: SearchContext, point):
+        rs = neighbours(ctx.r_values, point["rs"]).tolist()
+        return [{"ch": c, "rs": r} for c in neighbours(ctx.c_values, point["ch"]).tolist()
+                for r in rs]
 
     def fast(self, v, env: Env, topo: Topology, drv: DriverView, t_on, t_off, state):
         rs, ch = v["rs"], v["ch"]
@@ -195,6 +238,11 @@ class FadeStage:
         feed = env.fade_scalar.current(across, v["rs"]) if across > 0 else 0.0
         i_led = env.led_scalar.current(vh, 0.0) if vh > 0 else 0.0
         return feed, [(feed - i_led) / v["ch"]], i_led, 0.0
+
+    def spice(self, v, env, topo):
+        """Circuit-simulator lines of the stage (nodes: see ``base.SPICE_NODES``)."""
+        return (f"RS drv fa {v['rs']:.9g}", "DF fa hold DFADE", f"CH hold 0 {v['ch']:.9g}",
+                "VLED hold lk 0", "DLED lk 0 DLED")
 
 
 def _root_rows(one_period, lo, hi, f_lo, f_hi, side):

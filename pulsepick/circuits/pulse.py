@@ -14,19 +14,31 @@ iteration to the periodic steady state.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
 from pulsepick.circuits.base import (
     DriverView,
     Env,
+    ExtraPart,
     Load,
     Param,
     StageFigures,
     Topology,
     register_stage,
 )
-from pulsepick.circuits.decay import decay_end_current, decay_time
+from pulsepick.circuits.decay import decay_end_current, decay_time, n_vt
+from pulsepick.circuits.direct import RS_PARAM
+from pulsepick.circuits.searchgrid import (
+    STAGE_DROP_V,
+    STAGE_R_SPAN_MIN_OHM,
+    SearchContext,
+    StageSearch,
+    around,
+    neighbours,
+    thin,
+)
 
 LN2 = np.log(2.0)
 #: Starting guess for the residual voltage on CP at the rising edge (V): a silicon
@@ -39,10 +51,48 @@ _INNER_PASSES = 3
 class PulseStage:
     name: str = "pulse"
     params: tuple[Param, ...] = (
-        Param("cp", "C", "flash coupling capacitor"),
-        Param("rs", "R", "LED series resistor", optional=True, default=0.0),
+        Param("cp", "C", "flash coupling capacitor", option="--cp",
+              help="pulse stage coupling capacitor CP, e.g. 22u",
+              example="22u"),
+        Param("rs", "R", "LED series resistor", optional=True, default=0.0, **RS_PARAM),
     )
     n_states: int = 1
+    lits: tuple[str, ...] = ("high",)
+    pulsed: bool = True
+    gate_carries_led: bool = True
+    steady_load: bool = False
+    search: ClassVar[StageSearch] = StageSearch(coarse_keep=2, timing_keep=16, per_decade=3)
+    search_rank: int = 1
+    search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
+
+    def label(self, topo):
+        return self.name
+
+    def extra_parts(self, topo):
+        return (ExtraPart("diode", "reset diode for the flash capacitor",
+                          "anode to ground, cathode to the LED side of the flash capacitor",
+                          choice="reset_diode"),)
+
+    def led_note(self, topo):
+        return "cathode to ground, anode to the flash capacitor"
+
+    def search_grid(self, ctx: SearchContext, topo):
+        rs_est = ctx.series_resistor(STAGE_DROP_V)
+        rs = thin(around(ctx.r_values, rs_est, 10.0, floor_hi=STAGE_R_SPAN_MIN_OHM),
+                  self.search.per_decade)
+        led, peak = ctx.led, ctx.peak_a
+        r_total = rs_est + ctx.rout_high_ohm + n_vt(led.junction) / peak + \
+            float(led.junction.r_s)
+        c_est = ctx.flash_s / (LN2 * r_total)
+        rs = np.concatenate([[0.0], rs])
+        cs = thin(around(ctx.c_values, c_est, 30.0), self.search.per_decade)
+        return {"cp": np.repeat(cs, rs.size), "rs": np.tile(rs, cs.size)}
+
+    def refine(self, ctx: SearchContext, point):
+        r0 = point["rs"]
+        rs = [0.0] if r0 == 0 else neighbours(ctx.r_values, r0).tolist()
+        return [{"cp": c, "rs": r} for c in neighbours(ctx.c_values, point["cp"]).tolist()
+                for r in rs]
 
     def fast(self, v, env: Env, topo: Topology, drv: DriverView, t_on, t_off, state):
         cp, rs = v["cp"], v["rs"]
@@ -86,6 +136,12 @@ class PulseStage:
         i_dio = env.reset_scalar.current(-node, 0.0) if node < 0 else 0.0
         i_cp = i_led - i_dio
         return i_cp, [i_cp / v["cp"]], i_led, 0.0
+
+    def spice(self, v, env, topo):
+        """Circuit-simulator lines of the stage (nodes: see ``base.SPICE_NODES``)."""
+        rs = max(v["rs"], 1e-6)  # a zero resistor as a micro-ohm (the simulator needs R > 0)
+        return (f"CP drv pn {v['cp']:.9g}", f"RS pn la {rs:.9g}", "VLED la lk 0",
+                "DLED lk 0 DLED", "DRST 0 pn DRESET")
 
 
 register_stage(PulseStage())

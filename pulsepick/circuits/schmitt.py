@@ -64,10 +64,37 @@ class SchmittCore:
     name: str = "schmitt"
     chip_kind: str = "schmitt"
     params: tuple[Param, ...] = (
-        Param("r1", "R", "timing resistor"),
-        Param("c1", "C", "timing capacitor"),
+        Param("r1", "R", "timing resistor", option="--r",
+              help="timing resistor R1 (schmitt cores), e.g. 2M2",
+              example="2M2"),
+        Param("c1", "C", "timing capacitor", option="--c", help="timing capacitor C1, e.g. 1u",
+              example="1u"),
     )
     drives_stage_from_timing_output: bool = True
+    default_family: str = "hc"
+    bufferable: bool = True
+    steers: tuple[str, ...] = ("high",)
+    search_rank: int = 1
+    ldr_param: str = "r1"
+    timing_search: str = "one-resistor"  # how the solver searches the timing network
+    slow_phase_core: str = "schmitt"  # the core that times the slow phase alone
+
+    def label(self, topo):
+        return self.name
+
+    def extra_parts(self, topo):
+        return ()
+
+    def end_currents(self, v, env, topo):
+        """(charging at VT+, discharging at VT-), A: R1 from the unloaded output."""
+        return (env.vdd - env.vt_plus) / v["r1"], env.vt_minus / v["r1"]
+
+    def held_resistance(self, v, topo, output):
+        """Resistance (ohm) from the output to a timing node held at the other rail."""
+        return float(v["r1"])
+
+    def timing_resistances(self, v):
+        return {"R1": v["r1"]}
 
     def phase_times(self, v, env: Env, topo: Topology, high: Drive, low: Drive,
                     with_cross: bool = True) -> PhaseTimes:
@@ -89,6 +116,10 @@ class SchmittCore:
         """Reference engine: (current into C1, current out of the output node, supply)."""
         i_r = (vo - vc) / v["r1"]
         return i_r - env.cap_leak_g * vc - env.pin_leak_a, i_r, 0.0
+
+    def spice(self, v, env, topo):
+        """Circuit-simulator lines of the timing network (nodes: see ``base.SPICE_NODES``)."""
+        return (f"R1 out tim {v['r1']:.9g}",)
 
 
 register_core(SchmittCore())

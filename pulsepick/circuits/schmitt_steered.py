@@ -23,6 +23,7 @@ from pulsepick.circuits.base import (
     STALLS,
     Drive,
     Env,
+    ExtraPart,
     Param,
     PhaseTimes,
     Topology,
@@ -92,11 +93,54 @@ class SteeredSchmittCore:
     name: str = "schmitt-steered"
     chip_kind: str = "schmitt"
     params: tuple[Param, ...] = (
-        Param("r1", "R", "timing resistor (slow phase)"),
-        Param("r2", "R", "steering resistor (fast phase)"),
-        Param("c1", "C", "timing capacitor"),
+        Param("r1", "R", "timing resistor (slow phase)", option="--r",
+              help="timing resistor R1 (schmitt cores), e.g. 2M2",
+              example="2M2"),
+        Param("r2", "R", "steering resistor (fast phase)", option="--r2",
+              help="steering resistor R2 (schmitt-steered), e.g. 47k",
+              example="47k"),
+        Param("c1", "C", "timing capacitor", option="--c", help="timing capacitor C1, e.g. 1u",
+              example="1u"),
     )
     drives_stage_from_timing_output: bool = True
+    default_family: str = "hc"
+    bufferable: bool = True
+    steers: tuple[str, ...] = ("high", "low")
+    search_rank: int = 0
+    ldr_param: str = "r1"
+    timing_search: str = "steered"  # how the solver searches the timing network
+    slow_phase_core: str = "schmitt"  # the core that times the slow phase alone (R1·C1)
+
+    def label(self, topo):
+        return f"{self.name} (fast {topo.steer})"
+
+    def extra_parts(self, topo):
+        towards = "capacitor" if topo.steer == "high" else "output"
+        return (ExtraPart("diode", "steering diode (fast phase)",
+                          f"cathode towards the {towards}", choice="steer_diode"),)
+
+    def end_currents(self, v, env, topo):
+        """(charging at VT+, discharging at VT-), A: R1, and the diode branch in its phase."""
+        vdd, vtp, vtm = env.vdd, env.vt_plus, env.vt_minus
+        up, down = (vdd - vtp) / v["r1"], vtm / v["r1"]
+        branch = env.steer_diode.junction
+        if topo.steer == "high":
+            up = up + branch.current(vdd - vtp, r_ext=v["r2"])
+        else:
+            down = down + branch.current(vtm, r_ext=v["r2"])
+        return up, down
+
+    def held_resistance(self, v, topo, output):
+        """Resistance (ohm) from the output to a timing node held at the other rail: R1,
+        and R2 in parallel where the steering diode conducts at that output level."""
+        r1 = float(v["r1"])
+        if topo.steer == output:
+            r2 = float(v["r2"])
+            return r1 * r2 / (r1 + r2)
+        return r1
+
+    def timing_resistances(self, v):
+        return {"R1": v["r1"], "R2": v["r2"]}
 
     def phase_times(self, v, env: Env, topo: Topology, high: Drive, low: Drive,
                     with_cross: bool = True) -> PhaseTimes:
@@ -129,6 +173,11 @@ class SteeredSchmittCore:
             i_b = -env.steer_diode_scalar.current(vc - vo, v["r2"])
         i_out = i_r + i_b
         return i_out - env.cap_leak_g * vc - env.pin_leak_a, i_out, 0.0
+
+    def spice(self, v, env, topo):
+        """Circuit-simulator lines of the timing network (nodes: see ``base.SPICE_NODES``)."""
+        diode = "D2 out br DSTEER" if topo.steer == "high" else "D2 br out DSTEER"
+        return (f"R1 out tim {v['r1']:.9g}", diode, f"R2 br tim {v['r2']:.9g}")
 
 
 register_core(SteeredSchmittCore())

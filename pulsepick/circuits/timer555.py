@@ -37,11 +37,48 @@ class Timer555Core:
     name: str = "timer555"
     chip_kind: str = "timer"
     params: tuple[Param, ...] = (
-        Param("ra", "R", "timing resistor from the supply"),
-        Param("rb", "R", "timing resistor to the capacitor"),
-        Param("c1", "C", "timing capacitor"),
+        Param("ra", "R", "timing resistor from the supply", option="--ra",
+              help="555 timing resistor RA, e.g. 1M",
+              example="1M"),
+        Param("rb", "R", "timing resistor to the capacitor", option="--rb",
+              help="555 timing resistor RB, e.g. 22k",
+              example="22k"),
+        Param("c1", "C", "timing capacitor", option="--c", help="timing capacitor C1, e.g. 1u",
+              example="1u"),
     )
     drives_stage_from_timing_output: bool = False
+    default_family: str = "timer555"
+    bufferable: bool = False
+    steers: tuple[str, ...] = ("high",)
+    search_rank: int = 2
+    ldr_param: str = "rb"
+    timing_search: str = "two-resistor"  # how the solver searches the timing network
+    slow_phase_core: str = "timer555"  # the core that times the slow phase alone
+
+    def label(self, topo):
+        return self.name
+
+    def extra_parts(self, topo):
+        return ()
+
+    def end_currents(self, v, env, topo):
+        """(charging at VT+, discharging at VT-), A.
+
+        Charging through RA + RB from the supply; discharging through RB into the
+        discharge node, which RA feeds and the switch holds near ground (its Thevenin
+        source, as in ``phase_times``).
+        """
+        ra, rb, rdis = v["ra"], v["rb"], env.r_discharge
+        v_d0 = env.vdd * rdis / (ra + rdis)
+        r_d = ra * rdis / (ra + rdis)
+        return (env.vdd - env.vt_plus) / (ra + rb), (env.vt_minus - v_d0) / (rb + r_d)
+
+    def held_resistance(self, v, topo, output):
+        """Not defined: a 555 is held by its RESET pin, not at its timing node."""
+        return float("nan")
+
+    def timing_resistances(self, v):
+        return {"RA+RB": v["ra"] + v["rb"], "RB": v["rb"]}
 
     def phase_times(self, v, env: Env, topo: Topology, high: Drive, low: Drive,
                     with_cross: bool = True) -> PhaseTimes:
@@ -83,6 +120,12 @@ class Timer555Core:
         v_node = (env.vdd / ra + vc / rb) / g_sum
         i_c = (v_node - vc) / rb
         return i_c - env.cap_leak_g * vc - env.pin_leak_a, 0.0, (env.vdd - v_node) / ra
+
+    def spice(self, v, env, topo):
+        """Circuit-simulator lines of the timing network (nodes: see ``base.SPICE_NODES``):
+        the discharge switch conducts while the output is low."""
+        return (f"RA vdd dis {v['ra']:.9g}", f"RB dis tim {v['rb']:.9g}",
+                "SDIS dis 0 stn 0 SWDIS")
 
 
 register_core(Timer555Core())

@@ -16,6 +16,7 @@ from pulsepick.analysis.spread import (
     BAND_CAP_CLASSES,
     BAND_SERIES,
     DEFAULT_BUILDS,
+    DEFAULT_TEMP_RANGE_C,
     SOURCE_LABELS,
     SOURCES,
     BandsResult,
@@ -36,6 +37,7 @@ from pulsepick.commands.pictures import (
     check_picture_targets,
     oscillating_periods,
 )
+from pulsepick.commands.wording import CLASS_LABELS
 from pulsepick.errors import PulsepickError, RequestError
 from pulsepick.render import dump_json, make_console, print_wrapped, simple_table
 from pulsepick.textplot import spread_lines
@@ -52,9 +54,9 @@ EXAMPLES = [
     "--plot spread.svg --report spread.html",
 ]
 
-CLASS_LABELS = {"electrolytic": "electrolytic", "x7r": "X7R", "film": "film", "c0g": "C0G"}
 _BAR_WIDTH = 30
 _SUPPLY_DEFAULT = "3.0V"
+_TEMPS_DEFAULT = f"{DEFAULT_TEMP_RANGE_C[0]:g}..{DEFAULT_TEMP_RANGE_C[1]:g} C"
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -68,8 +70,8 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                    help=f"Monte Carlo builds per cell (default {DEFAULT_BUILDS:,})")
     g.add_argument("--seed", type=int, default=0, metavar="S",
                    help="seed of the random builds (default 0)")
-    g.add_argument("--temps", default="-20..50 C", metavar="LO..HI",
-                   help="ambient temperature range (default -20..50 C)")
+    g.add_argument("--temps", default=_TEMPS_DEFAULT, metavar="LO..HI",
+                   help=f"ambient temperature range (default {_TEMPS_DEFAULT})")
     g.add_argument("--target", metavar="T",
                    help="period the yield is counted against (default: the blink's period, "
                         "or the circuit's nominal period)")
@@ -105,7 +107,7 @@ def _temps(text: str) -> tuple[float, float]:
         raise RequestError(f"--temps {text!r}: {err}") from err
     if not lo < hi:
         raise RequestError(f"--temps {text!r}: the range must run from cold to warm, "
-                           "such as -20..50 C")
+                           f"such as {_TEMPS_DEFAULT}")
     return lo, hi
 
 

@@ -16,6 +16,7 @@ from pulsepick.commands.pictures import (
     check_picture_targets,
     check_pictures,
 )
+from pulsepick.commands.wording import FIGURE_ROWS
 from pulsepick.design import Design
 from pulsepick.render import dump_json, make_console, print_wrapped, simple_table
 from pulsepick.textplot import waveform_lines
@@ -36,19 +37,6 @@ EXAMPLES = [
     "pulsepick check --core schmitt --r 2M2 --c 1u --stage pulse --cp 22u --rs 47 "
     "--plot marker.png --report marker.html",
 ]
-
-FIGURE_ROWS = (
-    ("period_s", "period", "s"),
-    ("high_s", "output high", "s"),
-    ("low_s", "output low", "s"),
-    ("led_peak_a", "LED peak current", "A"),
-    ("flash_s", "flash (>= 50 % of peak)", "s"),
-    ("flash_10pct_s", "flash (>= 10 % of peak)", "s"),
-    ("led_charge_c", "LED charge per period", "C"),
-    ("effective_a", "effective (steady-equivalent) current", "A"),
-    ("effective_mcd", "effective intensity", "mcd"),
-    ("supply_avg_a", "average supply current", "A"),
-)
 
 
 def add_arguments(parser) -> None:

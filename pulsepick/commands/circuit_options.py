@@ -11,7 +11,14 @@ from __future__ import annotations
 import argparse
 import math
 
-from pulsepick.circuits.base import Topology, core_names, get_core, get_stage, stage_names
+from pulsepick.circuits.base import (
+    Topology,
+    core_names,
+    get_core,
+    get_stage,
+    stage_names,
+    value_params,
+)
 from pulsepick.design import Design, load_curve
 from pulsepick.engine.environment import CHIP_KEYS, ChipSpec, PartChoice
 from pulsepick.errors import RequestError
@@ -20,11 +27,8 @@ from pulsepick.parts.diode import DIODE_KEYS
 from pulsepick.parts.led import LED_KEYS, LedModel, custom_led, get_led
 from pulsepick.units import parse_quantity, parse_value
 
-#: Command-line option for each component value of the circuits.
-VALUE_OPTIONS = {
-    "r1": "--r", "r2": "--r2", "ra": "--ra", "rb": "--rb", "c1": "--c",
-    "cp": "--cp", "ch": "--ch", "rs": "--rs",
-}
+#: Command-line option for each component value of the circuits (from the registry).
+VALUE_OPTIONS = {name: p.flag for name, p in value_params().items()}
 
 #: Accepted LED ideality factors: 1 < n < 2 for most diodes, up to about 5 in LED
 #: models (photonica glossary, ref:ideality-factor-glossary; Light & Engineering 28-5, ref:light-eng-28-5), with margin.
@@ -69,10 +73,11 @@ def add_part_arguments(parser: argparse.ArgumentParser) -> None:
 def add_circuit_arguments(parser: argparse.ArgumentParser, supply_default: str = "3.0V") -> None:
     """Topology, values, supply, chip and parts."""
     g = parser.add_argument_group("circuit")
-    g.add_argument("--core", default="schmitt", metavar="NAME",
-                   help=f"oscillator core: {', '.join(core_names())} (default schmitt)")
-    g.add_argument("--stage", default="direct", metavar="NAME",
-                   help=f"LED stage: {', '.join(stage_names())} (default direct)")
+    core, stage = core_names()[0], stage_names()[0]
+    g.add_argument("--core", default=core, metavar="NAME",
+                   help=f"oscillator core: {', '.join(core_names())} (default {core})")
+    g.add_argument("--stage", default=stage, metavar="NAME",
+                   help=f"LED stage: {', '.join(stage_names())} (default {stage})")
     g.add_argument("--buffered", action="store_true",
                    help="drive the LED stage from a spare gate instead of the timing gate")
     g.add_argument("--steer", default="high", choices=("high", "low"),
@@ -88,22 +93,9 @@ def add_circuit_arguments(parser: argparse.ArgumentParser, supply_default: str =
     add_part_arguments(parser)
 
 
-_EXAMPLE = {"r1": "2M2", "r2": "47k", "ra": "1M", "rb": "22k", "c1": "1u", "cp": "22u",
-            "ch": "100u", "rs": "470"}
-
-
 def _value_help(name: str) -> str:
-    text = {
-        "r1": "timing resistor R1 (schmitt cores), e.g. 2M2",
-        "r2": "steering resistor R2 (schmitt-steered), e.g. 47k",
-        "ra": "555 timing resistor RA, e.g. 1M",
-        "rb": "555 timing resistor RB, e.g. 22k",
-        "c1": "timing capacitor C1, e.g. 1u",
-        "cp": "pulse stage coupling capacitor CP, e.g. 22u",
-        "ch": "fade stage hold capacitor CH, e.g. 100u",
-        "rs": "LED series resistor RS, e.g. 47 or 470R",
-    }
-    return text[name]
+    p = value_params()[name]
+    return p.help or p.role
 
 
 def led_from_args(args: argparse.Namespace) -> LedModel:
@@ -155,7 +147,8 @@ def parts_from_args(args, supply_v: float, core: str | None = None
 
     Without ``--family`` the chip is ``hc``, or ``timer555`` when ``core`` is the 555.
     """
-    default = "timer555" if core == "timer555" else "hc"
+    default = get_core(core).default_family if core in core_names() else \
+        get_core(core_names()[0]).default_family
     family = (args.family or default).strip().lower()
     if getattr(args, "chip", None) and not args.family and not _timer_core(core):
         family = "hc"  # the profile names the family; this only passes the check below
@@ -272,7 +265,8 @@ def design_from_args(args) -> Design:
         if text is None:
             if name in wanted and not wanted[name].optional:
                 problems.append(f"{opt} ({wanted[name].role}) is needed by "
-                                f"{core_name} + {stage_name}, e.g. {opt} {_EXAMPLE[name]}")
+                                f"{core_name} + {stage_name}, e.g. {opt} "
+                                f"{wanted[name].example}")
             continue
         if name not in wanted:
             problems.append(f"{opt} is not used by {core_name} + {stage_name} "

@@ -211,7 +211,7 @@ def read_night_load(args: argparse.Namespace, v_top_v: float):
         return quantity(text, "current", "--night-load", "30uA", allow_zero=True)
     if args.night_load is not None:
         raise RequestError("give the night load one way: --night-load, or the circuit's values")
-    from pulsepick.commands.night import supply_grid
+    from pulsepick.commands.night_options import supply_grid
 
     return circuit_options.load_curve_from_args(args, supply_grid(v_top_v))
 

@@ -66,11 +66,11 @@ def apply_design(args: argparse.Namespace):
 
 def design_load(args: argparse.Namespace, design, storage, v_top_v: float):
     """The night load of every light of the design (the solver's picks), as a curve."""
-    from pulsepick.commands.night import _solved_load
+    from pulsepick.commands.solved_load import solved_load
 
     shim = argparse.Namespace(supply=None, family=None, design=args.design,
                               cross_current=None)
-    load, _ = _solved_load(shim, design, storage, v_top_v, None)
+    load, _ = solved_load(shim, design, storage, v_top_v, None)
     return load
 
 
@@ -82,7 +82,7 @@ def design_loads(args: argparse.Namespace, design, storage, v_top_v: float):
     from dataclasses import replace
 
     from pulsepick.analysis.multi import combined_load_curve
-    from pulsepick.commands.night import supply_grid
+    from pulsepick.commands.night_options import supply_grid
     from pulsepick.design import load_curve
     from pulsepick.designfile import build_request
     from pulsepick.engine.environment import chip_model

@@ -105,11 +105,14 @@ def run(args) -> int:
     if getattr(args, "design", None) is not None:
         design = _design_light(args)
     else:
+        from pulsepick.circuits.base import core_names, get_core, value_params
+
         if args.light is not None:
             raise RequestError("--light names a light of a design file; give the file first")
         core = (args.core or "").strip().lower()
-        param = "rb" if core == "timer555" else "r1"
-        option = "--rb" if param == "rb" else "--r"
+        # an unknown core is refused by design_from_args below; R1 stands in until then
+        param = get_core(core).ldr_param if core in core_names() else "r1"
+        option = value_params()[param].flag
         if getattr(args, f"value_{param}") is not None:
             raise RequestError(f"the photoresistor takes the place of {param.upper()}: leave "
                                f"out {option} and give a fixed resistor in series with "

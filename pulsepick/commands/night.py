@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import argparse
 import math
-import os
 from dataclasses import replace
 from datetime import date, datetime, timedelta
 
@@ -29,6 +28,7 @@ from pulsepick.commands.night_options import (
     quantity,
     read_date,
     read_storage,
+    supply_grid,
     utc_offset,
 )
 from pulsepick.commands.pictures import (
@@ -37,6 +37,8 @@ from pulsepick.commands.pictures import (
     check_picture_targets,
     night_pictures,
 )
+from pulsepick.commands.solved_load import one_circuit, solved_load
+from pulsepick.commands.wording import duration_text, verdict
 from pulsepick.errors import RequestError
 from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS
 from pulsepick.render import dump_json, make_console, simple_table
@@ -59,8 +61,6 @@ EXAMPLES = [
 
 TURN_ON_CHOICES = ("civil", "sunset")
 _MAX_NIGHT_S = 24 * 3600.0  # a night is at most a day long
-SUPPLY_STEP_V = 0.01  # grid step of the load curve, V (the light's stop voltage resolution)
-SUPPLY_GRID_LOW_V = 0.8  # lowest grid supply, V: below any LED or logic chip in the tables
 # the common single-cell rating (Maxwell BCAP0005, CAP-XX HY: ref:maxwell-bcap0005/ref:capxx-hy-10f)
 CROSS_CURRENT_EXAMPLE = "--cross-current 15uA"  # option syntax only, not a figure
 NO_DUSK_DETECTOR = ("no dusk detector load included (describe it with --dusk-bleed and the "
@@ -226,13 +226,6 @@ def _clamp_advice(args, design, storage):
     return clamp_advice(storage, read_panel(args), get_diode(args.diode))
 
 
-def supply_grid(v_top_v: float, v_low_v: float | None = None) -> np.ndarray:
-    """Ascending supply voltages (V) for the circuit's load curve, ending at ``v_top_v``."""
-    low = min(SUPPLY_GRID_LOW_V, 0.5 * v_top_v) if v_low_v is None else v_low_v
-    count = max(2, math.ceil((v_top_v - low) / SUPPLY_STEP_V) + 1)
-    return np.linspace(low, v_top_v, count)
-
-
 # ---------------------------------------------------------------------------- run
 
 def run(args: argparse.Namespace) -> int:
@@ -261,7 +254,7 @@ def run(args: argparse.Namespace) -> int:
 
     load, designs = None, []
     if design is not None or args.from_solve is not None:
-        load, designs = _solved_load(args, design, storage, v_start, stop_at)
+        load, designs = solved_load(args, design, storage, v_start, stop_at)
     elif not args.no_circuit:
         if getattr(args, "supply", "") is None:
             args.supply = "3.0V"  # the check options' default supply
@@ -337,7 +330,7 @@ def _apply_design(args: argparse.Namespace):
         raise RequestError(f"{args.design!r} is not a design file; give a .toml design such "
                            "as examples/firefly-lantern.toml (the circuit options describe a "
                            "circuit by hand)")
-    _one_circuit(args, "a design file")
+    one_circuit(args, "a design file")
     design = read_design(args.design)
     s = design.storage
     if s is None:
@@ -361,89 +354,6 @@ def _apply_design(args: argparse.Namespace):
             if value is not None and getattr(args, key, None) is None:
                 setattr(args, key, value)
     return design
-
-
-def _one_circuit(args: argparse.Namespace, what: str) -> None:
-    given = [k for k in vars(args) if k.startswith("value_") and getattr(args, k) is not None]
-    if given or args.no_circuit or (what == "a design file" and args.from_solve is not None):
-        raise RequestError(f"give the circuit one way: {what}, --from-solve, the circuit "
-                           "values (--core, --r, --c ...) or --no-circuit")
-
-
-def _solved_load(args, design, storage, v_start: float, stop_at: float | None):
-    """The load curve of the solver's pick, or of every light of a build, added."""
-    from dataclasses import replace
-
-    from pulsepick.analysis.multi import combined_load_curve
-    from pulsepick.design import load_curve
-    from pulsepick.solve import default_jobs, solve, solve_build
-
-    grid = supply_grid(max(v_start, storage.v_rated_v))
-    jobs = default_jobs()
-    if design is not None:
-        from pulsepick.designfile import build_request
-
-        overrides = {"supply": args.supply, "family": args.family}
-        if getattr(args, "chip", None):
-            overrides["chip"] = os.path.abspath(args.chip)
-        result = solve_build(build_request(design, **overrides), jobs=jobs, assess_picks=False)
-        missing = [li.name for li in result.lights if li.pick is None]
-        if missing:
-            raise RequestError(f"{args.design}: the solver offers nothing for "
-                               f"{', '.join(missing)}; run 'pulsepick solve {args.design}' "
-                               "for the reasons")
-        designs = [(li.name, _with_cross_current(li.pick.design, args))
-                   for li in result.lights]
-        curves = [replace(load_curve(d, grid), label=f"{name}: {d.label()}")
-                  for name, d in designs]
-        name = design.name or args.design
-        return combined_load_curve(curves, label=f"{name} ({len(curves)} lights)"), designs
-    _one_circuit(args, "--from-solve")
-    from pulsepick.commands.circuit_options import solver_chip
-    from pulsepick.request import make_build_request, make_request, split_lights
-
-    supply = args.supply
-    if supply is None:
-        supply = f"{v_start:g}V" + (f"..{stop_at:g}V" if stop_at else "")
-    if args.pick < 1:
-        raise RequestError(f"--pick {args.pick}: give a circuit number of at least 1")
-    phrases = split_lights(args.from_solve)
-    if phrases is not None:
-        family, measured = solver_chip(args)
-        breq = make_build_request(phrases, supply=supply, family=family, led=args.led,
-                                  chip_overrides=measured,
-                                  source=args.from_solve)
-        result = solve_build(breq, jobs=jobs, assess_picks=False)
-        if any(li.pick is None for li in result.lights):
-            raise RequestError(f"--from-solve {args.from_solve!r}: the solver offers nothing "
-                               "for some lights; run 'pulsepick solve' for the reasons")
-        designs = [(li.name, _with_cross_current(li.pick.design, args))
-                   for li in result.lights]
-        return (combined_load_curve([load_curve(d, grid) for _, d in designs],
-                                    label=f"{args.from_solve} ({len(phrases)} lights)"),
-                designs)
-    family, measured = solver_chip(args)
-    req = make_request(args.from_solve, supply=supply, family=family, led=args.led,
-                       chip_overrides=measured)
-    result = solve(req, jobs=jobs)
-    if not result.success:
-        raise RequestError(f"--from-solve {args.from_solve!r}: nothing can be offered; "
-                           f"{' '.join(result.explanations) or result.message}")
-    if args.pick > len(result.candidates):
-        raise RequestError(f"--pick {args.pick}: the solver offers {len(result.candidates)} "
-                           f"circuits; choose 1 to {len(result.candidates)}")
-    pick = _with_cross_current(result.candidates[args.pick - 1].design, args)
-    return (replace(load_curve(pick, grid), label=f"{pick.label()} (solver pick {args.pick})"),
-            [(None, pick)])
-
-
-def _with_cross_current(design, args):
-    """The solver's design with a measured ``--cross-current`` in place of the estimate."""
-    text = getattr(args, "cross_current", None)
-    if text is None or design.chip.is_timer:
-        return design
-    measured = quantity(text, "current", "--cross-current", "15uA", allow_zero=True)
-    return replace(design, chip=replace(design.chip, cross_current_a=measured))
 
 
 def crossing_current(designs, v_start_v: float, load) -> dict | None:
@@ -636,42 +546,6 @@ def _public(entry: dict | None) -> dict | None:
 
 def _hm(moment: datetime | None) -> str | None:
     return None if moment is None else moment.strftime("%H:%M")
-
-
-def duration_text(seconds: float) -> str:
-    """``8 h 10 min``, ``45 min``, ``3 d 4 h`` (rounded to the minute)."""
-    minutes = round(seconds / 60.0)
-    hours, minutes = divmod(minutes, 60)
-    if hours >= 48:
-        days, hours = divmod(hours, 24)
-        return f"{days} d {hours} h"
-    return f"{hours} h {minutes} min" if hours else f"{minutes} min"
-
-
-def verdict(result: NightResult, open_ended: bool = False) -> str:
-    """One line: does it last the night, or when does the light stop.
-
-    ``open_ended`` is a run with no night (until the stop voltage, however long).
-    """
-    stop = f"{result.v_stop_v:.2f} V"
-    if result.lasts_the_night:
-        if open_ended:
-            return (f"storage stays above {stop} for {duration_text(result.duration_s)}, "
-                    f"{result.v_end_v:.2f} V left")
-        return f"lasts the night, {result.v_end_v:.2f} V left at dawn"
-    if result.runtime_s == 0.0:
-        if not math.isfinite(result.v_stop_v):
-            return f"light never starts: the circuit is not lit at {result.v_start_v:.2f} V"
-        return (f"light never starts: {result.v_start_v:.2f} V is not above the stop voltage "
-                f"{stop}")
-    what = "light stops" if result.load is not None else f"storage reaches {stop}"
-    after = duration_text(result.runtime_s)
-    if open_ended:
-        return f"{what} after {after}"
-    left = duration_text(result.duration_s - result.runtime_s)
-    if result.stops_at is not None:
-        return f"{what} at {result.stops_at} after {after}, {left} before dawn"
-    return f"{what} after {after}, {left} before dawn"
 
 
 def _eng(value: float | None, unit: str) -> str:

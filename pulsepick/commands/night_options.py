@@ -12,12 +12,16 @@ import re
 from dataclasses import replace
 from datetime import date
 
+import numpy as np
+
 from pulsepick.errors import PulsepickError, RequestError
 from pulsepick.parts.storage import STORAGE_KEYS, Storage, custom_storage, get_storage
 
 _CLOCK_RE = re.compile(r"(\d{1,2}):(\d{2})")
 DEFAULT_RATED_V = 2.7
 _PART_GIVEN_NOTE = "capacitance and rating given by the user"  # the storage model's own note
+SUPPLY_STEP_V = 0.01  # grid step of the load curve, V (the light's stop voltage resolution)
+SUPPLY_GRID_LOW_V = 0.8  # lowest grid supply, V: below any LED or logic chip in the tables
 
 
 def quantity(text: str, kind: str, option: str, example: str, allow_zero: bool = False) -> float:
@@ -115,3 +119,10 @@ def utc_offset(text: str) -> float:
             f"--utc-offset {text!r} is not an offset; give hours from -14 to 14, such as 1 or -5.5"
         )
     return value
+
+
+def supply_grid(v_top_v: float, v_low_v: float | None = None) -> np.ndarray:
+    """Ascending supply voltages (V) for the circuit's load curve, ending at ``v_top_v``."""
+    low = min(SUPPLY_GRID_LOW_V, 0.5 * v_top_v) if v_low_v is None else v_low_v
+    count = max(2, math.ceil((v_top_v - low) / SUPPLY_STEP_V) + 1)
+    return np.linspace(low, v_top_v, count)

@@ -471,7 +471,7 @@ def check_report(design, figures: dict, reason, findings, assumed: dict, engine:
                  images) -> Report:
     """The design report of a checked circuit."""
     from pulsepick.analysis.spread import part_tolerances
-    from pulsepick.commands.check import FIGURE_ROWS
+    from pulsepick.commands.wording import FIGURE_ROWS
     from pulsepick.partslist import parts_list
 
     fig_rows = []
@@ -543,7 +543,7 @@ def bands_pictures(args, result, advice: tuple[str, ...] = ()) -> list[str]:
 
 def bands_report(result, dr, images, advice: tuple[str, ...] = ()) -> Report:
     from pulsepick.analysis.spread import BAND_CAP_CLASSES, BAND_SERIES
-    from pulsepick.commands.bands import CLASS_LABELS
+    from pulsepick.commands.wording import CLASS_LABELS
     from pulsepick.partslist import parts_list
 
     d, cur = result.design, result.current
@@ -618,7 +618,7 @@ def night_pictures(args, result, night: dict, design=None) -> list[str]:
 
 
 def night_report(result, night: dict, design, images) -> Report:
-    from pulsepick.commands.night import duration_text, verdict
+    from pulsepick.commands.wording import duration_text, verdict
 
     open_ended = night["given"] == "none"
     s = result.storage

@@ -471,6 +471,7 @@ def crossing_text(result) -> str | None:
 
 
 def _render_request(console, req, result=None) -> None:
+    from pulsepick.analysis.spread import TEMP_RANGE_TEXT
     from pulsepick.render import simple_table
     from pulsepick.units import format_eng
 
@@ -508,7 +509,7 @@ def _render_request(console, req, result=None) -> None:
          mark("buffered")],
         ["parts drawer", req.stock.source if req.stock else "any standard value",
          mark("stock")],
-        ["spread", f"{req.builds:,} builds, seed {req.seed}, -20..50 °C",
+        ["spread", f"{req.builds:,} builds, seed {req.seed}, {TEMP_RANGE_TEXT}",
          mark("builds", "seed")],
     ]
     if req.chip_overrides:

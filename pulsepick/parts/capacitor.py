@@ -29,7 +29,7 @@ from typing import Literal, get_args
 import numpy as np
 
 from pulsepick.errors import DataFileError, PartError
-from pulsepick.tables import load_table
+from pulsepick.tables import keyed_row
 
 CapKindKey = Literal[
     "c0g", "film-pet", "film-pp", "x7r", "x5r", "y5v", "electrolytic", "tantalum"
@@ -205,12 +205,7 @@ def get_cap_kind(key: str) -> CapacitorKind:
     PartError
         for an unknown key; the message lists the accepted keys.
     """
-    if key not in CAP_KIND_KEYS:
-        raise PartError(f"unknown capacitor kind {key!r}; accepted: {', '.join(CAP_KIND_KEYS)}")
-    rows = {row["key"]: row for row in load_table(_TABLE).rows}
-    if set(rows) != set(CAP_KIND_KEYS):
-        raise DataFileError(f"{_TABLE} must hold exactly the keys {', '.join(CAP_KIND_KEYS)}")
-    row = rows[key]
+    row = keyed_row(_TABLE, key, CAP_KIND_KEYS, "capacitor kind")
     floats = (
         "tol_minus_pct tol_plus_pct tempco_ppm_per_k tempco_tol_ppm_per_k temp_lo_c temp_hi_c "
         "temp_typ_lo_pct temp_typ_hi_pct temp_band_minus_pct temp_band_plus_pct "

@@ -22,9 +22,9 @@ from typing import Literal, get_args
 
 import numpy as np
 
-from pulsepick.errors import DataFileError, PartError
+from pulsepick.errors import PartError
 from pulsepick.parts.junction import Junction
-from pulsepick.tables import load_table
+from pulsepick.tables import keyed_row
 
 DiodeKey = Literal["si", "schottky"]
 DIODE_KEYS: tuple[str, ...] = get_args(DiodeKey)
@@ -94,12 +94,7 @@ def get_diode(key: str) -> DiodeModel:
     PartError
         for an unknown key; the message lists the accepted keys.
     """
-    rows = {row["key"]: row for row in load_table(_TABLE).rows}
-    if set(rows) != set(DIODE_KEYS):
-        raise DataFileError(f"{_TABLE} must hold exactly the keys {', '.join(DIODE_KEYS)}")
-    if key not in rows:
-        raise PartError(f"unknown diode {key!r}; accepted: {', '.join(DIODE_KEYS)}")
-    row = rows[key]
+    row = keyed_row(_TABLE, key, DIODE_KEYS, "diode")
     return DiodeModel(
         key=key,
         name=str(row["name"]),

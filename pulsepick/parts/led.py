@@ -29,7 +29,7 @@ import numpy as np
 
 from pulsepick.errors import PartError
 from pulsepick.parts.junction import Junction
-from pulsepick.tables import load_table
+from pulsepick.tables import keyed_row
 
 LedKey = Literal[
     "red", "bright-red", "amber", "yellow", "green-gap", "green", "blue", "white"
@@ -121,10 +121,7 @@ def get_led(key: str) -> LedModel:
     PartError
         for an unknown key; the message lists the accepted keys.
     """
-    if key not in LED_KEYS:
-        raise PartError(f"unknown LED colour {key!r}; accepted: {', '.join(LED_KEYS)}")
-    rows = {row["key"]: row for row in load_table(_TABLE).rows}
-    row = rows[key]
+    row = keyed_row(_TABLE, key, LED_KEYS, "LED colour")
     vf = float(row["vf_test_v"])
     i_test = float(row["i_test_a"])
     mcd = _opt(row["mcd"])

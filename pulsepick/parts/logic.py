@@ -36,12 +36,16 @@ from typing import Literal, get_args
 
 import numpy as np
 
-from pulsepick.errors import DataFileError, PartError
-from pulsepick.tables import load_table
+from pulsepick.errors import PartError
+from pulsepick.tables import keyed_row, load_table
 
 FamilyKey = Literal["hc", "ahc", "lvc", "4000n", "4000w"]
 FAMILY_KEYS: tuple[str, ...] = get_args(FamilyKey)
 Which = Literal["typ", "max"]
+
+#: Gates in a Schmitt-inverter package: the 74HC14, 74AHC14, 74LVC14A and CD40106B are
+#: hex inverters (common practice).
+GATES_PER_PACKAGE = 6
 
 _FAMILIES = "parts/logic_families.csv"
 _THRESHOLDS = "parts/logic_thresholds.csv"
@@ -259,12 +263,7 @@ def get_family(key: str) -> LogicFamily:
     PartError
         for an unknown key; the message lists the accepted keys.
     """
-    if key not in FAMILY_KEYS:
-        raise PartError(f"unknown logic family {key!r}; accepted: {', '.join(FAMILY_KEYS)}")
-    rows = {row["key"]: row for row in load_table(_FAMILIES).rows}
-    if set(rows) != set(FAMILY_KEYS):
-        raise DataFileError(f"{_FAMILIES} must hold exactly the keys {', '.join(FAMILY_KEYS)}")
-    row = rows[key]
+    row = keyed_row(_FAMILIES, key, FAMILY_KEYS, "logic family")
     points = sorted(
         (_point(r) for r in load_table(_THRESHOLDS).rows if r["family"] == key),
         key=lambda p: p.vdd_v,

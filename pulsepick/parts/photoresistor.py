@@ -55,7 +55,7 @@ def power_law_resistance(lux, r10_ohm: float, gamma: float):
     Examples
     --------
     >>> round(power_law_resistance(100.0, 15e3, 0.6))
-    3774
+    3768
     """
     e = np.asarray(lux, dtype=float)
     with np.errstate(divide="ignore"):

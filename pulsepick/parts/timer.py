@@ -29,7 +29,7 @@ from typing import Literal, get_args
 import numpy as np
 
 from pulsepick.errors import PartError
-from pulsepick.tables import load_table
+from pulsepick.tables import keyed_row
 
 TimerKey = Literal["timer555"]
 TIMER_KEYS: tuple[str, ...] = get_args(TimerKey)
@@ -117,10 +117,7 @@ def get_timer(key: str = "timer555") -> TimerModel:
     PartError
         for an unknown key; the message lists the accepted keys.
     """
-    rows = {row["key"]: row for row in load_table(_TABLE).rows}
-    if key not in TIMER_KEYS or key not in rows:
-        raise PartError(f"unknown timer {key!r}; accepted: {', '.join(TIMER_KEYS)}")
-    row = rows[key]
+    row = keyed_row(_TABLE, key, TIMER_KEYS, "timer")
     points = tuple(
         (row[f"idd_v_{n}"], row[f"idd_typ_a_{n}"], row[f"idd_max_a_{n}"]) for n in (1, 2, 3)
     )
