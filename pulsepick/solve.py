@@ -1086,9 +1086,10 @@ def aim_levels(req: SolveRequest, chip, core: str, steer: str,
                                                                       0.99 * t.period_s))
     long = t.period_s - short
     v = req.supply_v if supply_v is None else supply_v
-    if core == "schmitt":
+    search = get_core(core).timing_search
+    if search == "one-resistor":  # one R sets both phases: the typical phase ratio
         return median_levels(chip, v, None, None, req.seed)
-    if core == "schmitt-steered" and steer == "high":
+    if search == "steered" and steer == "high":  # a fast high phase: the low one is slow
         return median_levels(chip, v, short, long, req.seed)
     return median_levels(chip, v, long, short, req.seed)
 

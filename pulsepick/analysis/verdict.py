@@ -28,7 +28,16 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from pulsepick.circuits.base import DARK, RUNS, STALLS, STATUS_WORDS, UNPOWERED, Topology
+from pulsepick.circuits.base import (
+    DARK,
+    RUNS,
+    STALLS,
+    STATUS_WORDS,
+    UNPOWERED,
+    Topology,
+    get_core,
+    get_stage,
+)
 from pulsepick.engine.environment import chip_model
 from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
 from pulsepick.units import format_eng
@@ -68,13 +77,15 @@ def _solve_node(f, lo: float, hi: float) -> float:
 
 
 def loaded_output(design, env) -> tuple[float | None, float | None]:
-    """(high level, low level) in V of the timing gate's output with a direct LED stage on it.
+    """(high level, low level) in V of the timing gate's output with an LED and RS on it.
 
-    None for a side the LED does not load (or when the stage is not a direct one on the
-    timing gate).
+    None for a side the LED does not load (or when the stage does not draw the LED's
+    steady current through the timing gate's output).
     """
     topo = design.topo
-    if topo.stage != "direct" or topo.buffered or topo.core == "timer555":
+    stage = get_stage(topo.stage)
+    if (topo.buffered or not get_core(topo.core).drives_stage_from_timing_output
+            or not (stage.steady_load and stage.gate_carries_led)):
         return None, None
     led = design.parts.led
     rs = float(design.values.get("rs", 0.0))
@@ -120,15 +131,14 @@ def _latch(design, env) -> Verdict | None:
 
 
 def _stall_reason(design, env) -> str:
-    from pulsepick.analysis.checks import charging_currents
-
-    i_up, i_down = charging_currents(design, env)
+    up, down = get_core(design.topo.core).end_currents(design.values, env, design.topo)
+    i_up, i_down = float(np.ravel(up)[0]), float(np.ravel(down)[0])
     kind = get_cap_kind(design.parts.timing_cap)
     vtp = _scalar(env.vt_plus)
     rating = pick_voltage_rating(kind, design.supply_v)
     leak = _scalar(kind.leakage_a(design.values["c1"], vtp, rating, which="typ"))
     topo = design.topo
-    if not topo.buffered and topo.core != "timer555":
+    if not topo.buffered and get_core(topo.core).drives_stage_from_timing_output:
         from pulsepick.engine import fast
 
         alone = Topology(topo.core, topo.stage, True, topo.lit, topo.steer)
