@@ -63,7 +63,10 @@ def build_night(design_file, result):
     stop_at = None if args.stop_at is None else parse_quantity(args.stop_at, "voltage",
                                                                 bare_ok=True)
     grid = supply_grid(max(v_start, storage.v_rated_v))
-    curves = [replace(load_curve(li.pick.design, grid), label=li.name) for li in result.lights]
+    # a photoresistor light draws at the night's light level (pulsepick.packing)
+    night_designs = result.night_designs or [li.pick.design for li in result.lights]
+    curves = [replace(load_curve(d, grid), label=li.name)
+              for li, d in zip(result.lights, night_designs, strict=True)]
     load = combined_load_curve(curves, label=f"{len(curves)} lights")
     extra = parse_quantity(args.extra_load, "current", bare_ok=True, allow_zero=True)
     out = simulate_night(storage, v_start, night["duration_s"], load, stop_at_v=stop_at,

@@ -35,8 +35,10 @@ Tables and their keys
 ``name`` (text) at the top; ``[build]``: supply, family, led, series, cap_series,
 timing_cap, min_r, max_r, cap_range, buffered, cores, stages, stock (a CSV path relative
 to the design file), max_packages, dusk_detector, spread_out, period_tolerance,
-lock_margin, top, builds, seed, chip (a chip profile from ``pulsepick calibrate --save``,
-relative to the design file); ``[[light]]``: name, blink (required), led, family,
+lock_margin, max_lock_share, night_lux (lux at night for a photoresistor light;
+default 0.01, a moonless night), top, builds, seed, chip (a chip profile from
+``pulsepick calibrate --save``, relative to the design file); ``[[light]]``: name, blink
+(required), led, family,
 timing_cap, buffered, cores, stages, chip, photoresistor (a photoresistor key: it sets the
 light's rate with the light, the blink's period being the one in the dark); ``[storage]``:
 part or capacitance (one required),
@@ -68,7 +70,8 @@ BUILD_KEYS: dict[str, str] = {
     "cap_series": "text", "timing_cap": "text", "min_r": "text", "max_r": "text",
     "cap_range": "text", "buffered": "bool", "cores": "text", "stages": "text",
     "stock": "text", "max_packages": "int", "dusk_detector": "bool", "spread_out": "bool",
-    "period_tolerance": "text", "lock_margin": "text", "top": "int", "builds": "int",
+    "period_tolerance": "text", "lock_margin": "text", "max_lock_share": "text",
+    "night_lux": "number", "top": "int", "builds": "int",
     "seed": "int", "chip": "text",
 }
 LIGHT_KEYS: dict[str, str] = {
@@ -334,7 +337,8 @@ def build_request(design: DesignFile, **overrides: Any):
         max_packages=b.get("max_packages"), dusk_detector=b.get("dusk_detector", True),
         lock_margin=b.get("lock_margin"), spread_out=b.get("spread_out", False),
         period_tolerance=b.get("period_tolerance"), name=design.name, source=design.path,
-        photoresistors=tuple(li.photoresistor for li in design.lights), **context)
+        photoresistors=tuple(li.photoresistor for li in design.lights),
+        max_lock_share=b.get("max_lock_share"), night_lux=b.get("night_lux"), **context)
 
 
 def storage_part(design: DesignFile):

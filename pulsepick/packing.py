@@ -18,6 +18,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, replace
 
+import numpy as np
+
 from pulsepick.errors import RequestError
 from pulsepick.request import FAMILY_CHOICES, SolveRequest
 
@@ -155,14 +157,17 @@ def solve_lights(breq, solve_fn, *, jobs: int = 1):
 
 # ============================================================================ lock share
 
-def build_lock_share(breq, picks, groups, *, seed: int = 0):
+def build_lock_share(breq, picks, groups, *, seed: int = 0, designs=None):
     """The lock share of the chosen circuits (:func:`pulsepick.analysis.lock.lock_share`),
-    over the night's supply range and each pick's resistor tolerances."""
+    over the night's supply range and each pick's resistor tolerances, as they run at
+    night (``designs``, default :func:`night_designs`)."""
     from pulsepick.analysis.lock import lock_share
 
     req = breq.lights[0].request
     lo, hi = supply_span(req)
-    return lock_share([c.design for c in picks], groups, seed=seed, margin=breq.lock_margin,
+    if designs is None:
+        designs = night_designs(breq, picks)
+    return lock_share(list(designs), groups, seed=seed, margin=breq.lock_margin,
                       supply_range_v=(lo, hi) if hi > lo else None,
                       resistor_tol_pct=[_r_tols(c) for c in picks])
 
@@ -172,15 +177,19 @@ def _r_tols(c):
     return tols or None
 
 
-def lock_remedies(breq, picks, groups, share, options_fn, *, seed: int = 0) -> tuple:
-    """Ways to lower the lock share, ranked by the share each leaves.
+def lock_remedies(breq, picks, groups, share, options_fn, *, seed: int = 0,
+                  designs=None) -> tuple:
+    """Ways to lower the lock share, ranked by the share each leaves (those that do not
+    lower it left out).
 
     ``options_fn(i, tolerance)`` gives light ``i``'s standard-value variants
     (:class:`pulsepick.analysis.multi.PeriodOptions`) within ``tolerance`` of its period
     asked. Tighter parts re-run the Monte Carlo with 1 % resistors and 5 % capacitors; a
     wider period tolerance (twice the one given) and the spread-out search rescale the
     builds; a separate package moves the light in the most near-lock builds to its own.
-    A trimmer is not offered (no trimmer model in this version).
+    A trimmer on each light that shares a package with another, set at the bench to its
+    period (:mod:`pulsepick.analysis.locktrim`), leaves the setting resolution and what
+    the supply and temperature move afterwards.
     """
     from pulsepick.analysis.lock import (
         TIGHT_CAP_PCT,
@@ -196,15 +205,18 @@ def lock_remedies(breq, picks, groups, share, options_fn, *, seed: int = 0) -> t
         return ()
     req = breq.lights[0].request
     lo, hi = supply_span(req)
+    if designs is None:
+        designs = night_designs(breq, picks)
+    scale = night_scales(picks, designs)
     out = []
-    tight = lock_share([c.design for c in picks], groups, seed=seed, margin=breq.lock_margin,
+    tight = lock_share(list(designs), groups, seed=seed, margin=breq.lock_margin,
                        supply_range_v=(lo, hi) if hi > lo else None,
                        resistor_tol_pct=[TIGHT_RESISTOR_PCT] * len(picks),
                        cap_tol=TIGHT_CAP_PCT)
     out.append(Remedy(f"tighter timing parts ({TIGHT_RESISTOR_PCT:g} % resistors, "
                       f"{TIGHT_CAP_PCT:g} % capacitors)", tight.share, "--series E96"))
-    periods = [float(c.figures["period_s"]) for c in picks]
-    asked = [li.request.targets.period_s for li in breq.lights]
+    periods = [float(c.figures["period_s"]) * k for c, k in zip(picks, scale, strict=True)]
+    asked = [li.request.targets.period_s * k for li, k in zip(breq.lights, scale, strict=True)]
     for tol, words, opt in (
             (breq.period_tolerance, f"spread the periods out within {breq.period_tolerance:.0%}",
              "--spread-out"),
@@ -214,24 +226,80 @@ def lock_remedies(breq, picks, groups, share, options_fn, *, seed: int = 0) -> t
         if opt == "--spread-out" and breq.spread_out:
             continue
         try:
-            opts = [options_fn(i, tol).periods_s for i in range(len(picks))]
+            opts = [options_fn(i, tol).periods_s * scale[i] for i in range(len(picks))]
             _, res = minimise_share(asked, opts, share, periods, groups)
         except RequestError:  # a light without variants: no remedy of this kind
             continue
         out.append(Remedy(words, res.share, opt))
+    trim = _trim_remedy(breq, picks, groups, share, designs)
+    if trim is not None:
+        out.append(trim)
     worst = max(range(len(picks)), key=lambda i: sum(p.share for p in share.pairs
                                                      if i in (p.a, p.b)))
     alone = [g if i != worst else max(groups) + 1 for i, g in enumerate(groups)]
     sep = share_of(periods, share.log_dev, alone, margin=share.margin, max_q=share.max_q)
     out.append(Remedy(f"{breq.lights[worst].name} on a package of its own", sep.share,
                       "--max-packages"))
-    return rank_remedies(out)
+    # only what lowers the share is a remedy
+    return rank_remedies([r for r in out if r.share < share.share])
+
+
+def build_verdict(breq, n_lights: int, n_packages: int, share, *, spread: bool
+                  ) -> tuple[bool, str]:
+    """Success and the one-line verdict of a build.
+
+    A lock share is a risk graded by :func:`pulsepick.analysis.lock.lock_grade`, not a
+    failure of the solve; it decides success only against the limit the request asks
+    (``breq.max_lock_share``).
+    """
+    from pulsepick.analysis.lock import lock_grade
+
+    limit = breq.max_lock_share
+    ok = limit is None or share.share <= limit
+    message = f"{n_lights} lights on {n_packages} package{'s' if n_packages != 1 else ''}"
+    if spread:
+        message += "; periods spread out"
+    if share.share > 0:
+        message += (f"; lock risk {lock_grade(share.share)}: {share.share:.1%} of builds "
+                    "have a pair near a lock")
+    else:
+        message += "; no build has a pair near a lock"
+    if limit is not None:
+        message += (f", within the {limit:.1%} limit asked" if ok else
+                    f", above the {limit:.1%} limit asked (--max-lock-share)")
+    return ok, message
+
+
+def _trim_remedy(breq, picks, groups, share, designs):
+    """The trimmer remedy (``Remedy``), or None when no light sharing a package can have
+    a trimmer covering its builds."""
+    from pulsepick.analysis.lock import Remedy
+    from pulsepick.analysis.locktrim import (
+        TRIM_SETTING_RESOLUTION,
+        trimmed_share,
+    )
+    shared = {g for g in groups if list(groups).count(g) > 1}
+    # a photoresistor light's period resistor is the photoresistor: no trimmer there
+    wanted = [groups[i] in shared and not c.design.chip.is_timer and designs[i] is c.design
+              for i, c in enumerate(picks)]
+    if not any(wanted):
+        return None
+    res, trims = trimmed_share(list(designs), groups, share, wanted,
+                               [li.request.r_series for li in breq.lights],
+                               resistor_tol_pct=[_r_tols(c) for c in picks])
+    if not any(t is not None for t in trims):
+        return None
+    return Remedy(f"a trimmer per light set to {TRIM_SETTING_RESOLUTION:.0%} of travel",
+                  res.share, "--trim")
 
 
 def share_text(names, pair, margin: float, spread_out: bool, share: float,
                n_pairs: int) -> str:
-    """The lock warning: the pair most often near a lock and the build's share."""
-    head = (f"{names[pair.a]} and {names[pair.b]} share a package and come within "
+    """The lock warning: the grade, the pair most often near a lock and the build's share."""
+    from pulsepick.analysis.lock import lock_grade
+
+    head = (f"lock risk {lock_grade(share)}: "
+            f"{names[pair.a]} and {names[pair.b]} on one package come within "
             f"{margin:.0%} of {pair.nearest} in {pair.share:.1%} of builds")
     if n_pairs > 1:
         head += f" (any pair: {share:.1%})"
@@ -321,6 +389,47 @@ def rate_part_lines(rate: LightRate, param_lines) -> tuple:
 DAY_LUX = 100.0
 
 
+#: Light level at night at which a photoresistor light's period and draw are taken, lux,
+#: when the design file gives none (``[build] night_lux``): the darkest level of the
+#: light range the photoresistor analysis shows, a moonless night (estimate). A brighter
+#: night quickens the light (``pulsepick ldr`` shows its period against light).
+NIGHT_LUX = 0.01
+
+
+def night_lux(breq) -> float:
+    """The night's light level for the build's photoresistor lights, lux."""
+    given = getattr(breq, "night_lux", None)
+    return NIGHT_LUX if given is None else float(given)
+
+
+def night_designs(breq, picks, rates=None) -> list:
+    """The circuits as they run at night: a photoresistor light's timing resistance at
+    :func:`night_lux` (its clamps included, typical photoresistor), the others as chosen.
+    ``rates`` default :func:`light_rates`."""
+    from pulsepick.analysis.ldr import with_network_value
+
+    if not breq.photoresistors:
+        return [c.design for c in picks]
+    rates = light_rates(breq, picks) if rates is None else rates
+    lux = night_lux(breq)
+    return [with_network_value(c.design, rates[i].clamp.network, lux) if i in rates
+            else c.design for i, c in enumerate(picks)]
+
+
+def night_scales(picks, designs) -> list[float]:
+    """Per light, its period at night over its chosen nominal period (1 for the lights
+    without a photoresistor): the standard-value variants of a photoresistor light move
+    its night period in the same proportion (estimate)."""
+    out = []
+    for c, d in zip(picks, designs, strict=True):
+        if d is c.design:
+            out.append(1.0)
+            continue
+        p = float(np.ravel(d.fast().period_s)[0])
+        out.append(p / float(c.figures["period_s"]) if np.isfinite(p) and p > 0 else 1.0)
+    return out
+
+
 def held_designs(picks, rates) -> list:
     """The circuits as they stand by day: a photoresistor light's timing resistance at
     ``DAY_LUX`` (its clamps included), the others as chosen."""
@@ -334,16 +443,21 @@ __all__ = [
     "DAY_LUX",
     "LDR_FASTEST",
     "LDR_SLOWEST",
+    "NIGHT_LUX",
     "SCHMITT_FAMILIES",
     "FamilyPlan",
     "LightRate",
     "build_lock_share",
+    "build_verdict",
     "covers",
     "families_covering",
     "family_plan",
     "held_designs",
     "light_rates",
     "lock_remedies",
+    "night_designs",
+    "night_lux",
+    "night_scales",
     "on_family",
     "on_timer",
     "packable",

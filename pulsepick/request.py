@@ -980,9 +980,18 @@ class BuildRequest:
     name: str = ""  # the build's name
     source: str = ""  # the phrase or the design file
     photoresistors: tuple[str | None, ...] = ()  # per light: photoresistor key, or None
+    max_lock_share: float | None = None  # fraction; None: a lock share is a warning only
+    night_lux: float | None = None  # lux at night for photoresistor lights; None: default
 
     def __post_init__(self) -> None:
         problems = []
+        if self.night_lux is not None and not (math.isfinite(self.night_lux)
+                                               and self.night_lux > 0):
+            problems.append(f"night light level {self.night_lux!r} lux: give a level above "
+                            "0 lux, such as 0.1")
+        if self.max_lock_share is not None and not 0 <= self.max_lock_share < 1:
+            problems.append(f"--max-lock-share {self.max_lock_share!r}: give a percentage "
+                            "from 0 to below 100, such as 5%")
         if not self.lights:
             problems.append("a build needs at least one light")
         if self.max_packages is not None and (not isinstance(self.max_packages, int)
@@ -1011,6 +1020,8 @@ def make_build_request(phrases: tuple[str, ...] | list[str], *, names=None,
                        lock_margin: str | float | None = None, spread_out: bool = False,
                        period_tolerance: str | float | None = None, name: str = "",
                        source: str = "", photoresistors: tuple = (),
+                       max_lock_share: str | float | None = None,
+                       night_lux: float | None = None,
                        **context: Any) -> BuildRequest:
     """A :class:`BuildRequest`: one :func:`make_request` per light phrase, same context.
 
@@ -1050,9 +1061,17 @@ def make_build_request(phrases: tuple[str, ...] | list[str], *, names=None,
             tol = parse_fraction(period_tolerance, "--period-tolerance", "10%")
     except RequestError as err:
         problems.append(str(err))
+    limit = None
+    try:
+        if max_lock_share is not None:
+            limit = (0.0 if str(max_lock_share).strip().rstrip("%").strip() in ("0", "0.0")
+                     else parse_fraction(max_lock_share, "--max-lock-share", "5%"))
+    except RequestError as err:
+        problems.append(str(err))
     if problems:
         raise RequestError("; ".join(problems))
     return BuildRequest(lights=tuple(lights), max_packages=max_packages,
                         dusk_detector=dusk_detector, lock_margin=margin, spread_out=spread_out,
                         period_tolerance=tol, name=name, source=source,
-                        photoresistors=tuple(photoresistors))
+                        photoresistors=tuple(photoresistors), max_lock_share=limit,
+                        night_lux=night_lux)

@@ -1657,33 +1657,52 @@ def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
     if not cands:
         return result
     # the spread uses the resistor tolerances of the parts list (the series asked for)
-    args = [(c.design, req.targets.period_s, req.builds, req.seed, req.supply_end_v,
-             {p.param: p.tolerance_pct for p in c.parts if p.kind == "resistor"},
-             c.aim_levels_v)
-            for c in cands]
-    outputs: list[dict[str, Any] | None] = [None] * len(cands)
-    if jobs > 1 and len(cands) > 1:
+    args = [_assess_args(req, c) for c in cands]
+    outputs, _ = _assess_outputs(args, jobs)
+    return result.with_candidates(tuple(_assessed(c, out) for c, out in zip(
+        cands, outputs, strict=True)))
+
+
+def _assess_args(req, c) -> tuple:
+    """The arguments of :func:`_assess_one` for candidate ``c`` of request ``req``."""
+    return (c.design, req.targets.period_s, req.builds, req.seed, req.supply_end_v,
+            {p.param: p.tolerance_pct for p in c.parts if p.kind == "resistor"},
+            c.aim_levels_v)
+
+
+def _assess_outputs(args: list, jobs: int, during=None) -> tuple[list[dict[str, Any]], Any]:
+    """:func:`_assess_one` of each argument tuple, on up to ``jobs`` worker processes
+    (the longest reference runs first), and the result of ``during()`` (None when not
+    given), which runs in this process while the workers work."""
+    outputs: list[dict[str, Any] | None] = [None] * len(args)
+    meanwhile = None
+    if jobs > 1 and len(args) > 1:
         import multiprocessing
         from concurrent.futures import ProcessPoolExecutor
 
-        order = sorted(range(len(cands)),
-                       key=lambda i: get_stage(cands[i].design.topo.stage).search_rank)
+        order = sorted(range(len(args)),
+                       key=lambda i: get_stage(args[i][0].topo.stage).search_rank)
         ctx = multiprocessing.get_context("fork")
-        with ProcessPoolExecutor(max_workers=min(jobs, len(cands)), mp_context=ctx) as pool:
+        with ProcessPoolExecutor(max_workers=min(jobs, len(args)), mp_context=ctx) as pool:
             futures = {i: pool.submit(_assess_one, *args[i]) for i in order}
+            if during is not None:
+                meanwhile = during()
             for i, fut in futures.items():
                 outputs[i] = fut.result()
     else:
         outputs = [_assess_one(*a) for a in args]
-    new = []
-    for c, out in zip(cands, outputs, strict=True):
-        assert out is not None
-        new.append(replace(
-            c, reference=out["reference"], spread=out.get("spread"), drift=out.get("drift"),
-            warnings=tuple(out["warnings"]), timings_s=out["timings_s"],
-            crossing_current=out.get("crossing_current"), median_note=out.get("median_note"),
-        ))
-    return result.with_candidates(tuple(new))
+        if during is not None:
+            meanwhile = during()
+    return [out for out in outputs if out is not None], meanwhile
+
+
+def _assessed(c, out: dict[str, Any]):
+    """Candidate ``c`` with the reference run, spread, drift and warnings of ``out``."""
+    return replace(
+        c, reference=out["reference"], spread=out.get("spread"), drift=out.get("drift"),
+        warnings=tuple(out["warnings"]), timings_s=out["timings_s"],
+        crossing_current=out.get("crossing_current"), median_note=out.get("median_note"),
+    )
 
 
 def default_jobs() -> int:
@@ -1716,7 +1735,8 @@ class BuildResult:
     risks: tuple  # PairRisk per pair sharing a package, for the circuits as chosen
     risks_before: tuple | None  # the same before the spread-out search moved periods
     spread_out: Any  # SpreadOutChoice, or None
-    total_supply_a: float  # A, all lights' average supply current at the design supply
+    total_supply_a: float  # A, all lights' average supply current at the design supply (a
+    #   photoresistor light at the night's light level)
     success: bool
     message: str
     warnings: tuple[str, ...]
@@ -1726,6 +1746,8 @@ class BuildResult:
     remedies: tuple = ()  # Remedy, ranked by the lock share each leaves
     gating: Any = None  # BuildGating (pulsepick.analysis.gating); None without a detector
     rates: Any = None  # {light index: LightRate (pulsepick.packing)} for photoresistor lights
+    night_designs: tuple = ()  # per light, the circuit as it runs at night (a photoresistor
+    #   light at the night's light level, pulsepick.packing.night_designs); () when failed
 
     @property
     def picks(self) -> tuple[Candidate, ...]:
@@ -1890,7 +1912,10 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
     from pulsepick.analysis.lock import ACCEPTABLE_LOCK_SHARE, minimise_share
 
     lock_seed = breq.lights[0].request.seed
-    share = packing.build_lock_share(breq, picks, groups, seed=lock_seed)
+    # a photoresistor light runs at night at its network's value in the night's light
+    rates = packing.light_rates(breq, picks) if breq.photoresistors else {}
+    night = packing.night_designs(breq, picks, rates)
+    share = packing.build_lock_share(breq, picks, groups, seed=lock_seed, designs=night)
     share_before = None
     if breq.spread_out:
         options = [_period_options(breq.lights[i].request, c, asked[i], breq.period_tolerance)
@@ -1905,8 +1930,11 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
         choice = multi.choose_periods(asked, [o.periods_s for o in options], pairs, offsets,
                                       margin=margin, tolerance=breq.period_tolerance)
         # the least share of builds near a lock, from the clearest choice among others
-        best, _ = minimise_share(asked, [o.periods_s for o in options], share, periods,
-                                 groups, starts=[list(choice.chosen)])
+        k = packing.night_scales(picks, night)
+        best, _ = minimise_share([a * k[i] for i, a in enumerate(asked)],
+                                 [o.periods_s * k[i] for i, o in enumerate(options)], share,
+                                 [p * k[i] for i, p in enumerate(periods)], groups,
+                                 starts=[list(choice.chosen)])
         choice = replace(choice, chosen=tuple(best), chosen_s=tuple(
             float(options[i].periods_s[k]) for i, k in enumerate(best)))
         risks_before = risks
@@ -1923,18 +1951,31 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
         samples = bands(picks)
         periods = [c.figures["period_s"] for c in picks]
         risks = multi.lock_risks(periods, groups, samples, margin=margin)
-        share = packing.build_lock_share(breq, picks, groups, seed=lock_seed)
-        choice = replace(choice, success=share.share <= ACCEPTABLE_LOCK_SHARE, message=(
+        rates = packing.light_rates(breq, picks) if breq.photoresistors else {}
+        night = packing.night_designs(breq, picks, rates)
+        share = packing.build_lock_share(breq, picks, groups, seed=lock_seed, designs=night)
+        limit = (ACCEPTABLE_LOCK_SHARE if breq.max_lock_share is None
+                 else breq.max_lock_share)
+        choice = replace(choice, success=share.share <= limit, message=(
             f"the share of builds with a pair near a lock goes from {share_before.share:.1%} "
             f"to {share.share:.1%} (least within {breq.period_tolerance:.0%} of the periods "
             "asked)"))
-    remedies = packing.lock_remedies(
-        breq, picks, groups, share,
-        lambda i, tol: _period_options(breq.lights[i].request, picks[i], asked[i], tol),
-        seed=lock_seed)
+    chosen_picks = list(picks)
+
+    def remedies_fn():
+        return packing.lock_remedies(
+            breq, chosen_picks, groups, share,
+            lambda i, tol: _period_options(breq.lights[i].request, chosen_picks[i], asked[i],
+                                           tol),
+            seed=lock_seed, designs=night)
+
     if assess_picks:
-        picks = [assess(r.with_candidates((c,)), jobs=jobs).candidates[0]
-                 for r, c in zip(results, picks, strict=True)]
+        # every light's runs shared among the workers at once, the remedies meanwhile
+        outs, remedies = _assess_outputs([_assess_args(r.request, c) for r, c in zip(
+            results, picks, strict=True)], jobs, during=remedies_fn)
+        picks = [_assessed(c, out) for c, out in zip(picks, outs, strict=True)]
+    else:
+        remedies = remedies_fn()
     warnings = list(pack_notes)
     near = [p for p in share.pairs if p.share > 0]
     if near:
@@ -1943,7 +1984,6 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
     if any(p.share > 0 for p in share.pairs) and packing.remedies_text(remedies,
                                                                        breq.spread_out):
         warnings.append(packing.remedies_text(remedies, breq.spread_out))
-    rates = packing.light_rates(breq, picks) if breq.photoresistors else {}
     gating = None
     if breq.dusk_detector:
         from pulsepick.analysis.gating import build_gating
@@ -1958,15 +1998,12 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
                     f"threshold limit of {h.limit_v:.2f} V; it may keep blinking by day")
     for i, lr in rates.items():
         warnings.extend(f"{names[i]}: {w}" for w in getattr(lr.rate, "warnings", ()))
-    total = float(sum(c.figures["supply_avg_a"] for c in picks))
-    ok = not (breq.spread_out and share.share > ACCEPTABLE_LOCK_SHARE)
-    message = (f"{len(picks)} lights on {len(plan.packages)} "
-               f"package{'s' if len(plan.packages) != 1 else ''}")
-    if breq.spread_out and choice is not None:
-        message += "; " + (
-            f"periods spread out; {share.share:.1%} of builds keep a pair near a lock"
-            if not ok else
-            f"periods spread out: {share.share:.1%} of builds have a pair near a lock")
+    # the night's draw: a photoresistor light at the night's light level
+    total = float(sum(c.figures["supply_avg_a"] if d is c.design else
+                      np.ravel(d.fast().supply_avg_a)[0] for c, d in zip(picks, night,
+                                                                        strict=True)))
+    ok, message = packing.build_verdict(breq, len(picks), len(plan.packages), share,
+                                        spread=choice is not None)
     lights = tuple(LightPick(n, r, c, asked[i], moved[i])
                    for i, (n, r, c) in enumerate(zip(names, results, picks, strict=True)))
     return BuildResult(request=breq, lights=lights, plan=plan, risks=risks,
@@ -1974,7 +2011,7 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
                        success=ok, message=message, warnings=tuple(warnings),
                        search_s=time.perf_counter() - t0, lock_share=share,
                        lock_share_before=share_before, remedies=remedies, gating=gating,
-                       rates=rates)
+                       rates=rates, night_designs=tuple(night))
 
 
 def _period_options(req: SolveRequest, c: Candidate, asked_s: float, tolerance: float):

@@ -42,6 +42,10 @@ LOCK_BUILDS = 2000
 #: Lock share a spread-out build may keep and still count as clear: one build in twenty
 #: (design choice).
 ACCEPTABLE_LOCK_SHARE = 0.05
+#: Grades of a lock share, each the highest share it covers (design choice): a lock share
+#: is a risk to weigh, not a failure of the solve, unless a limit is asked for.
+LOCK_GRADES = ((0.0, "none"), (0.01, "slight"), (ACCEPTABLE_LOCK_SHARE, "low"),
+               (0.20, "moderate"), (1.0, "high"))
 #: Tighter timing parts offered as a remedy: 1 % resistors, 5 % capacitors (E96 and the
 #: usual film tolerance, ref:e-series-tolerances).
 TIGHT_RESISTOR_PCT = 1.0
@@ -99,14 +103,15 @@ def _ratio_name(centre: float) -> str:
 
 def package_builds(designs: Sequence, *, builds: int = LOCK_BUILDS, seed: int = 0,
                    supply_range_v: tuple[float, float] | None = None,
-                   resistor_tol_pct: Sequence | None = None, cap_tol=None
-                   ) -> tuple[np.ndarray, ...]:
+                   resistor_tol_pct: Sequence | None = None, cap_tol=None,
+                   temp_c: float | None = None) -> tuple[np.ndarray, ...]:
     """Periods (s) of ``builds`` builds of the lights of one package, shared draws shared.
 
     ``designs`` are the lights on the package (same family). Each light's parts get their
     own seeded stream (seed + light position); the chip thresholds, output resistance,
     supply and temperature come from the package's stream (``seed``) and are the same
-    for every light in a build.
+    for every light in a build. ``temp_c`` (C) holds every build at one temperature
+    (the same draws otherwise), as where the builds are trimmed.
     """
     # the draws and the batch evaluation of the spread analysis, reused so the lock share
     # varies each source exactly as the spread does
@@ -125,7 +130,8 @@ def package_builds(designs: Sequence, *, builds: int = LOCK_BUILDS, seed: int = 
     shared_seqs = dict(zip(SOURCES, np.random.SeedSequence(seed).spawn(len(SOURCES)),
                            strict=True))
     g_temp = np.random.default_rng(shared_seqs["temperature"])
-    temp_c = g_temp.uniform(*DEFAULT_TEMP_RANGE_C, builds)
+    temp_draw = g_temp.uniform(*DEFAULT_TEMP_RANGE_C, builds)
+    temps = temp_draw if temp_c is None else np.full(builds, float(temp_c))
     vary = frozenset(SOURCES) if supply_range_v is not None else \
         frozenset(s for s in SOURCES if s != "supply")
     out = []
@@ -139,7 +145,7 @@ def package_builds(designs: Sequence, *, builds: int = LOCK_BUILDS, seed: int = 
                        vary)
         # the package's draws: supply, output resistance, chip thresholds, temperature
         own.vdd, own.rout_u, own.chip_seed = shared.vdd, shared.rout_u, shared.chip_seed
-        own.temp = _temperature_factors(design, tols, temp_c,
+        own.temp = _temperature_factors(design, tols, temps,
                                         np.random.default_rng(seed + 101 + k))
         batch = _run_batch(design, own, names, builds, None)
         fig = _evaluate(design, batch)
@@ -231,13 +237,29 @@ def minimise_share(asked_s: Sequence[float], options: Sequence[np.ndarray],
         raise RequestError("a light has no standard-value variant within the period "
                            "tolerance; widen --period-tolerance")
     la = np.log(np.asarray(asked_s, dtype=float))
+    pairs = [(i, j) for i, j in itertools.combinations(range(n), 2) if groups[i] == groups[j]]
+    builds = int(base.log_dev[0].size) if n else 0
+    cache: dict[tuple[int, int, int, int], np.ndarray] = {}
+
+    def near_pair(i: int, j: int, ki: int, kj: int) -> np.ndarray:
+        # the builds of one pair near a lock, as share_of counts them (cached: the
+        # coordinate search changes one light at a time)
+        got = cache.get((i, j, ki, kj))
+        if got is None:
+            x = ((math.log(float(opts[i][ki])) + np.asarray(base.log_dev[i], dtype=float))
+                 - (math.log(float(opts[j][kj])) + np.asarray(base.log_dev[j], dtype=float)))
+            ok = np.isfinite(x)
+            near, _ = near_lock(np.where(ok, x, 10.0), base.margin, base.max_q)
+            got = cache[(i, j, ki, kj)] = near & ok
+        return got
 
     def key(choice):
         per = [float(opts[i][choice[i]]) for i in range(n)]
-        res = share_of(per, base.log_dev, groups, margin=base.margin, max_q=base.max_q,
-                       seed=base.seed)
+        anyb = np.zeros(builds, dtype=bool)
+        for i, j in pairs:
+            anyb |= near_pair(i, j, choice[i], choice[j])
         dev = sum(abs(math.log(per[i]) - la[i]) for i in range(n))
-        return (res.share, dev), res
+        return (float(anyb.mean()) if builds else 0.0, dev), per
 
     start = [int(np.argmin(np.abs(np.log(o) - math.log(b)))) for o, b in zip(opts, base_s,
                                                                             strict=True)]
@@ -262,7 +284,8 @@ def minimise_share(asked_s: Sequence[float], options: Sequence[np.ndarray],
         if best is None or cur < best[0]:
             best = (cur, list(choice), res)
     assert best is not None
-    return best[1], best[2]
+    return best[1], share_of(best[2], base.log_dev, groups, margin=base.margin,
+                             max_q=base.max_q, seed=base.seed)
 
 
 @dataclass(frozen=True)
@@ -274,6 +297,14 @@ class Remedy:
     option: str  # the option that does it ("" when none)
 
 
+def lock_grade(share: float) -> str:
+    """The grade of a lock share (fraction of builds): none, slight, low, moderate, high."""
+    for top, name in LOCK_GRADES:
+        if share <= top:
+            return name
+    return LOCK_GRADES[-1][1]
+
+
 def rank_remedies(remedies: Sequence[Remedy]) -> tuple[Remedy, ...]:
     """Remedies from the one leaving the least share up (ties keep their order)."""
     return tuple(sorted(remedies, key=lambda r: r.share))
@@ -282,11 +313,13 @@ def rank_remedies(remedies: Sequence[Remedy]) -> tuple[Remedy, ...]:
 __all__ = [
     "ACCEPTABLE_LOCK_SHARE",
     "LOCK_BUILDS",
+    "LOCK_GRADES",
     "TIGHT_CAP_PCT",
     "TIGHT_RESISTOR_PCT",
     "LockShare",
     "PairShare",
     "Remedy",
+    "lock_grade",
     "lock_share",
     "minimise_share",
     "near_lock",

@@ -288,18 +288,22 @@ def _interp_rows(x, xp, fp, beyond):
     x = np.asarray(x, dtype=float)
     xp, fp = np.broadcast_arrays(xp, fp)
     shape = xp.shape[:-1]
+    m = xp.shape[-1]
     x = np.broadcast_to(x, shape)
-    idx = np.sum(xp <= x[..., None], axis=-1)  # nodes at or before x
-    k = np.clip(idx, 1, xp.shape[-1] - 1)
-    x0 = np.take_along_axis(xp, (k - 1)[..., None], -1)[..., 0]
-    x1 = np.take_along_axis(xp, k[..., None], -1)[..., 0]
-    f0 = np.take_along_axis(fp, (k - 1)[..., None], -1)[..., 0]
-    f1 = np.take_along_axis(fp, k[..., None], -1)[..., 0]
+    # flat gathers (one index per row) in place of four take_along_axis calls
+    xp2 = np.ascontiguousarray(xp).reshape(-1, m)
+    fp2 = np.ascontiguousarray(fp).reshape(-1, m)
+    xf = x.reshape(-1)
+    idx = np.count_nonzero(xp2 <= xf[:, None], axis=-1)  # nodes at or before x
+    k1 = np.clip(idx, 1, m - 1) + np.arange(xf.size) * m
+    flat_x, flat_f = xp2.reshape(-1), fp2.reshape(-1)
+    x0, x1 = flat_x[k1 - 1], flat_x[k1]
+    f0, f1 = flat_f[k1 - 1], flat_f[k1]
     with np.errstate(divide="ignore", invalid="ignore"):
-        w = np.clip((x - x0) / (x1 - x0), 0.0, 1.0)
-    out = f0 + w * (f1 - f0)
+        w = np.clip((xf - x0) / (x1 - x0), 0.0, 1.0)
+    out = (f0 + w * (f1 - f0)).reshape(shape)
     last = fp[..., -1] if beyond is None else np.broadcast_to(beyond, shape)
-    return np.where(idx >= xp.shape[-1], last, out)
+    return np.where(idx.reshape(shape) >= m, last, out)
 
 
 def _first_crossing(t_cum, values, level):

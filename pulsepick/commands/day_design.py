@@ -95,8 +95,10 @@ def design_loads(args: argparse.Namespace, design, storage, v_top_v: float):
                            f"{', '.join(missing)}; run 'pulsepick solve {args.design}' for "
                            "the reasons")
     grid = supply_grid(max(v_top_v, storage.v_rated_v))
-    curves = [replace(load_curve(li.pick.design, grid), label=f"{li.name}: "
-                      f"{li.pick.design.label()}") for li in result.lights]
+    # a photoresistor light draws at the night's light level (pulsepick.packing)
+    night = result.night_designs or [li.pick.design for li in result.lights]
+    curves = [replace(load_curve(d, grid), label=f"{li.name}: {d.label()}")
+              for li, d in zip(result.lights, night, strict=True)]
     name = design.name or args.design
     load = combined_load_curve(curves, label=f"{name} ({len(curves)} lights)")
     if result.gating is None:

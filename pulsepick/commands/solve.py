@@ -140,6 +140,11 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     multi.add_argument("--lock-margin", metavar="PCT",
                        help="a period ratio this close to a simple ratio is at risk of "
                             "locking (default 3%%)")
+    multi.add_argument("--max-lock-share", metavar="PCT",
+                       help="the build succeeds only when at most this share of builds has a "
+                            "pair near a lock (default: no limit, the share is a graded "
+                            "warning); over it the build is still printed and the exit "
+                            "status is 3")
     out = parser.add_argument_group("output")
     out.add_argument("--top", type=int, metavar="N",
                      help=f"circuits offered (default {DEFAULT_TOP})")
@@ -262,7 +267,7 @@ def run(args) -> int:
 
     if _is_build(args):
         return run_build(args)
-    for flag in ("max_packages", "period_tolerance", "lock_margin"):
+    for flag in ("max_packages", "period_tolerance", "lock_margin", "max_lock_share"):
         if getattr(args, flag) is not None:
             raise RequestError(f"--{flag.replace('_', '-')} applies to several lights (a "
                                "several-lights phrase or a design file)")
@@ -737,7 +742,7 @@ def build_request_from_args(args):
     if is_design_file(args.phrase):
         design = read_design(args.phrase)
         overrides = {k: v for k, v in context.items() if v is not None}
-        for key in ("max_packages", "period_tolerance", "lock_margin"):
+        for key in ("max_packages", "period_tolerance", "lock_margin", "max_lock_share"):
             if getattr(args, key) is not None:
                 overrides[key] = getattr(args, key)
         if args.spread_out:
@@ -756,6 +761,7 @@ def build_request_from_args(args):
         dusk_detector=True if args.dusk_detector is None else args.dusk_detector,
         lock_margin=args.lock_margin, spread_out=bool(args.spread_out),
         period_tolerance=args.period_tolerance, source=args.phrase,
+        max_lock_share=args.max_lock_share,
         **{k: v for k, v in context.items() if v is not None}), None
 
 
@@ -814,7 +820,8 @@ def run_build(args) -> int:
     from pulsepick.commands.pictures import announce
 
     announce(args, build_pictures(args, result, build_lines(result, **extras), design))
-    return 0
+    # offered, but over the lock share the request limits (--max-lock-share)
+    return 0 if result.success else 3
 
 
 def _build_extras(design) -> dict:
@@ -931,6 +938,12 @@ def _share_json(names, share) -> dict | None:
                        "lock_share": p.share, "nearest": p.nearest} for p in share.pairs]}
 
 
+def _lock_grade(share: float) -> str:
+    from pulsepick.analysis.lock import lock_grade
+
+    return lock_grade(share)
+
+
 def build_json(result, **extras) -> dict:
     """The whole build as plain JSON data."""
     from pulsepick import __version__
@@ -963,6 +976,9 @@ def build_json(result, **extras) -> dict:
             "needed": plan.gates_needed, "timers": plan.timers, "count": plan.describe()},
         "lock_risks": [_risk_json(names, r) for r in result.risks],
         "lock_share": _share_json(names, result.lock_share),
+        "lock_grade": None if result.lock_share is None else
+        _lock_grade(result.lock_share.share),
+        "max_lock_share": breq.max_lock_share,
         "lock_share_before_spread_out": _share_json(names, result.lock_share_before),
         "lock_remedies": [{"action": r.action, "lock_share": r.share, "option": r.option}
                           for r in result.remedies],

@@ -40,8 +40,10 @@ def solved_load(args, design, storage, v_start: float, stop_at: float | None):
             raise RequestError(f"{args.design}: the solver offers nothing for "
                                f"{', '.join(missing)}; run 'pulsepick solve {args.design}' "
                                "for the reasons")
-        designs = [(li.name, with_cross_current(li.pick.design, args))
-                   for li in result.lights]
+        # a photoresistor light draws at the night's light level (pulsepick.packing)
+        designs = [(li.name, with_cross_current(d, args)) for li, d in zip(
+            result.lights, result.night_designs or [li.pick.design for li in result.lights],
+            strict=True)]
         curves = [replace(load_curve(d, grid), label=f"{name}: {d.label()}")
                   for name, d in designs]
         name = design.name or args.design
