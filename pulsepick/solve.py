@@ -1663,6 +1663,13 @@ def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
         cands, outputs, strict=True)))
 
 
+def _levels_kw(c) -> dict[str, float]:
+    """Keyword arguments that evaluate a design at candidate ``c``'s aimed levels."""
+    if c.aim_levels_v is None:
+        return {}
+    return {"vt_plus": c.aim_levels_v[0], "vt_minus": c.aim_levels_v[1]}
+
+
 def _assess_args(req, c) -> tuple:
     """The arguments of :func:`_assess_one` for candidate ``c`` of request ``req``."""
     return (c.design, req.targets.period_s, req.builds, req.seed, req.supply_end_v,
@@ -1999,9 +2006,10 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
     for i, lr in rates.items():
         warnings.extend(f"{names[i]}: {w}" for w in getattr(lr.rate, "warnings", ()))
     # the night's draw: a photoresistor light at the night's light level
+    # every light at the switching levels its figures use (the median chip aimed at)
     total = float(sum(c.figures["supply_avg_a"] if d is c.design else
-                      np.ravel(d.fast().supply_avg_a)[0] for c, d in zip(picks, night,
-                                                                        strict=True)))
+                      np.ravel(d.fast(**_levels_kw(c)).supply_avg_a)[0]
+                      for c, d in zip(picks, night, strict=True)))
     ok, message = packing.build_verdict(breq, len(picks), len(plan.packages), share,
                                         spread=choice is not None)
     lights = tuple(LightPick(n, r, c, asked[i], moved[i])
