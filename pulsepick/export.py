@@ -1,18 +1,25 @@
 """Exports of the solver's answer: the JSON document and the CSV buy list.
 
-The buy list is one CSV row per distinct part. Its first line is a comment
-stamped with the pulsepick version, the request and the seed; a second comment
-line names the circuit. Then a header row and the parts. Files are written
+The buy list is one CSV row per distinct part, made so that a spreadsheet and a
+CSV reader open it as they are: UTF-8 with a byte-order mark (so Ω and µ show as
+such), the header on the first line, no comment lines. Where it came from (the
+pulsepick version, the request, the seed, the circuit, the date) sits in named
+columns repeated on every row. Every cell passes through :func:`safe_cell`, the one
+neutraliser of spreadsheet formulas (ref:owasp-csv-injection). Files are written
 atomically: a temporary file in the same folder, then ``os.replace``, so a reader
 never sees half a file and an interrupted run leaves the old file as it was. An
 existing file is only replaced when asked to (``force``).
 
 Buy-list columns: ``qty`` (pieces), ``refs`` (reference designators, space-separated),
-``kind`` (resistor, capacitor, chip, diode, led), ``value`` (ohm or farad, plain
-number; empty for parts without a value), ``unit`` (ohm, F), ``display`` (the value
-in engineering notation, or the part's name), ``code`` (RKM code, or the part type),
-``series`` (E-series), ``tolerance``, ``dielectric`` (capacitor kind), ``rating``
-(voltage or power rating), ``bands`` (resistor colour bands, IEC 60062), ``notes``.
+``kind`` (resistor, capacitor, chip, diode, led), ``value`` (the value in engineering
+notation such as ``4.7 kΩ``, or the part's name), ``value_si`` (ohm or farad as a plain
+decimal number such as ``0.0000047``; empty for parts without a value), ``unit`` (ohm,
+F), ``code`` (RKM code, or the part type), ``series`` (E-series), ``tolerance``
+(``±5 %``; an uneven one as ``−10/+20 %`` with a minus sign, never read as a formula),
+``dielectric`` (capacitor kind), ``rating`` (voltage or power rating), ``bands``
+(resistor colour bands, IEC 60062), ``notes``; ``in_stock`` (only with a parts drawer:
+``yes``, ``no``, ``short: N of M``, or empty for parts a drawer file does not list);
+then ``made_by``, ``request``, ``seed``, ``builds``, ``circuit``, ``date``.
 """
 
 from __future__ import annotations
@@ -26,8 +33,16 @@ from typing import Any
 
 from pulsepick.errors import ExportError
 
-BUYLIST_COLUMNS = ("qty", "refs", "kind", "value", "unit", "display", "code", "series",
+BUYLIST_COLUMNS = ("qty", "refs", "kind", "value", "value_si", "unit", "code", "series",
                    "tolerance", "dielectric", "rating", "bands", "notes")
+#: Where a buy list came from, in named columns after the parts' own.
+PROVENANCE_COLUMNS = ("made_by", "request", "seed", "builds", "circuit", "date")
+#: The column added when the solve used a parts drawer (``--stock``).
+STOCK_COLUMN = "in_stock"
+#: Characters that make a spreadsheet read a cell as a formula when they start it
+#: (ref:owasp-csv-injection): = + - @, and tab and carriage return, which some
+#: spreadsheets skip before looking for the formula sign.
+FORMULA_STARTS = ("=", "+", "-", "@", "\t", "\r")
 
 
 def _num(x: Any) -> Any:
@@ -139,34 +154,115 @@ def result_json(result, cautions: tuple[str, ...] = ()) -> dict[str, Any]:
     }
 
 
-def buylist_rows(candidate) -> list[dict[str, str]]:
+def safe_cell(value: Any) -> str:
+    r"""One CSV cell as text a spreadsheet shows and never runs as a formula.
+
+    Line breaks (CR, LF, CR LF) inside the cell become single spaces, so one record is
+    one line. A cell that then starts (after any spaces) with ``=``, ``+``, ``-``, ``@``,
+    a tab or a carriage return gets a leading apostrophe, the usual way to make a
+    spreadsheet take it as text (ref:owasp-csv-injection). Numbers written by pulsepick
+    are never negative, so plain numbers pass unchanged.
+
+    Examples
+    --------
+    >>> safe_cell("=1+1")
+    "'=1+1"
+    >>> safe_cell("-10/+20 %")
+    "'-10/+20 %"
+    >>> safe_cell("garden\r\npath")
+    'garden path'
+    >>> safe_cell(4700.0)
+    '4700.0'
+    """
+    text = "" if value is None else str(value)
+    text = text.replace("\r\n", " ").replace("\r", " ").replace("\n", " ")
+    if text.lstrip(" ").startswith(FORMULA_STARTS):
+        text = "'" + text
+    return text
+
+
+def si_text(value: float | None) -> str:
+    """A plain decimal number (``0.0000047``, ``4700``), never in exponent form."""
+    import numpy as np
+
+    if value is None or not math.isfinite(value):
+        return ""
+    return np.format_float_positional(float(value), trim="-")
+
+
+def _tolerance_cell(text: str) -> str:
+    """``-10/+20 %`` written with a minus sign (U+2212): reads as text, not a formula."""
+    return "\u2212" + text[1:] if text.startswith("-") else text
+
+
+def buylist_rows(candidate, stock=None) -> list[dict[str, str]]:
     """The buy list of a candidate as CSV-ready rows (strings)."""
-    return part_rows(candidate.parts)
+    return part_rows(candidate.parts, stock)
 
 
-def part_rows(lines) -> list[dict[str, str]]:
-    """Buy-list rows (strings) of a tuple of ``PartLine``: identical parts summed."""
+def _in_stock(row, stock) -> str:
+    p = row.part
+    kind = {"resistor": "R", "capacitor": "C"}.get(p.kind)
+    if kind is None or p.value is None:
+        return ""
+    have = stock.count(kind, float(p.value))
+    if have is None or have >= row.quantity:
+        return "yes"
+    return "no" if have == 0 else f"short: {have} of {row.quantity}"
+
+
+def part_rows(lines, stock=None) -> list[dict[str, str]]:
+    """Buy-list rows (strings) of a tuple of ``PartLine``: identical parts summed.
+
+    With ``stock`` (a :class:`pulsepick.request.Stock`), an ``in_stock`` cell per row.
+    """
     from pulsepick.partslist import buy_rows
 
     rows = []
     for row in buy_rows(lines):
         p = row.part
-        rows.append({
+        out = {
             "qty": str(row.quantity),
             "refs": " ".join(row.refs),
             "kind": p.kind,
-            "value": "" if p.value is None else repr(float(p.value)),
+            "value": p.display,
+            "value_si": "" if p.value is None else si_text(float(p.value)),
             "unit": p.unit,
-            "display": p.display,
             "code": p.code,
             "series": p.series,
-            "tolerance": p.tolerance,
+            "tolerance": _tolerance_cell(p.tolerance),
             "dielectric": p.dielectric,
             "rating": p.rating,
             "bands": " ".join(row.bands),
             "notes": "; ".join(row.notes),
-        })
+        }
+        if stock is not None:
+            out[STOCK_COLUMN] = _in_stock(row, stock)
+        rows.append(out)
     return rows
+
+
+def today() -> str:
+    """Today's date (UTC, ISO 8601); ``SOURCE_DATE_EPOCH`` fixes it for reproducible files."""
+    from datetime import UTC, datetime
+
+    epoch = os.environ.get("SOURCE_DATE_EPOCH", "").strip()
+    when = datetime.fromtimestamp(int(epoch), UTC) if epoch.isdigit() else datetime.now(UTC)
+    return when.date().isoformat()
+
+
+def write_buylist_csv(rows: list[dict[str, str]], provenance: dict[str, str],
+                      stock: bool = False) -> str:
+    """The CSV text: BOM, header, one line per row; every cell through :func:`safe_cell`."""
+    columns = BUYLIST_COLUMNS + ((STOCK_COLUMN,) if stock else ()) + PROVENANCE_COLUMNS
+    out = io.StringIO()
+    out.write("\ufeff")
+    writer = csv.writer(out, lineterminator="\r\n")
+    writer.writerow(columns)
+    for row in rows:
+        full = {**row, **provenance}
+        writer.writerow([safe_cell(full.get(c, "")) for c in columns])
+    return out.getvalue()
 
 
 def buylist_text(result, pick: int = 1) -> str:
@@ -179,15 +275,16 @@ def buylist_text(result, pick: int = 1) -> str:
                           f"{len(cands)}")
     c = cands[pick - 1]
     req = result.request
-    out = io.StringIO()
-    request_text = req.describe().replace("\n", " ")
-    out.write(f"# pulsepick {__version__} buy list; request: {request_text}; "
-              f"seed {req.seed}; builds {req.builds}\n")
-    out.write(f"# candidate {c.rank}: {c.design.label()}, supply {c.design.supply_v:g} V\n")
-    writer = csv.DictWriter(out, fieldnames=BUYLIST_COLUMNS, lineterminator="\n")
-    writer.writeheader()
-    writer.writerows(buylist_rows(c))
-    return out.getvalue()
+    provenance = {
+        "made_by": f"pulsepick {__version__}",
+        "request": req.describe(),
+        "seed": str(req.seed),
+        "builds": str(req.builds),
+        "circuit": f"candidate {c.rank}: {c.design.label()}, supply {c.design.supply_v:g} V",
+        "date": today(),
+    }
+    return write_buylist_csv(buylist_rows(c, req.stock), provenance,
+                             stock=req.stock is not None)
 
 
 def build_buylist_text(result, lines) -> str:
@@ -195,23 +292,27 @@ def build_buylist_text(result, lines) -> str:
 
     ``lines`` are every part of the build (``PartLine`` tuple, e.g. from
     :func:`pulsepick.analysis.multi.build_part_lines`); identical parts are summed
-    into one row. The first comment line is stamped with the version, the build and
-    the seeds; the second names each light's circuit and period.
+    into one row. The provenance columns name the build, the seeds and each light's
+    circuit and period.
     """
     from pulsepick import __version__
 
     breq = result.request
-    out = io.StringIO()
     seeds = sorted({lr.request.seed for lr in breq.lights})
-    out.write(f"# pulsepick {__version__} buy list; build: {breq.describe()}; "
-              f"{len(result.lights)} lights; seed {', '.join(map(str, seeds))}\n")
-    out.write("# lights: " + "; ".join(
-        f"{li.name} = {li.pick.design.label()}, period {li.pick.figures['period_s']:.3g} s"
-        for li in result.lights) + "\n")
-    writer = csv.DictWriter(out, fieldnames=BUYLIST_COLUMNS, lineterminator="\n")
-    writer.writeheader()
-    writer.writerows(part_rows(lines))
-    return out.getvalue()
+    builds = sorted({lr.request.builds for lr in breq.lights})
+    stocks = [lr.request.stock for lr in breq.lights if lr.request.stock is not None]
+    provenance = {
+        "made_by": f"pulsepick {__version__}",
+        "request": f"{breq.describe()}; {len(result.lights)} lights",
+        "seed": ", ".join(map(str, seeds)),
+        "builds": ", ".join(map(str, builds)),
+        "circuit": "; ".join(
+            f"{li.name} = {li.pick.design.label()}, period "
+            f"{li.pick.figures['period_s']:.3g} s" for li in result.lights),
+        "date": today(),
+    }
+    stock = stocks[0] if stocks else None
+    return write_buylist_csv(part_rows(lines, stock), provenance, stock=stock is not None)
 
 
 def check_target(path: str, force: bool = False, option: str | None = None) -> None:
@@ -268,9 +369,6 @@ def write_atomic(path: str, text: str | bytes, *, force: bool = False) -> None:
             os.unlink(tmp)
 
 
-def read_buylist(text: str) -> tuple[list[str], list[dict[str, str]]]:
-    """Read a buy list back: ``(comment lines, rows)`` (for checks and tools)."""
-    lines = text.splitlines()
-    comments = [ln[1:].strip() for ln in lines if ln.startswith("#")]
-    body = "\n".join(ln for ln in lines if not ln.startswith("#"))
-    return comments, list(csv.DictReader(io.StringIO(body)))
+def read_buylist(text: str) -> list[dict[str, str]]:
+    """Read a buy list back: its rows, keyed by the header (for checks and tools)."""
+    return list(csv.DictReader(io.StringIO(text.removeprefix("\ufeff"))))

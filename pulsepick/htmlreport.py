@@ -69,7 +69,15 @@ class Image:
     height_px: int
 
 
-Block = Paragraph | Table | Items | Image
+@dataclass(frozen=True)
+class Svg:
+    """A drawing: SVG text shown inline (e.g. the schematic)."""
+
+    caption: str
+    svg: str  # an <svg> element (an XML declaration before it is dropped)
+
+
+Block = Paragraph | Table | Items | Image | Svg
 
 
 @dataclass(frozen=True)
@@ -146,6 +154,10 @@ def _block(b: Block) -> str:
         data = base64.b64encode(b.png).decode("ascii")
         return (f'<figure><img src="data:image/png;base64,{data}" width="{b.width_px}" '
                 f'height="{b.height_px}" alt="{_esc(b.caption)}">'
+                f"<figcaption>{_esc(b.caption)}</figcaption></figure>")
+    if isinstance(b, Svg):
+        body = b.svg[b.svg.find("<svg"):] if "<svg" in b.svg else ""
+        return (f'<figure class="schematic">{body}'
                 f"<figcaption>{_esc(b.caption)}</figcaption></figure>")
     raise TypeError(f"unknown report block {type(b).__name__}")
 

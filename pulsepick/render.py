@@ -8,6 +8,7 @@ from __future__ import annotations
 import json
 import math
 import os
+import re
 import sys
 from typing import Any, TextIO
 
@@ -16,16 +17,60 @@ from rich.console import Console
 from rich.table import Table
 
 REPORT_WIDTH = 100
+#: Narrowest report we lay out; a smaller COLUMNS is raised to this.
+MIN_WIDTH = 40
+
+
+class _TrimmedLines:
+    """A text stream that drops the spaces at the end of every line written through it
+    (tables pad their cells to the column width; the padding is noise in a file)."""
+
+    def __init__(self, target: TextIO) -> None:
+        self._target = target
+        self._pending = ""
+
+    def write(self, text: str) -> int:
+        lines = (self._pending + text).split("\n")
+        self._pending = lines.pop()
+        if lines:
+            self._target.write("\n".join(line.rstrip(" ") for line in lines) + "\n")
+        return len(text)
+
+    def flush(self) -> None:
+        if self._pending:  # a line without its end yet: never hold text back
+            self._target.write(self._pending)
+            self._pending = ""
+        self._target.flush()
+
+    def isatty(self) -> bool:
+        return hasattr(self._target, "isatty") and self._target.isatty()
+
+    def fileno(self) -> int:
+        return self._target.fileno()
+
+    @property
+    def encoding(self) -> str:
+        return getattr(self._target, "encoding", "utf-8") or "utf-8"
+
+
+def report_width(interactive: bool = False) -> int | None:
+    """The width to lay a report out in: ``COLUMNS`` when set (also when the output
+    is redirected), else 100 for a file or pipe and the terminal's own for a terminal."""
+    text = os.environ.get("COLUMNS", "").strip()
+    if text.isdigit() and int(text) > 0:
+        return max(MIN_WIDTH, int(text))
+    return None if interactive else REPORT_WIDTH
 
 
 def make_console(file: TextIO | None = None, width: int | None = None) -> Console:
-    """A console that honours NO_COLOR and stays readable at 100 columns."""
+    """A console that honours NO_COLOR and COLUMNS, stays readable at 100 columns and
+    writes no spaces at the ends of lines."""
     no_color = bool(os.environ.get("NO_COLOR"))
     target = file if file is not None else sys.stdout
     interactive = hasattr(target, "isatty") and target.isatty()
     return Console(
-        file=target,
-        width=width or (None if interactive else REPORT_WIDTH),
+        file=_TrimmedLines(target),
+        width=width or report_width(interactive),
         no_color=no_color,
         color_system=None if (no_color or not interactive) else "auto",
         highlight=False,
@@ -53,23 +98,56 @@ def dump_json(obj: Any, file: TextIO | None = None) -> None:
     target.write("\n")
 
 
+#: A cell that is one value with its unit ("4.7 kΩ", "+1.2 %", "2.7..3.3 s", "-"): such
+#: a column is never wrapped, so a value and its unit stay on one line.
+_VALUE_CELL = re.compile(r"^[-+±−~<>]?[\d.,]+((\.\.|-)[\d.,]+)?( ?\S{1,6})?$|^-$")
+
+
+def _is_value(cell: str) -> bool:
+    return bool(_VALUE_CELL.match(cell.strip())) and len(cell) <= 16
+
+
 def simple_table(title: str | None, columns: list[str], rows: list[list[str]],
                  justify: list[str] | None = None) -> Table:
     """A plain-bordered table that survives NO_COLOR and copy-paste."""
     table = Table(title=title, box=box.SIMPLE_HEAD, title_justify="left", pad_edge=False)
     for i, name in enumerate(columns):
-        table.add_column(name, justify=(justify[i] if justify else "left"))  # type: ignore[arg-type]
+        cells = [str(row[i]) for row in rows if i < len(row)]
+        values = [len(c) for c in cells if _is_value(c)]
+        side = justify[i] if justify else "left"
+        table.add_column(name, justify=side,  # type: ignore[arg-type]
+                         no_wrap=bool(cells) and len(values) == len(cells),
+                         min_width=max(values, default=None))
     for row in rows:
         table.add_row(*row)
     return table
 
 
-def print_wrapped(console: Console, text: str, indent: str = "  ", hang: str = "    ") -> None:
-    """Print a paragraph wrapped to the console width with a hanging indent."""
+#: A number and the unit after it ("3 s", "4.7 kΩ", "55 %"): wrapped text never
+#: breaks the line between them.
+_VALUE_UNIT = re.compile(r"(?<=\d) (?=(?:[pnuµmkMG]?(?:Ω|F|A|V|s|Hz|W|C|J|lx|lux|cd|h)|mcd|min"
+                         r"|%|°C|builds)(?!\w))")
+_GLUE = "\u00a0"  # textwrap breaks only at ASCII whitespace, so this joins two words
+
+
+def wrap_text(text: str, width: int, indent: str = "  ", hang: str = "    ") -> list[str]:
+    """``text`` wrapped to ``width`` with a hanging indent, values kept with their units."""
     import textwrap
 
-    width = max(40, (console.width or REPORT_WIDTH) - 1)
-    lines = textwrap.wrap(text, width=width, initial_indent=indent, subsequent_indent=hang,
+    glued = _VALUE_UNIT.sub(_GLUE, text)
+    lines = textwrap.wrap(glued, width=width, initial_indent=indent, subsequent_indent=hang,
                           break_long_words=False, break_on_hyphens=False)
-    for line in lines or [indent]:
+    return [line.replace(_GLUE, " ") for line in lines] or [indent.rstrip()]
+
+
+def plot_columns(console: Console, used: int = 20, most: int = 72) -> int:
+    """Plot columns for a plain-character chart whose labels and margins take ``used``
+    columns: ``most`` at 100 columns, fewer on a narrower console (never under 24)."""
+    return max(24, min(most, (console.width or REPORT_WIDTH) - used))
+
+
+def print_wrapped(console: Console, text: str, indent: str = "  ", hang: str = "    ") -> None:
+    """Print a paragraph wrapped to the console width with a hanging indent."""
+    width = max(MIN_WIDTH, (console.width or REPORT_WIDTH) - 1)
+    for line in wrap_text(text, width, indent, hang):
         console.print(line, markup=False, highlight=False)

@@ -12,6 +12,7 @@ import io
 from dataclasses import dataclass
 from functools import cache
 from importlib import resources
+from pathlib import Path
 
 from pulsepick.errors import DataFileError, PartError
 
@@ -71,11 +72,29 @@ def _is_number(text: str) -> bool:
     return True
 
 
+def data_root():
+    """The folder (a ``Traversable``) that holds the tables, however pulsepick runs.
+
+    Installed (wheel, zip or editable), the tables are the package ``pulsepick.data``.
+    Run from a source tree (e.g. ``python -m pulsepick`` in the clone root, where the
+    local ``pulsepick/`` folder shadows an installed copy), that package does not exist:
+    the tables are the top-level ``data/`` folder beside ``pulsepick/``.
+    """
+    try:
+        return resources.files("pulsepick.data")
+    except ModuleNotFoundError:
+        tree = Path(__file__).resolve().parent.parent / "data"
+        if tree.is_dir():
+            return tree
+        raise DataFileError("the data tables are missing: neither the package pulsepick.data "
+                            f"nor the folder {tree} exists; reinstall pulsepick") from None
+
+
 @cache
 def load_table(name: str) -> Table:
     """Load ``pulsepick.data/<name>`` (e.g. ``"e_series/E24.csv"``), cached."""
     try:
-        text = resources.files("pulsepick.data").joinpath(name).read_text(encoding="utf-8")
+        text = data_root().joinpath(name).read_text(encoding="utf-8")
     except (FileNotFoundError, OSError) as err:
         raise DataFileError(f"data table {name} is missing from the installation") from err
     return parse_table(text, name)

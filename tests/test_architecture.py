@@ -23,8 +23,9 @@ PACKAGE = Path(__file__).resolve().parent.parent / "pulsepick"
 
 #: Import layers, top to bottom: a module may import its own layer and the ones below.
 LAYERS = (
-    ("commands", "cli", "__main__"),
-    ("render", "htmlreport", "plot", "export", "partslist", "textplot", "buildreport"),
+    ("api", "commands", "cli", "__main__"),
+    ("render", "htmlreport", "plot", "export", "partslist", "textplot", "buildreport",
+     "schematic"),
     ("solve", "request", "designfile", "analysis", "packing"),
     ("design",),
     ("engine",),

@@ -167,7 +167,7 @@ def test_example_solve_report_night_and_day(tmp_path):
         assert shares[" / ".join(p["lights"])] == pytest.approx(p["lock_share"], abs=1e-12)
     assert len(t.tables["night"]) == 4
     # the buy list in the report and the CSV: identical parts merged, one chip
-    _, rows = read_buylist(buy.read_text(encoding="utf-8"))
+    rows = read_buylist(buy.read_text(encoding="utf-8-sig"))
     chips = [r for r in rows if r["kind"] == "chip"]
     assert len(chips) == 1 and chips[0]["qty"] == "1"
     assert sum(int(r["qty"]) for r in rows if r["kind"] == "led") == 3

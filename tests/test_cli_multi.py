@@ -84,8 +84,8 @@ def test_two_lights_json_and_one_buylist(tmp_path, capsys):
     assert len(doc["packages"]) == 1 and doc["packages"][0]["dusk_detector"]
     assert doc["total_supply_avg_a"] == pytest.approx(
         sum(li["circuit"]["figures"]["supply_avg_a"] for li in doc["lights"]), rel=1e-12)
-    comments, rows = read_buylist(out.read_text(encoding="utf-8"))
-    assert comments[0].startswith("pulsepick ")
+    rows = read_buylist(out.read_text(encoding="utf-8-sig"))
+    assert rows[0]["made_by"].startswith("pulsepick ")
     chips = [r for r in rows if r["kind"] == "chip"]
     assert len(chips) == 1 and chips[0]["qty"] == "1"
     leds = [r for r in rows if r["kind"] == "led"]

@@ -16,7 +16,7 @@ QUICK = ["--cores", "timer555", "--stages", "direct", "--top", "1", "--builds", 
 
 def test_report_at_100_columns_without_colour(capsys, monkeypatch):
     monkeypatch.setenv("NO_COLOR", "1")
-    code = main(["solve", "flash every 2.5 s for 40 ms, 5 mA peak", *QUICK])
+    code = main(["solve", "flash every 2.5 s for 40 ms, 5 mA peak", *QUICK, "--detail"])
     out, err = capsys.readouterr()
     assert code == 0 and err == ""
     assert "\x1b[" not in out
@@ -26,6 +26,24 @@ def test_report_at_100_columns_without_colour(capsys, monkeypatch):
                  "not a safety, navigation or warning light"):
         assert text in out, text
     assert "default" in out  # defaults are shown as such
+
+
+def test_default_report_is_short_and_detail_shows_one(capsys, monkeypatch):
+    monkeypatch.setenv("NO_COLOR", "1")
+    monkeypatch.delenv("COLUMNS", raising=False)
+    args = ["solve", "flash every 2.5 s for 40 ms, 5 mA peak", "--cores", "timer555",
+            "--top", "3", "--builds", "200", "--jobs", "1"]
+    assert main(args) == 0
+    short = capsys.readouterr().out
+    assert main([*args, "--detail"]) == 0
+    full = capsys.readouterr().out
+    assert main([*args, "--detail", "--pick", "2"]) == 0
+    one = capsys.readouterr().out
+    assert len(short.splitlines()) <= 60 < len(full.splitlines())
+    assert "--detail lists every assumption" in short and "Request and assumptions" in full
+    assert full.count("figures of") + full.count("figures at") == 3
+    assert one.count("figures of") + one.count("figures at") == 1 and "#2  " in one
+    assert "schematic: timer555" in one
 
 
 def test_json_is_plain_and_complete(capsys):
@@ -50,8 +68,8 @@ def test_buylist_written_and_refused_when_it_exists(capsys, tmp_path):
     code = main(["solve", "one flash every 3 s", *QUICK, "--buylist", str(path)])
     out, _ = capsys.readouterr()
     assert code == 0 and "written to" in out
-    comments, rows = read_buylist(path.read_text(encoding="utf-8"))
-    assert "one flash every 3 s" in comments[0] and rows
+    rows = read_buylist(path.read_text(encoding="utf-8-sig"))
+    assert rows and all("one flash every 3 s" in r["request"] for r in rows)
     before = path.read_text(encoding="utf-8")
     code = main(["solve", "one flash every 3 s", *QUICK, "--buylist", str(path)])
     out, err = capsys.readouterr()
@@ -117,7 +135,7 @@ def test_report_wraps_with_hanging_indents_and_plain_words(capsys, monkeypatch):
     out = _report(capsys, ["flash every 2.5 s for 40 ms", "--supply", "2.7V..1.8V",
                            "--family", "lvc", "--cores", "schmitt-steered", "--stages",
                            "direct", "--no-buffered", "--top", "1", "--builds", "200",
-                           "--jobs", "1"])
+                           "--jobs", "1", "--detail"])
     lines = out.splitlines()
     assert max(len(line) for line in lines) <= 100
     assert "chip_thresholds" not in out and "chip thresholds" in out
@@ -140,7 +158,7 @@ def test_report_wraps_with_hanging_indents_and_plain_words(capsys, monkeypatch):
 
 def test_steady_supply_has_no_supercap_caution_and_marks_given_ranges(capsys, monkeypatch):
     monkeypatch.setenv("NO_COLOR", "1")
-    out = _report(capsys, ["one flash every 3 s", *QUICK, "--cap-range", "10n..100u"])
+    out = _report(capsys, ["one flash every 3 s", *QUICK, "--cap-range", "10n..100u", "--detail"])
     assert "supercapacitor" not in out
     assert "not a safety, navigation or warning light" in out
     assert "Outdoor wiring stays at low voltage" in out

@@ -11,6 +11,7 @@ from pulsepick import __version__
 from pulsepick.errors import ExportError
 from pulsepick.export import (
     BUYLIST_COLUMNS,
+    PROVENANCE_COLUMNS,
     buylist_text,
     read_buylist,
     result_json,
@@ -33,12 +34,12 @@ def test_buylist_reads_back_and_matches_the_json_parts(result, tmp_path):
 
     path = tmp_path / "buy.csv"
     write_atomic(str(path), buylist_text(result, 1))
-    _comments, rows = read_buylist(path.read_text(encoding="utf-8"))
+    rows = read_buylist(path.read_text(encoding="utf-8-sig"))
     buf = io.StringIO()
     dump_json(result_json(result), buf)
     doc = json.loads(buf.getvalue())
     parts = {p["ref"]: p for p in doc["candidates"][0]["parts"]}
-    assert list(rows[0]) == list(BUYLIST_COLUMNS)
+    assert list(rows[0]) == list(BUYLIST_COLUMNS + PROVENANCE_COLUMNS)
     seen = []
     for row in rows:
         refs = row["refs"].split()
@@ -47,25 +48,30 @@ def test_buylist_reads_back_and_matches_the_json_parts(result, tmp_path):
             p = parts[ref]
             seen.append(ref)
             assert row["kind"] == p["kind"] and row["code"] == p["code"]
-            assert row["series"] == p["series"] and row["tolerance"] == p["tolerance"]
+            assert row["series"] == p["series"]
+            assert row["tolerance"] == p["tolerance"].replace("-", "\u2212", 1)
+            assert row["value"] == p["display"]
             assert row["dielectric"] == p["dielectric"] and row["rating"] == p["rating"]
             if p["value"] is None:
-                assert row["value"] == ""
+                assert row["value_si"] == ""
             else:
-                assert math.isclose(float(row["value"]), p["value"], rel_tol=1e-12)
+                assert math.isclose(float(row["value_si"]), p["value"], rel_tol=1e-12)
+                assert "e" not in row["value_si"].lower()  # plain decimal, no exponent
                 assert row["unit"] == p["unit"]
         if row["kind"] == "resistor":
             assert len(row["bands"].split()) in (3, 4, 5)
     assert sorted(seen) == sorted(parts)
 
 
-def test_buylist_is_stamped(result):
-    comments, _ = read_buylist(buylist_text(result, 1))
-    stamp = comments[0]
-    assert f"pulsepick {__version__}" in stamp
-    assert "flash every 2.5 s for 40 ms, 5 mA peak" in stamp
-    assert "seed 7" in stamp
-    assert comments[1].startswith("candidate 1:")
+def test_buylist_is_stamped(result, monkeypatch):
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1780000000")  # 2026-05-28 20:26:40 UTC
+    rows = read_buylist(buylist_text(result, 1))
+    for row in rows:
+        assert row["made_by"] == f"pulsepick {__version__}"
+        assert "flash every 2.5 s for 40 ms, 5 mA peak" in row["request"]
+        assert row["seed"] == "7" and row["builds"] == "200"
+        assert row["circuit"].startswith("candidate 1:")
+        assert row["date"] == "2026-05-28"
 
 
 def test_pick_out_of_range(result):
@@ -146,10 +152,11 @@ def test_build_buylist_sums_identical_parts(result):
                            describe=lambda: "two garden markers")
     build = SimpleNamespace(request=breq, lights=lights)
     text = build_buylist_text(build, c.parts + c.parts)
-    comments, rows = read_buylist(text)
-    assert comments[0] == (f"pulsepick {__version__} buy list; build: two garden markers; "
-                           "2 lights; seed 7")
-    assert comments[1].startswith("lights: gate = ") and "; shed = " in comments[1]
-    single = read_buylist(buylist_text(result, 1))[1]
+    rows = read_buylist(text)
+    assert rows[0]["made_by"] == f"pulsepick {__version__}"
+    assert rows[0]["request"] == "two garden markers; 2 lights"
+    assert rows[0]["seed"] == "7"
+    assert rows[0]["circuit"].startswith("gate = ") and "; shed = " in rows[0]["circuit"]
+    single = read_buylist(buylist_text(result, 1))
     assert len(rows) == len(single)
     assert [int(r["qty"]) for r in rows] == [2 * int(r["qty"]) for r in single]

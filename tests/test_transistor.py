@@ -3,8 +3,6 @@ each other, and the commands that search, check and list it."""
 
 from __future__ import annotations
 
-import csv
-import io
 import math
 import sys
 from pathlib import Path
@@ -116,15 +114,15 @@ def test_solve_offers_the_switch_for_fifty_milliamperes_and_lists_it(capsys, tmp
     path = tmp_path / "marker.csv"
     run(capsys, ["solve", "one flash every 3 s, 50 mA peak", "--led", "amber", "--top", "3",
                  "--builds", "200", "--jobs", "1", "--buylist", str(path)])
-    _, rows = read_buylist(path.read_text(encoding="utf-8"))
+    rows = read_buylist(path.read_text(encoding="utf-8-sig"))
     kinds = {r["kind"]: r for r in rows}
     assert kinds["transistor"]["code"] == "npn-small" and kinds["transistor"]["refs"] == "Q1"
     # VCEO 40 V, IC 200 mA: 2N3904 maximum ratings (ref:onsemi-2n3904)
     assert kinds["transistor"]["rating"] == "40 V, 200 mA"
     assert "base resistor" in " ".join(r["notes"] for r in rows)
-    peak = [r for r in csv.reader(io.StringIO(path.read_text(encoding="utf-8")))
-            if r and r[0].startswith("# candidate 1")]
-    assert peak and "transistor" in peak[0][0]
+    # the circuit the list belongs to, in its provenance column
+    assert rows[0]["circuit"].startswith("candidate 1:")
+    assert "transistor" in rows[0]["circuit"]
 
 
 def test_solve_leaves_the_switch_out_for_small_currents(capsys):

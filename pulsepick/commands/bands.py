@@ -39,7 +39,13 @@ from pulsepick.commands.pictures import (
 )
 from pulsepick.commands.wording import CLASS_LABELS
 from pulsepick.errors import PulsepickError, RequestError
-from pulsepick.render import dump_json, make_console, print_wrapped, simple_table
+from pulsepick.render import (
+    dump_json,
+    make_console,
+    plot_columns,
+    print_wrapped,
+    simple_table,
+)
 from pulsepick.textplot import spread_lines
 from pulsepick.units import format_eng, format_rkm, parse_quantity, parse_range
 
@@ -168,19 +174,24 @@ def _analyse(args) -> BandsResult:
 
 # ---------------------------------------------------------------------------- output
 
+def bands_json(result: BandsResult) -> dict:
+    """The ``--json`` document of a bands analysis."""
+    out = result.as_dict()
+    out["dominant_source_label"] = SOURCE_LABELS[result.dominant_source()]
+    out["advice"] = _advice(result)
+    out["design"] = {"circuit": result.design.topo.label(), "chip": result.design.chip.family,
+                     "led": result.design.parts.led.key,
+                     "timing_cap": result.design.parts.timing_cap,
+                     "supply_v": result.design.supply_v,
+                     "values": dict(result.design.values)}
+    return out
+
+
 def run(args) -> int:
     check_picture_targets(args)
     result = _analyse(args)
     if args.json:
-        out = result.as_dict()
-        out["dominant_source_label"] = SOURCE_LABELS[result.dominant_source()]
-        out["advice"] = _advice(result)
-        out["design"] = {"circuit": result.design.topo.label(), "chip": result.design.chip.family,
-                         "led": result.design.parts.led.key,
-                         "timing_cap": result.design.parts.timing_cap,
-                         "supply_v": result.design.supply_v,
-                         "values": dict(result.design.values)}
-        dump_json(out)
+        dump_json(bands_json(result))
         announce(args, bands_pictures(args, result, tuple(_advice(result))))
         return 0
     render(make_console(), result)
@@ -259,7 +270,8 @@ def render(console, result: BandsResult) -> None:
     periods, not_drawn = oscillating_periods(cur)
     console.print("[bold]period over the builds, as specified[/bold]")
     for line in spread_lines(periods, p5_s=p5, p95_s=p95, target_s=result.target_period_s,
-                             yield_band=result.yield_band, not_drawn=not_drawn):
+                             yield_band=result.yield_band, not_drawn=not_drawn,
+                             width=plot_columns(console)):
         console.print(line, markup=False, highlight=False)
     console.print()
 

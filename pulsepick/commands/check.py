@@ -18,7 +18,13 @@ from pulsepick.commands.pictures import (
 )
 from pulsepick.commands.wording import FIGURE_ROWS
 from pulsepick.design import Design
-from pulsepick.render import dump_json, make_console, print_wrapped, simple_table
+from pulsepick.render import (
+    dump_json,
+    make_console,
+    plot_columns,
+    print_wrapped,
+    simple_table,
+)
 from pulsepick.textplot import waveform_lines
 from pulsepick.units import format_eng, format_rkm
 
@@ -96,13 +102,9 @@ def run(args) -> int:
                        supply_avg_a=state.led_a)
     reason = state.reason
     if args.json:
-        out = dict(figures)
-        out["status"] = state.as_dict()
-        out["assumptions"] = {**assumed, "engine": engine,
-                              "circuit": design.topo.label(),
-                              "values": {k: v for k, v in design.values.items()}}
-        out["warnings"] = [f.text for f in findings]
-        dump_json(out)
+        doc = check_json(design, figures, reason, findings, assumed, engine)
+        doc["status"] = state.as_dict()
+        dump_json(doc)
         announce(args, check_pictures(args, design, figures, reason, findings, assumed, ref,
                                       engine))
         return 0
@@ -114,6 +116,17 @@ def run(args) -> int:
     _render_cautions(console)
     announce(args, check_pictures(args, design, figures, reason, findings, assumed, ref, engine))
     return 0
+
+
+def check_json(design: Design, figures: dict, reason, findings, assumed, engine: str) -> dict:
+    """The ``--json`` document of a check."""
+    out = dict(figures)
+    out["status"] = {"state": figures["status"], "reason": reason}
+    out["assumptions"] = {**assumed, "engine": engine,
+                          "circuit": design.topo.label(),
+                          "values": {k: v for k, v in design.values.items()}}
+    out["warnings"] = [f.text for f in findings]
+    return out
 
 
 def values_line(design: Design) -> str:
@@ -169,7 +182,8 @@ def _render_waveform(console, design: Design, ref) -> None:
     for line in waveform_lines(ref.trace["t_s"], ref.trace["vc_v"], ref.trace["led_a"],
                                vt_plus=float(np.ravel(env.vt_plus)[0]),
                                vt_minus=float(np.ravel(env.vt_minus)[0]),
-                               high_s=float(ref.figures.row()["high_s"])):
+                               high_s=float(ref.figures.row()["high_s"]),
+                               width=plot_columns(console)):
         console.print(line, markup=False)
 
 

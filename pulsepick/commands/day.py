@@ -12,6 +12,7 @@ import argparse
 import math
 import re
 from datetime import date
+from typing import Any, NamedTuple
 
 from pulsepick import __version__
 from pulsepick.analysis.cautions import GENERAL_CAUTIONS
@@ -340,8 +341,51 @@ def _days(args: argparse.Namespace) -> int | None:
 
 # --------------------------------------------------------------------------- run
 
+class DayRun(NamedTuple):
+    """What ``day`` computed: the days and nights, or with ``--size`` the sizing."""
+
+    result: Any = None  # DaysResult
+    night_info: dict | None = None
+    sky: Any = None  # the clear sky of a place and date, or None (profile shapes)
+    weather: list | None = None  # the weather of each day (profile names or shapes)
+    clamped: Any = None  # the same run with the proposed clamp, when one is proposed
+    size: dict | None = None  # with --size / --autonomy: the sizing document
+
+
 def run(args: argparse.Namespace) -> int:
     """Read the options, run the days and nights, print the report or JSON."""
+    out = compute(args)
+    if out.size is not None:
+        if args.json:
+            dump_json(out.size)
+        else:
+            from pulsepick.commands import day_size
+
+            day_size.render_size(out.size, make_console())
+        return 0
+    if args.json:
+        dump_json(day_json(out))
+    else:
+        line = over_charge_line(out.result, out.clamped)
+        render_report(out.result, out.night_info, make_console(), out.sky,
+                      notes=[line] if line else [])
+    return 0
+
+
+def day_json(out: DayRun) -> dict:
+    """The ``--json`` document of a run of days and nights."""
+    doc = result_json(out.result, out.night_info, out.sky)
+    if out.sky is None:
+        # the profile shapes' own totals (illustrative light, not the sky of a place)
+        shapes = [w if not isinstance(w, str) else get_profile(w) for w in out.weather]
+        for i, day in enumerate(doc["days"]):
+            day["irradiation_wh_m2"] = shapes[i % len(shapes)].insolation_wh_m2
+    doc["over_charge"] = over_charge_json(out.result, out.clamped)
+    return doc
+
+
+def compute(args: argparse.Namespace) -> DayRun:
+    """The days and nights (or with ``--size`` the sizing) the options describe."""
     from pulsepick.commands import day_design
 
     design = day_design.apply_design(args)
@@ -351,7 +395,7 @@ def run(args: argparse.Namespace) -> int:
     panel = read_panel(args)
     diode = get_diode(args.diode)
     if args.size or args.autonomy is not None:
-        return _run_size(args, design, storage, panel, diode)
+        return DayRun(size=_size_doc(args, design, storage, panel, diode))
     window, night_info = read_night(args)
     days = _days(args)
     sky = None
@@ -397,22 +441,10 @@ def run(args: argparse.Namespace) -> int:
             clamp_v=result.proposed_clamp_v, bleed_ohm=bleed, day_load=day_load,
             stop_at_v=stop_at, leak_level=args.leakage, diode_leak=args.diode_leak,
             recovery=False)
-    if args.json:
-        doc = result_json(result, night_info, sky)
-        if sky is None:
-            # the profile shapes' own totals (illustrative light, not the sky of a place)
-            shapes = [w if not isinstance(w, str) else get_profile(w) for w in weather]
-            for i, day in enumerate(doc["days"]):
-                day["irradiation_wh_m2"] = shapes[i % len(shapes)].insolation_wh_m2
-        doc["over_charge"] = over_charge_json(result, clamped)
-        dump_json(doc)
-    else:
-        line = over_charge_line(result, clamped)
-        render_report(result, night_info, make_console(), sky, notes=[line] if line else [])
-    return 0
+    return DayRun(result, night_info, sky, weather, clamped)
 
 
-def _run_size(args, design, storage, panel, diode) -> int:
+def _size_doc(args, design, storage, panel, diode) -> dict:
     from pulsepick.commands import day_design, day_size
 
     if not args.size:
@@ -426,12 +458,7 @@ def _run_size(args, design, storage, panel, diode) -> int:
             return read_night_load(args, v_top)
         return day_design.design_load(args, design, storage, v_top)
 
-    doc = day_size.run_size(args, storage, panel, diode, load_of, day_load, stop_at, clamp)
-    if args.json:
-        dump_json(doc)
-    else:
-        day_size.render_size(doc, make_console())
-    return 0
+    return day_size.run_size(args, storage, panel, diode, load_of, day_load, stop_at, clamp)
 
 
 def over_charge_json(result: DaysResult, clamped: DaysResult | None) -> dict | None:

@@ -12,6 +12,7 @@ import argparse
 import math
 from dataclasses import replace
 from datetime import date, datetime, timedelta
+from typing import Any, NamedTuple
 
 import numpy as np
 from rich.table import Table as RichTable
@@ -41,7 +42,7 @@ from pulsepick.commands.solved_load import one_circuit, solved_load
 from pulsepick.commands.wording import duration_text, verdict
 from pulsepick.errors import RequestError
 from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS
-from pulsepick.render import dump_json, make_console, simple_table
+from pulsepick.render import dump_json, make_console, plot_columns, simple_table
 
 NAME = "night"
 SUMMARY = "run the storage through a night: when the light stops, or what is left at dawn"
@@ -228,8 +229,38 @@ def _clamp_advice(args, design, storage):
 
 # ---------------------------------------------------------------------------- run
 
+class NightRun(NamedTuple):
+    """What ``night`` computed: the night run, or with ``--size`` the sizing."""
+
+    result: Any  # NightResult, or the sizing with --size
+    night: dict | None  # the night window
+    context: dict  # crossing current, dusk detector, storage notes (empty with --size)
+    designs: list  # (light name or None, Design) of the circuits in the load
+    dates: Any = None  # the dates of --date-range/--year (with --size)
+    sized: bool = False  # True: ``result`` is the sizing
+
+
 def run(args: argparse.Namespace) -> int:
     """Read the options, simulate the night, print the report or JSON."""
+    out = compute(args)
+    if out.sized:
+        if args.json:
+            dump_json(night_size.size_json(out.result, out.night, out.dates))
+        else:
+            night_size.render_size(out.result, make_console(), out.dates)
+        return 0
+    result, night, context, designs = out.result, out.night, out.context, out.designs
+    if args.json:
+        dump_json(result_json(result, night, context))
+    else:
+        render_report(result, night, make_console(), context)
+    only = designs[0][1] if len(designs) == 1 else None
+    announce(args, night_pictures(args, result, night, only))
+    return 0
+
+
+def compute(args: argparse.Namespace) -> NightRun:
+    """The night (or with ``--size`` the sizing) the options describe."""
     design = _apply_design(args)
     storage = read_storage(args.storage, args.rated)
     dates = night_size.apply_date_range(args)
@@ -280,11 +311,7 @@ def run(args: argparse.Namespace) -> int:
     if args.size:
         sized = night_size.run_size(args, storage, v_start, stop_at, load, night or {},
                                     options, dates)
-        if args.json:
-            dump_json(night_size.size_json(sized, night, dates))
-        else:
-            night_size.render_size(sized, make_console(), dates)
-        return 0
+        return NightRun(sized, night, {}, designs, dates, sized=True)
     if night is None:
         # A budget check by hand: run until the stop voltage, however long that takes.
         night = {"dusk": None, "duration_s": None, "given": "none"}
@@ -305,13 +332,7 @@ def run(args: argparse.Namespace) -> int:
         result = replace(result, cautions=advice.cautions + result.cautions)
     if night.get("note"):
         result = replace(result, warnings=(*result.warnings, night["note"]))
-    if args.json:
-        dump_json(result_json(result, night, context))
-    else:
-        render_report(result, night, make_console(), context)
-    only = designs[0][1] if len(designs) == 1 else None
-    announce(args, night_pictures(args, result, night, only))
-    return 0
+    return NightRun(result, night, context, designs)
 
 
 # ---------------------------------------------------------------------------- solver circuits
@@ -650,7 +671,7 @@ def render_report(result: NightResult, night: dict, console,
                                "right"]))
         console.print()
 
-    for line in night_chart(result, night["dusk"]):
+    for line in night_chart(result, night["dusk"], plot_columns(console, _LABEL + 12)):
         console.print(Text(line))
     console.print()
 
@@ -671,10 +692,11 @@ _LIGHT_ROWS = 4
 _LABEL = 11  # width of the row labels
 
 
-def night_chart(result: NightResult, dusk: datetime | None) -> list[str]:
-    """A plain-character chart of the storage voltage and the light over the night."""
+def night_chart(result: NightResult, dusk: datetime | None,
+                cols: int = CHART_COLUMNS) -> list[str]:
+    """A plain-character chart of the storage voltage and the light over the night,
+    ``cols`` plot columns wide."""
     tl = result.timeline
-    cols = CHART_COLUMNS
     t_cols = np.linspace(0.0, result.duration_s, cols)
     runtime = result.duration_s if result.lasts_the_night else result.runtime_s
     on = t_cols <= runtime + 1e-9

@@ -32,6 +32,7 @@ from pulsepick.htmlreport import (
     Paragraph,
     Report,
     Section,
+    Svg,
     Table,
     render_html,
 )
@@ -273,11 +274,24 @@ def values_rows(design) -> tuple[tuple[Cell | str, ...], ...]:
     return tuple(rows)
 
 
-def parts_blocks(lines, intro: str | None = None) -> tuple:
-    """The parts list and the buy list of a design's part lines."""
+def schematic_block(design, lines):
+    """The schematic of a design as an SVG block (a note when schemdraw is missing)."""
+    from pulsepick.schematic import SchematicError, schematic_svg
+
+    try:
+        return Svg(f"Schematic: {design.topo.label()}", schematic_svg(design, tuple(lines)))
+    except SchematicError as err:
+        return Paragraph(f"No schematic: {err}", "note")
+
+
+def parts_blocks(lines, intro: str | None = None, design=None) -> tuple:
+    """The parts list and the buy list of a design's part lines (with ``design``, its
+    schematic first)."""
     from pulsepick.partslist import buy_rows
 
     blocks: list = [Paragraph(intro, "note")] if intro else []
+    if design is not None:
+        blocks.append(schematic_block(design, lines))
     rows = []
     for p in lines:
         value = Cell(p.display, p.value, p.unit) if p.value is not None else p.display
@@ -496,7 +510,7 @@ def check_report(design, figures: dict, reason, findings, assumed: dict, engine:
                                                      assume_rows),)),
         Section("parts", "Parts and buy list", parts_blocks(
             lines, "Resistor tolerance as the spread analysis takes it from the values; "
-                   "ratings for the design supply.")),
+                   "ratings for the design supply.", design)),
         Section("figures", "Figures", (Table("figures", f"At {design.supply_v:g} V ({engine} "
                                              "engine)", ("figure", "value"), tuple(fig_rows),
                                              numeric=(False, True)),)),
@@ -580,7 +594,7 @@ def bands_report(result, dr, images, advice: tuple[str, ...] = ()) -> Report:
             "Every cell uses the same seed, so cells differ by the parts, not by chance.",
             "C1 values outside the usual range of a kind (marked *) are shown for "
             "comparison only.")),)),
-        Section("parts", "Parts and buy list", parts_blocks(lines)),
+        Section("parts", "Parts and buy list", parts_blocks(lines, design=d)),
         Section("figures", "Figures", (Table("figures", "Nominal figures", ("figure", "value"),
                                              figs, numeric=(False, True)),)),
         picture_section(images),
@@ -685,7 +699,7 @@ def night_report(result, night: dict, design, images) -> Report:
                                     (Paragraph(f"Not computed: {err}", "note"),))
         sections.append(Section("parts", "Parts and buy list", (
             Paragraph(f"{design.label()}, values for {design.supply_v:g} V."),
-            *parts_blocks(parts_list(design)))))
+            *parts_blocks(parts_list(design), design=design))))
     sections.append(Section("assumptions", "Assumptions", (Items(tuple(result.assumptions)),)))
     sections.append(picture_section(images))
     sections.append(Section("the-night", "The night", tuple(night_blocks)))
@@ -808,7 +822,7 @@ def solve_report(result, c, images) -> Report:
         d = c.design
         sections.append(Section("parts", f"Parts and buy list of #{c.rank}", (
             Paragraph(f"{d.topo.label()} on {d.chip.family}, {d.supply_v:g} V."),
-            *parts_blocks(c.parts))))
+            *parts_blocks(c.parts, design=d))))
         ref = c.reference_figures
         fig_rows = []
         for key, word, unit in SOLVE_FIGURE_ROWS:

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import argparse
-import io
 
 from pulsepick.analysis.bench import DEFAULT_RESOLUTION_S
 from pulsepick.analysis.retune import Measured, retune
@@ -223,19 +222,21 @@ def new_part_lines(change) -> tuple:
 
 
 def buylist_text(result) -> str:
-    import csv
-
+    """The buy list of change 1's new parts, in the buy-list format of
+    :mod:`pulsepick.export` (BOM, header first, provenance columns, safe cells)."""
     from pulsepick import __version__
-    from pulsepick.export import BUYLIST_COLUMNS, part_rows
+    from pulsepick.export import part_rows, today, write_buylist_csv
 
     c = result.changes[0]
-    out = io.StringIO()
-    out.write(f"# pulsepick {__version__} retune buy list: the new parts of change 1 for "
-              f"{result.design.label()}; wanted period {result.want_period_s:g} s\n")
-    writer = csv.DictWriter(out, fieldnames=BUYLIST_COLUMNS, lineterminator="\n")
-    writer.writeheader()
-    writer.writerows(part_rows(new_part_lines(c)))
-    return out.getvalue()
+    provenance = {
+        "made_by": f"pulsepick {__version__}",
+        "request": f"retune: the new parts of change 1; wanted period "
+                   f"{result.want_period_s:g} s",
+        "seed": "", "builds": "",
+        "circuit": result.design.label(),
+        "date": today(),
+    }
+    return write_buylist_csv(part_rows(new_part_lines(c)), provenance)
 
 
 def render(console, r, buylist) -> None:

@@ -11,6 +11,7 @@ from __future__ import annotations
 import argparse
 import math
 import re
+from typing import Any, NamedTuple
 
 NAME = "solve"
 SUMMARY = "find standard parts for a wanted blink: ranked circuits, spread, drift, buy list"
@@ -156,8 +157,14 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     out.add_argument("--buylist", metavar="FILE.csv",
                      help="write the buy list of one circuit (of the whole build for several "
                           "lights)")
-    out.add_argument("--pick", type=int, default=1, metavar="N",
-                     help="the circuit for --buylist (default 1, the best)")
+    out.add_argument("--pick", type=int, default=None, metavar="N",
+                     help="the circuit for --buylist, the short block and --schematic "
+                          "(default 1, the best); with --detail, show only this one")
+    out.add_argument("--detail", action="store_true",
+                     help="the full report of every circuit (or of --pick N): figures from "
+                          "both engines, spread, drift, waveform, schematic")
+    out.add_argument("--schematic", action="store_true",
+                     help="draw the circuit's schematic in plain characters")
     out.add_argument("--trim", action="store_true",
                      help="a fixed resistor + trimmer on the part that sets the period, sized "
                           "from the spread")
@@ -257,16 +264,21 @@ def request_from_args(args):
     return req
 
 
-def run(args) -> int:
-    """Parse, solve, assess, and print or export."""
-    from pulsepick.commands.pictures import check_picture_targets, solve_pictures
+class SolveRun(NamedTuple):
+    """What a single-light solve computed (before any output)."""
+
+    result: Any  # SolveResult, assessed
+    request: Any  # SolveRequest
+    plans: Any = None  # trimmer plans with --trim
+    picked: bool = False  # --pick was given
+
+
+def compute(args) -> SolveRun:
+    """Check the options, solve and assess one light (several lights: :func:`compute_build`)."""
+    from pulsepick.commands.pictures import check_picture_targets
     from pulsepick.errors import RequestError
-    from pulsepick.export import solve_cautions
-    from pulsepick.render import dump_json, make_console
     from pulsepick.solve import assess, default_jobs, solve
 
-    if _is_build(args):
-        return run_build(args)
     for flag in ("max_packages", "period_tolerance", "lock_margin", "max_lock_share"):
         if getattr(args, flag) is not None:
             raise RequestError(f"--{flag.replace('_', '-')} applies to several lights (a "
@@ -275,6 +287,8 @@ def run(args) -> int:
         raise RequestError("--spread-out applies to several lights (a several-lights phrase "
                            "or a design file)")
     req = request_from_args(args)
+    picked = args.pick is not None
+    args.pick = 1 if args.pick is None else args.pick
     jobs = default_jobs() if args.jobs is None else args.jobs
     if jobs < 1:
         raise RequestError(f"--jobs {jobs}: give a whole number of at least 1")
@@ -290,23 +304,46 @@ def run(args) -> int:
         from pulsepick.commands.trim_parts import trim_result
 
         result, plans = trim_result(result, req.r_series)
+    return SolveRun(result, req, plans, picked)
+
+
+def solve_json(run: SolveRun) -> dict:
+    """The ``--json`` document of a single-light solve."""
+    from pulsepick.export import result_json, solve_cautions
+
+    out = result_json(run.result, solve_cautions(run.request))
+    if run.plans is not None:
+        from pulsepick.commands.trim_parts import add_trim_json
+
+        add_trim_json(out, run.plans)
+    return out
+
+
+def run(args) -> int:
+    """Parse, solve, assess, and print or export."""
+    from pulsepick.commands.pictures import solve_pictures
+    from pulsepick.render import dump_json, make_console
+
+    if _is_build(args):
+        return run_build(args)
+    done = compute(args)
+    result, req, plans = done.result, done.request, done.plans
     if args.buylist and result.success:
         from pulsepick.export import buylist_text, write_atomic
 
         write_atomic(args.buylist, buylist_text(result, args.pick), force=args.force)
     if args.json:
-        from pulsepick.export import result_json
-
-        out = result_json(result, solve_cautions(req))
-        if plans is not None:
-            from pulsepick.commands.trim_parts import add_trim_json
-
-            add_trim_json(out, plans)
-        dump_json(out)
+        dump_json(solve_json(done))
     else:
+        from pulsepick.commands.solve_summary import render_summary
+
         console = make_console()
-        render_report(console, result, buylist=args.buylist if result.success else None,
-                      pick=args.pick)
+        buylist = args.buylist if result.success else None
+        if args.detail:
+            render_detail(console, result, buylist=buylist, pick=args.pick, only=done.picked)
+        else:
+            render_summary(console, result, buylist=buylist, pick=args.pick,
+                           schematic=args.schematic)
         if plans is not None:
             from pulsepick.commands.trim_parts import render_trim
 
@@ -385,8 +422,10 @@ def _bullet(console, text: str, indent: str = "  - ", hang: str = "    ") -> Non
     print_wrapped(console, text, indent=indent, hang=hang)
 
 
-def render_report(console, result, *, buylist: str | None = None, pick: int = 1) -> None:
-    """The terminal report of a solver result (readable at 100 columns, no colour needed)."""
+def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
+                  schematics: bool = False) -> None:
+    """The terminal report of a solver result (readable at 100 columns, no colour needed);
+    ``schematics`` draws each candidate."""
     from pulsepick.export import solve_cautions
     from pulsepick.render import simple_table
 
@@ -435,6 +474,12 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1)
     console.print()
     for c in result.candidates:
         _render_candidate(console, req, c)
+        if schematics:
+            from pulsepick.schematic import schematic_lines
+
+            for line in schematic_lines(c.design, c.parts):
+                console.print(f"  {line}", markup=False, highlight=False)
+            console.print()
         if c.rank == 1:
             _render_waveform(console, c)
     if buylist:
@@ -454,6 +499,22 @@ def _spread_cells(c, f) -> list[str]:
     if lo_unit and hi.endswith(" " + lo_unit):
         lo = lo_num
     return [_eng(med, "s"), f"{lo}..{hi}", f"{c.yield_fraction:.0%}"]
+
+
+def render_detail(console, result, *, buylist: str | None = None, pick: int = 1,
+                  only: bool = False) -> None:
+    """The full report (every candidate, or only ``pick`` when ``only``), each with its
+    schematic."""
+    from dataclasses import replace
+
+    if only and result.success:
+        if pick > len(result.candidates):
+            from pulsepick.errors import RequestError
+
+            raise RequestError(f"--pick {pick}: there are {len(result.candidates)} circuits; "
+                               f"choose 1 to {len(result.candidates)}")
+        result = replace(result, candidates=(result.candidates[pick - 1],))
+    render_report(console, result, buylist=buylist, pick=pick, schematics=True)
 
 
 def crossing_text(result) -> str | None:
@@ -638,8 +699,11 @@ def _render_spread_drawing(console, s, target_s) -> None:
     p5, _, p95 = s.quantiles["period_s"]
     if periods.size == 0 or not (math.isfinite(p5) and math.isfinite(p95)):
         return
+    from pulsepick.render import plot_columns
+
     for line in spread_lines(periods, p5_s=p5, p95_s=p95, target_s=target_s,
-                             yield_band=s.yield_band, not_drawn=missing):
+                             yield_band=s.yield_band, not_drawn=missing,
+                             width=plot_columns(console)):
         console.print(f"  {line}", markup=False, highlight=False)
 
 
@@ -670,6 +734,7 @@ def _render_waveform(console, c) -> None:
     import numpy as np
 
     from pulsepick import textplot
+    from pulsepick.render import plot_columns
 
     ref = c.reference
     if ref is None or not ref.trace:
@@ -680,7 +745,8 @@ def _render_waveform(console, c) -> None:
     for line in textplot.waveform_lines(ref.trace["t_s"], ref.trace["vc_v"], ref.trace["led_a"],
                                         vt_plus=float(np.ravel(env.vt_plus)[0]),
                                         vt_minus=float(np.ravel(env.vt_minus)[0]),
-                                        high_s=high if high and math.isfinite(high) else None):
+                                        high_s=high if high and math.isfinite(high) else None,
+                                        width=plot_columns(console)):
         console.print(f"  {line}", markup=False)
     console.print()
 
@@ -765,10 +831,21 @@ def build_request_from_args(args):
         **{k: v for k, v in context.items() if v is not None}), None
 
 
-def run_build(args) -> int:
-    """Solve several lights, print the build report or JSON, write one buy list."""
+class BuildRun(NamedTuple):
+    """What a several-lights solve computed (before any output)."""
+
+    result: Any  # BuildResult
+    request: Any  # BuildRequest
+    design: Any  # the design file, or None for a phrase
+    extras: dict  # storage, panel, charge diode, clamp for the buy list
+    night: Any  # the design file's night, or None
+    advice: Any  # the clamp advice, or None
+    offered: bool  # every light has a circuit and the package plan exists
+
+
+def compute_build(args) -> BuildRun:
+    """Check the options and solve several lights (a phrase or a design file)."""
     from pulsepick.errors import RequestError
-    from pulsepick.render import dump_json, make_console
     from pulsepick.solve import default_jobs, solve_build
 
     breq, design = build_request_from_args(args)
@@ -794,32 +871,47 @@ def run_build(args) -> int:
         extras["clamp_w"] = advice.clamp_v * advice.isc_a
     result = solve_build(breq, jobs=jobs)
     offered = all(li.pick is not None for li in result.lights) and result.plan is not None
+    return BuildRun(result, breq, design, extras, night, advice, offered)
+
+
+def build_doc(run: BuildRun) -> dict:
+    """The ``--json`` document of a several-lights solve."""
+    night, advice = run.night, run.advice
+    doc = build_json(run.result, **run.extras)
+    doc["night"] = None if night is None else {
+        "night_s": night.night_s, "given": night.given, "text": night.text,
+        "note": night.note}
+    if advice is not None:
+        doc["clamp"] = {"v_possible_v": advice.v_possible_v, "v_rated_v": advice.v_rated_v,
+                        "over": advice.over, "proposed_clamp_v": advice.proposed_clamp_v,
+                        "proposed_clamp_w": advice.proposed_clamp_w}
+        doc["cautions"] = list(advice.cautions) + doc["cautions"]
+    return doc
+
+
+def run_build(args) -> int:
+    """Solve several lights, print the build report or JSON, write one buy list."""
+    from pulsepick.render import dump_json, make_console
+
+    done = compute_build(args)
+    result, breq, extras, offered = done.result, done.request, done.extras, done.offered
     if args.buylist and offered:
         from pulsepick.export import write_atomic
 
         write_atomic(args.buylist, build_buylist_text(result, **extras), force=args.force)
     if args.json:
-        doc = build_json(result, **extras)
-        doc["night"] = None if night is None else {
-            "night_s": night.night_s, "given": night.given, "text": night.text,
-            "note": night.note}
-        if advice is not None:
-            doc["clamp"] = {"v_possible_v": advice.v_possible_v, "v_rated_v": advice.v_rated_v,
-                            "over": advice.over, "proposed_clamp_v": advice.proposed_clamp_v,
-                            "proposed_clamp_w": advice.proposed_clamp_w}
-            doc["cautions"] = list(advice.cautions) + doc["cautions"]
-        dump_json(doc)
+        dump_json(build_doc(done))
     else:
         render_build(make_console(), result, buylist=args.buylist if offered else None,
-                     storage="storage" in extras, night=night,
-                     cautions=() if advice is None else advice.cautions)
+                     storage="storage" in extras, night=done.night,
+                     cautions=() if done.advice is None else done.advice.cautions)
     if not offered:
         _nothing_line(breq.describe(), list(result.warnings) or [result.message])
         return 2
     from pulsepick.buildreport import build_pictures
     from pulsepick.commands.pictures import announce
 
-    announce(args, build_pictures(args, result, build_lines(result, **extras), design))
+    announce(args, build_pictures(args, result, build_lines(result, **extras), done.design))
     # offered, but over the lock share the request limits (--max-lock-share)
     return 0 if result.success else 3
 
