@@ -39,7 +39,7 @@ LAYERS = (
 #: (reference designators) for their results; the build report reuses the night
 #: command's option readers and pictures.
 KNOWN_UPWARD = {
-    ("pulsepick.solve", "pulsepick.partslist"),
+    ("pulsepick.solve.solver", "pulsepick.partslist"),
     ("pulsepick.analysis.multi", "pulsepick.partslist"),
     ("pulsepick.analysis.gating", "pulsepick.partslist"),
     ("pulsepick.packing", "pulsepick.partslist"),

@@ -1,0 +1,209 @@
+"""The checks of each offered candidate: reference engine, spread over tolerances and
+chips, drift and the median note.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import replace
+from typing import Any
+
+import numpy as np
+
+from pulsepick.circuits.base import get_stage
+from pulsepick.solve.texts import time_text
+from pulsepick.solve.types import SolveResult
+
+
+def _assess_one(design, target_period_s: float, builds: int, seed: int,
+                supply_end_v: float | None, r_tols: dict[str, float],
+                levels: tuple[float, float] | None = None) -> dict[str, Any]:
+    """Reference run, spread, drift and warnings of one design (runs in a worker).
+
+    ``levels`` (V): the reference run uses these switching levels (the median chip the
+    search aimed at), so that it checks the figures the candidate shows.
+    """
+    from pulsepick.analysis.checks import assumptions, circuit_warnings
+    from pulsepick.analysis.drift import drift
+    from pulsepick.analysis.spread import spread
+    from pulsepick.errors import PulsepickError
+
+    out: dict[str, Any] = {"timings_s": {}, "warnings": []}
+    t = time.perf_counter()
+    kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
+    out["reference"] = design.reference(**kw)
+    out["timings_s"]["reference"] = time.perf_counter() - t
+    t = time.perf_counter()
+    supply_range = None if supply_end_v is None else (supply_end_v, design.supply_v)
+    try:
+        out["spread"] = spread(design, target_period_s=target_period_s, builds=builds,
+                               seed=seed, supply_range_v=supply_range,
+                               resistor_tol_pct=r_tols or None)
+    except PulsepickError as err:
+        out["warnings"].append(f"spread analysis: {err}")
+    out["timings_s"]["spread"] = time.perf_counter() - t
+    if supply_end_v is not None:
+        t = time.perf_counter()
+        try:
+            out["drift"] = drift(design, design.supply_v, supply_end_v)
+        except PulsepickError as err:
+            out["warnings"].append(f"drift analysis: {err}")
+        out["timings_s"]["drift"] = time.perf_counter() - t
+    try:
+        out["warnings"].extend(circuit_warnings(design, levels=levels))
+    except PulsepickError as err:
+        out["warnings"].append(f"checks: {err}")
+    if not design.chip.is_timer:
+        out["crossing_current"] = assumptions(design).get("crossing_current")
+    if out.get("spread") is not None:
+        aimed = None
+        if levels is not None:
+            aimed = float(np.ravel(design.fast(**kw).period_s)[0])
+        out["median_note"] = median_note(design, out["spread"], aimed)
+    return out
+
+
+#: The median build is worth a line when it is this far (fraction) off the nominal period.
+MEDIAN_NOTE_SHIFT = 0.05
+#: Thresholds whose typical value sits further than this share of their min..max range
+#: from its middle are "off-centre".
+OFF_CENTRE_SHARE = 0.1
+
+
+def _thresholds_off_centre(design) -> bool:
+    """Whether the chip's typical switching levels sit off the middle of their limits."""
+    from pulsepick.engine.environment import chip_model
+
+    if design.chip.measured:
+        return False
+    model = chip_model(design.chip)
+    v = design.supply_v
+    if design.chip.is_timer:
+        triples = [(model.thr_ratio_min, model.thr_ratio_typ, model.thr_ratio_max),
+                   (model.trig_ratio_min, model.trig_ratio_typ, model.trig_ratio_max)]
+    else:
+        th = model.thresholds(v)
+        triples = [(th.vt_plus_min, th.vt_plus_typ, th.vt_plus_max),
+                   (th.vt_minus_min, th.vt_minus_typ, th.vt_minus_max)]
+    for lo, typ, hi in triples:
+        lo, typ, hi = float(lo), float(typ), float(hi)
+        if hi > lo and abs(typ - 0.5 * (lo + hi)) > OFF_CENTRE_SHARE * (hi - lo):
+            return True
+    return False
+
+
+def median_note(design, spread, aimed_period_s: float | None = None) -> str | None:
+    """A line when the Monte Carlo median period is off the nominal one, with the cause.
+
+    The nominal figures use the chip's typical thresholds (or, with ``aimed_period_s``,
+    the median chip the solver aimed at); the builds draw them with the typical value
+    as the median, so where the typical value sits near one limit the median build
+    moves away from the typical chip's. A supply range spread over the builds moves it
+    too.
+    """
+    p50 = spread.quantiles.get("period_s", (math.nan,) * 3)[1]
+    nominal = spread.nominal.get("period_s", math.nan)
+    if aimed_period_s is not None:
+        nominal = aimed_period_s
+    if not (math.isfinite(p50) and math.isfinite(nominal) and nominal > 0):
+        return None
+    shift = p50 / nominal - 1.0
+    if abs(shift) < MEDIAN_NOTE_SHIFT:
+        return None
+    text = (f"the median build blinks at {time_text(p50)} ({shift:+.0%} on the nominal "
+            f"{time_text(nominal)})")
+    causes = []
+    shares = spread.shares
+    if (aimed_period_s is None and _thresholds_off_centre(design)
+            and shares.get("chip_thresholds", 0.0) > 0):
+        causes.append("the chip's typical thresholds sit off-centre in its datasheet limits "
+                      "(the builds draw them between the minimum and maximum); measure your "
+                      "chip's thresholds and give --vt-plus and --vt-minus to centre on it")
+    if spread.supply_range_v is not None and shares.get("supply", 0.0) > 0:
+        lo, hi = spread.supply_range_v
+        causes.append(f"the builds' supply is spread over {lo:g}..{hi:g} V while the "
+                      f"nominal is at {design.supply_v:g} V")
+    if not causes:
+        causes.append("the spread of the parts is lopsided")
+    return text + ": " + "; and ".join(causes)
+
+
+def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
+    """Verify every candidate with the reference engine and add spread, drift, warnings.
+
+    Parameters
+    ----------
+    result : SolveResult
+        From :func:`solve`.
+    jobs : int
+        Worker processes (1: in this process). The reference engine takes tenths of
+        a second per circuit, so two workers nearly halve the wall time on two cores.
+    """
+    req = result.request
+    cands = list(result.candidates)
+    if not cands:
+        return result
+    # the spread uses the resistor tolerances of the parts list (the series asked for)
+    args = [_assess_args(req, c) for c in cands]
+    outputs, _ = _assess_outputs(args, jobs)
+    return result.with_candidates(tuple(_assessed(c, out) for c, out in zip(
+        cands, outputs, strict=True)))
+
+
+def _levels_kw(c) -> dict[str, float]:
+    """Keyword arguments that evaluate a design at candidate ``c``'s aimed levels."""
+    if c.aim_levels_v is None:
+        return {}
+    return {"vt_plus": c.aim_levels_v[0], "vt_minus": c.aim_levels_v[1]}
+
+
+def _assess_args(req, c) -> tuple:
+    """The arguments of :func:`_assess_one` for candidate ``c`` of request ``req``."""
+    return (c.design, req.targets.period_s, req.builds, req.seed, req.supply_end_v,
+            {p.param: p.tolerance_pct for p in c.parts if p.kind == "resistor"},
+            c.aim_levels_v)
+
+
+def _assess_outputs(args: list, jobs: int, during=None) -> tuple[list[dict[str, Any]], Any]:
+    """:func:`_assess_one` of each argument tuple, on up to ``jobs`` worker processes
+    (the longest reference runs first), and the result of ``during()`` (None when not
+    given), which runs in this process while the workers work."""
+    from pulsepick.limits import workers_for_builds
+
+    outputs: list[dict[str, Any] | None] = [None] * len(args)
+    meanwhile = None
+    # bounded memory for many builds: fewer workers when each spread is large
+    jobs = workers_for_builds(jobs, max((a[2] for a in args), default=0))
+    if jobs > 1 and len(args) > 1:
+        from pulsepick.workers import run_pool
+
+        order = sorted(range(len(args)),
+                       key=lambda i: get_stage(args[i][0].topo.stage).search_rank)
+        got: list[Any] = []
+        outputs = run_pool(_assess_one, args, jobs, order=order,
+                           meanwhile=None if during is None else lambda: got.append(during()))
+        meanwhile = got[0] if got else None
+    else:
+        outputs = [_assess_one(*a) for a in args]
+        if during is not None:
+            meanwhile = during()
+    return [out for out in outputs if out is not None], meanwhile
+
+
+def _assessed(c, out: dict[str, Any]):
+    """Candidate ``c`` with the reference run, spread, drift and warnings of ``out``."""
+    return replace(
+        c, reference=out["reference"], spread=out.get("spread"), drift=out.get("drift"),
+        warnings=tuple(out["warnings"]), timings_s=out["timings_s"],
+        crossing_current=out.get("crossing_current"), median_note=out.get("median_note"),
+    )
+
+
+def default_jobs() -> int:
+    """Worker processes for :func:`assess`: up to two, as the machine allows."""
+    import os
+
+    return max(1, min(2, os.cpu_count() or 1))
+
+

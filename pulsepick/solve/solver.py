@@ -1,0 +1,260 @@
+"""The solver's entry point :func:`solve`: run the searches per circuit variant and rank
+what they find.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import replace
+from typing import Any
+
+import numpy as np
+
+from pulsepick.circuits.base import core_fits_chip, DARK, get_core, get_stage, RUNS, Topology
+from pulsepick.request import SolveRequest
+from pulsepick.solve.explain import _explain, _prechecks
+from pulsepick.solve.score import misses, n_parts, PARTS_WEIGHT
+from pulsepick.solve.search import _Pick, _Searcher
+from pulsepick.solve.space import _chip, _space, _variants, aim_env, aim_levels, stage_cap_kind
+from pulsepick.solve.types import Candidate, SolveResult
+
+
+#: Timing networks already swept in this process for the current request (a task per
+#: stage shares its core's sweep).
+_TIMING_CACHE: dict[Any, Any] = {}
+
+
+def _search_task(req: SolveRequest, family: str, core: str, steer: str,
+                 topos: list[Topology]) -> tuple[list[_Pick], int, dict[str, list[float]]]:
+    """One search task (a core variant and its stage topologies) for one chip family."""
+    from pulsepick.engine.environment import PartChoice, chip_model, make_env
+
+    chip = _chip(req, family)
+    model = chip_model(chip)
+    s = _Searcher(req, chip)
+    env, _ = make_env(chip, PartChoice(led=req.led), req.supply_v)
+    env = aim_env(req, chip, core, steer, env)
+    s.aim = (core, steer)
+    s.set_chip_envs(env, model)
+    if _TIMING_CACHE.get("request") != req:
+        _TIMING_CACHE.clear()
+        _TIMING_CACHE["request"] = req
+    key = (family, core, steer)
+    if key in _TIMING_CACHE:  # swept already in this process: evaluations counted then
+        tim, seen = _TIMING_CACHE[key]
+        s.seen.update(seen)
+    else:
+        tim = s.timing(core, steer)
+        _TIMING_CACHE[key] = (tim, dict(s.seen))
+    picks: list[_Pick] = []
+    if tim is not None and tim.cost.size:
+        for topo in topos:
+            picks.extend(s.stage(topo, tim, env))
+    return picks, s.evaluated, s.seen
+
+
+def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
+    """Search every admissible circuit for ``req``; the best of each topology, ranked.
+
+    ``jobs`` > 1 spreads the search over that many worker processes. Reference
+    verification, spread, drift and warnings come from :func:`assess`.
+    """
+    from pulsepick.engine.environment import PartChoice, chip_model
+
+    t_start = time.perf_counter()
+    _TIMING_CACHE.clear()  # each search counts and times its own sweeps
+    explanations, nothing = _prechecks(req)
+    tasks = []
+    unpowered = []
+    for family in req.families:
+        chip = _chip(req, family)
+        model = chip_model(chip)
+        if not bool(model.in_range(req.supply_v)):
+            unpowered.append(f"{family} ({model.vdd_min_v:g}-{model.vdd_max_v:g} V)")
+            continue
+        for core, steer, topos in _variants(req):
+            if core_fits_chip(core, chip.is_timer):
+                tasks.append((req, family, core, steer, topos))
+    if unpowered:
+        explanations.append(
+            f"At {req.supply_v:.2f} V these chips are outside their supply range and were "
+            f"left out: {', '.join(unpowered)}.")
+    if "family" not in req.defaults:
+        from pulsepick.packing import family_plan
+
+        note = family_plan(req).note  # the family given stops before the end of the night
+        if note:
+            explanations.append(f"Family {note}.")
+    space = _space(req)
+    where = f"in {req.stock.source}" if req.stock is not None else "in the allowed ranges"
+    if space.c_timing.size == 0:
+        kinds = ", ".join(req.timing_caps)
+        explanations.append(f"No timing capacitor of the kinds allowed ({kinds}) is {where}; "
+                            "allow other kinds with --timing-cap or widen --cap-range.")
+    if space.r_timing.size == 0:
+        explanations.append(f"No timing resistor is {where} (--min-r to --max-r).")
+    picks: list[_Pick] = []
+    evaluated = 0
+    seen: dict[str, list[float]] = {}
+    def meanwhile() -> None:
+        # the design module brings the reference engine (scipy.integrate): import it
+        # here while the worker processes search, not before they start
+        import pulsepick.design  # noqa: F401
+
+    for task_picks, n, task_seen in _run_tasks(_search_task, tasks, jobs, meanwhile):
+        picks.extend(task_picks)
+        evaluated += n
+        for key, (lo, hi) in task_seen.items():
+            old = seen.get(key)
+            seen[key] = [min(lo, old[0]), max(hi, old[1])] if old else [lo, hi]
+    picks.sort(key=lambda p: p.cost)
+    # a circuit whose flash or brightness misses its aim by more than a factor of two is
+    # shown only when nothing closer exists (and is then flagged)
+    near = [p for p in picks if not misses(req, p.figures)]
+    if near:
+        picks = near
+
+    # diversity: the best of each topology (core and stage) first, then the next best
+    chosen: list[_Pick] = []
+    groups: set[tuple] = set()
+    for pick in picks:
+        key = (pick.topo.core, pick.topo.stage)
+        if key not in groups:
+            groups.add(key)
+            chosen.append(pick)
+    chosen = chosen[:req.top]
+    # then other variants (polarity, buffering, chip), then other timing networks; a
+    # mere change of the LED resistor is a near-copy and never fills a place
+    for ident in (_ident_variant, _ident_timing):
+        taken = {ident(p) for p in chosen}
+        for pick in picks:
+            if len(chosen) >= req.top:
+                break
+            if ident(pick) not in taken:
+                taken.add(ident(pick))
+                chosen.append(pick)
+    chosen.sort(key=lambda p: p.cost)
+
+    from pulsepick.analysis.ratings import over_rating
+    from pulsepick.design import Design
+
+    def _over(pick: _Pick) -> bool:
+        d = Design(pick.topo, pick.values, _chip(req, pick.family), PartChoice(led=req.led),
+                   req.supply_v)
+        return over_rating(d, float(pick.figures["led_peak_a"]))
+
+    # a circuit with a current over a rating (the LED's, a gate pin's) never ranks first
+    chosen.sort(key=_over)
+
+    aims = req.aims()
+    candidates = []
+    for rank, pick in enumerate(chosen, start=1):
+        design = Design(pick.topo, pick.values, _chip(req, pick.family),
+                        PartChoice(led=req.led, timing_cap=pick.kind,
+                                   stage_cap=_stage_kind(req, pick)), req.supply_v)
+        figs = pick.figures
+        errors = {key: (figs[key] / target - 1.0 if np.isfinite(figs[key]) else math.nan)
+                  for key, (target, _) in aims.items()}
+        candidates.append(Candidate(
+            rank=rank, design=design, parts=_parts(req, design, figs), figures=figs,
+            errors=errors, score=pick.cost,
+            score_parts=dict(pick.parts_cost, parts=PARTS_WEIGHT * n_parts(pick.topo,
+                                                                            pick.values)),
+            period_spread=math.sqrt(pick.var), end_figures=pick.end_figures,
+            notes=_candidate_notes(req, design, figs, pick.end_figures),
+            aim_levels_v=aim_levels(req, design.chip, pick.topo.core, pick.topo.steer),
+            misses=misses(req, figs),
+        ))
+    running = [c for c in candidates if c.figures["status"] == RUNS]
+    nearest = None
+    if not running and candidates:
+        nearest = dict(candidates[0].figures)
+    explanations += _explain(req, aims, seen, running)
+    success = bool(running) and not nothing
+    if not success and not explanations:
+        explanations.append("No combination of the allowed parts oscillates with a visible "
+                            "LED at this supply; widen the value ranges, allow more circuits "
+                            "(--cores, --stages) or another LED or chip.")
+    if not success:
+        running = []
+    else:
+        running = [replace(c, rank=i) for i, c in enumerate(running, start=1)]
+    message = (f"{len(running)} circuits offered" if success else
+               "nothing can be offered for this request")
+    return SolveResult(
+        request=req, candidates=tuple(running), explanations=tuple(explanations),
+        nearest=nearest, evaluated=evaluated, search_s=time.perf_counter() - t_start,
+        success=success, message=message,
+    )
+
+
+def _run_tasks(fn, tasks: list[tuple], jobs: int, meanwhile=None) -> list:
+    """``fn(*task)`` for every task, in worker processes when ``jobs`` > 1 (fork).
+
+    ``meanwhile()``, when given, runs in this process while the workers work (or
+    first, without workers).
+    """
+    if jobs <= 1 or len(tasks) <= 1:
+        if meanwhile is not None:
+            meanwhile()
+        return [fn(*t) for t in tasks]
+    from pulsepick.workers import run_pool
+
+    return run_pool(fn, tasks, jobs, meanwhile)
+
+
+def _ident_variant(pick: _Pick) -> tuple:
+    """A topology variant on one chip family."""
+    return (pick.family, pick.topo)
+
+
+def _ident_timing(pick: _Pick) -> tuple:
+    """A topology variant with its timing network's values."""
+    from pulsepick.circuits.base import get_core
+
+    names = [p.name for p in get_core(pick.topo.core).params]
+    return (pick.family, pick.topo, tuple(pick.values[n] for n in names), pick.kind)
+
+
+def _stage_kind(req: SolveRequest, pick: _Pick) -> str:
+    for name in ("cp", "ch"):
+        if name in pick.values:
+            return _stock_kind(req, pick.values[name]) or stage_cap_kind(pick.values[name])
+    return "electrolytic"
+
+
+def _stock_kind(req: SolveRequest, value: float) -> str | None:
+    """The dielectric the drawer gives for a capacitor value, if it names one."""
+    if req.stock is None:
+        return None
+    for item in req.stock.items:
+        if item.kind == "C" and item.dielectric and math.isclose(item.value, value,
+                                                                 rel_tol=1e-9):
+            return "film-pet" if item.dielectric == "film" else item.dielectric
+    return None
+
+
+def _parts(req: SolveRequest, design, figs: dict[str, float]) -> tuple:
+    from pulsepick.partslist import DRAWER_RESISTOR_TOL_PCT, parts_list
+
+    tol = DRAWER_RESISTOR_TOL_PCT if req.stock is not None else None
+    return parts_list(design, r_series=req.r_series, c_series=req.c_series, r_tolerance_pct=tol,
+                      led_peak_a=figs["led_peak_a"])
+
+
+def _candidate_notes(req, design, figs, end) -> tuple[str, ...]:
+    from pulsepick.units import format_eng
+
+    notes = []
+    if end is not None and end["status"] != RUNS:
+        from pulsepick.design import status_word
+
+        notes.append(f"at the end of the night ({req.supply_end_v:.2f} V) the circuit is "
+                     f"{status_word(end['status'])}")
+    if get_stage(design.topo.stage).steady_load and not design.topo.buffered \
+            and get_core(design.topo.core).drives_stage_from_timing_output:
+        notes.append("the LED hangs on the timing gate's output: its load is in the figures")
+    if figs["status"] == DARK:
+        notes.append(f"the LED gets {format_eng(figs['led_peak_a'], 'A')}: too little to be seen")
+    return tuple(notes)
