@@ -37,7 +37,7 @@ def test_examples_are_listed_in_help(capsys):
 @pytest.mark.parametrize(("name", "line"), EXAMPLES, ids=[f"{n}-{i}" for i, (n, _) in
                                                           enumerate(EXAMPLES)])
 def test_help_example_runs(name, line, tmp_path, monkeypatch, capsys):
-    request = importlib.import_module("pulsepick.request")
+    request = importlib.import_module("pulsepick.request.options")  # reads them per call
     monkeypatch.setattr(request, "DEFAULT_TOP", 2)
     monkeypatch.setattr(request, "DEFAULT_BUILDS", 300)
     (tmp_path / "drawer.csv").write_text(
