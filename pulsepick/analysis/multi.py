@@ -557,6 +557,10 @@ def combined_load_curve(curves: Sequence[LoadCurve], label: str | None = None) -
         stop = c.light_stops_below_v()
         if math.isnan(stop):
             return np.ones(grid.shape, dtype=bool)
+        if math.isinf(stop):
+            # dark at the top (over the chip's supply range): lit where both neighbouring
+            # grid points of the light's own curve are lit
+            return np.interp(grid, c.supply_v, c.lit.astype(float)) > 1.0 - 1e-9
         return grid >= stop
 
     lit_all = np.logical_and.reduce([lit(c) for c in curves])

@@ -309,6 +309,13 @@ def simulate_night(
     # reasons, assumptions, warnings
     if lasts:
         reason = "lasts the night"
+    elif runtime == 0.0 and math.isinf(v_stop) and load.lit_band_v() is not None:
+        band_top = load.lit_band_v()[1]
+        reason = (
+            f"the start {v_start_v:.2f} V is over the highest supply the circuit runs at "
+            f"({band_top:.2f} V, the top of the chip's supply range): it is dark there; start "
+            f"at or under {band_top:.2f} V"
+        )
     elif runtime == 0.0 and math.isinf(v_stop):
         reason = (
             f"the light never starts: the circuit is not lit even at {load.supply_v[-1]:.2f} V, "
@@ -359,7 +366,7 @@ def simulate_night(
             "the circuit is its average supply current at each voltage (each flash is spread "
             "over its period); the ESR drop during flashes is not in the budget"
         )
-        if not math.isnan(light_stop):
+        if math.isfinite(light_stop):
             assumptions.append(
                 f"the light's stop voltage {light_stop:.3g} V is resolved to the load curve's "
                 "grid step"

@@ -618,7 +618,10 @@ def render_report(result: NightResult, night: dict, console,
         place = f"{abs(night['latitude_deg']):g}° {'N' if night['latitude_deg'] >= 0 else 'S'}"
         window += f" (light on at {turn_on}, {place}, evening of {night['date']})"
     s = result.storage
-    if not math.isfinite(result.v_stop_v):
+    band = result.load.lit_band_v() if result.load is not None else None
+    if not math.isfinite(result.v_stop_v) and band is not None:
+        stop = f"over the circuit's supply range (lit {band[0]:.2f} V to {band[1]:.2f} V)"
+    elif not math.isfinite(result.v_stop_v):
         stop = "not lit at any supply of the circuit's curve"
     elif result.v_stop_v > 0:
         stop = f"stop {result.v_stop_v:.2f} V"
