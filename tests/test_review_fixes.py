@@ -67,3 +67,13 @@ def test_bare_voltage_is_volts_everywhere(capsys):
     main(["night", FOOT, "--start", "2.6"])
     out = capsys.readouterr().out
     assert "start 2.60 V" in out
+
+
+def test_calibrate_recipe_prints_its_command_on_one_line(capsys, monkeypatch):
+    monkeypatch.setenv("COLUMNS", "80")
+    assert main(["calibrate", "--recipe", "--family", "hc", "--supply", "3V"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    cmd = [ln.strip() for ln in lines if ln.strip().startswith("pulsepick calibrate --r")]
+    assert len(cmd) == 1
+    # the typical chip's period 6.1 s and lit 2.6 s printed above it (the recipe's own figures)
+    assert cmd[0].endswith('--period "10 periods in 61 s" --high 2.6s')
