@@ -77,3 +77,18 @@ def test_calibrate_recipe_prints_its_command_on_one_line(capsys, monkeypatch):
     assert len(cmd) == 1
     # the typical chip's period 6.1 s and lit 2.6 s printed above it (the recipe's own figures)
     assert cmd[0].endswith('--period "10 periods in 61 s" --high 2.6s')
+
+
+def test_night_names_the_dimming_and_drops_the_empty_intensity_column(capsys):
+    code, doc = _json(capsys, ["night", FOOT])
+    assert code == 0 and doc["lasts_the_night"]
+    dim = [w for w in doc["warnings"] if w.startswith("the light dims steeply")]
+    # the run's own figures: LED peak 1.01 mA at dusk and 29.9 uA at dawn (3%, under 10%)
+    assert len(dim) == 1 and "1.01 mA at dusk, 29.9 µA at dawn (3% of it)" in dim[0]
+    main(["night", FOOT])
+    out = capsys.readouterr().out
+    assert out.splitlines()[0].endswith("but dim by dawn (see the warnings)")
+    table = out.split("Over the night", 1)[1].split("Storage voltage", 1)[0]
+    assert "effective" in table and "intensity" not in table  # no LED intensity data
+
+

@@ -619,7 +619,7 @@ def build_part_lines(names: Sequence[str], part_lines: Sequence[tuple], plan: Pa
             role = " and ".join(parts)
             unused = GATES_PER_PACKAGE - pkg.gates_used
             note = (f"uses {pkg.gates_used} of {GATES_PER_PACKAGE} gates"
-                    + (f"; tie the {unused} unused inputs to ground or the supply (never "
+                    + (f"; tie the {unused} unused {'input' if unused == 1 else 'inputs'} to ground or the supply (never "
                        "leave CMOS inputs open)" if unused else ""))
         lines.append(PartLine(
             ref=f"U{pkg.number}", kind="chip", value=None, unit="", display=model.name,

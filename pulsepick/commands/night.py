@@ -671,11 +671,13 @@ def render_report(result: NightResult, night: dict, console,
                                  _eng(p.effective_a, "A"), _eng(p.effective_cd, "cd")])
             else:
                 fig_rows.append([p.label, when, "-", "off", "", "", "", ""])
-        console.print(simple_table(
-            "Over the night", ["", "time", "storage", "period", "flash", "LED peak",
-                               "effective", "intensity"],
-            fig_rows, justify=["left", "left", "right", "right", "right", "right", "right",
-                               "right"]))
+        heads = ["", "time", "storage", "period", "flash", "LED peak", "effective",
+                 "intensity"]
+        justify = ["left"] * 2 + ["right"] * 6
+        if not any(p.lit and math.isfinite(p.effective_cd) for p in result.figures):
+            # no LED intensity data: the column would be "-" on every row
+            heads, justify, fig_rows = heads[:-1], justify[:-1], [r[:-1] for r in fig_rows]
+        console.print(simple_table("Over the night", heads, fig_rows, justify=justify))
         console.print()
 
     for line in night_chart(result, night["dusk"], plot_columns(console, _LABEL + 12)):

@@ -47,7 +47,9 @@ def verdict(result: Any, open_ended: bool = False) -> str:
         if open_ended:
             return (f"storage stays above {stop} for {duration_text(result.duration_s)}, "
                     f"{result.v_end_v:.2f} V left")
-        return f"lasts the night, {result.v_end_v:.2f} V left at dawn"
+        dim = any(w.startswith("the light dims steeply") for w in result.warnings)
+        return (f"lasts the night, {result.v_end_v:.2f} V left at dawn"
+                + (", but dim by dawn (see the warnings)" if dim else ""))
     if result.runtime_s == 0.0:
         if not math.isfinite(result.v_stop_v):
             band = result.load.lit_band_v() if result.load is not None else None
