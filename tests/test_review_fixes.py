@@ -92,3 +92,14 @@ def test_night_names_the_dimming_and_drops_the_empty_intensity_column(capsys):
     assert "effective" in table and "intensity" not in table  # no LED intensity data
 
 
+
+
+def test_check_refuses_a_supply_over_the_family_range(capsys):
+    argv = ["check", "--core", "schmitt", "--r", "2M2", "--c", "1u", "--stage", "pulse",
+            "--cp", "22u", "--rs", "47", "--family", "hc", "--led", "red", "--supply"]
+    assert main([*argv, "50V"]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    # hc: vdd 2.0 V to 6.0 V in data/parts/logic_families.csv
+    assert len(err) == 1 and "over the supply range" in err[0] and "2 V to 6 V" in err[0]
+    assert main([*argv, "6V"]) == 0  # the top of the range still runs
+    capsys.readouterr()
