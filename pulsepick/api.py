@@ -285,8 +285,11 @@ def check(**options: Any) -> Result:
     design = design_from_args(args)
     fig, ref, findings, assumed, engine = cmd.analyse(design, args.reference)
     figures = cmd.figures_dict(fig)
-    reason = cmd._status_reason(figures["status"], findings)
-    data = _json(cmd.check_json(design, figures, reason, findings, assumed, engine))
+    state = cmd._verdict(design, fig)
+    figures["status"] = state.state
+    doc = cmd.check_json(design, figures, state.reason, findings, assumed, engine)
+    doc["status"] = state.as_dict()
+    data = _json(doc)
     outcome = CheckOutcome(design, figures, ref, tuple(findings), engine)
     return Result("check", _record(None, options), outcome, data)
 

@@ -62,6 +62,10 @@ def figures_json(figs: dict[str, Any] | None) -> dict[str, Any] | None:
     return out
 
 
+def _opt(x):
+    return None if x is None else _num(float(x))
+
+
 def candidate_json(c) -> dict[str, Any]:
     """One candidate (``pulsepick.solve.Candidate``) as plain JSON data."""
     d = c.design
@@ -94,8 +98,13 @@ def candidate_json(c) -> dict[str, Any]:
         "warnings": list(c.warnings),
         "notes": list(c.notes),
         "crossing_current": c.crossing_current,
-        "median_period_s": None if c.spread is None else _num(
-            float(c.spread.quantiles["period_s"][1])),
+        "median_period_s": _opt(c.median_period_s),
+        "p5_period_s": _opt(c.p5_period_s),
+        "p95_period_s": _opt(c.p95_period_s),
+        "yield": _opt(c.yield_fraction),
+        "lasts_night": c.lasts_night,
+        "misses": list(c.misses),
+        "aim_levels_v": None if c.aim_levels_v is None else list(c.aim_levels_v),
         "median_note": c.median_note,
     }
     return out

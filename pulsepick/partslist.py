@@ -102,6 +102,7 @@ def parts_list(design, *, r_series: str = "E24", c_series: str = "E12",
         fast engine's figure.
     """
     from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
+    from pulsepick.parts.capsize import size_class
     from pulsepick.parts.diode import get_diode
     from pulsepick.series import get_series
     from pulsepick.units import format_eng, format_rkm
@@ -137,6 +138,9 @@ def parts_list(design, *, r_series: str = "E24", c_series: str = "E12",
                 note = "polarised: + to the side that sits higher"
             elif kind.class2 and p.name == "c1":
                 note = "class-2 ceramic: value moves with voltage, temperature and age"
+            size = size_class(kind.key, value)
+            if size.rank > 0:
+                note = "; ".join(x for x in (note, f"{size.name} part: {size.why}") if x)
             lines.append(PartLine(
                 ref=f"C{n_c}", kind="capacitor", value=value, unit="F",
                 display=format_eng(value, "F"), code=format_rkm(value, "C"),

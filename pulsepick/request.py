@@ -86,6 +86,10 @@ DEFAULT_TIMING_CAP = "any"
 DEFAULT_R_RANGE = ("1k", "10M")  # common practice; above 10 Mohm leakage and dirt take over
 DEFAULT_CAP_RANGE = "1n..1m"
 DEFAULT_TOP = 5
+#: How much the ranking weighs a part's size and cost class against its figures:
+#: "figures" not at all, "balanced" a tie-breaker, "compact" strongly.
+PREFER_CHOICES = ("figures", "balanced", "compact")
+DEFAULT_PREFER = "balanced"
 DEFAULT_BUILDS = 2000
 DEFAULT_SEED = 0
 #: Flash length assumed when the request states none, s. Design choice (estimate): a
@@ -561,6 +565,7 @@ class SolveRequest:
     builds: int = DEFAULT_BUILDS  # Monte Carlo builds of the spread analysis
     seed: int = DEFAULT_SEED  # seed of the spread analysis
     chip_overrides: dict[str, float] = field(default_factory=dict)  # measured chip figures
+    prefer: str = "balanced"  # weight of part size/cost in the ranking (PREFER_CHOICES)
     choices: dict[str, str] = field(default_factory=dict)  # option text as given, for output
     defaults: tuple[str, ...] = ()  # names of the options left at their defaults
 
@@ -581,6 +586,8 @@ class SolveRequest:
             problems.append("no circuit to search (check --cores and --stages)")
         if self.top < 1 or self.builds < 1:
             problems.append("--top and --builds must be at least 1")
+        if self.prefer not in PREFER_CHOICES:
+            problems.append(f"--prefer {self.prefer!r}: accepted {', '.join(PREFER_CHOICES)}")
         if problems:
             raise RequestError("; ".join(problems))
 
@@ -657,6 +664,7 @@ class SolveRequest:
             "top": self.top,
             "builds": self.builds,
             "seed": self.seed,
+            "prefer": self.prefer,
             "aims": {k: {"value": v, "stated": s} for k, (v, s) in aims.items()},
             "defaults": list(self.defaults),
         }
@@ -699,6 +707,7 @@ def make_request(
     builds: int | None = None,
     seed: int | None = None,
     chip_overrides: dict[str, float] | None = None,
+    prefer: str | None = None,
 ) -> SolveRequest:
     """Build a :class:`SolveRequest` from option text; None means the default.
 
@@ -863,6 +872,8 @@ def make_request(
                         "an intensity in mcd cannot be aimed at; give the brightness as a "
                         "current (\"5 mA peak\", \"as bright as a steady 1 mA\") or choose "
                         "an LED with intensity data (red, bright-red, green, white)")
+    if prefer is not None and prefer not in PREFER_CHOICES:
+        problems.append(f"--prefer {prefer!r}: accepted {', '.join(PREFER_CHOICES)}")
     if problems:
         raise RequestError("; ".join(problems))
     assert targets is not None and supply_v is not None and c_lo is not None
@@ -872,7 +883,8 @@ def make_request(
         timing_caps=timing_caps, r_min_ohm=r_vals["min_r"], r_max_ohm=r_vals["max_r"],
         c_min_f=c_lo, c_max_f=c_hi, cores=core_list, stages=stage_list,
         buffered=buffered, stock=stock_obj, top=ints["top"], builds=ints["builds"],
-        seed=ints["seed"], chip_overrides=dict(chip_overrides or {}), choices=choices,
+        seed=ints["seed"], chip_overrides=dict(chip_overrides or {}),
+        prefer=opt("prefer", prefer, DEFAULT_PREFER), choices=choices,
         defaults=tuple(defaults),
     )
 

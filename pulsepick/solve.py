@@ -30,9 +30,9 @@ of about two, so they guide without pulling a stated aim off. The period term ad
 the expected squared spread of the period: resistor and capacitor tolerance, the
 capacitor's drift over -20..+50 °C and its aging (a class-2 ceramic is evaluated at
 the value left under its DC bias), the shift the guaranteed-maximum pin and capacitor
-leakage causes at 25 °C, the chip's thresholds (triangular between minimum, typical
-and maximum), and, for a supply range, the change from full to end of night (the
-others taken as uniform within their bounds: variance bound²/3).
+leakage causes at 25 °C, the chip's thresholds (median at the typical value, limits
+at the 0.1 %/99.9 % points), and, for a supply range, the change from full to end of
+night (the others taken as uniform within their bounds: variance bound²/3).
 A timing network that stalls with the hot-end maximum leakage costs 3 more. An
 electrolytic timing capacitor, a resistor near the leakage limit or a chip with
 wide thresholds so ranks lower. Then one point per decade of energy per flash
@@ -47,12 +47,15 @@ comes within a factor of ten of the current that moves it at a threshold (chargi
 at VT+, discharging at VT-; common practice), checked on the bare
 timing network and again with the phases as the LED stage's load stretches them.
 
-The nominal figures use the chip's typical thresholds. The Monte Carlo spread draws
-them between the datasheet limits, so where the typical value sits near one limit
-(HC VT+ at 3 V) the median build is off the nominal; :func:`assess` says so in
-``Candidate.median_note`` rather than centring the search on the spread model (the
-datasheet typical is the best single estimate of a part; the limits are guarantees
-over process and temperature).
+The search aims at the median build, not the typical chip: every network is evaluated
+with the switching levels of the median chip of its core (:func:`aim_levels`,
+:mod:`pulsepick.analysis.median`). The Monte Carlo spread draws the thresholds with the
+typical value as the median and the limits as the 0.1 %/99.9 % points; the period is
+non-linear in them and the hysteresis window cuts the draw, so where the typical value
+sits near one limit (HC VT+ at 3 V) the typical chip's period is several per cent off
+the median build's. The candidate's figures are the median chip's, and the reference
+engine checks them at the same levels; :func:`assess` adds a ``median_note`` when the
+Monte Carlo median still moves off them (a supply range, lopsided parts).
 
 The best circuit of each different topology (core and stage) is offered, so the
 list is not five near-copies, and each is verified with the reference engine (see
@@ -169,6 +172,40 @@ class Candidate:
     timings_s: dict[str, float] = field(default_factory=dict)  # s, per assessment step
     crossing_current: str | None = None  # the crossing-current assumption (Schmitt chips)
     median_note: str | None = None  # why the median build is off the nominal, after assess()
+    aim_levels_v: tuple[float, float] | None = None  # V, (VT+, VT-) of the median chip aimed at
+    misses: tuple[str, ...] = ()  # aimed figures missed by more than MISS_FACTOR (flagged)
+
+    def _period_quantile(self, i: int) -> float | None:
+        if self.spread is None or "period_s" not in self.spread.quantiles:
+            return None
+        return float(self.spread.quantiles["period_s"][i])
+
+    @property
+    def median_period_s(self) -> float | None:
+        """s, the Monte Carlo median build's period (after assess())."""
+        return self._period_quantile(1)
+
+    @property
+    def p5_period_s(self) -> float | None:
+        """s, 5 % of the builds blink faster (after assess())."""
+        return self._period_quantile(0)
+
+    @property
+    def p95_period_s(self) -> float | None:
+        """s, 5 % of the builds blink slower (after assess())."""
+        return self._period_quantile(2)
+
+    @property
+    def yield_fraction(self) -> float | None:
+        """Share of the builds within the yield band of the asked period (after assess())."""
+        return None if self.spread is None else float(self.spread.yield_fraction)
+
+    @property
+    def lasts_night(self) -> bool | None:
+        """With a supply range: still running and lit at the end-of-night supply."""
+        if self.end_figures is None:
+            return None
+        return int(self.end_figures["status"]) == RUNS
 
     @property
     def reference_figures(self) -> dict[str, float] | None:
@@ -341,6 +378,34 @@ def _best_per_group(cost: np.ndarray, group: np.ndarray, k: int, total: int) -> 
     return keep[np.argsort(cost[keep], kind="stable")[:total]]
 
 
+#: Cost per step of the timing capacitor's size/cost class (small 0, large 1, bulky or
+#: rare 2; pulsepick.parts.capsize) by ``--prefer`` (design choice: "balanced" breaks
+#: ties between otherwise equal circuits like one more part, "compact" outweighs a few
+#: per cent of fit and a wider spread).
+PREFER_WEIGHTS = {"figures": 0.0, "balanced": 0.1, "compact": 2.0}
+#: A shown figure further than this factor from its aim is a miss (flagged, and shown
+#: only when nothing closer exists; design choice).
+MISS_FACTOR = 2.0
+#: Figures held to MISS_FACTOR: the flash and the brightness aim.
+MISS_KEYS = ("flash_s", "led_peak_a", "effective_a", "effective_mcd")
+_MISS_WORDS = {"flash_s": "flash", "led_peak_a": "peak", "effective_a": "effective",
+               "effective_mcd": "intensity"}
+
+
+def misses(req: SolveRequest, figs: dict[str, float]) -> tuple[str, ...]:
+    """The aimed flash/brightness figures of ``figs`` off their aim by more than
+    ``MISS_FACTOR``, as short texts ("flash 2.24 s")."""
+    out = []
+    for key, (target, _) in req.aims().items():
+        if key not in MISS_KEYS:
+            continue
+        got = float(figs.get(key, math.nan))
+        if not (math.isfinite(got) and got > 0 and target > 0) or \
+                abs(math.log(got / target)) > math.log(MISS_FACTOR):
+            out.append(f"{_MISS_WORDS[key]} {figure_text(key, got)}")
+    return tuple(out)
+
+
 def led_current_limit(led, stage: str | None = None) -> tuple[float, str]:
     """The highest nominal LED peak the solver offers (A) and where it comes from.
 
@@ -420,6 +485,7 @@ class _Searcher:
         self.long_target = t.period_s - self.short_target
         self.cap_var = np.array([_cap_var(k) for k in self.space.kinds])
         self.leak_margin = LEAK_MARGIN
+        self.aim: tuple[str, str] | None = None  # (core, steer) whose median chip is aimed at
 
     # -- bookkeeping ------------------------------------------------------------------------
     def _note_range(self, key: str, x) -> None:
@@ -456,10 +522,24 @@ class _Searcher:
                 g[sel] = k.leak_conductance(c[sel], pick_voltage_rating(k, self.v), which=which)
         return g
 
+    def _size_cost(self, c: np.ndarray, kind: np.ndarray) -> np.ndarray:
+        """Cost of the timing capacitor's size/cost class, weighted by ``--prefer``."""
+        from pulsepick.parts.capsize import size_rank
+
+        weight = PREFER_WEIGHTS[self.req.prefer]
+        out = np.zeros(np.shape(c))
+        if weight == 0:
+            return out
+        for i, key in enumerate(self.space.kinds):
+            sel = kind == i
+            if np.any(sel):
+                out[sel] = weight * size_rank(key, c[sel])
+        return out
+
     def set_chip_envs(self, env, model) -> None:
         """The environments the timing sweep needs: typical, leaky, and shifted thresholds.
 
-        The chip's threshold spread enters the period variance as triangular spreads of
+        The chip's threshold spread enters the period variance as split-normal spreads of
         VT+ and VT- (or the 555's threshold and trigger levels) between their datasheet
         minimum, typical and maximum at the design supply, propagated with finite
         differences; measured thresholds (the user's own chip) carry none.
@@ -468,16 +548,16 @@ class _Searcher:
         chip = self.chip
         if chip.is_timer:
             leak, hot = model.leak_a, model.leak_a
-            plus = _triangular_var(model.thr_ratio_min * v, model.thr_ratio_typ * v,
+            plus = _threshold_var(model.thr_ratio_min * v, model.thr_ratio_typ * v,
                                    model.thr_ratio_max * v)
-            minus = _triangular_var(model.trig_ratio_min * v, model.trig_ratio_typ * v,
+            minus = _threshold_var(model.trig_ratio_min * v, model.trig_ratio_typ * v,
                                     model.trig_ratio_max * v)
         else:
             leak, hot = model.leak_max_a, model.leak_max_hot_a
             th = model.thresholds(v)
-            plus = _triangular_var(float(th.vt_plus_min), float(th.vt_plus_typ),
+            plus = _threshold_var(float(th.vt_plus_min), float(th.vt_plus_typ),
                                    float(th.vt_plus_max))
-            minus = _triangular_var(float(th.vt_minus_min), float(th.vt_minus_typ),
+            minus = _threshold_var(float(th.vt_minus_min), float(th.vt_minus_typ),
                                     float(th.vt_minus_max))
         if chip.measured:
             plus = minus = 0.0
@@ -588,7 +668,7 @@ class _Searcher:
                 slope = np.log((a + b) / period) / step
             slope = np.where((st4 == RUNS) & np.isfinite(slope), slope, 0.0)
             var = var + slope**2 * chip_var
-        penalty = np.where(st3 == RUNS, 0.0, PENALTY_HOT_LEAK)
+        penalty = np.where(st3 == RUNS, 0.0, PENALTY_HOT_LEAK) + self._size_cost(c, kind)
         t = self.req.targets
         cost = (_log_err(period, t.period_s) ** 2 + var) / SIGMA**2
         cost = cost + penalty
@@ -696,7 +776,14 @@ class _Searcher:
     def _rows_env(self, vdd: np.ndarray):
         from pulsepick.engine.environment import PartChoice, make_env
 
-        return make_env(self.chip, PartChoice(led=self.req.led), vdd)
+        env, powered = make_env(self.chip, PartChoice(led=self.req.led), vdd)
+        if self.aim is None:
+            return env, powered
+        vtp, vtm = np.array(env.vt_plus, dtype=float), np.array(env.vt_minus, dtype=float)
+        for v in np.unique(vdd):
+            sel = vdd == v
+            vtp[sel], vtm[sel] = aim_levels(self.req, self.chip, *self.aim, supply_v=float(v))
+        return replace(env, vt_plus=vtp, vt_minus=vtm), powered
 
     def stage(self, topo: Topology, tim: _Timing, env) -> list[_Pick]:
         """Search one topology's stage values over the kept timing networks."""
@@ -776,6 +863,10 @@ class _Searcher:
                 continue
             breakdown = {k: float(np.asarray(v).reshape(-1)[i]) for k, v in parts.items()}
             breakdown["night"] = float(night[i])
+            kind_i = np.array([int(tim.kind[t_idx[i]])])
+            size = float(self._size_cost(np.array([values["c1"]]), kind_i)[0])
+            breakdown["size"] = size
+            breakdown["spread"] -= size
             picks.append(_Pick(
                 cost=float(cost[i]), topo=topo, family=self.chip.family, values=values,
                 kind=self.space.kinds[int(tim.kind[t_idx[i]])], var=float(tim.var[t_idx[i]]),
@@ -858,10 +949,11 @@ def peak_needed(req: SolveRequest) -> float:
     return eff * (EFFECTIVE_A_S + flash) / flash
 
 
-def _triangular_var(low: float, mode: float, high: float) -> float:
-    """Variance of a triangular distribution (V²): (a² + b² + c² - ab - ac - bc)/18."""
-    a, b, c = low, high, mode
-    return max((a * a + b * b + c * c - a * b - a * c - b * c) / 18.0, 0.0)
+def _threshold_var(low: float, mode: float, high: float) -> float:
+    """Variance (V²) of one threshold: the chip spread's split normal."""
+    from pulsepick.analysis.chipspread import split_normal_var
+
+    return split_normal_var(low, mode, high)
 
 
 def _slice_figures(f, sl: slice):
@@ -979,6 +1071,35 @@ def _prechecks(req: SolveRequest) -> tuple[list[str], bool]:
 _TIMING_CACHE: dict[Any, Any] = {}
 
 
+def aim_levels(req: SolveRequest, chip, core: str, steer: str,
+               supply_v: float | None = None) -> tuple[float, float]:
+    """The switching levels (VT+, VT-) in V the search aims with: the median chip's.
+
+    The phase weights are the aimed long and short phases for a steered core or a 555
+    (the slow phase is the charging one for a fast low phase and for the 555), the
+    typical chip's own ratio for the plain core (see :mod:`pulsepick.analysis.median`).
+    """
+    from pulsepick.analysis.median import median_levels
+
+    t = req.targets
+    short = min(min(req.flash_s, 0.99 * t.period_s), t.period_s - min(req.flash_s,
+                                                                      0.99 * t.period_s))
+    long = t.period_s - short
+    v = req.supply_v if supply_v is None else supply_v
+    search = get_core(core).timing_search
+    if search == "one-resistor":  # one R sets both phases: the typical phase ratio
+        return median_levels(chip, v, None, None, req.seed)
+    if search == "steered" and steer == "high":  # a fast high phase: the low one is slow
+        return median_levels(chip, v, short, long, req.seed)
+    return median_levels(chip, v, long, short, req.seed)
+
+
+def aim_env(req: SolveRequest, chip, core: str, steer: str, env):
+    """``env`` with the median chip's levels (:func:`aim_levels`)."""
+    vtp, vtm = aim_levels(req, chip, core, steer)
+    return replace(env, vt_plus=np.asarray(vtp), vt_minus=np.asarray(vtm))
+
+
 def _search_task(req: SolveRequest, family: str, core: str, steer: str,
                  topos: list[Topology]) -> tuple[list[_Pick], int, dict[str, list[float]]]:
     """One search task (a core variant and its stage topologies) for one chip family."""
@@ -988,6 +1109,8 @@ def _search_task(req: SolveRequest, family: str, core: str, steer: str,
     model = chip_model(chip)
     s = _Searcher(req, chip)
     env, _ = make_env(chip, PartChoice(led=req.led), req.supply_v)
+    env = aim_env(req, chip, core, steer, env)
+    s.aim = (core, steer)
     s.set_chip_envs(env, model)
     if _TIMING_CACHE.get("request") != req:
         _TIMING_CACHE.clear()
@@ -1061,6 +1184,11 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
             old = seen.get(key)
             seen[key] = [min(lo, old[0]), max(hi, old[1])] if old else [lo, hi]
     picks.sort(key=lambda p: p.cost)
+    # a circuit whose flash or brightness misses its aim by more than a factor of two is
+    # shown only when nothing closer exists (and is then flagged)
+    near = [p for p in picks if not misses(req, p.figures)]
+    if near:
+        picks = near
 
     # diversity: the best of each topology (core and stage) first, then the next best
     chosen: list[_Pick] = []
@@ -1083,7 +1211,16 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
                 chosen.append(pick)
     chosen.sort(key=lambda p: p.cost)
 
+    from pulsepick.analysis.ratings import over_rating
     from pulsepick.design import Design
+
+    def _over(pick: _Pick) -> bool:
+        d = Design(pick.topo, pick.values, _chip(req, pick.family), PartChoice(led=req.led),
+                   req.supply_v)
+        return over_rating(d, float(pick.figures["led_peak_a"]))
+
+    # a circuit with a current over a rating (the LED's, a gate pin's) never ranks first
+    chosen.sort(key=_over)
 
     aims = req.aims()
     candidates = []
@@ -1101,6 +1238,8 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
                                                                             pick.values)),
             period_spread=math.sqrt(pick.var), end_figures=pick.end_figures,
             notes=_candidate_notes(req, design, figs, pick.end_figures),
+            aim_levels_v=aim_levels(req, design.chip, pick.topo.core, pick.topo.steer),
+            misses=misses(req, figs),
         ))
     running = [c for c in candidates if c.figures["status"] == RUNS]
     nearest = None
@@ -1384,8 +1523,13 @@ def _why_low(req: SolveRequest, key: str) -> str:
 # ============================================================================ assessment
 
 def _assess_one(design, target_period_s: float, builds: int, seed: int,
-                supply_end_v: float | None, r_tols: dict[str, float]) -> dict[str, Any]:
-    """Reference run, spread, drift and warnings of one design (runs in a worker)."""
+                supply_end_v: float | None, r_tols: dict[str, float],
+                levels: tuple[float, float] | None = None) -> dict[str, Any]:
+    """Reference run, spread, drift and warnings of one design (runs in a worker).
+
+    ``levels`` (V): the reference run uses these switching levels (the median chip the
+    search aimed at), so that it checks the figures the candidate shows.
+    """
     from pulsepick.analysis.checks import assumptions, circuit_warnings
     from pulsepick.analysis.drift import drift
     from pulsepick.analysis.spread import spread
@@ -1393,7 +1537,8 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
 
     out: dict[str, Any] = {"timings_s": {}, "warnings": []}
     t = time.perf_counter()
-    out["reference"] = design.reference()
+    kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
+    out["reference"] = design.reference(**kw)
     out["timings_s"]["reference"] = time.perf_counter() - t
     t = time.perf_counter()
     supply_range = None if supply_end_v is None else (supply_end_v, design.supply_v)
@@ -1412,13 +1557,16 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
             out["warnings"].append(f"drift analysis: {err}")
         out["timings_s"]["drift"] = time.perf_counter() - t
     try:
-        out["warnings"].extend(circuit_warnings(design))
+        out["warnings"].extend(circuit_warnings(design, levels=levels))
     except PulsepickError as err:
         out["warnings"].append(f"checks: {err}")
     if not design.chip.is_timer:
         out["crossing_current"] = assumptions(design).get("crossing_current")
     if out.get("spread") is not None:
-        out["median_note"] = median_note(design, out["spread"])
+        aimed = None
+        if levels is not None:
+            aimed = float(np.ravel(design.fast(**kw).period_s)[0])
+        out["median_note"] = median_note(design, out["spread"], aimed)
     return out
 
 
@@ -1451,16 +1599,19 @@ def _thresholds_off_centre(design) -> bool:
     return False
 
 
-def median_note(design, spread) -> str | None:
+def median_note(design, spread, aimed_period_s: float | None = None) -> str | None:
     """A line when the Monte Carlo median period is off the nominal one, with the cause.
 
-    The nominal figures use the chip's typical thresholds; the builds draw them between
-    the datasheet limits (triangular, mode at the typical value), so where the typical
-    value sits near one limit the median build moves away from the nominal. A supply
-    range spread over the builds moves it too.
+    The nominal figures use the chip's typical thresholds (or, with ``aimed_period_s``,
+    the median chip the solver aimed at); the builds draw them with the typical value
+    as the median, so where the typical value sits near one limit the median build
+    moves away from the typical chip's. A supply range spread over the builds moves it
+    too.
     """
     p50 = spread.quantiles.get("period_s", (math.nan,) * 3)[1]
     nominal = spread.nominal.get("period_s", math.nan)
+    if aimed_period_s is not None:
+        nominal = aimed_period_s
     if not (math.isfinite(p50) and math.isfinite(nominal) and nominal > 0):
         return None
     shift = p50 / nominal - 1.0
@@ -1470,7 +1621,8 @@ def median_note(design, spread) -> str | None:
             f"{time_text(nominal)})")
     causes = []
     shares = spread.shares
-    if _thresholds_off_centre(design) and shares.get("chip_thresholds", 0.0) > 0:
+    if (aimed_period_s is None and _thresholds_off_centre(design)
+            and shares.get("chip_thresholds", 0.0) > 0):
         causes.append("the chip's typical thresholds sit off-centre in its datasheet limits "
                       "(the builds draw them between the minimum and maximum); measure your "
                       "chip's thresholds and give --vt-plus and --vt-minus to centre on it")
@@ -1505,10 +1657,18 @@ def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
         cands, outputs, strict=True)))
 
 
+def _levels_kw(c) -> dict[str, float]:
+    """Keyword arguments that evaluate a design at candidate ``c``'s aimed levels."""
+    if c.aim_levels_v is None:
+        return {}
+    return {"vt_plus": c.aim_levels_v[0], "vt_minus": c.aim_levels_v[1]}
+
+
 def _assess_args(req, c) -> tuple:
     """The arguments of :func:`_assess_one` for candidate ``c`` of request ``req``."""
     return (c.design, req.targets.period_s, req.builds, req.seed, req.supply_end_v,
-            {p.param: p.tolerance_pct for p in c.parts if p.kind == "resistor"})
+            {p.param: p.tolerance_pct for p in c.parts if p.kind == "resistor"},
+            c.aim_levels_v)
 
 
 def _assess_outputs(args: list, jobs: int, during=None) -> tuple[list[dict[str, Any]], Any]:
@@ -1840,9 +2000,10 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
     for i, lr in rates.items():
         warnings.extend(f"{names[i]}: {w}" for w in getattr(lr.rate, "warnings", ()))
     # the night's draw: a photoresistor light at the night's light level
+    # every light at the switching levels its figures use (the median chip aimed at)
     total = float(sum(c.figures["supply_avg_a"] if d is c.design else
-                      np.ravel(d.fast().supply_avg_a)[0] for c, d in zip(picks, night,
-                                                                        strict=True)))
+                      np.ravel(d.fast(**_levels_kw(c)).supply_avg_a)[0]
+                      for c, d in zip(picks, night, strict=True)))
     ok, message = packing.build_verdict(breq, len(picks), len(plan.packages), share,
                                         spread=choice is not None)
     lights = tuple(LightPick(n, r, c, asked[i], moved[i])
@@ -1864,7 +2025,8 @@ def _period_options(req: SolveRequest, c: Candidate, asked_s: float, tolerance: 
         r_values = req.stock.resistors()
         c_values = [v for v, k in req.stock.capacitors((c.design.parts.timing_cap,))]
     return period_options(c.design, asked_s, tolerance, r_series=req.r_series,
-                          c_series=req.c_series, r_values=r_values, c_values=c_values)
+                          c_series=req.c_series, r_values=r_values, c_values=c_values,
+                          levels=c.aim_levels_v)
 
 
 def _r_tols(c: Candidate) -> dict[str, float] | None:
@@ -1875,7 +2037,9 @@ def _r_tols(c: Candidate) -> dict[str, float] | None:
 def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float]) -> Candidate:
     """The candidate with new timing values: figures, errors and parts follow."""
     design = replace(c.design, values=dict(values))
-    figs = design.fast().row(0)
+    kw = {} if c.aim_levels_v is None else {"vt_plus": c.aim_levels_v[0],
+                                            "vt_minus": c.aim_levels_v[1]}
+    figs = design.fast(**kw).row(0)
     errors = {key: (figs[key] / target - 1.0 if np.isfinite(figs[key]) else math.nan)
               for key, (target, _) in req.aims().items()}
     return replace(c, design=design, figures=figs, errors=errors,

@@ -95,13 +95,14 @@ def limit_percentile(x: float, lo: float, typ: float, hi: float) -> float:
     limits as its 0.1 % and 99.9 % points, truncated at the limits (estimate). A value
     outside the limits returns 0 or 100.
     """
+    from pulsepick.analysis.chipspread import split_normal_cdf
+
     if x <= lo:
         return 0.0
     if x >= hi:
         return 100.0
-    sigma = (typ - lo) / Z_LIMIT if x < typ else (hi - typ) / Z_LIMIT
-    raw = 0.5 * math.erfc(-(x - typ) / (sigma * math.sqrt(2.0))) if sigma > 0 else 0.5
-    return 100.0 * (raw - LIMIT_TAIL) / (1.0 - 2.0 * LIMIT_TAIL)
+    # the one chip-spread distribution (pulsepick.analysis.chipspread)
+    return 100.0 * float(split_normal_cdf((x - lo) / (hi - lo), (typ - lo) / (hi - lo)))
 
 
 def oscillator_design(family: str, r_ohm: float, c_f: float, supply_v: float, led: Any,

@@ -3,7 +3,8 @@ and the assumptions a report must state.
 
 Thresholds for the warnings follow practice: a leakage within a factor of ten of the
 charging current at the thresholds is flagged (common practice),
-a leakage-times-R error above 10 % of the hysteresis is flagged (common practice),
+a worst-case leakage-times-R error above half the minimum hysteresis is a thin margin
+and above all of it a failure with a worst-case chip (common practice),
 and timing resistors above 10 MΩ are marked sensitive to board cleanliness and
 humidity (common practice).
 """
@@ -23,7 +24,9 @@ from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
 from pulsepick.units import format_eng
 
 LEAK_MARGIN = 10.0  # charging current / leakage below this is flagged (common practice)
-LEAK_R_SHARE = 0.10  # leakage x R above this share of the hysteresis is flagged
+#: Worst-case input leakage x R from this share of the minimum hysteresis on is a thin
+#: margin (common practice); above the whole of it a worst-case chip may not switch.
+PIN_LEAK_MARGIN_SHARE = 0.5
 HIGH_R_OHM = 10e6  # above this, board leakage and humidity matter (common practice)
 LOW_R_FACTOR = 10.0  # timing R below this many output resistances is set by the chip
 LOADING_SHIFT = 0.01  # period shift by the LED stage's load worth telling (1 %)
@@ -105,40 +108,75 @@ def assumptions(design: Design) -> dict[str, Any]:
     return out
 
 
-def circuit_findings(design: Design) -> list[Finding]:
-    """Every warning that applies to the design, each with its numbers."""
-    out: list[Finding] = []
-    env, powered = design.env()
-    vdd = design.supply_v
+def pin_leakage_finding(design: Design, env=None) -> Finding | None:
+    """The input-leakage warning of a Schmitt design, graded, one line for the design.
+
+    The guaranteed-maximum input leakage over temperature times the largest timing
+    resistance is an offset on the capacitor's voltage. Graded against the MINIMUM
+    hysteresis at the supply (the datasheet's VH min): above it a worst-case chip may
+    never switch ("fails with a worst-case chip"); between half of it and all of it
+    the margin is thin ("margin"); below half, nothing is said (common practice).
+    """
+    if design.chip.is_timer:
+        return None
+    if env is None:
+        env, _ = design.env()
     model = chip_model(design.chip)
-    f = design.fast()
-    status = int(np.ravel(f.status)[0])
-
-    if not bool(np.all(powered)):
-        out.append(Finding("supply-range",
-                           f"supply {vdd:g} V is outside {model.name}'s range "
-                           f"{model.vdd_min_v:g}..{model.vdd_max_v:g} V"))
-
-    i_up, i_down = charging_currents(design, env)
-    i_min = min(i_up, i_down)
-    vh = float(np.ravel(env.vt_plus)[0] - np.ravel(env.vt_minus)[0])
-    # input-pin leakage: typical works on the bench, the guaranteed maximum may not
     leak_typ = float(np.ravel(env.pin_leak_a)[0])
     leak_max = float(getattr(model, "leak_max_hot_a", getattr(model, "leak_max_a", leak_typ)))
+    label, r = max(_timing_resistances(design).items(), key=lambda kv: kv[1])
+    if design.chip.measured:
+        vh_min = float(np.ravel(env.vt_plus)[0] - np.ravel(env.vt_minus)[0])
+        which = "your chip's hysteresis"
+    else:
+        vh_min = float(np.ravel(model.thresholds(design.supply_v).vh_min)[0])
+        which = "the minimum hysteresis"
+    err_max = leak_max * r
+    if err_max < PIN_LEAK_MARGIN_SHARE * vh_min:
+        return None
+    word = "fails with a worst-case chip" if err_max > vh_min else "margin"
+    return Finding(
+        "pin-leakage",
+        f"{word}: input leakage up to {format_eng(leak_max, 'A')} (guaranteed maximum over "
+        f"temperature) x {label} {format_eng(r, 'Ω')} = {err_max:.3g} V against {which} of "
+        f"{vh_min:.3g} V at {design.supply_v:g} V; typical leakage {format_eng(leak_typ, 'A')} "
+        f"gives {leak_typ * r:.3g} V")
+
+
+def circuit_findings(design: Design, status=None, peak_a: float | None = None,
+                     levels: tuple[float, float] | None = None,
+                     with_state: bool = True) -> list[Finding]:
+    """Every warning that applies to the design, each with its numbers.
+
+    ``status`` and ``peak_a`` are the figures the report shows (default: the fast
+    engine's); the state and its reason come from :func:`pulsepick.analysis.verdict.verdict`
+    so the warnings never contradict the status row. ``levels`` (VT+, VT- in V) are the
+    switching levels the figures were computed with (the solver's median chip).
+    ``with_state`` False leaves out the state's own line (a report that prints the
+    verdict's reason beside its status row).
+    """
+    from pulsepick.analysis.ratings import rating_excesses
+    from pulsepick.analysis.verdict import LATCHED, verdict
+
+    out: list[Finding] = []
+    kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
+    env, powered = design.env(**kw)
+    vdd = design.supply_v
+    f = design.fast(**kw)
+    if status is None:
+        status = int(np.ravel(f.status)[0])
+    if peak_a is None:
+        peak_a = float(np.ravel(f.led_peak_a)[0])
+    state = verdict(design, status, peak_a)
+
+    if with_state and state.state not in ("runs", "dark"):
+        out.append(Finding(state.state, state.reason or state.state))
+
+    i_up, i_down = charging_currents(design, env)
+    leak = pin_leakage_finding(design, env)
+    if leak is not None:
+        out.append(leak)
     for label, r in _timing_resistances(design).items():
-        err_max = leak_max * r
-        if not design.chip.is_timer and err_max > LEAK_R_SHARE * vh:
-            verdict = ("stalls with a worst-case chip" if leak_max >= i_min
-                       else "marginal with a worst-case chip")
-            typ_err = leak_typ * r
-            bench = ("works on the bench" if typ_err < LEAK_R_SHARE * vh
-                     else "is already too much for the hysteresis")
-            out.append(Finding(
-                "pin-leakage",
-                f"{verdict}: input leakage up to {format_eng(leak_max, 'A')} (guaranteed maximum "
-                f"over temperature) x {label} {format_eng(r, 'Ω')} = {err_max:.3g} V against a "
-                f"hysteresis of {vh:.3g} V; typical leakage {format_eng(leak_typ, 'A')} gives "
-                f"{typ_err:.3g} V and {bench}"))
         if r > HIGH_R_OHM:
             out.append(Finding("high-r",
                                f"{label} {format_eng(r, 'Ω')} is above 10 MΩ: board leakage, "
@@ -152,7 +190,12 @@ def circuit_findings(design: Design) -> list[Finding]:
     for which in ("typ", "max"):
         i_leak = float(np.ravel(kind.leakage_a(c, vtp, rating, which=which))[0])
         if i_leak > 0 and i_up / i_leak < LEAK_MARGIN:
-            word = "will stall" if i_leak >= i_up else "marginal"
+            if i_leak < i_up:
+                word = "marginal"
+            elif which == "max" or status != STALLS:
+                word = "fails with a worst-case capacitor"
+            else:
+                word = "stalls"
             advice = ("use a film capacitor (far lower leakage)"
                       if kind.key in ("electrolytic", "tantalum")
                       else "use a smaller resistor with a larger capacitor")
@@ -189,16 +232,13 @@ def circuit_findings(design: Design) -> list[Finding]:
             f"output resistance ({r_out:.0f} Ω): the chip's drive, not the resistor, sets the "
             "timing; use at least a few kΩ"))
 
-    if status == STALLS:
-        out.append(Finding("stalls", "the oscillator stalls at the nominal supply: leakage "
-                                     "exceeds the charging current at a threshold"))
     led = design.parts.led
+    rated_a = state.led_a if state.state == LATCHED else peak_a
+    for excess in rating_excesses(design, rated_a if rated_a is not None else 0.0):
+        out.append(Finding("rating", excess.text()))
     if status == DARK:
-        peak = float(np.ravel(f.led_peak_a)[0])
-        out.append(Finding(
-            "led-dark",
-            f"the LED never reaches visible current: peak {format_eng(peak, 'A')}"
-            f" against {format_eng(led.visible_a, 'A')} needed ({led.name} at {vdd:g} V)"))
+        if with_state:
+            out.append(Finding("led-dark", state.reason or "dark"))
     elif status == RUNS:
         v_dark = dark_below(design)
         vf = float(led.voltage(led.visible_a))
@@ -220,9 +260,9 @@ def circuit_findings(design: Design) -> list[Finding]:
     return out
 
 
-def circuit_warnings(design: Design) -> list[str]:
+def circuit_warnings(design: Design, levels: tuple[float, float] | None = None) -> list[str]:
     """The warning texts of ``circuit_findings``."""
-    return [f.text for f in circuit_findings(design)]
+    return [f.text for f in circuit_findings(design, levels=levels)]
 
 
 def dark_below(design: Design, v_floor: float = 0.5, points: int = 121) -> float | None:

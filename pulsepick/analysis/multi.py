@@ -363,14 +363,17 @@ class PeriodOptions:
 
 
 def period_options(design, asked_s: float, tolerance: float, *, r_series: str = "E24",
-                   c_series: str = "E12", r_values=None, c_values=None) -> PeriodOptions:
+                   c_series: str = "E12", r_values=None, c_values=None,
+                   levels: tuple[float, float] | None = None) -> PeriodOptions:
     """Variants of ``design``'s timing values whose period is within ``tolerance`` of
     ``asked_s``, keeping the flash and LED peak within ``VARIANT_FIGURE_FACTOR``.
 
     One fast-engine call evaluates every combination of the timing resistors (along
     ``r_series``) and the timing capacitor (along its kind's series) within
     ``VARIANT_VALUE_FACTOR`` of the solved values. ``r_values`` / ``c_values`` (ohm,
-    farad) replace the series with the values at hand (a parts drawer).
+    farad) replace the series with the values at hand (a parts drawer). ``levels``
+    (VT+, VT- in V): the switching levels the figures are computed with (the solver's
+    median chip); default the typical chip's.
     """
     from pulsepick.circuits.base import RUNS, get_core
     from pulsepick.engine import fast
@@ -399,13 +402,14 @@ def period_options(design, asked_s: float, tolerance: float, *, r_series: str = 
         names.append(p.name)
     mesh = np.meshgrid(*grids, indexing="ij")
     flat = {n: m.ravel() for n, m in zip(names, mesh, strict=True)}
-    env, powered = design.env()
+    kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
+    env, powered = design.env(**kw)
     base = dict(design.working_values(env))
     factor = design.timing_cap_factor(env)
     values = {**base, **flat}
     values["c1"] = flat["c1"] * factor
     figs = fast.evaluate(design.topo, values, env, powered=powered)
-    ref = design.fast()
+    ref = design.fast(**kw)
     f0, i0 = float(ref.flash_s[0]), float(ref.led_peak_a[0])
     period = np.asarray(figs.period_s, dtype=float)
     with np.errstate(invalid="ignore", divide="ignore"):

@@ -16,8 +16,8 @@ varies from its nominal figures:
 
 Distributions (all bounds come from tables; no source publishes a distribution, so
 common practice is followed: a value known only by its limits is uniform between them,
-and one given as min/typ/max is triangular with its mode at the typical value, so the
-Monte Carlo's median stays near the figures a designer computes from typical values):
+and a threshold given as min/typ/max has its median at the typical value and its limits
+as the 0.1 % / 99.9 % points, so the Monte Carlo's median build is the typical chip):
 
 * resistors: uniform within the tolerance of their series (E12 10 %, E24 5 %, E96 1 %;
   ref:iec-60063, ref:e-series-tolerances); each resistor drawn on its own;
@@ -29,12 +29,13 @@ Monte Carlo's median stays near the figures a designer computes from typical val
   their typical curve (the guaranteed band is used by the corners). Resistors get a
   tempco drawn per part within +/-``RESISTOR_TEMPCO_PPM_PER_K`` (estimate);
 * chip thresholds: ONE draw per build for the whole package (gates of one package move
-  together). VT+ and VT- are each triangular (min, typ, max) from the datasheet at the
-  build's supply, restricted to the hysteresis window VH min..max (common practice:
-  limits taken independently would overstate the spread). The limits in our tables hold
-  over the datasheet's temperature range, so the thresholds' own temperature drift is
-  inside this draw. For the CMOS 555 the threshold and trigger ratios are triangular
-  (min, typ, max) and independent;
+  together). VT+ and VT- are each a split normal truncated at the limits, median at
+  the typical value, limits at the 0.1 % / 99.9 % points (``pulsepick.analysis.chipspread``,
+  common practice), at the build's supply, restricted to the hysteresis window VH
+  min..max (common practice: limits taken independently would overstate the spread).
+  The limits in our tables hold over the datasheet's temperature range, so the
+  thresholds' own temperature drift is inside this draw. For the CMOS 555 the
+  threshold and trigger ratios are drawn the same way, independently;
 * output resistance: one draw per package, uniform between typical and maximum (the
   same fraction for the high and low side);
 * supply: uniform over ``supply_range_v`` if given, else the nominal supply.
@@ -61,6 +62,7 @@ from typing import Any
 
 import numpy as np
 
+from pulsepick.analysis.chipspread import draw_fractions, split_normal_pdf
 from pulsepick.circuits.base import DARK, RUNS, STALLS, UNPOWERED, Figures, get_core, get_stage
 from pulsepick.design import Design
 from pulsepick.engine import fast
@@ -106,13 +108,12 @@ _INFER_SERIES = ("E24", "E48", "E96", "E192")
 _FALLBACK_SERIES = "E24"
 #: Standard normal 95 % quantile (scipy.stats.norm.ppf(0.95)).
 Z95 = 1.6448536269514722
-_EDGE_SAMPLES = 9  # points along each hysteresis-limited edge of the threshold polygon
-_SUPPLY_SAMPLES = 5  # evenly spaced corner supplies across a supply range
+_EDGE_SAMPLES = 5  # points along each hysteresis-limited edge of the threshold polygon
+_SUPPLY_SAMPLES = 3  # evenly spaced corner supplies across a supply range
 #: Builds of each one-source-at-a-time run (the first ones of the full run's draws): the
 #: variance of 500 builds is within about 6 % (sqrt(2/500)), plenty for a share.
 SHARE_BUILDS = 500
 _EPS_V = 1e-12  # V, slack on the hysteresis test (a measured chip pins VH exactly)
-_MAX_REJECTION_ROUNDS = 200
 _MOMENT_GRID = 400  # quadrature points per side for the chip draw's moments
 
 
@@ -487,62 +488,29 @@ def _temperature_factors(design: Design, tols, temp_c, rng) -> dict[str, np.ndar
 
 
 def _modes(lim: _ChipLimits) -> tuple[np.ndarray, np.ndarray]:
-    """Typical VT+ and VT- as fractions of their limits (the triangular modes)."""
+    """Typical VT+ and VT- as fractions of their limits (the medians of the draw)."""
     return (_to_fraction(lim.p_typ, lim.p_lo, lim.p_hi),
             _to_fraction(lim.m_typ, lim.m_lo, lim.m_hi))
-
-
-def _triangular(u: np.ndarray, mode: np.ndarray) -> np.ndarray:
-    """Inverse CDF of the triangular distribution on [0, 1] with ``mode`` (arrays)."""
-    with np.errstate(invalid="ignore", divide="ignore"):
-        left = np.sqrt(u * mode)
-        right = 1.0 - np.sqrt((1.0 - u) * (1.0 - mode))
-    return np.where(u < mode, left, right)
-
-
-def _triangular_pdf(x: np.ndarray, mode: float) -> np.ndarray:
-    """Density of the triangular distribution on [0, 1] with ``mode`` at ``x``."""
-    with np.errstate(invalid="ignore", divide="ignore"):
-        up = np.where(mode > 0, 2.0 * x / mode, 0.0)
-        down = np.where(mode < 1, 2.0 * (1.0 - x) / (1.0 - mode), 0.0)
-    return np.where(x < mode, up, down)
 
 
 def _draw_chip(design: Design, vdd: np.ndarray, rng) -> tuple[np.ndarray, np.ndarray]:
     """VT+ and VT- as fractions of their limits at each build's supply.
 
-    Each is triangular between its datasheet minimum and maximum with the mode at the
-    typical value; pairs outside the hysteresis window are drawn again (rejection), so
-    the result is that product density restricted to the window.
+    The split normal of :func:`pulsepick.analysis.chipspread.draw_fractions` (median at
+    the typical value, limits at 0.1 % / 99.9 %) restricted to the hysteresis window.
     """
-    n = vdd.size
     lim = _chip_limits(design, vdd)
-    mode_a, mode_b = _modes(lim)
-    a, b = np.empty(n), np.empty(n)
-    todo = np.arange(n)
-    for _ in range(_MAX_REJECTION_ROUNDS):
-        if todo.size == 0:
-            return a, b
-        ua = _triangular(rng.random(todo.size), mode_a[todo])
-        ub = _triangular(rng.random(todo.size), mode_b[todo])
-        p = lim.p_lo[todo] + ua * (lim.p_hi[todo] - lim.p_lo[todo])
-        m = lim.m_lo[todo] + ub * (lim.m_hi[todo] - lim.m_lo[todo])
-        h = p - m
-        ok = (h >= lim.h_lo[todo] - _EPS_V) & (h <= lim.h_hi[todo] + _EPS_V)
-        a[todo[ok]], b[todo[ok]] = ua[ok], ub[ok]
-        todo = todo[~ok]
-    if todo.size:
-        raise PartError(
-            f"{design.chip.family}: the hysteresis limits leave almost no room inside the "
-            "threshold limits; check the threshold table or the measured values"
-        )
-    return a, b
+    try:
+        return draw_fractions(lim.p_lo, lim.p_typ, lim.p_hi, lim.m_lo, lim.m_typ, lim.m_hi,
+                              lim.h_lo, lim.h_hi, rng)
+    except PartError as err:
+        raise PartError(f"{design.chip.family}: {err}") from err
 
 
 def _chip_moments(lim: _ChipLimits) -> tuple[np.ndarray, np.ndarray]:
     """Mean (2,) and covariance (2, 2) of the chip draw, as fractions, by quadrature.
 
-    The density of :func:`_draw_chip` (triangular x triangular inside the hysteresis
+    The density of :func:`_draw_chip` (split normal x split normal inside the hysteresis
     window) integrated with the midpoint rule on a 400 x 400 grid; a side with no
     spread is a single point.
     """
@@ -554,7 +522,7 @@ def _chip_moments(lim: _ChipLimits) -> tuple[np.ndarray, np.ndarray]:
         if width <= 0:
             return np.zeros(1), np.ones(1)
         x = (np.arange(n) + 0.5) / n
-        return x, _triangular_pdf(x, mode)
+        return x, split_normal_pdf(x, mode)
 
     xa, wa = axis(p_hi - p_lo, mode_a)
     xb, wb = axis(m_hi - m_lo, mode_b)
@@ -645,10 +613,10 @@ def _corner_batch(design: Design, tols, temp_range, supply_range, varies: dict[s
                   ) -> _Batch:
     """Every extreme combination of the sources (bounded enumeration).
 
-    Per part: the low and high end of tolerance times temperature factor at each end
-    of the temperature range (class-2 and electrolytic kinds at their guaranteed band
-    edges, linear kinds at the ends of their tempco spread, resistors at the tempco
-    estimate). Chip: the vertices of the hysteresis-limited threshold region plus
+    Per part: the lowest and highest of tolerance end times temperature factor over
+    the ends of the temperature range (class-2 and electrolytic kinds at their
+    guaranteed band edges, linear kinds at the ends of their tempco spread, resistors
+    at the tempco estimate). Chip: the vertices of the hysteresis-limited threshold region plus
     points along its hysteresis edges, at each corner supply. Output resistance:
     typical and maximum. Supply: the ends of the range, the threshold table's supplies
     inside it and a few evenly spaced points.
@@ -665,6 +633,31 @@ def _corner_batch(design: Design, tols, temp_range, supply_range, varies: dict[s
         supplies = sorted(set([lo, hi, *inner, *np.linspace(lo, hi, _SUPPLY_SAMPLES)]))
     temps = sorted(set(temp_range)) if varies["temperature"] else [T_REF_C]
     routs = [0.0, 1.0] if varies["output_resistance"] else [0.0]
+    # each part's lowest and highest factor over the temperature range's ends: the
+    # temperature enters the model only through the parts, so one box of part factors
+    # holds every corner of every temperature (a little wider: each part at its own
+    # worst temperature), and the chip and supply corners are enumerated once
+    ends = []
+    for t in tols:
+        lo_t, hi_t = 1 - 0.01 * t.tol_minus_pct, 1 + 0.01 * t.tol_plus_pct
+        if not varies["resistors" if t.kind == "R" else "capacitors"]:
+            lo_t = hi_t = 1.0
+        lows, highs = [], []
+        for temp in temps:
+            dt = temp - T_REF_C
+            if not varies["temperature"]:
+                lows.append(lo_t)
+                highs.append(hi_t)
+            elif t.kind == "R":
+                tc = RESISTOR_TEMPCO_PPM_PER_K * 1e-6 * abs(dt)
+                lows.append(lo_t * (1 - tc))
+                highs.append(hi_t * (1 + tc))
+            else:
+                kind = get_cap_kind(t.cap_kind)
+                lows.append(lo_t * float(kind.temperature_factor(temp, "min")))
+                highs.append(hi_t * float(kind.temperature_factor(temp, "max")))
+        ends.append((min(lows), max(highs)))
+    combos = np.array(list(itertools.product(*ends)), dtype=float).reshape(-1, len(tols))
     batches = []
     for v in supplies:
         lim = _chip_limits(design, v)
@@ -677,30 +670,13 @@ def _corner_batch(design: Design, tols, temp_range, supply_range, varies: dict[s
         else:  # typical thresholds
             pts = np.zeros((1, 2))
             ca = cb = np.full(1, np.nan)
-        for temp in temps:
-            ends = []
-            dt = temp - T_REF_C
-            for t in tols:
-                lo_t, hi_t = 1 - 0.01 * t.tol_minus_pct, 1 + 0.01 * t.tol_plus_pct
-                if not varies["resistors" if t.kind == "R" else "capacitors"]:
-                    lo_t = hi_t = 1.0
-                if not varies["temperature"]:
-                    ends.append((lo_t, hi_t))
-                elif t.kind == "R":
-                    tc = RESISTOR_TEMPCO_PPM_PER_K * 1e-6 * abs(dt)
-                    ends.append((lo_t * (1 - tc), hi_t * (1 + tc)))
-                else:
-                    kind = get_cap_kind(t.cap_kind)
-                    ends.append((lo_t * float(kind.temperature_factor(temp, "min")),
-                                 hi_t * float(kind.temperature_factor(temp, "max"))))
-            combos = np.array(list(itertools.product(*ends)), dtype=float).reshape(-1, len(tols))
-            grid = list(itertools.product(range(len(combos)), range(len(pts)), routs))
-            ic = np.array([g[0] for g in grid])
-            ip = np.array([g[1] for g in grid])
-            ru = np.array([g[2] for g in grid], dtype=float)
-            m = len(grid)
-            batches.append(_Batch({nm: combos[ic, j] for j, nm in enumerate(names)},
-                                  np.full(m, float(v)), ca[ip], cb[ip], ru))
+        grid = list(itertools.product(range(len(combos)), range(len(pts)), routs))
+        ic = np.array([g[0] for g in grid])
+        ip = np.array([g[1] for g in grid])
+        ru = np.array([g[2] for g in grid], dtype=float)
+        m = len(grid)
+        batches.append(_Batch({nm: combos[ic, j] for j, nm in enumerate(names)},
+                              np.full(m, float(v)), ca[ip], cb[ip], ru))
     return _Batch.concat(batches)
 
 
@@ -978,7 +954,7 @@ def linearised(design: Design, *, temp_range_c: tuple[float, float] = DEFAULT_TE
     all of them come from one vectorised engine call. Input standard deviations: a
     uniform interval of width w has w/sqrt(12); a tempco drawn within +/-a (ppm/K)
     contributes a/sqrt(3) * sqrt(E[(T - 25 C)^2]); the chip's thresholds take the mean and
-    covariance of their draw (triangular x triangular inside the hysteresis window) by
+    covariance of their draw (split normal x split normal inside the hysteresis window) by
     quadrature, at the mean supply. ``vary`` restricts the sources as in :func:`spread`.
     """
     vary_set = _vary_set(vary)

@@ -152,15 +152,28 @@ class FadeStage:
             v_start, grid = state
         v_star, i_star = grid["v_star"], grid["i_star"]
         t_cum, vh, i_rise = grid["t"], grid["vh"], grid["i_led"]
-        def one_period(v0):
-            """Hold voltage after one period started at ``v0``, with the rise's figures."""
-            t_start = _interp_rows(v0, vh, t_cum, None)
-            t_stop = t_start + t_on_f
-            v_end = _interp_rows(t_stop, t_cum, vh, v_star)
-            q_on = _q_at(t_stop, grid) - _q_at(t_start, grid)
+        def one_period(v0, rows=None):
+            """Hold voltage after one period started at ``v0``, with the rise's figures.
+
+            ``rows`` (indices into 1-D rows): evaluate only those rows, ``v0`` holding
+            one value per selected row.
+            """
+            g, t_on_r, t_off_r, ch_r = grid, t_on_f, t_off_f, ch
+            if rows is not None:
+                n_rows = v_star.shape[0]
+
+                def pick(a):
+                    return a[rows] if np.ndim(a) >= 1 and np.shape(a)[0] == n_rows else a
+
+                g = {k: pick(a) for k, a in grid.items()}
+                t_on_r, t_off_r, ch_r = pick(t_on_f), pick(t_off_f), pick(ch)
+            t_start = _interp_rows(v0, g["vh"], g["t"], None)
+            t_stop = t_start + t_on_r
+            v_end = _interp_rows(t_stop, g["t"], g["vh"], g["v_star"])
+            q_on = _q_at(t_stop, g) - _q_at(t_start, g)
             i_pk = np.maximum(led.current(v_end), 1e-30)
             # fade: CH feeds the LED alone
-            i_off = decay_end_current(led.junction, led.junction.r_s, ch, i_pk, t_off_f)
+            i_off = decay_end_current(led.junction, led.junction.r_s, ch_r, i_pk, t_off_r)
             return np.minimum(led.voltage(i_off), v_end), t_start, v_end, q_on, i_pk
 
         # periodic steady state: the map v0 -> v1 is increasing and contracting, so the
@@ -179,21 +192,24 @@ class FadeStage:
             f_lo = one_period(lo)[0] - lo
             f_hi = one_period(hi)[0] - hi
         side = np.zeros(lo.shape)
-        for _ in range(_ROOT_STEPS):
-            with np.errstate(divide="ignore", invalid="ignore"):
-                mid = np.where(f_lo - f_hi > 0, lo + f_lo * (hi - lo) / (f_lo - f_hi),
-                               0.5 * (lo + hi))
-            mid = np.clip(mid, lo, hi)
-            f_mid = one_period(mid)[0] - mid
-            up = f_mid > 0
-            # Illinois: halve the value kept at the end that did not move twice running
-            f_hi = np.where(up & (side > 0), 0.5 * f_hi, f_hi)
-            f_lo = np.where(~up & (side < 0), 0.5 * f_lo, f_lo)
-            lo, f_lo = np.where(up, mid, lo), np.where(up, f_mid, f_lo)
-            hi, f_hi = np.where(up, hi, mid), np.where(up, f_hi, f_mid)
-            side = np.where(up, 1.0, -1.0)
-            if np.all((np.abs(f_mid) < 1e-9) | (hi - lo < 1e-9)):
-                break
+        if lo.ndim == 1:
+            mid = _root_rows(one_period, lo, hi, f_lo, f_hi, side)
+        else:
+            for _ in range(_ROOT_STEPS):
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    mid = np.where(f_lo - f_hi > 0, lo + f_lo * (hi - lo) / (f_lo - f_hi),
+                                   0.5 * (lo + hi))
+                mid = np.clip(mid, lo, hi)
+                f_mid = one_period(mid)[0] - mid
+                up = f_mid > 0
+                # Illinois: halve the value kept at the end that did not move twice running
+                f_hi = np.where(up & (side > 0), 0.5 * f_hi, f_hi)
+                f_lo = np.where(~up & (side < 0), 0.5 * f_lo, f_lo)
+                lo, f_lo = np.where(up, mid, lo), np.where(up, f_mid, f_lo)
+                hi, f_hi = np.where(up, hi, mid), np.where(up, f_hi, f_mid)
+                side = np.where(up, 1.0, -1.0)
+                if np.all((np.abs(f_mid) < 1e-9) | (hi - lo < 1e-9)):
+                    break
         v_start, t_start, v_end, q_led_on, i_pk = one_period(mid)
         q_led_off = ch * (v_end - v_start)
         q_in = q_led_off + q_led_on
@@ -227,6 +243,33 @@ class FadeStage:
         """Circuit-simulator lines of the stage (nodes: see ``base.SPICE_NODES``)."""
         return (f"RS drv fa {v['rs']:.9g}", "DF fa hold DFADE", f"CH hold 0 {v['ch']:.9g}",
                 "VLED hold lk 0", "DLED lk 0 DLED")
+
+
+def _root_rows(one_period, lo, hi, f_lo, f_hi, side):
+    """The Illinois false-position loop of ``FadeStage.fast`` on 1-D rows, each row
+    iterated only until it has converged (the others no longer cost an evaluation)."""
+    lo, hi, f_lo, f_hi, side = (np.array(a, dtype=float) for a in (lo, hi, f_lo, f_hi, side))
+    mid = 0.5 * (lo + hi)
+    act = np.arange(lo.size)
+    for _ in range(_ROOT_STEPS):
+        if act.size == 0:
+            break
+        a_lo, a_hi, a_flo, a_fhi, a_side = lo[act], hi[act], f_lo[act], f_hi[act], side[act]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            m = np.where(a_flo - a_fhi > 0, a_lo + a_flo * (a_hi - a_lo) / (a_flo - a_fhi),
+                         0.5 * (a_lo + a_hi))
+        m = np.clip(m, a_lo, a_hi)
+        f_m = one_period(m, act)[0] - m
+        up = f_m > 0
+        a_fhi = np.where(up & (a_side > 0), 0.5 * a_fhi, a_fhi)
+        a_flo = np.where(~up & (a_side < 0), 0.5 * a_flo, a_flo)
+        lo[act], f_lo[act] = np.where(up, m, a_lo), np.where(up, f_m, a_flo)
+        hi[act], f_hi[act] = np.where(up, a_hi, m), np.where(up, a_fhi, f_m)
+        side[act] = np.where(up, 1.0, -1.0)
+        mid[act] = m
+        done = (np.abs(f_m) < 1e-9) | (hi[act] - lo[act] < 1e-9)
+        act = act[~done]
+    return mid
 
 
 def _q_at(t, grid):

@@ -64,17 +64,6 @@ def figures_dict(fig: Figures) -> dict:
     return out
 
 
-def _status_reason(status: str, findings) -> str | None:
-    if status == "runs":
-        return None
-    codes = {"stalls": ("stalls", "cap-leakage"), "dark": ("led-dark",),
-             "out-of-range": ("supply-range",)}[status]
-    for f in findings:
-        if f.code in codes:
-            return f.text
-    return None
-
-
 #: Above this phase shift from the LED stage's load on the timing gate, the fast
 #: engine's first-order coupling is no longer trusted and the reference figures are used.
 STRONG_COUPLING = 0.05
@@ -89,7 +78,17 @@ def analyse(design: Design, use_reference: bool):
         use_reference = True
     ref = design.reference() if use_reference else None
     fig = ref.figures if ref is not None else design.fast()
-    return fig, ref, circuit_findings(design), assumptions(design), engine
+    status = int(np.ravel(fig.status)[0])
+    peak = float(np.ravel(fig.led_peak_a)[0])
+    findings = circuit_findings(design, status, peak, with_state=False)
+    return fig, ref, findings, assumptions(design), engine
+
+
+def _verdict(design: Design, fig):
+    """The one state and reason of the figures shown (status row, JSON and warnings)."""
+    from pulsepick.analysis.verdict import verdict
+
+    return verdict(design, int(np.ravel(fig.status)[0]), float(np.ravel(fig.led_peak_a)[0]))
 
 
 def run(args) -> int:
@@ -98,9 +97,16 @@ def run(args) -> int:
     check_picture_targets(args)
     fig, ref, findings, assumed, engine = analyse(design, args.reference)
     figures = figures_dict(fig)
-    reason = _status_reason(figures["status"], findings)
+    state = _verdict(design, fig)
+    figures["status"] = state.state
+    if state.led_a is not None:  # latched: the steady current it draws instead
+        figures.update(led_peak_a=state.led_a, effective_a=state.led_a,
+                       supply_avg_a=state.led_a)
+    reason = state.reason
     if args.json:
-        dump_json(check_json(design, figures, reason, findings, assumed, engine))
+        doc = check_json(design, figures, reason, findings, assumed, engine)
+        doc["status"] = state.as_dict()
+        dump_json(doc)
         announce(args, check_pictures(args, design, figures, reason, findings, assumed, ref,
                                       engine))
         return 0

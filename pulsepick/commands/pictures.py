@@ -596,7 +596,8 @@ def bands_report(result, dr, images, advice: tuple[str, ...] = ()) -> Report:
         Section("request", "What was compared", (Table("request", "", ("", "value"), request),)),
         Section("assumptions", "Assumptions", (Items((
             "Resistors and capacitors uniform within their tolerance; the chip's thresholds "
-            "triangular between the datasheet limits within the hysteresis window, one draw "
+            "drawn with the typical value as the median and the datasheet limits as the "
+            "0.1 %/99.9 % points (common practice), within the hysteresis window, one draw "
             "per package; one ambient temperature per build.",
             "Every cell uses the same seed, so cells differ by the parts, not by chance.",
             "C1 values outside the usual range of a kind (marked *) are shown for "

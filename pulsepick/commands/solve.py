@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import math
+import re
 from typing import Any, NamedTuple
 
 NAME = "solve"
@@ -127,6 +128,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     ctx.add_argument("--cores", metavar="LIST",
                      help=f"oscillator cores to search, a comma list of "
                           f"{', '.join(CORE_CHOICES)} (default all)")
+    ctx.add_argument("--prefer", metavar="WHAT",
+                     help="how the ranking weighs a capacitor's size and cost class: "
+                          "figures (not at all), balanced (between otherwise equal "
+                          "circuits) or compact (strongly); default balanced")
     ctx.add_argument("--stock", metavar="FILE.csv",
                      help="pick only parts from your drawer: a CSV with columns "
                           "kind,value[,qty][,dielectric], e.g. 'R,4k7,10' or "
@@ -257,6 +262,7 @@ def request_from_args(args):
         timing_cap=args.timing_cap, max_r=args.max_r, min_r=args.min_r,
         cap_range=args.cap_range, buffered=args.buffered, stages=args.stages,
         cores=args.cores, stock=args.stock, top=args.top, builds=args.builds, seed=args.seed,
+        prefer=args.prefer,
     )
     if overrides:
         from dataclasses import replace
@@ -442,18 +448,26 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
         _render_cautions(console, cautions)
         return
     rows = []
+    night = req.supply_end_v is not None
     for c in result.candidates:
         f = c.figures
-        rows.append([
-            str(c.rank), c.design.topo.label(), c.design.chip.family,
-            _eng(f["period_s"], "s"), _eng(f["flash_s"], "s"), _eng(f["led_peak_a"], "A"),
-            _eng(f["supply_avg_a"], "A"), f"{c.score:.2f}",
-        ])
+        label = c.design.topo.label()
+        if c.misses:
+            label += " ! " + ", ".join(c.misses)
+        row = [
+            str(c.rank), label, c.design.chip.family,
+            *_spread_cells(c, f), _eng(f["flash_s"], "s"),
+            _eng(f["led_peak_a"], "A"), _eng(f["supply_avg_a"], "A"),
+        ]
+        if night:
+            row.append({None: "-", True: "yes", False: "NO"}[c.lasts_night])
+        rows.append(row + [f"{c.score:.2f}"])
+    heads = ["#", "circuit", "chip", "period", "P5..P95", "±10 %", "flash",
+             "peak", "supply"] + (["night"] if night else []) + ["score"]
     console.print(simple_table(
         f"Ranked circuits ({result.evaluated:,} evaluated in {result.search_s:.2f} s; lower "
-        "score is better)",
-        ["#", "circuit", "chip", "period", "flash", "peak", "supply", "score"],
-        rows, justify=["right", "left", "left"] + ["right"] * 5))
+        "score is better; period: the median of the builds)",
+        heads, rows, justify=["right", "left", "left"] + ["right"] * (len(heads) - 3)))
     console.print()
     for c in result.candidates:
         _render_candidate(console, req, c)
@@ -469,6 +483,19 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
         console.print(f"Buy list of circuit {pick} written to {buylist}", markup=False)
         console.print()
     _render_cautions(console, cautions)
+
+
+def _spread_cells(c, f) -> list[str]:
+    """The builds' median period, P5..P95 and the share within the yield band; before
+    assess() the median chip's period and "-"."""
+    med = c.median_period_s
+    if med is None or not math.isfinite(med):
+        return [_eng(f["period_s"], "s"), "-", "-"]
+    lo, hi = _eng(c.p5_period_s, "s"), _eng(c.p95_period_s, "s")
+    lo_num, _, lo_unit = lo.partition(" ")
+    if lo_unit and hi.endswith(" " + lo_unit):
+        lo = lo_num
+    return [_eng(med, "s"), f"{lo}..{hi}", f"{c.yield_fraction:.0%}"]
 
 
 def render_detail(console, result, *, buylist: str | None = None, pick: int = 1,
@@ -495,6 +522,13 @@ def crossing_text(result) -> str | None:
     ranks = " ".join(f"#{r}" for r, _ in texts)
     if len({t for _, t in texts}) == 1:
         return f"crossing current of the Schmitt gate ({ranks}): {texts[0][1]}"
+    # one label and one explanation, the figure of each candidate beside its rank
+    parts = [re.match(r"^(ESTIMATE|measured:) (\S+ \S+)(.*)$", t) for _, t in texts]
+    if all(parts) and len({(m.group(1), m.group(3)) for m in parts}) == 1:
+        figures = ", ".join(f"#{r} {m.group(2)}" for (r, _), m in zip(texts, parts,
+                                                                         strict=True))
+        return (f"crossing current of the Schmitt gate: {parts[0].group(1)} {figures}"
+                f"{parts[0].group(3)}")
     return (f"crossing current of the Schmitt gate ({ranks}): "
             + "; ".join(f"#{r} {t}" for r, t in texts))
 
@@ -585,7 +619,7 @@ def _render_candidate(console, req, c) -> None:
         rows.append([word, aim_text, _fig_text(key, fast, unit), _pct(err),
                      _fig_text(key, refv, unit) if ref else "-", agree])
     console.print(simple_table(
-        "figures at the design supply (* assumed aim)",
+        "figures of the median chip at the design supply (* assumed aim)",
         ["", "aim", "fast engine", "error", "reference", "ref vs fast"], rows,
         justify=["left", "right", "right", "right", "right", "right"]))
     if c.reference is not None and not c.reference.success:

@@ -1,0 +1,86 @@
+"""The chip spread: typical value as the median, published limits as the 0.1 %/99.9 % points.
+
+Reading datasheet limits as far tails and the typical value as the median is common
+practice in tolerance analysis. Threshold figures: HC at 3 V, VT+ 1.45 / 1.598 / 2.15 V and
+VT- 0.5 / 0.972 / 1.4 V min / typ / max, VH 0.25..1.65 V (data/parts/logic_thresholds.csv:
+onsemi MC74HC14A limits, ref:onsemi-mc74hc14a; typical from NXP 74HC1G14, ref:nxp-74hc1g14).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy import integrate, stats
+
+from pulsepick.analysis.chipspread import (
+    Z_TAIL,
+    draw_thresholds,
+    split_normal_cdf,
+    split_normal_fraction,
+    split_normal_pdf,
+    split_normal_var,
+    threshold_percentile,
+)
+from pulsepick.analysis.median import median_levels, median_shift
+from pulsepick.engine.environment import ChipSpec
+
+
+def test_tail_quantile_is_scipys():
+    # scipy.stats.norm.ppf(0.999)
+    assert Z_TAIL == pytest.approx(stats.norm.ppf(0.999), rel=1e-12)
+
+
+def test_median_is_the_typical_value_and_limits_are_the_tails():
+    t = (1.598 - 1.45) / (2.15 - 1.45)  # HC VT+ at 3 V: typical 21 % of the way up
+    assert float(split_normal_fraction(0.5, t)) == pytest.approx(t, abs=1e-12)
+    assert float(split_normal_fraction(0.0, t)) == pytest.approx(0.0, abs=1e-12)
+    assert float(split_normal_fraction(1.0, t)) == pytest.approx(1.0, abs=1e-12)
+    # the untruncated split normal puts the limits at 0.1 % and 99.9 %
+    lo, hi = threshold_percentile("hc", 3.0, 1.45, 1.4)
+    assert lo == pytest.approx(0.1, rel=1e-6)
+    assert hi == pytest.approx(99.9, rel=1e-6)
+    assert threshold_percentile("hc", 3.0, 1.598, 0.972) == pytest.approx((50.0, 50.0))
+
+
+def test_cdf_inverts_the_quantile_and_pdf_integrates_to_one():
+    u = np.linspace(0.01, 0.99, 9)
+    for t in (0.21, 0.5, 0.9):
+        assert split_normal_cdf(split_normal_fraction(u, t), t) == pytest.approx(u, abs=1e-9)
+    for t in (0.21, 0.5, 0.9):
+        total = integrate.quad(lambda x: float(split_normal_pdf(x, t)), 0, 1, points=[t])[0]
+        assert total == pytest.approx(1.0, abs=1e-6)
+
+
+def test_closed_form_variance_matches_quadrature():
+    lo, typ, hi = 1.45, 1.598, 2.15
+    t = (typ - lo) / (hi - lo)
+
+    def moment(k):
+        return integrate.quad(lambda x: float(split_normal_pdf(x, t)) * x**k, 0, 1,
+                              points=[t])[0]
+
+    var_q = (moment(2) - moment(1) ** 2) * (hi - lo) ** 2
+    assert split_normal_var(lo, typ, hi) == pytest.approx(var_q, rel=1e-5)
+
+
+def test_draws_keep_the_hysteresis_window_and_the_median():
+    vtp, vtm = draw_thresholds(ChipSpec("hc"), 3.0, 20000, np.random.default_rng(1))
+    h = vtp - vtm
+    assert h.min() >= 0.25 - 1e-9 and h.max() <= 1.65 + 1e-9
+    assert vtp.min() >= 1.45 and vtp.max() <= 2.15
+    # the window cuts little, so the medians stay near the typical values (1.598 / 0.972 V)
+    assert np.median(vtp) == pytest.approx(1.598, abs=0.02)
+    assert np.median(vtm) == pytest.approx(0.972, abs=0.02)
+    # the old triangle put 79 % of VT+ above typical; the split normal about half
+    assert 0.45 < np.mean(vtp > 1.598) < 0.6
+
+
+def test_median_chip_of_hc_is_slower_than_typical():
+    # the steered core with a fast low phase: the charging phase sets the period
+    shift = median_shift(ChipSpec("hc"), 3.0, 2.95, 0.05)
+    assert 0.03 < shift < 0.10
+    vtp, vtm = median_levels(ChipSpec("hc"), 3.0, 2.95, 0.05)
+    assert 1.45 <= vtp <= 2.15 and 0.5 <= vtm <= 1.4
+    # a measured chip has no spread: its own levels
+    measured = ChipSpec("hc", vt_plus_v=1.7, vt_minus_v=1.0, measured_at_v=3.0)
+    assert median_levels(measured, 3.0, 2.95, 0.05) == pytest.approx((1.7, 1.0))
