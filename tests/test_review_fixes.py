@@ -83,8 +83,11 @@ def test_night_names_the_dimming_and_drops_the_empty_intensity_column(capsys):
     code, doc = _json(capsys, ["night", FOOT])
     assert code == 0 and doc["lasts_the_night"]
     dim = [w for w in doc["warnings"] if w.startswith("the light dims steeply")]
-    # the run's own figures: LED peak 1.01 mA at dusk and 29.9 uA at dawn (3%, under 10%)
-    assert len(dim) == 1 and "1.01 mA at dusk, 29.9 µA at dawn (3% of it)" in dim[0]
+    # the run's own figures (its dusk and dawn rows): 1.01 mA at dusk falls to under a tenth
+    by = {f["label"]: f for f in doc["figures"]}
+    share = by["dawn"]["led_peak_a"] / by["dusk"]["led_peak_a"]
+    assert 0 < share < 0.1 and abs(by["dusk"]["led_peak_a"] - 1.01e-3) < 0.01e-3
+    assert len(dim) == 1 and "1.01 mA at dusk" in dim[0] and f"({share:.0%} of it)" in dim[0]
     main(["night", FOOT])
     out = capsys.readouterr().out
     assert out.splitlines()[0].endswith("but dim by dawn (see the warnings)")
@@ -103,3 +106,15 @@ def test_check_refuses_a_supply_over_the_family_range(capsys):
     assert len(err) == 1 and "over the supply range" in err[0] and "2 V to 6 V" in err[0]
     assert main([*argv, "6V"]) == 0  # the top of the range still runs
     capsys.readouterr()
+
+
+def test_retune_says_when_the_inferred_chip_is_outside_the_limits(capsys):
+    # README's retune example: 10 flashes in 39 s against a wanted 3 s
+    argv = ["retune", "--core", "schmitt", "--r", "2M2", "--c", "1u", "--stage", "pulse",
+            "--cp", "22u", "--rs", "47", "--supply", "3V", "--want", "one flash every 3 s",
+            "--measured-period", "10 flashes in 39 s"]
+    assert main(argv) == 0
+    out = " ".join(capsys.readouterr().out.split())
+    # hc VT- minimum 0.5 V at 3 V (data/parts/logic_thresholds.csv); inferred 0.396 V
+    assert "VT- 0.396 V under its 0.5 V minimum" in out
+    assert "OUTSIDE the datasheet limits" in out and "before swapping parts" in out
