@@ -50,6 +50,34 @@ class _UsageError(PulsepickError):
 _NEGATIVE_VALUE = re.compile(r"^-\.?\d")
 
 
+#: The widest help line an example may take (columns); longer ones are continued.
+EXAMPLE_WIDTH = 100
+_WORD = re.compile(r"""(?:"[^"]*"|'[^']*'|\S)+""")
+
+
+def example_lines(line: str, width: int = EXAMPLE_WIDTH) -> str:
+    """One help example, indented, continued with `` \\`` lines to fit ``width`` columns.
+
+    An option stays on one line with its value, so every printed line pastes into a
+    shell as the same command.
+    """
+    chunks: list[str] = []
+    for word in _WORD.findall(line):
+        if chunks and not word.startswith("-"):
+            chunks[-1] += f" {word}"
+        else:
+            chunks.append(word)
+    out, current = [], "  "
+    for chunk in chunks:
+        if current.strip() and len(current) + 1 + len(chunk) + 2 > width:
+            out.append(current + " \\")
+            current = "      " + chunk
+        else:
+            current = current + (" " if current.strip() else "") + chunk
+    out.append(current)
+    return "\n".join(out)
+
+
 def _load_command(name: str) -> ModuleType | None:
     try:
         return importlib.import_module(f"pulsepick.commands.{name}")
@@ -91,7 +119,7 @@ def build_parser(selected: str | None = None) -> argparse.ArgumentParser:
         module = _load_command(name)
         if module is None:
             continue
-        examples = "\n".join(f"  {line}" for line in module.EXAMPLES)
+        examples = "\n".join(example_lines(line) for line in module.EXAMPLES)
         cmd = sub.add_parser(
             module.NAME,
             help=module.SUMMARY,

@@ -192,7 +192,7 @@ def _chip_line(design) -> PartLine:
         )
     used = 2 if topo.buffered else 1
     unused = GATES_PER_PACKAGE - used
-    note = (f"uses {used} of {GATES_PER_PACKAGE} gates; tie the {unused} unused inputs to "
+    note = (f"uses {used} of {GATES_PER_PACKAGE} gates; tie the {unused} unused {'input' if unused == 1 else 'inputs'} to "
             "ground or the supply (never leave CMOS inputs open)")
     if chip.measured:
         note += "; thresholds as measured on your part"

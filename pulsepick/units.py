@@ -366,8 +366,9 @@ def parse_quantity(text: str, kind: QuantityKind, *, bare_ok: bool = False,
         What is expected here. A quantity of another kind raises
         :class:`~pulsepick.errors.UnitError` naming both.
     bare_ok : bool
-        Accept a number without unit for a voltage (read as volts). Resistances and
-        capacitances are always accepted bare (``4k7``).
+        Kept for callers; a bare voltage is always read as volts (the one rule:
+        a voltage has only one base unit). Resistances and capacitances are always
+        accepted bare (``4k7``); other kinds always need a unit.
     allow_zero : bool
         Accept zero. Temperatures accept zero and negative values always; other
         kinds never accept negative values.
@@ -399,7 +400,8 @@ def parse_quantity(text: str, kind: QuantityKind, *, bare_ok: bool = False,
         )
     number, unit = m["num"], m["unit"].strip()
     if not unit:
-        if kind == "voltage" and bare_ok:
+        if kind == "voltage":
+            # one rule everywhere: a bare number is unambiguous only for a voltage (volts)
             factor = Decimal(1)
         else:
             raise UnitError(

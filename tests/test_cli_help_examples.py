@@ -9,6 +9,7 @@ and files of each example are used exactly as printed.
 from __future__ import annotations
 
 import importlib
+import re
 import shlex
 import shutil
 from pathlib import Path
@@ -30,7 +31,11 @@ def test_examples_are_listed_in_help(capsys):
         assert stop.value.code == 0
         out = capsys.readouterr().out
         module = importlib.import_module(f"pulsepick.commands.{name}")
-        assert module.EXAMPLES and all(ex in out for ex in module.EXAMPLES)
+        # long examples are continued with " \\" lines (at most 100 columns each)
+        joined = re.sub(r" \\\n +", " ", out)
+        assert module.EXAMPLES and all(ex in joined for ex in module.EXAMPLES)
+        tail = out.split("examples:\n", 1)[1]
+        assert max(len(ln) for ln in tail.splitlines()) <= 100
 
 
 @pytest.mark.slow

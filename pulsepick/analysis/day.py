@@ -585,6 +585,11 @@ def _weather_profiles(weather) -> list[Profile]:
 def _night_stop(night_load: LoadCurve, stop_at_v: float | None) -> float:
     light_stop = night_load.light_stops_below_v()
     user = 0.0 if stop_at_v is None else float(stop_at_v)
+    band = night_load.lit_band_v()
+    if math.isinf(light_stop) and band is not None:
+        # dark only above the band (over the chip's supply range): the light stops at
+        # the band's bottom when the storage falls, never at "inf V"
+        light_stop = band[0] if band[0] > night_load.supply_v[0] else math.nan
     return user if math.isnan(light_stop) else max(user, light_stop)
 
 

@@ -561,6 +561,10 @@ def combined_load_curve(curves: Sequence[LoadCurve], label: str | None = None) -
         stop = c.light_stops_below_v()
         if math.isnan(stop):
             return np.ones(grid.shape, dtype=bool)
+        if math.isinf(stop):
+            # dark at the top (over the chip's supply range): lit where both neighbouring
+            # grid points of the light's own curve are lit
+            return np.interp(grid, c.supply_v, c.lit.astype(float)) > 1.0 - 1e-9
         return grid >= stop
 
     lit_all = np.logical_and.reduce([lit(c) for c in curves])
@@ -619,7 +623,7 @@ def build_part_lines(names: Sequence[str], part_lines: Sequence[tuple], plan: Pa
             role = " and ".join(parts)
             unused = GATES_PER_PACKAGE - pkg.gates_used
             note = (f"uses {pkg.gates_used} of {GATES_PER_PACKAGE} gates"
-                    + (f"; tie the {unused} unused inputs to ground or the supply (never "
+                    + (f"; tie the {unused} unused {'input' if unused == 1 else 'inputs'} to ground or the supply (never "
                        "leave CMOS inputs open)" if unused else ""))
         lines.append(PartLine(
             ref=f"U{pkg.number}", kind="chip", value=None, unit="", display=model.name,

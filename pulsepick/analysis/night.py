@@ -124,6 +124,26 @@ def _clock(dusk: datetime | None, t_s: float) -> str | None:
     return (dusk + timedelta(seconds=round(t_s / 60.0) * 60.0)).strftime("%H:%M")
 
 
+#: Below this share of its dusk LED peak the light counts as dim by dawn (estimate: a
+#: tenth of the current is a large step down in brightness for a small indicator LED).
+DIM_BY_DAWN_SHARE = 0.1
+DIM_PREFIX = "the light dims steeply"
+
+
+def dimming_note(figures) -> str | None:
+    """A warning when the LED peak at dawn is under DIM_BY_DAWN_SHARE of the one at dusk."""
+    by = {p.label: p for p in figures}
+    dusk, dawn = by.get("dusk"), by.get("dawn")
+    if dusk is None or dawn is None or not (dusk.lit and dawn.lit):
+        return None
+    a, b = float(dusk.led_peak_a), float(dawn.led_peak_a)
+    if not (math.isfinite(a) and math.isfinite(b) and a > 0) or b >= DIM_BY_DAWN_SHARE * a:
+        return None
+    return (f"{DIM_PREFIX}: LED peak {format_eng(a, 'A')} at dusk, {format_eng(b, 'A')} at "
+            f"dawn ({b / a:.0%} of it); towards dawn the light is barely visible, so it lasts "
+            "the night only as a dim glow (a larger storage or a higher start keeps it bright)")
+
+
 def _solver_message(success: bool, stopped: bool, v_stop_v: float, t_s: float,
                     duration_s: float) -> str:
     """The integrator's outcome in our words (scipy's own messages stay inside)."""
@@ -309,6 +329,13 @@ def simulate_night(
     # reasons, assumptions, warnings
     if lasts:
         reason = "lasts the night"
+    elif runtime == 0.0 and math.isinf(v_stop) and load.lit_band_v() is not None:
+        band_top = load.lit_band_v()[1]
+        reason = (
+            f"the start {v_start_v:.2f} V is over the highest supply the circuit runs at "
+            f"({band_top:.2f} V, the top of the chip's supply range): it is dark there; start "
+            f"at or under {band_top:.2f} V"
+        )
     elif runtime == 0.0 and math.isinf(v_stop):
         reason = (
             f"the light never starts: the circuit is not lit even at {load.supply_v[-1]:.2f} V, "
@@ -359,7 +386,7 @@ def simulate_night(
             "the circuit is its average supply current at each voltage (each flash is spread "
             "over its period); the ESR drop during flashes is not in the budget"
         )
-        if not math.isnan(light_stop):
+        if math.isfinite(light_stop):
             assumptions.append(
                 f"the light's stop voltage {light_stop:.3g} V is resolved to the load curve's "
                 "grid step"
@@ -398,6 +425,9 @@ def simulate_night(
                 )
     if runtime == 0.0 and not lasts:
         warnings.append(reason)
+    dim = dimming_note(figures) if lasts else None
+    if dim is not None:
+        warnings.append(dim)
     if not success:
         warnings.append(f"the integrator did not finish: {message}")
 

@@ -260,6 +260,8 @@ def infer(design: Design, measured: Measured) -> Inferred:
                 else:
                     text += ("; the flash does not tell the two thresholds apart within its "
                              "timing uncertainty, so it is not used for the chip")
+    if not design.chip.is_timer:
+        text += _outside_limits(design, nom)
     cross = None
     if measured.supply_current_a is not None and not design.chip.is_timer:
         base = _scalar(_figures(design, {}, nom, cross=0.0).supply_avg_a)
@@ -270,6 +272,25 @@ def infer(design: Design, measured: Measured) -> Inferred:
     return Inferred(which=which, vt_plus_v=nom[0], vt_minus_v=nom[1], c_scale=nom[2],
                     bounds=tuple(ends), consistent=tuple(others), cross_current_a=cross,
                     text=text)
+
+
+def _outside_limits(design: Design, nom) -> str:
+    """A note when the inferred thresholds sit outside the family's datasheet limits."""
+    t = get_family(design.chip.family).thresholds(design.supply_v)
+    bad = []
+    for name, v, lo, hi in (("VT+", nom[0], t.vt_plus_min, t.vt_plus_max),
+                            ("VT-", nom[1], t.vt_minus_min, t.vt_minus_max)):
+        lo, hi = float(lo), float(hi)
+        if v < lo - 1e-6:
+            bad.append(f"{name} {v:.3f} V under its {lo:.3g} V minimum")
+        elif v > hi + 1e-6:
+            bad.append(f"{name} {v:.3f} V over its {hi:.3g} V maximum")
+    if not bad:
+        return ""
+    return ("; NOTE: this inferred chip is OUTSIDE the datasheet limits ("
+            + ", ".join(bad) + f" at {design.supply_v:g} V), so the cause may be the build "
+            "rather than the chip: check the parts' values, the supply, the wiring and the "
+            "LED's loading before swapping parts")
 
 
 def _consistent(design: Design, period: float) -> list[tuple[float, float, float]]:

@@ -265,8 +265,10 @@ def _run_recipe(args, family: str, supply: float, led) -> int:
         "lights for the 11th time: that is 10 periods",
         "then time the lit phase 3-5 times and take the middle figure (a phone video timed "
         "frame by frame is better)",
-        f"then run: {cmd} (with your figures)",
+        "then run, with your figures (one line, to copy and paste):",
     ):
         print_wrapped(console, line)
+    # a command to copy is never wrapped, whatever the terminal's width
+    console.print(f"    {cmd}", soft_wrap=True, markup=False, highlight=False)
     print_wrapped(console, LOW_VOLTAGE_ONLY, indent="", hang="  ")
     return 0

@@ -10,6 +10,7 @@ from pulsepick.analysis.cautions import LOW_VOLTAGE_ONLY, NOT_A_SAFETY_LIGHT
 from pulsepick.analysis.checks import assumptions, circuit_findings, stage_loading_shift
 from pulsepick.circuits.base import STATUS_WORDS, Figures
 from pulsepick.commands.circuit_options import add_circuit_arguments, design_from_args
+from pulsepick.commands.supply_range import refuse_over_range
 from pulsepick.commands.pictures import (
     add_picture_arguments,
     announce,
@@ -92,6 +93,7 @@ def _verdict(design: Design, fig):
 
 def run(args) -> int:
     design = design_from_args(args)
+    refuse_over_range(design)
     check_picture_targets(args)
     fig, ref, findings, assumed, engine = analyse(design, args.reference)
     figures = figures_dict(fig)

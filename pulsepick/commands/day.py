@@ -11,7 +11,7 @@ from __future__ import annotations
 import argparse
 import math
 import re
-from datetime import date
+from datetime import date, timedelta
 from typing import Any, NamedTuple
 
 from pulsepick import __version__
@@ -229,6 +229,11 @@ def read_night(args: argparse.Namespace) -> tuple[NightWindow, dict]:
         if not 0 < night_s < 86400:
             raise RequestError(f"--night {text!r}: a night lasts more than 0 and under 24 h, "
                                "such as 12.5h")
+        clock_given = getattr(args, "design_clock", None)
+        if clock_given is not None and abs(clock_given[1] - night_s) < 1.0:
+            dusk = clock_given[0]
+            return (NightWindow.from_times(dusk, dusk + timedelta(seconds=night_s)),
+                    {"given": "clock", "night_s": night_s})
         return NightWindow.centred(night_s), {"given": "length", "night_s": night_s}
     if args.night is not None:
         raise RequestError("give the night one way: --night, or --latitude with --date")

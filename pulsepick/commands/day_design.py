@@ -60,7 +60,11 @@ def apply_design(args: argparse.Namespace):
         elif design.night is not None:
             from pulsepick.commands.design_night import design_night
 
-            args.night = f"{design_night(design).night_s:g}s"
+            dn = design_night(design)
+            args.night = f"{dn.night_s:g}s"
+            if dn.dusk is not None:
+                # the file's clock times: dusk and dawn as given, not a night centred on midnight
+                args.design_clock = (dn.dusk, dn.night_s)
     return design
 
 

@@ -66,7 +66,7 @@ def design_night(design) -> DesignNight:
                 dawn += timedelta(days=1)
             length = (dawn - dusk).total_seconds()
             return DesignNight(length, f"{_hm(length)} night ({n['dusk']} to {n['dawn']})",
-                               "clock")
+                               "clock", dusk)
     return DesignNight(DEFAULT_NIGHT_S, "12 h night (the file gives no [site] or [night])",
                        "default")
 

@@ -618,7 +618,10 @@ def render_report(result: NightResult, night: dict, console,
         place = f"{abs(night['latitude_deg']):g}° {'N' if night['latitude_deg'] >= 0 else 'S'}"
         window += f" (light on at {turn_on}, {place}, evening of {night['date']})"
     s = result.storage
-    if not math.isfinite(result.v_stop_v):
+    band = result.load.lit_band_v() if result.load is not None else None
+    if not math.isfinite(result.v_stop_v) and band is not None:
+        stop = f"over the circuit's supply range (lit {band[0]:.2f} V to {band[1]:.2f} V)"
+    elif not math.isfinite(result.v_stop_v):
         stop = "not lit at any supply of the circuit's curve"
     elif result.v_stop_v > 0:
         stop = f"stop {result.v_stop_v:.2f} V"
@@ -668,11 +671,13 @@ def render_report(result: NightResult, night: dict, console,
                                  _eng(p.effective_a, "A"), _eng(p.effective_cd, "cd")])
             else:
                 fig_rows.append([p.label, when, "-", "off", "", "", "", ""])
-        console.print(simple_table(
-            "Over the night", ["", "time", "storage", "period", "flash", "LED peak",
-                               "effective", "intensity"],
-            fig_rows, justify=["left", "left", "right", "right", "right", "right", "right",
-                               "right"]))
+        heads = ["", "time", "storage", "period", "flash", "LED peak", "effective",
+                 "intensity"]
+        justify = ["left"] * 2 + ["right"] * 6
+        if not any(p.lit and math.isfinite(p.effective_cd) for p in result.figures):
+            # no LED intensity data: the column would be "-" on every row
+            heads, justify, fig_rows = heads[:-1], justify[:-1], [r[:-1] for r in fig_rows]
+        console.print(simple_table("Over the night", heads, fig_rows, justify=justify))
         console.print()
 
     for line in night_chart(result, night["dusk"], plot_columns(console, _LABEL + 12)):

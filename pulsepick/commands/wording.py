@@ -47,9 +47,15 @@ def verdict(result: Any, open_ended: bool = False) -> str:
         if open_ended:
             return (f"storage stays above {stop} for {duration_text(result.duration_s)}, "
                     f"{result.v_end_v:.2f} V left")
-        return f"lasts the night, {result.v_end_v:.2f} V left at dawn"
+        dim = any(w.startswith("the light dims steeply") for w in result.warnings)
+        return (f"lasts the night, {result.v_end_v:.2f} V left at dawn"
+                + (", but dim by dawn (see the warnings)" if dim else ""))
     if result.runtime_s == 0.0:
         if not math.isfinite(result.v_stop_v):
+            band = result.load.lit_band_v() if result.load is not None else None
+            if band is not None and result.v_start_v > band[1]:
+                return (f"light never starts: {result.v_start_v:.2f} V is over the circuit's "
+                        f"supply range (it runs from {band[0]:.2f} V to {band[1]:.2f} V)")
             return f"light never starts: the circuit is not lit at {result.v_start_v:.2f} V"
         return (f"light never starts: {result.v_start_v:.2f} V is not above the stop voltage "
                 f"{stop}")

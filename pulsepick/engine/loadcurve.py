@@ -86,6 +86,20 @@ class LoadCurve:
         out["lit"] = bool(in_grid and (math.isnan(stop) or v >= stop))
         return out
 
+    def lit_band_v(self) -> tuple[float, float] | None:
+        """The highest band of grid supplies where the circuit is lit, (low, high) in V.
+
+        ``None`` when it is lit nowhere on the grid. Above ``high`` the circuit is dark
+        (e.g. over the chip family's supply range) when ``high`` is not the grid's top.
+        """
+        lit = np.asarray(self.lit, dtype=bool)
+        if not bool(np.any(lit)):
+            return None
+        top = int(np.flatnonzero(lit)[-1])
+        dark_below = np.flatnonzero(~lit[:top])
+        low = 0 if dark_below.size == 0 else int(dark_below[-1]) + 1
+        return float(self.supply_v[low]), float(self.supply_v[top])
+
     def light_stops_below_v(self) -> float:
         """The stop voltage, V: the lowest grid supply above which everything is lit.
 
