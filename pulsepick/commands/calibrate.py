@@ -263,8 +263,8 @@ def _run_recipe(args, family: str, supply: float, led) -> int:
     for line in (
         "let it run a minute first; start the stopwatch as the LED lights and stop it as it "
         "lights for the 11th time: that is 10 periods",
-        "then time the lit phase 3-5 times and take the middle figure (a phone video timed "
-        "frame by frame is better)",
+        "then time the lit phase 3-5 times and take the middle figure (a phone camera recording "
+        "timed frame by frame is better)",
         "then run, with your figures (one line, to copy and paste):",
     ):
         print_wrapped(console, line)

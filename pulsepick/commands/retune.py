@@ -134,7 +134,7 @@ def measured_from_args(args) -> Measured:
     flash = flash_u = None
     if args.measured_flash:
         flash, k = timed(args.measured_flash, "--measured-flash", "60ms")
-        flash_u = min(res / k, 0.5 * flash)  # a short flash is timed on video frames
+        flash_u = min(res / k, 0.5 * flash)  # a short flash is timed on camera frames
     current = None
     if args.measured_supply_current:
         current = parse_quantity(args.measured_supply_current, "current")
