@@ -13,6 +13,8 @@ import math
 import re
 from typing import Any, NamedTuple
 
+from pulsepick.commands.solve_text import _bullet, _eng, _render_cautions, render_unmet
+
 NAME = "solve"
 SUMMARY = "find standard parts for a wanted blink: ranked circuits, spread, drift, buy list"
 EXAMPLES = [
@@ -375,18 +377,6 @@ def _nothing_line(what: str, explanations) -> None:
 
 # ============================================================================ the report
 
-def _eng(x, unit: str, digits: int = 3) -> str:
-    from pulsepick.units import format_eng
-
-    if x is None or not isinstance(x, (int, float)) or not math.isfinite(x):
-        return "-"
-    if unit == "s":
-        from pulsepick.solve import time_text
-
-        return time_text(x)
-    return format_eng(x, unit, digits)
-
-
 def _pct(x) -> str:
     if x is None or not math.isfinite(x):
         return "-"
@@ -413,12 +403,6 @@ def _fig_text(key: str, value, unit: str) -> str:
     return _eng(value, unit)
 
 
-def _bullet(console, text: str, indent: str = "  - ", hang: str = "    ") -> None:
-    from pulsepick.render import print_wrapped
-
-    print_wrapped(console, text, indent=indent, hang=hang)
-
-
 def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
                   schematics: bool = False) -> None:
     """The terminal report of a solver result (readable at 100 columns, no colour needed);
@@ -431,21 +415,7 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
     console.print(f"[bold]pulsepick solve[/bold]: {req.describe()}", highlight=False)
     console.print()
     _render_request(console, req, result)
-    if result.explanations:
-        console.print("[bold]What cannot be met exactly[/bold]")
-        for text in result.explanations:
-            _bullet(console, text)
-        console.print()
-    if not result.success:
-        console.print("[bold]Nothing can be offered for this request.[/bold]")
-        if result.nearest:
-            f = result.nearest
-            _bullet(console,
-                    f"Nearest circuit found: period {_eng(f['period_s'], 's')}, flash "
-                    f"{_eng(f['flash_s'], 's')}, LED peak {_eng(f['led_peak_a'], 'A')} "
-                    f"(needs {_eng(req.led.visible_a, 'A')} to be seen).", indent="  ")
-        console.print()
-        _render_cautions(console, cautions)
+    if render_unmet(console, result, cautions):
         return
     rows = []
     night = req.supply_end_v is not None
@@ -746,12 +716,6 @@ def _render_waveform(console, c) -> None:
                                         width=plot_columns(console)):
         console.print(f"  {line}", markup=False)
     console.print()
-
-
-def _render_cautions(console, cautions) -> None:
-    console.print("[bold]Cautions[/bold]")
-    for text in cautions:
-        _bullet(console, text)
 
 
 # ============================================================================ several lights

@@ -14,30 +14,12 @@ import math
 from rich import box
 from rich.table import Table
 
+from pulsepick.commands.solve_text import _bullet, _eng, _render_cautions, render_unmet
+
 #: Columns that never wrap (a value stays with its unit).
 _NUMERIC = ("period", "P5..P95", "yield", "flash", "peak", "night")
 
 
-def _eng(x, unit: str) -> str:
-    """Engineering text of a figure; times as the solver words them; "-" when missing."""
-    from pulsepick.solve import time_text
-    from pulsepick.units import format_eng
-
-    if x is None or not isinstance(x, (int, float)) or not math.isfinite(x):
-        return "-"
-    return time_text(x) if unit == "s" else format_eng(x, unit, 3)
-
-
-def _bullet(console, text: str, indent: str = "  - ", hang: str = "    ") -> None:
-    from pulsepick.render import print_wrapped
-
-    print_wrapped(console, text, indent=indent, hang=hang)
-
-
-def _render_cautions(console, cautions) -> None:
-    console.print("[bold]Cautions[/bold]")
-    for text in cautions:
-        _bullet(console, text)
 
 
 def _crossing_text(result) -> str | None:
@@ -163,21 +145,7 @@ def render_summary(console, result, *, buylist: str | None = None, pick: int = 1
     console.print(f"[bold]pulsepick solve[/bold]: {req.describe()}", highlight=False)
     print_wrapped(console, assumptions_text(req), indent="  ", hang="  ")
     console.print()
-    if result.explanations:
-        console.print("[bold]What cannot be met exactly[/bold]")
-        for text in result.explanations:
-            _bullet(console, text)
-        console.print()
-    if not result.success:
-        console.print("[bold]Nothing can be offered for this request.[/bold]")
-        if result.nearest:
-            f = result.nearest
-            _bullet(console, f"Nearest circuit found: period {_eng(f['period_s'], 's')}, flash "
-                             f"{_eng(f['flash_s'], 's')}, LED peak "
-                             f"{_eng(f['led_peak_a'], 'A')} (needs "
-                             f"{_eng(req.led.visible_a, 'A')} to be seen).", indent="  ")
-        console.print()
-        _render_cautions(console, solve_cautions(req))
+    if render_unmet(console, result, solve_cautions(req)):
         return
     console.print(ranked_table(result))
     console.print()

@@ -1,0 +1,50 @@
+"""Wording shared by the compact and the detailed solve reports: figures in engineering
+notation, wrapped bullets, the cautions, and what a request cannot meet."""
+
+from __future__ import annotations
+
+import math
+
+
+def _eng(x, unit: str, digits: int = 3) -> str:
+    """Engineering text of a figure; times as the solver words them; "-" when missing."""
+    from pulsepick.solve import time_text
+    from pulsepick.units import format_eng
+
+    if x is None or not isinstance(x, (int, float)) or not math.isfinite(x):
+        return "-"
+    return time_text(x) if unit == "s" else format_eng(x, unit, digits)
+
+
+def _bullet(console, text: str, indent: str = "  - ", hang: str = "    ") -> None:
+    from pulsepick.render import print_wrapped
+
+    print_wrapped(console, text, indent=indent, hang=hang)
+
+
+def _render_cautions(console, cautions) -> None:
+    console.print("[bold]Cautions[/bold]")
+    for text in cautions:
+        _bullet(console, text)
+
+
+def render_unmet(console, result, cautions) -> bool:
+    """What the request cannot meet exactly; when nothing at all can be offered, the
+    nearest circuit and the cautions too. True when the report ends there."""
+    if result.explanations:
+        console.print("[bold]What cannot be met exactly[/bold]")
+        for text in result.explanations:
+            _bullet(console, text)
+        console.print()
+    if result.success:
+        return False
+    console.print("[bold]Nothing can be offered for this request.[/bold]")
+    if result.nearest:
+        f = result.nearest
+        _bullet(console, f"Nearest circuit found: period {_eng(f['period_s'], 's')}, flash "
+                         f"{_eng(f['flash_s'], 's')}, LED peak "
+                         f"{_eng(f['led_peak_a'], 'A')} (needs "
+                         f"{_eng(result.request.led.visible_a, 'A')} to be seen).", indent="  ")
+    console.print()
+    _render_cautions(console, cautions)
+    return True
