@@ -29,7 +29,7 @@ from pulsepick.errors import RequestError
 from pulsepick.parts.diode import DIODE_KEYS, get_diode
 from pulsepick.parts.panel import PanelModel, custom_panel, get_panel, panel_keys
 from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS
-from pulsepick.render import dump_json, make_console, simple_table
+from pulsepick.output.render import dump_json, make_console, simple_table
 
 NAME = "day"
 SUMMARY = "charge the storage from the panel over a day, and run days and nights in turn"

@@ -23,7 +23,7 @@ from pulsepick.commands.day import (
 from pulsepick.errors import RequestError
 from pulsepick.parts.diode import get_diode
 from pulsepick.parts.logic import FAMILY_KEYS, get_family
-from pulsepick.render import dump_json, make_console, simple_table
+from pulsepick.output.render import dump_json, make_console, simple_table
 from pulsepick.series import SERIES_NAMES
 
 NAME = "dusk"

@@ -42,7 +42,7 @@ from pulsepick.commands.solved_load import one_circuit, solved_load
 from pulsepick.commands.wording import duration_text, verdict
 from pulsepick.errors import RequestError
 from pulsepick.parts.storage import LEAK_LEVELS, STORAGE_KEYS
-from pulsepick.render import dump_json, make_console, plot_columns, simple_table
+from pulsepick.output.render import dump_json, make_console, plot_columns, simple_table
 
 NAME = "night"
 SUMMARY = "run the storage through a night: when the light stops, or what is left at dawn"

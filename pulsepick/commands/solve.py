@@ -319,7 +319,7 @@ def compute(args) -> SolveRun:
 
 def solve_json(run: SolveRun) -> dict:
     """The ``--json`` document of a single-light solve."""
-    from pulsepick.export import result_json, solve_cautions
+    from pulsepick.output.export import result_json, solve_cautions
 
     out = result_json(run.result, solve_cautions(run.request))
     if run.plans is not None:
@@ -332,14 +332,14 @@ def solve_json(run: SolveRun) -> dict:
 def run(args) -> int:
     """Parse, solve, assess, and print or export."""
     from pulsepick.commands.pictures import solve_pictures
-    from pulsepick.render import dump_json, make_console
+    from pulsepick.output.render import dump_json, make_console
 
     if _is_build(args):
         return run_build(args)
     done = compute(args)
     result, req, plans = done.result, done.request, done.plans
     if args.buylist and result.success:
-        from pulsepick.export import buylist_text, write_atomic
+        from pulsepick.output.export import buylist_text, write_atomic
 
         write_atomic(args.buylist, buylist_text(result, args.pick), force=args.force)
     if args.json:
@@ -407,8 +407,8 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
                   schematics: bool = False) -> None:
     """The terminal report of a solver result (readable at 100 columns, no colour needed);
     ``schematics`` draws each candidate."""
-    from pulsepick.export import solve_cautions
-    from pulsepick.render import simple_table
+    from pulsepick.output.export import solve_cautions
+    from pulsepick.output.render import simple_table
 
     req = result.request
     cautions = solve_cautions(req)
@@ -442,7 +442,7 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
     for c in result.candidates:
         _render_candidate(console, req, c)
         if schematics:
-            from pulsepick.schematic import schematic_lines
+            from pulsepick.output.schematic import schematic_lines
 
             for line in schematic_lines(c.design, c.parts):
                 console.print(f"  {line}", markup=False, highlight=False)
@@ -505,7 +505,7 @@ def crossing_text(result) -> str | None:
 
 def _render_request(console, req, result=None) -> None:
     from pulsepick.analysis.spread import TEMP_RANGE_TEXT
-    from pulsepick.render import simple_table
+    from pulsepick.output.render import simple_table
     from pulsepick.units import format_eng
 
     aims = req.aims()
@@ -560,7 +560,7 @@ def _render_request(console, req, result=None) -> None:
 
 
 def _render_candidate(console, req, c) -> None:
-    from pulsepick.render import simple_table
+    from pulsepick.output.render import simple_table
 
     d = c.design
     console.print(f"[bold]#{c.rank}  {d.topo.label()}[/bold] on {d.chip.family}, "
@@ -612,7 +612,7 @@ def _source_words(key: str) -> str:
 
 
 def _render_spread(console, c, target_s: float | None = None) -> None:
-    from pulsepick.render import simple_table
+    from pulsepick.output.render import simple_table
 
     s = c.spread
     if s is None:
@@ -658,7 +658,7 @@ def _render_spread(console, c, target_s: float | None = None) -> None:
 def _render_spread_drawing(console, s, target_s) -> None:
     """The period of every build as a small histogram (the best circuit only)."""
     from pulsepick.commands.pictures import oscillating_periods
-    from pulsepick.textplot import spread_lines
+    from pulsepick.output.textplot import spread_lines
 
     if not s.samples:
         return
@@ -666,7 +666,7 @@ def _render_spread_drawing(console, s, target_s) -> None:
     p5, _, p95 = s.quantiles["period_s"]
     if periods.size == 0 or not (math.isfinite(p5) and math.isfinite(p95)):
         return
-    from pulsepick.render import plot_columns
+    from pulsepick.output.render import plot_columns
 
     for line in spread_lines(periods, p5_s=p5, p95_s=p95, target_s=target_s,
                              yield_band=s.yield_band, not_drawn=missing,
@@ -675,7 +675,7 @@ def _render_spread_drawing(console, s, target_s) -> None:
 
 
 def _render_drift(console, c) -> None:
-    from pulsepick.render import simple_table
+    from pulsepick.output.render import simple_table
 
     dr = c.drift
     if dr is None:
@@ -700,8 +700,8 @@ def _render_waveform(console, c) -> None:
     """One period of the best circuit, drawn from its reference run (when available)."""
     import numpy as np
 
-    from pulsepick import textplot
-    from pulsepick.render import plot_columns
+    from pulsepick.output import textplot
+    from pulsepick.output.render import plot_columns
 
     ref = c.reference
     if ref is None or not ref.trace:
@@ -851,12 +851,12 @@ def build_doc(run: BuildRun) -> dict:
 
 def run_build(args) -> int:
     """Solve several lights, print the build report or JSON, write one buy list."""
-    from pulsepick.render import dump_json, make_console
+    from pulsepick.output.render import dump_json, make_console
 
     done = compute_build(args)
     result, breq, extras, offered = done.result, done.request, done.extras, done.offered
     if args.buylist and offered:
-        from pulsepick.export import write_atomic
+        from pulsepick.output.export import write_atomic
 
         write_atomic(args.buylist, build_buylist_text(result, **extras), force=args.force)
     if args.json:
@@ -868,7 +868,7 @@ def run_build(args) -> int:
     if not offered:
         _nothing_line(breq.describe(), list(result.warnings) or [result.message])
         return 2
-    from pulsepick.buildreport import build_pictures
+    from pulsepick.commands.buildreport import build_pictures
     from pulsepick.commands.pictures import announce
 
     announce(args, build_pictures(args, result, build_lines(result, **extras), done.design))
@@ -921,8 +921,8 @@ def build_lines(result, *, storage=None, panel=None, charge_diode=None, clamp_v=
 
 def build_buylist_text(result, **extras) -> str:
     """One buy list (CSV) for the whole build, identical parts summed across the lights
-    (see :func:`pulsepick.export.build_buylist_text`)."""
-    from pulsepick import export
+    (see :func:`pulsepick.output.export.build_buylist_text`)."""
+    from pulsepick.output import export
 
     return export.build_buylist_text(result, build_lines(result, **extras))
 
@@ -999,7 +999,7 @@ def _lock_grade(share: float) -> str:
 def build_json(result, **extras) -> dict:
     """The whole build as plain JSON data."""
     from pulsepick import __version__
-    from pulsepick.export import candidate_json, solve_cautions
+    from pulsepick.output.export import candidate_json, solve_cautions
 
     breq = result.request
     names = [li.name for li in result.lights]
@@ -1055,8 +1055,8 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
     ``night``: the design file's night (:class:`pulsepick.commands.design_night.DesignNight`).
     ``cautions``: cautions of the charge path (over-voltage and the proposed clamp).
     """
-    from pulsepick.export import solve_cautions
-    from pulsepick.render import print_wrapped, simple_table
+    from pulsepick.output.export import solve_cautions
+    from pulsepick.output.render import print_wrapped, simple_table
 
     breq = result.request
     names = [li.name for li in result.lights]

@@ -17,7 +17,7 @@ def _eng(x, unit: str, digits: int = 3) -> str:
 
 
 def _bullet(console, text: str, indent: str = "  - ", hang: str = "    ") -> None:
-    from pulsepick.render import print_wrapped
+    from pulsepick.output.render import print_wrapped
 
     print_wrapped(console, text, indent=indent, hang=hang)
 
