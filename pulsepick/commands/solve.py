@@ -808,7 +808,6 @@ def compute_build(args) -> BuildRun:
     """Check the options and solve several lights (a phrase or a design file)."""
     from pulsepick.commands.pictures import check_picture_targets
     from pulsepick.designfile import is_design_file
-    from pulsepick.errors import RequestError  # noqa: F401 (used below in main's code)
     from pulsepick.solve import default_jobs, solve_build
 
     design_path = args.phrase if is_design_file(args.phrase) else None
