@@ -15,7 +15,6 @@ from typing import Any, NamedTuple
 from pulsepick import __version__
 from pulsepick.analysis.night import NightResult, simulate_night, simulate_until_stop
 from pulsepick.commands import circuit_options, night_size
-from pulsepick.commands.day import add_panel_arguments
 from pulsepick.commands.night_context import (  # noqa: F401 (kept importable from here)
     CROSS_CURRENT_EXAMPLE,
     NO_DUSK_DETECTOR,
@@ -28,6 +27,7 @@ from pulsepick.commands.night_context import (  # noqa: F401 (kept importable fr
 from pulsepick.commands.night_options import quantity, read_storage, supply_grid
 from pulsepick.commands.night_report import _hm, night_chart, render_report  # noqa: F401
 from pulsepick.commands.night_window import NO_NIGHT, _read_night
+from pulsepick.commands.panel_options import add_panel_arguments
 from pulsepick.commands.pictures import (
     add_picture_arguments,
     announce,

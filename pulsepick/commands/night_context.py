@@ -67,7 +67,7 @@ def _clamp_advice(args, design, storage):
     if args.panel is None and args.panel_voc is None:
         return None
     from pulsepick.analysis.overvoltage import clamp_advice
-    from pulsepick.commands.day import read_panel
+    from pulsepick.commands.panel_options import read_panel
     from pulsepick.parts.diode import get_diode
 
     return clamp_advice(storage, read_panel(args), get_diode(args.diode))
@@ -126,7 +126,7 @@ def _dusk_bias(args, designs, v_start_v: float) -> dict | None:
     if args.dusk_bleed is None:
         return None
     from pulsepick.analysis.dusk import dusk_levels
-    from pulsepick.commands.day import read_panel
+    from pulsepick.commands.panel_options import read_panel
     from pulsepick.parts.diode import get_diode
     from pulsepick.parts.logic import get_family
     from pulsepick.units import parse_value
