@@ -95,6 +95,29 @@ def build_report(result, lines, *, night=None, images=None) -> Report:
     breq = result.request
     names = [li.name for li in result.lights]
     plan = result.plan
+    sections = _light_sections(result, names, plan)
+    sections.append(_package_section(result, names, plan))
+    sections += [s for s in (_gating_section(result, names), _lock_section(result, names))
+                 if s is not None]
+    sections.append(_energy_section(result))
+    if night is not None:
+        sections.append(_night_section(night))
+    sections.append(Section("parts", "Parts and buy list", parts_blocks(lines)))
+    sections.append(picture_section(images))
+    sections.append(_warnings(result.warnings))
+    storage = any(p.kind == "storage" for p in lines)
+    sections.append(_cautions((POLARITY_AND_SHORTS,) if storage else ()))
+    return Report(
+        title=breq.describe(), subtitle=f"pulsepick solve: {len(result.lights)} lights",
+        facts=(("lights", str(len(result.lights))), ("packages", str(len(plan.packages))),
+               ("supply", num(result.total_supply_a, "A"))),
+        sections=tuple(sections), stamp=_stamp("solve, a whole build",
+                                               breq.lights[0].request.seed),
+        generated=_today(), verdict=result.message, verdict_good=result.success)
+
+
+def _light_sections(result, names, plan) -> list:
+    """The table of every light, then one section per light with its parts."""
     light_rows = []
     for i, li in enumerate(result.lights):
         c = li.pick
@@ -118,6 +141,11 @@ def build_report(result, lines, *, night=None, images=None) -> Report:
             Table(f"values-{names.index(li.name) + 1}", f"{li.name}: parts",
                   ("ref", "value", "code", "role"), rows),
             *((Items(tuple(c.notes) + tuple(c.warnings)),) if c.notes or c.warnings else ()))))
+    return sections
+
+
+def _package_section(result, names, plan) -> Section:
+    """The packages: which gate of which package does what, and the pins."""
     gates = package_map(plan, names, [li.pick.design.topo for li in result.lights])
     map_rows = tuple((f"U{g.package}", str(g.gate), str(g.in_pin), str(g.out_pin), g.role)
                      for g in gates)
@@ -133,60 +161,65 @@ def build_report(result, lines, *, night=None, images=None) -> Report:
         pkg_blocks.append(Paragraph(", ".join(
             f"U{p.number}: CMOS 555 for {', '.join(names[i] for i in p.lights)}"
             for p in timers) + "."))
-    sections.append(Section("packages", "Packages", tuple(pkg_blocks)))
-    if result.gating is not None:
-        g = result.gating
-        rows = tuple((names[h.light], h.kind, num(h.held_a, "A"), num(h.held_end_a, "A"),
-                      "yes" if h.holds else "no") for h in g.holds)
-        sections.append(Section("gating", "Dusk gating", (
-            Paragraph(f"{g.arrangement}. The detector takes {g.detector_gates} gate"
-                      f"{'s' if g.detector_gates != 1 else ''}."),
-            Table("gating", "Held by day", ("light", "hold", "draw at full supply",
-                                            "draw at the end of the night", "holds"), rows),
-            Paragraph(f"Held by day the lights draw {eng(g.held_a, 'A')} together, "
-                      "besides the chips' quiescent current.", "note"))))
-    if result.lock_share is not None and result.lock_share.pairs:
-        s = result.lock_share
-        rows = tuple((f"{names[p.a]} / {names[p.b]}", f"U{p.package}", p.nearest,
-                      Cell(f"{p.share:.1%}", p.share, "fraction")) for p in s.pairs)
-        blocks = [Table("lock-share", f"Share of builds with a pair within {s.margin:.0%} "
-                        "of p:q, q <= 4", ("pair", "package", "nearest", "lock share"), rows,
-                        numeric=(False, False, False, True)),
-                  Paragraph(f"Any pair near a lock: {s.share:.1%} of {s.builds:,} builds "
-                            f"(seed {s.seed}).")]
-        if result.remedies:
-            blocks.append(Items(tuple(f"{r.action}: {r.share:.1%}" + (
-                f" ({r.option})" if r.option else "") for r in result.remedies)))
-        sections.append(Section("lock", "Lock risk", tuple(blocks)))
+    return Section("packages", "Packages", tuple(pkg_blocks))
+
+
+def _gating_section(result, names) -> Section | None:
+    """The dusk gating: how the lights are held by day and what they draw then."""
+    if result.gating is None:
+        return None
+    g = result.gating
+    rows = tuple((names[h.light], h.kind, num(h.held_a, "A"), num(h.held_end_a, "A"),
+                  "yes" if h.holds else "no") for h in g.holds)
+    return Section("gating", "Dusk gating", (
+        Paragraph(f"{g.arrangement}. The detector takes {g.detector_gates} gate"
+                  f"{'s' if g.detector_gates != 1 else ''}."),
+        Table("gating", "Held by day", ("light", "hold", "draw at full supply",
+                                        "draw at the end of the night", "holds"), rows),
+        Paragraph(f"Held by day the lights draw {eng(g.held_a, 'A')} together, "
+                  "besides the chips' quiescent current.", "note")))
+
+
+def _lock_section(result, names) -> Section | None:
+    """The share of builds with a pair of lights near a lock, and the remedies."""
+    if result.lock_share is None or not result.lock_share.pairs:
+        return None
+    s = result.lock_share
+    rows = tuple((f"{names[p.a]} / {names[p.b]}", f"U{p.package}", p.nearest,
+                  Cell(f"{p.share:.1%}", p.share, "fraction")) for p in s.pairs)
+    blocks = [Table("lock-share", f"Share of builds with a pair within {s.margin:.0%} "
+                    "of p:q, q <= 4", ("pair", "package", "nearest", "lock share"), rows,
+                    numeric=(False, False, False, True)),
+              Paragraph(f"Any pair near a lock: {s.share:.1%} of {s.builds:,} builds "
+                        f"(seed {s.seed}).")]
+    if result.remedies:
+        blocks.append(Items(tuple(f"{r.action}: {r.share:.1%}" + (
+            f" ({r.option})" if r.option else "") for r in result.remedies)))
+    return Section("lock", "Lock risk", tuple(blocks))
+
+
+def _energy_section(result) -> Section:
+    """The energy budget of all lights."""
     budget = [("all lights at the design supply", num(result.total_supply_a, "A")),
               ("over a 12 h night", num(result.total_supply_a * 12 * 3600, "C"))]
     if result.gating is not None:
         budget.append(("held by day", num(result.gating.held_a, "A")))
-    sections.append(Section("energy", "Energy budget", (
-        Table("energy", "", ("", "value"), tuple(budget), numeric=(False, True)),)))
-    if night is not None:
-        from pulsepick.commands.wording import verdict
+    return Section("energy", "Energy budget", (
+        Table("energy", "", ("", "value"), tuple(budget), numeric=(False, True)),))
 
-        res = night[0]
-        sections.append(Section("night", "The night", (
-            Paragraph(f"Night: {verdict(res, False)}."),
-            Table("night", "", ("", "value"), (
-                ("start", num(res.v_start_v, "V")),
-                ("runs for", num(res.runtime_s, "s")),
-                ("night", num(res.duration_s, "s")),
-                ("lasts the night", "yes" if res.lasts_the_night else "no"))))))
-    sections.append(Section("parts", "Parts and buy list", parts_blocks(lines)))
-    sections.append(picture_section(images))
-    sections.append(_warnings(result.warnings))
-    storage = any(p.kind == "storage" for p in lines)
-    sections.append(_cautions((POLARITY_AND_SHORTS,) if storage else ()))
-    return Report(
-        title=breq.describe(), subtitle=f"pulsepick solve: {len(result.lights)} lights",
-        facts=(("lights", str(len(result.lights))), ("packages", str(len(plan.packages))),
-               ("supply", num(result.total_supply_a, "A"))),
-        sections=tuple(sections), stamp=_stamp("solve, a whole build",
-                                               breq.lights[0].request.seed),
-        generated=_today(), verdict=result.message, verdict_good=result.success)
+
+def _night_section(night) -> Section:
+    """The night of the design file's storage with every light's load."""
+    from pulsepick.commands.wording import verdict
+
+    res = night[0]
+    return Section("night", "The night", (
+        Paragraph(f"Night: {verdict(res, False)}."),
+        Table("night", "", ("", "value"), (
+            ("start", num(res.v_start_v, "V")),
+            ("runs for", num(res.runtime_s, "s")),
+            ("night", num(res.duration_s, "s")),
+            ("lasts the night", "yes" if res.lasts_the_night else "no")))))
 
 
 def build_pictures(args, result, lines, design_file=None) -> list[str]:

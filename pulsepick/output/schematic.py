@@ -348,104 +348,122 @@ def schematic_svg(design, parts=None) -> str:
     lab = labels_of(design, parts)
     core_form, stage_form = _core_form(topo), _stage_form(topo)
 
-    def two(text: str) -> str:
-        return text.replace(" ", "\n", 1)
-
     with schemdraw.Drawing(show=False, canvas="svg") as d:
         d.config(fontsize=11, unit=2.5)
         if core_form == "timer-chip":
-            # left pins are listed bottom to top
-            ic = elm.Ic(pins=[elm.IcPin(name="TRG", pin="2", side="left"),
-                              elm.IcPin(name="THR", pin="6", side="left"),
-                              elm.IcPin(name="DIS", pin="7", side="left"),
-                              elm.IcPin(name="VDD", pin="8", side="top"),
-                              elm.IcPin(name="RST", pin="4", side="top"),
-                              elm.IcPin(name="GND", pin="1", side="bot"),
-                              elm.IcPin(name="OUT", pin="3", side="right")],
-                        size=(4, 6), pinspacing=2).label(two(lab.chip), "center")
-            d += ic
-            d += elm.Line().at(ic.DIS).left().length(2)
-            dis = d.here
-            d += elm.Dot()
-            d += elm.Resistor().at(dis).up().label(two(lab.get("ra")))
-            d += elm.Vdd()
-            d += elm.Resistor().at(dis).down().toy(ic.THR).label(two(lab.get("rb")))
-            thr = d.here
-            d += elm.Dot()
-            d += elm.Line().to(ic.THR)
-            d += elm.Line().at(thr).toy(ic.TRG)
-            trg = d.here
-            d += elm.Dot()
-            d += elm.Line().to(ic.TRG)
-            d += elm.Capacitor().at(trg).down().label(two(lab.get("c1")))
-            d += elm.Ground()
-            d += elm.Line().at(ic.VDD).up().length(0.75)
-            d += elm.Vdd()
-            d += elm.Line().at(ic.RST).up().length(0.75)
-            d += elm.Vdd()
-            d += elm.Ground().at(ic.GND)
-            d += elm.Line().at(ic.OUT).right().length(1)
+            _svg_timer(d, elm, lab)
         else:
-            d += elm.Dot()
-            node = d.here
-            d += elm.Capacitor().down().label(two(lab.get("c1")))
-            d += elm.Ground()
-            d += elm.Line().at(node).up().length(1.5)
-            top = d.here
-            d += (r1 := elm.Resistor().right().length(4).label(two(lab.get("r1"))))
-            if core_form == "gate-steered":
-                d += elm.Line().at(top).up().length(1.5)
-                d += elm.Resistor().right().length(2).label(two(lab.get("r2")))
-                diode = elm.Diode().right().length(2).label(two(lab.core_diode))
-                d += diode.reverse() if topo.steer == "high" else diode
-                d += elm.Line().down().toy(r1.end)
-            d += (gate := logic.SchmittNot().at(node).right().label(lab.chip, "bottom"))
-            d += elm.Line().at(gate.out).tox(r1.end)
-            d += elm.Dot()
-            junction = d.here
-            d += elm.Line().at(junction).toy(r1.end)
-            d.here = junction
+            _svg_gate(d, elm, logic, lab, topo, core_form)
         if topo.buffered:
             d += logic.Not().right().label(lab.buffer, "bottom")
         drive = d.here
-        if stage_form == "series":
-            d += elm.Resistor().right().label(two(lab.get("rs")))
-            if topo.lit == "high":
-                d += elm.LED().down().label(lab.led)
-                d += elm.Ground()
-            else:
-                d += elm.LED().up().reverse().label(lab.led)
-                d += elm.Vdd()
-        elif stage_form == "switched":
-            d += elm.Resistor().right().label(two(lab.get("rbase")))
-            d += (q := elm.BjtNpn(circle=True).right().anchor("base")
-                  .label(lab.extra.get("switch", "Q1"), "right"))
-            d += elm.Ground().at(q.emitter)
-            d += elm.Line().at(q.collector).up().length(0.5)
-            d += elm.LED().up().reverse().label(lab.led)
-            d += elm.Resistor().up().label(two(lab.get("rs")))
-            d += elm.Vdd()
-        elif stage_form == "coupled":
-            d += elm.Capacitor().right().label(two(lab.get("cp")))
-            d += elm.Dot()
-            node = d.here
-            d += elm.Diode().down().reverse().label(lab.stage_diode)
-            d += elm.Ground()
-            d += elm.Line().at(node).right().length(1)
-            if lab.get("rs"):
-                d += elm.Resistor().right().label(two(lab.get("rs")))
-            d += elm.LED().down().label(lab.led)
-            d += elm.Ground()
-        else:
-            d += elm.Resistor().right().label(two(lab.get("rs")))
-            d += elm.Diode().right().label(lab.stage_diode)
-            d += elm.Dot()
-            node = d.here
-            d += elm.Capacitor().down().label(two(lab.get("ch")))
-            d += elm.Ground()
-            d += elm.Line().at(node).right().length(2)
-            d += elm.LED().down().label(lab.led)
-            d += elm.Ground()
+        _svg_stage(d, elm, lab, topo, stage_form)
         del drive
         svg = d.get_imagedata("svg")
     return svg.decode("utf-8") if isinstance(svg, bytes) else svg
+
+
+def _two(text: str) -> str:
+    """A label on two lines (the first space breaks), so it sits beside its part."""
+    return text.replace(" ", "\n", 1)
+
+
+def _svg_timer(d, elm, lab: Labels) -> None:
+    """The 555 core: the chip, RA, RB and the timing capacitor."""
+    # left pins are listed bottom to top
+    ic = elm.Ic(pins=[elm.IcPin(name="TRG", pin="2", side="left"),
+                      elm.IcPin(name="THR", pin="6", side="left"),
+                      elm.IcPin(name="DIS", pin="7", side="left"),
+                      elm.IcPin(name="VDD", pin="8", side="top"),
+                      elm.IcPin(name="RST", pin="4", side="top"),
+                      elm.IcPin(name="GND", pin="1", side="bot"),
+                      elm.IcPin(name="OUT", pin="3", side="right")],
+                size=(4, 6), pinspacing=2).label(_two(lab.chip), "center")
+    d += ic
+    d += elm.Line().at(ic.DIS).left().length(2)
+    dis = d.here
+    d += elm.Dot()
+    d += elm.Resistor().at(dis).up().label(_two(lab.get("ra")))
+    d += elm.Vdd()
+    d += elm.Resistor().at(dis).down().toy(ic.THR).label(_two(lab.get("rb")))
+    thr = d.here
+    d += elm.Dot()
+    d += elm.Line().to(ic.THR)
+    d += elm.Line().at(thr).toy(ic.TRG)
+    trg = d.here
+    d += elm.Dot()
+    d += elm.Line().to(ic.TRG)
+    d += elm.Capacitor().at(trg).down().label(_two(lab.get("c1")))
+    d += elm.Ground()
+    d += elm.Line().at(ic.VDD).up().length(0.75)
+    d += elm.Vdd()
+    d += elm.Line().at(ic.RST).up().length(0.75)
+    d += elm.Vdd()
+    d += elm.Ground().at(ic.GND)
+    d += elm.Line().at(ic.OUT).right().length(1)
+
+
+def _svg_gate(d, elm, logic, lab: Labels, topo, core_form: str) -> None:
+    """The Schmitt core: the gate, its feedback resistor (and steering branch) and the
+    timing capacitor; leaves the drawing at the gate's output."""
+    d += elm.Dot()
+    node = d.here
+    d += elm.Capacitor().down().label(_two(lab.get("c1")))
+    d += elm.Ground()
+    d += elm.Line().at(node).up().length(1.5)
+    top = d.here
+    d += (r1 := elm.Resistor().right().length(4).label(_two(lab.get("r1"))))
+    if core_form == "gate-steered":
+        d += elm.Line().at(top).up().length(1.5)
+        d += elm.Resistor().right().length(2).label(_two(lab.get("r2")))
+        diode = elm.Diode().right().length(2).label(_two(lab.core_diode))
+        d += diode.reverse() if topo.steer == "high" else diode
+        d += elm.Line().down().toy(r1.end)
+    d += (gate := logic.SchmittNot().at(node).right().label(lab.chip, "bottom"))
+    d += elm.Line().at(gate.out).tox(r1.end)
+    d += elm.Dot()
+    junction = d.here
+    d += elm.Line().at(junction).toy(r1.end)
+    d.here = junction
+
+
+def _svg_stage(d, elm, lab: Labels, topo, stage_form: str) -> None:
+    """The LED stage from the drive point on."""
+    if stage_form == "series":
+        d += elm.Resistor().right().label(_two(lab.get("rs")))
+        if topo.lit == "high":
+            d += elm.LED().down().label(lab.led)
+            d += elm.Ground()
+        else:
+            d += elm.LED().up().reverse().label(lab.led)
+            d += elm.Vdd()
+    elif stage_form == "switched":
+        d += elm.Resistor().right().label(_two(lab.get("rbase")))
+        d += (q := elm.BjtNpn(circle=True).right().anchor("base")
+              .label(lab.extra.get("switch", "Q1"), "right"))
+        d += elm.Ground().at(q.emitter)
+        d += elm.Line().at(q.collector).up().length(0.5)
+        d += elm.LED().up().reverse().label(lab.led)
+        d += elm.Resistor().up().label(_two(lab.get("rs")))
+        d += elm.Vdd()
+    elif stage_form == "coupled":
+        d += elm.Capacitor().right().label(_two(lab.get("cp")))
+        d += elm.Dot()
+        node = d.here
+        d += elm.Diode().down().reverse().label(lab.stage_diode)
+        d += elm.Ground()
+        d += elm.Line().at(node).right().length(1)
+        if lab.get("rs"):
+            d += elm.Resistor().right().label(_two(lab.get("rs")))
+        d += elm.LED().down().label(lab.led)
+        d += elm.Ground()
+    else:
+        d += elm.Resistor().right().label(_two(lab.get("rs")))
+        d += elm.Diode().right().label(lab.stage_diode)
+        d += elm.Dot()
+        node = d.here
+        d += elm.Capacitor().down().label(_two(lab.get("ch")))
+        d += elm.Ground()
+        d += elm.Line().at(node).right().length(2)
+        d += elm.LED().down().label(lab.led)
+        d += elm.Ground()

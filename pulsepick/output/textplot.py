@@ -121,34 +121,12 @@ def spread_lines(period_s, *, p5_s: float, p95_s: float, target_s: float | None 
     p = p[np.isfinite(p)]
     if p.size == 0:
         return ["(no spread drawing: no build oscillates)"]
-    q1, q99 = (float(x) for x in np.percentile(p, (1.0, 99.0)))
-    marks = [x for x in (p5_s, p95_s, target_s) if x is not None and np.isfinite(x)]
-    if target_s is not None and yield_band:
-        marks += [target_s * (1 - yield_band), target_s * (1 + yield_band)]
-    lo, hi = min([q1, *marks]), max([q99, *marks])
-    if not hi > lo:
-        lo, hi = lo * 0.99, hi * 1.01 if hi > 0 else 1.0
-    pad = 0.02 * (hi - lo)
-    lo, hi = lo - pad, hi + pad
-    inside = (p >= lo) & (p <= hi)
-    below, above = int(np.sum(p < lo)), int(np.sum(p > hi))
-    # a few builds per column would draw noise: 2 to 4 columns per bin, by the count
-    per_bin = 2 if p.size >= 1000 else (3 if p.size >= 300 else 4)
-    bins = max(1, width // per_bin)
-    counts, _ = np.histogram(p[inside], bins=bins, range=(lo, hi))
-    counts = np.repeat(counts, per_bin)
-    counts = np.concatenate([counts, np.full(width - counts.size, counts[-1])])
-    top = int(counts.max())
+    lo, hi = _spread_range(p, p5_s, p95_s, target_s, yield_band)
+    lines = _spread_bars(p, lo, hi, width, height)
 
     def col(x: float) -> int:
         return int(np.clip(np.floor((x - lo) / (hi - lo) * width), 0, width - 1))
 
-    lines = []
-    eighths = np.round(counts / top * height * 8).astype(int) if top else np.zeros(width, int)
-    for r in range(height - 1, -1, -1):
-        cells = "".join(_BARS[int(np.clip(e - 8 * r, 0, 8))] for e in eighths)
-        label = f"{top:,} per bin" if r == height - 1 else ""
-        lines.append(f"{label:>{LABEL_WIDTH}} |{cells}".rstrip())
     band = [" "] * width
     a, b = col(p5_s), col(p95_s)
     for k in range(a, b + 1):
@@ -171,6 +149,47 @@ def spread_lines(period_s, *, p5_s: float, p95_s: float, target_s: float | None 
     axis[start:start + len(mid)] = mid
     axis[width - len(right):] = right
     lines.append(f"{'period':>{LABEL_WIDTH}} |{''.join(axis)}")
+    return lines + _spread_notes(p, lo, hi, p5_s, p95_s, not_drawn, width)
+
+
+def _spread_range(p, p5_s: float, p95_s: float, target_s: float | None,
+                  yield_band: float | None) -> tuple[float, float]:
+    """The drawn range: the 1st to the 99th percentile of the builds, widened to take in
+    the P5..P95 band and the target (with its band), plus a small margin."""
+    q1, q99 = (float(x) for x in np.percentile(p, (1.0, 99.0)))
+    marks = [x for x in (p5_s, p95_s, target_s) if x is not None and np.isfinite(x)]
+    if target_s is not None and yield_band:
+        marks += [target_s * (1 - yield_band), target_s * (1 + yield_band)]
+    lo, hi = min([q1, *marks]), max([q99, *marks])
+    if not hi > lo:
+        lo, hi = lo * 0.99, hi * 1.01 if hi > 0 else 1.0
+    pad = 0.02 * (hi - lo)
+    return lo - pad, hi + pad
+
+
+def _spread_bars(p, lo: float, hi: float, width: int, height: int) -> list[str]:
+    """The histogram rows of the builds within ``lo..hi``, tallest bin on top."""
+    inside = (p >= lo) & (p <= hi)
+    # a few builds per column would draw noise: 2 to 4 columns per bin, by the count
+    per_bin = 2 if p.size >= 1000 else (3 if p.size >= 300 else 4)
+    bins = max(1, width // per_bin)
+    counts, _ = np.histogram(p[inside], bins=bins, range=(lo, hi))
+    counts = np.repeat(counts, per_bin)
+    counts = np.concatenate([counts, np.full(width - counts.size, counts[-1])])
+    top = int(counts.max())
+    lines = []
+    eighths = np.round(counts / top * height * 8).astype(int) if top else np.zeros(width, int)
+    for r in range(height - 1, -1, -1):
+        cells = "".join(_BARS[int(np.clip(e - 8 * r, 0, 8))] for e in eighths)
+        label = f"{top:,} per bin" if r == height - 1 else ""
+        lines.append(f"{label:>{LABEL_WIDTH}} |{cells}".rstrip())
+    return lines
+
+
+def _spread_notes(p, lo: float, hi: float, p5_s: float, p95_s: float, not_drawn: int,
+                  width: int) -> list[str]:
+    """The wrapped note under the drawing: builds drawn, outside the range, not drawn."""
+    below, above = int(np.sum(p < lo)), int(np.sum(p > hi))
     notes = [f"{p.size:,} builds oscillate; P5 {format_eng(p5_s, 's')}, "
              f"P95 {format_eng(p95_s, 's')}"]
     if below or above:
@@ -179,6 +198,5 @@ def spread_lines(period_s, *, p5_s: float, p95_s: float, target_s: float | None 
     if not_drawn:
         notes.append(f"{not_drawn:,} do not oscillate (not drawn)")
     pad = " " * (LABEL_WIDTH + 2)
-    lines += textwrap.wrap("; ".join(notes), width=LABEL_WIDTH + 2 + width,
-                           initial_indent=pad, subsequent_indent=pad)
-    return lines
+    return textwrap.wrap("; ".join(notes), width=LABEL_WIDTH + 2 + width,
+                         initial_indent=pad, subsequent_indent=pad)
