@@ -16,7 +16,6 @@ from types import SimpleNamespace
 from typing import Any
 
 import numpy as np
-from scipy.integrate import solve_ivp
 
 from pulsepick.circuits.base import (
     DARK,
@@ -32,6 +31,18 @@ from pulsepick.circuits.base import (
     get_stage,
 )
 from pulsepick.circuits.decay import K_OVER_Q
+
+
+def load_integrator():
+    """``scipy.integrate.solve_ivp``, imported on first use.
+
+    scipy.integrate brings scipy.optimize, scipy.linalg and scipy.special with it (some
+    tenths of a second of start-up), so only the code that simulates pays for it; the
+    solver imports it in its own process while its workers search.
+    """
+    from scipy.integrate import solve_ivp
+
+    return solve_ivp
 
 
 def brentq(f, a: float, b: float, xtol: float = 1e-13, rtol: float = 1e-13,
@@ -223,6 +234,7 @@ def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 400,
              rtol: float = 1e-9, powered: bool = True) -> ReferenceResult:
     """Simulate one circuit (scalar values) to periodic steady state and measure it."""
     vals = {k: float(np.asarray(x).reshape(-1)[0]) for k, x in check_values(topo, values).items()}
+    solve_ivp = load_integrator()
     senv = _scalar_env(env)
     circ = _Circuit(topo, vals, senv)
     n_x = circ.n_x
