@@ -279,7 +279,9 @@ def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 400,
         periods.append(t0)
         edge_states.append(y[1:1 + n_x].copy())
         last = sols
-        if len(periods) >= 3:
+        # the first cycle starts on VT- as every later one does, so two cycles that
+        # agree (period and stage state) are the periodic steady state already
+        if len(periods) >= 2:
             p_prev, p_now = periods[-2], periods[-1]
             settled = np.all(np.abs(edge_states[-1] - edge_states[-2]) <= 1e-6)
             if abs(p_now - p_prev) <= 1e-8 * p_now and settled:
