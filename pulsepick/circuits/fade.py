@@ -186,14 +186,16 @@ class FadeStage:
             hi = np.clip(v_start + 0.02, 0.0, v_star)
         f_lo = one_period(lo)[0] - lo
         f_hi = one_period(hi)[0] - hi
-        lo, f_lo = np.where(f_lo >= 0, lo, 0.0), np.where(f_lo >= 0, f_lo, 1.0)
-        hi, f_hi = np.where(f_hi <= 0, hi, v_star), np.where(f_hi <= 0, f_hi, -1.0)
-        if state is None or np.any((f_lo == 1.0) | (f_hi == -1.0)):
-            f_lo = one_period(lo)[0] - lo
-            f_hi = one_period(hi)[0] - hi
+        if state is not None:  # where the narrow bracket misses, the whole range
+            bad_lo, bad_hi = ~(f_lo >= 0), ~(f_hi <= 0)
+            lo, hi = np.where(bad_lo, 0.0, lo), np.where(bad_hi, v_star, hi)
+            f_lo = _again(one_period, lo, f_lo, bad_lo)
+            f_hi = _again(one_period, hi, f_hi, bad_hi)
         side = np.zeros(lo.shape)
         if lo.ndim == 1:
-            mid = _root_rows(one_period, lo, hi, f_lo, f_hi, side)
+            # one_period at each row's root, kept from the row's last iteration
+            v_start, t_start, v_end, q_led_on, i_pk = _root_rows(one_period, lo, hi, f_lo,
+                                                                 f_hi, side)
         else:
             for _ in range(_ROOT_STEPS):
                 with np.errstate(divide="ignore", invalid="ignore"):
@@ -210,7 +212,7 @@ class FadeStage:
                 side = np.where(up, 1.0, -1.0)
                 if np.all((np.abs(f_mid) < 1e-9) | (hi - lo < 1e-9)):
                     break
-        v_start, t_start, v_end, q_led_on, i_pk = one_period(mid)
+            v_start, t_start, v_end, q_led_on, i_pk = one_period(mid)
         q_led_off = ch * (v_end - v_start)
         q_in = q_led_off + q_led_on
         q_led = q_led_off + q_led_on
@@ -245,12 +247,32 @@ class FadeStage:
                 "VLED hold lk 0", "DLED lk 0 DLED")
 
 
+def _again(one_period, v, f, rows):
+    """``f`` with F(v) = one_period(v) - v evaluated anew where ``rows`` is true (only
+    those rows when the batch is 1-D)."""
+    if not np.any(rows):
+        return f
+    if np.ndim(v) != 1:
+        return one_period(v)[0] - v
+    idx = np.flatnonzero(rows)
+    out = np.array(f, dtype=float)
+    out[idx] = one_period(v[idx], idx)[0] - v[idx]
+    return out
+
+
 def _root_rows(one_period, lo, hi, f_lo, f_hi, side):
     """The Illinois false-position loop of ``FadeStage.fast`` on 1-D rows, each row
-    iterated only until it has converged (the others no longer cost an evaluation)."""
+    iterated only until it has converged (the others no longer cost an evaluation).
+
+    Returns what ``one_period`` gives at each row's root (its last iterate), kept from
+    the row's last evaluation rather than computed again.
+    """
     lo, hi, f_lo, f_hi, side = (np.array(a, dtype=float) for a in (lo, hi, f_lo, f_hi, side))
     mid = 0.5 * (lo + hi)
     act = np.arange(lo.size)
+    if act.size == 0 or _ROOT_STEPS < 1:
+        return one_period(mid)
+    kept = [np.empty(lo.size) for _ in range(5)]
     for _ in range(_ROOT_STEPS):
         if act.size == 0:
             break
@@ -259,7 +281,10 @@ def _root_rows(one_period, lo, hi, f_lo, f_hi, side):
             m = np.where(a_flo - a_fhi > 0, a_lo + a_flo * (a_hi - a_lo) / (a_flo - a_fhi),
                          0.5 * (a_lo + a_hi))
         m = np.clip(m, a_lo, a_hi)
-        f_m = one_period(m, act)[0] - m
+        period = one_period(m, act)
+        for k, x in zip(kept, period, strict=True):
+            k[act] = x
+        f_m = period[0] - m
         up = f_m > 0
         a_fhi = np.where(up & (a_side > 0), 0.5 * a_fhi, a_fhi)
         a_flo = np.where(~up & (a_side < 0), 0.5 * a_flo, a_flo)
@@ -269,7 +294,7 @@ def _root_rows(one_period, lo, hi, f_lo, f_hi, side):
         mid[act] = m
         done = (np.abs(f_m) < 1e-9) | (hi[act] - lo[act] < 1e-9)
         act = act[~done]
-    return mid
+    return tuple(kept)
 
 
 def _q_at(t, grid):
