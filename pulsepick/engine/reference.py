@@ -153,6 +153,7 @@ class _Circuit:
         self.timer = self.core.chip_kind == "timer"
         self.n_x = self.stage.n_states
         self._last_node: dict = {}
+        self._last_slope: dict = {}
 
     def _solve_node(self, v_src: float, r_out: float, load, key) -> float:
         """Node voltage where the gate's output current equals the load's draw.
@@ -165,16 +166,29 @@ class _Circuit:
 
         x0 = self._last_node.get(key)
         if x0 is not None:
-            x1 = x0 + 1e-4
-            f0, f1 = kcl(x0), kcl(x1)
+            f0 = kcl(x0)
+            if f0 == 0.0:
+                return x0
+            # the first step with the slope the previous call ended on (the node's load
+            # changes little between calls): one evaluation fewer than a fresh secant
+            slope = self._last_slope.get(key)
+            x1 = x0 - f0 / slope if slope else math.nan
+            if not math.isfinite(x1):
+                x1 = x0 + 1e-4
+            elif abs(x1 - x0) < 1e-12:  # the same test as the secant steps' below
+                self._last_node[key] = x1
+                return x1
+            f1 = kcl(x1)
             for _ in range(12):
                 if f1 == f0:
                     break
-                x2 = x1 - f1 * (x1 - x0) / (f1 - f0)
+                slope = (f1 - f0) / (x1 - x0)
+                x2 = x1 - f1 / slope
                 x0, f0 = x1, f1
                 x1, f1 = x2, kcl(x2)
                 if abs(x1 - x0) < 1e-12:
                     self._last_node[key] = x1
+                    self._last_slope[key] = slope
                     return x1
         lo, hi = -2.0 - self.env.vdd, 2.0 * self.env.vdd + 2.0
         root = brentq(kcl, lo, hi, xtol=1e-13, rtol=1e-13, maxiter=200)
