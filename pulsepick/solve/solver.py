@@ -105,6 +105,10 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
 
         load_integrator()
 
+    if jobs > 1 and len(tasks) > 1:
+        # every search draws the median chip with numpy.random: imported once here,
+        # the workers forked below start with it instead of each importing it
+        import numpy.random  # noqa: F401
     for task_picks, n, task_seen in _run_tasks(_search_task, tasks, jobs, meanwhile):
         picks.extend(task_picks)
         evaluated += n
