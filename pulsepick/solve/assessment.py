@@ -62,8 +62,14 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
         except PulsepickError as err:
             out["warnings"].append(f"drift analysis: {err}")
         out["timings_s"]["drift"] = time.perf_counter() - t
+    try:  # the figures the candidate shows, for the warnings and the median note
+        aim = design.fast(**kw)
+        shown = {"status": int(np.ravel(aim.status)[0]),
+                 "peak_a": float(np.ravel(aim.led_peak_a)[0])}
+    except PulsepickError:
+        aim, shown = None, {}
     try:
-        out["warnings"].extend(circuit_warnings(design, levels=levels))
+        out["warnings"].extend(circuit_warnings(design, levels=levels, **shown))
     except PulsepickError as err:
         out["warnings"].append(f"checks: {err}")
     if not design.chip.is_timer:
@@ -71,7 +77,7 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
     if out.get("spread") is not None:
         aimed = None
         if levels is not None:
-            aimed = float(np.ravel(design.fast(**kw).period_s)[0])
+            aimed = float(np.ravel((aim if aim is not None else design.fast(**kw)).period_s)[0])
         out["median_note"] = median_note(design, out["spread"], aimed)
     return out
 
