@@ -100,10 +100,13 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
     def meanwhile() -> None:
         # the reference engine's integrator (scipy.integrate) is slow to import: import
         # it here while the worker processes search, so that the workers of assess()
-        # start with it (they are forked from this process)
+        # start with it (they are forked from this process); a signal waits until the
+        # import is whole
         from pulsepick.engine.reference import load_integrator
+        from pulsepick.workers import signals_deferred
 
-        load_integrator()
+        with signals_deferred():
+            load_integrator()
 
     if jobs > 1 and len(tasks) > 1:
         # every search draws the median chip with numpy.random: imported once here,
