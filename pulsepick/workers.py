@@ -19,7 +19,8 @@ import os
 import signal
 import threading
 import time
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
+from contextlib import contextmanager
 from typing import Any
 
 # How often (s) a worker checks that its parent is still alive (estimate: short enough
@@ -67,6 +68,36 @@ def _kill(pool) -> None:
             p.join(1.0)
         except (OSError, ValueError, AttributeError, AssertionError):
             pass
+
+
+@contextmanager
+def signals_deferred() -> Iterator[None]:
+    """Ctrl-C, SIGTERM and SIGHUP arriving inside the block take effect as it ends.
+
+    For work that must not be broken off half way, such as importing a large package:
+    an import stopped half way leaves modules half made, and the program's own exit then
+    fails. Only the main thread handles signals; elsewhere the block runs as it is.
+    """
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    caught: list[int] = []
+
+    def note(signum, _frame) -> None:
+        caught.append(signum)
+
+    old = {}
+    for name in ("SIGINT", "SIGTERM", "SIGHUP"):
+        sig = getattr(signal, name, None)
+        if sig is not None and signal.getsignal(sig) is not None:
+            old[sig] = signal.signal(sig, note)
+    try:
+        yield
+    finally:
+        for sig, handler in old.items():
+            signal.signal(sig, handler)
+        if caught:
+            signal.raise_signal(caught[0])  # now handled as it would have been
 
 
 def run_pool(fn: Callable[..., Any], tasks: Sequence[tuple], jobs: int,

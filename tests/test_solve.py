@@ -347,6 +347,23 @@ def test_assess_verifies_with_the_reference_engine():
     assert "reference" in c.timings_s
 
 
+def test_assess_on_two_workers_gives_what_one_process_gives():
+    # the worker pool runs each design's reference run and the rest of its assessment
+    # as two tasks; joined again, they are what one process computes
+    req = make_request("flash every 2 s for 40 ms, 5 mA peak", stages="direct,fade",
+                       supply="2.7V..1.8V", top=2, builds=200)
+    found = solve(req, jobs=1)
+    one, two = assess(found, jobs=1), assess(found, jobs=2)
+    assert len(one.candidates) == 2
+    for a, b in zip(one.candidates, two.candidates, strict=True):
+        assert a.reference_figures == b.reference_figures
+        assert a.reference_figures["period_s"] > 0
+        assert a.spread.quantiles == b.spread.quantiles
+        assert a.drift.period_change_pct == b.drift.period_change_pct
+        assert a.warnings == b.warnings and a.median_note == b.median_note
+        assert list(b.timings_s) == list(a.timings_s) == ["reference", "spread", "drift"]
+
+
 def test_drawer_without_a_usable_timing_capacitor_is_explained():
     from pulsepick.request import parse_stock
 

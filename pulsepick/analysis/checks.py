@@ -162,11 +162,12 @@ def circuit_findings(design: Design, status=None, peak_a: float | None = None,
     kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
     env, powered = design.env(**kw)
     vdd = design.supply_v
-    f = design.fast(**kw)
-    if status is None:
-        status = int(np.ravel(f.status)[0])
-    if peak_a is None:
-        peak_a = float(np.ravel(f.led_peak_a)[0])
+    if status is None or peak_a is None:
+        f = design.fast(**kw)
+        if status is None:
+            status = int(np.ravel(f.status)[0])
+        if peak_a is None:
+            peak_a = float(np.ravel(f.led_peak_a)[0])
     state = verdict(design, status, peak_a)
 
     if with_state and state.state not in ("runs", "dark"):
@@ -260,9 +261,10 @@ def circuit_findings(design: Design, status=None, peak_a: float | None = None,
     return out
 
 
-def circuit_warnings(design: Design, levels: tuple[float, float] | None = None) -> list[str]:
+def circuit_warnings(design: Design, levels: tuple[float, float] | None = None,
+                     status=None, peak_a: float | None = None) -> list[str]:
     """The warning texts of ``circuit_findings``."""
-    return [f.text for f in circuit_findings(design, levels=levels)]
+    return [f.text for f in circuit_findings(design, status, peak_a, levels=levels)]
 
 
 def dark_below(design: Design, v_floor: float = 0.5, points: int = 121) -> float | None:

@@ -98,10 +98,20 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
     evaluated = 0
     seen: dict[str, list[float]] = {}
     def meanwhile() -> None:
-        # the design module brings the reference engine (scipy.integrate): import it
-        # here while the worker processes search, not before they start
-        import pulsepick.design  # noqa: F401
+        # the reference engine's integrator (scipy.integrate) is slow to import: import
+        # it here while the worker processes search, so that the workers of assess()
+        # start with it (they are forked from this process); a signal waits until the
+        # import is whole
+        from pulsepick.engine.reference import load_integrator
+        from pulsepick.workers import signals_deferred
 
+        with signals_deferred():
+            load_integrator()
+
+    if jobs > 1 and len(tasks) > 1:
+        # every search draws the median chip with numpy.random: imported once here,
+        # the workers forked below start with it instead of each importing it
+        import numpy.random  # noqa: F401
     for task_picks, n, task_seen in _run_tasks(_search_task, tasks, jobs, meanwhile):
         picks.extend(task_picks)
         evaluated += n
