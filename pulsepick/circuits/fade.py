@@ -165,12 +165,15 @@ class FadeStage:
                 def pick(a):
                     return a[rows] if np.ndim(a) >= 1 and np.shape(a)[0] == n_rows else a
 
-                g = {k: pick(a) for k, a in grid.items()}
+                g = {k: pick(grid[k]) for k in _PERIOD_KEYS}
                 t_on_r, t_off_r, ch_r = pick(t_on_f), pick(t_off_f), pick(ch)
             t_start = _interp_rows(v0, g["vh"], g["t"], None)
             t_stop = t_start + t_on_r
-            v_end = _interp_rows(t_stop, g["t"], g["vh"], g["v_star"])
-            q_on = _q_at(t_stop, g) - _q_at(t_start, g)
+            # the hold voltage and the LED charge at the end of the rise share their
+            # place on the time nodes
+            v_end, q_stop = _interp_rows_many(t_stop, g["t"], (g["vh"], g["q_led"]),
+                                              (g["v_star"], None))
+            q_on = _q_past_grid(t_stop, q_stop, g) - _q_at(t_start, g)
             i_pk = np.maximum(led.current(v_end), 1e-30)
             # fade: CH feeds the LED alone
             i_off = decay_end_current(led.junction, led.junction.r_s, ch_r, i_pk, t_off_r)
@@ -186,14 +189,16 @@ class FadeStage:
             hi = np.clip(v_start + 0.02, 0.0, v_star)
         f_lo = one_period(lo)[0] - lo
         f_hi = one_period(hi)[0] - hi
-        lo, f_lo = np.where(f_lo >= 0, lo, 0.0), np.where(f_lo >= 0, f_lo, 1.0)
-        hi, f_hi = np.where(f_hi <= 0, hi, v_star), np.where(f_hi <= 0, f_hi, -1.0)
-        if state is None or np.any((f_lo == 1.0) | (f_hi == -1.0)):
-            f_lo = one_period(lo)[0] - lo
-            f_hi = one_period(hi)[0] - hi
+        if state is not None:  # where the narrow bracket misses, the whole range
+            bad_lo, bad_hi = ~(f_lo >= 0), ~(f_hi <= 0)
+            lo, hi = np.where(bad_lo, 0.0, lo), np.where(bad_hi, v_star, hi)
+            f_lo = _again(one_period, lo, f_lo, bad_lo)
+            f_hi = _again(one_period, hi, f_hi, bad_hi)
         side = np.zeros(lo.shape)
         if lo.ndim == 1:
-            mid = _root_rows(one_period, lo, hi, f_lo, f_hi, side)
+            # one_period at each row's root, kept from the row's last iteration
+            v_start, t_start, v_end, q_led_on, i_pk = _root_rows(one_period, lo, hi, f_lo,
+                                                                 f_hi, side)
         else:
             for _ in range(_ROOT_STEPS):
                 with np.errstate(divide="ignore", invalid="ignore"):
@@ -210,7 +215,7 @@ class FadeStage:
                 side = np.where(up, 1.0, -1.0)
                 if np.all((np.abs(f_mid) < 1e-9) | (hi - lo < 1e-9)):
                     break
-        v_start, t_start, v_end, q_led_on, i_pk = one_period(mid)
+            v_start, t_start, v_end, q_led_on, i_pk = one_period(mid)
         q_led_off = ch * (v_end - v_start)
         q_in = q_led_off + q_led_on
         q_led = q_led_off + q_led_on
@@ -245,12 +250,32 @@ class FadeStage:
                 "VLED hold lk 0", "DLED lk 0 DLED")
 
 
+def _again(one_period, v, f, rows):
+    """``f`` with F(v) = one_period(v) - v evaluated anew where ``rows`` is true (only
+    those rows when the batch is 1-D)."""
+    if not np.any(rows):
+        return f
+    if np.ndim(v) != 1:
+        return one_period(v)[0] - v
+    idx = np.flatnonzero(rows)
+    out = np.array(f, dtype=float)
+    out[idx] = one_period(v[idx], idx)[0] - v[idx]
+    return out
+
+
 def _root_rows(one_period, lo, hi, f_lo, f_hi, side):
     """The Illinois false-position loop of ``FadeStage.fast`` on 1-D rows, each row
-    iterated only until it has converged (the others no longer cost an evaluation)."""
+    iterated only until it has converged (the others no longer cost an evaluation).
+
+    Returns what ``one_period`` gives at each row's root (its last iterate), kept from
+    the row's last evaluation rather than computed again.
+    """
     lo, hi, f_lo, f_hi, side = (np.array(a, dtype=float) for a in (lo, hi, f_lo, f_hi, side))
     mid = 0.5 * (lo + hi)
     act = np.arange(lo.size)
+    if act.size == 0 or _ROOT_STEPS < 1:
+        return one_period(mid)
+    kept = [np.empty(lo.size) for _ in range(5)]
     for _ in range(_ROOT_STEPS):
         if act.size == 0:
             break
@@ -259,7 +284,10 @@ def _root_rows(one_period, lo, hi, f_lo, f_hi, side):
             m = np.where(a_flo - a_fhi > 0, a_lo + a_flo * (a_hi - a_lo) / (a_flo - a_fhi),
                          0.5 * (a_lo + a_hi))
         m = np.clip(m, a_lo, a_hi)
-        f_m = one_period(m, act)[0] - m
+        period = one_period(m, act)
+        for k, x in zip(kept, period, strict=True):
+            k[act] = x
+        f_m = period[0] - m
         up = f_m > 0
         a_fhi = np.where(up & (a_side > 0), 0.5 * a_fhi, a_fhi)
         a_flo = np.where(~up & (a_side < 0), 0.5 * a_flo, a_flo)
@@ -269,14 +297,21 @@ def _root_rows(one_period, lo, hi, f_lo, f_hi, side):
         mid[act] = m
         done = (np.abs(f_m) < 1e-9) | (hi[act] - lo[act] < 1e-9)
         act = act[~done]
-    return mid
+    return tuple(kept)
+
+
+#: What one period of the fade stage reads from the rise's grid.
+_PERIOD_KEYS = ("vh", "t", "q_led", "v_star", "i_star")
 
 
 def _q_at(t, grid):
     """LED charge since an empty CH at time ``t`` of the rise; steady current past the grid."""
-    t_cum, q_cum = grid["t"], grid["q_led"]
-    t_last, q_last = t_cum[..., -1], q_cum[..., -1]
-    inside = _interp_rows(t, t_cum, q_cum, None)
+    return _q_past_grid(t, _interp_rows(t, grid["t"], grid["q_led"], None), grid)
+
+
+def _q_past_grid(t, inside, grid):
+    """:func:`_q_at` from the charge interpolated on the grid (``inside``)."""
+    t_last, q_last = grid["t"][..., -1], grid["q_led"][..., -1]
     return np.where(t > t_last, q_last + grid["i_star"] * (t - t_last), inside)
 
 
@@ -285,25 +320,35 @@ def _interp_rows(x, xp, fp, beyond):
 
     Past the last node the value ``beyond`` (or the last node's value) is used.
     """
+    return _interp_rows_many(x, xp, (fp,), (beyond,))[0]
+
+
+def _interp_rows_many(x, xp, fps, beyonds):
+    """:func:`_interp_rows` of several ``fps`` over the same ``xp`` and ``x`` (one
+    search for the place of ``x`` serves them all), each with its ``beyonds`` value."""
     x = np.asarray(x, dtype=float)
-    xp, fp = np.broadcast_arrays(xp, fp)
+    xp, *fps = np.broadcast_arrays(xp, *fps)
     shape = xp.shape[:-1]
     m = xp.shape[-1]
     x = np.broadcast_to(x, shape)
     # flat gathers (one index per row) in place of four take_along_axis calls
     xp2 = np.ascontiguousarray(xp).reshape(-1, m)
-    fp2 = np.ascontiguousarray(fp).reshape(-1, m)
     xf = x.reshape(-1)
     idx = np.count_nonzero(xp2 <= xf[:, None], axis=-1)  # nodes at or before x
     k1 = np.clip(idx, 1, m - 1) + np.arange(xf.size) * m
-    flat_x, flat_f = xp2.reshape(-1), fp2.reshape(-1)
+    flat_x = xp2.reshape(-1)
     x0, x1 = flat_x[k1 - 1], flat_x[k1]
-    f0, f1 = flat_f[k1 - 1], flat_f[k1]
     with np.errstate(divide="ignore", invalid="ignore"):
         w = np.clip((xf - x0) / (x1 - x0), 0.0, 1.0)
-    out = (f0 + w * (f1 - f0)).reshape(shape)
-    last = fp[..., -1] if beyond is None else np.broadcast_to(beyond, shape)
-    return np.where(idx.reshape(shape) >= m, last, out)
+    past = idx.reshape(shape) >= m
+    out = []
+    for fp, beyond in zip(fps, beyonds, strict=True):
+        flat_f = np.ascontiguousarray(fp).reshape(-1)
+        f0, f1 = flat_f[k1 - 1], flat_f[k1]
+        inside = (f0 + w * (f1 - f0)).reshape(shape)
+        last = fp[..., -1] if beyond is None else np.broadcast_to(beyond, shape)
+        out.append(np.where(past, last, inside))
+    return out
 
 
 def _first_crossing(t_cum, values, level):

@@ -16,7 +16,6 @@ from types import SimpleNamespace
 from typing import Any
 
 import numpy as np
-from scipy.integrate import solve_ivp
 
 from pulsepick.circuits.base import (
     DARK,
@@ -32,6 +31,18 @@ from pulsepick.circuits.base import (
     get_stage,
 )
 from pulsepick.circuits.decay import K_OVER_Q
+
+
+def load_integrator():
+    """``scipy.integrate.solve_ivp``, imported on first use.
+
+    scipy.integrate brings scipy.optimize, scipy.linalg and scipy.special with it (some
+    tenths of a second of start-up), so only the code that simulates pays for it; the
+    solver imports it in its own process while its workers search.
+    """
+    from scipy.integrate import solve_ivp
+
+    return solve_ivp
 
 
 def brentq(f, a: float, b: float, xtol: float = 1e-13, rtol: float = 1e-13,
@@ -142,6 +153,7 @@ class _Circuit:
         self.timer = self.core.chip_kind == "timer"
         self.n_x = self.stage.n_states
         self._last_node: dict = {}
+        self._last_slope: dict = {}
 
     def _solve_node(self, v_src: float, r_out: float, load, key) -> float:
         """Node voltage where the gate's output current equals the load's draw.
@@ -154,16 +166,29 @@ class _Circuit:
 
         x0 = self._last_node.get(key)
         if x0 is not None:
-            x1 = x0 + 1e-4
-            f0, f1 = kcl(x0), kcl(x1)
+            f0 = kcl(x0)
+            if f0 == 0.0:
+                return x0
+            # the first step with the slope the previous call ended on (the node's load
+            # changes little between calls): one evaluation fewer than a fresh secant
+            slope = self._last_slope.get(key)
+            x1 = x0 - f0 / slope if slope else math.nan
+            if not math.isfinite(x1):
+                x1 = x0 + 1e-4
+            elif abs(x1 - x0) < 1e-12:  # the same test as the secant steps' below
+                self._last_node[key] = x1
+                return x1
+            f1 = kcl(x1)
             for _ in range(12):
                 if f1 == f0:
                     break
-                x2 = x1 - f1 * (x1 - x0) / (f1 - f0)
+                slope = (f1 - f0) / (x1 - x0)
+                x2 = x1 - f1 / slope
                 x0, f0 = x1, f1
                 x1, f1 = x2, kcl(x2)
                 if abs(x1 - x0) < 1e-12:
                     self._last_node[key] = x1
+                    self._last_slope[key] = slope
                     return x1
         lo, hi = -2.0 - self.env.vdd, 2.0 * self.env.vdd + 2.0
         root = brentq(kcl, lo, hi, xtol=1e-13, rtol=1e-13, maxiter=200)
@@ -223,6 +248,7 @@ def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 400,
              rtol: float = 1e-9, powered: bool = True) -> ReferenceResult:
     """Simulate one circuit (scalar values) to periodic steady state and measure it."""
     vals = {k: float(np.asarray(x).reshape(-1)[0]) for k, x in check_values(topo, values).items()}
+    solve_ivp = load_integrator()
     senv = _scalar_env(env)
     circ = _Circuit(topo, vals, senv)
     n_x = circ.n_x
@@ -267,7 +293,9 @@ def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 400,
         periods.append(t0)
         edge_states.append(y[1:1 + n_x].copy())
         last = sols
-        if len(periods) >= 3:
+        # the first cycle starts on VT- as every later one does, so two cycles that
+        # agree (period and stage state) are the periodic steady state already
+        if len(periods) >= 2:
             p_prev, p_now = periods[-2], periods[-1]
             settled = np.all(np.abs(edge_states[-1] - edge_states[-2]) <= 1e-6)
             if abs(p_now - p_prev) <= 1e-8 * p_now and settled:

@@ -86,21 +86,31 @@ def lambert_w_of_exp(y) -> np.ndarray:
     in the tests). For y < -30, W(e^y) = e^y to better than 1e-13.
     """
     y = np.asarray(y, dtype=float)
-    out = np.empty_like(y)
     big = y > _LOG_FORM_ABOVE
-    if np.any(big):
-        out[big] = _solve_log_lambert(y[big])
     tiny = y < _EXP_FORM_BELOW
-    if np.any(tiny):
+    n_big, n_tiny = np.count_nonzero(big), np.count_nonzero(tiny)
+    # one branch for every element (the usual case): no masked copies
+    if n_big == y.size:
+        return _solve_log_lambert(y)
+    if n_big == 0 and n_tiny == 0:
+        return _mid_lambert(y)
+    out = np.empty_like(y)
+    if n_big:
+        out[big] = _solve_log_lambert(y[big])
+    if n_tiny:
         out[tiny] = np.exp(y[tiny])
     mid = ~(big | tiny)
     if np.any(mid):
-        ym = y[mid]
-        w = np.log1p(np.exp(ym))
-        for _ in range(_NEWTON_STEPS):
-            w = w * (1.0 + ym - np.log(w)) / (1.0 + w)
-        out[mid] = w
+        out[mid] = _mid_lambert(y[mid])
     return out
+
+
+def _mid_lambert(y: np.ndarray) -> np.ndarray:
+    """W(exp(y)) for -30 <= y <= 20: Newton on w + ln(w) = y from w = ln(1 + e^y)."""
+    w = np.log1p(np.exp(y))
+    for _ in range(_NEWTON_STEPS):
+        w = w * (1.0 + y - np.log(w)) / (1.0 + w)
+    return w
 
 
 _lambert_w_of_exp = lambert_w_of_exp
@@ -185,22 +195,30 @@ class Junction:
         v_b, r_b = np.broadcast_arrays(v_arr, r_tot)
         a = self.n_vt
         i_s = self.i_s
-        out = np.empty(v_b.shape, dtype=float)
         has_r = r_b > 0
-        if np.any(has_r):
-            vr, rr = v_b[has_r], r_b[has_r]
-            y = math.log(i_s) + np.log(rr) - math.log(a) + (vr + i_s * rr) / a
-            w = _lambert_w_of_exp(y)
-            i = w * a / rr - i_s
-            # one Newton step on f(i) = a*log1p(i/i_s) + i*R - v (f' > 0)
-            i = np.maximum(i, -i_s * (1.0 - 1e-15))
-            f = a * np.log1p(i / i_s) + i * rr - vr
-            i = i - f / (a / (i_s + i) + rr)
-            out[has_r] = np.maximum(i, -i_s)
+        n_r = np.count_nonzero(has_r)
+        if n_r == has_r.size:  # every element has a resistance (the usual case)
+            out = self._current_r(v_b, r_b)
+            return float(out) if out.ndim == 0 else out
+        out = np.empty(v_b.shape, dtype=float)
+        if n_r:
+            out[has_r] = self._current_r(v_b[has_r], r_b[has_r])
         no_r = ~has_r
         if np.any(no_r):
             out[no_r] = i_s * np.expm1(np.minimum(v_b[no_r] / a, _MAX_EXPONENT))
         return float(out) if out.ndim == 0 else out
+
+    def _current_r(self, vr, rr):
+        """:meth:`current` where the total series resistance ``rr`` is above zero."""
+        a, i_s = self.n_vt, self.i_s
+        y = math.log(i_s) + np.log(rr) - math.log(a) + (vr + i_s * rr) / a
+        w = _lambert_w_of_exp(y)
+        i = w * a / rr - i_s
+        # one Newton step on f(i) = a*log1p(i/i_s) + i*R - v (f' > 0)
+        i = np.maximum(i, -i_s * (1.0 - 1e-15))
+        f = a * np.log1p(i / i_s) + i * rr - vr
+        i = i - f / (a / (i_s + i) + rr)
+        return np.maximum(i, -i_s)
 
     def conductance(self, v, r_ext=0.0):
         """Small-signal conductance dI/dV of junction + ``r_s`` + ``r_ext``, siemens.

@@ -16,13 +16,26 @@ from pulsepick.solve.texts import time_text
 from pulsepick.solve.types import SolveResult
 
 
-def _assess_one(design, target_period_s: float, builds: int, seed: int,
-                supply_end_v: float | None, r_tols: dict[str, float],
-                levels: tuple[float, float] | None = None) -> dict[str, Any]:
-    """Reference run, spread, drift and warnings of one design (runs in a worker).
+def _assess_reference(design, levels: tuple[float, float] | None = None) -> tuple[Any, float]:
+    """The reference run of one design and the time it took, s (runs in a worker).
 
     ``levels`` (V): the reference run uses these switching levels (the median chip the
     search aimed at), so that it checks the figures the candidate shows.
+    """
+    t = time.perf_counter()
+    kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
+    return design.reference(**kw), time.perf_counter() - t
+
+
+def _assess_one(design, target_period_s: float, builds: int, seed: int,
+                supply_end_v: float | None, r_tols: dict[str, float],
+                levels: tuple[float, float] | None = None,
+                with_reference: bool = True) -> dict[str, Any]:
+    """Reference run, spread, drift and warnings of one design (runs in a worker).
+
+    ``levels`` (V): the switching levels of the median chip the search aimed at (see
+    :func:`_assess_reference`). ``with_reference`` False leaves the reference run out
+    (the worker pool runs it as a task of its own).
     """
     from pulsepick.analysis.checks import assumptions, circuit_warnings
     from pulsepick.analysis.drift import drift
@@ -30,10 +43,9 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
     from pulsepick.errors import PulsepickError
 
     out: dict[str, Any] = {"timings_s": {}, "warnings": []}
-    t = time.perf_counter()
     kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
-    out["reference"] = design.reference(**kw)
-    out["timings_s"]["reference"] = time.perf_counter() - t
+    if with_reference:
+        out["reference"], out["timings_s"]["reference"] = _assess_reference(design, levels)
     t = time.perf_counter()
     supply_range = None if supply_end_v is None else (supply_end_v, design.supply_v)
     try:
@@ -167,28 +179,51 @@ def _assess_args(req, c) -> tuple:
 
 def _assess_outputs(args: list, jobs: int, during=None) -> tuple[list[dict[str, Any]], Any]:
     """:func:`_assess_one` of each argument tuple, on up to ``jobs`` worker processes
-    (the longest reference runs first), and the result of ``during()`` (None when not
-    given), which runs in this process while the workers work."""
+    (a design's reference run and the rest of its assessment as two tasks, the costliest
+    stages first), and the result of ``during()`` (None when not given), which runs in
+    this process while the workers work."""
     from pulsepick.limits import workers_for_builds
 
     outputs: list[dict[str, Any] | None] = [None] * len(args)
     meanwhile = None
     # bounded memory for many builds: fewer workers when each spread is large
     jobs = workers_for_builds(jobs, max((a[2] for a in args), default=0))
-    if jobs > 1 and len(args) > 1:
+    if jobs > 1 and args:
         from pulsepick.workers import run_pool
 
-        order = sorted(range(len(args)),
-                       key=lambda i: get_stage(args[i][0].topo.stage).search_rank)
+        # two tasks per design, its reference run and the rest (spread, drift, checks),
+        # so that one costly design does not hold up a worker while the other idles;
+        # the costliest stages first, and each one's spread before its reference run
+        tasks = [(part, a) for a in args for part in ("rest", "reference")]
+        order = sorted(range(len(tasks)), key=lambda i: (
+            get_stage(tasks[i][1][0].topo.stage).search_rank, i))
         got: list[Any] = []
-        outputs = run_pool(_assess_one, args, jobs, order=order,
-                           meanwhile=None if during is None else lambda: got.append(during()))
+        parts = run_pool(_assess_part, tasks, jobs, order=order,
+                         meanwhile=None if during is None else lambda: got.append(during()))
+        outputs = [_joined(rest, ref) for rest, ref in zip(parts[::2], parts[1::2],
+                                                            strict=True)]
         meanwhile = got[0] if got else None
     else:
         outputs = [_assess_one(*a) for a in args]
         if during is not None:
             meanwhile = during()
     return [out for out in outputs if out is not None], meanwhile
+
+
+def _assess_part(part: str, args: tuple):
+    """One task of the worker pool: the reference run of a design, or the rest of its
+    assessment (see :func:`_assess_outputs`)."""
+    if part == "reference":
+        return _assess_reference(args[0], args[6])
+    return _assess_one(*args, with_reference=False)
+
+
+def _joined(rest: dict[str, Any], reference: tuple[Any, float]) -> dict[str, Any]:
+    """The output of :func:`_assess_one` from its two tasks."""
+    out = dict(rest)
+    out["reference"] = reference[0]
+    out["timings_s"] = {"reference": reference[1], **rest["timings_s"]}
+    return out
 
 
 def _assessed(c, out: dict[str, Any]):

@@ -98,9 +98,12 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
     evaluated = 0
     seen: dict[str, list[float]] = {}
     def meanwhile() -> None:
-        # the design module brings the reference engine (scipy.integrate): import it
-        # here while the worker processes search, not before they start
-        import pulsepick.design  # noqa: F401
+        # the reference engine's integrator (scipy.integrate) is slow to import: import
+        # it here while the worker processes search, so that the workers of assess()
+        # start with it (they are forked from this process)
+        from pulsepick.engine.reference import load_integrator
+
+        load_integrator()
 
     for task_picks, n, task_seen in _run_tasks(_search_task, tasks, jobs, meanwhile):
         picks.extend(task_picks)
