@@ -303,23 +303,45 @@ class _Searcher:
         size = next(iter(grid.values())).size
         if size == 0 or tim.cost.size == 0:
             return []
-        # step 1: the stage grid at the best timing network
         i_limit = led_current_limit(self.req.led, sname)[0]
+        stage_sets = self._stage_sets(topo, tim, grid, env, npart, i_limit)
+        if stage_sets is None:
+            return []
+        t_idx, s_vals, cost, parts, night, f_nom, f_end = self._crossed(
+            topo, tim, stage_sets, npart, i_limit)
+        return self._picks(topo, tim, t_idx, s_vals, cost, parts, night, f_nom, f_end)
+
+    def _stage_sets(self, topo: Topology, tim: _Timing, grid: dict[str, np.ndarray], env,
+                    npart, i_limit: float) -> dict[str, np.ndarray] | None:
+        """Step 1: the stage grid at the best timing network; the best coarse points and
+        their series neighbours (None when no grid point works)."""
+        sname = topo.stage
+        size = next(iter(grid.values())).size
         _f, cost, _ = self._eval_cost(topo, tim, np.zeros(size, dtype=int), grid, env, npart,
                                       i_limit)
         search = get_stage(sname).search
         order = [i for i in np.argsort(cost, kind="stable")[:search.coarse_keep]
                  if np.isfinite(cost[i])]
         if not order:
-            return []
+            return None
         sets: dict[tuple, dict[str, float]] = {}
         for i in order:
             for point in self._refine(sname, {k: float(v[i]) for k, v in grid.items()}):
                 sets.setdefault(tuple(point.items()), point)
         names = list(grid)
-        stage_sets = {k: np.array([p[k] for p in sets.values()]) for k in names}
-        # step 2: every kept timing network with every stage set, at the design supply
-        # and (for a supply range) at the end of the night, in one evaluation
+        return {k: np.array([p[k] for p in sets.values()]) for k in names}
+
+    def _crossed(self, topo: Topology, tim: _Timing, stage_sets: dict[str, np.ndarray], npart,
+                 i_limit: float):
+        """Step 2: every kept timing network with every stage set, at the design supply
+        and (for a supply range) at the end of the night, in one evaluation.
+
+        Returns the timing index and stage values of each row, its cost, the cost's
+        parts, the end-of-night cost, and the figures at the design supply and at the
+        end of the night (None without a supply range).
+        """
+        search = get_stage(topo.stage).search
+        names = list(stage_sets)
         n_t = min(tim.cost.size, search.timing_keep)
         n_s = stage_sets[names[0]].size
         t_idx = np.repeat(np.arange(n_t), n_s)
@@ -363,6 +385,12 @@ class _Searcher:
         running = (f_nom.status == RUNS) & np.isfinite(cost)
         for key in ("period_s", "flash_s", "led_peak_a", "effective_a", "effective_mcd"):
             self._note_range(key, np.where(running, getattr(f_nom, key), np.nan))
+        return t_idx, s_vals, cost, parts, night, f_nom, f_end
+
+    def _picks(self, topo: Topology, tim: _Timing, t_idx, s_vals, cost, parts, night, f_nom,
+               f_end) -> list[_Pick]:
+        """The best rows, lowest cost first, that the parts drawer can build (at most
+        ``K_KEEP``)."""
         picks: list[_Pick] = []
         for i in np.argsort(cost, kind="stable"):
             if not np.isfinite(cost[i]) or len(picks) >= K_KEEP:
