@@ -186,16 +186,7 @@ def parse_design(text: str, path: str = "design.toml") -> DesignFile:
         one line: a TOML syntax error with its line and column, an unknown table or key
         with the allowed ones, a missing required key, or a value of the wrong type.
     """
-    text = text.removeprefix(BOM)
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as err:
-        raise RequestError(f"{path}: not valid TOML: {' '.join(str(err).split())}") from err
-    except RecursionError:
-        data = None
-    if data is None or _depth(data) > MAX_NESTING:
-        raise RequestError(f"{path}: tables or lists nested too deeply; a design file needs "
-                           f"3 levels and {MAX_NESTING} are accepted")
+    data = _read_toml(text, path)
     unknown = [k for k in data if k not in TOP_KEYS]
     if unknown:
         raise RequestError(
@@ -206,7 +197,34 @@ def parse_design(text: str, path: str = "design.toml") -> DesignFile:
     if not isinstance(name, str):
         raise RequestError(f"{path}: name = {echo(name)}: give text, such as name = \"lantern\"")
     build = _check_table(path, "build", data.get("build", {}), BUILD_KEYS)
-    raw_lights = data.get("light")
+    lights = _parse_lights(path, data.get("light"))
+    storage, panel, night, site = _parse_tables(path, data)
+    stock_path = None
+    if "stock" in build:
+        folder = os.path.dirname(os.path.abspath(path))
+        stock_path = os.path.normpath(os.path.join(folder, build["stock"]))
+    return DesignFile(path=path, name=name, build=build, lights=tuple(lights),
+                      storage=storage, panel=panel, night=night, site=site,
+                      stock_path=stock_path)
+
+
+def _read_toml(text: str, path: str) -> dict[str, Any]:
+    """The parsed TOML, with a one-line error for bad syntax or too deep nesting."""
+    text = text.removeprefix(BOM)
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as err:
+        raise RequestError(f"{path}: not valid TOML: {' '.join(str(err).split())}") from err
+    except RecursionError:
+        data = None
+    if data is None or _depth(data) > MAX_NESTING:
+        raise RequestError(f"{path}: tables or lists nested too deeply; a design file needs "
+                           f"3 levels and {MAX_NESTING} are accepted")
+    return data
+
+
+def _parse_lights(path: str, raw_lights: Any) -> list[LightSpec]:
+    """The [[light]] tables, checked, each with its solver context."""
     if raw_lights is None:
         raise RequestError(f"{path}: no [[light]] table; a design needs at least one, with "
                            f"a blink such as {BLINK_EXAMPLE}")
@@ -236,6 +254,11 @@ def parse_design(text: str, path: str = "design.toml") -> DesignFile:
             context.setdefault("cores", "schmitt,schmitt-steered")
         lights.append(LightSpec(name=spec.get("name") or f"light {i}", blink=spec["blink"],
                                 context=context, photoresistor=ldr))
+    return lights
+
+
+def _parse_tables(path: str, data: dict[str, Any]):
+    """The [storage], [panel], [night] and [site] tables (None when absent), checked."""
     storage = panel = night = site = None
     if "storage" in data:
         storage = _check_table(path, "storage", data["storage"], STORAGE_KEYS)
@@ -259,13 +282,7 @@ def parse_design(text: str, path: str = "design.toml") -> DesignFile:
     if night is not None and site is not None:
         raise RequestError(f"{path}: give the night one way: [night] (clock times or a "
                            "length) or [site] (latitude and date), not both")
-    stock_path = None
-    if "stock" in build:
-        folder = os.path.dirname(os.path.abspath(path))
-        stock_path = os.path.normpath(os.path.join(folder, build["stock"]))
-    return DesignFile(path=path, name=name, build=build, lights=tuple(lights),
-                      storage=storage, panel=panel, night=night, site=site,
-                      stock_path=stock_path)
+    return storage, panel, night, site
 
 
 def _depth(data: Any) -> int:

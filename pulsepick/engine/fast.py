@@ -129,6 +129,11 @@ def evaluate(topo: Topology, values: dict, env: Env, powered=True) -> Figures:
     if coupled:  # final stage figures at the final phase times
         sf = stage.fast(vals, env, topo, driver_with_core(pt), pt.t_high, pt.t_low, state)
 
+    return _figures(pt, sf, env, shape, powered)
+
+
+def _figures(pt, sf, env: Env, shape, powered) -> Figures:
+    """The batch's figures from the final phase times ``pt`` and stage figures ``sf``."""
     period = pt.t_high + pt.t_low
     stalled = pt.status == STALLS
     with np.errstate(invalid="ignore", divide="ignore"):

@@ -67,6 +67,7 @@ The package, by job
 - :mod:`~pulsepick.solve.space`: the search space (value grids, circuit variants, aimed levels).
 - :mod:`~pulsepick.solve.score`: the score (error units, weights, penalties, limits).
 - :mod:`~pulsepick.solve.search`: the search over standard values for one topology.
+- :mod:`~pulsepick.solve.timingsearch`: its timing-network searches, one per core's kind.
 - :mod:`~pulsepick.solve.solver`: :func:`solve`, the searches run and ranked.
 - :mod:`~pulsepick.solve.explain`: why a request cannot be met.
 - :mod:`~pulsepick.solve.assessment`: :func:`assess`, the checks of each offered candidate.

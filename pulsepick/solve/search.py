@@ -1,5 +1,6 @@
 """The search over standard values for one topology (:class:`_Searcher`) and its helpers
-(see :mod:`pulsepick.solve` for the steps).
+(see :mod:`pulsepick.solve` for the steps; the timing networks' searches are in
+:mod:`pulsepick.solve.timingsearch`).
 """
 
 from __future__ import annotations
@@ -9,29 +10,16 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from pulsepick.circuits.base import get_core, get_stage, RUNS, stage_names, Topology
+from pulsepick.circuits.base import get_core, get_stage, RUNS, Topology
 from pulsepick.circuits.searchgrid import SearchContext
 from pulsepick.request import SolveRequest
 from pulsepick.solve.score import (
-    _aim_cost, _best_per_group, _cost, _log_err, _slice_figures, _threshold_var, _weights, K_KEEP,
-    K_SLOW, K_TIMING, LEAK_MARGIN, led_current_limit, n_parts, peak_needed, PENALTY_END,
-    PENALTY_HOT_LEAK, PREFER_WEIGHTS, SIGMA, THRESHOLD_STEP,
+    _aim_cost, _cost, _log_err, _slice_figures, _threshold_var, _weights, K_KEEP, LEAK_MARGIN,
+    led_current_limit, n_parts, peak_needed, PENALTY_END, PENALTY_HOT_LEAK, PREFER_WEIGHTS, SIGMA,
+    THRESHOLD_STEP,
 )
 from pulsepick.solve.space import _cap_var, _space, aim_levels
-
-
-@dataclass
-class _Timing:
-    """Kept timing networks of one core variant (arrays, one element each)."""
-
-    values: dict[str, np.ndarray]
-    kind: np.ndarray  # index into _Space.kinds
-    g_typ: np.ndarray  # S, typical leakage conductance of C1
-    var: np.ndarray  # fraction², expected squared spread of the period
-    cost: np.ndarray
-    penalty: np.ndarray  # cost added for stalling with the hot-end leakage
-    t_high: np.ndarray  # s, charging phase with an unloaded output
-    t_low: np.ndarray  # s, discharging phase with an unloaded output
+from pulsepick.solve.timingsearch import _Timing, search_timing
 
 
 @dataclass
@@ -257,64 +245,8 @@ class _Searcher:
         return cost, var, g_typ, penalty, th, tl
 
     def timing(self, core: str, steer: str) -> _Timing | None:
-        sp = self.space
-        if sp.c_timing.size == 0 or sp.r_timing.size == 0:
-            return None
-        R, C = sp.r_timing, sp.c_timing
-        nr, nc = R.size, C.size
-        ri = np.tile(np.arange(nr), nc)
-        ci = np.repeat(np.arange(nc), nr)
-        core_model = get_core(core)
-        search = core_model.timing_search
-        plain = Topology(core_model.slow_phase_core, stage_names()[0])
-        if search == "one-resistor":
-            vals = {"r1": R[ri], "c1": C[ci]}
-            cost, var, g, pen, th, tl = self._timing_eval(plain, vals, sp.c_kind[ci], None)
-            keep = _best_per_group(cost, ci, 2, K_TIMING)
-            return _Timing({k: v[keep] for k, v in vals.items()}, sp.c_kind[ci][keep], g[keep],
-                           var[keep], cost[keep], pen[keep], th[keep], tl[keep])
-        if search == "steered":
-            # step 1: R1·C1 sets the slow phase (the plain core's phase)
-            vals = {"r1": R[ri], "c1": C[ci]}
-            c_kind = sp.c_kind[ci]
-            g = self._cap_leak(vals["c1"], c_kind, "typ")
-            th, tl, st = self._periods(plain, self._working(vals, c_kind, self.envs["typ"]),
-                                       replace(self.envs["typ"], cap_leak_g=g))
-            slow = tl if steer == "high" else th
-            # R1 alone moves the slow phase: charging for a fast low phase, else discharging
-            ok1 = (st == RUNS) & self._leak_ok(plain, vals, g,
-                                               ("up",) if steer == "low" else ("down",))
-            cost1 = np.where(ok1, _log_err(slow, self.long_target) ** 2
-                             + sp.r_tol**2 + self.cap_var[c_kind], np.inf)
-            keep1 = _best_per_group(cost1, ci, 3, K_SLOW)
-            # step 2: R2 sets the fast phase
-            k1, kr = keep1.size, nr
-            base = np.repeat(keep1, kr)
-            vals2 = {"r1": vals["r1"][base], "r2": np.tile(R, k1), "c1": vals["c1"][base]}
-            topo = Topology(core, stage_names()[0], steer=steer)
-            short_of = (lambda a, b: a) if steer == "high" else (lambda a, b: b)
-            cost, var, g2, pen, th, tl = self._timing_eval(topo, vals2, c_kind[base], short_of)
-            keep = _best_per_group(cost, ci[base], 2, K_TIMING)
-            return _Timing({k: v[keep] for k, v in vals2.items()}, c_kind[base][keep],
-                           g2[keep], var[keep], cost[keep], pen[keep], th[keep], tl[keep])
-        # two resistors (RA, RB), step 1: RB·C1 sets the low phase (RA at its smallest)
-        vals = {"ra": np.full(ri.size, R[0]), "rb": R[ri], "c1": C[ci]}
-        c_kind = sp.c_kind[ci]
-        g = self._cap_leak(vals["c1"], c_kind, "typ")
-        topo = Topology(core, stage_names()[0])
-        th, tl, st = self._periods(topo, self._working(vals, c_kind, self.envs["typ"]),
-                                   replace(self.envs["typ"], cap_leak_g=g))
-        ok1 = (st == RUNS) & self._leak_ok(topo, vals, g, ("down",))  # RB discharges
-        cost1 = np.where(ok1, _log_err(tl, self.short_target) ** 2
-                         + sp.r_tol**2 + self.cap_var[c_kind], np.inf)
-        keep1 = _best_per_group(cost1, ci, 3, K_SLOW)
-        base = np.repeat(keep1, nr)
-        vals2 = {"ra": np.tile(R, keep1.size), "rb": vals["rb"][base], "c1": vals["c1"][base]}
-        cost, var, g2, pen, th, tl = self._timing_eval(topo, vals2, c_kind[base],
-                                                       lambda a, b: b)
-        keep = _best_per_group(cost, ci[base], 2, K_TIMING)
-        return _Timing({k: v[keep] for k, v in vals2.items()}, c_kind[base][keep], g2[keep],
-                       var[keep], cost[keep], pen[keep], th[keep], tl[keep])
+        """The kept timing networks of ``core`` (see :mod:`pulsepick.solve.timingsearch`)."""
+        return search_timing(self, core, steer)
 
     # -- stage ------------------------------------------------------------------------------
     def _peak_aim(self) -> float:
@@ -371,23 +303,45 @@ class _Searcher:
         size = next(iter(grid.values())).size
         if size == 0 or tim.cost.size == 0:
             return []
-        # step 1: the stage grid at the best timing network
         i_limit = led_current_limit(self.req.led, sname)[0]
+        stage_sets = self._stage_sets(topo, tim, grid, env, npart, i_limit)
+        if stage_sets is None:
+            return []
+        t_idx, s_vals, cost, parts, night, f_nom, f_end = self._crossed(
+            topo, tim, stage_sets, npart, i_limit)
+        return self._picks(topo, tim, t_idx, s_vals, cost, parts, night, f_nom, f_end)
+
+    def _stage_sets(self, topo: Topology, tim: _Timing, grid: dict[str, np.ndarray], env,
+                    npart, i_limit: float) -> dict[str, np.ndarray] | None:
+        """Step 1: the stage grid at the best timing network; the best coarse points and
+        their series neighbours (None when no grid point works)."""
+        sname = topo.stage
+        size = next(iter(grid.values())).size
         _f, cost, _ = self._eval_cost(topo, tim, np.zeros(size, dtype=int), grid, env, npart,
                                       i_limit)
         search = get_stage(sname).search
         order = [i for i in np.argsort(cost, kind="stable")[:search.coarse_keep]
                  if np.isfinite(cost[i])]
         if not order:
-            return []
+            return None
         sets: dict[tuple, dict[str, float]] = {}
         for i in order:
             for point in self._refine(sname, {k: float(v[i]) for k, v in grid.items()}):
                 sets.setdefault(tuple(point.items()), point)
         names = list(grid)
-        stage_sets = {k: np.array([p[k] for p in sets.values()]) for k in names}
-        # step 2: every kept timing network with every stage set, at the design supply
-        # and (for a supply range) at the end of the night, in one evaluation
+        return {k: np.array([p[k] for p in sets.values()]) for k in names}
+
+    def _crossed(self, topo: Topology, tim: _Timing, stage_sets: dict[str, np.ndarray], npart,
+                 i_limit: float):
+        """Step 2: every kept timing network with every stage set, at the design supply
+        and (for a supply range) at the end of the night, in one evaluation.
+
+        Returns the timing index and stage values of each row, its cost, the cost's
+        parts, the end-of-night cost, and the figures at the design supply and at the
+        end of the night (None without a supply range).
+        """
+        search = get_stage(topo.stage).search
+        names = list(stage_sets)
         n_t = min(tim.cost.size, search.timing_keep)
         n_s = stage_sets[names[0]].size
         t_idx = np.repeat(np.arange(n_t), n_s)
@@ -431,6 +385,12 @@ class _Searcher:
         running = (f_nom.status == RUNS) & np.isfinite(cost)
         for key in ("period_s", "flash_s", "led_peak_a", "effective_a", "effective_mcd"):
             self._note_range(key, np.where(running, getattr(f_nom, key), np.nan))
+        return t_idx, s_vals, cost, parts, night, f_nom, f_end
+
+    def _picks(self, topo: Topology, tim: _Timing, t_idx, s_vals, cost, parts, night, f_nom,
+               f_end) -> list[_Pick]:
+        """The best rows, lowest cost first, that the parts drawer can build (at most
+        ``K_KEEP``)."""
         picks: list[_Pick] = []
         for i in np.argsort(cost, kind="stable"):
             if not np.isfinite(cost[i]) or len(picks) >= K_KEEP:

@@ -63,6 +63,17 @@ def linearised(design: Design, *, temp_range_c: tuple[float, float] = DEFAULT_TE
     supply_range = (None if supply_range_v is None
                     else _check_range(supply_range_v, "supply range", "V", positive=True))
     tols = part_tolerances(design, resistor_tol_pct, cap_tol)
+    var, cov_ab, chip_on = _input_variables(design, tols, temp_range, supply_range, vary_set)
+    active, fig = _evaluate_steps(design, tols, var, chip_on, rel_step)
+    centre, sigma, by_source, shares = _combine(fig, var, active, cov_ab, chip_on, rel_step)
+    return LinearisedResult(design=design, temp_range_c=temp_range, supply_range_v=supply_range,
+                            tolerances=tols, centre=centre, sigma=sigma,
+                            sigma_by_source=by_source, shares=shares)
+
+
+def _input_variables(design: Design, tols, temp_range, supply_range, vary_set):
+    """The inputs as (label, source, mean, sd), the chip pair's covariance, and whether
+    the chip's thresholds vary; sources outside ``vary_set`` sit at nominal with no spread."""
     t_lo, t_hi = temp_range
     t_mean, t_sd = 0.5 * (t_lo + t_hi), (t_hi - t_lo) / math.sqrt(12)
     dt_rms = math.sqrt(t_sd**2 + (t_mean - T_REF_C) ** 2)
@@ -101,6 +112,12 @@ def linearised(design: Design, *, temp_range_c: tuple[float, float] = DEFAULT_TE
     at_nominal = {"T": T_REF_C, "vdd": design.supply_v}
     var = [v if v[1] in vary_set else (v[0], v[1], at_nominal.get(v[0], 0.0), 0.0)
            for v in var]
+    return var, cov_ab, chip_on
+
+
+def _evaluate_steps(design: Design, tols, var, chip_on: bool, rel_step: float):
+    """One engine call on the mean and the +/- step of each input with spread; returns
+    the indices of those inputs and the engine's figures (row 0 the mean, then pairs)."""
     labels = [v[0] for v in var]
     mean = np.array([v[2] for v in var])
     sd = np.array([v[3] for v in var])
@@ -132,8 +149,14 @@ def linearised(design: Design, *, temp_range_c: tuple[float, float] = DEFAULT_TE
                    col["chip_a"] if chip_on else np.full(len(X), np.nan),
                    col["chip_b"] if chip_on else np.full(len(X), np.nan),
                    col["rout"])
-    fig = _evaluate(design, batch)
+    return active, _evaluate(design, batch)
 
+
+def _combine(fig, var, active, cov_ab, chip_on: bool, rel_step: float):
+    """Central-difference gradients combined in quadrature with the inputs' standard
+    deviations: (centre, sigma, sigma by source, period variance shares)."""
+    labels = [v[0] for v in var]
+    sd = np.array([v[3] for v in var])
     keys = ("period_s", "flash_s", "led_peak_a", "effective_a", "effective_mcd",
             "supply_avg_a")
     centre, sigma, by_source = {}, {}, {}
@@ -156,9 +179,7 @@ def linearised(design: Design, *, temp_range_c: tuple[float, float] = DEFAULT_TE
         by_source[key] = {s: math.sqrt(v) for s, v in contrib.items()}
         if key == "period_s":
             shares = {s: (v / total if total > 0 else 0.0) for s, v in contrib.items()}
-    return LinearisedResult(design=design, temp_range_c=temp_range, supply_range_v=supply_range,
-                            tolerances=tols, centre=centre, sigma=sigma,
-                            sigma_by_source=by_source, shares=shares)
+    return centre, sigma, by_source, shares
 
 
 # ----------------------------------------------------------------------- tolerance bands
