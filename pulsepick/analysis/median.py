@@ -8,6 +8,14 @@ longer). This module finds, for one core, a pair of levels (VT+, VT-) that gives
 median of the phase-weighted period over the chip spread, so the solver aims at the
 build a maker most likely gets.
 
+With a supply range the builds also take their supply uniformly from it (as
+:func:`pulsepick.analysis.spread.spread` draws it), and a Schmitt gate's thresholds do
+not follow the supply in proportion (an LVC gate's VT+/VT- ratio grows as the supply
+falls), so the median build over the range blinks slower or faster than at the full
+supply. The same draws then carry a supply each, and the pair at the full supply is
+the one whose period is the median over chips and supplies: one evaluation at the
+full supply stands for the whole range.
+
 An RC phase charging from VT- to VT+ towards the supply lasts RC·ln((V - VT-)/(V - VT+))
 and one discharging from VT+ to VT- towards ground RC·ln(VT+/VT-) (the closed form of
 the Schmitt and 555 astables, ref:onsemi-mc14106b). A core's period is
@@ -22,57 +30,127 @@ import functools
 
 import numpy as np
 
-from pulsepick.analysis.chipspread import draw_thresholds, threshold_limits
+from pulsepick.analysis.chipspread import draw_fractions, draw_thresholds, threshold_limits
 
 #: Chips drawn to place the median (the median of 4,000 draws is within about 1/60 of
 #: the spread's standard deviation, sqrt(pi/2/4000)).
 MEDIAN_DRAWS = 4000
 #: Draws within this fraction of the median period are candidates for the pair.
 MEDIAN_BAND = 0.001
+#: Bisection steps for a chip without spread (a measured one) over a supply range: the
+#: interval VT-..supply shrinks 2^-40, far below a millivolt.
+_BISECT_STEPS = 40
 
 
-def _phase_functions(vdd: float, vtp, vtm) -> tuple[np.ndarray, np.ndarray]:
+def _phase_functions(vdd, vtp, vtm) -> tuple[np.ndarray, np.ndarray]:
+    vdd = np.asarray(vdd, dtype=float)
     vtp = np.asarray(vtp, dtype=float)
     vtm = np.asarray(vtm, dtype=float)
     with np.errstate(all="ignore"):
         return np.log((vdd - vtm) / (vdd - vtp)), np.log(vtp / vtm)
 
 
+def _scalar_limits(chip, supply_v: float) -> list[float]:
+    return [float(np.asarray(x).reshape(-1)[0]) for x in threshold_limits(chip, supply_v)]
+
+
+class _Weights:
+    """The weighted period of a core relative to the typical chip's at the full supply."""
+
+    def __init__(self, supply_v: float, p_typ: float, m_typ: float,
+                 w_high: float | None, w_low: float | None) -> None:
+        self.g_hi0, self.g_lo0 = (float(x) for x in _phase_functions(supply_v, p_typ, m_typ))
+        if w_high is None or w_low is None:
+            w_high, w_low = self.g_hi0, self.g_lo0
+        self.w_high, self.w_low = w_high, w_low
+
+    def rel(self, vdd, vtp, vtm) -> np.ndarray:
+        g_hi, g_lo = _phase_functions(vdd, vtp, vtm)
+        return ((self.w_high * g_hi / self.g_hi0 + self.w_low * g_lo / self.g_lo0)
+                / (self.w_high + self.w_low))
+
+
+def _range_median(chip, supply_v: float, supply_low_v: float, weights: _Weights,
+                  seed: int) -> float:
+    """Median relative period of builds with their supply uniform in the range.
+
+    Each draw takes a supply and a chip at that supply (the split normal at that
+    supply's limits, hysteresis kept), as the Monte Carlo spread does; supplies where
+    the chip is not powered are left out, as the spread leaves those builds out of its
+    quantiles. The generator is a stream of its own, so the draws at the full supply
+    stay those of a steady supply.
+    """
+    from pulsepick.engine.environment import chip_model
+
+    rng = np.random.default_rng([seed, 1])
+    vdd = rng.uniform(supply_low_v, supply_v, MEDIAN_DRAWS)
+    vdd = vdd[np.asarray(chip_model(chip).in_range(vdd), dtype=bool)]
+    if vdd.size == 0:
+        return float("nan")
+    lim = threshold_limits(chip, vdd)
+    a, b = draw_fractions(*lim, rng)
+    p_lo, _, p_hi, m_lo, _, m_hi, _, _ = lim
+    rel = weights.rel(vdd, p_lo + a * (p_hi - p_lo), m_lo + b * (m_hi - m_lo))
+    rel = rel[np.isfinite(rel)]
+    return float(np.median(rel)) if rel.size else float("nan")
+
+
+def _solve_vt_plus(supply_v: float, vtm: float, weights: _Weights, target: float) -> float:
+    """VT+ (V) at which the weighted period is ``target`` with VT- kept (bisection).
+
+    Both phase functions grow with VT+, so the weighted period does too.
+    """
+    lo, hi = vtm * (1.0 + 1e-9), supply_v * (1.0 - 1e-9)
+    for _ in range(_BISECT_STEPS):
+        mid = 0.5 * (lo + hi)
+        if float(weights.rel(supply_v, mid, vtm)) < target:
+            lo = mid
+        else:
+            hi = mid
+    return 0.5 * (lo + hi)
+
+
 @functools.lru_cache(maxsize=256)
 def median_levels(chip, supply_v: float, w_high: float | None = None,
-                  w_low: float | None = None, seed: int = 0) -> tuple[float, float]:
+                  w_low: float | None = None, seed: int = 0,
+                  supply_low_v: float | None = None) -> tuple[float, float]:
     """(VT+, VT-) in V whose period is the median over the chip spread.
 
     Parameters
     ----------
     chip : ChipSpec
-        A chip with measured thresholds has no spread: its own levels are returned.
+        A chip with measured thresholds has no spread: its own levels are returned
+        (over a supply range, VT+ is moved so that the period is the range's median).
     supply_v : float
-        V.
+        V, the full supply (where the levels apply).
     w_high, w_low : float or None
         Weights (any unit) of the charging and discharging phases in the period. None
         takes the typical chip's own phase ratio (plain Schmitt core).
     seed : int
         Seed of the draws (the result is reproducible).
+    supply_low_v : float or None
+        V, the low end of a supply range the builds are spread over (None: a steady
+        supply). The levels then give the median over chips and supplies.
 
     Returns
     -------
     The drawn chip whose weighted period is within ``MEDIAN_BAND`` of the median and
     nearest the typical levels (in units of the limits' width).
     """
-    lim = [float(np.asarray(x).reshape(-1)[0]) for x in threshold_limits(chip, supply_v)]
+    lim = _scalar_limits(chip, supply_v)
     p_lo, p_typ, p_hi, m_lo, m_typ, m_hi = lim[:6]
+    weights = _Weights(supply_v, p_typ, m_typ, w_high, w_low)
+    ranged = supply_low_v is not None and supply_low_v < supply_v
+    target = (_range_median(chip, supply_v, supply_low_v, weights, seed) if ranged
+              else float("nan"))
     if getattr(chip, "measured", False) or (p_hi <= p_lo and m_hi <= m_lo):
-        return p_typ, m_typ
-    g_hi0, g_lo0 = (float(x) for x in _phase_functions(supply_v, p_typ, m_typ))
-    if w_high is None or w_low is None:
-        w_high, w_low = g_hi0, g_lo0
-    total = w_high + w_low
+        if not np.isfinite(target):
+            return p_typ, m_typ
+        return _solve_vt_plus(supply_v, m_typ, weights, target), m_typ
     vtp, vtm = draw_thresholds(chip, supply_v, MEDIAN_DRAWS, np.random.default_rng(seed))
-    g_hi, g_lo = _phase_functions(supply_v, vtp, vtm)
-    rel = (w_high * g_hi / g_hi0 + w_low * g_lo / g_lo0) / total
+    rel = weights.rel(supply_v, vtp, vtm)
     ok = np.isfinite(rel)
-    med = float(np.median(rel[ok]))
+    med = target if np.isfinite(target) else float(np.median(rel[ok]))
     near = ok & (np.abs(rel / med - 1.0) <= MEDIAN_BAND)
     if not np.any(near):
         near = ok & (np.abs(rel - med) == np.min(np.abs(rel[ok] - med)))
@@ -83,12 +161,20 @@ def median_levels(chip, supply_v: float, w_high: float | None = None,
 
 
 def median_shift(chip, supply_v: float, w_high: float | None = None,
-                 w_low: float | None = None, seed: int = 0) -> float:
+                 w_low: float | None = None, seed: int = 0,
+                 supply_low_v: float | None = None) -> float:
     """The median chip's weighted period over the typical chip's, minus 1 (fraction)."""
-    lim = [float(np.asarray(x).reshape(-1)[0]) for x in threshold_limits(chip, supply_v)]
-    vtp, vtm = median_levels(chip, supply_v, w_high, w_low, seed)
-    g_hi0, g_lo0 = (float(x) for x in _phase_functions(supply_v, lim[1], lim[4]))
-    g_hi, g_lo = (float(x) for x in _phase_functions(supply_v, vtp, vtm))
-    if w_high is None or w_low is None:
-        w_high, w_low = g_hi0, g_lo0
-    return (w_high * g_hi / g_hi0 + w_low * g_lo / g_lo0) / (w_high + w_low) - 1.0
+    lim = _scalar_limits(chip, supply_v)
+    weights = _Weights(supply_v, lim[1], lim[4], w_high, w_low)
+    vtp, vtm = median_levels(chip, supply_v, w_high, w_low, seed, supply_low_v)
+    return float(weights.rel(supply_v, vtp, vtm)) - 1.0
+
+
+def range_ratio(chip, supply_v: float, supply_low_v: float | None, w_high: float | None = None,
+                w_low: float | None = None, seed: int = 0) -> float:
+    """The period at the range-aware levels over the period at the full supply's own
+    median levels (1 without a range): the factor the supply range adds to the aim."""
+    if supply_low_v is None or not supply_low_v < supply_v:
+        return 1.0
+    return ((1.0 + median_shift(chip, supply_v, w_high, w_low, seed, supply_low_v))
+            / (1.0 + median_shift(chip, supply_v, w_high, w_low, seed)))

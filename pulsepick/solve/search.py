@@ -17,7 +17,7 @@ from pulsepick.solve.score import (
     K_SLOW, K_TIMING, LEAK_MARGIN, led_current_limit, n_parts, peak_needed, PENALTY_END,
     PENALTY_HOT_LEAK, PREFER_WEIGHTS, SIGMA, THRESHOLD_STEP,
 )
-from pulsepick.solve.space import _cap_var, _space, aim_levels
+from pulsepick.solve.space import _cap_var, _space, aim_levels, range_aim_ratio
 
 
 @dataclass
@@ -64,6 +64,12 @@ class _Searcher:
         self.cap_var = np.array([_cap_var(k) for k in self.space.kinds])
         self.leak_margin = LEAK_MARGIN
         self.aim: tuple[str, str] | None = None  # (core, steer) whose median chip is aimed at
+        self._range_log = 0.0  # ln of the supply range's share of the aim (range_aim_ratio)
+
+    def set_aim(self, core: str, steer: str) -> None:
+        """Aim at the median chip of ``core`` (with ``steer``) in the rows of :meth:`stage`."""
+        self.aim = (core, steer)
+        self._range_log = math.log(range_aim_ratio(self.req, self.chip, core, steer))
 
     # -- bookkeeping ------------------------------------------------------------------------
     def _note_range(self, key: str, x) -> None:
@@ -422,8 +428,10 @@ class _Searcher:
         f_end = None
         if end_v is not None:
             f_end = _slice_figures(f_all, slice(n, 2 * n))
+            # the nominal rows aim at the median over the supply range; the drift is
+            # against the full supply's own median chip
             with np.errstate(all="ignore"):
-                drift = np.log(f_end.period_s / f_nom.period_s)
+                drift = np.log(f_end.period_s / f_nom.period_s) + self._range_log
             ok = (f_end.status == RUNS) & np.isfinite(drift)
             night = np.where(ok, drift**2 / 3.0 / SIGMA**2,
                              PENALTY_END)
