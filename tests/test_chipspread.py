@@ -14,11 +14,13 @@ from scipy import integrate, stats
 
 from pulsepick.analysis.chipspread import (
     Z_TAIL,
+    draw_fractions,
     draw_thresholds,
     split_normal_cdf,
     split_normal_fraction,
     split_normal_pdf,
     split_normal_var,
+    threshold_limits,
     threshold_percentile,
 )
 from pulsepick.analysis.median import median_levels, median_shift
@@ -84,3 +86,36 @@ def test_median_chip_of_hc_is_slower_than_typical():
     # a measured chip has no spread: its own levels
     measured = ChipSpec("hc", vt_plus_v=1.7, vt_minus_v=1.0, measured_at_v=3.0)
     assert median_levels(measured, 3.0, 2.95, 0.05) == pytest.approx((1.7, 1.0))
+
+
+def test_median_levels_over_a_supply_range_match_the_draws():
+    # LVC from 2.7 V down to 1.8 V: the VT+/VT- ratio grows as the supply falls, so the
+    # median build over the range blinks slower than the median chip at 2.7 V
+    from pulsepick.analysis.median import _Weights, _scalar_limits, range_ratio
+
+    chip = ChipSpec("lvc")
+    lim = _scalar_limits(chip, 2.7)
+    weights = _Weights(2.7, lim[1], lim[4], 0.04, 2.96)
+    vtp, vtm = median_levels(chip, 2.7, 0.04, 2.96, 1.8)
+    aimed = float(weights.rel(2.7, vtp, vtm))
+    # the same distribution drawn at random: supply uniform, chip at each supply
+    rng = np.random.default_rng(3)
+    vdd = rng.uniform(1.8, 2.7, 100_000)
+    limits = threshold_limits(chip, vdd)
+    a, b = draw_fractions(*limits, rng)
+    drawn = weights.rel(vdd, limits[0] + a * (limits[2] - limits[0]),
+                        limits[3] + b * (limits[5] - limits[3]))
+    assert aimed == pytest.approx(float(np.median(drawn)), rel=0.002)
+    ratio = range_ratio(chip, 2.7, 1.8, 0.04, 2.96)
+    assert 1.02 < ratio < 1.08
+    assert aimed == pytest.approx((1 + median_shift(chip, 2.7, 0.04, 2.96)) * ratio, rel=1e-9)
+    # a steady supply keeps the full supply's own median chip
+    assert range_ratio(chip, 2.7, None, 0.04, 2.96) == 1.0
+    # a measured chip whose levels follow the family's shape in supply: VT- kept, VT+
+    # moved up to the range's median; levels taken in proportion to the supply: unmoved
+    shaped = ChipSpec("lvc", vt_plus_v=1.6, vt_minus_v=0.9, measured_at_v=2.7,
+                      follows_family=True)
+    mp, mm = median_levels(shaped, 2.7, 0.04, 2.96, 1.8)
+    assert mm == pytest.approx(0.9) and 1.61 < mp < 1.75
+    plain = ChipSpec("lvc", vt_plus_v=1.6, vt_minus_v=0.9, measured_at_v=2.7)
+    assert median_levels(plain, 2.7, 0.04, 2.96, 1.8) == pytest.approx((1.6, 0.9))

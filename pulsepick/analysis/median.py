@@ -30,16 +30,24 @@ import functools
 
 import numpy as np
 
-from pulsepick.analysis.chipspread import draw_fractions, draw_thresholds, threshold_limits
+from pulsepick.analysis.chipspread import split_normal_fraction, threshold_limits
 
-#: Chips drawn to place the median (the median of 4,000 draws is within about 1/60 of
-#: the spread's standard deviation, sqrt(pi/2/4000)).
-MEDIAN_DRAWS = 4000
-#: Draws within this fraction of the median period are candidates for the pair.
+#: Quantiles per threshold in the grid that places the median: the chips of the spread
+#: as a fixed set of equally likely points (each threshold's inverse CDF at the
+#: midpoints of GRID_CHIPS equal steps, the pairs outside the hysteresis window left
+#: out, as the draw rejects them). No sampling noise; 128 x 128 points place the median
+#: to a few parts in ten thousand of the period.
+GRID_CHIPS = 128
+#: Supplies of a supply range in the grid (midpoints of equal steps: the uniform draw).
+GRID_SUPPLIES = 16
+#: Chips per threshold at each supply of a range (GRID_SUPPLIES x 48 x 48 points).
+GRID_CHIPS_RANGED = 48
+#: Grid points within this fraction of the median period are candidates for the pair.
 MEDIAN_BAND = 0.001
 #: Bisection steps for a chip without spread (a measured one) over a supply range: the
 #: interval VT-..supply shrinks 2^-40, far below a millivolt.
 _BISECT_STEPS = 40
+_EPS_V = 1e-12  # V, slack on the hysteresis window (as the draw has)
 
 
 def _phase_functions(vdd, vtp, vtm) -> tuple[np.ndarray, np.ndarray]:
@@ -52,6 +60,31 @@ def _phase_functions(vdd, vtp, vtm) -> tuple[np.ndarray, np.ndarray]:
 
 def _scalar_limits(chip, supply_v: float) -> list[float]:
     return [float(np.asarray(x).reshape(-1)[0]) for x in threshold_limits(chip, supply_v)]
+
+
+def chip_grid(chip, supplies, n: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(supply, VT+, VT-) in V of equally likely chips at each of ``supplies`` (V).
+
+    ``n`` quantiles of each threshold's split normal (pulsepick.analysis.chipspread)
+    crossed, the pairs outside the hysteresis window left out: a deterministic
+    stand-in for the Monte Carlo draw of the same distribution.
+    """
+    u = (np.arange(n) + 0.5) / n
+    supplies = np.asarray(supplies, dtype=float).reshape(-1)
+    p_lo, p_typ, p_hi, m_lo, m_typ, m_hi, h_lo, h_hi = (
+        np.broadcast_to(np.asarray(x, dtype=float).reshape(-1), supplies.shape)[:, None]
+        for x in threshold_limits(chip, supplies))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        fa = np.where(p_hi > p_lo, (p_typ - p_lo) / np.where(p_hi > p_lo, p_hi - p_lo, 1), 0)
+        fb = np.where(m_hi > m_lo, (m_typ - m_lo) / np.where(m_hi > m_lo, m_hi - m_lo, 1), 0)
+    # each threshold's n quantiles at each supply (supplies x n), then crossed
+    vtp = (p_lo + split_normal_fraction(u[None, :], fa) * (p_hi - p_lo))[:, :, None]
+    vtm = (m_lo + split_normal_fraction(u[None, :], fb) * (m_hi - m_lo))[:, None, :]
+    h = vtp - vtm
+    keep = (h >= h_lo[:, :, None] - _EPS_V) & (h <= h_hi[:, :, None] + _EPS_V)
+    shape = h.shape
+    return (np.broadcast_to(supplies[:, None, None], shape)[keep],
+            np.broadcast_to(vtp, shape)[keep], np.broadcast_to(vtm, shape)[keep])
 
 
 class _Weights:
@@ -70,29 +103,27 @@ class _Weights:
                 / (self.w_high + self.w_low))
 
 
-def _range_median(chip, supply_v: float, supply_low_v: float, weights: _Weights,
-                  seed: int) -> float:
+def _median(rel: np.ndarray) -> float:
+    rel = rel[np.isfinite(rel)]
+    return float(np.median(rel)) if rel.size else float("nan")
+
+
+def _range_median(chip, supply_v: float, supply_low_v: float, weights: _Weights) -> float:
     """Median relative period of builds with their supply uniform in the range.
 
-    Each draw takes a supply and a chip at that supply (the split normal at that
-    supply's limits, hysteresis kept), as the Monte Carlo spread does; supplies where
-    the chip is not powered are left out, as the spread leaves those builds out of its
-    quantiles. The generator is a stream of its own, so the draws at the full supply
-    stay those of a steady supply.
+    Each supply of the grid carries the chips of the split normal at that supply's
+    limits (hysteresis kept), as the Monte Carlo spread draws them; supplies where the
+    chip is not powered are left out, as the spread leaves those builds out of its
+    quantiles.
     """
     from pulsepick.engine.environment import chip_model
 
-    rng = np.random.default_rng([seed, 1])
-    vdd = rng.uniform(supply_low_v, supply_v, MEDIAN_DRAWS)
+    step = (supply_v - supply_low_v) / GRID_SUPPLIES
+    vdd = supply_low_v + (np.arange(GRID_SUPPLIES) + 0.5) * step
     vdd = vdd[np.asarray(chip_model(chip).in_range(vdd), dtype=bool)]
     if vdd.size == 0:
         return float("nan")
-    lim = threshold_limits(chip, vdd)
-    a, b = draw_fractions(*lim, rng)
-    p_lo, _, p_hi, m_lo, _, m_hi, _, _ = lim
-    rel = weights.rel(vdd, p_lo + a * (p_hi - p_lo), m_lo + b * (m_hi - m_lo))
-    rel = rel[np.isfinite(rel)]
-    return float(np.median(rel)) if rel.size else float("nan")
+    return _median(weights.rel(*chip_grid(chip, vdd, GRID_CHIPS_RANGED)))
 
 
 def _solve_vt_plus(supply_v: float, vtm: float, weights: _Weights, target: float) -> float:
@@ -112,7 +143,7 @@ def _solve_vt_plus(supply_v: float, vtm: float, weights: _Weights, target: float
 
 @functools.lru_cache(maxsize=256)
 def median_levels(chip, supply_v: float, w_high: float | None = None,
-                  w_low: float | None = None, seed: int = 0,
+                  w_low: float | None = None,
                   supply_low_v: float | None = None) -> tuple[float, float]:
     """(VT+, VT-) in V whose period is the median over the chip spread.
 
@@ -126,31 +157,28 @@ def median_levels(chip, supply_v: float, w_high: float | None = None,
     w_high, w_low : float or None
         Weights (any unit) of the charging and discharging phases in the period. None
         takes the typical chip's own phase ratio (plain Schmitt core).
-    seed : int
-        Seed of the draws (the result is reproducible).
     supply_low_v : float or None
         V, the low end of a supply range the builds are spread over (None: a steady
         supply). The levels then give the median over chips and supplies.
 
     Returns
     -------
-    The drawn chip whose weighted period is within ``MEDIAN_BAND`` of the median and
-    nearest the typical levels (in units of the limits' width).
+    The chip of the grid whose weighted period is within ``MEDIAN_BAND`` of the median
+    and nearest the typical levels (in units of the limits' width).
     """
     lim = _scalar_limits(chip, supply_v)
     p_lo, p_typ, p_hi, m_lo, m_typ, m_hi = lim[:6]
     weights = _Weights(supply_v, p_typ, m_typ, w_high, w_low)
     ranged = supply_low_v is not None and supply_low_v < supply_v
-    target = (_range_median(chip, supply_v, supply_low_v, weights, seed) if ranged
-              else float("nan"))
+    target = _range_median(chip, supply_v, supply_low_v, weights) if ranged else float("nan")
     if getattr(chip, "measured", False) or (p_hi <= p_lo and m_hi <= m_lo):
         if not np.isfinite(target):
             return p_typ, m_typ
         return _solve_vt_plus(supply_v, m_typ, weights, target), m_typ
-    vtp, vtm = draw_thresholds(chip, supply_v, MEDIAN_DRAWS, np.random.default_rng(seed))
+    _, vtp, vtm = chip_grid(chip, [supply_v], GRID_CHIPS)
     rel = weights.rel(supply_v, vtp, vtm)
     ok = np.isfinite(rel)
-    med = target if np.isfinite(target) else float(np.median(rel[ok]))
+    med = target if np.isfinite(target) else _median(rel)
     near = ok & (np.abs(rel / med - 1.0) <= MEDIAN_BAND)
     if not np.any(near):
         near = ok & (np.abs(rel - med) == np.min(np.abs(rel[ok] - med)))
@@ -161,20 +189,19 @@ def median_levels(chip, supply_v: float, w_high: float | None = None,
 
 
 def median_shift(chip, supply_v: float, w_high: float | None = None,
-                 w_low: float | None = None, seed: int = 0,
-                 supply_low_v: float | None = None) -> float:
+                 w_low: float | None = None, supply_low_v: float | None = None) -> float:
     """The median chip's weighted period over the typical chip's, minus 1 (fraction)."""
     lim = _scalar_limits(chip, supply_v)
     weights = _Weights(supply_v, lim[1], lim[4], w_high, w_low)
-    vtp, vtm = median_levels(chip, supply_v, w_high, w_low, seed, supply_low_v)
+    vtp, vtm = median_levels(chip, supply_v, w_high, w_low, supply_low_v)
     return float(weights.rel(supply_v, vtp, vtm)) - 1.0
 
 
 def range_ratio(chip, supply_v: float, supply_low_v: float | None, w_high: float | None = None,
-                w_low: float | None = None, seed: int = 0) -> float:
+                w_low: float | None = None) -> float:
     """The period at the range-aware levels over the period at the full supply's own
     median levels (1 without a range): the factor the supply range adds to the aim."""
     if supply_low_v is None or not supply_low_v < supply_v:
         return 1.0
-    return ((1.0 + median_shift(chip, supply_v, w_high, w_low, seed, supply_low_v))
-            / (1.0 + median_shift(chip, supply_v, w_high, w_low, seed)))
+    return ((1.0 + median_shift(chip, supply_v, w_high, w_low, supply_low_v))
+            / (1.0 + median_shift(chip, supply_v, w_high, w_low)))

@@ -176,7 +176,7 @@ def aim_levels(req: SolveRequest, chip, core: str, steer: str,
 
     v = req.supply_v if supply_v is None else supply_v
     low = req.supply_end_v if v == req.supply_v else None
-    return median_levels(chip, v, *_aim_weights(req, core, steer), req.seed, low)
+    return median_levels(chip, v, *_aim_weights(req, core, steer), low)
 
 
 def range_aim_ratio(req: SolveRequest, chip, core: str, steer: str) -> float:
@@ -184,8 +184,7 @@ def range_aim_ratio(req: SolveRequest, chip, core: str, steer: str) -> float:
     the design supply's own median chip: the supply range's share of the aim."""
     from pulsepick.analysis.median import range_ratio
 
-    return range_ratio(chip, req.supply_v, req.supply_end_v, *_aim_weights(req, core, steer),
-                       req.seed)
+    return range_ratio(chip, req.supply_v, req.supply_end_v, *_aim_weights(req, core, steer))
 
 
 def aim_env(req: SolveRequest, chip, core: str, steer: str, env):
