@@ -89,6 +89,13 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     ctx.add_argument("--supply", metavar="V|FULL..END",
                      help=f"supply, or a range from full to the end of the night such as "
                           f"2.7V..1.8V (default {DEFAULT_SUPPLY})")
+    ctx.add_argument("--storage", metavar="KEY|C",
+                     help="the storage that feeds the light at night, a part key (such as "
+                          "5f-2v7) or a capacitance (such as 1F, rated 2.7 V); with a supply "
+                          "range each circuit's night is run from the full supply at dusk "
+                          "down to the end one (the night column: lasts, or when it goes dark)")
+    ctx.add_argument("--night", metavar="T",
+                     help="length of the night for --storage, such as 12.5h (default 12h)")
     ctx.add_argument("--family", metavar="LIST",
                      help=f"chips, a comma list of {', '.join(FAMILY_CHOICES)} "
                           f"(default {DEFAULT_FAMILY})")
@@ -306,15 +313,49 @@ def compute(args) -> SolveRun:
     req = request_from_args(args)
     picked = args.pick is not None
     args.pick = 1 if args.pick is None else args.pick
+    night = night_plan(args, req)
     jobs = default_jobs() if args.jobs is None else args.jobs
     result = solve(req, jobs=jobs)
     result = assess(result, jobs=jobs)
+    if night is not None:
+        from pulsepick.solve.nightcheck import night_check
+
+        result = night_check(result, night)
     plans = None
     if getattr(args, "trim", False):
         from pulsepick.commands.trim_parts import trim_result
 
         result, plans = trim_result(result, req.r_series)
     return SolveRun(result, req, plans, picked)
+
+
+def night_plan(args, req):
+    """The night each candidate runs through (``--storage``, ``--night``), or None."""
+    from pulsepick.commands.night_options import quantity, read_storage
+    from pulsepick.errors import RequestError
+    from pulsepick.solve.nightcheck import DEFAULT_NIGHT_S, NightPlan
+
+    storage_text, night_text = getattr(args, "storage", None), getattr(args, "night", None)
+    if storage_text is None:
+        if night_text is not None:
+            raise RequestError("--night applies with --storage (the night is run on it)")
+        return None
+    if req.supply_end_v is None:
+        raise RequestError("--storage needs a supply range from dusk to the end of the night, "
+                           "such as --supply 2.7V..1.8V")
+    storage = read_storage(storage_text, None)
+    if req.supply_v > storage.v_rated_v + 1e-9:
+        raise RequestError(f"--storage {storage_text}: the full supply {req.supply_v:g} V is "
+                           f"above its rating {storage.v_rated_v:g} V; give a part rated for "
+                           "it (such as 1f-5v5) or a lower supply")
+    night_s = DEFAULT_NIGHT_S
+    if night_text is not None:
+        night_s = quantity(night_text, "time", "--night", "12.5h")
+        if not 0 < night_s <= 24 * 3600:
+            raise RequestError(f"--night {night_text!r}: a night lasts more than 0 and at "
+                               "most 24 h")
+    return NightPlan(storage, req.supply_v, req.supply_end_v, night_s,
+                     night_given=night_text is not None)
 
 
 def solve_json(run: SolveRun) -> dict:
@@ -407,8 +448,9 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
                   schematics: bool = False) -> None:
     """The terminal report of a solver result (readable at 100 columns, no colour needed);
     ``schematics`` draws each candidate."""
+    from pulsepick.commands.solve_summary import night_caption, night_word
     from pulsepick.export import solve_cautions
-    from pulsepick.render import simple_table
+    from pulsepick.render import print_wrapped, simple_table
 
     req = result.request
     cautions = solve_cautions(req)
@@ -430,7 +472,7 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
             _eng(f["led_peak_a"], "A"), _eng(f["supply_avg_a"], "A"),
         ]
         if night:
-            row.append({None: "-", True: "yes", False: "NO"}[c.lasts_night])
+            row.append(night_word(c))
         rows.append(row + [f"{c.score:.2f}"])
     heads = ["#", "circuit", "chip", "period", "P5..P95", "±10 %", "flash",
              "peak", "supply"] + (["night"] if night else []) + ["score"]
@@ -438,6 +480,9 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
         f"Ranked circuits ({result.evaluated:,} evaluated in {result.search_s:.2f} s; lower "
         "score is better; period: the median of the builds)",
         heads, rows, justify=["right", "left", "left"] + ["right"] * (len(heads) - 3)))
+    caption = night_caption(result)
+    if caption:
+        print_wrapped(console, caption, indent="", hang="  ")
     console.print()
     for c in result.candidates:
         _render_candidate(console, req, c)
@@ -694,6 +739,10 @@ def _render_drift(console, c) -> None:
     if dr.unpowered_below_v is not None:
         console.print(f"    the chip leaves its supply range below {dr.unpowered_below_v:.2f} V",
                       markup=False)
+    if getattr(c, "night", None) is not None:
+        from pulsepick.commands.solve_summary import night_text
+
+        console.print(f"    on the storage: {night_text(c.night)}", markup=False)
 
 
 def _render_waveform(console, c) -> None:
@@ -808,10 +857,14 @@ def compute_build(args) -> BuildRun:
     """Check the options and solve several lights (a phrase or a design file)."""
     from pulsepick.commands.pictures import check_picture_targets
     from pulsepick.designfile import is_design_file
-    from pulsepick.errors import RequestError  # noqa: F401 (used below in main's code)
+    from pulsepick.errors import RequestError
     from pulsepick.solve import default_jobs, solve_build
 
     design_path = args.phrase if is_design_file(args.phrase) else None
+    for flag in ("storage", "night"):
+        if getattr(args, flag, None) is not None:
+            raise RequestError(f"--{flag} applies to one light; for several lights run "
+                               "'pulsepick night' on the design file or the phrase")
     check_picture_targets(args, [args.stock, design_path], with_buylist=True)
     breq, design = build_request_from_args(args)
     if design is not None and design.stock_path:
