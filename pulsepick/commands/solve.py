@@ -21,6 +21,8 @@ EXAMPLES = [
     'pulsepick solve "one flash every 3 s"',
     'pulsepick solve "flash every 2.5 s for 40 ms, 5 mA peak" --supply 2.7V..1.8V '
     "--family lvc,timer555",
+    'pulsepick solve "one flash every 3 s, 40 ms long" --supply 2.7V..1.8V '
+    "--family lvc,timer555 --storage 5f-2v7 --night 13h",
     'pulsepick solve "20 flashes a minute, 0.1 s long, as bright as a steady 1 mA"',
     'pulsepick solve "every 4 s, 200 mcd" --led white --supply 3.3V',
     "pulsepick solve --every 3s --flash 40ms --peak 5mA --led red --supply 2.7V..1.8V",
