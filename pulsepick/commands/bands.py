@@ -39,14 +39,14 @@ from pulsepick.commands.pictures import (
 )
 from pulsepick.commands.wording import CLASS_LABELS
 from pulsepick.errors import PulsepickError, RequestError
-from pulsepick.render import (
+from pulsepick.output.render import (
     dump_json,
     make_console,
     plot_columns,
     print_wrapped,
     simple_table,
 )
-from pulsepick.textplot import spread_lines
+from pulsepick.output.textplot import spread_lines
 from pulsepick.units import format_eng, format_rkm, parse_quantity, parse_range
 
 NAME = "bands"

@@ -17,7 +17,7 @@ def _eng(x, unit: str, digits: int = 3) -> str:
 
 
 def _bullet(console, text: str, indent: str = "  - ", hang: str = "    ") -> None:
-    from pulsepick.render import print_wrapped
+    from pulsepick.output.render import print_wrapped
 
     print_wrapped(console, text, indent=indent, hang=hang)
 
@@ -48,3 +48,13 @@ def render_unmet(console, result, cautions) -> bool:
     console.print()
     _render_cautions(console, cautions)
     return True
+
+
+def _nothing_line(what: str, explanations) -> None:
+    """The one stderr line of a request that gets nothing (the reasons are on stdout)."""
+    import sys
+
+    first = next(iter(explanations), "")
+    reason = f": {first}" if first else ""
+    print(f"pulsepick: error: nothing can be offered for \"{what}\"{reason}",
+          file=sys.stderr)
