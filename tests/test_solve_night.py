@@ -79,3 +79,23 @@ def test_bad_night_options(extra, words, capsys):
         else DEMO
     assert main([*argv, *extra]) == 2
     assert words in capsys.readouterr().err
+
+
+def test_chip_spread_option(capsys):
+    assert main(["solve", "one flash every 3 s", "--family", "hc", "--cores",
+                 "schmitt-steered", "--stages", "direct", "--buffered", "--top", "1",
+                 "--chip-spread", "uniform", "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    c = doc["candidates"][0]
+    assert doc["assumptions"]["chip_spread"] == "uniform"
+    assert c["spread"]["chip_spread"] == "uniform"
+    # the solver aims at the uniform reading's median build too
+    assert abs(c["median_period_s"] / 3.0 - 1.0) < 0.05
+    assert main(["bands", "--core", "schmitt", "--r", "2M2", "--c", "1u", "--rs", "470",
+                 "--builds", "200", "--chip-spread", "triangle", "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["chip_spread"] == "triangle"
+    for cmd in (["solve", "every 3 s"], ["check", "--core", "schmitt", "--r", "2M2", "--c",
+                                        "1u", "--stage", "direct", "--rs", "470"]):
+        assert main([*cmd, "--chip-spread", "flat"]) == 2
+        assert "--chip-spread 'flat': accepted normal, uniform, triangle" in \
+            capsys.readouterr().err

@@ -30,7 +30,7 @@ import functools
 
 import numpy as np
 
-from pulsepick.analysis.chipspread import split_normal_fraction, threshold_limits
+from pulsepick.analysis.chipspread import chip_shape, spread_fraction, threshold_limits
 
 #: Quantiles per threshold in the grid that places the median: the chips of the spread
 #: as a fixed set of equally likely points (each threshold's inverse CDF at the
@@ -65,8 +65,8 @@ def _scalar_limits(chip, supply_v: float) -> list[float]:
 def chip_grid(chip, supplies, n: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(supply, VT+, VT-) in V of equally likely chips at each of ``supplies`` (V).
 
-    ``n`` quantiles of each threshold's split normal (pulsepick.analysis.chipspread)
-    crossed, the pairs outside the hysteresis window left out: a deterministic
+    ``n`` quantiles of each threshold's split normal (or the chip's ``spread`` shape,
+    pulsepick.analysis.chipspread) crossed, the pairs outside the hysteresis window left out: a deterministic
     stand-in for the Monte Carlo draw of the same distribution.
     """
     u = (np.arange(n) + 0.5) / n
@@ -78,8 +78,9 @@ def chip_grid(chip, supplies, n: int) -> tuple[np.ndarray, np.ndarray, np.ndarra
         fa = np.where(p_hi > p_lo, (p_typ - p_lo) / np.where(p_hi > p_lo, p_hi - p_lo, 1), 0)
         fb = np.where(m_hi > m_lo, (m_typ - m_lo) / np.where(m_hi > m_lo, m_hi - m_lo, 1), 0)
     # each threshold's n quantiles at each supply (supplies x n), then crossed
-    vtp = (p_lo + split_normal_fraction(u[None, :], fa) * (p_hi - p_lo))[:, :, None]
-    vtm = (m_lo + split_normal_fraction(u[None, :], fb) * (m_hi - m_lo))[:, None, :]
+    shape = chip_shape(chip)
+    vtp = (p_lo + spread_fraction(u[None, :], fa, shape) * (p_hi - p_lo))[:, :, None]
+    vtm = (m_lo + spread_fraction(u[None, :], fb, shape) * (m_hi - m_lo))[:, None, :]
     h = vtp - vtm
     keep = (h >= h_lo[:, :, None] - _EPS_V) & (h <= h_hi[:, :, None] + _EPS_V)
     shape = h.shape

@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import argparse
 
+from pulsepick.commands.spread_option import add_chip_spread_argument, chip_spread_choice
+
 _PHRASE_HELP = (
     "the blink as a phrase, e.g. \"one flash every 3 s\". Pieces, separated by commas: "
     "'every 3 s' or '20 flashes a minute' or '20/min' (period); 'for 40 ms' or "
@@ -67,6 +69,7 @@ def _build_arguments(parser: argparse.ArgumentParser) -> None:
     ctx.add_argument("--supply", metavar="V|FULL..END",
                      help=f"supply, or a range from full to the end of the night such as "
                           f"2.7V..1.8V (default {DEFAULT_SUPPLY})")
+    add_chip_spread_argument(ctx)
     ctx.add_argument("--storage", metavar="KEY|C",
                      help="the storage that feeds the light at night, a part key (such as "
                           "5f-2v7) or a capacitance (such as 1F, rated 2.7 V); with a supply "
@@ -260,6 +263,7 @@ def request_from_args(args):
         cap_range=args.cap_range, buffered=args.buffered, stages=args.stages,
         cores=args.cores, stock=args.stock, top=args.top, builds=args.builds, seed=args.seed,
         prefer=args.prefer,
+        chip_spread=None if args.chip_spread is None else chip_spread_choice(args.chip_spread),
     )
     if overrides:
         from dataclasses import replace

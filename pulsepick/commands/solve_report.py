@@ -184,6 +184,7 @@ def _render_request(console, req, result=None) -> None:
          mark("stock")],
         ["spread", f"{req.builds:,} builds, seed {req.seed}, {TEMP_RANGE_TEXT}",
          mark("builds", "seed")],
+        ["chip thresholds", f"limits read as {req.chip_spread}", mark("chip_spread")],
     ]
     if req.chip_overrides:
         names = {"vt_plus_v": ("VT+", "V"), "vt_minus_v": ("VT-", "V"),

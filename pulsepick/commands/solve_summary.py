@@ -160,6 +160,8 @@ def assumptions_text(req) -> str:
                f"{format_eng(req.c_max_f, 'F')}",
                f"parts {'from ' + req.stock.source if req.stock else 'any standard value'}",
                f"{req.builds:,} builds, seed {req.seed}"]
+    if req.chip_spread != "normal":
+        context.append(f"chip thresholds read as {req.chip_spread}")
     out = f"asked: {', '.join(asked) or '-'}"
     if assumed:
         out += f"; assumed: {', '.join(assumed)}"

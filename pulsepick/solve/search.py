@@ -130,19 +130,20 @@ class _Searcher:
         """
         v = self.v
         chip = self.chip
+        shape = chip.spread
         if chip.is_timer:
             leak, hot = model.leak_a, model.leak_a
             plus = _threshold_var(model.thr_ratio_min * v, model.thr_ratio_typ * v,
-                                   model.thr_ratio_max * v)
+                                   model.thr_ratio_max * v, shape)
             minus = _threshold_var(model.trig_ratio_min * v, model.trig_ratio_typ * v,
-                                    model.trig_ratio_max * v)
+                                    model.trig_ratio_max * v, shape)
         else:
             leak, hot = model.leak_max_a, model.leak_max_hot_a
             th = model.thresholds(v)
             plus = _threshold_var(float(th.vt_plus_min), float(th.vt_plus_typ),
-                                   float(th.vt_plus_max))
+                                   float(th.vt_plus_max), shape)
             minus = _threshold_var(float(th.vt_minus_min), float(th.vt_minus_typ),
-                                    float(th.vt_minus_max))
+                                    float(th.vt_minus_max), shape)
         if chip.measured:
             plus = minus = 0.0
         step = THRESHOLD_STEP * v

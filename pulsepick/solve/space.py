@@ -143,8 +143,8 @@ def _chip(req: SolveRequest, family: str):
     from pulsepick.engine.environment import ChipSpec
 
     if family == TIMER_KEY or not req.chip_overrides:
-        return ChipSpec(family)
-    return ChipSpec(family, **req.chip_overrides)
+        return ChipSpec(family, spread=req.chip_spread)
+    return ChipSpec(family, spread=req.chip_spread, **req.chip_overrides)
 
 
 def _aim_weights(req: SolveRequest, core: str, steer: str) -> tuple[float | None, float | None]:
