@@ -413,9 +413,9 @@ def _json(obj: Any) -> dict[str, Any]:
 # ---------------------------------------------------------------------------- summaries
 
 def _eng(x: Any, unit: str) -> str:
-    from pulsepick.units import format_eng
+    from pulsepick.units import format_figure
 
-    return "-" if not isinstance(x, (int, float)) else format_eng(float(x), unit)
+    return format_figure(x, unit)
 
 
 def _solve_summary(d: dict) -> str:

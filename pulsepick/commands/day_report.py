@@ -52,9 +52,9 @@ def _v(x: float) -> str:
 
 def _eng(x: float, unit: str) -> str:
     """A charge (C) or energy (J) in engineering notation: 9.77 C, 150 mC, 1.14 kC."""
-    from pulsepick.units import format_eng
+    from pulsepick.units import format_figure
 
-    return format_eng(x, unit)
+    return format_figure(x, unit)
 
 
 def full_v(result: DaysResult) -> float:

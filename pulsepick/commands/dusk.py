@@ -197,13 +197,9 @@ def result_json(r: DuskResult) -> dict:
 
 
 def _eng(value: float, unit: str) -> str:
-    from pulsepick.units import format_eng
+    from pulsepick.units import format_figure
 
-    if not math.isfinite(value):
-        return "-"
-    if value == 0:
-        return f"0 {unit}"
-    return format_eng(value, unit)
+    return format_figure(value, unit)
 
 
 def _lux(value: float) -> str:

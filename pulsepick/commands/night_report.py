@@ -22,11 +22,9 @@ def _hm(moment: datetime | None) -> str | None:
 
 
 def _eng(value: float | None, unit: str) -> str:
-    from pulsepick.units import format_eng
+    from pulsepick.units import format_figure
 
-    if value is None or not math.isfinite(value):
-        return "-"
-    return format_eng(value, unit)
+    return format_figure(value, unit)
 
 
 def _bullets(console, title: str, items, mark: str) -> None:

@@ -11,12 +11,11 @@ import math
 import re
 
 from pulsepick.commands.solve_text import _bullet, _eng, _render_cautions, render_unmet
+from pulsepick.units import format_pct
 
 
 def _pct(x) -> str:
-    if x is None or not math.isfinite(x):
-        return "-"
-    return f"{x * 100:+.1f} %"
+    return format_pct(x, 1, signed=True)
 
 
 _FIG_ROWS = (

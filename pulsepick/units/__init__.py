@@ -10,6 +10,8 @@ Celsius. This module reads what people type and writes what people read:
 * :func:`parse_quantity` and :func:`parse_range` read request quantities with
   their unit (``250 ms``, ``20/min``, ``5 mA``, ``2.7V..1.8V``, ``-20..50 C``);
 * :func:`format_eng` writes engineering notation (``4.7 kΩ``, ``100 nF``);
+  :func:`format_figure` and :func:`format_pct` are the one way reports print a figure
+  and a share (``"-"`` when missing);
 * :func:`format_rkm` writes RKM codes (``4k7``, ``100n``);
 * :func:`parse_tolerance` and :func:`tolerance_letter` handle tolerance letters
   (IEC 60062; ref:cap-tolerance-letters).
@@ -49,7 +51,7 @@ from pulsepick.units.common import (
     RkmKind,
     ValueUnit,
 )
-from pulsepick.units.format import format_eng
+from pulsepick.units.format import MISSING, format_eng, format_figure, format_pct
 from pulsepick.units.quantities import parse_quantity, parse_range
 from pulsepick.units.rkm import format_rkm
 from pulsepick.units.tolerance import parse_tolerance, tolerance_letter
@@ -72,7 +74,10 @@ __all__ = [
     "RkmKind",
     "ValueUnit",
     "check_component",
+    "MISSING",
     "format_eng",
+    "format_figure",
+    "format_pct",
     "format_rkm",
     "parse_quantity",
     "parse_range",

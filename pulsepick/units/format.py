@@ -63,3 +63,36 @@ def format_eng(value: float, unit: str, digits: int = 3) -> str:
     int_part, frac = _place_point(dstr, exp - eng + 1)
     number = int_part + ("." + frac if frac else "")
     return f"{sign}{number} {_ENG_PREFIX[eng]}{unit}".rstrip()
+
+
+#: What a report prints for a figure that is missing or not a finite number.
+MISSING = "-"
+
+
+def format_figure(value, unit: str, digits: int = 3) -> str:
+    """A figure as every report prints it: :func:`format_eng`, or ``"-"`` when missing.
+
+    ``None``, a non-number, NaN and infinity are "missing". Luminous intensity in
+    millicandela keeps its unit as the LED tables give it (``"mcd"``, no second prefix).
+
+    >>> format_figure(0.0047, "A"), format_figure(None, "V"), format_figure(12.5, "mcd")
+    ('4.7 mA', '-', '12.5 mcd')
+    """
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+        return MISSING
+    if unit == "mcd":
+        return f"{value:.{digits}g} mcd"
+    return format_eng(value, unit, digits)
+
+
+def format_pct(fraction, digits: int = 0, *, signed: bool = False) -> str:
+    """A fraction as a percentage with a space: ``0.934 -> "93 %"``; ``"-"`` when missing.
+
+    >>> format_pct(0.934), format_pct(0.0132, 1, signed=True), format_pct(float("nan"))
+    ('93 %', '+1.3 %', '-')
+    """
+    if isinstance(fraction, bool) or not isinstance(fraction, (int, float)) \
+            or not math.isfinite(fraction):
+        return MISSING
+    sign = "+" if signed else ""
+    return f"{fraction * 100:{sign}.{digits}f} %"
