@@ -19,6 +19,14 @@ median stays at the typical value, so a design computed from typical figures is 
 median build of its threshold spread (up to the non-linearity of the period formula
 and the hysteresis window, which :mod:`pulsepick.analysis.median` takes out).
 
+For worst-case studies the same limits can be read two other ways (``--chip-spread``):
+``uniform``, every value between the minimum and maximum equally likely (the median then
+sits mid-way between the limits, not at the typical value), and ``triangle``, a
+triangular density from the minimum up to the typical value and down to the maximum
+(wider than the split normal; its median sits between the typical value and the
+middle). The hysteresis window cuts every shape alike. ``normal`` (the split normal
+above) is the default.
+
 Public functions (other analyses call these; do not copy the distribution):
 
 ``draw_thresholds(chip, supply_v, n, rng)``
@@ -36,6 +44,7 @@ import math
 
 import numpy as np
 
+from pulsepick.engine.environment import CHIP_SPREADS
 from pulsepick.errors import PartError
 
 #: Share of chips below the published minimum (and above the maximum) before truncation
@@ -44,6 +53,8 @@ TAIL_SHARE = 1e-3
 #: Standard normal quantile of 1 - TAIL_SHARE (scipy.special.ndtri(0.999)).
 Z_TAIL = 3.090232306167813
 _EPS_V = 1e-12  # V, slack on the hysteresis test (a measured chip pins VH exactly)
+#: The reading of the limits unless a chip says otherwise (CHIP_SPREADS).
+DEFAULT_CHIP_SPREAD = CHIP_SPREADS[0]
 _MAX_REJECTION_ROUNDS = 200
 
 
@@ -124,14 +135,71 @@ def split_normal_var(low: float, typ: float, high: float) -> float:
     return max(second - mean**2, 0.0)
 
 
-def draw_fractions(p_lo, p_typ, p_hi, m_lo, m_typ, m_hi, h_lo, h_hi, rng
-                   ) -> tuple[np.ndarray, np.ndarray]:
+def check_shape(shape: str) -> str:
+    """``shape`` when it is one of ``CHIP_SPREADS``; a PartError naming them otherwise."""
+    if shape not in CHIP_SPREADS:
+        raise PartError(f"chip spread {shape!r}: accepted {', '.join(CHIP_SPREADS)}")
+    return shape
+
+
+def spread_fraction(u, typ_frac, shape: str = DEFAULT_CHIP_SPREAD) -> np.ndarray:
+    """Inverse CDF on [0, 1] of the limits read as ``shape`` (0 = minimum, 1 = maximum).
+
+    ``normal``: :func:`split_normal_fraction`; ``uniform``: ``u`` itself; ``triangle``:
+    the triangular density with its peak at ``typ_frac`` (inverse CDF sqrt(u t) below
+    the peak, 1 - sqrt((1 - u)(1 - t)) above).
+    """
+    check_shape(shape)
+    if shape == "normal":
+        return split_normal_fraction(u, typ_frac)
+    u = np.clip(np.asarray(u, dtype=float), 0.0, 1.0)
+    if shape == "uniform":
+        return np.broadcast_to(u, np.broadcast(u, np.asarray(typ_frac)).shape).copy()
+    t = np.asarray(typ_frac, dtype=float)
+    return np.where(u < t, np.sqrt(u * t), 1.0 - np.sqrt((1.0 - u) * (1.0 - t)))
+
+
+def spread_pdf(x, typ_frac: float, shape: str = DEFAULT_CHIP_SPREAD) -> np.ndarray:
+    """Density on [0, 1] of the limits read as ``shape`` at ``x`` (integrates to 1)."""
+    check_shape(shape)
+    if shape == "normal":
+        return split_normal_pdf(x, typ_frac)
+    x = np.asarray(x, dtype=float)
+    inside = (x >= 0) & (x <= 1)
+    if shape == "uniform":
+        return np.where(inside, 1.0, 0.0)
+    t = float(typ_frac)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        up = np.where(t > 0, 2.0 * x / t, 0.0)
+        down = np.where(t < 1, 2.0 * (1.0 - x) / (1.0 - t), 0.0)
+    return np.where(inside, np.where(x < t, up, down), 0.0)
+
+
+def threshold_var(low: float, typ: float, high: float,
+                  shape: str = DEFAULT_CHIP_SPREAD) -> float:
+    """Variance (V²) of one threshold with its limits read as ``shape``.
+
+    ``uniform``: (high - low)²/12; ``triangle``: (a² + b² + c² - ab - ac - bc)/18 with
+    a, b, c the minimum, peak and maximum (handbook formulas).
+    """
+    check_shape(shape)
+    if shape == "normal":
+        return split_normal_var(low, typ, high)
+    if shape == "uniform":
+        return (high - low) ** 2 / 12.0
+    a, b, c = low, typ, high
+    return max((a * a + b * b + c * c - a * b - a * c - b * c) / 18.0, 0.0)
+
+
+def draw_fractions(p_lo, p_typ, p_hi, m_lo, m_typ, m_hi, h_lo, h_hi, rng,
+                   shape: str = DEFAULT_CHIP_SPREAD) -> tuple[np.ndarray, np.ndarray]:
     """VT+ and VT- as fractions of their limits (arrays of one length), hysteresis kept.
 
-    Each threshold is drawn from the split normal; pairs whose VT+ - VT- falls outside
-    ``h_lo..h_hi`` are drawn again (rejection), so the result is the product density
-    restricted to the window.
+    Each threshold is drawn from the split normal (or ``shape``); pairs whose VT+ - VT-
+    falls outside ``h_lo..h_hi`` are drawn again (rejection), so the result is the
+    product density restricted to the window.
     """
+    check_shape(shape)
     p_lo, p_typ, p_hi, m_lo, m_typ, m_hi, h_lo, h_hi = np.broadcast_arrays(
         *(np.asarray(x, dtype=float) for x in (p_lo, p_typ, p_hi, m_lo, m_typ, m_hi, h_lo,
                                               h_hi)))
@@ -142,8 +210,12 @@ def draw_fractions(p_lo, p_typ, p_hi, m_lo, m_typ, m_hi, h_lo, h_hi, rng
     for _ in range(_MAX_REJECTION_ROUNDS):
         if todo.size == 0:
             return a, b
-        ua = _from_z(_truncated_normal(rng, todo.size), mode_a[todo])
-        ub = _from_z(_truncated_normal(rng, todo.size), mode_b[todo])
+        if shape == "normal":
+            ua = _from_z(_truncated_normal(rng, todo.size), mode_a[todo])
+            ub = _from_z(_truncated_normal(rng, todo.size), mode_b[todo])
+        else:
+            ua = spread_fraction(rng.random(todo.size), mode_a[todo], shape)
+            ub = spread_fraction(rng.random(todo.size), mode_b[todo], shape)
         p = p_lo[todo] + ua * (p_hi[todo] - p_lo[todo])
         m = m_lo[todo] + ub * (m_hi[todo] - m_lo[todo])
         h = p - m
@@ -158,6 +230,11 @@ def _fraction(v, lo, hi):
     width = hi - lo
     with np.errstate(invalid="ignore", divide="ignore"):
         return np.where(width > 0, (v - lo) / np.where(width > 0, width, 1.0), 0.0)
+
+
+def chip_shape(chip) -> str:
+    """How ``chip`` (a ChipSpec or a family key) reads its limits (``CHIP_SPREADS``)."""
+    return getattr(chip, "spread", DEFAULT_CHIP_SPREAD)
 
 
 def threshold_limits(chip, supply_v) -> tuple[np.ndarray, ...]:
@@ -186,10 +263,10 @@ def draw_thresholds(chip, supply_v: float, n: int, rng) -> tuple[np.ndarray, np.
     """VT+ and VT- (V) of ``n`` chips of ``chip`` (ChipSpec or family key) at ``supply_v``.
 
     ``rng`` is a seeded ``numpy.random.Generator``. For the 555 these are the
-    threshold and trigger levels.
+    threshold and trigger levels. The limits are read as the chip's ``spread`` shape.
     """
     lim = threshold_limits(chip, np.full(int(n), float(supply_v)))
-    a, b = draw_fractions(*lim, rng)
+    a, b = draw_fractions(*lim, rng, shape=chip_shape(chip))
     p_lo, _, p_hi, m_lo, _, m_hi, _, _ = lim
     return p_lo + a * (p_hi - p_lo), m_lo + b * (m_hi - m_lo)
 

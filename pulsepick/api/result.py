@@ -158,7 +158,8 @@ def _cand_row(c: dict) -> dict:
             "effective_a": f.get("effective_a"), "supply_avg_a": f.get("supply_avg_a"),
             "period_p5_s": spread.get("quantiles", {}).get("period_s", {}).get("p5"),
             "period_p95_s": spread.get("quantiles", {}).get("period_s", {}).get("p95"),
-            "yield": spread.get("yield"), "score": c["score"]}
+            "yield": spread.get("yield"), "lasts_night": c.get("lasts_night"),
+            "score": c["score"]}
 
 
 def _check_rows(d: dict) -> list[dict]:

@@ -37,6 +37,7 @@ from pulsepick.commands.pictures import (
     check_picture_targets,
     oscillating_periods,
 )
+from pulsepick.commands.spread_option import add_chip_spread_argument
 from pulsepick.commands.wording import CLASS_LABELS
 from pulsepick.errors import PulsepickError, RequestError
 from pulsepick.output.render import (
@@ -88,6 +89,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         "or the circuit's nominal period)")
     g.add_argument("--within", default="10%", metavar="PCT",
                    help="a build is good within this much of the target period (default 10%%)")
+    add_chip_spread_argument(g)
     parser.add_argument("--json", action="store_true", help="print plain JSON on stdout")
     add_picture_arguments(parser)
 
@@ -148,12 +150,13 @@ def _design_from_phrase(args, supply_text: str):
     from pulsepick.solve import solve
 
     full, _ = _supply(supply_text)
-    _, parts = parts_from_args(args, full)
+    chip, parts = parts_from_args(args, full)
+    shape = None if args.chip_spread is None else chip.spread
     timing_cap = None if args.timing_cap == DEFAULT_TIMING_CAP else args.timing_cap
     family, measured = solver_chip(args)
     req = make_request(args.phrase, supply=supply_text, family=family, led=parts.led,
                        timing_cap=timing_cap, top=1, builds=args.builds, seed=args.seed,
-                       chip_overrides=measured)
+                       chip_overrides=measured, chip_spread=shape)
     result = solve(req)
     if not result.candidates:
         why = "; ".join(result.explanations) or result.message or "no circuit found"
@@ -240,8 +243,9 @@ def render(console, result: BandsResult) -> None:
     supply = (f"supply {d.supply_v:g} V" if result.supply_range_v is None else
               f"supply {result.supply_range_v[1]:g} V down to {result.supply_range_v[0]:g} V")
     lo, hi = result.temp_range_c
+    shape = "" if d.chip.spread == "normal" else f"; chip thresholds read as {d.chip.spread}"
     print_wrapped(console, f"{supply}; ambient {lo:g}..{hi:g} °C; {result.builds:,} builds per "
-                  f"cell, seed {result.seed}")
+                  f"cell, seed {result.seed}{shape}")
     print_wrapped(console, f"yield: the share of builds that light up within "
                   f"±{result.yield_band * 100:g} % of {format_eng(result.target_period_s, 's')}")
     console.print()

@@ -17,6 +17,7 @@ from pulsepick.commands.pictures import (
     check_picture_targets,
     check_pictures,
 )
+from pulsepick.commands.spread_option import add_chip_spread_argument
 from pulsepick.commands.wording import FIGURE_ROWS
 from pulsepick.design import Design
 from pulsepick.output.render import (
@@ -53,6 +54,7 @@ def add_arguments(parser) -> None:
     parser.add_argument("--no-drawing", action="store_true",
                         help="leave out the waveform drawing (saves a short simulation)")
     parser.add_argument("--json", action="store_true", help="print plain JSON on stdout")
+    add_chip_spread_argument(parser, " (for the spread of --plot and --report)")
     add_picture_arguments(parser)
 
 

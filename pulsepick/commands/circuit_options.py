@@ -176,6 +176,13 @@ def parts_from_args(args, supply_v: float, core: str | None = None
         chip = ChipSpec(family=family, vt_plus_v=vt_plus, vt_minus_v=vt_minus, rout_ohm=rout,
                         cross_current_a=cross,
                         measured_at_v=supply_v if (vt_plus or vt_minus or rout) else None)
+    shape = getattr(args, "chip_spread", None)
+    if shape is not None:
+        from dataclasses import replace
+
+        from pulsepick.commands.spread_option import chip_spread_choice
+
+        chip = replace(chip, spread=chip_spread_choice(shape))
     parts = PartChoice(led=led_from_args(args), timing_cap=args.timing_cap,
                        stage_cap=args.stage_cap, steer_diode=args.steer_diode,
                        reset_diode=args.reset_diode, fade_diode=args.fade_diode)

@@ -24,7 +24,11 @@ from pulsepick.commands.solve_build import (  # noqa: F401
     run_build,
 )
 from pulsepick.commands.solve_build_report import render_build  # noqa: F401
-from pulsepick.commands.solve_options import add_arguments, request_from_args  # noqa: F401
+from pulsepick.commands.solve_options import (  # noqa: F401
+    add_arguments,
+    night_plan,
+    request_from_args,
+)
 from pulsepick.commands.solve_report import (  # noqa: F401
     crossing_text,
     render_detail,
@@ -38,6 +42,8 @@ EXAMPLES = [
     'pulsepick solve "one flash every 3 s"',
     'pulsepick solve "flash every 2.5 s for 40 ms, 5 mA peak" --supply 2.7V..1.8V '
     "--family lvc,timer555",
+    'pulsepick solve "one flash every 3 s, 40 ms long" --supply 2.7V..1.8V '
+    "--family lvc,timer555 --storage 5f-2v7 --night 13h",
     'pulsepick solve "20 flashes a minute, 0.1 s long, as bright as a steady 1 mA"',
     'pulsepick solve "every 4 s, 200 mcd" --led white --supply 3.3V',
     "pulsepick solve --every 3s --flash 40ms --peak 5mA --led red --supply 2.7V..1.8V",
@@ -78,9 +84,14 @@ def compute(args) -> SolveRun:
     req = request_from_args(args)
     picked = args.pick is not None
     args.pick = 1 if args.pick is None else args.pick
+    night = night_plan(args, req)
     jobs = default_jobs() if args.jobs is None else args.jobs
     result = solve(req, jobs=jobs)
     result = assess(result, jobs=jobs)
+    if night is not None:
+        from pulsepick.solve.nightcheck import night_check
+
+        result = night_check(result, night)
     plans = None
     if getattr(args, "trim", False):
         from pulsepick.commands.trim_parts import trim_result

@@ -103,9 +103,14 @@ def compute_build(args) -> BuildRun:
     """Check the options and solve several lights (a phrase or a design file)."""
     from pulsepick.commands.pictures import check_picture_targets
     from pulsepick.designfile import is_design_file
+    from pulsepick.errors import RequestError
     from pulsepick.solve import default_jobs, solve_build
 
     design_path = args.phrase if is_design_file(args.phrase) else None
+    for flag in ("storage", "night"):
+        if getattr(args, flag, None) is not None:
+            raise RequestError(f"--{flag} applies to one light; for several lights run "
+                               "'pulsepick night' on the design file or the phrase")
     check_picture_targets(args, [args.stock, design_path], with_buylist=True)
     breq, design = build_request_from_args(args)
     if design is not None and design.stock_path:

@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import argparse
 
+from pulsepick.commands.spread_option import add_chip_spread_argument, chip_spread_choice
+
 _PHRASE_HELP = (
     "the blink as a phrase, e.g. \"one flash every 3 s\". Pieces, separated by commas: "
     "'every 3 s' or '20 flashes a minute' or '20/min' (period); 'for 40 ms' or "
@@ -67,6 +69,14 @@ def _build_arguments(parser: argparse.ArgumentParser) -> None:
     ctx.add_argument("--supply", metavar="V|FULL..END",
                      help=f"supply, or a range from full to the end of the night such as "
                           f"2.7V..1.8V (default {DEFAULT_SUPPLY})")
+    add_chip_spread_argument(ctx)
+    ctx.add_argument("--storage", metavar="KEY|C",
+                     help="the storage that feeds the light at night, a part key (such as "
+                          "5f-2v7) or a capacitance (such as 1F, rated 2.7 V); with a supply "
+                          "range each circuit's night is run from the full supply at dusk "
+                          "down to the end one (the night column: lasts, or when it goes dark)")
+    ctx.add_argument("--night", metavar="T",
+                     help="length of the night for --storage, such as 12.5h (default 12h)")
     ctx.add_argument("--family", metavar="LIST",
                      help=f"chips, a comma list of {', '.join(FAMILY_CHOICES)} "
                           f"(default {DEFAULT_FAMILY})")
@@ -253,6 +263,7 @@ def request_from_args(args):
         cap_range=args.cap_range, buffered=args.buffered, stages=args.stages,
         cores=args.cores, stock=args.stock, top=args.top, builds=args.builds, seed=args.seed,
         prefer=args.prefer,
+        chip_spread=None if args.chip_spread is None else chip_spread_choice(args.chip_spread),
     )
     if overrides:
         from dataclasses import replace
@@ -266,3 +277,32 @@ def request_from_args(args):
                                f"{vtm:g} V, VT+ {vtp:g} V at {req.supply_v:g} V")
         req = replace(req, chip_overrides=overrides)
     return req
+
+
+def night_plan(args, req):
+    """The night each candidate runs through (``--storage``, ``--night``), or None."""
+    from pulsepick.commands.night_options import quantity, read_storage
+    from pulsepick.errors import RequestError
+    from pulsepick.solve.nightcheck import DEFAULT_NIGHT_S, NightPlan
+
+    storage_text, night_text = getattr(args, "storage", None), getattr(args, "night", None)
+    if storage_text is None:
+        if night_text is not None:
+            raise RequestError("--night applies with --storage (the night is run on it)")
+        return None
+    if req.supply_end_v is None:
+        raise RequestError("--storage needs a supply range from dusk to the end of the night, "
+                           "such as --supply 2.7V..1.8V")
+    storage = read_storage(storage_text, None)
+    if req.supply_v > storage.v_rated_v + 1e-9:
+        raise RequestError(f"--storage {storage_text}: the full supply {req.supply_v:g} V is "
+                           f"above its rating {storage.v_rated_v:g} V; give a part rated for "
+                           "it (such as 1f-5v5) or a lower supply")
+    night_s = DEFAULT_NIGHT_S
+    if night_text is not None:
+        night_s = quantity(night_text, "time", "--night", "12.5h")
+        if not 0 < night_s <= 24 * 3600:
+            raise RequestError(f"--night {night_text!r}: a night lasts more than 0 and at "
+                               "most 24 h")
+    return NightPlan(storage, req.supply_v, req.supply_end_v, night_s,
+                     night_given=night_text is not None)

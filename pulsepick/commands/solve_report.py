@@ -42,8 +42,9 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
                   schematics: bool = False) -> None:
     """The terminal report of a solver result (readable at 100 columns, no colour needed);
     ``schematics`` draws each candidate."""
+    from pulsepick.commands.solve_summary import night_caption, night_word
     from pulsepick.output.export import solve_cautions
-    from pulsepick.output.render import simple_table
+    from pulsepick.output.render import print_wrapped, simple_table
 
     req = result.request
     cautions = solve_cautions(req)
@@ -65,7 +66,7 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
             _eng(f["led_peak_a"], "A"), _eng(f["supply_avg_a"], "A"),
         ]
         if night:
-            row.append({None: "-", True: "yes", False: "NO"}[c.lasts_night])
+            row.append(night_word(c))
         rows.append(row + [f"{c.score:.2f}"])
     heads = ["#", "circuit", "chip", "period", "P5..P95", "±10 %", "flash",
              "peak", "supply"] + (["night"] if night else []) + ["score"]
@@ -73,6 +74,9 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
         f"Ranked circuits ({result.evaluated:,} evaluated in {result.search_s:.2f} s; lower "
         "score is better; period: the median of the builds)",
         heads, rows, justify=["right", "left", "left"] + ["right"] * (len(heads) - 3)))
+    caption = night_caption(result)
+    if caption:
+        print_wrapped(console, caption, indent="", hang="  ")
     console.print()
     for c in result.candidates:
         _render_candidate(console, req, c)
@@ -179,6 +183,7 @@ def _render_request(console, req, result=None) -> None:
          mark("stock")],
         ["spread", f"{req.builds:,} builds, seed {req.seed}, {TEMP_RANGE_TEXT}",
          mark("builds", "seed")],
+        ["chip thresholds", f"limits read as {req.chip_spread}", mark("chip_spread")],
     ]
     if req.chip_overrides:
         names = {"vt_plus_v": ("VT+", "V"), "vt_minus_v": ("VT-", "V"),
@@ -329,6 +334,10 @@ def _render_drift(console, c) -> None:
     if dr.unpowered_below_v is not None:
         console.print(f"    the chip leaves its supply range below {dr.unpowered_below_v:.2f} V",
                       markup=False)
+    if getattr(c, "night", None) is not None:
+        from pulsepick.commands.solve_summary import night_text
+
+        console.print(f"    on the storage: {night_text(c.night)}", markup=False)
 
 
 def _render_waveform(console, c) -> None:

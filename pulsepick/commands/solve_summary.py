@@ -64,14 +64,45 @@ def band_text(lo: float | None, hi: float | None) -> str:
     return f"{a}..{b}"
 
 
-def night_word(c) -> str:
-    """Whether the circuit lasts the night: ``yes``, ``NO``, or ``-`` (not known)."""
-    lasts = getattr(c, "lasts_night", None)
-    if lasts is None and c.end_figures is not None:
-        from pulsepick.circuits.base import RUNS
+def hours_text(seconds: float) -> str:
+    """A time after dusk as hours and minutes: ``9h40``."""
+    minutes = int(round(seconds / 60.0))
+    return f"{minutes // 60}h{minutes % 60:02d}"
 
-        lasts = int(c.end_figures["status"]) == RUNS
-    return {None: "-", True: "yes", False: "NO"}[lasts]
+
+def night_word(c) -> str:
+    """Whether the circuit lasts the night on the storage: ``lasts``, ``dark 9h40`` (the
+    light stops that long after dusk), ``n/a`` (a supply range but no storage given) or
+    ``-`` (a steady supply)."""
+    night = getattr(c, "night", None)
+    if night is not None:
+        return "lasts" if night.lasts else f"dark {hours_text(night.lit_s)}"
+    return "-" if c.end_figures is None else "n/a"
+
+
+def night_caption(result) -> str | None:
+    """What the night column says, under the table (None for a steady supply)."""
+    req, plan = result.request, getattr(result, "night_plan", None)
+    if plan is not None:
+        s = plan.storage
+        length = hours_text(plan.night_s).replace("h00", " h")
+        what = (f"a {length} night" + ("" if plan.night_given else " (assumed; --night sets "
+                                                                   "it)"))
+        return (f"night: each circuit run on the {s.name} from {plan.v_start_v:g} V at dusk "
+                f"down to {plan.v_stop_v:g} V over {what}, with the storage's settled leakage: "
+                "'lasts', or 'dark' and the hours:minutes after dusk its light stops")
+    if req.supply_end_v is None:
+        return None
+    return (f"night: n/a without a storage; --storage (a part such as 5f-2v7 or a "
+            f"capacitance such as 1F) runs each circuit's night from {req.supply_v:g} V down "
+            f"to {req.supply_end_v:g} V")
+
+
+def night_text(night) -> str:
+    """A candidate's night on the storage in words."""
+    if night.lasts:
+        return f"lasts the night, {night.v_end_v:.2f} V left at dawn"
+    return f"dark {hours_text(night.lit_s)} after dusk: {night.stop_reason}"
 
 
 def circuit_text(c) -> str:
@@ -129,6 +160,8 @@ def assumptions_text(req) -> str:
                f"{format_eng(req.c_max_f, 'F')}",
                f"parts {'from ' + req.stock.source if req.stock else 'any standard value'}",
                f"{req.builds:,} builds, seed {req.seed}"]
+    if req.chip_spread != "normal":
+        context.append(f"chip thresholds read as {req.chip_spread}")
     out = f"asked: {', '.join(asked) or '-'}"
     if assumed:
         out += f"; assumed: {', '.join(assumed)}"
@@ -148,6 +181,9 @@ def render_summary(console, result, *, buylist: str | None = None, pick: int = 1
     if render_unmet(console, result, solve_cautions(req)):
         return
     console.print(ranked_table(result))
+    caption = night_caption(result)
+    if caption:
+        print_wrapped(console, caption, indent="", hang="  ")
     console.print()
     chosen = result.candidates[min(max(pick, 1), len(result.candidates)) - 1]
     render_block(console, req, chosen, schematic=schematic)
@@ -210,6 +246,9 @@ def render_block(console, req, c, *, schematic: bool = False) -> None:
         if dr.dark_below_v is not None:
             text += f"; the LED goes dark below {dr.dark_below_v:.2f} V"
         print_wrapped(console, text, indent="  ", hang="    ")
+    if getattr(c, "night", None) is not None:
+        print_wrapped(console, "on the storage: " + night_text(c.night), indent="  ",
+                      hang="    ")
     for p in c.parts:
         if p.note:
             _bullet(console, f"{p.ref}: {p.note}", indent="  - ", hang="    ")

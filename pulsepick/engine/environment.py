@@ -22,6 +22,9 @@ from pulsepick.parts.timer import get_timer
 
 TIMER_KEY = "timer555"
 CHIP_KEYS = (*FAMILY_KEYS, TIMER_KEY)
+#: How the threshold limits are read in spread analyses (pulsepick.analysis.chipspread):
+#: the split normal (default), or uniform / triangular for worst-case studies.
+CHIP_SPREADS = ("normal", "uniform", "triangle")
 
 
 @dataclass(frozen=True)
@@ -35,11 +38,14 @@ class ChipSpec:
     cross_current_a: float | None = None  # A, measured average crossing current
     measured_at_v: float | None = None  # V, the supply the measurements were made at
     follows_family: bool = False  # measured thresholds follow the family's shape in supply
+    spread: str = "normal"  # how the threshold limits are read (CHIP_SPREADS)
 
     def __post_init__(self) -> None:
         if self.family not in CHIP_KEYS:
             raise PartError(f"unknown chip family {self.family!r}; accepted: "
                             f"{', '.join(CHIP_KEYS)}")
+        if self.spread not in CHIP_SPREADS:
+            raise PartError(f"chip spread {self.spread!r}: accepted {', '.join(CHIP_SPREADS)}")
         measured = (self.vt_plus_v, self.vt_minus_v, self.rout_ohm)
         if self.family == TIMER_KEY and any(x is not None for x in measured):
             raise PartError("--vt-plus, --vt-minus and --rout describe a Schmitt gate; "

@@ -103,6 +103,8 @@ def candidate_json(c) -> dict[str, Any]:
         "p95_period_s": _opt(c.p95_period_s),
         "yield": _opt(c.yield_fraction),
         "lasts_night": c.lasts_night,
+        "night": None if c.night is None else c.night.as_dict(),
+        "runs_at_end_supply": c.runs_at_end_supply,
         "misses": list(c.misses),
         "aim_levels_v": None if c.aim_levels_v is None else list(c.aim_levels_v),
         "median_note": c.median_note,
@@ -140,6 +142,8 @@ def result_json(result, cautions: tuple[str, ...] = ()) -> dict[str, Any]:
                     None)
     if crossing is not None:
         assumptions["crossing_current"] = crossing
+    plan = getattr(result, "night_plan", None)
+    assumptions["night"] = None if plan is None else plan.as_dict()
     return {
         "pulsepick": __version__,
         "request": req.to_dict(),

@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from pulsepick.circuits.base import core_fits_chip, get_core
+from pulsepick.engine.environment import CHIP_SPREADS
 from pulsepick.errors import PulsepickError, RequestError
 from pulsepick.parts.timer import TIMER_KEYS
 from pulsepick.request.defaults import (
@@ -53,6 +54,7 @@ def make_request(
     seed: int | None = None,
     chip_overrides: dict[str, float] | None = None,
     prefer: str | None = None,
+    chip_spread: str | None = None,
 ) -> SolveRequest:
     """Build a :class:`SolveRequest` from option text; None means the default.
 
@@ -85,6 +87,8 @@ def make_request(
                         "an LED with intensity data (red, bright-red, green, white)")
     if prefer is not None and prefer not in PREFER_CHOICES:
         problems.append(f"--prefer {prefer!r}: accepted {', '.join(PREFER_CHOICES)}")
+    if chip_spread is not None and chip_spread not in CHIP_SPREADS:
+        problems.append(f"--chip-spread {chip_spread!r}: accepted {', '.join(CHIP_SPREADS)}")
     if problems:
         raise RequestError("; ".join(problems))
     assert targets is not None and supply_v is not None and c_lo is not None
@@ -95,7 +99,8 @@ def make_request(
         c_min_f=c_lo, c_max_f=c_hi, cores=core_list, stages=stage_list,
         buffered=buffered, stock=stock_obj, top=ints["top"], builds=ints["builds"],
         seed=ints["seed"], chip_overrides=dict(chip_overrides or {}),
-        prefer=opt("prefer", prefer, DEFAULT_PREFER), choices=choices,
+        prefer=opt("prefer", prefer, DEFAULT_PREFER),
+        chip_spread=opt("chip_spread", chip_spread, CHIP_SPREADS[0]), choices=choices,
         defaults=tuple(defaults),
     )
 

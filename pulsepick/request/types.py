@@ -43,6 +43,7 @@ class SolveRequest:
     seed: int = DEFAULT_SEED  # seed of the spread analysis
     chip_overrides: dict[str, float] = field(default_factory=dict)  # measured chip figures
     prefer: str = "balanced"  # weight of part size/cost in the ranking (PREFER_CHOICES)
+    chip_spread: str = "normal"  # how the chips' threshold limits are read (CHIP_SPREADS)
     choices: dict[str, str] = field(default_factory=dict)  # option text as given, for output
     defaults: tuple[str, ...] = ()  # names of the options left at their defaults
 
@@ -142,6 +143,7 @@ class SolveRequest:
             "builds": self.builds,
             "seed": self.seed,
             "prefer": self.prefer,
+            "chip_spread": self.chip_spread,
             "aims": {k: {"value": v, "stated": s} for k, (v, s) in aims.items()},
             "defaults": list(self.defaults),
         }

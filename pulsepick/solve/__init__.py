@@ -53,9 +53,12 @@ with the switching levels of the median chip of its core (:func:`aim_levels`,
 typical value as the median and the limits as the 0.1 %/99.9 % points; the period is
 non-linear in them and the hysteresis window cuts the draw, so where the typical value
 sits near one limit (HC VT+ at 3 V) the typical chip's period is several per cent off
-the median build's. The candidate's figures are the median chip's, and the reference
-engine checks them at the same levels; :func:`assess` adds a ``median_note`` when the
-Monte Carlo median still moves off them (a supply range, lopsided parts).
+the median build's. With a supply range the builds also take their supply from it, and
+the levels at the full supply are those of the median over chips and supplies (a Schmitt
+gate's thresholds do not follow the supply in proportion; the night cost still measures
+the drift against the full supply's own median chip). The candidate's figures are the
+median chip's, and the reference engine checks them at the same levels; :func:`assess`
+adds a ``median_note`` when the Monte Carlo median still moves off them (lopsided parts).
 
 The best circuit of each different topology (core and stage) is offered, so the
 list is not five near-copies, and each is verified with the reference engine (see

@@ -205,11 +205,11 @@ def peak_needed(req: SolveRequest) -> float:
     return eff * (EFFECTIVE_A_S + flash) / flash
 
 
-def _threshold_var(low: float, mode: float, high: float) -> float:
-    """Variance (V²) of one threshold: the chip spread's split normal."""
-    from pulsepick.analysis.chipspread import split_normal_var
+def _threshold_var(low: float, mode: float, high: float, shape: str = "normal") -> float:
+    """Variance (V²) of one threshold: the chip spread's split normal (or ``shape``)."""
+    from pulsepick.analysis.chipspread import threshold_var
 
-    return split_normal_var(low, mode, high)
+    return threshold_var(low, mode, high, shape)
 
 
 def _slice_figures(f, sl: slice):

@@ -18,7 +18,7 @@ from pulsepick.solve.score import (
     led_current_limit, n_parts, peak_needed, PENALTY_END, PENALTY_HOT_LEAK, PREFER_WEIGHTS, SIGMA,
     THRESHOLD_STEP,
 )
-from pulsepick.solve.space import _cap_var, _space, aim_levels
+from pulsepick.solve.space import _cap_var, _space, aim_levels, range_aim_ratio
 from pulsepick.solve.timingsearch import _Timing, search_timing
 
 
@@ -52,6 +52,12 @@ class _Searcher:
         self.cap_var = np.array([_cap_var(k) for k in self.space.kinds])
         self.leak_margin = LEAK_MARGIN
         self.aim: tuple[str, str] | None = None  # (core, steer) whose median chip is aimed at
+        self._range_log = 0.0  # ln of the supply range's share of the aim (range_aim_ratio)
+
+    def set_aim(self, core: str, steer: str) -> None:
+        """Aim at the median chip of ``core`` (with ``steer``) in the rows of :meth:`stage`."""
+        self.aim = (core, steer)
+        self._range_log = math.log(range_aim_ratio(self.req, self.chip, core, steer))
 
     # -- bookkeeping ------------------------------------------------------------------------
     def _note_range(self, key: str, x) -> None:
@@ -112,19 +118,20 @@ class _Searcher:
         """
         v = self.v
         chip = self.chip
+        shape = chip.spread
         if chip.is_timer:
             leak, hot = model.leak_a, model.leak_a
             plus = _threshold_var(model.thr_ratio_min * v, model.thr_ratio_typ * v,
-                                   model.thr_ratio_max * v)
+                                   model.thr_ratio_max * v, shape)
             minus = _threshold_var(model.trig_ratio_min * v, model.trig_ratio_typ * v,
-                                    model.trig_ratio_max * v)
+                                    model.trig_ratio_max * v, shape)
         else:
             leak, hot = model.leak_max_a, model.leak_max_hot_a
             th = model.thresholds(v)
             plus = _threshold_var(float(th.vt_plus_min), float(th.vt_plus_typ),
-                                   float(th.vt_plus_max))
+                                   float(th.vt_plus_max), shape)
             minus = _threshold_var(float(th.vt_minus_min), float(th.vt_minus_typ),
-                                    float(th.vt_minus_max))
+                                    float(th.vt_minus_max), shape)
         if chip.measured:
             plus = minus = 0.0
         step = THRESHOLD_STEP * v
@@ -376,8 +383,10 @@ class _Searcher:
         f_end = None
         if end_v is not None:
             f_end = _slice_figures(f_all, slice(n, 2 * n))
+            # the nominal rows aim at the median over the supply range; the drift is
+            # against the full supply's own median chip
             with np.errstate(all="ignore"):
-                drift = np.log(f_end.period_s / f_nom.period_s)
+                drift = np.log(f_end.period_s / f_nom.period_s) + self._range_log
             ok = (f_end.status == RUNS) & np.isfinite(drift)
             night = np.where(ok, drift**2 / 3.0 / SIGMA**2,
                              PENALTY_END)

@@ -35,7 +35,7 @@ def _search_task(req: SolveRequest, family: str, core: str, steer: str,
     s = _Searcher(req, chip)
     env, _ = make_env(chip, PartChoice(led=req.led), req.supply_v)
     env = aim_env(req, chip, core, steer, env)
-    s.aim = (core, steer)
+    s.set_aim(core, steer)
     s.set_chip_envs(env, model)
     if _TIMING_CACHE.get("request") != req:
         _TIMING_CACHE.clear()

@@ -143,8 +143,22 @@ def _chip(req: SolveRequest, family: str):
     from pulsepick.engine.environment import ChipSpec
 
     if family == TIMER_KEY or not req.chip_overrides:
-        return ChipSpec(family)
-    return ChipSpec(family, **req.chip_overrides)
+        return ChipSpec(family, spread=req.chip_spread)
+    return ChipSpec(family, spread=req.chip_spread, **req.chip_overrides)
+
+
+def _aim_weights(req: SolveRequest, core: str, steer: str) -> tuple[float | None, float | None]:
+    """(w_high, w_low) of :func:`pulsepick.analysis.median.median_levels` for a core."""
+    t = req.targets
+    short = min(min(req.flash_s, 0.99 * t.period_s), t.period_s - min(req.flash_s,
+                                                                      0.99 * t.period_s))
+    long = t.period_s - short
+    search = get_core(core).timing_search
+    if search == "one-resistor":  # one R sets both phases: the typical phase ratio
+        return None, None
+    if search == "steered" and steer == "high":  # a fast high phase: the low one is slow
+        return short, long
+    return long, short
 
 
 def aim_levels(req: SolveRequest, chip, core: str, steer: str,
@@ -154,20 +168,23 @@ def aim_levels(req: SolveRequest, chip, core: str, steer: str,
     The phase weights are the aimed long and short phases for a steered core or a 555
     (the slow phase is the charging one for a fast low phase and for the 555), the
     typical chip's own ratio for the plain core (see :mod:`pulsepick.analysis.median`).
+    At the design supply with a supply range, the levels give the median over the
+    range's supplies too (the builds of the spread take their supply from it); at
+    any other supply (the end of the night) they are that supply's own median chip.
     """
     from pulsepick.analysis.median import median_levels
 
-    t = req.targets
-    short = min(min(req.flash_s, 0.99 * t.period_s), t.period_s - min(req.flash_s,
-                                                                      0.99 * t.period_s))
-    long = t.period_s - short
     v = req.supply_v if supply_v is None else supply_v
-    search = get_core(core).timing_search
-    if search == "one-resistor":  # one R sets both phases: the typical phase ratio
-        return median_levels(chip, v, None, None, req.seed)
-    if search == "steered" and steer == "high":  # a fast high phase: the low one is slow
-        return median_levels(chip, v, short, long, req.seed)
-    return median_levels(chip, v, long, short, req.seed)
+    low = req.supply_end_v if v == req.supply_v else None
+    return median_levels(chip, v, *_aim_weights(req, core, steer), low)
+
+
+def range_aim_ratio(req: SolveRequest, chip, core: str, steer: str) -> float:
+    """How much slower (above 1) the design-supply levels of :func:`aim_levels` run than
+    the design supply's own median chip: the supply range's share of the aim."""
+    from pulsepick.analysis.median import range_ratio
+
+    return range_ratio(chip, req.supply_v, req.supply_end_v, *_aim_weights(req, core, steer))
 
 
 def aim_env(req: SolveRequest, chip, core: str, steer: str, env):

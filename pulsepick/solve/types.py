@@ -32,6 +32,7 @@ class Candidate:
     median_note: str | None = None  # why the median build is off the nominal, after assess()
     aim_levels_v: tuple[float, float] | None = None  # V, (VT+, VT-) of the median chip aimed at
     misses: tuple[str, ...] = ()  # aimed figures missed by more than MISS_FACTOR (flagged)
+    night: Any = None  # NightVerdict on a given storage (pulsepick.solve.nightcheck), or None
 
     def _period_quantile(self, i: int) -> float | None:
         if self.spread is None or "period_s" not in self.spread.quantiles:
@@ -59,11 +60,16 @@ class Candidate:
         return None if self.spread is None else float(self.spread.yield_fraction)
 
     @property
-    def lasts_night(self) -> bool | None:
+    def runs_at_end_supply(self) -> bool | None:
         """With a supply range: still running and lit at the end-of-night supply."""
         if self.end_figures is None:
             return None
         return int(self.end_figures["status"]) == RUNS
+
+    @property
+    def lasts_night(self) -> bool | None:
+        """Lit from dusk to dawn on the storage's charge (None: no storage given)."""
+        return None if self.night is None else bool(self.night.lasts)
 
     @property
     def reference_figures(self) -> dict[str, float] | None:
@@ -84,6 +90,7 @@ class SolveResult:
     search_s: float  # s, wall time of the search
     success: bool  # False: nothing at all can be offered
     message: str
+    night_plan: Any = None  # NightPlan the candidates' nights ran on (nightcheck), or None
 
     def with_candidates(self, candidates: tuple[Candidate, ...]) -> SolveResult:
         return replace(self, candidates=candidates)

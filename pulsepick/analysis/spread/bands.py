@@ -88,6 +88,7 @@ class BandsResult:
             "yield_band": self.yield_band,
             "temp_range_c": list(self.temp_range_c),
             "supply_range_v": None if self.supply_range_v is None else list(self.supply_range_v),
+            "chip_spread": self.design.chip.spread,
             "cells": [c.as_dict() for c in self.cells],
             "current": self.current.as_dict(),
             "ideal_parts": {"period_width_pct": self.ideal_parts.width_pct(),

@@ -9,7 +9,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from pulsepick.analysis.chipspread import draw_fractions, split_normal_pdf
+from pulsepick.analysis.chipspread import draw_fractions, spread_pdf
 from pulsepick.design import Design
 from pulsepick.engine.environment import chip_model
 from pulsepick.errors import PartError
@@ -149,12 +149,12 @@ def _draw_chip(design: Design, vdd: np.ndarray, rng) -> tuple[np.ndarray, np.nda
     lim = _chip_limits(design, vdd)
     try:
         return draw_fractions(lim.p_lo, lim.p_typ, lim.p_hi, lim.m_lo, lim.m_typ, lim.m_hi,
-                              lim.h_lo, lim.h_hi, rng)
+                              lim.h_lo, lim.h_hi, rng, shape=design.chip.spread)
     except PartError as err:
         raise PartError(f"{design.chip.family}: {err}") from err
 
 
-def _chip_moments(lim: _ChipLimits) -> tuple[np.ndarray, np.ndarray]:
+def _chip_moments(lim: _ChipLimits, shape: str = "normal") -> tuple[np.ndarray, np.ndarray]:
     """Mean (2,) and covariance (2, 2) of the chip draw, as fractions, by quadrature.
 
     The density of :func:`_draw_chip` (split normal x split normal inside the hysteresis
@@ -169,7 +169,7 @@ def _chip_moments(lim: _ChipLimits) -> tuple[np.ndarray, np.ndarray]:
         if width <= 0:
             return np.zeros(1), np.ones(1)
         x = (np.arange(n) + 0.5) / n
-        return x, split_normal_pdf(x, mode)
+        return x, spread_pdf(x, mode, shape)
 
     xa, wa = axis(p_hi - p_lo, mode_a)
     xb, wb = axis(m_hi - m_lo, mode_b)

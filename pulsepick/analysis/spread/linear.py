@@ -104,7 +104,7 @@ def _input_variables(design: Design, tols, temp_range, supply_range, vary_set):
     lim = _chip_limits(design, v_mean)
     p_lo, p_hi, m_lo, m_hi, _, _ = _scalar_limits(lim)
     widths = np.array([p_hi - p_lo, m_hi - m_lo])
-    mean_ab, cov_ab = _chip_moments(lim)
+    mean_ab, cov_ab = _chip_moments(lim, design.chip.spread)
     sd_ab = np.sqrt(np.clip(np.diag(cov_ab), 0.0, None))
     var.append(("chip_a", "chip_thresholds", float(mean_ab[0]), float(sd_ab[0])))
     var.append(("chip_b", "chip_thresholds", float(mean_ab[1]), float(sd_ab[1])))

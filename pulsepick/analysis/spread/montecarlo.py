@@ -89,6 +89,7 @@ class SpreadResult:
             "seed": self.seed,
             "temp_range_c": list(self.temp_range_c),
             "supply_range_v": None if self.supply_range_v is None else list(self.supply_range_v),
+            "chip_spread": self.design.chip.spread,
             "target_period_s": self.target_period_s,
             "yield_band": self.yield_band,
             "tolerances": [{"part": t.name.upper(), "tol_minus_pct": t.tol_minus_pct,
