@@ -1,0 +1,35 @@
+"""The footbridge example end to end: one clock night repeated over several days, the
+storage start and the clamp, the lock table's ratios, one designator scheme per build and
+the photoresistor light's period at the night's light level."""
+
+from __future__ import annotations
+
+from datetime import UTC, datetime
+
+import numpy as np
+import pytest
+
+from pulsepick.analysis.day import NightWindow, simulate_days
+from pulsepick.analysis.irradiance import Profile
+from pulsepick.parts.diode import get_diode
+from pulsepick.parts.panel import get_panel
+from pulsepick.parts.storage import custom_storage
+
+FOOT = "examples/footbridge-fireflies.toml"
+STEADY = Profile(name="steady", hours=np.array([0.0, 24.0]),
+                 irradiance_w_m2=np.array([50.0, 50.0]))
+
+
+def test_a_dated_clock_night_repeated_gives_every_day_its_daylight():
+    # one night 20:45 to 06:15 (a design file's clock times carry the first evening's date)
+    w = NightWindow.from_times(datetime(2026, 6, 20, 20, 45, tzinfo=UTC),
+                               datetime(2026, 6, 21, 6, 15, tzinfo=UTC))
+    store = custom_storage(1000.0, v_rated_v=5.5, leak_a=0.0)
+    r = simulate_days(store, get_panel("5v60ma"), get_diode("schottky"), [STEADY], 0.0, w,
+                      0.0, days=3, autonomy=False, recovery=False)
+    # each day runs 06:15 to 20:45 (14.5 h); before, days 2 and 3 ended at their own dawn
+    assert [(row.dawn_s / 3600, row.dusk_s / 3600) for row in r.rows] == [(6.25, 20.75)] * 3
+    charges = [row.charge_in_c for row in r.rows]
+    assert min(charges) > 0.9 * max(charges) > 0
+    # the timeline: first dawn to the last dawn, three days
+    assert r.timeline_t_s[-1] - r.timeline_t_s[0] == pytest.approx(3 * 86400.0, abs=1.0)
