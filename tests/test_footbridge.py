@@ -33,3 +33,56 @@ def test_a_dated_clock_night_repeated_gives_every_day_its_daylight():
     assert min(charges) > 0.9 * max(charges) > 0
     # the timeline: first dawn to the last dawn, three days
     assert r.timeline_t_s[-1] - r.timeline_t_s[0] == pytest.approx(3 * 86400.0, abs=1.0)
+
+
+# --------------------------------------------------------------------------- the example
+
+
+@pytest.fixture(scope="module")
+def built():
+    """The example solved once, rendered as 'pulsepick solve' renders it: the console, the
+    JSON document and the buy list."""
+    import io
+    import json
+
+    from pulsepick.commands.solve import (
+        _build_extras,
+        build_buylist_text,
+        build_json,
+        render_build,
+    )
+    from pulsepick.designfile import build_request, read_design
+    from pulsepick.output.export import read_buylist
+    from pulsepick.output.render import make_console
+    from pulsepick.solve import solve_build
+
+    design = read_design(FOOT)
+    result = solve_build(build_request(design), jobs=2)
+    extras = _build_extras(design)
+    doc = json.loads(json.dumps(build_json(result, **extras)))
+    out = io.StringIO()
+    render_build(make_console(out, width=200), result, storage=True)
+    rows = read_buylist(build_buylist_text(result, **extras))
+    return result, doc, out.getvalue(), rows
+
+
+def test_photoresistor_light_period_is_the_nights(built):
+    from pulsepick.packing import NIGHT_LUX
+
+    result, doc, console, _rows = built
+    mid = result.lights[1]
+    assert mid.name == "midspan"
+    period = float(mid.pick.figures["period_s"])
+    (rate,) = doc["light_rates"]
+    # one computation: the light's figures are its period at the night's light level, and
+    # the rate's curve gives the same at that level
+    assert rate["night_lux"] == NIGHT_LUX == rate["lux"][0]
+    assert rate["night_period_s"] == period
+    assert rate["period_typ_s"][0] == pytest.approx(period, rel=1e-9)
+    # the period asked, 4.3 s (examples/footbridge-fireflies.toml), met within the
+    # build's period tolerance (12 %)
+    assert abs(period / 4.3 - 1) <= 0.12
+    shown = f"{period:.3g} s"
+    assert f"typical period {shown} at 0.01 lx" in console
+    row = next(ln for ln in console.splitlines() if ln.startswith(" midspan "))
+    assert shown in row

@@ -14,6 +14,7 @@ import re
 from typing import Any, NamedTuple
 
 from pulsepick.commands.solve_text import _bullet, _eng, _render_cautions, render_unmet
+from pulsepick.packing import night_lux
 
 NAME = "solve"
 SUMMARY = "find standard parts for a wanted blink: ranked circuits, spread, drift, buy list"
@@ -934,8 +935,9 @@ def _risk_json(names, r) -> dict:
             "clearance": r.clearance, "at_risk": r.at_risk}
 
 
-def _rate_text(lr) -> str:
-    """One paragraph: the photoresistor network and the period it gives against light."""
+def _rate_text(lr, night_period_s: float, night_lux: float) -> str:
+    """One paragraph: the photoresistor network and the period it gives against light; at
+    the night's light level the light's own period (its figures are the night's)."""
     import math
 
     net, rate = lr.clamp.network, lr.rate
@@ -946,19 +948,20 @@ def _rate_text(lr) -> str:
     clamps = [c for c in clamps if c]
     return (f"{net.ldr.name} in place of the timing resistor"
             + (f", with {' and '.join(clamps)}" if clamps else "")
-            + f": typical period {_eng(float(per[0]), 's')} at {lux[0]:g} lx, "
-            f"{_eng(float(per[-1]), 's')} at {lux[-1]:g} lx"
+            + f": typical period {_eng(night_period_s, 's')} at {night_lux:g} lx (the "
+            f"night's light level), {_eng(float(per[-1]), 's')} at {lux[-1]:g} lx"
             + ("" if rate.within_range is None else
                "; every corner within " if rate.within_range else "; not every corner within ")
             + (f"{_eng(rate.period_range_s[0], 's')}..{_eng(rate.period_range_s[1], 's')}"
                if rate.period_range_s else ""))
 
 
-def _rate_json(names, lr) -> dict:
+def _rate_json(names, lr, night_period_s: float, night_lux: float) -> dict:
     """A photoresistor light (pulsepick.packing.LightRate) as plain data."""
     net, rate = lr.clamp.network, lr.rate
     per = rate.period_s["typ"]
     return {"light": names[lr.light], "photoresistor": lr.key,
+            "night_lux": night_lux, "night_period_s": night_period_s,
             "series_ohm": net.series_ohm,
             "parallel_ohm": None if net.parallel_ohm == float("inf") else net.parallel_ohm,
             "lux": [float(x) for x in rate.lux], "period_typ_s": [float(x) for x in per],
@@ -1038,7 +1041,8 @@ def build_json(result, **extras) -> dict:
         [_risk_json(names, r) for r in result.risks_before],
         "total_supply_avg_a": result.total_supply_a,
         "dusk_gating": _gating_json(names, result.gating),
-        "light_rates": [_rate_json(names, r) for r in (result.rates or {}).values()],
+        "light_rates": [_rate_json(names, r, float(result.lights[r.light].pick.figures[
+            "period_s"]), night_lux(breq)) for r in (result.rates or {}).values()],
         "warnings": list(result.warnings),
         "cautions": list(solve_cautions(breq, storage="storage" in extras)),
     }
@@ -1164,7 +1168,8 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
                 for p in own if p.kind != "chip"]
         console.print(simple_table(None, ["ref", "value", "code", "tol", "kind", "role"], prow))
         if i in rates:
-            print_wrapped(console, "rate set by the light: " + _rate_text(rates[i]),
+            print_wrapped(console, "rate set by the light: " + _rate_text(
+                rates[i], float(c.figures["period_s"]), night_lux(breq)),
                           indent="  * ", hang="    ")
         for w in list(c.notes) + list(c.warnings):
             print_wrapped(console, w, indent="  - ", hang="    ")

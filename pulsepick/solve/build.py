@@ -209,18 +209,31 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
                                     resistor_tol_pct=_r_tols(c))
                 for i, c in enumerate(cands)]
 
+    from pulsepick import packing
+    from pulsepick.analysis.lock import ACCEPTABLE_LOCK_SHARE, minimise_share
+
+    def at_night(cands):
+        """A photoresistor light's network, and the light with the timing resistance the
+        network has in the night's light: its figures are the night's."""
+        if not breq.photoresistors:
+            return list(cands), {}
+        lr = packing.light_rates(breq, cands)
+        lux = packing.night_lux(breq)
+        vals = packing.night_values(lr, cands, lux)
+        return [_revalue(breq.lights[i].request, c, vals[i],
+                         note=f"figures at the night's light level {lux:g} lx (typical "
+                              "photoresistor)") if i in vals else c
+                for i, c in enumerate(cands)], lr
+
+    picks, rates = at_night(picks)
     samples = bands(picks)
     periods = [c.figures["period_s"] for c in picks]
     risks = multi.lock_risks(periods, groups, samples, margin=margin)
     risks_before = None
     choice = None
     moved = [False] * len(picks)
-    from pulsepick import packing
-    from pulsepick.analysis.lock import ACCEPTABLE_LOCK_SHARE, minimise_share
-
     lock_seed = breq.lights[0].request.seed
     # a photoresistor light runs at night at its network's value in the night's light
-    rates = packing.light_rates(breq, picks) if breq.photoresistors else {}
     night = packing.night_designs(breq, picks, rates)
     share = packing.build_lock_share(breq, picks, groups, seed=lock_seed, designs=night)
     share_before = None
@@ -254,11 +267,10 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
                 continue
             moved[i] = True
             new.append(_revalue(breq.lights[i].request, c, values))
-        picks = new
+        picks, rates = at_night(new)
         samples = bands(picks)
         periods = [c.figures["period_s"] for c in picks]
         risks = multi.lock_risks(periods, groups, samples, margin=margin)
-        rates = packing.light_rates(breq, picks) if breq.photoresistors else {}
         night = packing.night_designs(breq, picks, rates)
         share = packing.build_lock_share(breq, picks, groups, seed=lock_seed, designs=night)
         limit = (ACCEPTABLE_LOCK_SHARE if breq.max_lock_share is None
@@ -340,7 +352,8 @@ def _r_tols(c: Candidate) -> dict[str, float] | None:
     return tols or None
 
 
-def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float]) -> Candidate:
+def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float], *,
+             note: str = "timing values moved by the spread-out search") -> Candidate:
     """The candidate with new timing values: figures, errors and parts follow."""
     design = replace(c.design, values=dict(values))
     kw = {} if c.aim_levels_v is None else {"vt_plus": c.aim_levels_v[0],
@@ -351,4 +364,4 @@ def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float]) -> Candi
     return replace(c, design=design, figures=figs, errors=errors,
                    parts=_parts(req, design, figs), reference=None, spread=None, drift=None,
                    warnings=(), crossing_current=None, median_note=None,
-                   notes=(*c.notes, "timing values moved by the spread-out search"))
+                   notes=c.notes if note in c.notes else (*c.notes, note))
