@@ -86,3 +86,21 @@ def test_photoresistor_light_period_is_the_nights(built):
     assert f"typical period {shown} at 0.01 lx" in console
     row = next(ln for ln in console.splitlines() if ln.startswith(" midspan "))
     assert shown in row
+
+
+def test_lock_table_names_the_ratio_of_the_builds(built):
+    result, _doc, console, _rows = built
+    names = [li.name for li in result.lights]
+    lines = console.splitlines()
+    for p in result.lock_share.pairs:
+        row = next(ln for ln in lines if ln.startswith(f" {names[p.a]} / {names[p.b]} "))
+        cells = row.split()
+        assert cells[-2] == p.nearest and cells[-1] == f"{p.share:.1%}"
+        if p.share > 0:
+            # the nominal ratio lies nearer the named ratio than the next simple one
+            from fractions import Fraction
+
+            from pulsepick.analysis.multi import nearest_ratio
+
+            ratio = float(cells[3])
+            assert nearest_ratio(ratio) == Fraction(p.nearest.replace(":", "/"))
