@@ -398,8 +398,8 @@ def rate_part_lines(rate: LightRate, param_lines) -> tuple:
         out.append(PartLine(
             ref="LDR", kind="photoresistor", value=None, unit="", display=net.ldr.name,
             code=rate.key, series="", tolerance="", tolerance_pct=None, dielectric="",
-            rating="", role=f"photoresistor in place of {name.upper()}: the rate follows "
-            "the light", param=name, note="keep it shaded from the light's own LED"))
+            rating="", role="photoresistor in place of the timing resistor: the rate "
+            "follows the light", param=name, note="keep it shaded from the light's own LED"))
         for what, value in (("series", net.series_ohm), ("parallel", net.parallel_ohm)):
             if 0 < value < float("inf"):
                 out.append(_replace(line, value=value, display=format_eng(value, "Ω"),

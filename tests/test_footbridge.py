@@ -66,6 +66,58 @@ def built():
     return result, doc, out.getvalue(), rows
 
 
+def _console_refs(text: str, names) -> dict[str, list[str]]:
+    """Each light's designators as its parts table shows them (first column)."""
+    import re
+
+    out, light = {}, None
+    for line in text.splitlines():
+        head = next((n for n in names if line.startswith(f"{n}: ")), None)
+        if head is not None:
+            light, out[head] = head, []
+            continue
+        if light is None:
+            continue
+        m = re.match(r"^ ([A-Z]+[0-9]+) {2,}", line)
+        if m:
+            out[light].append(m.group(1))
+        elif line.startswith(("Cautions", "Buy list")):
+            light = None
+    return out
+
+
+def test_one_designator_scheme_for_the_whole_build(built):
+    import re
+
+    result, doc, console, rows = built
+    names = [li.name for li in result.lights]
+    shown = _console_refs(console, names)
+    in_json = {li["name"]: [p["ref"] for p in li["circuit"]["parts"] if p["kind"] != "chip"]
+               for li in doc["lights"]}
+    assert shown == in_json
+    every = [r for refs in shown.values() for r in refs]
+    assert len(every) == len(set(every)) >= 20  # unique across the build
+    # the buy list names the same designators for the lights' parts, each once
+    bought = [r for row in rows for r in re.split(r"[ ,]+", row["refs"].strip()) if r]
+    assert len(bought) == len(set(bought))
+    assert set(every) <= set(bought)
+    by_ref = {p["ref"]: p for p in doc["parts"]}
+    for li in doc["lights"]:
+        for p in li["circuit"]["parts"]:
+            if p["kind"] != "chip":
+                assert by_ref[p["ref"]]["role"] == f"{li['name']}: {p['role']}"
+                assert by_ref[p["ref"]]["display"] == p["display"]
+    # the photoresistor light: one LDR and its two clamp resistors, no second R1
+    mid = result.lights[1].pick.parts
+    assert [p.kind for p in mid].count("photoresistor") == 1
+    # every designator a light's notes and warnings name is one of its own parts
+    for li in result.lights:
+        own = {p.ref for p in li.pick.parts}
+        for text in (*li.pick.notes, *li.pick.warnings):
+            for ref in re.findall(r"\b(?:R|C|D|LED|LDR|U)[0-9]+\b", text):
+                assert ref in own, (li.name, ref, text)
+
+
 def test_photoresistor_light_period_is_the_nights(built):
     from pulsepick.packing import NIGHT_LUX
 

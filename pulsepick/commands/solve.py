@@ -909,12 +909,10 @@ def build_lines(result, *, storage=None, panel=None, charge_diode=None, clamp_v=
     from pulsepick.partslist import charge_path_lines
 
     names = [li.name for li in result.lights]
-    from pulsepick.packing import rate_part_lines
-
     holds = () if result.gating is None else hold_part_lines(result.gating, names)
-    rates = result.rates or {}
-    own = [rate_part_lines(rates[i], li.pick.parts) if i in rates else li.pick.parts
-           for i, li in enumerate(result.lights)]
+    # each light's parts carry the build's designators (a photoresistor network in place
+    # of its timing resistor): the buy list numbers them the same way
+    own = [li.pick.parts for li in result.lights]
     lines = build_part_lines(names, own, result.plan, storage=storage, panel=panel,
                              charge_diode=charge_diode, hold_lines=holds)
     return lines + charge_path_lines(lines, result.plan, clamp_v=clamp_v, clamp_w=clamp_w)
@@ -1161,10 +1159,6 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
         console.print(f"[bold]{li.name}[/bold]: {c.design.topo.label()} on "
                       f"{c.design.chip.family}, {c.design.supply_v:g} V", highlight=False)
         own = c.parts
-        if i in rates:
-            from pulsepick.packing import rate_part_lines
-
-            own = rate_part_lines(rates[i], c.parts)
         prow = [[p.ref, p.display, p.code, p.tolerance, p.dielectric or "-", p.role]
                 for p in own if p.kind != "chip"]
         console.print(simple_table(None, ["ref", "value", "code", "tol", "kind", "role"], prow))

@@ -295,6 +295,7 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
         picks = [_assessed(c, out) for c, out in zip(picks, outs, strict=True)]
     else:
         remedies = remedies_fn()
+    picks = _numbered(picks, rates, groups)
     warnings = list(pack_notes)
     near = [p for p in share.pairs if p.share > 0]
     if near:
@@ -332,6 +333,27 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
                        search_s=time.perf_counter() - t0, lock_share=share,
                        lock_share_before=share_before, remedies=remedies, gating=gating,
                        rates=rates, night_designs=tuple(night))
+
+
+def _numbered(picks, rates, groups) -> list:
+    """The picks with one designator scheme for the whole build: each light's parts (a
+    photoresistor light's network in place of its timing resistor) numbered across the
+    build as the buy list numbers them, its chip the package it sits on, and its notes
+    and warnings naming those designators."""
+    from pulsepick.packing import rate_part_lines
+    from pulsepick.partslist import number_light_parts, ref_map, renumber_text
+
+    own = [rate_part_lines(rates[i], c.parts) if i in rates else c.parts
+           for i, c in enumerate(picks)]
+    numbered = number_light_parts(own)
+    out = []
+    for i, c in enumerate(picks):
+        chip = tuple(replace(p, ref=f"U{groups[i]}") for p in c.parts if p.kind == "chip")
+        refs = ref_map(c.parts, numbered[i], f"U{groups[i]}")
+        out.append(replace(c, parts=chip + numbered[i],
+                           notes=tuple(renumber_text(t, refs) for t in c.notes),
+                           warnings=tuple(renumber_text(t, refs) for t in c.warnings)))
+    return out
 
 
 def _period_options(req: SolveRequest, c: Candidate, asked_s: float, tolerance: float):
