@@ -156,3 +156,26 @@ def test_lock_table_names_the_ratio_of_the_builds(built):
 
             ratio = float(cells[3])
             assert nearest_ratio(ratio) == Fraction(p.nearest.replace(":", "/"))
+
+
+def test_a_start_above_the_clamp_is_refused_and_the_clamp_is_the_default_start(tmp_path,
+                                                                             capsys):
+    from pulsepick.cli import main
+    from pulsepick.designfile import parse_design, storage_start
+    from pulsepick.errors import RequestError
+
+    import pathlib
+
+    text = pathlib.Path(FOOT).read_text(encoding="utf-8")
+    assert 'clamp = "2.4V"' in text  # the example's clamp is the one the tool proposes
+    bad = text.replace('clamp = "2.4V"', 'clamp = "2.3V"')
+    with pytest.raises(RequestError, match="start 2.4V is above the \\[panel\\] clamp 2.3V"):
+        parse_design(bad, "b.toml")
+    path = tmp_path / "b.toml"
+    path.write_text(bad, encoding="utf-8")
+    assert main(["night", str(path)]) == 2
+    assert "above the [panel] clamp" in capsys.readouterr().err
+    # without a start the night starts at the clamp (the storage is held there by day)
+    free = text.replace('start = "2.4V"\n', "")
+    assert storage_start(parse_design(free, "f.toml")) == "2.4V"
+
