@@ -179,3 +179,41 @@ def test_a_start_above_the_clamp_is_refused_and_the_clamp_is_the_default_start(t
     free = text.replace('start = "2.4V"\n', "")
     assert storage_start(parse_design(free, "f.toml")) == "2.4V"
 
+
+def _readme_commands(word: str) -> list[list[str]]:
+    import pathlib
+    import shlex
+
+    text = (pathlib.Path(__file__).resolve().parents[1] / "README.md").read_text("utf-8")
+    return [shlex.split(line.strip())[1:] for line in text.splitlines()
+            if line.strip().startswith(f"pulsepick {word} {FOOT}")]
+
+
+def test_the_readme_night_and_day_of_the_example_last(capsys):
+    """The README's commands for the example, read as a designer would: the night starts
+    at the clamp the tool proposes and lasts; the days shown all end in lasting nights."""
+    import json
+
+    from pulsepick.analysis.overvoltage import clamp_advice
+    from pulsepick.cli import main
+    from pulsepick.designfile import panel_part, read_design, storage_part, storage_start
+    from pulsepick.parts.diode import get_diode
+
+    design = read_design(FOOT)
+    # the proposed clamp for this cell and panel (no clamp given) is the file's clamp and
+    # the night's start
+    advice = clamp_advice(storage_part(design), panel_part(design), get_diode("schottky"))
+    assert advice.proposed_clamp_v == 2.4
+    assert storage_start(design) == "2.4V" and design.panel["clamp"] == "2.4V"
+    (night,) = _readme_commands("night")
+    assert main([*night, "--json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["v_start_v"] == 2.4 and doc["lasts_the_night"]
+    assert doc["v_end_v"] > doc["v_stop_v"] + 0.1  # some to spare at dawn
+    (day,) = _readme_commands("day")
+    main([*day, "--json"])
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["full_v"] == 2.4
+    assert len(doc["days"]) == 4 and doc["nights_lasted"] == 4
+    # the season the example states: the night of 20 June at 52.1° N
+    assert doc["night"]["given"] != "clock" and doc["days"][0]["night_s"] < 6 * 3600
