@@ -47,7 +47,7 @@ from pulsepick.output.render import (
     simple_table,
 )
 from pulsepick.output.textplot import spread_lines
-from pulsepick.units import format_eng, format_rkm, parse_quantity, parse_range
+from pulsepick.units import format_eng, format_pct, format_rkm, parse_quantity, parse_range
 
 NAME = "bands"
 SUMMARY = "compare tolerance bands: period spread and yield, E12/E24/E96 against capacitor classes"
@@ -208,8 +208,7 @@ def run(args) -> int:
     return 0
 
 
-def _pct(x: float, digits: int = 0) -> str:
-    return "-" if not math.isfinite(x) else f"{x * 100:.{digits}f} %"
+_pct = format_pct
 
 
 def _values_line(design) -> str:

@@ -204,10 +204,7 @@ def _json(result, clamp) -> dict:
 def render(console, result, clamp) -> None:
     """The terminal report."""
     from pulsepick.output.render import print_wrapped, simple_table
-    from pulsepick.units import format_eng
-
-    def eng(x, unit):
-        return "-" if x is None or not math.isfinite(x) else format_eng(x, unit)
+    from pulsepick.units import format_figure as eng
 
     net = result.network
     console.print(f"[bold]pulsepick ldr[/bold]: {net.ldr.name} in place of "

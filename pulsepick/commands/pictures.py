@@ -48,7 +48,7 @@ from pulsepick.output.plot import (
     plot_available,
     require_matplotlib,
 )
-from pulsepick.units import format_eng, format_rkm
+from pulsepick.units import format_eng, format_figure, format_pct, format_rkm
 
 REPORT_SUFFIXES = (".html", ".htm")
 NO_IMAGES = ("No pictures in this report: the plot extra (matplotlib) is not installed. "
@@ -252,13 +252,7 @@ _CAPTIONS = {
 
 # ============================================================================ report pieces
 
-def eng(value, unit: str) -> str:
-    """A number as the terminal reports print it: engineering notation, '-' if missing."""
-    if value is None or not isinstance(value, (int, float)) or not math.isfinite(value):
-        return "-"
-    if unit == "mcd":
-        return f"{value:.3g} mcd"
-    return format_eng(value, unit)
+eng = format_figure  # a number as the reports print it: engineering notation, '-' if missing
 
 
 def num(value, unit: str, si_unit: str | None = None) -> Cell:
@@ -267,8 +261,7 @@ def num(value, unit: str, si_unit: str | None = None) -> Cell:
     return Cell(eng(v, unit), v, si_unit if si_unit is not None else unit)
 
 
-def _pct(x: float | None, digits: int = 0) -> str:
-    return "-" if x is None or not math.isfinite(x) else f"{x * 100:.{digits}f} %"
+_pct = format_pct
 
 
 def values_rows(design) -> tuple[tuple[Cell | str, ...], ...]:

@@ -4,7 +4,7 @@ About 60 lines at 100 columns: the request and its assumptions folded into a few
 wrapped lines, the ranked circuits (parts as RKM codes, the builds' median period,
 P5..P95, yield, flash, peak and whether the circuit lasts the night), then the
 best circuit's parts, key figures, spread and warnings, and the cautions. The full
-report of every candidate is ``--detail`` (:func:`pulsepick.commands.solve.render_detail`).
+report of every candidate is ``--detail`` (:func:`pulsepick.commands.solve_report.render_detail`).
 """
 
 from __future__ import annotations
