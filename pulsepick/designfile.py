@@ -271,6 +271,7 @@ def _parse_tables(path: str, data: dict[str, Any]):
         if "part" not in panel and not ("voc" in panel and "isc" in panel):
             raise RequestError(f"{path}: [panel] needs 'part' (such as part = \"3v20ma\") or "
                                "'voc' with 'isc' (such as voc = \"3V\", isc = \"20mA\")")
+    _check_start_under_clamp(path, storage, panel)
     if "night" in data:
         night = _check_table(path, "night", data["night"], NIGHT_KEYS)
     if "site" in data:
@@ -328,14 +329,40 @@ def read_design(path: str) -> DesignFile:
     return parse_design(text, path)
 
 
+def _check_start_under_clamp(path: str, storage, panel) -> None:
+    """A storage start above the panel's clamp cannot be: the clamp holds it there."""
+    from pulsepick.units import parse_quantity
+
+    if not storage or not panel or "start" not in storage or "clamp" not in panel:
+        return
+    start = parse_quantity(storage["start"], "voltage", bare_ok=True)
+    clamp = parse_quantity(panel["clamp"], "voltage", bare_ok=True)
+    if start > clamp + 1e-9:
+        raise RequestError(
+            f"{path}: [storage] start {storage['start']} is above the [panel] clamp "
+            f"{panel['clamp']}, which holds the storage at {clamp:g} V; give a start at or "
+            "below the clamp (or leave start out: the night then starts at the clamp)")
+
+
+def storage_start(design: DesignFile) -> str | None:
+    """The storage voltage at dusk as text: the file's ``start``, else the panel's clamp
+    (the storage is held there by day), else the storage's rating."""
+    s = design.storage
+    if s is None:
+        return None
+    if s.get("start") is not None:
+        return _volts(s["start"])
+    if design.panel is not None and design.panel.get("clamp") is not None:
+        return _volts(design.panel["clamp"])
+    return f"{storage_part(design).v_rated_v:g}V"
+
+
 def storage_supply(design: DesignFile) -> str | None:
     """The supply text for the solver from the storage: ``start..stop_at`` or ``start``."""
     s = design.storage
     if s is None:
         return None
-    start = s.get("start")
-    if start is None:
-        start = f"{storage_part(design).v_rated_v:g}V"
+    start = storage_start(design)
     stop = s.get("stop_at")
     return f"{_volts(start)}..{_volts(stop)}" if stop is not None else _volts(start)
 

@@ -336,21 +336,46 @@ class LightRate:
 
 
 def light_rates(breq, picks) -> dict[int, LightRate]:
-    """The photoresistor network of every light that names one (see ``LDR_FASTEST``)."""
+    """The photoresistor network of every light that names one (see ``LDR_FASTEST``).
+
+    The network gives the pick's period at :func:`night_lux` (typical photoresistor, the
+    pick's switching levels) within ``NIGHT_FIT`` where a clamp pair can, and keeps every
+    corner within the bounds over the light range."""
     from pulsepick.analysis.ldr import ldr_rate, solve_clamp
     from pulsepick.parts.photoresistor import get_photoresistor
 
     out = {}
+    lux = night_lux(breq)
     for i, key in enumerate(breq.photoresistors):
         if not key or i >= len(picks):
             continue
         design = picks[i].design
+        levels = _levels(picks[i])
         asked = breq.lights[i].request.targets.period_s
         bounds = (LDR_FASTEST * asked, LDR_SLOWEST * asked)
         clamp = solve_clamp(design, get_photoresistor(key), bounds,
-                            series=breq.lights[i].request.r_series)
+                            series=breq.lights[i].request.r_series,
+                            night=(lux, float(picks[i].figures["period_s"])), levels=levels)
         out[i] = LightRate(i, key, clamp, ldr_rate(design, clamp.network,
-                                                   period_range_s=bounds))
+                                                   period_range_s=bounds, levels=levels))
+    return out
+
+
+def _levels(c) -> dict:
+    """The switching levels a pick's figures use (the median chip aimed at), as keywords."""
+    lv = getattr(c, "aim_levels_v", None)
+    return {} if lv is None else {"vt_plus": lv[0], "vt_minus": lv[1]}
+
+
+def night_values(rates: dict, picks, lux: float) -> dict[int, dict]:
+    """Per photoresistor light, its values with the timing resistance the network has at
+    ``lux`` (typical photoresistor): the light as it runs at night."""
+    from pulsepick.analysis.ldr import timing_param
+
+    out = {}
+    for i, lr in rates.items():
+        d = picks[i].design
+        out[i] = {**d.values, timing_param(d): float(lr.clamp.network.resistance(lux, "typ"))}
     return out
 
 
@@ -373,8 +398,8 @@ def rate_part_lines(rate: LightRate, param_lines) -> tuple:
         out.append(PartLine(
             ref="LDR", kind="photoresistor", value=None, unit="", display=net.ldr.name,
             code=rate.key, series="", tolerance="", tolerance_pct=None, dielectric="",
-            rating="", role=f"photoresistor in place of {name.upper()}: the rate follows "
-            "the light", param=name, note="keep it shaded from the light's own LED"))
+            rating="", role="photoresistor in place of the timing resistor: the rate "
+            "follows the light", param=name, note="keep it shaded from the light's own LED"))
         for what, value in (("series", net.series_ohm), ("parallel", net.parallel_ohm)):
             if 0 < value < float("inf"):
                 out.append(_replace(line, value=value, display=format_eng(value, "Ω"),
@@ -425,7 +450,7 @@ def night_scales(picks, designs) -> list[float]:
         if d is c.design:
             out.append(1.0)
             continue
-        p = float(np.ravel(d.fast().period_s)[0])
+        p = float(np.ravel(d.fast(**_levels(c)).period_s)[0])
         out.append(p / float(c.figures["period_s"]) if np.isfinite(p) and p > 0 else 1.0)
     return out
 
@@ -458,6 +483,7 @@ __all__ = [
     "night_designs",
     "night_lux",
     "night_scales",
+    "night_values",
     "on_family",
     "on_timer",
     "packable",

@@ -280,3 +280,65 @@ def charge_path_lines(lines, plan, *, clamp_v: float | None = None,
             note="the panel can charge the storage past its rating without it; rated for the "
                  "panel's full-sun short-circuit current with 50 % margin (common practice)"))
     return tuple(out)
+
+
+#: Designator prefix of each kind of part a light has (its chip aside).
+REF_PREFIX = {"resistor": "R", "capacitor": "C", "diode": "D", "transistor": "Q",
+              "led": "LED", "photoresistor": "LDR"}
+
+
+def number_light_parts(part_lines, counters: dict[str, int] | None = None) -> tuple:
+    """Each light's parts (its chip left out) with designators numbered across the build,
+    in the order of the lights: one scheme for the whole build, each designator once.
+
+    ``part_lines`` holds one tuple of ``PartLine`` per light; ``counters`` (prefix -> last
+    number) is carried on, so the build's other parts can continue the numbering.
+    """
+    from dataclasses import replace
+
+    counters = {} if counters is None else counters
+    out = []
+    for own in part_lines:
+        lines = []
+        for line in own:
+            if line.kind == "chip":
+                continue
+            prefix = REF_PREFIX.get(line.kind, "X")
+            counters[prefix] = counters.get(prefix, 0) + 1
+            lines.append(replace(line, ref=f"{prefix}{counters[prefix]}"))
+        out.append(tuple(lines))
+    return tuple(out)
+
+
+def ref_map(own, numbered, chip_ref: str) -> dict[str, str]:
+    """A light's own designators (its single-light parts list) to the build's: by the
+    circuit value each part stands for, else by position within its kind. A timing
+    resistor that a photoresistor network replaces maps to that network."""
+    out = {}
+    by_param = {ln.param: ln for ln in numbered if ln.param}
+    for line in own:
+        if line.kind == "chip":
+            out[line.ref] = chip_ref
+            continue
+        new = by_param.get(line.param) if line.param else None
+        if new is not None and new.kind == "photoresistor":
+            out[line.ref] = f"the {new.ref} network"
+        elif new is not None:
+            out[line.ref] = new.ref
+    for kind in REF_PREFIX:  # parts without a value: diodes, transistors, the LED
+        old = [ln for ln in own if ln.kind == kind and not ln.param]
+        new = [ln for ln in numbered if ln.kind == kind and not ln.param]
+        for a, b in zip(old, new, strict=False):
+            out[a.ref] = b.ref
+    return out
+
+
+def renumber_text(text: str, refs: dict[str, str]) -> str:
+    """``text`` with every designator of ``refs`` replaced at once (whole words only)."""
+    import re
+
+    if not refs:
+        return text
+    pattern = re.compile(r"\b(" + "|".join(re.escape(k) for k in sorted(
+        refs, key=len, reverse=True)) + r")\b")
+    return pattern.sub(lambda m: refs[m.group(1)], text)

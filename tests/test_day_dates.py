@@ -247,7 +247,7 @@ name = "Clamped path lantern"
 
 [storage]
 part = "5f-2v7"
-start = "2.6V"
+start = "2.4V"
 stop_at = "1.8V"
 
 [panel]

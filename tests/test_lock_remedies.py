@@ -101,6 +101,7 @@ def test_photoresistor_light_runs_at_the_night_light_level():
     """The lock share and the night's draw take the photoresistor network at the night's
     light level: series + (photoresistor || parallel clamp) (resistors in series and
     parallel, common practice) with R(E) = R10·(E/10 lux)^-gamma (ref:token-ldr-notes)."""
+    from pulsepick.analysis.ldr import timing_param
     from pulsepick.parts.photoresistor import get_photoresistor
 
     breq = make_build_request(["every 2 s for 50 ms", "every 3 s for 50 ms"],
@@ -117,9 +118,10 @@ def test_photoresistor_light_runs_at_the_night_light_level():
     par = net.parallel_ohm
     expect = net.series_ohm + (r_ldr if math.isinf(par) else 1.0 / (1.0 / r_ldr + 1.0 / par))
     night = res.night_designs[1]
-    param = next(k for k in night.values if night.values[k] != res.lights[1].pick.design
-                 .values[k])
+    param = timing_param(night)
     assert night.values[param] == pytest.approx(expect, rel=1e-9)
+    # the light's own figures are the night's: its timing resistance is the network's there
+    assert res.lights[1].pick.design.values[param] == night.values[param]
     # each light at the switching levels its figures use (the median chip the solver aims at)
     draw = []
     for li, d in zip(res.lights, res.night_designs, strict=True):

@@ -66,12 +66,16 @@ def _dusk_times(windows: tuple[NightWindow, ...], dawn_clock: float) -> list[flo
 
     The first dusk follows the first dawn by a day less the first night (as a single window
     always did); later dusks keep their dates' distance from it, or fall one day apart with
-    their own clock times when the windows carry no dates.
+    their own clock times when the windows carry no dates (or all the same date).
     """
     first = windows[0]
     out = [dawn_clock + DAY_S - first.night_s]
+    # one dated window repeated (a design file's clock night) carries the first evening's
+    # date on every day: its days fall one day apart, not on the first evening
+    dated = (all(w.dusk_date is not None for w in windows)
+             and len({w.dusk_date for w in windows}) == len(windows))
     for i, w in enumerate(windows[1:], start=1):
-        if w.dusk_date is not None and first.dusk_date is not None:
+        if dated:
             out.append(out[0] + (w.dusk_date - first.dusk_date).total_seconds())
         else:
             out.append(out[0] + i * DAY_S + (w.dusk_s - first.dusk_s))

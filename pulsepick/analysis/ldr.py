@@ -43,6 +43,13 @@ _R_MAP = np.logspace(2.0, 9.5, 301)
 CURRENT_RATIO_WARNING = 2.0
 #: A flash needs at least as long again dark after it to read as a flash (estimate).
 RACE_FACTOR = 2.0
+#: How close the typical timing resistance at the night's light level must come to the one
+#: giving the period asked for a clamp pair to count as meeting it (design choice: the
+#: E24 step with both clamps leaves about this much).
+NIGHT_FIT = 0.02
+#: Weight of a miss outside ``NIGHT_FIT`` against the span (log units): any miss counts
+#: more than any span (design choice).
+NIGHT_MISS_WEIGHT = 1e3
 ClampMode = Literal["series", "parallel", "both"]
 CLAMP_MODES = ("series", "parallel", "both")
 
@@ -125,7 +132,8 @@ def _check_lux(lux_range: tuple[float, float], points: int) -> np.ndarray:
 
 def ldr_rate(design: Design, network: LdrNetwork, *,
              lux_range: tuple[float, float] = DEFAULT_LUX_RANGE, points: int = DEFAULT_POINTS,
-             period_range_s: tuple[float, float] | None = None) -> LdrResult:
+             period_range_s: tuple[float, float] | None = None,
+             levels: dict | None = None) -> LdrResult:
     """Period, flash and supply current against light, at the photoresistor's corners.
 
     One fast-engine call evaluates every light level at every corner.
@@ -137,6 +145,8 @@ def ldr_rate(design: Design, network: LdrNetwork, *,
     lux_range : lowest and highest light level, lux.
     points : light levels, evenly spaced in log.
     period_range_s : optional bounds (s) to check every corner against.
+    levels : switching levels to evaluate at (``vt_plus``/``vt_minus`` in V, such as the
+        solver's median chip); default the chip's typical ones.
     """
     lux = _check_lux(lux_range, points)
     if period_range_s is not None:
@@ -144,7 +154,7 @@ def ldr_rate(design: Design, network: LdrNetwork, *,
     param = timing_param(design)
     r = np.concatenate([network.resistance(lux, c) for c in CORNERS])
     n = lux.size
-    figs = _evaluate(design, param, r)
+    figs = _evaluate(design, param, r, levels)
     status_all = np.asarray(figs.status)
     period_all = np.where((status_all == RUNS) | (status_all == DARK),
                           np.asarray(figs.period_s, dtype=float), np.nan)
@@ -186,8 +196,8 @@ def ldr_rate(design: Design, network: LdrNetwork, *,
     )
 
 
-def _evaluate(design: Design, param: str, r_values: np.ndarray):
-    env, powered = design.env()
+def _evaluate(design: Design, param: str, r_values: np.ndarray, levels: dict | None = None):
+    env, powered = design.env(**(levels or {}))
     values = dict(design.working_values(env))
     values[param] = np.asarray(r_values, dtype=float)
     return fast.evaluate(design.topo, values, env, powered=powered)
@@ -262,9 +272,10 @@ class ClampResult:
     message: str
 
 
-def _period_map(design: Design, param: str) -> tuple[np.ndarray, np.ndarray]:
+def _period_map(design: Design, param: str, levels: dict | None = None
+                ) -> tuple[np.ndarray, np.ndarray]:
     """Period (s) against the timing resistance (ohm) where the circuit runs, ascending."""
-    figs = _evaluate(design, param, _R_MAP)
+    figs = _evaluate(design, param, _R_MAP, levels)
     st = np.asarray(figs.status)
     p = np.asarray(figs.period_s, dtype=float)
     ok = ((st == RUNS) | (st == DARK)) & np.isfinite(p)
@@ -283,13 +294,19 @@ def _resistance_for(r_map, p_map, period: float) -> float:
 
 def solve_clamp(design: Design, ldr: Photoresistor, period_range_s: tuple[float, float], *,
                 mode: str = "both", series: str = "E24",
-                lux_range: tuple[float, float] = DEFAULT_LUX_RANGE) -> ClampResult:
+                lux_range: tuple[float, float] = DEFAULT_LUX_RANGE,
+                night: tuple[float, float] | None = None, night_tol: float = NIGHT_FIT,
+                levels: dict | None = None) -> ClampResult:
     """The E-series clamp resistor(s) that keep the period inside ``period_range_s``.
 
     Over ``lux_range`` and at every photoresistor corner the timing resistance must stay
     between the resistances giving the two bounds (read from the circuit's own period
     against resistance, one fast-engine call). Among the series values (and "none") that
     do, the pair keeping the widest typical period span wins; fewer parts break ties.
+
+    ``night`` (lux, period in s) asks the typical period at that light level to be the
+    given one within ``night_tol``: the pairs inside it come first, then the nearest.
+    ``levels`` are the switching levels the periods are read at (default typical).
 
     Raises
     ------
@@ -304,7 +321,7 @@ def solve_clamp(design: Design, ldr: Photoresistor, period_range_s: tuple[float,
     _check_lux(lux_range, 2)
     lo_p, hi_p = (float(x) for x in period_range_s)
     param = timing_param(design)
-    r_map, p_map = _period_map(design, param)
+    r_map, p_map = _period_map(design, param, levels)
     if lo_p < p_map[0] * (1 - 1e-9) and hi_p < p_map[0]:
         raise RequestError(
             f"period range {format_eng(lo_p, 's')}..{format_eng(hi_p, 's')} is below anything "
@@ -336,7 +353,13 @@ def solve_clamp(design: Design, ldr: Photoresistor, period_range_s: tuple[float,
     ok = (r_min >= r_lo * (1 - 1e-9)) & (r_max <= r_hi * (1 + 1e-9))
     span = np.log(total(typ_dark) / total(typ_bright))
     n_parts = (s > 0).astype(int) + np.isfinite(p).astype(int)
-    score = np.where(ok, span - 1e-6 * n_parts, -np.inf)
+    miss = np.zeros_like(span)
+    if night is not None:
+        # how far the typical period at the night's light level is outside the tolerance
+        r_night = _resistance_for(r_map, p_map, min(max(night[1], p_map[0]), p_map[-1]))
+        dev = np.abs(np.log(total(float(ldr.resistance(night[0], "typ"))) / r_night))
+        miss = np.maximum(dev - math.log1p(night_tol), 0.0)
+    score = np.where(ok, span - 1e-6 * n_parts - NIGHT_MISS_WEIGHT * miss, -np.inf)
     best = np.unravel_index(int(np.argmax(score)), score.shape)
     if not np.isfinite(score[best]):
         return ClampResult(

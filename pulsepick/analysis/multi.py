@@ -606,7 +606,7 @@ def build_part_lines(names: Sequence[str], part_lines: Sequence[tuple], plan: Pa
     Identical parts are summed by :func:`pulsepick.partslist.buy_rows`.
     """
     from pulsepick.engine.environment import ChipSpec, chip_model
-    from pulsepick.partslist import PartLine
+    from pulsepick.partslist import PartLine, number_light_parts
 
     lines = []
     for pkg in plan.packages:
@@ -635,14 +635,8 @@ def build_part_lines(names: Sequence[str], part_lines: Sequence[tuple], plan: Pa
         counters[prefix] = counters.get(prefix, 0) + 1
         return f"{prefix}{counters[prefix]}"
 
-    prefix_of = {"resistor": "R", "capacitor": "C", "diode": "D", "transistor": "Q",
-                 "led": "LED", "photoresistor": "LDR"}
-    for name, own in zip(names, part_lines, strict=True):
-        for line in own:
-            if line.kind == "chip":
-                continue
-            lines.append(replace(line, ref=ref(prefix_of.get(line.kind, "X")),
-                                 role=f"{name}: {line.role}"))
+    for name, own in zip(names, number_light_parts(part_lines, counters), strict=True):
+        lines.extend(replace(line, role=f"{name}: {line.role}") for line in own)
     for line in hold_lines:  # the dusk detector's hold diodes (pulsepick.analysis.gating)
         lines.append(replace(line, ref=ref("D")))
     if storage is not None:

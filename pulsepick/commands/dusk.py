@@ -125,7 +125,7 @@ def _apply_design(args: argparse.Namespace) -> None:
     """Fill the panel, diode, supply and family from a design file (options given win)."""
     if getattr(args, "design", None) is None:
         return
-    from pulsepick.designfile import is_design_file, read_design, storage_part
+    from pulsepick.designfile import is_design_file, read_design, storage_start
 
     if not is_design_file(args.design):
         raise RequestError(f"{args.design!r} is not a design file; give a .toml design such "
@@ -145,8 +145,7 @@ def _apply_design(args: argparse.Namespace) -> None:
         if "diode" in p:
             args.diode = str(p["diode"]).strip().lower()
     if args.supply is None and design.storage is not None:
-        start = design.storage.get("start")
-        args.supply = str(start) if start is not None else f"{storage_part(design).v_rated_v:g}V"
+        args.supply = storage_start(design)
     if args.family is None:
         families = [f.strip().lower() for f in str(design.build.get("family", "")).split(",")]
         schmitt = [f for f in families if f in FAMILY_KEYS]

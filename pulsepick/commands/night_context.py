@@ -26,7 +26,7 @@ def _apply_design(args: argparse.Namespace):
     """Fill the storage and night options from a design file (options given win)."""
     if getattr(args, "design", None) is None:
         return None
-    from pulsepick.designfile import is_design_file, night_options, read_design
+    from pulsepick.designfile import is_design_file, night_options, read_design, storage_start
 
     if not is_design_file(args.design):
         raise RequestError(f"{args.design!r} is not a design file; give a .toml design such "
@@ -45,6 +45,8 @@ def _apply_design(args: argparse.Namespace):
     for key, attr in _FILE_STORAGE.items():
         if key in s and getattr(args, attr) is None:
             setattr(args, attr, s[key])
+    if args.start is None and design.panel is not None and "clamp" in design.panel:
+        args.start = storage_start(design)  # held at the clamp by day
     for key, attr in (("leakage", "leakage"), ("charge_age", "charge_age"),
                       ("extra_load", "extra_load")):
         if key in s:

@@ -207,12 +207,10 @@ def build_lines(result, *, storage=None, panel=None, charge_diode=None, clamp_v=
     from pulsepick.partslist import charge_path_lines
 
     names = [li.name for li in result.lights]
-    from pulsepick.packing import rate_part_lines
-
     holds = () if result.gating is None else hold_part_lines(result.gating, names)
-    rates = result.rates or {}
-    own = [rate_part_lines(rates[i], li.pick.parts) if i in rates else li.pick.parts
-           for i, li in enumerate(result.lights)]
+    # each light's parts carry the build's designators (a photoresistor network in place
+    # of its timing resistor): the buy list numbers them the same way
+    own = [li.pick.parts for li in result.lights]
     lines = build_part_lines(names, own, result.plan, storage=storage, panel=panel,
                              charge_diode=charge_diode, hold_lines=holds)
     return lines + charge_path_lines(lines, result.plan, clamp_v=clamp_v, clamp_w=clamp_w)
@@ -226,11 +224,12 @@ def build_buylist_text(result, **extras) -> str:
     return export.build_buylist_text(result, build_lines(result, **extras))
 
 
-def _rate_json(names, lr) -> dict:
+def _rate_json(names, lr, night_period_s: float, night_lux: float) -> dict:
     """A photoresistor light (pulsepick.packing.LightRate) as plain data."""
     net, rate = lr.clamp.network, lr.rate
     per = rate.period_s["typ"]
     return {"light": names[lr.light], "photoresistor": lr.key,
+            "night_lux": night_lux, "night_period_s": night_period_s,
             "series_ohm": net.series_ohm,
             "parallel_ohm": None if net.parallel_ohm == float("inf") else net.parallel_ohm,
             "lux": [float(x) for x in rate.lux], "period_typ_s": [float(x) for x in per],
@@ -254,6 +253,7 @@ def build_json(result, **extras) -> dict:
     """The whole build as plain JSON data."""
     from pulsepick import __version__
     from pulsepick.output.export import candidate_json, solve_cautions
+    from pulsepick.packing import night_lux
 
     breq = result.request
     names = [li.name for li in result.lights]
@@ -292,7 +292,8 @@ def build_json(result, **extras) -> dict:
         [_risk_json(names, r) for r in result.risks_before],
         "total_supply_avg_a": result.total_supply_a,
         "dusk_gating": _gating_json(names, result.gating),
-        "light_rates": [_rate_json(names, r) for r in (result.rates or {}).values()],
+        "light_rates": [_rate_json(names, r, float(result.lights[r.light].pick.figures[
+            "period_s"]), night_lux(breq)) for r in (result.rates or {}).values()],
         "warnings": list(result.warnings),
         "cautions": list(solve_cautions(breq, storage="storage" in extras)),
     }

@@ -132,6 +132,7 @@ def _render_light_screens(console, result) -> None:
     """One screen per light: its parts (a photoresistor network in place of the timing
     resistor when the light sets the rate), notes and warnings."""
     from pulsepick.output.render import print_wrapped, simple_table
+    from pulsepick.packing import night_lux
 
     rates = result.rates or {}
     for i, li in enumerate(result.lights):
@@ -139,23 +140,21 @@ def _render_light_screens(console, result) -> None:
         console.print(f"[bold]{li.name}[/bold]: {c.design.topo.label()} on "
                       f"{c.design.chip.family}, {c.design.supply_v:g} V", highlight=False)
         own = c.parts
-        if i in rates:
-            from pulsepick.packing import rate_part_lines
-
-            own = rate_part_lines(rates[i], c.parts)
         prow = [[p.ref, p.display, p.code, p.tolerance, p.dielectric or "-", p.role]
                 for p in own if p.kind != "chip"]
         console.print(simple_table(None, ["ref", "value", "code", "tol", "kind", "role"], prow))
         if i in rates:
-            print_wrapped(console, "rate set by the light: " + _rate_text(rates[i]),
+            print_wrapped(console, "rate set by the light: " + _rate_text(
+                rates[i], float(c.figures["period_s"]), night_lux(result.request)),
                           indent="  * ", hang="    ")
         for w in list(c.notes) + list(c.warnings):
             print_wrapped(console, w, indent="  - ", hang="    ")
         console.print()
 
 
-def _rate_text(lr) -> str:
-    """One paragraph: the photoresistor network and the period it gives against light."""
+def _rate_text(lr, night_period_s: float, night_lux: float) -> str:
+    """One paragraph: the photoresistor network and the period it gives against light; at
+    the night's light level the light's own period (its figures are the night's)."""
     import math
 
     net, rate = lr.clamp.network, lr.rate
@@ -166,8 +165,8 @@ def _rate_text(lr) -> str:
     clamps = [c for c in clamps if c]
     return (f"{net.ldr.name} in place of the timing resistor"
             + (f", with {' and '.join(clamps)}" if clamps else "")
-            + f": typical period {_eng(float(per[0]), 's')} at {lux[0]:g} lx, "
-            f"{_eng(float(per[-1]), 's')} at {lux[-1]:g} lx"
+            + f": typical period {_eng(night_period_s, 's')} at {night_lux:g} lx (the "
+            f"night's light level), {_eng(float(per[-1]), 's')} at {lux[-1]:g} lx"
             + ("" if rate.within_range is None else
                "; every corner within " if rate.within_range else "; not every corner within ")
             + (f"{_eng(rate.period_range_s[0], 's')}..{_eng(rate.period_range_s[1], 's')}"

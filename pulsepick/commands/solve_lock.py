@@ -19,8 +19,9 @@ def render_lock_risks(console, result, names) -> None:
         for r in result.risks:
             band = "-" if r.band[0] != r.band[0] else f"{r.band[0]:.3f}..{r.band[1]:.3f}"
             ps = share.pair(r.a, r.b) if share is not None else None
+            # the ratio the pair's builds come near (the Monte Carlo's; "-" when never)
             rows.append([f"{names[r.a]} / {names[r.b]}", f"{r.ratio:.3f}", band,
-                         ps.nearest if ps is not None and ps.share > 0 else r.nearest,
+                         ps.nearest if ps is not None else r.nearest,
                          f"{ps.share:.1%}" if ps is not None else "-"])
         console.print(simple_table(
             f"Lock risk: share of builds with a pair within {breq.lock_margin:.0%} of p:q, "

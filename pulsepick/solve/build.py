@@ -209,18 +209,31 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
                                     resistor_tol_pct=_r_tols(c))
                 for i, c in enumerate(cands)]
 
+    from pulsepick import packing
+    from pulsepick.analysis.lock import ACCEPTABLE_LOCK_SHARE, minimise_share
+
+    def at_night(cands):
+        """A photoresistor light's network, and the light with the timing resistance the
+        network has in the night's light: its figures are the night's."""
+        if not breq.photoresistors:
+            return list(cands), {}
+        lr = packing.light_rates(breq, cands)
+        lux = packing.night_lux(breq)
+        vals = packing.night_values(lr, cands, lux)
+        return [_revalue(breq.lights[i].request, c, vals[i],
+                         note=f"figures at the night's light level {lux:g} lx (typical "
+                              "photoresistor)") if i in vals else c
+                for i, c in enumerate(cands)], lr
+
+    picks, rates = at_night(picks)
     samples = bands(picks)
     periods = [c.figures["period_s"] for c in picks]
     risks = multi.lock_risks(periods, groups, samples, margin=margin)
     risks_before = None
     choice = None
     moved = [False] * len(picks)
-    from pulsepick import packing
-    from pulsepick.analysis.lock import ACCEPTABLE_LOCK_SHARE, minimise_share
-
     lock_seed = breq.lights[0].request.seed
     # a photoresistor light runs at night at its network's value in the night's light
-    rates = packing.light_rates(breq, picks) if breq.photoresistors else {}
     night = packing.night_designs(breq, picks, rates)
     share = packing.build_lock_share(breq, picks, groups, seed=lock_seed, designs=night)
     share_before = None
@@ -254,11 +267,10 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
                 continue
             moved[i] = True
             new.append(_revalue(breq.lights[i].request, c, values))
-        picks = new
+        picks, rates = at_night(new)
         samples = bands(picks)
         periods = [c.figures["period_s"] for c in picks]
         risks = multi.lock_risks(periods, groups, samples, margin=margin)
-        rates = packing.light_rates(breq, picks) if breq.photoresistors else {}
         night = packing.night_designs(breq, picks, rates)
         share = packing.build_lock_share(breq, picks, groups, seed=lock_seed, designs=night)
         limit = (ACCEPTABLE_LOCK_SHARE if breq.max_lock_share is None
@@ -283,6 +295,7 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
         picks = [_assessed(c, out) for c, out in zip(picks, outs, strict=True)]
     else:
         remedies = remedies_fn()
+    picks = _numbered(picks, rates, groups)
     warnings = list(pack_notes)
     near = [p for p in share.pairs if p.share > 0]
     if near:
@@ -322,6 +335,27 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
                        rates=rates, night_designs=tuple(night))
 
 
+def _numbered(picks, rates, groups) -> list:
+    """The picks with one designator scheme for the whole build: each light's parts (a
+    photoresistor light's network in place of its timing resistor) numbered across the
+    build as the buy list numbers them, its chip the package it sits on, and its notes
+    and warnings naming those designators."""
+    from pulsepick.packing import rate_part_lines
+    from pulsepick.partslist import number_light_parts, ref_map, renumber_text
+
+    own = [rate_part_lines(rates[i], c.parts) if i in rates else c.parts
+           for i, c in enumerate(picks)]
+    numbered = number_light_parts(own)
+    out = []
+    for i, c in enumerate(picks):
+        chip = tuple(replace(p, ref=f"U{groups[i]}") for p in c.parts if p.kind == "chip")
+        refs = ref_map(c.parts, numbered[i], f"U{groups[i]}")
+        out.append(replace(c, parts=chip + numbered[i],
+                           notes=tuple(renumber_text(t, refs) for t in c.notes),
+                           warnings=tuple(renumber_text(t, refs) for t in c.warnings)))
+    return out
+
+
 def _period_options(req: SolveRequest, c: Candidate, asked_s: float, tolerance: float):
     """Standard-value variants of a pick, from the drawer when the request has one."""
     from pulsepick.analysis.multi import period_options
@@ -340,7 +374,8 @@ def _r_tols(c: Candidate) -> dict[str, float] | None:
     return tols or None
 
 
-def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float]) -> Candidate:
+def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float], *,
+             note: str = "timing values moved by the spread-out search") -> Candidate:
     """The candidate with new timing values: figures, errors and parts follow."""
     design = replace(c.design, values=dict(values))
     kw = {} if c.aim_levels_v is None else {"vt_plus": c.aim_levels_v[0],
@@ -351,4 +386,4 @@ def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float]) -> Candi
     return replace(c, design=design, figures=figs, errors=errors,
                    parts=_parts(req, design, figs), reference=None, spread=None, drift=None,
                    warnings=(), crossing_current=None, median_note=None,
-                   notes=(*c.notes, "timing values moved by the spread-out search"))
+                   notes=c.notes if note in c.notes else (*c.notes, note))
