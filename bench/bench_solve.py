@@ -106,17 +106,19 @@ def main() -> None:
     # in-process: search, assessment, rate and speed-up
     from pulsepick.engine import reference
     from pulsepick.request import make_request
-    from pulsepick.solve import assess, default_jobs, solve
+    from pulsepick.solve import assess, solve
+    from pulsepick.workers import PoolRunner, default_jobs
 
     req = make_request(PHRASE)
     solve(req)  # warm caches
     for jobs in sorted({1, default_jobs()}):
-        t0 = time.perf_counter()
-        result = solve(req, jobs=jobs)
-        t_search = time.perf_counter() - t0
-        t0 = time.perf_counter()
-        assessed = assess(result, jobs=jobs)
-        t_assess = time.perf_counter() - t0
+        with PoolRunner(jobs) as runner:
+            t0 = time.perf_counter()
+            result = solve(req, runner=runner)
+            t_search = time.perf_counter() - t0
+            t0 = time.perf_counter()
+            assessed = assess(result, runner=runner)
+            t_assess = time.perf_counter() - t0
         rate = result.evaluated / t_search
         print(f"  jobs={jobs}: search {t_search:.2f} s ({result.evaluated:,} circuits, "
               f"{rate:,.0f} per second), verification and analyses of the top "
@@ -136,7 +138,7 @@ def main() -> None:
         env, powered = d.env()
         reference.simulate(d.topo, d.values, env, powered=bool(powered))
     t_ref = (time.perf_counter() - t0) / len(sample)
-    one = solve(req, jobs=1)
+    one = solve(req)
     t_search1 = one.search_s
     speedup = one.evaluated * t_ref / t_search1
     print(f"  reference engine: {t_ref:.3f} s per circuit (mean of {len(sample)}); the same "

@@ -293,7 +293,8 @@ def compute(args) -> SolveRun:
     """Check the options, solve and assess one light (several lights: :func:`compute_build`)."""
     from pulsepick.commands.pictures import check_picture_targets
     from pulsepick.errors import RequestError
-    from pulsepick.solve import assess, default_jobs, solve
+    from pulsepick.solve import assess, solve
+    from pulsepick.workers import pool_runner
 
     for flag in ("max_packages", "period_tolerance", "lock_margin", "max_lock_share"):
         if getattr(args, flag) is not None:
@@ -306,9 +307,8 @@ def compute(args) -> SolveRun:
     req = request_from_args(args)
     picked = args.pick is not None
     args.pick = 1 if args.pick is None else args.pick
-    jobs = default_jobs() if args.jobs is None else args.jobs
-    result = solve(req, jobs=jobs)
-    result = assess(result, jobs=jobs)
+    with pool_runner(args.jobs) as runner:  # one set of workers for the search and checks
+        result = assess(solve(req, runner=runner), runner=runner)
     plans = None
     if getattr(args, "trim", False):
         from pulsepick.commands.trim_parts import trim_result
@@ -809,14 +809,14 @@ def compute_build(args) -> BuildRun:
     from pulsepick.commands.pictures import check_picture_targets
     from pulsepick.designfile import is_design_file
     from pulsepick.errors import RequestError  # noqa: F401 (used below in main's code)
-    from pulsepick.solve import default_jobs, solve_build
+    from pulsepick.solve import solve_build
+    from pulsepick.workers import on_workers
 
     design_path = args.phrase if is_design_file(args.phrase) else None
     check_picture_targets(args, [args.stock, design_path], with_buylist=True)
     breq, design = build_request_from_args(args)
     if design is not None and design.stock_path:
         check_picture_targets(args, [design.stock_path], with_buylist=True)
-    jobs = default_jobs() if args.jobs is None else args.jobs
     extras = _build_extras(design)
     from pulsepick.commands.design_night import design_clamp, design_night
 
@@ -829,7 +829,7 @@ def compute_build(args) -> BuildRun:
         # the file's own clamp is a part of the build: it goes in the buy list too
         extras["clamp_v"] = advice.clamp_v
         extras["clamp_w"] = advice.clamp_v * advice.isc_a
-    result = solve_build(breq, jobs=jobs)
+    result = on_workers(solve_build, breq, jobs=args.jobs)
     offered = all(li.pick is not None for li in result.lights) and result.plan is not None
     return BuildRun(result, breq, design, extras, night, advice, offered)
 

@@ -12,6 +12,7 @@ from typing import Any
 import numpy as np
 
 from pulsepick.circuits.base import get_stage
+from pulsepick.runner import Runner, runner_or_serial
 from pulsepick.solve.texts import time_text
 from pulsepick.solve.types import SolveResult
 
@@ -129,16 +130,17 @@ def median_note(design, spread, aimed_period_s: float | None = None) -> str | No
     return text + ": " + "; and ".join(causes)
 
 
-def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
+def assess(result: SolveResult, *, runner: Runner | None = None) -> SolveResult:
     """Verify every candidate with the reference engine and add spread, drift, warnings.
 
     Parameters
     ----------
     result : SolveResult
         From :func:`solve`.
-    jobs : int
-        Worker processes (1: in this process). The reference engine takes tenths of
-        a second per circuit, so two workers nearly halve the wall time on two cores.
+    runner : Runner, optional
+        Runs the candidates' checks (:mod:`pulsepick.runner`; default: in this
+        process). The reference engine takes tenths of a second per circuit, so two
+        worker processes nearly halve the wall time on two cores.
     """
     req = result.request
     cands = list(result.candidates)
@@ -146,7 +148,7 @@ def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
         return result
     # the spread uses the resistor tolerances of the parts list (the series asked for)
     args = [_assess_args(req, c) for c in cands]
-    outputs, _ = _assess_outputs(args, jobs)
+    outputs, _ = _assess_outputs(args, runner)
     return result.with_candidates(tuple(_assessed(c, out) for c, out in zip(
         cands, outputs, strict=True)))
 
@@ -165,29 +167,22 @@ def _assess_args(req, c) -> tuple:
             c.aim_levels_v)
 
 
-def _assess_outputs(args: list, jobs: int, during=None) -> tuple[list[dict[str, Any]], Any]:
-    """:func:`_assess_one` of each argument tuple, on up to ``jobs`` worker processes
-    (the longest reference runs first), and the result of ``during()`` (None when not
-    given), which runs in this process while the workers work."""
+def _assess_outputs(args: list, runner: Runner | None = None,
+                    during=None) -> tuple[list[dict[str, Any]], Any]:
+    """:func:`_assess_one` of each argument tuple, on ``runner`` (the longest reference
+    runs first), and the result of ``during()`` (None when not given), which runs in
+    this process while the runner's workers work."""
     from pulsepick.limits import workers_for_builds
 
-    outputs: list[dict[str, Any] | None] = [None] * len(args)
-    meanwhile = None
-    # bounded memory for many builds: fewer workers when each spread is large
-    jobs = workers_for_builds(jobs, max((a[2] for a in args), default=0))
-    if jobs > 1 and len(args) > 1:
-        from pulsepick.workers import run_pool
-
-        order = sorted(range(len(args)),
-                       key=lambda i: get_stage(args[i][0].topo.stage).search_rank)
-        got: list[Any] = []
-        outputs = run_pool(_assess_one, args, jobs, order=order,
-                           meanwhile=None if during is None else lambda: got.append(during()))
-        meanwhile = got[0] if got else None
-    else:
-        outputs = [_assess_one(*a) for a in args]
-        if during is not None:
-            meanwhile = during()
+    order = sorted(range(len(args)),
+                   key=lambda i: get_stage(args[i][0].topo.stage).search_rank)
+    got: list[Any] = []
+    # bounded memory for many builds: fewer at once when each spread is large
+    outputs = runner_or_serial(runner).map(
+        _assess_one, args, order=order,
+        limit=workers_for_builds(len(args), max((a[2] for a in args), default=0)),
+        meanwhile=None if during is None else lambda: got.append(during()))
+    meanwhile = got[0] if got else None
     return [out for out in outputs if out is not None], meanwhile
 
 
@@ -198,12 +193,3 @@ def _assessed(c, out: dict[str, Any]):
         warnings=tuple(out["warnings"]), timings_s=out["timings_s"],
         crossing_current=out.get("crossing_current"), median_note=out.get("median_note"),
     )
-
-
-def default_jobs() -> int:
-    """Worker processes for :func:`assess`: up to two, as the machine allows."""
-    import os
-
-    return max(1, min(2, os.cpu_count() or 1))
-
-
