@@ -176,6 +176,8 @@ class Core(Protocol):
     ldr_param: str  # the timing resistor a light-dependent resistor can replace
     timing_search: Literal["one-resistor", "steered", "two-resistor"]  # solver's timing search
     slow_phase_core: str  # the core that times the slow phase alone (itself, or a plainer one)
+    dusk_hold: Literal["diode", "reset"]  # held by day through a diode or its RESET pin
+    hold_off_steer: bool  # held at the level where its steering diode is off
 
     def label(self, topo: Topology) -> str: ...
 
@@ -219,6 +221,7 @@ class Stage(Protocol):
     search: Any  # searchgrid.StageSearch: the solver's search sizes
     search_rank: int  # solver and reference-run order: costliest first (lower first)
     search_from_peak_a: float  # A: searched by default only from this aimed peak up (0: always)
+    dark_driver: dict[Level, Literal["high", "low", "either"]]  # by lit: driver level, LED dark
 
     def label(self, topo: Topology) -> str: ...
 

@@ -53,6 +53,8 @@ class DirectStage:
     search: ClassVar[StageSearch] = StageSearch(coarse_keep=2, timing_keep=32, per_decade=3)
     search_rank: int = 2
     search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
+    #: the driver level that keeps the LED dark, by ``Topology.lit`` (the dusk hold sets it by day)
+    dark_driver: ClassVar[dict[str, str]] = {"high": "low", "low": "high"}
 
     def label(self, topo):
         return f"{self.name} ({'to ground' if topo.lit == 'high' else 'from supply'})"

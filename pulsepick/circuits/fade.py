@@ -115,6 +115,9 @@ class FadeStage:
     search: ClassVar[StageSearch] = StageSearch(coarse_keep=1, timing_keep=6, per_decade=2)
     search_rank: int = 0
     search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
+    #: the driver level that keeps the LED dark, by ``Topology.lit`` (the dusk hold sets it by day)
+    #: (low: the hold capacitor charges while the driver is high)
+    dark_driver: ClassVar[dict[str, str]] = {"high": "low"}
 
     def label(self, topo):
         return self.name

@@ -64,6 +64,9 @@ class PulseStage:
     search: ClassVar[StageSearch] = StageSearch(coarse_keep=2, timing_keep=16, per_decade=3)
     search_rank: int = 1
     search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
+    #: the driver level that keeps the LED dark, by ``Topology.lit`` (the dusk hold sets it by day)
+    #: (either: the coupling capacitor passes no steady current)
+    dark_driver: ClassVar[dict[str, str]] = {"high": "either"}
 
     def label(self, topo):
         return self.name

@@ -78,6 +78,10 @@ class SchmittCore:
     ldr_param: str = "r1"
     timing_search: str = "one-resistor"  # how the solver searches the timing network
     slow_phase_core: str = "schmitt"  # the core that times the slow phase alone
+    #: how the dusk detector holds it still by day: a diode into the timing node, or the
+    #: RESET pin (pulsepick.circuits.dusk_hold)
+    dusk_hold: str = "diode"
+    hold_off_steer: bool = False  # held at the level where a steering diode is off
 
     def label(self, topo):
         return self.name

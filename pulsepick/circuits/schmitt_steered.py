@@ -110,6 +110,12 @@ class SteeredSchmittCore:
     ldr_param: str = "r1"
     timing_search: str = "steered"  # how the solver searches the timing network
     slow_phase_core: str = "schmitt"  # the core that times the slow phase alone (R1·C1)
+    #: how the dusk detector holds it still by day: a diode into the timing node, or the
+    #: RESET pin (pulsepick.circuits.dusk_hold)
+    dusk_hold: str = "diode"
+    #: held, where the stage is dark at either level, at the level where its steering
+    #: diode is off (at the other, the fast-phase resistor would carry current all day)
+    hold_off_steer: bool = True
 
     def label(self, topo):
         return f"{self.name} (fast {topo.steer})"

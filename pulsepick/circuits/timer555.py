@@ -54,6 +54,10 @@ class Timer555Core:
     ldr_param: str = "rb"
     timing_search: str = "two-resistor"  # how the solver searches the timing network
     slow_phase_core: str = "timer555"  # the core that times the slow phase alone
+    #: how the dusk detector holds it still by day: a diode into the timing node, or the
+    #: RESET pin (pulsepick.circuits.dusk_hold)
+    dusk_hold: str = "reset"
+    hold_off_steer: bool = False  # held at the level where a steering diode is off
 
     def label(self, topo):
         return self.name

@@ -148,6 +148,9 @@ class TransistorStage:
     #: A gate drives an LED of up to about 20 mA itself; the switch earns its two parts
     #: above that (design choice; the stage takes 20-100 mA LEDs).
     search_from_peak_a: float = 20e-3
+    #: the driver level that keeps the LED dark, by ``Topology.lit`` (the dusk hold sets it by day)
+    #: (low: no base current, the transistor is off)
+    dark_driver: ClassVar[dict[str, str]] = {"high": "low"}
 
     def label(self, topo):
         return self.name
