@@ -178,3 +178,53 @@ def on_workers(fn: Callable[..., Any], *args: Any, jobs: int | None = None,
     that lives as long as the call."""
     with pool_runner(jobs) as runner:
         return fn(*args, runner=runner, **kwargs)
+
+
+def process_table() -> dict[int, tuple[int, str, int]]:
+    """Every process of the machine: process id -> (parent's id, state letter, resident
+    pages), read from ``/proc`` (Linux; empty elsewhere). For checking that no worker
+    outlives its parent (tests, benchmarks)."""
+    out: dict[int, tuple[int, str, int]] = {}
+    try:
+        entries = os.listdir("/proc")
+    except OSError:
+        return out
+    for entry in entries:
+        row = _stat(entry) if entry.isdigit() else None
+        if row is not None:
+            out[int(entry)] = row
+    return out
+
+
+def _stat(pid: int | str) -> tuple[int, str, int] | None:
+    """(parent's id, state letter, resident pages) of ``pid``; None when it is gone."""
+    try:
+        with open(f"/proc/{pid}/stat", encoding="ascii", errors="replace") as fh:
+            fields = fh.read().rsplit(")", 1)[1].split()
+    except (OSError, IndexError):
+        return None
+    return int(fields[1]), fields[0], int(fields[21])
+
+
+def children(pid: int, table: dict[int, tuple[int, str, int]] | None = None) -> list[int]:
+    """The processes whose parent is ``pid``."""
+    table = process_table() if table is None else table
+    return [p for p, (parent, _, _) in table.items() if parent == pid]
+
+
+def tree(pid: int, table: dict[int, tuple[int, str, int]] | None = None) -> set[int]:
+    """``pid`` and every process below it."""
+    table = process_table() if table is None else table
+    found, todo = set(), [pid]
+    while todo:
+        p = todo.pop()
+        if p not in found:
+            found.add(p)
+            todo.extend(children(p, table))
+    return found
+
+
+def alive(pid: int) -> bool:
+    """True while ``pid`` runs (a zombie, ended but not yet reaped, is not alive)."""
+    row = _stat(pid)
+    return row is not None and row[1] != "Z"

@@ -8,7 +8,7 @@ import sys
 import pytest
 
 from pulsepick.runner import SERIAL, runner_or_serial
-from pulsepick.workers import PoolRunner, default_jobs, on_workers
+from pulsepick.workers import PoolRunner, alive, default_jobs, on_workers
 
 linux_only = pytest.mark.skipif(sys.platform != "linux", reason="fork start method")
 
@@ -25,14 +25,6 @@ def _fail(x: int) -> int:
     if x == 2:
         raise ValueError("task 2 fails")
     return x
-
-
-def _alive(pid: int) -> bool:
-    try:
-        with open(f"/proc/{pid}/stat") as fh:
-            return fh.read().rsplit(")", 1)[1].split()[0] != "Z"
-    except OSError:
-        return False
 
 
 def test_serial_runs_meanwhile_first_and_keeps_the_order():
@@ -57,7 +49,7 @@ def test_one_set_of_workers_serves_every_batch_and_ends_with_the_runner():
         second = set(runner.map(_pid, [(i,) for i in range(8)]))
         assert os.getpid() not in first
         assert len(first | second) <= 2  # the same two workers, not new ones
-    assert not any(_alive(p) for p in first | second)
+    assert not any(alive(p) for p in first | second)
 
 
 @linux_only
@@ -75,5 +67,5 @@ def test_an_error_in_a_task_kills_the_workers_and_the_next_batch_gets_new_ones()
         before = set(runner.map(_pid, [(0,), (1,), (2,)]))
         with pytest.raises(ValueError, match="task 2 fails"):
             runner.map(_fail, [(0,), (1,), (2,), (3,)])
-        assert not any(_alive(p) for p in before)
+        assert not any(alive(p) for p in before)
         assert runner.map(_square, [(5,), (6,)]) == [25, 36]

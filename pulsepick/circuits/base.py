@@ -250,6 +250,46 @@ class Stage(Protocol):
                      xs: Any, driver_high: bool) -> tuple[float, list[float], float, float]: ...
 
 
+#: The timing capacitor of every core.
+TIMING_CAP = Param("c1", "C", "timing capacitor", option="--c",
+                   help="timing capacitor C1, e.g. 1u", example="1u")
+
+
+class _Plain:
+    """A circuit labelled by its name alone, with no part beyond its values."""
+
+    def label(self, topo: Topology) -> str:
+        return self.name  # type: ignore[attr-defined]
+
+    def extra_parts(self, topo: Topology) -> tuple[ExtraPart, ...]:
+        return ()
+
+
+@dataclass(frozen=True)
+class CoreDefaults(_Plain):
+    """What most cores declare alike; a core module's dataclass derives from it and
+    declares the rest (see :class:`Core`)."""
+
+    drives_stage_from_timing_output: bool = True
+    bufferable: bool = True
+    steers: tuple[Level, ...] = ("high",)
+    #: how the dusk detector holds it still by day: a diode into the timing node, or the
+    #: RESET pin (pulsepick.circuits.dusk_hold)
+    dusk_hold: str = "diode"
+    hold_off_steer: bool = False  # held at the level where a steering diode is off
+
+
+@dataclass(frozen=True)
+class StageDefaults(_Plain):
+    """What most stages declare alike; a stage module's dataclass derives from it and
+    declares the rest (see :class:`Stage`)."""
+
+    n_states: int = 0
+    lits: tuple[Level, ...] = ("high",)
+    gate_carries_led: bool = True
+    search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
+
+
 @dataclass(frozen=True)
 class DriverView:
     """The node that drives the LED stage: levels and source resistances."""

@@ -20,6 +20,8 @@ import numpy as np
 from pulsepick.circuits.base import (
     RUNS,
     STALLS,
+    TIMING_CAP,
+    CoreDefaults,
     Drive,
     Env,
     Param,
@@ -60,34 +62,20 @@ def timing_supply_charge(c, env: Env, t_high):
 
 
 @dataclass(frozen=True)
-class SchmittCore:
+class SchmittCore(CoreDefaults):
     name: str = "schmitt"
     chip_kind: str = "schmitt"
     params: tuple[Param, ...] = (
         Param("r1", "R", "timing resistor", option="--r",
               help="timing resistor R1 (schmitt cores), e.g. 2M2",
               example="2M2"),
-        Param("c1", "C", "timing capacitor", option="--c", help="timing capacitor C1, e.g. 1u",
-              example="1u"),
+        TIMING_CAP,
     )
-    drives_stage_from_timing_output: bool = True
     default_family: str = "hc"
-    bufferable: bool = True
-    steers: tuple[str, ...] = ("high",)
     search_rank: int = 1
     ldr_param: str = "r1"
     timing_search: str = "one-resistor"  # how the solver searches the timing network
     slow_phase_core: str = "schmitt"  # the core that times the slow phase alone
-    #: how the dusk detector holds it still by day: a diode into the timing node, or the
-    #: RESET pin (pulsepick.circuits.dusk_hold)
-    dusk_hold: str = "diode"
-    hold_off_steer: bool = False  # held at the level where a steering diode is off
-
-    def label(self, topo):
-        return self.name
-
-    def extra_parts(self, topo):
-        return ()
 
     def end_currents(self, v, env, topo):
         """(charging at VT+, discharging at VT-), A: R1 from the unloaded output."""
