@@ -221,6 +221,7 @@ class Stage(Protocol):
     search: Any  # searchgrid.StageSearch: the solver's search sizes
     search_rank: int  # solver and reference-run order: costliest first (lower first)
     search_from_peak_a: float  # A: searched by default only from this aimed peak up (0: always)
+    drive_param: str  # the resistor that sets the current drawn from the driver
     dark_driver: dict[Level, Literal["high", "low", "either"]]  # by lit: driver level, LED dark
 
     def label(self, topo: Topology) -> str: ...
@@ -235,6 +236,12 @@ class Stage(Protocol):
 
     def refine(self, ctx: Any, point: dict[str, float]) -> list[dict[str, float]]:
         """The point and its series neighbours."""
+        ...
+
+    def driver_peak_a(self, v: dict[str, float], env: Env, topo: Topology,
+                      led_peak_a: float) -> float:
+        """Peak current (A) drawn from the gate output that drives the stage, at an LED
+        peak of ``led_peak_a``."""
         ...
 
     def spice(self, v: dict[str, float], env: Env, topo: Topology) -> tuple[str, ...]:
@@ -288,6 +295,14 @@ class StageDefaults(_Plain):
     lits: tuple[Level, ...] = ("high",)
     gate_carries_led: bool = True
     search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
+    drive_param: str = "rs"  # the resistor that sets the current drawn from the driver
+
+    def driver_peak_a(self, v: dict[str, float], env: Env, topo: Topology,
+                      led_peak_a: float) -> float:
+        """Peak current (A) drawn from the gate output that drives the stage: the LED's
+        peak, which flows through it (a fade stage's hold capacitor charges through it
+        too, so this is a lower bound there: estimate)."""
+        return led_peak_a
 
 
 @dataclass(frozen=True)

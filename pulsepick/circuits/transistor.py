@@ -145,6 +145,7 @@ class TransistorStage(StageDefaults):
     #: A gate drives an LED of up to about 20 mA itself; the switch earns its two parts
     #: above that (design choice; the stage takes 20-100 mA LEDs).
     search_from_peak_a: float = 20e-3
+    drive_param: str = "rbase"  # the base resistor sets the current the gate sources
     #: dark with its driver low (no base current: the transistor is off)
     dark_driver: ClassVar[dict[str, str]] = {"high": "low"}
 
@@ -164,6 +165,14 @@ class TransistorStage(StageDefaults):
         q = i * t_on_f
         load = Load(i_ss=ib, r_dyn=v["rbase"] + tr.n_vt / np.maximum(ib, 1e-30))
         return StageFigures(i, t_on_f, t_on_f, q, q + ib * t_on_f, load, Load())
+
+    def driver_peak_a(self, v, env, topo, led_peak_a):
+        """The base current (A) the driving gate sources while high: the LED's current
+        flows through the transistor, not the gate. With a small base resistor it can
+        exceed the gate's pin rating on its own."""
+        _, ib = on_current(get_transistor(PART), env.led, env.vdd, env.vdd,
+                           env.rout_high + v["rbase"], v["rs"])
+        return float(np.ravel(ib)[0])
 
     def ref_init(self, v, env, topo):
         return []
