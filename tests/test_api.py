@@ -33,9 +33,9 @@ def _without_timing(doc: dict) -> dict:
 
 def test_doctests_run():
     import pulsepick.api
-    import pulsepick.export
+    import pulsepick.output.export
 
-    for module in (pulsepick.api, pulsepick.export):
+    for module in (pulsepick.api, pulsepick.output.export):
         outcome = doctest.testmod(module, optionflags=doctest.ELLIPSIS)
         assert outcome.attempted >= 4 and outcome.failed == 0, module.__name__
 
