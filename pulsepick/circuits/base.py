@@ -172,6 +172,7 @@ class Core(Protocol):
     default_family: str  # chip family when none is named
     bufferable: bool  # may drive its stage through a spare gate
     steers: tuple[Level, ...]  # Topology.steer values worth searching
+    search: Any  # CoreSearch: rank, timing search and slow-phase core, read through:
     search_rank: int  # solver order: costliest first (lower first)
     ldr_param: str  # the timing resistor a light-dependent resistor can replace
     timing_search: Literal["one-resistor", "steered", "two-resistor"]  # solver's timing search
@@ -273,9 +274,18 @@ class _Plain:
 
 
 @dataclass(frozen=True)
+class CoreSearch:
+    """How the solver searches a core's timing network."""
+
+    rank: int  # solver order: costliest first (lower first)
+    timing: Literal["one-resistor", "steered", "two-resistor"]
+    slow_phase_core: str  # the core that times the slow phase alone (itself, or a plainer one)
+
+
+@dataclass(frozen=True)
 class CoreDefaults(_Plain):
     """What most cores declare alike; a core module's dataclass derives from it and
-    declares the rest (see :class:`Core`)."""
+    declares the rest (see :class:`Core`), its search in one ``search`` (CoreSearch)."""
 
     drives_stage_from_timing_output: bool = True
     bufferable: bool = True
@@ -284,6 +294,18 @@ class CoreDefaults(_Plain):
     #: RESET pin (pulsepick.circuits.dusk_hold)
     dusk_hold: str = "diode"
     hold_off_steer: bool = False  # held at the level where a steering diode is off
+
+    @property
+    def search_rank(self) -> int:
+        return self.search.rank  # type: ignore[attr-defined]
+
+    @property
+    def timing_search(self) -> str:
+        return self.search.timing  # type: ignore[attr-defined]
+
+    @property
+    def slow_phase_core(self) -> str:
+        return self.search.slow_phase_core  # type: ignore[attr-defined]
 
 
 @dataclass(frozen=True)

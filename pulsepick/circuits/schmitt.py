@@ -14,6 +14,7 @@ input pin's leakage are included exactly in the first-order solution.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
@@ -22,6 +23,7 @@ from pulsepick.circuits.base import (
     STALLS,
     TIMING_CAP,
     CoreDefaults,
+    CoreSearch,
     Drive,
     Env,
     Param,
@@ -72,10 +74,8 @@ class SchmittCore(CoreDefaults):
         TIMING_CAP,
     )
     default_family: str = "hc"
-    search_rank: int = 1
     ldr_param: str = "r1"
-    timing_search: str = "one-resistor"  # how the solver searches the timing network
-    slow_phase_core: str = "schmitt"  # the core that times the slow phase alone
+    search: ClassVar[CoreSearch] = CoreSearch(1, "one-resistor", slow_phase_core="schmitt")
 
     def end_currents(self, v, env, topo):
         """(charging at VT+, discharging at VT-), A: R1 from the unloaded output."""

@@ -15,6 +15,7 @@ closed form of the plain core.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
@@ -23,6 +24,7 @@ from pulsepick.circuits.base import (
     STALLS,
     TIMING_CAP,
     CoreDefaults,
+    CoreSearch,
     Drive,
     Env,
     ExtraPart,
@@ -105,10 +107,9 @@ class SteeredSchmittCore(CoreDefaults):
     )
     default_family: str = "hc"
     steers: tuple[str, ...] = ("high", "low")
-    search_rank: int = 0
     ldr_param: str = "r1"
-    timing_search: str = "steered"  # how the solver searches the timing network
-    slow_phase_core: str = "schmitt"  # the core that times the slow phase alone (R1·C1)
+    #: its slow phase is R1·C1 alone, as a plain Schmitt core's
+    search: ClassVar[CoreSearch] = CoreSearch(0, "steered", slow_phase_core="schmitt")
     #: held, where the stage is dark at either level, at the level where its steering
     #: diode is off (at the other, the fast-phase resistor would carry current all day)
     hold_off_steer: bool = True

@@ -16,6 +16,7 @@ network, so the LED stage does not shift the timing.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
@@ -24,6 +25,7 @@ from pulsepick.circuits.base import (
     STALLS,
     TIMING_CAP,
     CoreDefaults,
+    CoreSearch,
     Drive,
     Env,
     Param,
@@ -50,10 +52,8 @@ class Timer555Core(CoreDefaults):
     drives_stage_from_timing_output: bool = False
     default_family: str = "timer555"
     bufferable: bool = False
-    search_rank: int = 2
     ldr_param: str = "rb"
-    timing_search: str = "two-resistor"  # how the solver searches the timing network
-    slow_phase_core: str = "timer555"  # the core that times the slow phase alone
+    search: ClassVar[CoreSearch] = CoreSearch(2, "two-resistor", slow_phase_core="timer555")
     dusk_hold: str = "reset"  # held still by day through its RESET pin
 
     def end_currents(self, v, env, topo):
