@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass, field
-from typing import Any, Literal, Protocol
+from typing import Any, ClassVar, Literal, Protocol
 
 import numpy as np
 
@@ -264,13 +264,16 @@ TIMING_CAP = Param("c1", "C", "timing capacitor", option="--c",
 
 
 class _Plain:
-    """A circuit labelled by its name alone, with no part beyond its values."""
+    """A circuit labelled by its name alone, whose parts beyond its values are the same
+    in every topology (``extras``)."""
+
+    extras: ClassVar[tuple[ExtraPart, ...]] = ()
 
     def label(self, topo: Topology) -> str:
         return self.name  # type: ignore[attr-defined]
 
     def extra_parts(self, topo: Topology) -> tuple[ExtraPart, ...]:
-        return ()
+        return self.extras
 
 
 @dataclass(frozen=True)

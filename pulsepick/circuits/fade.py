@@ -114,10 +114,9 @@ class FadeStage(StageDefaults):
     #: dark with its driver low (the hold capacitor charges while the driver is high)
     dark_driver: ClassVar[dict[str, str]] = {"high": "low"}
 
-    def extra_parts(self, topo):
-        return (ExtraPart("diode", "charge diode into the hold capacitor",
-                          "anode to the series resistor, cathode to the hold capacitor",
-                          choice="fade_diode"),)
+    extras: ClassVar[tuple[ExtraPart, ...]] = (ExtraPart(
+        "diode", "charge diode into the hold capacitor",
+        "anode to the series resistor, cathode to the hold capacitor", choice="fade_diode"),)
 
     def led_note(self, topo):
         return "across the hold capacitor, cathode to ground"

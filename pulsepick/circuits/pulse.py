@@ -63,10 +63,10 @@ class PulseStage(StageDefaults):
     #: dark with its driver at either level (the coupling capacitor passes no steady current)
     dark_driver: ClassVar[dict[str, str]] = {"high": "either"}
 
-    def extra_parts(self, topo):
-        return (ExtraPart("diode", "reset diode for the flash capacitor",
-                          "anode to ground, cathode to the LED side of the flash capacitor",
-                          choice="reset_diode"),)
+    extras: ClassVar[tuple[ExtraPart, ...]] = (ExtraPart(
+        "diode", "reset diode for the flash capacitor",
+        "anode to ground, cathode to the LED side of the flash capacitor",
+        choice="reset_diode"),)
 
     def led_note(self, topo):
         return "cathode to ground, anode to the flash capacitor"

@@ -149,10 +149,10 @@ class TransistorStage(StageDefaults):
     #: dark with its driver low (no base current: the transistor is off)
     dark_driver: ClassVar[dict[str, str]] = {"high": "low"}
 
-    def extra_parts(self, topo):
-        return (ExtraPart("transistor", "low-side switch for the LED",
-                          "emitter to ground, collector to the LED's cathode, base to the "
-                          "base resistor", key=PART),)
+    extras: ClassVar[tuple[ExtraPart, ...]] = (ExtraPart(
+        "transistor", "low-side switch for the LED",
+        "emitter to ground, collector to the LED's cathode, base to the base resistor",
+        key=PART),)
 
     def led_note(self, topo):
         return "anode through the series resistor to the supply, cathode to the collector"
