@@ -80,18 +80,20 @@ def main() -> None:
               f"{max(t):.2f}), CPU {cpu:.2f} s{verdict}")
 
     from pulsepick.request import make_request
-    from pulsepick.solve import assess, default_jobs, solve
+    from pulsepick.solve import assess, solve
+    from pulsepick.workers import pool_runner
 
     for name, phrase, kw in (("plain", PLAIN[1], {}),
                              ("demo", DEMO[1], dict(led="red", supply="2.7V..1.8V",
                                                     family="lvc,timer555"))):
         req = make_request(phrase, **kw)
-        t0 = time.perf_counter()
-        res = solve(req, jobs=default_jobs())
-        t_search = time.perf_counter() - t0
-        t0 = time.perf_counter()
-        done = assess(res, jobs=default_jobs())
-        t_assess = time.perf_counter() - t0
+        with pool_runner() as runner:
+            t0 = time.perf_counter()
+            res = solve(req, runner=runner)
+            t_search = time.perf_counter() - t0
+            t0 = time.perf_counter()
+            done = assess(res, runner=runner)
+            t_assess = time.perf_counter() - t0
         steps: dict[str, float] = {}
         for c in done.candidates:
             for k, v in c.timings_s.items():

@@ -21,6 +21,8 @@ import subprocess
 import sys
 import time
 
+from pulsepick.workers import process_table, tree
+
 SOLVE = ["solve", "one flash every 3 s", "--builds", "1000000"]
 DAY = ["day", "--storage", "1uF", "--panel", "5v60ma", "--weather", "clear",
        "--night-load", "30uA"]
@@ -30,27 +32,9 @@ DAY_TARGET_S = 2.0
 
 def _tree_rss_mb(pid: int) -> float:
     """Resident memory (MB) of ``pid`` and every descendant, from /proc (Linux)."""
-    parents: dict[int, int] = {}
-    rss: dict[int, int] = {}
-    for entry in os.listdir("/proc"):
-        if not entry.isdigit():
-            continue
-        try:
-            with open(f"/proc/{entry}/stat") as fh:
-                fields = fh.read().rsplit(")", 1)[1].split()
-        except OSError:
-            continue
-        parents[int(entry)] = int(fields[1])
-        rss[int(entry)] = int(fields[21])  # pages
-    tree = {pid}
-    grew = True
-    while grew:
-        grew = False
-        for p, parent in parents.items():
-            if parent in tree and p not in tree:
-                tree.add(p)
-                grew = True
-    return sum(rss.get(p, 0) for p in tree) * os.sysconf("SC_PAGE_SIZE") / 1e6
+    table = process_table()
+    return sum(table[p][2] for p in tree(pid, table) if p in table) * \
+        os.sysconf("SC_PAGE_SIZE") / 1e6
 
 
 def run(argv: list[str]) -> tuple[float, float, int]:

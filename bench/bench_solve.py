@@ -25,6 +25,8 @@ import subprocess
 import sys
 import time
 
+from pulsepick.workers import process_table, tree
+
 PHRASE = "one flash every 3 s"
 TARGET_S = 1.5  # s, end to end (the project's speed requirement)
 TARGET_MB = 300.0  # MB, peak memory (the project's speed requirement)
@@ -33,26 +35,9 @@ SAMPLE_REFERENCE = 8  # reference runs timed for the speed-up estimate
 
 def _tree_rss_kb(root: int) -> int:
     """Resident memory of ``root`` and its descendants, kB (shared pages counted per process)."""
-    parents: dict[int, int] = {}
-    rss: dict[int, int] = {}
-    for name in os.listdir("/proc"):
-        if not name.isdigit():
-            continue
-        try:
-            with open(f"/proc/{name}/stat", encoding="ascii") as fh:
-                fields = fh.read().rsplit(")", 1)[1].split()
-            with open(f"/proc/{name}/status", encoding="ascii") as fh:
-                kb = next((int(line.split()[1]) for line in fh if line.startswith("VmRSS:")), 0)
-        except (OSError, StopIteration, ValueError, IndexError):
-            continue
-        parents[int(name)] = int(fields[1])
-        rss[int(name)] = kb
-    total, todo = 0, [root]
-    while todo:
-        pid = todo.pop()
-        total += rss.get(pid, 0)
-        todo.extend(p for p, parent in parents.items() if parent == pid)
-    return total
+    table = process_table()
+    return sum(table[p][2] for p in tree(root, table) if p in table) * \
+        os.sysconf("SC_PAGE_SIZE") // 1024
 
 
 def run_command(args: list[str], sample: bool = False) -> tuple[float, float]:
@@ -106,17 +91,18 @@ def main() -> None:
     # in-process: search, assessment, rate and speed-up
     from pulsepick.engine import reference
     from pulsepick.request import make_request
-    from pulsepick.solve import assess, default_jobs, solve
+    from pulsepick.solve import assess, solve
+    from pulsepick.workers import PoolRunner, default_jobs
 
     req = make_request(PHRASE)
     solve(req)  # warm caches
     for jobs in sorted({1, default_jobs()}):
-        t0 = time.perf_counter()
-        result = solve(req, jobs=jobs)
-        t_search = time.perf_counter() - t0
-        t0 = time.perf_counter()
-        assessed = assess(result, jobs=jobs)
-        t_assess = time.perf_counter() - t0
+        with PoolRunner(jobs) as runner:  # one set of workers, as the command has
+            t0 = time.perf_counter()
+            result = solve(req, runner=runner)
+            t1 = time.perf_counter()
+            assessed = assess(result, runner=runner)
+            t_search, t_assess = t1 - t0, time.perf_counter() - t1
         rate = result.evaluated / t_search
         print(f"  jobs={jobs}: search {t_search:.2f} s ({result.evaluated:,} circuits, "
               f"{rate:,.0f} per second), verification and analyses of the top "
@@ -136,7 +122,7 @@ def main() -> None:
         env, powered = d.env()
         reference.simulate(d.topo, d.values, env, powered=bool(powered))
     t_ref = (time.perf_counter() - t0) / len(sample)
-    one = solve(req, jobs=1)
+    one = solve(req)
     t_search1 = one.search_s
     speedup = one.evaluated * t_ref / t_search1
     print(f"  reference engine: {t_ref:.3f} s per circuit (mean of {len(sample)}); the same "

@@ -193,8 +193,9 @@ def error_text(message: str) -> str:
 def main(argv: list[str] | None = None) -> int:
     """Run the program; returns the exit status.
 
-    0 ok, 1 internal error (a bug), 2 bad input, 130 interrupted by Ctrl-C, 128 + the
-    signal number when stopped by SIGTERM or SIGHUP. Worker processes never outlive it.
+    0 ok (``--help`` and ``--version`` included), 1 internal error (a bug), 2 bad input,
+    130 interrupted by Ctrl-C, 128 + the signal number when stopped by SIGTERM or SIGHUP.
+    It returns rather than raising ``SystemExit``. Worker processes never outlive it.
     """
     args_list = list(sys.argv[1:] if argv is None else argv)
     debug = "--debug" in args_list
@@ -237,6 +238,17 @@ def _say(text: str) -> None:
         pass
 
 
+def _exit_status(code: object) -> int:
+    """The status of a ``SystemExit`` code: None is 0, a number is itself, a message
+    (printed here) is 2."""
+    if code is None:
+        return EXIT_OK
+    if isinstance(code, int) and not isinstance(code, bool):
+        return code
+    _say(f"pulsepick: error: {error_text(str(code))}")
+    return EXIT_BAD_INPUT
+
+
 def _dispatch(args_list: list[str], debug: bool) -> int:
     try:
         parser = build_parser(_selected_command(args_list))
@@ -247,6 +259,9 @@ def _dispatch(args_list: list[str], debug: bool) -> int:
         code = int(args._run(args) or EXIT_OK)
         sys.stdout.flush()  # a closed pipe shows here, not at exit
         return code
+    except SystemExit as stop:
+        # --help and --version print and "exit" from inside the parser: a status here too
+        return _exit_status(stop.code)
     except PulsepickError as err:
         if debug:
             traceback.print_exc()

@@ -112,11 +112,12 @@ def packable(req: SolveRequest) -> bool:
         c != "timer555" for c in req.cores)
 
 
-def solve_lights(breq, solve_fn, *, jobs: int = 1):
+def solve_lights(breq, solve_fn, *, runner=None):
     """Solve every light of ``breq`` for one shared package family, 555s only where needed.
 
     Returns ``(results, notes)``: one ``SolveResult`` per light and the notes for the
-    build's warnings. ``solve_fn(request, jobs=...)`` is the single-light solver. The
+    build's warnings. ``solve_fn(request, runner=...)`` is the single-light solver (``runner``: see
+    :mod:`pulsepick.runner`). The
     families of :func:`family_plan` are tried in turn; the first on which every packable
     light is met is used, else the one meeting the most. A light not met there (or not
     allowed a logic family) is solved on the CMOS 555 when its request allows one.
@@ -131,7 +132,7 @@ def solve_lights(breq, solve_fn, *, jobs: int = 1):
         got = {}
         for i in want:
             sub = on_family(lights[i].request, family)
-            res = solve_fn(sub, jobs=jobs) if sub is not None else None
+            res = solve_fn(sub, runner=runner) if sub is not None else None
             if res is not None and res.success:
                 got[i] = res
         if best is None or len(got) > best[0]:
@@ -145,9 +146,9 @@ def solve_lights(breq, solve_fn, *, jobs: int = 1):
         if results[i] is not None:
             continue
         sub = on_timer(li.request)
-        res = solve_fn(sub if sub is not None else li.request, jobs=jobs)
+        res = solve_fn(sub if sub is not None else li.request, runner=runner)
         if sub is not None and not res.success:
-            res = solve_fn(li.request, jobs=jobs)
+            res = solve_fn(li.request, runner=runner)
         results[i] = res
         if best is not None and i in want and res.success:
             notes.append(f"{li.name} cannot be met on the shared {best[1]} package; it "

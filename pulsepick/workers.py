@@ -1,6 +1,7 @@
 """Worker processes that never outlive the program that started them.
 
-:func:`run_pool` runs tasks in forked worker processes. Each worker
+:class:`PoolRunner` runs the core's tasks in forked worker processes; the shell owns
+it (how many workers, and how long they live). Each worker
 
 - asks the kernel to end it when its parent dies (Linux ``PR_SET_PDEATHSIG``), and
   also watches its parent's process id from a thread, so a parent killed outright
@@ -9,18 +10,18 @@
 - gets SIGTERM, SIGHUP and SIGINT back to their default actions, so the signal
   handlers of the parent (see :mod:`pulsepick.cli`) never run in a worker.
 
-When the parent leaves the pool with an exception (Ctrl-C, a termination signal, an
-error) the workers are killed at once instead of being waited for.
+When the parent leaves a batch or the runner with an exception (Ctrl-C, a termination
+signal, an error) the workers are killed at once instead of being waited for.
 """
 
 from __future__ import annotations
 
+import contextlib
 import os
 import signal
 import threading
 import time
-from collections.abc import Callable, Iterator, Sequence
-from contextlib import contextmanager
+from collections.abc import Callable, Sequence
 from typing import Any
 
 # How often (s) a worker checks that its parent is still alive (estimate: short enough
@@ -29,12 +30,34 @@ PARENT_POLL_S = 0.2
 _PR_SET_PDEATHSIG = 1  # prctl option number from <linux/prctl.h>
 
 
+#: Signals held back in the parent while it forks its workers (see :func:`_held`).
+_HELD = tuple(getattr(signal, name) for name in ("SIGINT", "SIGTERM", "SIGHUP")
+              if hasattr(signal, name))
+
+
+@contextlib.contextmanager
+def _held():
+    """Hold the stopping signals back while the workers are forked, and deliver them
+    after: one arriving in the parent's after-fork handlers would be lost (Python
+    reports an exception there and carries on)."""
+    if not hasattr(signal, "pthread_sigmask"):
+        yield
+        return
+    old = signal.pthread_sigmask(signal.SIG_BLOCK, _HELD)
+    try:
+        yield
+    finally:
+        signal.pthread_sigmask(signal.SIG_SETMASK, old)
+
+
 def _die_with_parent(parent_pid: int) -> None:
     """Initialiser of every worker (runs in the worker)."""
     signal.signal(signal.SIGINT, signal.SIG_IGN)
     signal.signal(signal.SIGTERM, signal.SIG_DFL)
     if hasattr(signal, "SIGHUP"):
         signal.signal(signal.SIGHUP, signal.SIG_DFL)
+    if hasattr(signal, "pthread_sigmask"):
+        signal.pthread_sigmask(signal.SIG_UNBLOCK, _HELD)  # held by the parent's fork
     try:
         import ctypes
 
@@ -70,59 +93,141 @@ def _kill(pool) -> None:
             pass
 
 
-@contextmanager
-def signals_deferred() -> Iterator[None]:
-    """Ctrl-C, SIGTERM and SIGHUP arriving inside the block take effect as it ends.
+def default_jobs() -> int:
+    """Worker processes when none are asked for: up to two, as the machine allows."""
+    return max(1, min(2, os.cpu_count() or 1))
 
-    For work that must not be broken off half way, such as importing a large package:
-    an import stopped half way leaves modules half made, and the program's own exit then
-    fails. Only the main thread handles signals; elsewhere the block runs as it is.
+
+class PoolRunner:
+    """A :class:`pulsepick.runner.Runner` on up to ``jobs`` forked worker processes.
+
+    The shell opens one for a command (``with PoolRunner(jobs) as runner:``) and hands it
+    to the core. The workers start with the first batch that needs them and serve every
+    later batch while the runner is open; a batch bounded to fewer tasks at once
+    (``limit``) gets a pool of that size instead. A batch of one task, or a runner of one
+    job, runs in this process. Leaving the ``with`` block shuts the workers down; leaving
+    it, or a batch, with an exception (Ctrl-C, a termination signal, an error) kills
+    them at once instead of waiting for them.
     """
-    if threading.current_thread() is not threading.main_thread():
-        yield
-        return
-    caught: list[int] = []
 
-    def note(signum, _frame) -> None:
-        caught.append(signum)
+    def __init__(self, jobs: int) -> None:
+        self.jobs = max(1, int(jobs))
+        self._pool = None
+        self._width = 0
 
-    old = {}
-    for name in ("SIGINT", "SIGTERM", "SIGHUP"):
-        sig = getattr(signal, name, None)
-        if sig is not None and signal.getsignal(sig) is not None:
-            old[sig] = signal.signal(sig, note)
+    def __enter__(self) -> PoolRunner:
+        return self
+
+    def __exit__(self, exc_type, exc, tb) -> None:
+        self.close(kill=exc_type is not None)
+
+    def close(self, kill: bool = False) -> None:
+        """Shut the workers down (``kill``: at once, without waiting for them)."""
+        pool, self._pool, self._width = self._pool, None, 0
+        if pool is None:
+            return
+        if kill:
+            _kill(pool)
+        else:
+            pool.shutdown(wait=True)
+
+    def _open(self, width: int):
+        if self._pool is not None and self._width != width:
+            self.close()
+        if self._pool is None:
+            import multiprocessing
+            from concurrent.futures import ProcessPoolExecutor
+
+            ctx = multiprocessing.get_context("fork")
+            self._pool = ProcessPoolExecutor(max_workers=width, mp_context=ctx,
+                                             initializer=_die_with_parent,
+                                             initargs=(os.getpid(),))
+            self._width = width
+        return self._pool
+
+    def map(self, fn: Callable[..., Any], tasks: Sequence[tuple], *,
+            meanwhile: Callable[[], None] | None = None,
+            order: Sequence[int] | None = None, limit: int | None = None,
+            fresh: bool = False) -> list:
+        """``[fn(*task) for task in tasks]`` (see :class:`pulsepick.runner.Runner`)."""
+        width = self.jobs if limit is None else max(1, min(self.jobs, limit))
+        if width <= 1 or len(tasks) <= 1:
+            from pulsepick.runner import SERIAL
+
+            return SERIAL.map(fn, tasks, meanwhile=meanwhile)
+        if fresh:
+            self.close()  # idle workers: forked anew below, with this process's modules
+        pool = self._open(width)
+        try:
+            idx = list(range(len(tasks))) if order is None else list(order)
+            with _held():  # the first batch forks the workers
+                futures = {i: pool.submit(fn, *tasks[i]) for i in idx}
+            if meanwhile is not None:
+                meanwhile()
+            return [futures[i].result() for i in range(len(tasks))]
+        except BaseException:
+            self.close(kill=True)
+            raise
+
+
+def pool_runner(jobs: int | None = None) -> PoolRunner:
+    """The runner of a command: ``jobs`` worker processes (None: :func:`default_jobs`)."""
+    return PoolRunner(default_jobs() if jobs is None else jobs)
+
+
+def on_workers(fn: Callable[..., Any], *args: Any, jobs: int | None = None,
+               **kwargs: Any) -> Any:
+    """``fn(*args, runner=..., **kwargs)`` on a :func:`pool_runner` of ``jobs`` workers
+    that lives as long as the call."""
+    with pool_runner(jobs) as runner:
+        return fn(*args, runner=runner, **kwargs)
+
+
+def process_table() -> dict[int, tuple[int, str, int]]:
+    """Every process of the machine: process id -> (parent's id, state letter, resident
+    pages), read from ``/proc`` (Linux; empty elsewhere). For checking that no worker
+    outlives its parent (tests, benchmarks)."""
+    out: dict[int, tuple[int, str, int]] = {}
     try:
-        yield
-    finally:
-        for sig, handler in old.items():
-            signal.signal(sig, handler)
-        if caught:
-            signal.raise_signal(caught[0])  # now handled as it would have been
-
-
-def run_pool(fn: Callable[..., Any], tasks: Sequence[tuple], jobs: int,
-             meanwhile: Callable[[], None] | None = None,
-             order: Sequence[int] | None = None) -> list:
-    """``[fn(*task) for task in tasks]`` computed by up to ``jobs`` worker processes.
-
-    ``meanwhile()``, when given, runs in this process while the workers work.
-    ``order`` is the order in which the tasks are handed out (default: as given);
-    the results always come back in the order of ``tasks``.
-    """
-    import multiprocessing
-    from concurrent.futures import ProcessPoolExecutor
-
-    ctx = multiprocessing.get_context("fork")
-    pool = ProcessPoolExecutor(max_workers=max(1, min(jobs, len(tasks))), mp_context=ctx,
-                               initializer=_die_with_parent, initargs=(os.getpid(),))
-    try:
-        idx = list(range(len(tasks))) if order is None else list(order)
-        futures = {i: pool.submit(fn, *tasks[i]) for i in idx}
-        if meanwhile is not None:
-            meanwhile()
-        out = [futures[i].result() for i in range(len(tasks))]
-    except BaseException:
-        _kill(pool)
-        raise
-    pool.shutdown(wait=True)
+        entries = os.listdir("/proc")
+    except OSError:
+        return out
+    for entry in entries:
+        row = _stat(entry) if entry.isdigit() else None
+        if row is not None:
+            out[int(entry)] = row
     return out
+
+
+def _stat(pid: int | str) -> tuple[int, str, int] | None:
+    """(parent's id, state letter, resident pages) of ``pid``; None when it is gone."""
+    try:
+        with open(f"/proc/{pid}/stat", encoding="ascii", errors="replace") as fh:
+            fields = fh.read().rsplit(")", 1)[1].split()
+    except (OSError, IndexError):
+        return None
+    return int(fields[1]), fields[0], int(fields[21])
+
+
+def children(pid: int, table: dict[int, tuple[int, str, int]] | None = None) -> list[int]:
+    """The processes whose parent is ``pid``."""
+    table = process_table() if table is None else table
+    return [p for p, (parent, _, _) in table.items() if parent == pid]
+
+
+def tree(pid: int, table: dict[int, tuple[int, str, int]] | None = None) -> set[int]:
+    """``pid`` and every process below it."""
+    table = process_table() if table is None else table
+    found, todo = set(), [pid]
+    while todo:
+        p = todo.pop()
+        if p not in found:
+            found.add(p)
+            todo.extend(children(p, table))
+    return found
+
+
+def alive(pid: int) -> bool:
+    """True while ``pid`` runs (a zombie, ended but not yet reaped, is not alive)."""
+    row = _stat(pid)
+    return row is not None and row[1] != "Z"

@@ -31,7 +31,7 @@ LAYERS = (
     ("circuits",),
     ("parts",),
     ("units", "series", "tables", "errors", "physconst", "colour", "data", "limits", "infile",
-     "workers"),
+     "workers", "runner"),
 )
 
 #: Upward imports still tolerated (none: keep it that way).
@@ -95,6 +95,17 @@ def test_imports_point_down():
             if a is not None and b is not None and b < a:
                 upward.add((name, target))
     assert upward == KNOWN_UPWARD
+
+
+def test_only_the_shell_starts_worker_processes():
+    # the core takes a runner from its caller (pulsepick.runner); the pool is the shell's
+    shell = set(LAYERS[0])
+    starters = sorted(name for name, targets in GRAPH.items()
+                      if "pulsepick.workers" in targets
+                      and (len(name.split(".")) == 1 or name.split(".")[1] not in shell))
+    assert starters == []
+    assert any("pulsepick.workers" in GRAPH[n] for n in GRAPH if n.startswith(
+        "pulsepick.commands."))
 
 
 def test_no_import_cycles():

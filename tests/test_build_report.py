@@ -114,9 +114,10 @@ def test_example_solve_report_night_and_day(tmp_path):
     from pulsepick.designfile import build_request, read_design
     from pulsepick.output.render import make_console
     from pulsepick.solve import solve_build
+    from pulsepick.workers import on_workers
 
     design = read_design(EXAMPLE)
-    result = solve_build(build_request(design), jobs=2)
+    result = on_workers(solve_build, build_request(design), jobs=2)
     extras = _build_extras(design)
     doc = json.loads(json.dumps(build_json(result, **extras)))
     report, buy = tmp_path / "bridge.html", tmp_path / "bridge.csv"

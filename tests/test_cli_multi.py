@@ -167,7 +167,7 @@ def test_build_report_as_text():
 
     breq = make_build_request(split_lights("two lights: every 2 s, every 3.05 s, 50 ms each"),
                               family="hc", top=2)
-    result = solve_build(breq, jobs=1, assess_picks=False)
+    result = solve_build(breq, assess_picks=False)
     buf = io.StringIO()
     render_build(Console(file=buf, width=100, color_system=None), result)
     text = buf.getvalue()

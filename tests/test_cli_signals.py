@@ -6,7 +6,6 @@ Status" of a command ended by a signal; common practice): Ctrl-C (SIGINT, 2) giv
 
 from __future__ import annotations
 
-import os
 import signal
 import subprocess
 import sys
@@ -14,34 +13,23 @@ import time
 
 import pytest
 
+from pulsepick.workers import alive, children
+
 pytestmark = pytest.mark.skipif(sys.platform != "linux", reason="process tree via /proc")
 
 SOLVE = [sys.executable, "-m", "pulsepick", "solve", "one flash every 3 s",
          "--builds", "300000", "--jobs", "2"]
 
 
-def _children(pid: int) -> list[int]:
-    out = []
-    for entry in os.listdir("/proc"):
-        if not entry.isdigit():
-            continue
-        try:
-            with open(f"/proc/{entry}/stat") as fh:
-                fields = fh.read().rsplit(")", 1)[1].split()
-        except OSError:
-            continue
-        if int(fields[1]) == pid:
-            out.append(int(entry))
-    return out
-
-
-def _alive(pid: int) -> bool:
-    try:
-        with open(f"/proc/{pid}/stat") as fh:
-            state = fh.read().rsplit(")", 1)[1].split()[0]
-    except OSError:
-        return False
-    return state != "Z"
+def _workers_of(proc: subprocess.Popen) -> list[int]:
+    """The two worker processes of ``proc`` once both have started (within a minute)."""
+    deadline = time.monotonic() + 60
+    kids: list[int] = []
+    while time.monotonic() < deadline and len(kids) < 2:
+        time.sleep(0.05)
+        kids = children(proc.pid)
+        assert proc.poll() is None, proc.stderr.read() if proc.stderr else ""
+    return kids
 
 
 @pytest.mark.parametrize(("sig", "status"), [(signal.SIGTERM, 128 + 15),
@@ -50,12 +38,7 @@ def _alive(pid: int) -> bool:
 def test_signal_ends_the_whole_tree(sig, status):
     proc = subprocess.Popen(SOLVE, stdout=subprocess.PIPE, stderr=subprocess.PIPE)
     try:
-        deadline = time.monotonic() + 60
-        kids: list[int] = []
-        while time.monotonic() < deadline and len(kids) < 2:
-            time.sleep(0.05)
-            kids = _children(proc.pid)
-            assert proc.poll() is None, proc.stderr.read()
+        kids = _workers_of(proc)
         assert len(kids) == 2  # the two workers asked for with --jobs 2
         proc.send_signal(sig)
         _, err = proc.communicate(timeout=2.0)  # ends within the 2 s allowed
@@ -63,7 +46,7 @@ def test_signal_ends_the_whole_tree(sig, status):
         assert b"Traceback" not in err
         assert len(err.decode().strip().splitlines()) == 1
         time.sleep(0.5)
-        assert [k for k in kids if _alive(k)] == []
+        assert [k for k in kids if alive(k)] == []
     finally:
         if proc.poll() is None:
             proc.kill()
@@ -74,18 +57,14 @@ def test_killed_parent_takes_its_workers_along():
     """SIGKILL cannot be caught: the workers notice their parent is gone by themselves."""
     proc = subprocess.Popen(SOLVE, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
     try:
-        deadline = time.monotonic() + 60
-        kids: list[int] = []
-        while time.monotonic() < deadline and len(kids) < 2:
-            time.sleep(0.05)
-            kids = _children(proc.pid)
+        kids = _workers_of(proc)
         assert len(kids) == 2
         proc.kill()
         proc.wait()
         end = time.monotonic() + 2.0
-        while time.monotonic() < end and any(_alive(k) for k in kids):
+        while time.monotonic() < end and any(alive(k) for k in kids):
             time.sleep(0.05)
-        assert [k for k in kids if _alive(k)] == []
+        assert [k for k in kids if alive(k)] == []
     finally:
         if proc.poll() is None:
             proc.kill()
@@ -93,7 +72,7 @@ def test_killed_parent_takes_its_workers_along():
 
 
 def test_a_signal_inside_signals_deferred_takes_effect_as_the_block_ends():
-    from pulsepick.workers import signals_deferred
+    from pulsepick.runner import signals_deferred
 
     done = []
     with pytest.raises(KeyboardInterrupt):

@@ -131,10 +131,10 @@ def test_design_file_solve_gives_the_same_parts_as_single_lights(tmp_path):
     path = tmp_path / "two.toml"
     path.write_text(GOOD, encoding="utf-8")
     d = read_design(str(path))
-    result = solve_build(build_request(d), jobs=1, assess_picks=False)
+    result = solve_build(build_request(d), assess_picks=False)
     for li, spec in zip(result.lights, d.lights, strict=True):
         single = solve(make_request(spec.blink, family="lvc", supply="2.6V..1.8V",
-                                    **spec.context), jobs=1)
+                                    **spec.context))
         best = single.candidates[0]
         # the same parts; the build numbers them across its lights (R1.. go on)
         assert [{**p.to_dict(), "ref": None} for p in li.pick.parts] == [

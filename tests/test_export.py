@@ -26,7 +26,7 @@ from pulsepick.solve import assess, solve
 def result():
     req = make_request("flash every 2.5 s for 40 ms, 5 mA peak", cores="schmitt-steered",
                        stages="direct,pulse", top=2, builds=200, seed=7)
-    return assess(solve(req), jobs=1)
+    return assess(solve(req))
 
 
 def test_buylist_reads_back_and_matches_the_json_parts(result, tmp_path):

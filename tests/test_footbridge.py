@@ -55,9 +55,10 @@ def built():
     from pulsepick.output.export import read_buylist
     from pulsepick.output.render import make_console
     from pulsepick.solve import solve_build
+    from pulsepick.workers import on_workers
 
     design = read_design(FOOT)
-    result = solve_build(build_request(design), jobs=2)
+    result = on_workers(solve_build, build_request(design), jobs=2)
     extras = _build_extras(design)
     doc = json.loads(json.dumps(build_json(result, **extras)))
     out = io.StringIO()

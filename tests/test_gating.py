@@ -1,12 +1,14 @@
 """Dusk gating: the detector holds the oscillators off by day and lets them run at night."""
 
 import math
+from pathlib import Path
 
 import numpy as np
 import pytest
 
 from pulsepick.analysis.gating import build_gating, detector_gates, light_hold
-from pulsepick.circuits.base import Topology
+from pulsepick.circuits import dusk_hold
+from pulsepick.circuits.base import Topology, core_names, get_core, get_stage, stage_names
 from pulsepick.circuits.dusk_hold import dark_driver_level, hold_kind
 from pulsepick.engine.gated import simulate_gated
 from pulsepick.parts.diode import get_diode
@@ -51,6 +53,21 @@ def test_dark_levels_follow_the_stage():
     assert detector_gates([Topology("schmitt", "pulse")]) == 1
     assert detector_gates([Topology("schmitt", "pulse"),
                            Topology("schmitt", "fade")]) == 2
+    # a steered core with a stage dark at either level: held where its diode is off
+    assert hold_kind(Topology("schmitt-steered", "pulse", steer="high")) == "hold-high"
+    assert hold_kind(Topology("schmitt-steered", "pulse", steer="low")) == "hold-low"
+    assert dark_driver_level(Topology("schmitt", "fade", lit="low")) == "low"  # one wiring
+
+
+def test_every_stage_and_core_declares_how_it_is_held():
+    for name in stage_names():
+        levels = get_stage(name).dark_driver
+        assert set(get_stage(name).lits) <= set(levels)
+        assert set(levels.values()) <= {"high", "low", "either"}
+    assert {n: get_core(n).dusk_hold for n in core_names()} == {
+        "schmitt": "diode", "schmitt-steered": "diode", "timer555": "reset"}
+    source = Path(dusk_hold.__file__).read_text(encoding="utf-8")
+    assert [n for n in (*stage_names(), *core_names()) if f'"{n}"' in source] == []
 
 
 @pytest.mark.parametrize("kind", ["hold-low", "hold-high"])

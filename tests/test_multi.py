@@ -122,7 +122,7 @@ def test_spread_out_build_lowers_the_lock_share():
     # 2 s and 4.4 s: ratio 0.4545, its band reaches the 1:2 zone
     breq = make_build_request(split_lights("every 2 s, every 4.4 s, 50 ms each"), family="hc",
                               spread_out=True, top=2)
-    result = solve_build(breq, jobs=1, assess_picks=False)
+    result = solve_build(breq, assess_picks=False)
     assert result.risks_before is not None and any(r.band_near for r in result.risks_before)
     before, after = result.lock_share_before.share, result.lock_share.share
     assert before > 0.05 and after < before / 3

@@ -274,7 +274,7 @@ def test_solver_aims_at_the_median_build():
     # 2,000 builds (the default): the median's sampling error is under 1 % here
     req = make_request("one flash every 3 s", family="hc", cores="schmitt-steered",
                        stages="direct", buffered=True, top=1)
-    c = assess(solve(req), jobs=1).candidates[0]
+    c = assess(solve(req)).candidates[0]
     p50 = c.spread.quantiles["period_s"][1]
     assert abs(p50 / 3.0 - 1) < 0.03
     assert c.median_period_s == p50
@@ -291,7 +291,7 @@ def test_solver_aims_at_the_median_build():
 def test_measured_crossing_current_replaces_the_estimate():
     req = make_request("one flash every 3 s", family="hc", cores="schmitt", stages="direct",
                        top=1, builds=100, chip_overrides={"cross_current_a": 15e-6})
-    c = assess(solve(req), jobs=1).candidates[0]
+    c = assess(solve(req)).candidates[0]
     assert c.design.chip.cross_current_a == 15e-6
     assert c.crossing_current.startswith("measured: 15 µA")
 
@@ -336,7 +336,7 @@ def test_stock_only_parts_from_the_drawer(tmp_path):
 def test_assess_verifies_with_the_reference_engine():
     req = make_request("flash every 2 s for 40 ms, 5 mA peak", cores="timer555",
                        stages="direct", top=1, builds=200)
-    result = assess(solve(req), jobs=1)
+    result = assess(solve(req))
     c = result.candidates[0]
     ref = c.reference_figures
     assert ref is not None and c.reference.success
@@ -352,8 +352,11 @@ def test_assess_on_two_workers_gives_what_one_process_gives():
     # as two tasks; joined again, they are what one process computes
     req = make_request("flash every 2 s for 40 ms, 5 mA peak", stages="direct,fade",
                        supply="2.7V..1.8V", top=2, builds=200)
-    found = solve(req, jobs=1)
-    one, two = assess(found, jobs=1), assess(found, jobs=2)
+    from pulsepick.workers import PoolRunner
+
+    found = solve(req)
+    with PoolRunner(2) as runner:
+        one, two = assess(found), assess(found, runner=runner)
     assert len(one.candidates) == 2
     for a, b in zip(one.candidates, two.candidates, strict=True):
         assert a.reference_figures == b.reference_figures

@@ -98,6 +98,6 @@ def test_over_rating_never_ranks_first():
     # 20 mA peak asked of HC on 5 V: the pin limit (25 mA, ref:in74hc14a) and the LED's 20 mA
     req = make_request("one flash every 3 s, 20 mA peak", supply="5V", family="hc",
                        cores="schmitt", stages="direct", top=3)
-    res = assess(solve(req), jobs=1)
+    res = assess(solve(req))
     first = res.candidates[0]
     assert not any(w.startswith("over a rating") for w in first.warnings)

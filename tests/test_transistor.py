@@ -134,3 +134,45 @@ def test_solve_leaves_the_switch_out_for_small_currents(capsys):
     stages = [c["stage"] for c in doc["candidates"]]
     assert len(stages) == 5 and "transistor" not in stages
     assert set(stages) <= {"direct", "pulse", "fade"}
+
+
+def _switch(rbase: float, vdd: float = 5.0, family: str = "hc"):
+    from pulsepick.circuits.base import Topology
+    from pulsepick.design import Design
+    from pulsepick.engine.environment import ChipSpec, PartChoice
+
+    return Design(Topology("schmitt", "transistor"),
+                  {"r1": 1e6, "c1": 1e-6, "rs": 22.0, "rbase": rbase}, ChipSpec(family),
+                  PartChoice(led=get_led("amber")), vdd)
+
+
+def test_a_small_base_resistor_is_checked_against_the_gate_pin_rating():
+    from pulsepick.analysis.ratings import gate_ratings, rating_excesses
+
+    limit = gate_ratings("hc").out_pin_max_a  # 25 mA per pin (ref:in74hc14a)
+    design = _switch(91.0)
+    env, _ = design.env()
+    # the gate sources the base current, the LED's 40 mA flows through the transistor
+    _, ib = on_current(TR, env.led, 5.0, 5.0, float(np.ravel(env.rout_high)[0]) + 91.0, 22.0)
+    found = rating_excesses(design, 40e-3)
+    assert [e.part for e in found] == ["U1 timing gate's output pin"]
+    assert found[0].figure_a == pytest.approx(float(np.ravel(ib)[0]))
+    assert 25e-3 < found[0].figure_a < 30e-3 and found[0].limit_a == limit
+    assert "drive of the LED's switch" in found[0].what and "larger RBASE" in found[0].fix
+    # a larger base resistor, or a lower supply, keeps the pin within its rating
+    assert rating_excesses(_switch(220.0), 40e-3) == []
+    assert rating_excesses(_switch(91.0, vdd=3.0), 40e-3) == []
+
+
+def test_a_base_drive_over_the_pin_rating_never_ranks_first():
+    from pulsepick.analysis.ratings import rating_excesses
+    from pulsepick.request import make_request
+    from pulsepick.solve import solve
+
+    req = make_request("one flash every 3 s, 60 mA peak", supply="5V", family="hc",
+                       cores="schmitt", stages="transistor", top=5, led="amber")
+    cands = solve(req).candidates
+    over = [bool(rating_excesses(c.design, float(c.figures["led_peak_a"]))) for c in cands]
+    assert True in over  # the search offers a base resistor that overdrives the pin ...
+    assert over[0] is False  # ... but never first
+    assert cands[0].design.values["rbase"] >= 220.0

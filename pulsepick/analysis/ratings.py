@@ -116,22 +116,52 @@ def rating_excesses(design, led_peak_a: float) -> list[RatingExcess]:
             "tables", fix_text(float(led.i_max_a))))
     gr = gate_ratings(design.chip.family)
     if gr is not None:
-        pin = "spare gate's output pin" if design.topo.buffered else "timing gate's output pin"
-        if gr.out_pin_max_a is not None and led_peak_a > gr.out_pin_max_a:
-            fix = fix_text(gr.out_pin_max_a)
-            if not design.topo.buffered:
-                fix += "; a buffer gate (--buffered) moves the load off the timing gate"
-            out.append(RatingExcess(f"U1 {pin}", "output current (the LED's peak)", led_peak_a,
-                                    gr.out_pin_max_a,
-                                    f"{gr.family.upper()} absolute maximum per pin, "
-                                    f"{_cite(gr.source)}",
-                                    fix))
-        if gr.supply_pin_max_a is not None and led_peak_a > gr.supply_pin_max_a:
-            out.append(RatingExcess("U1 VCC/GND pin", "package supply current (the LED's peak)",
-                                    led_peak_a, gr.supply_pin_max_a,
-                                    f"{gr.family.upper()} absolute maximum for the VCC or "
-                                    f"GND pin, {_cite(gr.source)}",
-                                    fix_text(gr.supply_pin_max_a)))
+        out += _pin_excesses(design, gr, led_peak_a, fix_text)
+    return out
+
+
+def _pin_excesses(design, gr: GateRatings, led_peak_a: float, led_fix) -> list[RatingExcess]:
+    """The gate's pins over their ratings: the current the stage draws from its driver
+    (the LED's peak, or a switch's base drive) through the output pin and the package's
+    VCC or GND pin."""
+    from pulsepick.circuits.base import get_stage
+
+    stage = get_stage(design.topo.stage)
+    if stage.gate_carries_led:
+        pin_a, what, fix_text = led_peak_a, "the LED's peak", led_fix
+    else:
+        env, _ = design.env()
+        pin_a = stage.driver_peak_a(design.values, env, design.topo, led_peak_a)
+        what = "the drive of the LED's switch"
+        r_out = float(np.ravel(env.rout_high)[0])
+
+        def fix_text(limit: float) -> str:
+            name = stage.drive_param
+            r_now = float(design.values[name])
+            # the drive is nearly a fixed voltage across the resistor and the output's
+            r_new = (r_now + r_out) * pin_a / limit - r_out
+            return (f"fix: a larger {name.upper()} (about {format_eng(r_new, 'Ω')} or more "
+                    f"for {format_eng(limit, 'A')})")
+
+    if not (math.isfinite(pin_a) and pin_a > 0):
+        return []
+    out = []
+    pin = "spare gate's output pin" if design.topo.buffered else "timing gate's output pin"
+    if gr.out_pin_max_a is not None and pin_a > gr.out_pin_max_a:
+        fix = fix_text(gr.out_pin_max_a)
+        if not design.topo.buffered and stage.gate_carries_led:
+            fix += "; a buffer gate (--buffered) moves the load off the timing gate"
+        out.append(RatingExcess(f"U1 {pin}", f"output current ({what})", pin_a,
+                                gr.out_pin_max_a,
+                                f"{gr.family.upper()} absolute maximum per pin, "
+                                f"{_cite(gr.source)}",
+                                fix))
+    if gr.supply_pin_max_a is not None and pin_a > gr.supply_pin_max_a:
+        out.append(RatingExcess("U1 VCC/GND pin", f"package supply current ({what})",
+                                pin_a, gr.supply_pin_max_a,
+                                f"{gr.family.upper()} absolute maximum for the VCC or "
+                                f"GND pin, {_cite(gr.source)}",
+                                fix_text(gr.supply_pin_max_a)))
     return out
 
 

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass, field
-from typing import Any, Literal, Protocol
+from typing import Any, ClassVar, Literal, Protocol
 
 import numpy as np
 
@@ -172,10 +172,13 @@ class Core(Protocol):
     default_family: str  # chip family when none is named
     bufferable: bool  # may drive its stage through a spare gate
     steers: tuple[Level, ...]  # Topology.steer values worth searching
+    search: Any  # CoreSearch: rank, timing search and slow-phase core, read through:
     search_rank: int  # solver order: costliest first (lower first)
     ldr_param: str  # the timing resistor a light-dependent resistor can replace
     timing_search: Literal["one-resistor", "steered", "two-resistor"]  # solver's timing search
     slow_phase_core: str  # the core that times the slow phase alone (itself, or a plainer one)
+    dusk_hold: Literal["diode", "reset"]  # held by day through a diode or its RESET pin
+    hold_off_steer: bool  # held at the level where its steering diode is off
 
     def label(self, topo: Topology) -> str: ...
 
@@ -219,6 +222,8 @@ class Stage(Protocol):
     search: Any  # searchgrid.StageSearch: the solver's search sizes
     search_rank: int  # solver and reference-run order: costliest first (lower first)
     search_from_peak_a: float  # A: searched by default only from this aimed peak up (0: always)
+    drive_param: str  # the resistor that sets the current drawn from the driver
+    dark_driver: dict[Level, Literal["high", "low", "either"]]  # by lit: driver level, LED dark
 
     def label(self, topo: Topology) -> str: ...
 
@@ -234,6 +239,12 @@ class Stage(Protocol):
         """The point and its series neighbours."""
         ...
 
+    def driver_peak_a(self, v: dict[str, float], env: Env, topo: Topology,
+                      led_peak_a: float) -> float:
+        """Peak current (A) drawn from the gate output that drives the stage, at an LED
+        peak of ``led_peak_a``."""
+        ...
+
     def spice(self, v: dict[str, float], env: Env, topo: Topology) -> tuple[str, ...]:
         """Its lines in the circuit-simulator netlists (node names: ``SPICE_NODES``)."""
         ...
@@ -245,6 +256,78 @@ class Stage(Protocol):
 
     def ref_currents(self, v: dict[str, float], env: Env, topo: Topology, vo: float,
                      xs: Any, driver_high: bool) -> tuple[float, list[float], float, float]: ...
+
+
+#: The timing capacitor of every core.
+TIMING_CAP = Param("c1", "C", "timing capacitor", option="--c",
+                   help="timing capacitor C1, e.g. 1u", example="1u")
+
+
+class _Plain:
+    """A circuit labelled by its name alone, whose parts beyond its values are the same
+    in every topology (``extras``)."""
+
+    extras: ClassVar[tuple[ExtraPart, ...]] = ()
+
+    def label(self, topo: Topology) -> str:
+        return self.name  # type: ignore[attr-defined]
+
+    def extra_parts(self, topo: Topology) -> tuple[ExtraPart, ...]:
+        return self.extras
+
+
+@dataclass(frozen=True)
+class CoreSearch:
+    """How the solver searches a core's timing network."""
+
+    rank: int  # solver order: costliest first (lower first)
+    timing: Literal["one-resistor", "steered", "two-resistor"]
+    slow_phase_core: str  # the core that times the slow phase alone (itself, or a plainer one)
+
+
+@dataclass(frozen=True)
+class CoreDefaults(_Plain):
+    """What most cores declare alike; a core module's dataclass derives from it and
+    declares the rest (see :class:`Core`), its search in one ``search`` (CoreSearch)."""
+
+    drives_stage_from_timing_output: bool = True
+    bufferable: bool = True
+    steers: tuple[Level, ...] = ("high",)
+    #: how the dusk detector holds it still by day: a diode into the timing node, or the
+    #: RESET pin (pulsepick.circuits.dusk_hold)
+    dusk_hold: str = "diode"
+    hold_off_steer: bool = False  # held at the level where a steering diode is off
+
+    @property
+    def search_rank(self) -> int:
+        return self.search.rank  # type: ignore[attr-defined]
+
+    @property
+    def timing_search(self) -> str:
+        return self.search.timing  # type: ignore[attr-defined]
+
+    @property
+    def slow_phase_core(self) -> str:
+        return self.search.slow_phase_core  # type: ignore[attr-defined]
+
+
+@dataclass(frozen=True)
+class StageDefaults(_Plain):
+    """What most stages declare alike; a stage module's dataclass derives from it and
+    declares the rest (see :class:`Stage`)."""
+
+    n_states: int = 0
+    lits: tuple[Level, ...] = ("high",)
+    gate_carries_led: bool = True
+    search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
+    drive_param: str = "rs"  # the resistor that sets the current drawn from the driver
+
+    def driver_peak_a(self, v: dict[str, float], env: Env, topo: Topology,
+                      led_peak_a: float) -> float:
+        """Peak current (A) drawn from the gate output that drives the stage: the LED's
+        peak, which flows through it (a fade stage's hold capacitor charges through it
+        too, so this is a lower bound there: estimate)."""
+        return led_peak_a
 
 
 @dataclass(frozen=True)

@@ -18,12 +18,14 @@ from pulsepick.circuits.base import (
     Env,
     Load,
     Param,
+    StageDefaults,
     StageFigures,
     Topology,
     register_stage,
 )
 from pulsepick.circuits.decay import n_vt
 from pulsepick.circuits.searchgrid import (
+    STAGE_R_SPAN,
     STAGE_R_SPAN_MIN_OHM,
     SearchContext,
     StageSearch,
@@ -42,23 +44,19 @@ def led_dynamic_resistance(led, i):
 
 
 @dataclass(frozen=True)
-class DirectStage:
+class DirectStage(StageDefaults):
     name: str = "direct"
     params: tuple[Param, ...] = (Param("rs", "R", "LED series resistor", **RS_PARAM),)
-    n_states: int = 0
     lits: tuple[str, ...] = ("high", "low")
     pulsed: bool = False
-    gate_carries_led: bool = True
     steady_load: bool = True
     search: ClassVar[StageSearch] = StageSearch(coarse_keep=2, timing_keep=32, per_decade=3)
     search_rank: int = 2
-    search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
+    #: the driver level that keeps the LED dark, by ``Topology.lit`` (the dusk hold)
+    dark_driver: ClassVar[dict[str, str]] = {"high": "low", "low": "high"}
 
     def label(self, topo):
         return f"{self.name} ({'to ground' if topo.lit == 'high' else 'from supply'})"
-
-    def extra_parts(self, topo):
-        return ()
 
     def led_note(self, topo):
         if topo.lit == "low":
@@ -68,7 +66,7 @@ class DirectStage:
     def search_grid(self, ctx: SearchContext, topo):
         rout = ctx.rout_low_ohm if topo.lit == "low" else ctx.rout_high_ohm
         rs_est = ctx.series_resistor(0.0, rout)
-        return {"rs": around(ctx.r_values, rs_est, 10.0, floor_hi=STAGE_R_SPAN_MIN_OHM)}
+        return {"rs": around(ctx.r_values, rs_est, STAGE_R_SPAN, floor_hi=STAGE_R_SPAN_MIN_OHM)}
 
     def refine(self, ctx: SearchContext, point):
         return [{"rs": r} for r in neighbours(ctx.r_values, point["rs"]).tolist()]

@@ -15,14 +15,15 @@ timing node (common practice):
     to the timing capacitor (cathode) holds the capacitor a diode drop below the supply,
     above VT+, and the oscillator's output sits low. One gate more for the whole build.
 
-Which one a light takes follows from the level that keeps its LED dark: a direct stage lit
-while its driver is high (or a fade stage) needs the driver low, one lit while the driver
-is low needs it high, and a capacitor-coupled flash (``pulse``) is dark at either level; a
-buffer inverts once more. ``hold-low`` is taken wherever it keeps the LED dark (it needs no
-extra gate), except for a steered core, which is held at the level where its steering
-diode is off (held at the other, its fast-phase resistor would carry current all day). A
-CMOS 555 takes the detector's output on its RESET pin instead (held low by day, the timer
-cannot run; no diode).
+Which one a light takes follows from the level that keeps its LED dark, which each stage
+declares (its ``dark_driver``): a stage lit while its driver is high needs the driver low,
+one lit while the driver is low needs it high, and a capacitor-coupled flash is dark at
+either level; a buffer inverts once more. ``hold-low`` is taken wherever it keeps the LED
+dark (it needs no extra gate), except for a steered core (its ``hold_off_steer``), which is
+held at the level where its steering diode is off (held at the other, its fast-phase
+resistor would carry current all day). A timer core (its ``dusk_hold`` is ``"reset"``)
+takes the detector's output on its RESET pin instead (held low by day, the timer cannot
+run; no diode).
 
 By day the held oscillator still draws a steady current: the capacitor sits at one end
 and the output at the other rail, so the timing resistor carries (supply - diode drop)/R.
@@ -37,6 +38,8 @@ from __future__ import annotations
 
 from typing import Literal
 
+from pulsepick.circuits.base import get_core, get_stage
+
 HoldKind = Literal["hold-low", "hold-high", "reset"]
 HOLD_KINDS = ("hold-low", "hold-high", "reset")
 #: Diode used for the holds: a small Schottky, whose low drop holds the node well clear of
@@ -45,23 +48,23 @@ HOLD_DIODE = "schottky"
 
 
 def dark_driver_level(topo) -> Literal["high", "low", "either"]:
-    """The level of the LED stage's driver that keeps the LED dark."""
-    if topo.stage == "pulse":
-        return "either"  # the coupling capacitor passes no steady current
-    if topo.stage == "direct":
-        return "low" if topo.lit == "high" else "high"
-    return "low"  # fade: its hold capacitor charges while the driver is high
+    """The level of the LED stage's driver that keeps the LED dark (the stage's
+    ``dark_driver``)."""
+    levels = get_stage(topo.stage).dark_driver
+    # a stage wired one way only (a single entry) ignores ``lit``
+    return levels.get(topo.lit, next(iter(levels.values())))
 
 
 def hold_kind(topo) -> HoldKind:
     """The hold a light takes (see the module doc)."""
-    if topo.core == "timer555":
+    core = get_core(topo.core)
+    if core.dusk_hold == "reset":
         return "reset"
     level = dark_driver_level(topo)
     if level == "either":
         # a steered core held at its steered level would pass its fast-phase resistor's
         # current all day: hold it at the other level
-        if topo.core == "schmitt-steered":
+        if core.hold_off_steer:
             return "hold-high" if topo.steer == "high" else "hold-low"
         return "hold-low"
     osc_dark = level if not topo.buffered else ("low" if level == "high" else "high")

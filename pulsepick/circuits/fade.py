@@ -23,6 +23,7 @@ from pulsepick.circuits.base import (
     ExtraPart,
     Load,
     Param,
+    StageDefaults,
     StageFigures,
     Topology,
     register_stage,
@@ -31,12 +32,10 @@ from pulsepick.circuits.decay import decay_end_current, decay_time, n_vt
 from pulsepick.circuits.direct import RS_PARAM, led_dynamic_resistance
 from pulsepick.circuits.searchgrid import (
     STAGE_DROP_V,
-    STAGE_R_SPAN_MIN_OHM,
     SearchContext,
     StageSearch,
-    around,
-    neighbours,
-    thin,
+    crossed,
+    crossed_neighbours,
 )
 
 #: Node set in y for the rise: dense where the LED is coming on, sparse on the tail.
@@ -100,7 +99,7 @@ def _rise_grid(env: Env, v_src, r_in, rs, ch):
 
 
 @dataclass(frozen=True)
-class FadeStage:
+class FadeStage(StageDefaults):
     name: str = "fade"
     params: tuple[Param, ...] = (
         Param("rs", "R", "charge resistor", **RS_PARAM),
@@ -108,37 +107,27 @@ class FadeStage:
               help="fade stage hold capacitor CH, e.g. 100u", example="100u"),
     )
     n_states: int = 1
-    lits: tuple[str, ...] = ("high",)
     pulsed: bool = True
-    gate_carries_led: bool = True
     steady_load: bool = False
     search: ClassVar[StageSearch] = StageSearch(coarse_keep=1, timing_keep=6, per_decade=2)
     search_rank: int = 0
-    search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
+    #: dark with its driver low (the hold capacitor charges while the driver is high)
+    dark_driver: ClassVar[dict[str, str]] = {"high": "low"}
 
-    def label(self, topo):
-        return self.name
-
-    def extra_parts(self, topo):
-        return (ExtraPart("diode", "charge diode into the hold capacitor",
-                          "anode to the series resistor, cathode to the hold capacitor",
-                          choice="fade_diode"),)
+    extras: ClassVar[tuple[ExtraPart, ...]] = (ExtraPart(
+        "diode", "charge diode into the hold capacitor",
+        "anode to the series resistor, cathode to the hold capacitor", choice="fade_diode"),)
 
     def led_note(self, topo):
         return "across the hold capacitor, cathode to ground"
 
     def search_grid(self, ctx: SearchContext, topo):
-        rs_est = ctx.series_resistor(STAGE_DROP_V)
-        rs = thin(around(ctx.r_values, rs_est, 10.0, floor_hi=STAGE_R_SPAN_MIN_OHM),
-                  self.search.per_decade)
+        _, rs = ctx.series_grid(self.search.per_decade, STAGE_DROP_V)
         c_est = 0.5 * ctx.flash_s * ctx.peak_a / n_vt(ctx.led.junction)
-        cs = thin(around(ctx.c_values, c_est, 30.0), self.search.per_decade)
-        return {"ch": np.repeat(cs, rs.size), "rs": np.tile(rs, cs.size)}
+        return crossed("ch", ctx.capacitor_grid(c_est, self.search.per_decade), "rs", rs)
 
     def refine(self, ctx: SearchContext, point):
-        rs = neighbours(ctx.r_values, point["rs"]).tolist()
-        return [{"ch": c, "rs": r} for c in neighbours(ctx.c_values, point["ch"]).tolist()
-                for r in rs]
+        return crossed_neighbours(point, "ch", ctx.c_values, "rs", ctx.r_values)
 
     def fast(self, v, env: Env, topo: Topology, drv: DriverView, t_on, t_off, state):
         rs, ch = v["rs"], v["ch"]

@@ -24,6 +24,7 @@ from pulsepick.circuits.base import (
     ExtraPart,
     Load,
     Param,
+    StageDefaults,
     StageFigures,
     Topology,
     register_stage,
@@ -32,12 +33,10 @@ from pulsepick.circuits.decay import decay_end_current, decay_time, n_vt
 from pulsepick.circuits.direct import RS_PARAM
 from pulsepick.circuits.searchgrid import (
     STAGE_DROP_V,
-    STAGE_R_SPAN_MIN_OHM,
     SearchContext,
     StageSearch,
-    around,
+    crossed,
     neighbours,
-    thin,
 )
 
 LN2 = np.log(2.0)
@@ -48,7 +47,7 @@ _INNER_PASSES = 3
 
 
 @dataclass(frozen=True)
-class PulseStage:
+class PulseStage(StageDefaults):
     name: str = "pulse"
     params: tuple[Param, ...] = (
         Param("cp", "C", "flash coupling capacitor", option="--cp",
@@ -57,36 +56,29 @@ class PulseStage:
         Param("rs", "R", "LED series resistor", optional=True, default=0.0, **RS_PARAM),
     )
     n_states: int = 1
-    lits: tuple[str, ...] = ("high",)
     pulsed: bool = True
-    gate_carries_led: bool = True
     steady_load: bool = False
     search: ClassVar[StageSearch] = StageSearch(coarse_keep=2, timing_keep=16, per_decade=3)
     search_rank: int = 1
-    search_from_peak_a: float = 0.0  # A: searched by default from this aimed peak up
+    #: dark with its driver at either level (the coupling capacitor passes no steady current)
+    dark_driver: ClassVar[dict[str, str]] = {"high": "either"}
 
-    def label(self, topo):
-        return self.name
-
-    def extra_parts(self, topo):
-        return (ExtraPart("diode", "reset diode for the flash capacitor",
-                          "anode to ground, cathode to the LED side of the flash capacitor",
-                          choice="reset_diode"),)
+    extras: ClassVar[tuple[ExtraPart, ...]] = (ExtraPart(
+        "diode", "reset diode for the flash capacitor",
+        "anode to ground, cathode to the LED side of the flash capacitor",
+        choice="reset_diode"),)
 
     def led_note(self, topo):
         return "cathode to ground, anode to the flash capacitor"
 
     def search_grid(self, ctx: SearchContext, topo):
-        rs_est = ctx.series_resistor(STAGE_DROP_V)
-        rs = thin(around(ctx.r_values, rs_est, 10.0, floor_hi=STAGE_R_SPAN_MIN_OHM),
-                  self.search.per_decade)
+        rs_est, rs = ctx.series_grid(self.search.per_decade, STAGE_DROP_V)
         led, peak = ctx.led, ctx.peak_a
         r_total = rs_est + ctx.rout_high_ohm + n_vt(led.junction) / peak + \
             float(led.junction.r_s)
         c_est = ctx.flash_s / (LN2 * r_total)
-        rs = np.concatenate([[0.0], rs])
-        cs = thin(around(ctx.c_values, c_est, 30.0), self.search.per_decade)
-        return {"cp": np.repeat(cs, rs.size), "rs": np.tile(rs, cs.size)}
+        return crossed("cp", ctx.capacitor_grid(c_est, self.search.per_decade), "rs",
+                       np.concatenate([[0.0], rs]))
 
     def refine(self, ctx: SearchContext, point):
         r0 = point["rs"]

@@ -14,12 +14,16 @@ input pin's leakage are included exactly in the first-order solution.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
 from pulsepick.circuits.base import (
     RUNS,
     STALLS,
+    TIMING_CAP,
+    CoreDefaults,
+    CoreSearch,
     Drive,
     Env,
     Param,
@@ -60,30 +64,18 @@ def timing_supply_charge(c, env: Env, t_high):
 
 
 @dataclass(frozen=True)
-class SchmittCore:
+class SchmittCore(CoreDefaults):
     name: str = "schmitt"
     chip_kind: str = "schmitt"
     params: tuple[Param, ...] = (
         Param("r1", "R", "timing resistor", option="--r",
               help="timing resistor R1 (schmitt cores), e.g. 2M2",
               example="2M2"),
-        Param("c1", "C", "timing capacitor", option="--c", help="timing capacitor C1, e.g. 1u",
-              example="1u"),
+        TIMING_CAP,
     )
-    drives_stage_from_timing_output: bool = True
     default_family: str = "hc"
-    bufferable: bool = True
-    steers: tuple[str, ...] = ("high",)
-    search_rank: int = 1
     ldr_param: str = "r1"
-    timing_search: str = "one-resistor"  # how the solver searches the timing network
-    slow_phase_core: str = "schmitt"  # the core that times the slow phase alone
-
-    def label(self, topo):
-        return self.name
-
-    def extra_parts(self, topo):
-        return ()
+    search: ClassVar[CoreSearch] = CoreSearch(1, "one-resistor", slow_phase_core="schmitt")
 
     def end_currents(self, v, env, topo):
         """(charging at VT+, discharging at VT-), A: R1 from the unloaded output."""

@@ -15,12 +15,16 @@ closed form of the plain core.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
 from pulsepick.circuits.base import (
     RUNS,
     STALLS,
+    TIMING_CAP,
+    CoreDefaults,
+    CoreSearch,
     Drive,
     Env,
     ExtraPart,
@@ -124,7 +128,7 @@ def steered_phase(c, r1, r2, drive: Drive, env: Env, v_from, v_to, rising: bool,
 
 
 @dataclass(frozen=True)
-class SteeredSchmittCore:
+class SteeredSchmittCore(CoreDefaults):
     name: str = "schmitt-steered"
     chip_kind: str = "schmitt"
     params: tuple[Param, ...] = (
@@ -134,17 +138,16 @@ class SteeredSchmittCore:
         Param("r2", "R", "steering resistor (fast phase)", option="--r2",
               help="steering resistor R2 (schmitt-steered), e.g. 47k",
               example="47k"),
-        Param("c1", "C", "timing capacitor", option="--c", help="timing capacitor C1, e.g. 1u",
-              example="1u"),
+        TIMING_CAP,
     )
-    drives_stage_from_timing_output: bool = True
     default_family: str = "hc"
-    bufferable: bool = True
     steers: tuple[str, ...] = ("high", "low")
-    search_rank: int = 0
     ldr_param: str = "r1"
-    timing_search: str = "steered"  # how the solver searches the timing network
-    slow_phase_core: str = "schmitt"  # the core that times the slow phase alone (R1·C1)
+    #: its slow phase is R1·C1 alone, as a plain Schmitt core's
+    search: ClassVar[CoreSearch] = CoreSearch(0, "steered", slow_phase_core="schmitt")
+    #: held, where the stage is dark at either level, at the level where its steering
+    #: diode is off (at the other, the fast-phase resistor would carry current all day)
+    hold_off_steer: bool = True
 
     def label(self, topo):
         return f"{self.name} (fast {topo.steer})"

@@ -22,6 +22,12 @@ STAGE_R_MIN_OHM = 1.0
 #: The stage resistor search reaches at least up to this value, ohm (design choice:
 #: the first estimate can come out near zero when the driver's resistance is guessed high).
 STAGE_R_SPAN_MIN_OHM = 100.0
+#: A stage resistor's coarse grid spans this factor either side of its first estimate
+#: (design choice: the estimates assume a drop and a driver resistance).
+STAGE_R_SPAN = 10.0
+#: A stage capacitor's coarse grid spans this factor either side of its first estimate
+#: (design choice: its estimate rests on a cruder model of the flash).
+STAGE_C_SPAN = 30.0
 
 
 @dataclass(frozen=True)
@@ -56,6 +62,41 @@ class SearchContext:
         est = (self.supply_v - float(self.led.voltage(self.peak_a)) - drop_v) / self.peak_a \
             - rout
         return min(max(est, STAGE_R_MIN_OHM), self.r_max_ohm)
+
+    def series_grid(self, per_decade: int, drop_v: float = 0.0,
+                    rout_ohm: float | None = None) -> tuple[float, np.ndarray]:
+        """The first estimate of the series resistor (:meth:`series_resistor`, ohm) and
+        the coarse grid around it: about ``per_decade`` allowed values per decade within
+        ``STAGE_R_SPAN`` of it (up to ``STAGE_R_SPAN_MIN_OHM`` at least)."""
+        est = self.series_resistor(drop_v, rout_ohm)
+        return est, thin(around(self.r_values, est, STAGE_R_SPAN,
+                                floor_hi=STAGE_R_SPAN_MIN_OHM), per_decade)
+
+    def resistor_grid(self, estimate: float, per_decade: int) -> np.ndarray:
+        """About ``per_decade`` allowed resistors per decade within ``STAGE_R_SPAN`` of
+        ``estimate`` (ohm)."""
+        return thin(around(self.r_values, estimate, STAGE_R_SPAN), per_decade)
+
+    def capacitor_grid(self, estimate: float, per_decade: int) -> np.ndarray:
+        """About ``per_decade`` allowed capacitors per decade within ``STAGE_C_SPAN`` of
+        ``estimate`` (F)."""
+        return thin(around(self.c_values, estimate, STAGE_C_SPAN), per_decade)
+
+
+def crossed(first: str, firsts: np.ndarray, second: str,
+            seconds: np.ndarray) -> dict[str, np.ndarray]:
+    """A grid of every pair of values: ``first`` from ``firsts``, ``second`` from
+    ``seconds`` (the second varying fastest)."""
+    return {first: np.repeat(firsts, seconds.size), second: np.tile(seconds, firsts.size)}
+
+
+def crossed_neighbours(point: dict[str, float], first: str, firsts: np.ndarray,
+                       second: str, seconds: np.ndarray) -> list[dict[str, float]]:
+    """``point`` and its neighbours: every pair of the series neighbours of its value
+    ``first`` (in ``firsts``) and of its value ``second`` (in ``seconds``)."""
+    near = neighbours(seconds, point[second]).tolist()
+    return [{first: a, second: b} for a in neighbours(firsts, point[first]).tolist()
+            for b in near]
 
 
 def around(values: np.ndarray, centre: float, factor: float,

@@ -16,12 +16,16 @@ network, so the LED stage does not shift the timing.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import ClassVar
 
 import numpy as np
 
 from pulsepick.circuits.base import (
     RUNS,
     STALLS,
+    TIMING_CAP,
+    CoreDefaults,
+    CoreSearch,
     Drive,
     Env,
     Param,
@@ -33,7 +37,7 @@ from pulsepick.circuits.rc import phase_time, relax
 
 
 @dataclass(frozen=True)
-class Timer555Core:
+class Timer555Core(CoreDefaults):
     name: str = "timer555"
     chip_kind: str = "timer"
     params: tuple[Param, ...] = (
@@ -43,23 +47,14 @@ class Timer555Core:
         Param("rb", "R", "timing resistor to the capacitor", option="--rb",
               help="555 timing resistor RB, e.g. 22k",
               example="22k"),
-        Param("c1", "C", "timing capacitor", option="--c", help="timing capacitor C1, e.g. 1u",
-              example="1u"),
+        TIMING_CAP,
     )
     drives_stage_from_timing_output: bool = False
     default_family: str = "timer555"
     bufferable: bool = False
-    steers: tuple[str, ...] = ("high",)
-    search_rank: int = 2
     ldr_param: str = "rb"
-    timing_search: str = "two-resistor"  # how the solver searches the timing network
-    slow_phase_core: str = "timer555"  # the core that times the slow phase alone
-
-    def label(self, topo):
-        return self.name
-
-    def extra_parts(self, topo):
-        return ()
+    search: ClassVar[CoreSearch] = CoreSearch(2, "two-resistor", slow_phase_core="timer555")
+    dusk_hold: str = "reset"  # held still by day through its RESET pin
 
     def end_currents(self, v, env, topo):
         """(charging at VT+, discharging at VT-), A.

@@ -30,6 +30,7 @@ from pulsepick.circuits.base import (
     ExtraPart,
     Load,
     Param,
+    StageDefaults,
     StageFigures,
     Topology,
     register_stage,
@@ -37,12 +38,10 @@ from pulsepick.circuits.base import (
 from pulsepick.circuits.direct import RS_PARAM
 from pulsepick.circuits.searchgrid import (
     STAGE_R_MIN_OHM,
-    STAGE_R_SPAN_MIN_OHM,
     SearchContext,
     StageSearch,
-    around,
-    neighbours,
-    thin,
+    crossed,
+    crossed_neighbours,
 )
 from pulsepick.parts.transistor import get_transistor
 from pulsepick.physconst import K_OVER_Q_V_PER_K
@@ -131,15 +130,13 @@ def _on_current_scalar(tr, junction, vdd: float, v_src: float, r_base: float, rs
 
 
 @dataclass(frozen=True)
-class TransistorStage:
+class TransistorStage(StageDefaults):
     name: str = "transistor"
     params: tuple[Param, ...] = (
         Param("rs", "R", "LED series resistor", **RS_PARAM),
         Param("rbase", "R", "base resistor of the LED switch", option="--rbase",
               help="transistor stage base resistor RBASE, e.g. 2k2", example="2k2"),
     )
-    n_states: int = 0
-    lits: tuple[str, ...] = ("high",)
     pulsed: bool = False
     gate_carries_led: bool = False  # the LED current comes from the supply, not the gate
     steady_load: bool = True
@@ -148,14 +145,14 @@ class TransistorStage:
     #: A gate drives an LED of up to about 20 mA itself; the switch earns its two parts
     #: above that (design choice; the stage takes 20-100 mA LEDs).
     search_from_peak_a: float = 20e-3
+    drive_param: str = "rbase"  # the base resistor sets the current the gate sources
+    #: dark with its driver low (no base current: the transistor is off)
+    dark_driver: ClassVar[dict[str, str]] = {"high": "low"}
 
-    def label(self, topo):
-        return self.name
-
-    def extra_parts(self, topo):
-        return (ExtraPart("transistor", "low-side switch for the LED",
-                          "emitter to ground, collector to the LED's cathode, base to the "
-                          "base resistor", key=PART),)
+    extras: ClassVar[tuple[ExtraPart, ...]] = (ExtraPart(
+        "transistor", "low-side switch for the LED",
+        "emitter to ground, collector to the LED's cathode, base to the base resistor",
+        key=PART),)
 
     def led_note(self, topo):
         return "anode through the series resistor to the supply, cathode to the collector"
@@ -169,6 +166,14 @@ class TransistorStage:
         load = Load(i_ss=ib, r_dyn=v["rbase"] + tr.n_vt / np.maximum(ib, 1e-30))
         return StageFigures(i, t_on_f, t_on_f, q, q + ib * t_on_f, load, Load())
 
+    def driver_peak_a(self, v, env, topo, led_peak_a):
+        """The base current (A) the driving gate sources while high: the LED's current
+        flows through the transistor, not the gate. With a small base resistor it can
+        exceed the gate's pin rating on its own."""
+        _, ib = on_current(get_transistor(PART), env.led, env.vdd, env.vdd,
+                           env.rout_high + v["rbase"], v["rs"])
+        return float(np.ravel(ib)[0])
+
     def ref_init(self, v, env, topo):
         return []
 
@@ -179,19 +184,14 @@ class TransistorStage:
         return ib, [], i, i
 
     def search_grid(self, ctx: SearchContext, topo):
-        rs_est = ctx.series_resistor(VCE_GUESS_V, rout_ohm=0.0)
-        rs = thin(around(ctx.r_values, rs_est, 10.0, floor_hi=STAGE_R_SPAN_MIN_OHM),
-                  self.search.per_decade)
+        _, rs = ctx.series_grid(self.search.per_decade, VCE_GUESS_V, rout_ohm=0.0)
         i_base = ctx.peak_a / FORCED_GAIN
         rb_est = max((ctx.supply_v - VBE_GUESS_V) / i_base - ctx.rout_high_ohm,
                      STAGE_R_MIN_OHM)
-        rb = thin(around(ctx.r_values, rb_est, 10.0), self.search.per_decade)
-        return {"rbase": np.repeat(rb, rs.size), "rs": np.tile(rs, rb.size)}
+        return crossed("rbase", ctx.resistor_grid(rb_est, self.search.per_decade), "rs", rs)
 
     def refine(self, ctx: SearchContext, point):
-        return [{"rbase": b, "rs": r}
-                for b in neighbours(ctx.r_values, point["rbase"]).tolist()
-                for r in neighbours(ctx.r_values, point["rs"]).tolist()]
+        return crossed_neighbours(point, "rbase", ctx.r_values, "rs", ctx.r_values)
 
     def spice(self, v, env, topo):
         """Circuit-simulator lines of the stage (nodes: see ``base.SPICE_NODES``): the

@@ -90,9 +90,10 @@ def design_loads(args: argparse.Namespace, design, storage, v_top_v: float):
     from pulsepick.design import load_curve
     from pulsepick.designfile import build_request
     from pulsepick.engine.environment import chip_model
-    from pulsepick.solve import default_jobs, solve_build
+    from pulsepick.solve import solve_build
+    from pulsepick.workers import on_workers
 
-    result = solve_build(build_request(design), jobs=default_jobs(), assess_picks=False)
+    result = on_workers(solve_build, build_request(design), assess_picks=False)
     missing = [li.name for li in result.lights if li.pick is None]
     if missing:
         raise RequestError(f"{args.design}: the solver offers nothing for "

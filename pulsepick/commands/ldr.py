@@ -149,7 +149,8 @@ def _design_light(args):
     """The solver's circuit for one light of the design file (``--light``, or the first)."""
     from pulsepick.designfile import build_request, is_design_file, read_design
     from pulsepick.errors import RequestError
-    from pulsepick.solve import default_jobs, solve_build
+    from pulsepick.solve import solve_build
+    from pulsepick.workers import on_workers
 
     if not is_design_file(args.design):
         raise RequestError(f"{args.design!r} is not a design file; give a .toml design such "
@@ -164,7 +165,7 @@ def _design_light(args):
     if name not in names:
         raise RequestError(f"--light {args.light!r} is not in {args.design}; accepted: "
                            f"{', '.join(names)}")
-    result = solve_build(build_request(design), jobs=default_jobs(), assess_picks=False)
+    result = on_workers(solve_build, build_request(design), assess_picks=False)
     light = result.lights[names.index(name)]
     if light.pick is None:
         raise RequestError(f"{args.design}: the solver offers nothing for {name}; run "

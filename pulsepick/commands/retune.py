@@ -79,7 +79,7 @@ def _circuit(args):
                            "with --light NAME")
     if given:
         return design_from_args(args), None
-    from pulsepick.solve import default_jobs
+    from pulsepick.workers import on_workers
 
     if args.pick < 1:
         raise RequestError(f"--pick {args.pick}: give a circuit number of at least 1")
@@ -90,7 +90,7 @@ def _circuit(args):
         family, measured = solver_chip(args)
         req = make_request(args.from_solve, supply=args.supply, family=family,
                            led=args.led, chip_overrides=measured)
-        result = solve(req, jobs=default_jobs())
+        result = on_workers(solve, req)
         if args.pick > len(result.candidates):
             raise RequestError(f"--pick {args.pick}: the solver offers "
                                f"{len(result.candidates)} circuits for {args.from_solve!r}")
@@ -103,7 +103,7 @@ def _circuit(args):
     if args.light not in names:
         raise RequestError(f"--light {args.light!r}: the design file's lights are "
                            f"{', '.join(repr(n) for n in names)}")
-    built = solve_build(build_request(design), jobs=default_jobs(), assess_picks=False)
+    built = on_workers(solve_build, build_request(design), assess_picks=False)
     light = next(li for li in built.lights if li.name == args.light)
     if light.pick is None:
         raise RequestError(f"{args.design}: the solver offers nothing for {args.light!r}")

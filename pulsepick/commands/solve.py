@@ -71,7 +71,8 @@ def compute(args) -> SolveRun:
     """Check the options, solve and assess one light (several lights: :func:`compute_build`)."""
     from pulsepick.commands.pictures import check_picture_targets
     from pulsepick.errors import RequestError
-    from pulsepick.solve import assess, default_jobs, solve
+    from pulsepick.solve import assess, solve
+    from pulsepick.workers import pool_runner
 
     for flag in ("max_packages", "period_tolerance", "lock_margin", "max_lock_share"):
         if getattr(args, flag) is not None:
@@ -85,9 +86,8 @@ def compute(args) -> SolveRun:
     picked = args.pick is not None
     args.pick = 1 if args.pick is None else args.pick
     night = night_plan(args, req)
-    jobs = default_jobs() if args.jobs is None else args.jobs
-    result = solve(req, jobs=jobs)
-    result = assess(result, jobs=jobs)
+    with pool_runner(args.jobs) as runner:  # one set of workers for the search and checks
+        result = assess(solve(req, runner=runner), runner=runner)
     if night is not None:
         from pulsepick.solve.nightcheck import night_check
 

@@ -104,7 +104,8 @@ def compute_build(args) -> BuildRun:
     from pulsepick.commands.pictures import check_picture_targets
     from pulsepick.designfile import is_design_file
     from pulsepick.errors import RequestError
-    from pulsepick.solve import default_jobs, solve_build
+    from pulsepick.solve import solve_build
+    from pulsepick.workers import on_workers
 
     design_path = args.phrase if is_design_file(args.phrase) else None
     for flag in ("storage", "night"):
@@ -115,7 +116,6 @@ def compute_build(args) -> BuildRun:
     breq, design = build_request_from_args(args)
     if design is not None and design.stock_path:
         check_picture_targets(args, [design.stock_path], with_buylist=True)
-    jobs = default_jobs() if args.jobs is None else args.jobs
     extras = _build_extras(design)
     from pulsepick.commands.design_night import design_clamp, design_night
 
@@ -128,7 +128,7 @@ def compute_build(args) -> BuildRun:
         # the file's own clamp is a part of the build: it goes in the buy list too
         extras["clamp_v"] = advice.clamp_v
         extras["clamp_w"] = advice.clamp_v * advice.isc_a
-    result = solve_build(breq, jobs=jobs)
+    result = on_workers(solve_build, breq, jobs=args.jobs)
     offered = all(li.pick is not None for li in result.lights) and result.plan is not None
     return BuildRun(result, breq, design, extras, night, advice, offered)
 

@@ -24,17 +24,18 @@ def solved_load(args, design, storage, v_start: float, stop_at: float | None):
     """The load curve of the solver's pick, or of every light of a build, added."""
     from pulsepick.analysis.multi import combined_load_curve
     from pulsepick.design import load_curve
-    from pulsepick.solve import default_jobs, solve, solve_build
+    from pulsepick.solve import solve, solve_build
+    from pulsepick.workers import on_workers
 
     grid = supply_grid(max(v_start, storage.v_rated_v))
-    jobs = default_jobs()
     if design is not None:
         from pulsepick.designfile import build_request
 
         overrides = {"supply": args.supply, "family": args.family}
         if getattr(args, "chip", None):
             overrides["chip"] = os.path.abspath(args.chip)
-        result = solve_build(build_request(design, **overrides), jobs=jobs, assess_picks=False)
+        result = on_workers(solve_build, build_request(design, **overrides),
+                            assess_picks=False)
         missing = [li.name for li in result.lights if li.pick is None]
         if missing:
             raise RequestError(f"{args.design}: the solver offers nothing for "
@@ -63,7 +64,7 @@ def solved_load(args, design, storage, v_start: float, stop_at: float | None):
         breq = make_build_request(phrases, supply=supply, family=family, led=args.led,
                                   chip_overrides=measured,
                                   source=args.from_solve)
-        result = solve_build(breq, jobs=jobs, assess_picks=False)
+        result = on_workers(solve_build, breq, assess_picks=False)
         if any(li.pick is None for li in result.lights):
             raise RequestError(f"--from-solve {args.from_solve!r}: the solver offers nothing "
                                "for some lights; run 'pulsepick solve' for the reasons")
@@ -75,7 +76,7 @@ def solved_load(args, design, storage, v_start: float, stop_at: float | None):
     family, measured = solver_chip(args)
     req = make_request(args.from_solve, supply=supply, family=family, led=args.led,
                        chip_overrides=measured)
-    result = solve(req, jobs=jobs)
+    result = on_workers(solve, req)
     if not result.success:
         raise RequestError(f"--from-solve {args.from_solve!r}: nothing can be offered; "
                            f"{' '.join(result.explanations) or result.message}")

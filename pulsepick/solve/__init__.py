@@ -83,7 +83,7 @@ This module re-exports the names the rest of the program imports from ``pulsepic
 from __future__ import annotations
 
 from pulsepick.request import ASSUMED_PEAK_A
-from pulsepick.solve.assessment import assess, default_jobs, median_note  # noqa: F401
+from pulsepick.solve.assessment import assess, median_note  # noqa: F401
 from pulsepick.solve.build import BuildResult, LightPick, solve_build
 from pulsepick.solve.explain import _prechecks  # noqa: F401
 from pulsepick.solve.score import (  # noqa: F401
@@ -104,5 +104,5 @@ from pulsepick.solve.types import Candidate, SolveResult
 
 __all__ = [
     "ASSUMED_PEAK_A", "BuildResult", "Candidate", "LightPick", "SolveResult", "assess",
-    "default_jobs", "n_parts", "solve", "solve_build", "stage_cap_kind",
+    "n_parts", "solve", "solve_build", "stage_cap_kind",
 ]

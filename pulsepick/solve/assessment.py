@@ -12,6 +12,7 @@ from typing import Any
 import numpy as np
 
 from pulsepick.circuits.base import get_stage
+from pulsepick.runner import Runner, runner_or_serial
 from pulsepick.solve.texts import time_text
 from pulsepick.solve.types import SolveResult
 
@@ -147,16 +148,17 @@ def median_note(design, spread, aimed_period_s: float | None = None) -> str | No
     return text + ": " + "; and ".join(causes)
 
 
-def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
+def assess(result: SolveResult, *, runner: Runner | None = None) -> SolveResult:
     """Verify every candidate with the reference engine and add spread, drift, warnings.
 
     Parameters
     ----------
     result : SolveResult
         From :func:`solve`.
-    jobs : int
-        Worker processes (1: in this process). The reference engine takes tenths of
-        a second per circuit, so two workers nearly halve the wall time on two cores.
+    runner : Runner, optional
+        Runs the candidates' checks (:mod:`pulsepick.runner`; default: in this
+        process). The reference engine takes tenths of a second per circuit, so two
+        worker processes nearly halve the wall time on two cores.
     """
     req = result.request
     cands = list(result.candidates)
@@ -164,7 +166,7 @@ def assess(result: SolveResult, *, jobs: int = 1) -> SolveResult:
         return result
     # the spread uses the resistor tolerances of the parts list (the series asked for)
     args = [_assess_args(req, c) for c in cands]
-    outputs, _ = _assess_outputs(args, jobs)
+    outputs, _ = _assess_outputs(args, runner)
     return result.with_candidates(tuple(_assessed(c, out) for c, out in zip(
         cands, outputs, strict=True)))
 
@@ -183,36 +185,31 @@ def _assess_args(req, c) -> tuple:
             c.aim_levels_v)
 
 
-def _assess_outputs(args: list, jobs: int, during=None) -> tuple[list[dict[str, Any]], Any]:
-    """:func:`_assess_one` of each argument tuple, on up to ``jobs`` worker processes
-    (a design's reference run and the rest of its assessment as two tasks, the costliest
-    stages first), and the result of ``during()`` (None when not given), which runs in
-    this process while the workers work."""
+def _assess_outputs(args: list, runner: Runner | None = None,
+                    during=None) -> tuple[list[dict[str, Any]], Any]:
+    """:func:`_assess_one` of each argument tuple, on ``runner``, and the result of
+    ``during()`` (None when not given), which runs in this process while the runner's
+    workers work.
+
+    Each design is two tasks, its reference run and the rest of its assessment (spread,
+    drift, checks), so that one costly design does not hold up a worker while another
+    idles; the costliest stages go first, each one's spread before its reference run.
+    The batch asks for fresh workers, which start with the modules this process has
+    imported meanwhile (the reference engine's integrator, see :mod:`.solver`).
+    """
     from pulsepick.limits import workers_for_builds
 
-    outputs: list[dict[str, Any] | None] = [None] * len(args)
-    meanwhile = None
-    # bounded memory for many builds: fewer workers when each spread is large
-    jobs = workers_for_builds(jobs, max((a[2] for a in args), default=0))
-    if jobs > 1 and args:
-        from pulsepick.workers import run_pool
-
-        # two tasks per design, its reference run and the rest (spread, drift, checks),
-        # so that one costly design does not hold up a worker while the other idles;
-        # the costliest stages first, and each one's spread before its reference run
-        tasks = [(part, a) for a in args for part in ("rest", "reference")]
-        order = sorted(range(len(tasks)), key=lambda i: (
-            get_stage(tasks[i][1][0].topo.stage).search_rank, i))
-        got: list[Any] = []
-        parts = run_pool(_assess_part, tasks, jobs, order=order,
-                         meanwhile=None if during is None else lambda: got.append(during()))
-        outputs = [_joined(rest, ref) for rest, ref in zip(parts[::2], parts[1::2],
-                                                            strict=True)]
-        meanwhile = got[0] if got else None
-    else:
-        outputs = [_assess_one(*a) for a in args]
-        if during is not None:
-            meanwhile = during()
+    tasks = [(part, a) for a in args for part in ("rest", "reference")]
+    order = sorted(range(len(tasks)), key=lambda i: (
+        get_stage(tasks[i][1][0].topo.stage).search_rank, i))
+    got: list[Any] = []
+    # bounded memory for many builds: fewer at once when each spread is large
+    parts = runner_or_serial(runner).map(
+        _assess_part, tasks, order=order, fresh=True,
+        limit=workers_for_builds(len(tasks), max((a[2] for a in args), default=0)),
+        meanwhile=None if during is None else lambda: got.append(during()))
+    outputs = [_joined(rest, ref) for rest, ref in zip(parts[::2], parts[1::2], strict=True)]
+    meanwhile = got[0] if got else None
     return [out for out in outputs if out is not None], meanwhile
 
 
@@ -239,12 +236,3 @@ def _assessed(c, out: dict[str, Any]):
         warnings=tuple(out["warnings"]), timings_s=out["timings_s"],
         crossing_current=out.get("crossing_current"), median_note=out.get("median_note"),
     )
-
-
-def default_jobs() -> int:
-    """Worker processes for :func:`assess`: up to two, as the machine allows."""
-    import os
-
-    return max(1, min(2, os.cpu_count() or 1))
-
-

@@ -16,6 +16,7 @@ from pulsepick.circuits.base import get_core
 from pulsepick.engine.environment import TIMER_KEY
 from pulsepick.errors import RequestError
 from pulsepick.request import SolveRequest
+from pulsepick.runner import Runner
 from pulsepick.solve.assessment import _assess_args, _assess_outputs, _assessed, _levels_kw
 from pulsepick.solve.solver import _parts, solve
 from pulsepick.solve.types import Candidate, SolveResult
@@ -153,7 +154,8 @@ def _one_family(breq, names, results, chosen: list[int]) -> list[int]:
     return chosen
 
 
-def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResult:
+def solve_build(breq, *, runner: Runner | None = None,
+                assess_picks: bool = True) -> BuildResult:
     """Solve every light of ``breq`` and fit them on shared packages.
 
     Each light is solved as on its own (:func:`solve`); its best circuit is taken unless
@@ -162,7 +164,8 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
     used). Pairs sharing a package are checked for lock risk, and with
     ``breq.spread_out`` their periods are moved within the tolerance to keep clear
     (:mod:`pulsepick.analysis.multi`). The chosen circuits are verified with
-    :func:`assess` when ``assess_picks``.
+    :func:`assess` when ``assess_picks``. ``runner`` runs the searches and checks
+    (:mod:`pulsepick.runner`; default: in this process).
 
     Raises
     ------
@@ -183,7 +186,7 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
             raise RequestError(text)
     from pulsepick.packing import solve_lights
 
-    results, pack_notes = solve_lights(breq, solve, jobs=jobs)
+    results, pack_notes = solve_lights(breq, solve, runner=runner)
     failed = [n for n, r in zip(names, results, strict=True) if not r.success]
     if failed:
         lights = tuple(LightPick(n, r, r.candidates[0] if r.candidates else None,
@@ -291,7 +294,7 @@ def solve_build(breq, *, jobs: int = 1, assess_picks: bool = True) -> BuildResul
     if assess_picks:
         # every light's runs shared among the workers at once, the remedies meanwhile
         outs, remedies = _assess_outputs([_assess_args(r.request, c) for r, c in zip(
-            results, picks, strict=True)], jobs, during=remedies_fn)
+            results, picks, strict=True)], runner, during=remedies_fn)
         picks = [_assessed(c, out) for c, out in zip(picks, outs, strict=True)]
     else:
         remedies = remedies_fn()

@@ -4,6 +4,7 @@ what they find.
 
 from __future__ import annotations
 
+import itertools
 import math
 import time
 from dataclasses import replace
@@ -13,6 +14,7 @@ import numpy as np
 
 from pulsepick.circuits.base import core_fits_chip, DARK, get_core, get_stage, RUNS, Topology
 from pulsepick.request import SolveRequest
+from pulsepick.runner import Runner, runner_or_serial
 from pulsepick.solve.explain import _explain, _prechecks
 from pulsepick.solve.score import misses, n_parts, PARTS_WEIGHT
 from pulsepick.solve.search import _Pick, _Searcher
@@ -20,14 +22,19 @@ from pulsepick.solve.space import _chip, _space, _variants, aim_env, aim_levels,
 from pulsepick.solve.types import Candidate, SolveResult
 
 
-#: Timing networks already swept in this process for the current request (a task per
+#: Timing networks already swept in this process for the current search (a task per
 #: stage shares its core's sweep).
 _TIMING_CACHE: dict[Any, Any] = {}
+#: Numbers the searches of this process (a worker serving several searches starts each
+#: one's sweeps afresh, so each search counts its own).
+_SEARCHES = itertools.count()
 
 
 def _search_task(req: SolveRequest, family: str, core: str, steer: str,
-                 topos: list[Topology]) -> tuple[list[_Pick], int, dict[str, list[float]]]:
-    """One search task (a core variant and its stage topologies) for one chip family."""
+                 topos: list[Topology], search: int = 0
+                 ) -> tuple[list[_Pick], int, dict[str, list[float]]]:
+    """One search task (a core variant and its stage topologies) for one chip family
+    of search number ``search``."""
     from pulsepick.engine.environment import PartChoice, chip_model, make_env
 
     chip = _chip(req, family)
@@ -37,9 +44,9 @@ def _search_task(req: SolveRequest, family: str, core: str, steer: str,
     env = aim_env(req, chip, core, steer, env)
     s.set_aim(core, steer)
     s.set_chip_envs(env, model)
-    if _TIMING_CACHE.get("request") != req:
+    if _TIMING_CACHE.get("request") != (search, req):
         _TIMING_CACHE.clear()
-        _TIMING_CACHE["request"] = req
+        _TIMING_CACHE["request"] = (search, req)
     key = (family, core, steer)
     if key in _TIMING_CACHE:  # swept already in this process: evaluations counted then
         tim, seen = _TIMING_CACHE[key]
@@ -54,16 +61,18 @@ def _search_task(req: SolveRequest, family: str, core: str, steer: str,
     return picks, s.evaluated, s.seen
 
 
-def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
+def solve(req: SolveRequest, *, runner: Runner | None = None) -> SolveResult:
     """Search every admissible circuit for ``req``; the best of each topology, ranked.
 
-    ``jobs`` > 1 spreads the search over that many worker processes. Reference
-    verification, spread, drift and warnings come from :func:`assess`.
+    ``runner`` (:mod:`pulsepick.runner`; default: in this process) runs the search
+    tasks, e.g. on the caller's worker processes. Reference verification, spread,
+    drift and warnings come from :func:`assess`.
     """
     from pulsepick.engine.environment import PartChoice, chip_model
 
     t_start = time.perf_counter()
     _TIMING_CACHE.clear()  # each search counts and times its own sweeps
+    search = next(_SEARCHES)
     explanations, nothing = _prechecks(req)
     tasks = []
     unpowered = []
@@ -75,7 +84,7 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
             continue
         for core, steer, topos in _variants(req):
             if core_fits_chip(core, chip.is_timer):
-                tasks.append((req, family, core, steer, topos))
+                tasks.append((req, family, core, steer, topos, search))
     if unpowered:
         explanations.append(
             f"At {req.supply_v:.2f} V these chips are outside their supply range and were "
@@ -103,16 +112,17 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
         # start with it (they are forked from this process); a signal waits until the
         # import is whole
         from pulsepick.engine.reference import load_integrator
-        from pulsepick.workers import signals_deferred
+        from pulsepick.runner import signals_deferred
 
         with signals_deferred():
             load_integrator()
 
-    if jobs > 1 and len(tasks) > 1:
-        # every search draws the median chip with numpy.random: imported once here,
-        # the workers forked below start with it instead of each importing it
-        import numpy.random  # noqa: F401
-    for task_picks, n, task_seen in _run_tasks(_search_task, tasks, jobs, meanwhile):
+    # every search draws the median chip with numpy.random: imported once here, the
+    # workers forked for the search start with it instead of each importing it
+    import numpy.random  # noqa: F401
+
+    for task_picks, n, task_seen in runner_or_serial(runner).map(_search_task, tasks,
+                                                                 meanwhile=meanwhile):
         picks.extend(task_picks)
         evaluated += n
         for key, (lo, hi) in task_seen.items():
@@ -197,21 +207,6 @@ def solve(req: SolveRequest, *, jobs: int = 1) -> SolveResult:
         nearest=nearest, evaluated=evaluated, search_s=time.perf_counter() - t_start,
         success=success, message=message,
     )
-
-
-def _run_tasks(fn, tasks: list[tuple], jobs: int, meanwhile=None) -> list:
-    """``fn(*task)`` for every task, in worker processes when ``jobs`` > 1 (fork).
-
-    ``meanwhile()``, when given, runs in this process while the workers work (or
-    first, without workers).
-    """
-    if jobs <= 1 or len(tasks) <= 1:
-        if meanwhile is not None:
-            meanwhile()
-        return [fn(*t) for t in tasks]
-    from pulsepick.workers import run_pool
-
-    return run_pool(fn, tasks, jobs, meanwhile)
 
 
 def _ident_variant(pick: _Pick) -> tuple:

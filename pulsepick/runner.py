@@ -1,0 +1,89 @@
+"""How the computational core runs a batch of independent tasks: the caller decides.
+
+The core (the solver's search, the reference checks and spreads of the chosen circuits,
+the lock remedies worked out meanwhile) hands its tasks to a *runner* it is given and
+never starts a process itself. The default, :data:`SERIAL`, runs every task here, one
+after another; the shell passes a :class:`pulsepick.workers.PoolRunner` to spread them
+over worker processes it owns (their number and their lifetime).
+"""
+
+from __future__ import annotations
+
+import signal
+import threading
+from collections.abc import Callable, Iterator, Sequence
+from contextlib import contextmanager
+from typing import Any, Protocol
+
+
+class Runner(Protocol):
+    """Runs ``fn(*task)`` for every task and returns the results in the order of ``tasks``."""
+
+    def map(self, fn: Callable[..., Any], tasks: Sequence[tuple], *,
+            meanwhile: Callable[[], None] | None = None,
+            order: Sequence[int] | None = None, limit: int | None = None,
+            fresh: bool = False) -> list:
+        """``[fn(*task) for task in tasks]``.
+
+        ``meanwhile()``, when given, runs in this process while the tasks run elsewhere
+        (or first, when they run here). ``order`` is the order in which the tasks are
+        handed out (default: as given). ``limit`` is the most tasks that may run at
+        once (a memory bound; None: no bound). ``fresh`` asks for workers started for
+        this batch, so that they begin with every module this process has imported by
+        now (a runner of one process ignores it).
+        """
+        ...
+
+
+class SerialRunner:
+    """Every task in this process, one after another."""
+
+    def map(self, fn: Callable[..., Any], tasks: Sequence[tuple], *,
+            meanwhile: Callable[[], None] | None = None,
+            order: Sequence[int] | None = None, limit: int | None = None,
+            fresh: bool = False) -> list:
+        if meanwhile is not None:
+            meanwhile()
+        return [fn(*task) for task in tasks]
+
+
+#: The runner the core uses when its caller gives none.
+SERIAL = SerialRunner()
+
+
+def runner_or_serial(runner: Runner | None) -> Runner:
+    """``runner``, or :data:`SERIAL` when None."""
+    return SERIAL if runner is None else runner
+
+
+@contextmanager
+def signals_deferred() -> Iterator[None]:
+    """Ctrl-C, SIGTERM and SIGHUP arriving inside the block take effect as it ends.
+
+    For work that must not be broken off half way, such as importing a large package:
+    an import stopped half way leaves modules half made, and the program's own exit then
+    fails. Only the main thread handles signals; elsewhere the block runs as it is.
+    """
+    if threading.current_thread() is not threading.main_thread():
+        yield
+        return
+    caught: list[int] = []
+
+    def note(signum, _frame) -> None:
+        caught.append(signum)
+
+    old = {}
+    for name in ("SIGINT", "SIGTERM", "SIGHUP"):
+        sig = getattr(signal, name, None)
+        if sig is not None and signal.getsignal(sig) is not None:
+            old[sig] = signal.signal(sig, note)
+    try:
+        yield
+    finally:
+        for sig, handler in old.items():
+            signal.signal(sig, handler)
+        if caught:
+            signal.raise_signal(caught[0])  # now handled as it would have been
+
+
+__all__ = ["SERIAL", "Runner", "SerialRunner", "runner_or_serial", "signals_deferred"]

@@ -1,0 +1,34 @@
+"""The entry point ``main(argv=None) -> int``: a status back, never ``SystemExit``."""
+
+from __future__ import annotations
+
+import inspect
+
+from pulsepick import __version__
+from pulsepick.cli import EXIT_BAD_INPUT, EXIT_OK, main
+
+
+def test_the_signature_is_argv_none_to_int():
+    sig = inspect.signature(main)
+    assert list(sig.parameters) == ["argv"] and sig.parameters["argv"].default is None
+    assert sig.return_annotation in (int, "int")
+
+
+def test_a_good_command_returns_0(capsys):
+    assert main(["values", "4k7", "--series", "E12"]) == EXIT_OK
+    assert "4.7 kΩ" in capsys.readouterr().out
+
+
+def test_help_and_version_return_0_instead_of_exiting(capsys):
+    assert main(["--version"]) == EXIT_OK
+    assert capsys.readouterr().out.strip() == f"pulsepick {__version__}"
+    assert main(["values", "--help"]) == EXIT_OK
+    assert "usage: pulsepick values" in capsys.readouterr().out
+
+
+def test_bad_input_returns_2_with_one_line(capsys):
+    assert main(["values", "4k7", "--series", "E7"]) == EXIT_BAD_INPUT
+    err = capsys.readouterr().err.strip().splitlines()
+    assert len(err) == 1 and err[0].startswith("pulsepick: error:") and "E7" in err[0]
+    assert main(["no-such-command"]) == EXIT_BAD_INPUT
+    assert main([]) == EXIT_BAD_INPUT  # no command: the help, and status 2
