@@ -40,7 +40,7 @@ LAYERS = (
 #: command's option readers and pictures.
 KNOWN_UPWARD = {
     ("pulsepick.solve.solver", "pulsepick.partslist"),
-    ("pulsepick.analysis.multi", "pulsepick.partslist"),
+    ("pulsepick.analysis.multi.packages", "pulsepick.partslist"),
     ("pulsepick.analysis.gating", "pulsepick.partslist"),
     ("pulsepick.packing", "pulsepick.partslist"),
     ("pulsepick.buildreport", "pulsepick.commands.night"),

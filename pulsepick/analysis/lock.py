@@ -34,7 +34,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from pulsepick.analysis.multi import DEFAULT_LOCK_MARGIN, MAX_RATIO_Q, _zones
+from pulsepick.analysis.multi.ratios import DEFAULT_LOCK_MARGIN, MAX_RATIO_Q, _zones
 from pulsepick.errors import RequestError
 
 #: Monte Carlo builds of the lock share (per package).
