@@ -32,7 +32,7 @@ LAYERS = (
     ("circuits",),
     ("parts",),
     ("units", "series", "tables", "errors", "physconst", "colour", "data", "limits", "infile",
-     "workers"),
+     "workers", "hints"),
 )
 #: Known upward imports, to go when the output layer is split out: the solver, the
 #: multi-light planner, the package packer and the dusk holds build parts lists

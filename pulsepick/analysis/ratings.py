@@ -23,6 +23,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from pulsepick.hints import hint
 from pulsepick.tables import load_table
 from pulsepick.units import format_eng
 
@@ -120,7 +121,8 @@ def rating_excesses(design, led_peak_a: float) -> list[RatingExcess]:
         if gr.out_pin_max_a is not None and led_peak_a > gr.out_pin_max_a:
             fix = fix_text(gr.out_pin_max_a)
             if not design.topo.buffered:
-                fix += "; a buffer gate (--buffered) moves the load off the timing gate"
+                fix += (f"; a buffer gate ({hint('buffered', True)}) moves the load off the "
+                        "timing gate")
             out.append(RatingExcess(f"U1 {pin}", "output current (the LED's peak)", led_peak_a,
                                     gr.out_pin_max_a,
                                     f"{gr.family.upper()} absolute maximum per pin, "

@@ -369,7 +369,9 @@ def _nothing_line(what: str, explanations) -> None:
     """The one stderr line of a request that gets nothing (the reasons are on stdout)."""
     import sys
 
-    first = next(iter(explanations), "")
+    from pulsepick.render import word_hints
+
+    first = word_hints(next(iter(explanations), ""))
     reason = f": {first}" if first else ""
     print(f"pulsepick: error: nothing can be offered for \"{what}\"{reason}",
           file=sys.stderr)
@@ -1000,6 +1002,7 @@ def build_json(result, **extras) -> dict:
     """The whole build as plain JSON data."""
     from pulsepick import __version__
     from pulsepick.export import candidate_json, solve_cautions
+    from pulsepick.render import word_hints
 
     breq = result.request
     names = [li.name for li in result.lights]
@@ -1032,7 +1035,8 @@ def build_json(result, **extras) -> dict:
         _lock_grade(result.lock_share.share),
         "max_lock_share": breq.max_lock_share,
         "lock_share_before_spread_out": _share_json(names, result.lock_share_before),
-        "lock_remedies": [{"action": r.action, "lock_share": r.share, "option": r.option}
+        "lock_remedies": [{"action": r.action, "lock_share": r.share,
+                           "option": word_hints(r.option) if r.option else ""}
                           for r in result.remedies],
         "lock_risks_before_spread_out": None if result.risks_before is None else
         [_risk_json(names, r) for r in result.risks_before],

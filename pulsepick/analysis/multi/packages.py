@@ -10,6 +10,7 @@ from typing import Any
 
 from pulsepick.analysis.multi.ratios import clearance
 from pulsepick.errors import RequestError
+from pulsepick.hints import hint
 from pulsepick.parts.logic import GATES_PER_PACKAGE
 
 
@@ -177,8 +178,9 @@ def package_limit_error(plan: PackagePlan, max_packages: int) -> str | None:
              f"{max_packages} {GATES_PER_PACKAGE}-gate packages hold "
              f"{max_packages * GATES_PER_PACKAGE}")
     return (f"{plan.describe()}; {holds}, and the build needs {len(plan.packages)} packages "
-            f"(--max-packages {max_packages}); allow more packages, drive LEDs without a "
-            "buffer (--no-buffered), leave out the dusk detector (--no-dusk-detector) or "
+            f"({hint('max_packages', max_packages)}); allow more packages, drive LEDs without "
+            f"a buffer ({hint('buffered', False)}), leave out the dusk detector "
+            f"({hint('dusk_detector', False)}) or "
             "use fewer lights")
 
 

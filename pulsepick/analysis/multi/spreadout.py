@@ -11,6 +11,7 @@ import numpy as np
 
 from pulsepick.analysis.multi.ratios import DEFAULT_LOCK_MARGIN, MAX_RATIO_Q, clearance
 from pulsepick.errors import RequestError
+from pulsepick.hints import hint
 
 #: Period tolerance of the spread-out search, fraction of the period asked (design choice).
 DEFAULT_PERIOD_TOLERANCE = 0.10
@@ -129,7 +130,7 @@ def choose_periods(asked_s: Sequence[float], options: Sequence[np.ndarray],
         empty = [i for i, o in enumerate(logs) if o.size == 0]
         raise RequestError(f"lights {', '.join(str(i + 1) for i in empty)} have no standard-"
                            f"value circuit within {tolerance:.0%} of the period asked; "
-                           "widen --period-tolerance")
+                           f"widen {hint('period_tolerance')}")
     la = np.log(np.asarray(asked_s, dtype=float))
 
     def key(choice: list[int]) -> tuple[float, float, float]:
@@ -175,8 +176,9 @@ def choose_periods(asked_s: Sequence[float], options: Sequence[np.ndarray],
     chosen_s = tuple(float(np.exp(logs[i][best[i]])) for i in range(n))
     msg = ("every pair on a package keeps clear of the simple ratios" if ok else
            f"no choice within {tolerance:.0%} keeps every pair clear: the closest pair "
-           f"reaches {-worst * 100:.1f} % into a zone; widen --period-tolerance, use tighter "
-           "timing parts (1 % resistors, 5 % capacitors), or put the pair on separate packages")
+           f"reaches {-worst * 100:.1f} % into a zone; widen {hint('period_tolerance')}, use "
+           "tighter timing parts (1 % resistors, 5 % capacitors), or put the pair on separate "
+           "packages")
     return SpreadOutChoice(asked_s=tuple(float(x) for x in asked_s), chosen=tuple(best),
                            chosen_s=chosen_s, min_clearance=float(worst) if pairs else math.inf,
                            success=bool(ok), tolerance=tolerance, margin=margin, message=msg)
