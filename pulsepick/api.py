@@ -15,7 +15,7 @@ Each returns a :class:`Result`: ``.result`` is the core's result object,
 option, the document and the errors name it as a keyword (``buffered=True``, where the
 command line says ``--buffered``); texts read straight from ``.result`` carry the
 core's hint markers (:mod:`pulsepick.hints`), which
-``pulsepick.render.word_hints(text, "api")`` words.
+``pulsepick.output.render.word_hints(text, "api")`` words.
 
 Examples
 --------
@@ -51,7 +51,7 @@ __all__ = ["Result", "bands", "calibrate", "check", "day", "night", "retune", "s
 _UNIT_OF_METAVAR = {"T": "s", "I": "A", "A": "A", "V": "V", "V|FULL..END": "V", "CD": "cd",
                     "KEY|C": "F"}
 #: Options the API leaves to itself: the output is the returned object, and files are
-#: written from it (e.g. ``pulsepick.export.buylist_text(r.result)``), never as a side
+#: written from it (e.g. ``pulsepick.output.export.buylist_text(r.result)``), never as a side
 #: effect of a keyword.
 _NOT_OPTIONS = {"help", "json", "debug", "plot", "report", "buylist", "force", "detail",
                 "schematic", "no_drawing", "save"}
@@ -194,7 +194,7 @@ def _keywords(fn):
 
     @functools.wraps(fn)
     def call(*args: Any, **kwargs: Any):
-        from pulsepick.render import hint_style, word_hints
+        from pulsepick.output.render import hint_style, word_hints
 
         with hint_style("api"):
             try:
@@ -437,7 +437,7 @@ def values(what: str | float | None = None, **options: Any) -> Result:
 
 def _json(obj: Any) -> dict[str, Any]:
     """``obj`` exactly as ``--json`` prints it (through the same converter)."""
-    from pulsepick.render import dump_json
+    from pulsepick.output.render import dump_json
 
     buf = io.StringIO()
     dump_json(obj, buf)
@@ -447,9 +447,9 @@ def _json(obj: Any) -> dict[str, Any]:
 # ---------------------------------------------------------------------------- summaries
 
 def _eng(x: Any, unit: str) -> str:
-    from pulsepick.units import format_eng
+    from pulsepick.units import format_figure
 
-    return "-" if not isinstance(x, (int, float)) else format_eng(float(x), unit)
+    return format_figure(x, unit)
 
 
 def _solve_summary(d: dict) -> str:

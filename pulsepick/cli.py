@@ -192,7 +192,7 @@ def error_text(message: str) -> str:
 
 def _worded(err: BaseException) -> str:
     """An error's message with the core's hints worded as options (``--buffered``)."""
-    from pulsepick.render import word_hints
+    from pulsepick.output.render import word_hints
 
     return word_hints(str(err), "cli")
 

@@ -6,8 +6,8 @@ tolerance") but not how the user asks for it: a command-line option (``--buffere
 message carries a :class:`Hint` as a marker inside its text (``str(hint)`` or
 :func:`hint`), and a result may carry one in a field of its own (a lock remedy's
 ``option``). The shell words every marker in one place
-(:func:`pulsepick.render.word_hints`) before it lays the text out, so the core never
-spells an option and no marker reaches the user.
+(:func:`pulsepick.output.render.word_hints`) before it lays the text out, so the core
+never spells an option and no marker reaches the user.
 
 A marker is ``⟦option⟧``, ``⟦option=value⟧`` (the value as JSON) or
 ``⟦command option=value⟧``; nothing else in pulsepick writes those brackets.

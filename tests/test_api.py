@@ -10,7 +10,7 @@ import pytest
 import pulsepick as pp
 from pulsepick.cli import main
 from pulsepick.errors import RequestError
-from pulsepick.render import hint_style
+from pulsepick.output.render import hint_style
 
 SOLVE = dict(cores="timer555", stages="direct", top=1, builds=200, jobs=1)
 SOLVE_ARGV = ["--cores", "timer555", "--stages", "direct", "--top", "1", "--builds", "200",
@@ -37,9 +37,9 @@ def _without_timing(doc: dict) -> dict:
 
 def test_doctests_run():
     import pulsepick.api
-    import pulsepick.export
+    import pulsepick.output.export
 
-    for module in (pulsepick.api, pulsepick.export):
+    for module in (pulsepick.api, pulsepick.output.export):
         outcome = doctest.testmod(module, optionflags=doctest.ELLIPSIS)
         assert outcome.attempted >= 4 and outcome.failed == 0, module.__name__
 

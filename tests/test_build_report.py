@@ -14,7 +14,7 @@ import pytest
 
 from pulsepick.analysis.pinout import HEX_GATE_PINS, package_map
 from pulsepick.cli import main
-from pulsepick.export import read_buylist
+from pulsepick.output.export import read_buylist
 
 EXAMPLE = os.path.join(os.path.dirname(__file__), "..", "examples",
                        "footbridge-fireflies.toml")
@@ -103,7 +103,7 @@ def test_package_map_uses_the_standard_hex_pins():
 def test_example_solve_report_night_and_day(tmp_path):
     """The footbridge example: solved once (as 'pulsepick solve' does: JSON, console, report,
     buy list), then 'pulsepick night' and 'pulsepick day' on the file."""
-    from pulsepick.buildreport import build_pictures
+    from pulsepick.commands.buildreport import build_pictures
     from pulsepick.commands.solve import (
         _build_extras,
         build_buylist_text,
@@ -112,7 +112,7 @@ def test_example_solve_report_night_and_day(tmp_path):
         render_build,
     )
     from pulsepick.designfile import build_request, read_design
-    from pulsepick.render import make_console
+    from pulsepick.output.render import make_console
     from pulsepick.solve import solve_build
 
     design = read_design(EXAMPLE)

@@ -9,7 +9,7 @@ import math
 import pytest
 
 from pulsepick.cli import main
-from pulsepick.export import (
+from pulsepick.output.export import (
     BUYLIST_COLUMNS,
     PROVENANCE_COLUMNS,
     STOCK_COLUMN,
@@ -111,7 +111,7 @@ def test_safe_cell_rules():
 
 def test_uneven_tolerance_is_text(tmp_path):
     # an electrolytic's tolerance is uneven (-20/+80 % class, ref:cap-tolerance-letters)
-    from pulsepick.export import _tolerance_cell
+    from pulsepick.output.export import _tolerance_cell
 
     assert _tolerance_cell("-20/+80 %") == "\u221220/+80 %"
     assert _tolerance_cell("±5 %") == "±5 %"

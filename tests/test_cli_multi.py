@@ -5,7 +5,7 @@ import json
 import pytest
 
 from pulsepick.cli import main
-from pulsepick.export import read_buylist
+from pulsepick.output.export import read_buylist
 
 DESIGN = """
 name = "two markers"
@@ -116,7 +116,7 @@ def test_design_file_with_storage_gets_the_supercap_caution(tmp_path, capsys):
 
 
 def test_build_checks_pictures_first_and_reports_nothing_on_stderr(capsys, tmp_path):
-    # a build takes --report and --plot (pulsepick.buildreport); a bad file is refused
+    # a build takes --report and --plot (pulsepick.commands.buildreport); a bad file is refused
     # before any solving
     assert main(["solve", "two lights: every 2 s, every 3 s", "--report",
                  str(tmp_path / "x.txt")]) == 2

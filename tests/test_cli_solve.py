@@ -7,7 +7,7 @@ import json
 import pytest
 
 from pulsepick.cli import main
-from pulsepick.export import read_buylist
+from pulsepick.output.export import read_buylist
 
 # Small searches keep these tests quick: one core, one stage, few builds.
 QUICK = ["--cores", "timer555", "--stages", "direct", "--top", "1", "--builds", "200",

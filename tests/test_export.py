@@ -1,4 +1,4 @@
-"""Buy lists and JSON of the solver (pulsepick.export), read back."""
+"""Buy lists and JSON of the solver (pulsepick.output.export), read back."""
 
 from __future__ import annotations
 
@@ -9,7 +9,7 @@ import pytest
 
 from pulsepick import __version__
 from pulsepick.errors import ExportError
-from pulsepick.export import (
+from pulsepick.output.export import (
     BUYLIST_COLUMNS,
     PROVENANCE_COLUMNS,
     buylist_text,
@@ -17,7 +17,7 @@ from pulsepick.export import (
     result_json,
     write_atomic,
 )
-from pulsepick.render import dump_json
+from pulsepick.output.render import dump_json
 from pulsepick.request import make_request
 from pulsepick.solve import assess, solve
 
@@ -131,7 +131,7 @@ def test_cautions_where_they_apply():
         NOT_A_SAFETY_LIGHT,
         POLARITY_AND_SHORTS,
     )
-    from pulsepick.export import solve_cautions
+    from pulsepick.output.export import solve_cautions
 
     steady = make_request("every 3 s")
     assert solve_cautions(steady) == (NOT_A_SAFETY_LIGHT, LOW_VOLTAGE_ONLY)
@@ -143,7 +143,7 @@ def test_cautions_where_they_apply():
 def test_build_buylist_sums_identical_parts(result):
     from types import SimpleNamespace
 
-    from pulsepick.export import build_buylist_text
+    from pulsepick.output.export import build_buylist_text
 
     c = result.candidates[0]
     # two lights with the same circuit: every part twice, one row each, quantities summed

@@ -11,7 +11,7 @@ import os
 
 import pytest
 
-from pulsepick import export
+from pulsepick.output import export
 from pulsepick.cli import main
 from pulsepick.errors import ExportError
 

@@ -20,7 +20,7 @@ import pytest
 from pulsepick.cli import build_parser, main
 from pulsepick.errors import PulsepickError
 from pulsepick.hints import CLOSE, OPEN, Hint, has_marker, hint, hints_in, parse, pieces
-from pulsepick.render import hint_style, word_hints
+from pulsepick.output.render import hint_style, word_hints
 
 PACKAGE = Path(__file__).resolve().parent.parent / "pulsepick"
 #: The core: it reports, and the shell words what it reports.

@@ -17,8 +17,8 @@ import pytest
 from pulsepick import cli
 from pulsepick.analysis.cautions import GENERAL_CAUTIONS, NOT_A_SAFETY_LIGHT
 from pulsepick.commands.pictures import NO_IMAGES, solve_pictures
-from pulsepick.htmlreport import Cell, Items, Paragraph, Report, Section, Table, render_html
-from pulsepick.plot import FIGURE_PIXELS
+from pulsepick.output.htmlreport import Cell, Items, Paragraph, Report, Section, Table, render_html
+from pulsepick.output.plot import FIGURE_PIXELS
 from pulsepick.units import format_eng
 
 # A community garden's path marker (demo values).
@@ -241,7 +241,7 @@ def solved():
 
 
 def test_solve_report_holds_the_parts_and_figures_of_the_json(solved, tmp_path, capsys):
-    from pulsepick.export import result_json
+    from pulsepick.output.export import result_json
 
     path, image = tmp_path / "solve.html", tmp_path / "solve.png"
     args = argparse.Namespace(plot=str(image), report=str(path), force=False, json=False, pick=1)

@@ -12,7 +12,7 @@ from pulsepick.engine.environment import ChipSpec, PartChoice
 from pulsepick.errors import RequestError
 from pulsepick.parts.led import get_led
 from pulsepick.parts.photoresistor import custom_photoresistor, get_photoresistor
-from pulsepick.render import word_hints
+from pulsepick.output.render import word_hints
 
 
 def _design(core="schmitt"):

@@ -11,7 +11,7 @@ from pulsepick.analysis.lock import LOCK_GRADES, lock_grade, lock_share
 from pulsepick.analysis.locktrim import TRIM_SETTING_RESOLUTION, trimmed_share
 from pulsepick.errors import RequestError
 from pulsepick.packing import NIGHT_LUX, build_verdict, night_designs
-from pulsepick.render import word_hints
+from pulsepick.output.render import word_hints
 from pulsepick.request import make_build_request, make_request
 from pulsepick.solve import solve, solve_build
 

@@ -9,7 +9,7 @@ import pytest
 from pulsepick.analysis import multi
 from pulsepick.engine.loadcurve import constant_load
 from pulsepick.errors import RequestError
-from pulsepick.render import word_hints
+from pulsepick.output.render import word_hints
 
 
 def _near_simple_ratio(lo: float, hi: float, margin: float) -> bool:

@@ -13,7 +13,7 @@ import pytest
 
 from pulsepick import cli
 from pulsepick.errors import RequestError
-from pulsepick.plot import (
+from pulsepick.output.plot import (
     FIGURE_DPI,
     FIGURE_PIXELS,
     FIGURE_SIZE_IN,

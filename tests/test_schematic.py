@@ -12,7 +12,7 @@ from pulsepick.design import Design
 from pulsepick.engine.environment import ChipSpec, PartChoice
 from pulsepick.parts.led import get_led
 from pulsepick.partslist import parts_list
-from pulsepick.schematic import schematic_lines, schematic_svg
+from pulsepick.output.schematic import schematic_lines, schematic_svg
 
 # Demo values of our own (a garden path marker), standard E-series values (ref:iec-60063)
 VALUES = {"r1": 2.2e6, "r2": 47e3, "ra": 1e6, "rb": 22e3, "c1": 1e-6, "rs": 220.0,

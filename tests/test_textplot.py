@@ -16,7 +16,7 @@ from pulsepick.commands.pictures import oscillating_periods
 from pulsepick.design import Design
 from pulsepick.engine.environment import ChipSpec, PartChoice
 from pulsepick.parts.led import get_led
-from pulsepick.textplot import LABEL_WIDTH, spread_lines, waveform_lines
+from pulsepick.output.textplot import LABEL_WIDTH, spread_lines, waveform_lines
 
 # A community garden's path marker (demo values): HC Schmitt, 2M2 / 1u, pulse stage.
 MARKER = Design(Topology("schmitt", "pulse"), {"r1": 2.2e6, "c1": 1e-6, "cp": 22e-6, "rs": 47.0},

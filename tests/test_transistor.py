@@ -12,7 +12,7 @@ import pytest
 
 from pulsepick import cli
 from pulsepick.circuits.transistor import PART, _on_current_scalar, on_current
-from pulsepick.export import read_buylist
+from pulsepick.output.export import read_buylist
 from pulsepick.parts.led import get_led
 from pulsepick.parts.transistor import TRANSISTOR_KEYS, get_transistor
 

@@ -19,16 +19,12 @@ import math
 from dataclasses import dataclass, replace
 from datetime import date as Date
 
-from pulsepick.analysis.day import (
-    CLAMP_DERATING,
-    FULL_SUN_W_M2,
-    ChargePath,
-    NightWindow,
-    diode_drop_v,
-    simulate_day,
-    simulate_days,
-)
+from pulsepick.analysis.chargepath import ChargePath
+from pulsepick.analysis.day import simulate_days
+from pulsepick.analysis.daycharge import simulate_day
+from pulsepick.analysis.daywindows import NightWindow
 from pulsepick.analysis.irradiance import Profile
+from pulsepick.analysis.overvoltage import clamp_advice
 from pulsepick.analysis.sky import Site, daily_irradiation_wh_m2, day_profile
 from pulsepick.errors import RequestError
 from pulsepick.parts.diode import DiodeModel
@@ -74,9 +70,7 @@ def _clamp_for(storage: Storage, panel: PanelModel, diode: DiodeModel,
                clamp_v: float | None) -> float | None:
     if clamp_v is not None:
         return clamp_v
-    if float(panel.voc(FULL_SUN_W_M2)) - diode_drop_v(diode) > storage.v_rated_v:
-        return math.floor(CLAMP_DERATING * storage.v_rated_v * 10.0 + 1e-9) / 10.0
-    return None
+    return clamp_advice(storage, panel, diode).proposed_clamp_v
 
 
 def _autonomy(storage, panel, diode, night_load, window, v_stop_v, clamp_v, day_load,
@@ -110,50 +104,14 @@ def size_for_autonomy(nights: int, site: Site, year: int, storage: Storage,
     def lasts(c: float) -> bool:
         return _autonomy(replace(storage, capacitance_f=c), panel, *args) >= nights
 
-    c_min: float | None = storage.capacitance_f
-    while not lasts(c_min):
-        c_min *= 4.0
-        if c_min > 1e4:
-            c_min = None
-            break
-    if c_min is not None:
-        lo = c_min / 4.0
-        while lasts(lo) and lo > 1e-6:
-            c_min, lo = lo, lo / 4.0
-        for _ in range(BISECTIONS):
-            mid = math.sqrt(lo * c_min)
-            if lasts(mid):
-                c_min = mid
-            else:
-                lo = mid
-            if c_min / lo < 1.002:
-                break
-    store = None
-    store_n = None
-    for key in sorted(STORAGE_KEYS, key=lambda k: get_storage(k).capacitance_f):
-        part = get_storage(key)
-        if part.v_rated_v + 1e-9 < v_stop_v:
-            continue
-        n = _autonomy(part, panel, *args)
-        if n >= nights:
-            store, store_n = part, n
-            break
+    c_min = _min_capacitance(storage.capacitance_f, lasts)
+    store, store_n = _smallest_storage(nights, panel, v_stop_v, args)
     chosen_panel = None
     chosen_clamp = None
     if store is not None:
         profile = day_profile(site, worst, clear_sky_index, name="worst month")
-        dawn_s = window.dawn_s
-        dusk_s = dawn_s + (86400.0 - window.night_s)
-        for key in sorted(panel_keys(), key=lambda k: get_panel(k).voc_v * get_panel(k).isc_a):
-            p = get_panel(key)
-            clamp = _clamp_for(store, p, diode, clamp_v)
-            path = ChargePath(p, diode, clamp_v=clamp)
-            day = simulate_day(store, path, profile, v_start_v=v_stop_v, dawn_s=dawn_s,
-                               dusk_s=min(dusk_s, 86400.0 + dawn_s - 1.0), day_load=day_load,
-                               leak_level=leak_level)
-            if day.full:
-                chosen_panel, chosen_clamp = p, clamp
-                break
+        chosen_panel, chosen_clamp = _smallest_panel(store, diode, profile, window, v_stop_v,
+                                                     clamp_v, day_load, leak_level)
     notes = (
         f"the worst month: the 15th whose clear-sky light on the panel's plane is least "
         f"({light / 1e3:.2f} kWh/m² on {worst.isoformat()}), with that date's night",
@@ -171,3 +129,56 @@ def size_for_autonomy(nights: int, site: Site, year: int, storage: Storage,
         suggested_panel=None if chosen_panel is None else chosen_panel.key,
         suggested_panel_name=None if chosen_panel is None else chosen_panel.name,
         clamp_v=chosen_clamp, notes=notes)
+
+
+def _min_capacitance(c_start: float, lasts) -> float | None:
+    """The smallest capacitance that ``lasts`` (bisection on a log scale), None above 10 kF."""
+    c_min: float | None = c_start
+    while not lasts(c_min):
+        c_min *= 4.0
+        if c_min > 1e4:
+            return None
+    lo = c_min / 4.0
+    while lasts(lo) and lo > 1e-6:
+        c_min, lo = lo, lo / 4.0
+    for _ in range(BISECTIONS):
+        mid = math.sqrt(lo * c_min)
+        if lasts(mid):
+            c_min = mid
+        else:
+            lo = mid
+        if c_min / lo < 1.002:
+            break
+    return c_min
+
+
+def _smallest_storage(nights: int, panel: PanelModel, v_stop_v: float,
+                      args) -> tuple[Storage | None, int | None]:
+    """The smallest table storage that lasts ``nights`` nights, and the nights it lasts."""
+    for key in sorted(STORAGE_KEYS, key=lambda k: get_storage(k).capacitance_f):
+        part = get_storage(key)
+        if part.v_rated_v + 1e-9 < v_stop_v:
+            continue
+        n = _autonomy(part, panel, *args)
+        if n >= nights:
+            return part, n
+    return None, None
+
+
+def _smallest_panel(store: Storage, diode: DiodeModel, profile: Profile, window: NightWindow,
+                    v_stop_v: float, clamp_v: float | None, day_load,
+                    leak_level: str) -> tuple[PanelModel | None, float | None]:
+    """The smallest table panel that fills ``store`` from the stop voltage in one day, and
+    the clamp it needs."""
+    dawn_s = window.dawn_s
+    dusk_s = dawn_s + (86400.0 - window.night_s)
+    for key in sorted(panel_keys(), key=lambda k: get_panel(k).voc_v * get_panel(k).isc_a):
+        p = get_panel(key)
+        clamp = _clamp_for(store, p, diode, clamp_v)
+        path = ChargePath(p, diode, clamp_v=clamp)
+        day = simulate_day(store, path, profile, v_start_v=v_stop_v, dawn_s=dawn_s,
+                           dusk_s=min(dusk_s, 86400.0 + dawn_s - 1.0), day_load=day_load,
+                           leak_level=leak_level)
+        if day.full:
+            return p, clamp
+    return None, None

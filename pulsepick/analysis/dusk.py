@@ -27,7 +27,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from pulsepick.analysis.day import ChargePath, operating_point
+from pulsepick.analysis.chargepath import ChargePath, operating_point
 from pulsepick.analysis.irradiance import Profile, get_profile, irradiance_at
 from pulsepick.errors import RequestError
 from pulsepick.parts.diode import DiodeModel
@@ -203,6 +203,30 @@ def dusk_levels(panel: PanelModel, bleed_ohm: float, family: LogicFamily, supply
     path = ChargePath(panel=panel, diode=diode, bleed_ohm=bleed_ohm)
     sun = operating_point(path, RATED_IRRADIANCE_W_M2, supply_v)
     prof = profile if profile is not None else get_profile("clear")
+    day_loss, day_harvest = _day_loss(path, prof, supply_v)
+
+    node_typ, bias_typ = _night_node(panel, diode, supply_v, bleed_ohm, "typ", 0.0)
+    node_max, bias_max = _night_node(panel, diode, supply_v, bleed_ohm, "max", family.leak_max_a)
+    crossing = float(family.crossing_current(0.5 * (vtm[0] + vtp[0]), supply_v))
+
+    notes = _dusk_notes(family, supply_v, vtm, vtp, prof)
+    warnings = _dusk_warnings(panel, family, supply_v, vtm, on, off, hyst_lux, sun, node_typ,
+                              node_max, bias_max)
+
+    return DuskResult(
+        panel=panel, family=family, diode=diode, supply_v=float(supply_v),
+        bleed_ohm=float(bleed_ohm), wanted_lux=None, exact_bleed_ohm=None, series=None,
+        turn_on=on, turn_off=off, hysteresis_lux=hyst_lux, hysteresis_ratio=ratio,
+        day_panel_v=sun.panel_v, day_bleed_a=sun.bleed_a, day_bleed_w=sun.panel_v * sun.bleed_a,
+        day_loss_c=day_loss, day_harvest_c=day_harvest, loss_profile=prof.name,
+        night_bias_typ_a=bias_typ, night_bias_max_a=bias_max, night_node_typ_v=node_typ,
+        night_node_max_v=node_max, crossing_a=crossing, notes=tuple(notes),
+        gating=GATING_NOTES, warnings=tuple(warnings),
+    )
+
+
+def _day_loss(path: ChargePath, prof: Profile, supply_v: float) -> tuple[float, float]:
+    """Charge (C) the bleed takes from the panel and charge into the storage over the day."""
     t = np.arange(0.0, 86400.0 + 1e-9, DAY_LOSS_STEP_S)
     g = irradiance_at(prof, t)
     bleed = np.zeros_like(t)
@@ -213,12 +237,12 @@ def dusk_levels(panel: PanelModel, bleed_ohm: float, family: LogicFamily, supply
             bleed[i], harvest[i] = op.bleed_a, max(op.charge_a, 0.0)
     day_loss = float(np.sum(0.5 * (bleed[1:] + bleed[:-1])) * DAY_LOSS_STEP_S)
     day_harvest = float(np.sum(0.5 * (harvest[1:] + harvest[:-1])) * DAY_LOSS_STEP_S)
+    return day_loss, day_harvest
 
-    node_typ, bias_typ = _night_node(panel, diode, supply_v, bleed_ohm, "typ", 0.0)
-    node_max, bias_max = _night_node(panel, diode, supply_v, bleed_ohm, "max", family.leak_max_a)
-    crossing = float(family.crossing_current(0.5 * (vtm[0] + vtp[0]), supply_v))
 
-    notes = [
+def _dusk_notes(family: LogicFamily, supply_v: float, vtm, vtp, prof: Profile) -> list[str]:
+    """What the dusk levels took for granted, one line each."""
+    return [
         f"thresholds of the {family.name} at {supply_v:.2f} V: VT- {vtm[0]:.2f} V "
         f"({vtm[1]:.2f}..{vtm[2]:.2f}), VT+ {vtp[0]:.2f} V ({vtp[1]:.2f}..{vtp[2]:.2f})",
         "levels in lux use about 120 lx per W/m2 (from memory; dusk light is bluer than sun, "
@@ -229,6 +253,12 @@ def dusk_levels(panel: PanelModel, bleed_ohm: float, family: LogicFamily, supply
         "the thresholds follow the storage voltage: as it sags overnight the morning turn-off "
         "level moves too",
     ]
+
+
+def _dusk_warnings(panel: PanelModel, family: LogicFamily, supply_v: float, vtm, on: Level,
+                   off: Level, hyst_lux: float, sun, node_typ: float, node_max: float,
+                   bias_max: float) -> list[str]:
+    """What to watch with this bleed: range, night leakage, input clamp, feedback."""
     warnings = []
     if not bool(family.in_range(supply_v)):
         warnings.append(f"supply {supply_v:.2f} V is outside the {family.name}'s recommended "
@@ -254,17 +284,7 @@ def dusk_levels(panel: PanelModel, bleed_ohm: float, family: LogicFamily, supply
             f"optical feedback: if the light's own glow adds more than about {hyst_lux:.3g} lx at "
             f"the panel (the hysteresis, {on.typ_lux:.3g} to {off.typ_lux:.3g} lx), it turns "
             "itself off at dusk and flickers; shade the panel from the LED or point the LED away")
-
-    return DuskResult(
-        panel=panel, family=family, diode=diode, supply_v=float(supply_v),
-        bleed_ohm=float(bleed_ohm), wanted_lux=None, exact_bleed_ohm=None, series=None,
-        turn_on=on, turn_off=off, hysteresis_lux=hyst_lux, hysteresis_ratio=ratio,
-        day_panel_v=sun.panel_v, day_bleed_a=sun.bleed_a, day_bleed_w=sun.panel_v * sun.bleed_a,
-        day_loss_c=day_loss, day_harvest_c=day_harvest, loss_profile=prof.name,
-        night_bias_typ_a=bias_typ, night_bias_max_a=bias_max, night_node_typ_v=node_typ,
-        night_node_max_v=node_max, crossing_a=crossing, notes=tuple(notes),
-        gating=GATING_NOTES, warnings=tuple(warnings),
-    )
+    return warnings
 
 
 def panel_max_level(panel: PanelModel) -> float:

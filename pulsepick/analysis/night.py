@@ -22,17 +22,24 @@ import numpy as np
 from scipy.integrate import solve_ivp
 
 from pulsepick.analysis.cautions import GENERAL_CAUTIONS, storage_cautions
+from pulsepick.analysis.night_notes import (  # noqa: F401  (re-exported)
+    DIM_BY_DAWN_SHARE,
+    DIM_PREFIX,
+    ESR_DROP_WARNING_V,
+    LEAK_SHARE_WARNING,
+    dimming_note,
+    night_assumptions,
+    night_warnings,
+    solver_message,
+    stop_reason,
+)
 from pulsepick.engine.loadcurve import LoadCurve
 from pulsepick.errors import PartError, RequestError
 from pulsepick.parts.storage import LEAK_LEVELS, Storage
-from pulsepick.units import format_eng
 
 # estimate: a solar-charged store is full by early afternoon, some six hours before dusk.
 DEFAULT_T_SINCE_CHARGE_S = 6 * 3600.0
 TIMELINE_POINTS = 200  # samples for a chart of the night
-# estimate: thresholds above which a warning is worth the reader's attention.
-LEAK_SHARE_WARNING = 0.25  # storage leakage share of the drained charge
-ESR_DROP_WARNING_V = 0.1  # V, ESR x LED peak current
 _RTOL = 1e-8  # solve_ivp relative tolerance; the budget checks need 0.5 %
 _ATOL_V = 1e-9  # V
 
@@ -124,37 +131,6 @@ def _clock(dusk: datetime | None, t_s: float) -> str | None:
     return (dusk + timedelta(seconds=round(t_s / 60.0) * 60.0)).strftime("%H:%M")
 
 
-#: Below this share of its dusk LED peak the light counts as dim by dawn (estimate: a
-#: tenth of the current is a large step down in brightness for a small indicator LED).
-DIM_BY_DAWN_SHARE = 0.1
-DIM_PREFIX = "the light dims steeply"
-
-
-def dimming_note(figures) -> str | None:
-    """A warning when the LED peak at dawn is under DIM_BY_DAWN_SHARE of the one at dusk."""
-    by = {p.label: p for p in figures}
-    dusk, dawn = by.get("dusk"), by.get("dawn")
-    if dusk is None or dawn is None or not (dusk.lit and dawn.lit):
-        return None
-    a, b = float(dusk.led_peak_a), float(dawn.led_peak_a)
-    if not (math.isfinite(a) and math.isfinite(b) and a > 0) or b >= DIM_BY_DAWN_SHARE * a:
-        return None
-    return (f"{DIM_PREFIX}: LED peak {format_eng(a, 'A')} at dusk, {format_eng(b, 'A')} at "
-            f"dawn ({b / a:.0%} of it); towards dawn the light is barely visible, so it lasts "
-            "the night only as a dim glow (a larger storage or a higher start keeps it bright)")
-
-
-def _solver_message(success: bool, stopped: bool, v_stop_v: float, t_s: float,
-                    duration_s: float) -> str:
-    """The integrator's outcome in our words (scipy's own messages stay inside)."""
-    if stopped:
-        return f"stopped at the stop voltage {v_stop_v:.2f} V after {t_s:.0f} s"
-    if success:
-        return f"ran to the end of the night ({duration_s:.0f} s)"
-    return (f"gave up after {t_s:.0f} s of {duration_s:.0f} s: the step size fell below what "
-            "the voltage's precision allows; the figures after that are missing")
-
-
 def _check_inputs(storage, v_start_v, duration_s, extra_load_a, storage_leak_a, stop_at_v,
                   t_since_charge_s, capacitance_f, leak_level) -> None:
     problems = []
@@ -184,6 +160,132 @@ def _check_inputs(storage, v_start_v, duration_s, extra_load_a, storage_leak_a, 
         raise PartError(
             f"capacitance {capacitance_f!r} F is impossible; give a value above 0, such as 0.22F"
         )
+
+
+@dataclass(frozen=True, eq=False)
+class _Run:
+    """The integration of one night: the solution and how it ended."""
+
+    sol: object  # scipy's OdeResult with dense output, or None when not started
+    runtime: float  # s
+    state_end: np.ndarray  # v, flashes, circuit, leakage and extra charge at the end
+    success: bool
+    stopped: bool
+    message: str
+
+
+def _stop_voltages(load: LoadCurve | None, stop_at_v: float | None) -> tuple[float, float, bool]:
+    """The light's own stop voltage, the stop voltage used, and whether the light sets it."""
+    light_stop = load.light_stops_below_v() if load is not None else math.nan
+    user_stop = 0.0 if stop_at_v is None else float(stop_at_v)
+    v_stop = user_stop if math.isnan(light_stop) else max(user_stop, light_stop)
+    light_is_limit = not math.isnan(light_stop) and light_stop >= user_stop
+    return light_stop, v_stop, light_is_limit
+
+
+def _night_rhs(storage, load, c, extra_load_a, storage_leak_a, t_since_charge_s, leak_level):
+    """The right-hand side: storage voltage, flashes and the charge of each drain."""
+    if load is not None:
+        grid = load.supply_v
+        current_tab = load.supply_avg_a
+        runs = np.isfinite(load.period_s) & (load.period_s > 0)
+        rate_tab = np.divide(1.0, load.period_s, out=np.zeros_like(grid), where=runs)
+    leak_fixed = storage_leak_a
+
+    def rhs(t, y):
+        v = y[0]
+        if load is not None:
+            i_circuit = float(np.interp(v, grid, current_tab))
+            rate = float(np.interp(v, grid, rate_tab))
+        else:
+            i_circuit = rate = 0.0
+        if leak_fixed is not None:
+            i_leak = leak_fixed
+        else:
+            i_leak = float(storage.leakage_a(v, t_since_charge_s + t, leak_level))
+        return [-(i_circuit + i_leak + extra_load_a) / c, rate, i_circuit, i_leak, extra_load_a]
+
+    return rhs
+
+
+def _integrate_night(rhs, v_start_v: float, v_stop: float, duration_s: float) -> _Run:
+    """Integrate from dusk until the stop voltage or dawn."""
+    def reach_stop(t, y):
+        return y[0] - v_stop
+
+    reach_stop.terminal = True  # type: ignore[attr-defined]
+    reach_stop.direction = -1  # type: ignore[attr-defined]
+
+    if v_start_v <= v_stop:
+        # The light is never on at this start voltage: nothing to integrate.
+        return _Run(
+            sol=None, runtime=0.0, state_end=np.array([v_start_v, 0.0, 0.0, 0.0, 0.0]),
+            success=True, stopped=True,
+            message="not started: the start voltage is at or below the stop voltage",
+        )
+    sol = solve_ivp(
+        rhs, (0.0, float(duration_s)), [float(v_start_v), 0.0, 0.0, 0.0, 0.0],
+        method="RK45", rtol=_RTOL, atol=[_ATOL_V, 1e-9, 1e-15, 1e-15, 1e-15],
+        events=reach_stop, dense_output=True,
+    )
+    success = bool(sol.success)
+    stopped = sol.status == 1 and len(sol.t_events[0]) > 0
+    if stopped:
+        runtime = float(sol.t_events[0][0])
+        state_end = np.asarray(sol.y_events[0][0], dtype=float)
+        state_end[0] = v_stop  # exactly at the event, not a root-finder's neighbour
+    else:
+        runtime = float(sol.t[-1])
+        state_end = np.asarray(sol.y[:, -1], dtype=float)
+    message = solver_message(success, stopped, v_stop, runtime, duration_s)
+    return _Run(sol=sol, runtime=runtime, state_end=state_end, success=success,
+                stopped=stopped, message=message)
+
+
+def _night_figures(run: _Run, load, dusk, v_start_v: float, duration_s: float,
+                   lasts: bool) -> tuple[NightPoint, ...]:
+    """The blinker at dusk, midnight and dawn."""
+    sol, runtime = run.sol, run.runtime
+
+    def v_at(t: float) -> float:
+        if sol is None:
+            return v_start_v if t == 0.0 else math.nan
+        return float(sol.sol(t)[0]) if t <= runtime else math.nan
+
+    def point(label: str, t: float) -> NightPoint:
+        v = v_at(t)
+        on = bool(math.isfinite(v) and (lasts or t < runtime))
+        figs = load.at(v) if (load is not None and on) else None
+        get = (lambda k: float(figs[k])) if figs else (lambda k: math.nan)
+        return NightPoint(
+            label=label, t_s=t, clock=_clock(dusk, t), v_v=v, lit=on,
+            supply_avg_a=get("supply_avg_a"), period_s=get("period_s"), flash_s=get("flash_s"),
+            led_peak_a=get("led_peak_a"), effective_a=get("effective_a"),
+            effective_cd=get("effective_cd"),
+        )
+
+    return (point("dusk", 0.0), point("midnight", duration_s / 2), point("dawn", duration_s))
+
+
+def _night_timeline(run: _Run, load, v_start_v: float, duration_s: float) -> NightTimeline:
+    """The night sampled evenly for a chart."""
+    sol = run.sol
+    t_grid = np.linspace(0.0, duration_s, TIMELINE_POINTS)
+    v_grid = np.full_like(t_grid, math.nan)
+    if sol is not None:
+        inside = t_grid <= run.runtime
+        v_grid[inside] = sol.sol(t_grid[inside])[0]
+    else:
+        v_grid[0] = v_start_v
+    if load is not None and sol is not None:
+        eff_a = np.interp(v_grid, load.supply_v, load.effective_a)
+        eff_cd = np.interp(v_grid, load.supply_v, load.effective_cd)
+        eff_a[~np.isfinite(v_grid)] = math.nan
+        eff_cd[~np.isfinite(v_grid)] = math.nan
+    else:
+        eff_a = np.full_like(t_grid, math.nan)
+        eff_cd = np.full_like(t_grid, math.nan)
+    return NightTimeline(t_s=t_grid, v_v=v_grid, effective_a=eff_a, effective_cd=eff_cd)
 
 
 def simulate_night(
@@ -231,206 +333,25 @@ def simulate_night(
                   t_since_charge_s, capacitance_f, leak_level)
     duration_s = float(duration_s)
     c = storage.capacitance_f if capacitance_f is None else float(capacitance_f)
-    light_stop = load.light_stops_below_v() if load is not None else math.nan
-    user_stop = 0.0 if stop_at_v is None else float(stop_at_v)
-    v_stop = user_stop if math.isnan(light_stop) else max(user_stop, light_stop)
-    light_is_limit = not math.isnan(light_stop) and light_stop >= user_stop
-
-    if load is not None:
-        grid = load.supply_v
-        current_tab = load.supply_avg_a
-        runs = np.isfinite(load.period_s) & (load.period_s > 0)
-        rate_tab = np.divide(1.0, load.period_s, out=np.zeros_like(grid), where=runs)
-    leak_fixed = storage_leak_a
-
-    def rhs(t, y):
-        v = y[0]
-        if load is not None:
-            i_circuit = float(np.interp(v, grid, current_tab))
-            rate = float(np.interp(v, grid, rate_tab))
-        else:
-            i_circuit = rate = 0.0
-        if leak_fixed is not None:
-            i_leak = leak_fixed
-        else:
-            i_leak = float(storage.leakage_a(v, t_since_charge_s + t, leak_level))
-        return [-(i_circuit + i_leak + extra_load_a) / c, rate, i_circuit, i_leak, extra_load_a]
-
-    def reach_stop(t, y):
-        return y[0] - v_stop
-
-    reach_stop.terminal = True  # type: ignore[attr-defined]
-    reach_stop.direction = -1  # type: ignore[attr-defined]
-
-    if v_start_v <= v_stop:
-        # The light is never on at this start voltage: nothing to integrate.
-        sol = None
-        runtime = 0.0
-        state_end = np.array([v_start_v, 0.0, 0.0, 0.0, 0.0])
-        success, message = True, "not started: the start voltage is at or below the stop voltage"
-        stopped = True
-    else:
-        sol = solve_ivp(
-            rhs, (0.0, float(duration_s)), [float(v_start_v), 0.0, 0.0, 0.0, 0.0],
-            method="RK45", rtol=_RTOL, atol=[_ATOL_V, 1e-9, 1e-15, 1e-15, 1e-15],
-            events=reach_stop, dense_output=True,
-        )
-        success = bool(sol.success)
-        stopped = sol.status == 1 and len(sol.t_events[0]) > 0
-        if stopped:
-            runtime = float(sol.t_events[0][0])
-            state_end = np.asarray(sol.y_events[0][0], dtype=float)
-            state_end[0] = v_stop  # exactly at the event, not a root-finder's neighbour
-        else:
-            runtime = float(sol.t[-1])
-            state_end = np.asarray(sol.y[:, -1], dtype=float)
-        message = _solver_message(success, stopped, v_stop, runtime, duration_s)
-
+    light_stop, v_stop, light_is_limit = _stop_voltages(load, stop_at_v)
+    rhs = _night_rhs(storage, load, c, extra_load_a, storage_leak_a, t_since_charge_s,
+                     leak_level)
+    run = _integrate_night(rhs, v_start_v, v_stop, duration_s)
+    runtime, state_end = run.runtime, run.state_end
     v_end = float(state_end[0])
-    lasts = not stopped
+    lasts = not run.stopped
 
-    # figures and timeline
-    def v_at(t: float) -> float:
-        if sol is None:
-            return v_start_v if t == 0.0 else math.nan
-        return float(sol.sol(t)[0]) if t <= runtime else math.nan
-
-    def point(label: str, t: float) -> NightPoint:
-        v = v_at(t)
-        on = bool(math.isfinite(v) and (lasts or t < runtime))
-        figs = load.at(v) if (load is not None and on) else None
-        get = (lambda k: float(figs[k])) if figs else (lambda k: math.nan)
-        return NightPoint(
-            label=label, t_s=t, clock=_clock(dusk, t), v_v=v, lit=on,
-            supply_avg_a=get("supply_avg_a"), period_s=get("period_s"), flash_s=get("flash_s"),
-            led_peak_a=get("led_peak_a"), effective_a=get("effective_a"),
-            effective_cd=get("effective_cd"),
-        )
-
-    figures = (point("dusk", 0.0), point("midnight", duration_s / 2), point("dawn", duration_s))
-
-    t_grid = np.linspace(0.0, duration_s, TIMELINE_POINTS)
-    v_grid = np.full_like(t_grid, math.nan)
-    if sol is not None:
-        inside = t_grid <= runtime
-        v_grid[inside] = sol.sol(t_grid[inside])[0]
-    else:
-        v_grid[0] = v_start_v
-    if load is not None and sol is not None:
-        eff_a = np.interp(v_grid, load.supply_v, load.effective_a)
-        eff_cd = np.interp(v_grid, load.supply_v, load.effective_cd)
-        eff_a[~np.isfinite(v_grid)] = math.nan
-        eff_cd[~np.isfinite(v_grid)] = math.nan
-    else:
-        eff_a = np.full_like(t_grid, math.nan)
-        eff_cd = np.full_like(t_grid, math.nan)
-    timeline = NightTimeline(t_s=t_grid, v_v=v_grid, effective_a=eff_a, effective_cd=eff_cd)
-
-    # reasons, assumptions, warnings
-    if lasts:
-        reason = "lasts the night"
-    elif runtime == 0.0 and math.isinf(v_stop) and load.lit_band_v() is not None:
-        band_top = load.lit_band_v()[1]
-        reason = (
-            f"the start {v_start_v:.2f} V is over the highest supply the circuit runs at "
-            f"({band_top:.2f} V, the top of the chip's supply range): it is dark there; start "
-            f"at or under {band_top:.2f} V"
-        )
-    elif runtime == 0.0 and math.isinf(v_stop):
-        reason = (
-            f"the light never starts: the circuit is not lit even at {load.supply_v[-1]:.2f} V, "
-            "the top of its load curve"
-        )
-    elif runtime == 0.0:
-        reason = (
-            f"the light never starts: {v_start_v:.2f} V is at or below the stop voltage "
-            f"{v_stop:.2f} V"
-        )
-    elif light_is_limit:
-        reason = (
-            f"below {v_stop:.2f} V the LED no longer reaches visible current or the chip "
-            "leaves its supply range"
-        )
-    elif stop_at_v is None:
-        reason = "the storage is empty (0 V)"
-    else:
-        reason = f"the storage reaches the stop voltage {v_stop:.2f} V"
+    figures = _night_figures(run, load, dusk, v_start_v, duration_s, lasts)
+    timeline = _night_timeline(run, load, v_start_v, duration_s)
+    reason = stop_reason(load, v_start_v, v_stop, runtime, lasts, light_is_limit, stop_at_v)
 
     usable = 1.0 - (v_end / v_start_v) ** 2  # E = C V^2 / 2 (ref:panasonic-gold-cap)
     energy_used = float(storage.energy_j(v_start_v, c) - storage.energy_j(v_end, c))
     result_charges = state_end[2:5]
-
-    assumptions = [
-        f"capacitance {format_eng(c, 'F')}"
-        + (" (nominal)" if capacitance_f is None else " (given)")
-        + (
-            f"; the part's tolerance spans {format_eng(storage.capacitance_min_f, 'F')} to "
-            f"{format_eng(storage.capacitance_max_f, 'F')}"
-            if storage.tol_minus_pct or storage.tol_plus_pct
-            else ""
-        ),
-    ]
-    if storage_leak_a is not None:
-        assumptions.append(f"storage leakage fixed at {format_eng(storage_leak_a, 'A')} (given)")
-    else:
-        level = storage.leak_settled_a if leak_level == "settled" else storage.leak_max_a
-        assumptions.append(
-            f"storage leakage: {leak_level} level {format_eng(level, 'A')} at the rated "
-            f"voltage, in proportion to the voltage, {storage.leak_initial_multiple:g} times "
-            f"higher right after charging and falling with a "
-            f"{storage.leak_decay_s / 3600:g} h time constant (estimate); "
-            f"charged {t_since_charge_s / 3600:g} h before dusk"
-        )
-    if load is not None:
-        assumptions.append(
-            "the circuit is its average supply current at each voltage (each flash is spread "
-            "over its period); the ESR drop during flashes is not in the budget"
-        )
-        if math.isfinite(light_stop):
-            assumptions.append(
-                f"the light's stop voltage {light_stop:.3g} V is resolved to the load curve's "
-                "grid step"
-            )
-        assumptions.extend(load.notes)
-    else:
-        assumptions.append("bare storage budget: no circuit, only the extra load and leakage")
-
-    warnings = []
-    if v_start_v > storage.v_rated_v:
-        warnings.append(
-            f"start voltage {v_start_v:.2f} V is above the storage rating {storage.v_rated_v:.2f} V"
-        )
-    shares = (
-        result_charges / result_charges.sum() if result_charges.sum() > 0 else np.zeros(3)
-    )
-    if shares[1] > LEAK_SHARE_WARNING:
-        warnings.append(
-            f"storage leakage takes {shares[1]:.0%} of the drained charge; a part that has "
-            "settled at voltage for days leaks far less than its datasheet maximum"
-        )
-    if load is not None:
-        if v_start_v > load.supply_v[-1] + 1e-9:
-            warnings.append(
-                f"start voltage {v_start_v:.2f} V is above the load curve's highest supply "
-                f"{load.supply_v[-1]:.2f} V; the circuit's figures there are held at that value"
-            )
-        peak = load.led_peak_a[np.isfinite(load.led_peak_a)]
-        if peak.size:
-            drop = storage.esr_ohm * float(peak.max())
-            if drop > ESR_DROP_WARNING_V:
-                warnings.append(
-                    f"the storage ESR ({format_eng(storage.esr_ohm, 'Ω')}) drops {drop:.2f} V at "
-                    "the LED peak current: flashes will be dimmer than the figures and the "
-                    "light may stop earlier"
-                )
-    if runtime == 0.0 and not lasts:
-        warnings.append(reason)
-    dim = dimming_note(figures) if lasts else None
-    if dim is not None:
-        warnings.append(dim)
-    if not success:
-        warnings.append(f"the integrator did not finish: {message}")
-
+    assumptions = night_assumptions(storage, load, c, capacitance_f, storage_leak_a, leak_level,
+                                    t_since_charge_s, light_stop)
+    warnings = night_warnings(storage, load, v_start_v, result_charges, runtime, lasts, reason,
+                              figures, run.success, run.message)
     cautions = tuple(storage_cautions(storage, v_start_v, "The start voltage")) + GENERAL_CAUTIONS
 
     return NightResult(
@@ -444,7 +365,7 @@ def simulate_night(
         charge_circuit_c=float(result_charges[0]), charge_leak_c=float(result_charges[1]),
         charge_extra_c=float(result_charges[2]), figures=figures, timeline=timeline,
         assumptions=tuple(assumptions), warnings=tuple(warnings), cautions=cautions,
-        success=success, message=message,
+        success=run.success, message=run.message,
     )
 
 

@@ -6,8 +6,8 @@ the storage's rating the advice is a shunt clamp (a zener or a TL431-style shunt
 under the rating, rounded down to 0.1 V (common practice, like the usual 2.4 V zener across
 a 2.7 V cell), sized for the panel's full-sun short-circuit current.
 
-Used by ``solve``, ``night`` and the buy list wherever a design names a panel and a storage
-(``day`` computes the same in :func:`pulsepick.analysis.day.simulate_days`).
+Used by ``solve``, ``night`` and the buy list wherever a design names a panel and a storage,
+and by ``day`` (:func:`pulsepick.analysis.day.simulate_days`).
 """
 
 from __future__ import annotations
@@ -16,10 +16,14 @@ import math
 from dataclasses import dataclass
 
 from pulsepick.analysis.cautions import over_voltage_caution
-from pulsepick.analysis.day import CLAMP_DERATING, FULL_SUN_W_M2, diode_drop_v
+from pulsepick.analysis.chargepath import FULL_SUN_W_M2, diode_drop_v
 from pulsepick.parts.diode import DiodeModel
 from pulsepick.parts.panel import PanelModel
 from pulsepick.parts.storage import Storage
+
+# A proposed clamp sits some 8 % under the rating, like the common 2.4 V zener across a 2.7 V
+# cell (common practice); rounded down to 0.1 V.
+CLAMP_DERATING = 0.92
 
 
 @dataclass(frozen=True)
@@ -34,6 +38,8 @@ class ClampAdvice:
     isc_a: float  # A, the panel's full-sun short-circuit current
     cautions: tuple[str, ...]  # the over-voltage caution and the proposal, as sentences
     v_unclamped_v: float = math.nan  # V, Voc at full sun minus the diode drop (no clamp)
+    what: str = ""  # what v_possible_v is, as the subject of a caution sentence
+    proposal: str | None = None  # the sentence proposing the clamp (None: none proposed)
 
     @property
     def over(self) -> bool:
@@ -58,14 +64,15 @@ def clamp_advice(storage: Storage, panel: PanelModel, diode: DiodeModel,
     over = over_voltage_caution(storage, v_possible, what)
     if over:
         cautions.append(over)
-    proposed = proposed_w = None
+    proposed = proposed_w = proposal = None
     if clamp_v is None and v_possible > storage.v_rated_v:
         proposed = math.floor(CLAMP_DERATING * storage.v_rated_v * 10.0 + 1e-9) / 10.0
         proposed_w = proposed * isc
-        cautions.append(
+        proposal = (
             f"Proposed: a shunt clamp (zener or TL431-style shunt) across the storage at "
             f"{proposed:.1f} V; at the panel's full-sun short-circuit current {isc * 1e3:.0f} mA "
             f"it dissipates up to {proposed_w * 1e3:.0f} mW. Or choose a storage rated at "
             f"{v_possible:.1f} V or more.")
+        cautions.append(proposal)
     return ClampAdvice(v_possible, storage.v_rated_v, clamp_v, proposed, proposed_w, isc,
-                       tuple(cautions), voc - diode_drop_v(diode))
+                       tuple(cautions), voc - diode_drop_v(diode), what=what, proposal=proposal)

@@ -39,15 +39,15 @@ from pulsepick.commands.pictures import (
 )
 from pulsepick.commands.wording import CLASS_LABELS
 from pulsepick.errors import PulsepickError, RequestError
-from pulsepick.render import (
+from pulsepick.output.render import (
     dump_json,
     make_console,
     plot_columns,
     print_wrapped,
     simple_table,
 )
-from pulsepick.textplot import spread_lines
-from pulsepick.units import format_eng, format_rkm, parse_quantity, parse_range
+from pulsepick.output.textplot import spread_lines
+from pulsepick.units import format_eng, format_pct, format_rkm, parse_quantity, parse_range
 
 NAME = "bands"
 SUMMARY = "compare tolerance bands: period spread and yield, E12/E24/E96 against capacitor classes"
@@ -208,8 +208,7 @@ def run(args) -> int:
     return 0
 
 
-def _pct(x: float, digits: int = 0) -> str:
-    return "-" if not math.isfinite(x) else f"{x * 100:.{digits}f} %"
+_pct = format_pct
 
 
 def _values_line(design) -> str:

@@ -128,7 +128,7 @@ def _tolerances(args, design) -> tuple[float, tuple[float, float]]:
 
 
 def run(args) -> int:
-    from pulsepick.render import dump_json, make_console
+    from pulsepick.output.render import dump_json, make_console
 
     family = _family(args.family)
     supply = parse_quantity(args.supply, "voltage", bare_ok=True)
@@ -148,12 +148,12 @@ def run(args) -> int:
     if args.supply_current:
         current = parse_quantity(args.supply_current, "current")
     if args.save:
-        from pulsepick.export import check_target
+        from pulsepick.output.export import check_target
 
         check_target(args.save, args.force, "--save")
     cal = calibrate(design, timing, r_tol_pct=r_tol, c_tol_pct=c_tol)
     if args.save:
-        from pulsepick.export import write_atomic
+        from pulsepick.output.export import write_atomic
         from pulsepick.parts.chipprofile import ChipProfile, profile_text
 
         profile = ChipProfile(family=family, supply_v=supply, vt_plus_v=round(cal.vt_plus_v, 4),
@@ -191,7 +191,7 @@ def _ordinal_pct(p: float) -> str:
 
 
 def render(console, cal, family: str, supply: float, saved) -> None:
-    from pulsepick.render import print_wrapped
+    from pulsepick.output.render import print_wrapped
 
     d = cal.design
     values = "  ".join(f"{'R' if k.startswith('r') else 'C'} "
@@ -224,7 +224,7 @@ def render(console, cal, family: str, supply: float, saved) -> None:
 
 def _run_recipe(args, family: str, supply: float, led) -> int:
     from pulsepick.analysis.cautions import LOW_VOLTAGE_ONLY
-    from pulsepick.render import dump_json, make_console, print_wrapped
+    from pulsepick.output.render import dump_json, make_console, print_wrapped
 
     rs = cs = None
     if args.stock:

@@ -19,14 +19,14 @@ from pulsepick.commands.pictures import (
 )
 from pulsepick.commands.wording import FIGURE_ROWS
 from pulsepick.design import Design
-from pulsepick.render import (
+from pulsepick.output.render import (
     dump_json,
     make_console,
     plot_columns,
     print_wrapped,
     simple_table,
 )
-from pulsepick.textplot import waveform_lines
+from pulsepick.output.textplot import waveform_lines
 from pulsepick.units import format_eng, format_rkm
 
 NAME = "check"

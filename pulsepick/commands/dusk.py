@@ -13,17 +13,13 @@ import math
 from pulsepick import __version__
 from pulsepick.analysis.cautions import GENERAL_CAUTIONS
 from pulsepick.analysis.dusk import DuskResult, Level, bleed_for_dusk, dusk_levels
-from pulsepick.commands.day import (
-    add_panel_arguments,
-    key_value_table,
-    print_list,
-    quantity,
-    read_panel,
-)
+from pulsepick.commands.day_report import key_value_table, print_list
+from pulsepick.commands.night_options import quantity
+from pulsepick.commands.panel_options import add_panel_arguments, read_panel
 from pulsepick.errors import RequestError
+from pulsepick.output.render import dump_json, make_console, simple_table
 from pulsepick.parts.diode import get_diode
 from pulsepick.parts.logic import FAMILY_KEYS, get_family
-from pulsepick.render import dump_json, make_console, simple_table
 from pulsepick.series import SERIES_NAMES
 
 NAME = "dusk"
@@ -201,13 +197,9 @@ def result_json(r: DuskResult) -> dict:
 
 
 def _eng(value: float, unit: str) -> str:
-    from pulsepick.units import format_eng
+    from pulsepick.units import format_figure
 
-    if not math.isfinite(value):
-        return "-"
-    if value == 0:
-        return f"0 {unit}"
-    return format_eng(value, unit)
+    return format_figure(value, unit)
 
 
 def _lux(value: float) -> str:

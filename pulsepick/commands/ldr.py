@@ -102,7 +102,7 @@ def run(args) -> int:
     from pulsepick.analysis.ldr import LdrNetwork, ldr_rate, solve_clamp, timing_param
     from pulsepick.commands.circuit_options import design_from_args
     from pulsepick.errors import RequestError
-    from pulsepick.render import dump_json, make_console
+    from pulsepick.output.render import dump_json, make_console
     from pulsepick.units import parse_range, parse_value
 
     ldr = _photoresistor(args)
@@ -203,11 +203,8 @@ def _json(result, clamp) -> dict:
 
 def render(console, result, clamp) -> None:
     """The terminal report."""
-    from pulsepick.render import print_wrapped, simple_table
-    from pulsepick.units import format_eng
-
-    def eng(x, unit):
-        return "-" if x is None or not math.isfinite(x) else format_eng(x, unit)
+    from pulsepick.output.render import print_wrapped, simple_table
+    from pulsepick.units import format_figure as eng
 
     net = result.network
     console.print(f"[bold]pulsepick ldr[/bold]: {net.ldr.name} in place of "

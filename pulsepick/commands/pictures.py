@@ -4,8 +4,8 @@ Shell only. Each command calls :func:`add_picture_arguments` for its options,
 :func:`check_picture_targets` before its work (so a bad suffix, a missing plot extra
 or an existing file is refused before a long run), and then its own
 ``*_pictures(args, ...)`` function with the results it computed. Those functions turn
-result objects into the views of :mod:`pulsepick.plot` and the document of
-:mod:`pulsepick.htmlreport`, run the analyses a report needs and the command did not
+result objects into the views of :mod:`pulsepick.output.plot` and the document of
+:mod:`pulsepick.output.htmlreport`, run the analyses a report needs and the command did not
 (a spread, a drift) through the core, and write the files atomically: a temporary
 file in the same folder, then ``os.replace``. An existing file is replaced only with
 ``--force``, as with the buy list.
@@ -24,8 +24,8 @@ import numpy as np
 
 from pulsepick import __version__
 from pulsepick.errors import ExportError, PulsepickError, RequestError, echo
-from pulsepick.export import write_atomic
-from pulsepick.htmlreport import (
+from pulsepick.output.export import write_atomic
+from pulsepick.output.htmlreport import (
     Cell,
     Image,
     Items,
@@ -36,7 +36,7 @@ from pulsepick.htmlreport import (
     Table,
     render_html,
 )
-from pulsepick.plot import (
+from pulsepick.output.plot import (
     FIGURE_PIXELS,
     PLOT_EXTRA_MESSAGE,
     DriftView,
@@ -48,7 +48,7 @@ from pulsepick.plot import (
     plot_available,
     require_matplotlib,
 )
-from pulsepick.units import format_eng, format_rkm
+from pulsepick.units import format_eng, format_figure, format_pct, format_rkm
 
 REPORT_SUFFIXES = (".html", ".htm")
 NO_IMAGES = ("No pictures in this report: the plot extra (matplotlib) is not installed. "
@@ -90,7 +90,7 @@ def check_picture_targets(args, inputs=(), *, with_buylist: bool = False) -> Non
     profile files): one :class:`PulsepickError`. ``with_buylist`` checks ``--buylist``
     too (before the search; it is written before the pictures).
     """
-    from pulsepick.export import check_outputs
+    from pulsepick.output.export import check_outputs
 
     plot, report = getattr(args, "plot", None), getattr(args, "report", None)
     force = bool(getattr(args, "force", False))
@@ -112,7 +112,7 @@ def check_picture_targets(args, inputs=(), *, with_buylist: bool = False) -> Non
 
 
 def write_file_atomic(path: str, data: bytes, *, force: bool = False) -> None:
-    """Write ``data`` to ``path`` atomically (see :func:`pulsepick.export.write_atomic`).
+    """Write ``data`` to ``path`` atomically (see :func:`pulsepick.output.export.write_atomic`).
 
     Raises :class:`ExportError` (nothing written) when the file exists and ``force``
     is False, the folder is missing, or the write fails.
@@ -148,7 +148,7 @@ def announce(args, lines: list[str]) -> None:
         for line in lines:
             print(f"pulsepick: {line}", file=sys.stderr)
         return
-    from pulsepick.render import make_console
+    from pulsepick.output.render import make_console
 
     console = make_console()
     for line in lines:
@@ -252,13 +252,7 @@ _CAPTIONS = {
 
 # ============================================================================ report pieces
 
-def eng(value, unit: str) -> str:
-    """A number as the terminal reports print it: engineering notation, '-' if missing."""
-    if value is None or not isinstance(value, (int, float)) or not math.isfinite(value):
-        return "-"
-    if unit == "mcd":
-        return f"{value:.3g} mcd"
-    return format_eng(value, unit)
+eng = format_figure  # a number as the reports print it: engineering notation, '-' if missing
 
 
 def num(value, unit: str, si_unit: str | None = None) -> Cell:
@@ -267,8 +261,7 @@ def num(value, unit: str, si_unit: str | None = None) -> Cell:
     return Cell(eng(v, unit), v, si_unit if si_unit is not None else unit)
 
 
-def _pct(x: float | None, digits: int = 0) -> str:
-    return "-" if x is None or not math.isfinite(x) else f"{x * 100:.{digits}f} %"
+_pct = format_pct
 
 
 def values_rows(design) -> tuple[tuple[Cell | str, ...], ...]:
@@ -284,7 +277,7 @@ def values_rows(design) -> tuple[tuple[Cell | str, ...], ...]:
 
 def schematic_block(design, lines):
     """The schematic of a design as an SVG block (a note when schemdraw is missing)."""
-    from pulsepick.schematic import SchematicError, schematic_svg
+    from pulsepick.output.schematic import SchematicError, schematic_svg
 
     try:
         return Svg(f"Schematic: {design.topo.label()}", schematic_svg(design, tuple(lines)))

@@ -143,7 +143,7 @@ def measured_from_args(args) -> Measured:
 
 
 def run(args) -> int:
-    from pulsepick.render import dump_json, make_console
+    from pulsepick.output.render import dump_json, make_console
 
     if args.top < 1:
         raise RequestError(f"--top {args.top}: give at least 1")
@@ -159,7 +159,7 @@ def run(args) -> int:
         if name.strip().upper() not in SERIES_NAMES:
             raise RequestError(f"{opt} {name!r}: accepted: {', '.join(SERIES_NAMES)}")
     if args.buylist:
-        from pulsepick.export import check_outputs
+        from pulsepick.output.export import check_outputs
 
         check_outputs([("--buylist", args.buylist)], [args.stock, args.design],
                       force=args.force)
@@ -169,7 +169,7 @@ def run(args) -> int:
                     r_series=args.series.strip().upper(),
                     c_series=args.cap_series.strip().upper(), stock=stock, top=args.top)
     if args.buylist and result.changes:
-        from pulsepick.export import write_atomic
+        from pulsepick.output.export import write_atomic
 
         write_atomic(args.buylist, buylist_text(result), force=args.force)
     if args.json:
@@ -227,9 +227,9 @@ def new_part_lines(change) -> tuple:
 
 def buylist_text(result) -> str:
     """The buy list of change 1's new parts, in the buy-list format of
-    :mod:`pulsepick.export` (BOM, header first, provenance columns, safe cells)."""
+    :mod:`pulsepick.output.export` (BOM, header first, provenance columns, safe cells)."""
     from pulsepick import __version__
-    from pulsepick.export import part_rows, today, write_buylist_csv
+    from pulsepick.output.export import part_rows, today, write_buylist_csv
 
     c = result.changes[0]
     provenance = {
@@ -245,7 +245,7 @@ def buylist_text(result) -> str:
 
 def render(console, r, buylist) -> None:
     from pulsepick.analysis.cautions import NOT_A_SAFETY_LIGHT
-    from pulsepick.render import print_wrapped, simple_table
+    from pulsepick.output.render import print_wrapped, simple_table
 
     now = r.predicted_now
     console.print(f"[bold]Retune[/bold] {r.design.label()} at {r.design.supply_v:g} V")

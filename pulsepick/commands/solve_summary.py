@@ -4,7 +4,7 @@ About 60 lines at 100 columns: the request and its assumptions folded into a few
 wrapped lines, the ranked circuits (parts as RKM codes, the builds' median period,
 P5..P95, yield, flash, peak and whether the circuit lasts the night), then the
 best circuit's parts, key figures, spread and warnings, and the cautions. The full
-report of every candidate is ``--detail`` (:func:`pulsepick.commands.solve.render_detail`).
+report of every candidate is ``--detail`` (:func:`pulsepick.commands.solve_report.render_detail`).
 """
 
 from __future__ import annotations
@@ -138,8 +138,8 @@ def assumptions_text(req) -> str:
 def render_summary(console, result, *, buylist: str | None = None, pick: int = 1,
                    schematic: bool = False) -> None:
     """The compact report of a solver result (see the module docstring)."""
-    from pulsepick.export import solve_cautions
-    from pulsepick.render import print_wrapped
+    from pulsepick.output.export import solve_cautions
+    from pulsepick.output.render import print_wrapped
 
     req = result.request
     console.print(f"[bold]pulsepick solve[/bold]: {req.describe()}", highlight=False)
@@ -167,7 +167,7 @@ def render_summary(console, result, *, buylist: str | None = None, pick: int = 1
 
 def render_block(console, req, c, *, schematic: bool = False) -> None:
     """One short block for a candidate: parts, key figures, spread, night, warnings."""
-    from pulsepick.render import print_wrapped, simple_table
+    from pulsepick.output.render import print_wrapped, simple_table
 
     d = c.design
     console.print(f"[bold]#{c.rank}  {d.topo.label()}[/bold] on {d.chip.family}, "
@@ -216,7 +216,7 @@ def render_block(console, req, c, *, schematic: bool = False) -> None:
     for text in list(c.notes) + list(c.warnings):
         _bullet(console, text, indent="  ! ", hang="    ")
     if schematic:
-        from pulsepick.schematic import schematic_lines
+        from pulsepick.output.schematic import schematic_lines
 
         console.print()
         for line in schematic_lines(c.design, c.parts):

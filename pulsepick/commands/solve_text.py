@@ -3,21 +3,18 @@ notation, wrapped bullets, the cautions, and what a request cannot meet."""
 
 from __future__ import annotations
 
-import math
-
 
 def _eng(x, unit: str, digits: int = 3) -> str:
     """Engineering text of a figure; times as the solver words them; "-" when missing."""
     from pulsepick.solve import time_text
-    from pulsepick.units import format_eng
+    from pulsepick.units import MISSING, format_figure
 
-    if x is None or not isinstance(x, (int, float)) or not math.isfinite(x):
-        return "-"
-    return time_text(x) if unit == "s" else format_eng(x, unit, digits)
+    text = format_figure(x, unit, digits)
+    return time_text(x) if unit == "s" and text != MISSING else text
 
 
 def _bullet(console, text: str, indent: str = "  - ", hang: str = "    ") -> None:
-    from pulsepick.render import print_wrapped
+    from pulsepick.output.render import print_wrapped
 
     print_wrapped(console, text, indent=indent, hang=hang)
 
@@ -48,3 +45,15 @@ def render_unmet(console, result, cautions) -> bool:
     console.print()
     _render_cautions(console, cautions)
     return True
+
+
+def _nothing_line(what: str, explanations) -> None:
+    """The one stderr line of a request that gets nothing (the reasons are on stdout)."""
+    import sys
+
+    from pulsepick.output.render import word_hints
+
+    first = word_hints(next(iter(explanations), ""))
+    reason = f": {first}" if first else ""
+    print(f"pulsepick: error: nothing can be offered for \"{what}\"{reason}",
+          file=sys.stderr)

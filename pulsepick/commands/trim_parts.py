@@ -71,7 +71,7 @@ def add_trim_json(out: dict, plans: dict[int, TrimPlan]) -> dict:
 
 
 def render_trim(console, plans: dict[int, TrimPlan]) -> None:
-    from pulsepick.render import print_wrapped
+    from pulsepick.output.render import print_wrapped
 
     console.print("[bold]Trimmers[/bold] (--trim)")
     if not plans:

@@ -16,7 +16,7 @@ from typing import Any
 
 from pulsepick.colour import bands_for
 from pulsepick.errors import PulsepickError, RequestError
-from pulsepick.render import dump_json, make_console, simple_table
+from pulsepick.output.render import dump_json, make_console, simple_table
 from pulsepick.series import (
     SERIES_NAMES,
     Series,

@@ -311,56 +311,14 @@ def custom_family(
     PartError
         unless 0 < VT- < VT+ < VDD and rout > 0.
     """
-    if not vdd > 0:
-        raise PartError(f"measurement supply must be above 0 V, got {vdd} V")
-    if rout is not None and not rout > 0:
-        raise PartError(f"measured output resistance must be above 0 ohm, got {rout} ohm")
-    if rout is not None and not vdd > base.cross_vt_v:
-        raise PartError(
-            f"output resistance measured at {vdd:g} V cannot be scaled; accepted: a supply "
-            f"above {base.cross_vt_v:g} V (the family's transistor threshold estimate)"
-        )
+    _check_measurement(base, vdd, rout)
     t = base.thresholds(vdd)
-    measured = []
-    if vt_plus is None:
-        vp = (float(t.vt_plus_min), float(t.vt_plus_typ), float(t.vt_plus_max))
-    else:
-        vp = (vt_plus,) * 3
-        measured.append(f"VT+ {vt_plus:g} V")
-    if vt_minus is None:
-        vm = (float(t.vt_minus_min), float(t.vt_minus_typ), float(t.vt_minus_max))
-    else:
-        vm = (vt_minus,) * 3
-        measured.append(f"VT- {vt_minus:g} V")
-    if not 0 < vm[1] < vp[1] < vdd:
-        raise PartError(
-            f"thresholds VT- {vm[1]:g} V and VT+ {vp[1]:g} V at {vdd:g} V are impossible; "
-            "accepted: 0 < VT- < VT+ < VDD"
-        )
+    vp, vm, measured = _measured_thresholds(t, vdd, vt_plus, vt_minus)
     changes: dict[str, object] = {}
     if measured:
-        # the hysteresis window implied by the thresholds, kept inside the base family's
-        # VH limits where they overlap
-        vh_lo = max(vp[0] - vm[2], 0.0)
-        vh_hi = vp[2] - vm[0]
-        if vt_plus is None or vt_minus is None:
-            lo, hi = max(vh_lo, float(t.vh_min)), min(vh_hi, float(t.vh_max))
-            if lo <= hi:
-                vh_lo, vh_hi = lo, hi
-        # a measured threshold may sit outside the base row's limits: widen them to match
-        point = ThresholdPoint(
-            vdd_v=float(vdd),
-            vt_plus_min=vp[0],
-            vt_plus_typ=vp[1],
-            vt_plus_max=vp[2],
-            vt_minus_min=min(vm[0], vm[1]),
-            vt_minus_typ=vm[1],
-            vt_minus_max=max(vm[2], vm[1]),
-            vh_min=vh_lo,
-            vh_max=max(vh_hi, vh_lo),
-            source="user measurement: " + ", ".join(measured) + f" at {vdd:g} V",
+        changes["threshold_points"] = (
+            _measured_point(t, vdd, vp, vm, vt_plus is None or vt_minus is None, measured),
         )
-        changes["threshold_points"] = (point,)
     if rout is not None:
         changes.update(
             rout_high_typ_ohm=rout,
@@ -377,4 +335,66 @@ def custom_family(
         name=f"{base.name}, measured at {vdd:g} V",
         source_notes=(*base.source_notes, "user measurement: " + ", ".join(measured)),
         **changes,
+    )
+
+
+def _check_measurement(base: LogicFamily, vdd: float, rout: float | None) -> None:
+    """Refuse a measurement supply or output resistance the family cannot take."""
+    if not vdd > 0:
+        raise PartError(f"measurement supply must be above 0 V, got {vdd} V")
+    if rout is not None and not rout > 0:
+        raise PartError(f"measured output resistance must be above 0 ohm, got {rout} ohm")
+    if rout is not None and not vdd > base.cross_vt_v:
+        raise PartError(
+            f"output resistance measured at {vdd:g} V cannot be scaled; accepted: a supply "
+            f"above {base.cross_vt_v:g} V (the family's transistor threshold estimate)"
+        )
+
+
+def _measured_thresholds(t, vdd: float, vt_plus: float | None, vt_minus: float | None):
+    """(VT+ min, typ, max), (VT- min, typ, max) at ``vdd`` with the measured ones in place,
+    and the measured thresholds in words."""
+    measured = []
+    if vt_plus is None:
+        vp = (float(t.vt_plus_min), float(t.vt_plus_typ), float(t.vt_plus_max))
+    else:
+        vp = (vt_plus,) * 3
+        measured.append(f"VT+ {vt_plus:g} V")
+    if vt_minus is None:
+        vm = (float(t.vt_minus_min), float(t.vt_minus_typ), float(t.vt_minus_max))
+    else:
+        vm = (vt_minus,) * 3
+        measured.append(f"VT- {vt_minus:g} V")
+    if not 0 < vm[1] < vp[1] < vdd:
+        raise PartError(
+            f"thresholds VT- {vm[1]:g} V and VT+ {vp[1]:g} V at {vdd:g} V are impossible; "
+            "accepted: 0 < VT- < VT+ < VDD"
+        )
+    return vp, vm, measured
+
+
+def _measured_point(t, vdd: float, vp, vm, one_measured: bool,
+                    measured: list[str]) -> ThresholdPoint:
+    """The threshold row at ``vdd`` for measured thresholds (``one_measured``: only one of
+    the two was measured, the other keeps the base family's limits)."""
+    # the hysteresis window implied by the thresholds, kept inside the base family's
+    # VH limits where they overlap
+    vh_lo = max(vp[0] - vm[2], 0.0)
+    vh_hi = vp[2] - vm[0]
+    if one_measured:
+        lo, hi = max(vh_lo, float(t.vh_min)), min(vh_hi, float(t.vh_max))
+        if lo <= hi:
+            vh_lo, vh_hi = lo, hi
+    # a measured threshold may sit outside the base row's limits: widen them to match
+    return ThresholdPoint(
+        vdd_v=float(vdd),
+        vt_plus_min=vp[0],
+        vt_plus_typ=vp[1],
+        vt_plus_max=vp[2],
+        vt_minus_min=min(vm[0], vm[1]),
+        vt_minus_typ=vm[1],
+        vt_minus_max=max(vm[2], vm[1]),
+        vh_min=vh_lo,
+        vh_max=max(vh_hi, vh_lo),
+        source="user measurement: " + ", ".join(measured) + f" at {vdd:g} V",
     )

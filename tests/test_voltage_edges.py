@@ -1,4 +1,4 @@
-"""Fixes from a user review: the stop voltage over the chip's range, the design file's night
+"""Voltages at the edges: the stop voltage over the chip's range, the design file's night
 in ``day``, the over-range start in ``night`` and bare voltages everywhere."""
 
 import json

@@ -31,7 +31,7 @@ from pulsepick.commands.pictures import (
     wants_pictures,
     wave_view,
 )
-from pulsepick.htmlreport import Cell, Items, Paragraph, Report, Section, Table
+from pulsepick.output.htmlreport import Cell, Items, Paragraph, Report, Section, Table
 
 
 def build_night(design_file, result):

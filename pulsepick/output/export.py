@@ -32,7 +32,7 @@ import tempfile
 from typing import Any
 
 from pulsepick.errors import ExportError
-from pulsepick.render import word_hints
+from pulsepick.output.render import word_hints
 
 BUYLIST_COLUMNS = ("qty", "refs", "kind", "value", "value_si", "unit", "code", "series",
                    "tolerance", "dielectric", "rating", "bands", "notes")

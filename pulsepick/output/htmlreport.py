@@ -23,7 +23,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 from pulsepick.analysis.cautions import NOT_A_SAFETY_LIGHT
-from pulsepick.render import word_hints
+from pulsepick.output.render import word_hints
 
 
 @dataclass(frozen=True)

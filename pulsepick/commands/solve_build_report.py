@@ -1,0 +1,174 @@
+"""The terminal report of a several-lights ``pulsepick solve``.
+
+One summary screen (the lights, the packages, the lock risk, spread-out periods, dusk
+gating, the energy budget, warnings and the verdict), then one screen per light with its
+parts, then the cautions.
+"""
+
+from __future__ import annotations
+
+from pulsepick.commands.solve_lock import render_lock_risks
+from pulsepick.commands.solve_text import _eng, _render_cautions
+
+
+def render_build(console, result, *, buylist: str | None = None, storage: bool = False,
+                 night=None, cautions=()) -> None:
+    """The terminal report of a several-lights build (readable at 100 columns).
+
+    ``storage``: the build names a storage part (the supercapacitor caution applies).
+    ``night``: the design file's night (:class:`pulsepick.commands.design_night.DesignNight`).
+    ``cautions``: cautions of the charge path (over-voltage and the proposed clamp).
+    """
+    from pulsepick.output.export import solve_cautions
+    from pulsepick.output.render import print_wrapped
+
+    breq = result.request
+    names = [li.name for li in result.lights]
+    console.print(f"[bold]pulsepick solve[/bold]: {breq.describe()}", highlight=False)
+    console.print()
+    _render_lights_table(console, result)
+    if result.plan is None:
+        console.print(f"[bold]{result.message}[/bold]", highlight=False)
+        for w in result.warnings:
+            print_wrapped(console, w, indent="  - ", hang="    ")
+        console.print()
+        _render_cautions(console, tuple(cautions) + tuple(solve_cautions(breq, storage=storage)))
+        return
+    _render_packages(console, result.plan, names)
+    render_lock_risks(console, result, names)
+    _render_plan_notes(console, result)
+    _render_energy(console, result, night)
+    # the summary screen ends with the warnings and the verdict; then one screen per light
+    if result.warnings:
+        console.print("[bold]Warnings[/bold]")
+        for w in result.warnings:
+            print_wrapped(console, w, indent="  ! ", hang="    ")
+        console.print()
+    console.print(f"[bold]{result.message}[/bold]", highlight=False)
+    console.print()
+    _render_light_screens(console, result)
+    if buylist:
+        console.print(f"Buy list of the whole build written to {buylist}", markup=False)
+        console.print()
+    _render_cautions(console, tuple(cautions) + tuple(solve_cautions(breq, storage=storage)))
+
+
+def _render_lights_table(console, result) -> None:
+    """One row per light: asked and offered period, circuit, chip, flash, peak, supply."""
+    from pulsepick.output.render import simple_table
+
+    rows = []
+    for li in result.lights:
+        c = li.pick
+        if c is None:
+            rows.append([li.name, _eng(li.asked_s, "s"), "nothing offered", "", "", "", "",
+                         ""])
+            continue
+        f = c.figures
+        rows.append([li.name, _eng(li.asked_s, "s"), c.design.topo.label(),
+                     c.design.chip.family, _eng(f["period_s"], "s")
+                     + (" *" if li.moved else ""), _eng(f["flash_s"], "s"),
+                     _eng(f["led_peak_a"], "A"), _eng(f["supply_avg_a"], "A")])
+    console.print(simple_table(
+        "Lights" + (" (* period moved by --spread-out)" if any(li.moved for li in
+                                                              result.lights) else ""),
+        ["light", "asked", "circuit", "chip", "period", "flash", "peak", "supply"], rows,
+        justify=["left", "right", "left", "left", "right", "right", "right", "right"]))
+    console.print()
+
+
+def _render_packages(console, plan, names) -> None:
+    """The packages and the gates each one uses."""
+    from pulsepick.output.render import print_wrapped
+
+    console.print("[bold]Packages[/bold]")
+    print_wrapped(console, f"{plan.describe()}: {len(plan.packages)} package"
+                           f"{'s' if len(plan.packages) != 1 else ''}")
+    for p in plan.packages:
+        who = ", ".join(names[i] for i in p.lights) or "-"
+        extra = " + dusk detector" if p.dusk else ""
+        print_wrapped(console, f"U{p.number} {p.family}: {p.gates_used} gate"
+                               f"{'s' if p.gates_used != 1 else ''} ({who}{extra})")
+    console.print()
+
+
+def _render_plan_notes(console, result) -> None:
+    """The periods --spread-out moved and the dusk gating, when there are any."""
+    from pulsepick.output.render import print_wrapped
+
+    if result.spread_out is not None:
+        so = result.spread_out
+        console.print("[bold]Spread-out periods[/bold] (* in the table of lights)")
+        print_wrapped(console, so.message)
+        console.print()
+    if result.gating is not None:
+        g = result.gating
+        console.print(f"[bold]Dusk gating[/bold] ({g.detector_gates} gate"
+                      f"{'s' if g.detector_gates != 1 else ''})", highlight=False)
+        print_wrapped(console, g.arrangement)
+        console.print()
+
+
+def _render_energy(console, result, night) -> None:
+    """The energy budget of all lights over the night."""
+    from pulsepick.output.render import print_wrapped
+
+    console.print("[bold]Energy budget[/bold]")
+    night_s = 12 * 3600 if night is None else night.night_s
+    night_c = _eng(result.total_supply_a * night_s, "C")
+    night_words = "a 12 h night" if night is None else f"the {night.text}"
+    held = ("" if result.gating is None else
+            f"; held by day {_eng(result.gating.held_a, 'A')} besides the chips' quiescent "
+            "current")
+    print_wrapped(console, f"all lights draw {_eng(result.total_supply_a, 'A')} on average at "
+                           f"the design supply ({night_c} over {night_words}){held}; "
+                           "'pulsepick night' runs the storage")
+    if night is not None and night.note:
+        print_wrapped(console, night.note)
+    console.print()
+
+
+def _render_light_screens(console, result) -> None:
+    """One screen per light: its parts (a photoresistor network in place of the timing
+    resistor when the light sets the rate), notes and warnings."""
+    from pulsepick.output.render import print_wrapped, simple_table
+
+    rates = result.rates or {}
+    for i, li in enumerate(result.lights):
+        c = li.pick
+        console.print(f"[bold]{li.name}[/bold]: {c.design.topo.label()} on "
+                      f"{c.design.chip.family}, {c.design.supply_v:g} V", highlight=False)
+        own = c.parts
+        if i in rates:
+            from pulsepick.packing import rate_part_lines
+
+            own = rate_part_lines(rates[i], c.parts)
+        prow = [[p.ref, p.display, p.code, p.tolerance, p.dielectric or "-", p.role]
+                for p in own if p.kind != "chip"]
+        console.print(simple_table(None, ["ref", "value", "code", "tol", "kind", "role"], prow))
+        if i in rates:
+            print_wrapped(console, "rate set by the light: " + _rate_text(rates[i]),
+                          indent="  * ", hang="    ")
+        for w in list(c.notes) + list(c.warnings):
+            print_wrapped(console, w, indent="  - ", hang="    ")
+        console.print()
+
+
+def _rate_text(lr) -> str:
+    """One paragraph: the photoresistor network and the period it gives against light."""
+    import math
+
+    net, rate = lr.clamp.network, lr.rate
+    per, lux = rate.period_s["typ"], rate.lux
+    clamps = [f"{_eng(net.series_ohm, 'Ω')} in series" if net.series_ohm > 0 else "",
+              f"{_eng(net.parallel_ohm, 'Ω')} across it" if math.isfinite(net.parallel_ohm)
+              else ""]
+    clamps = [c for c in clamps if c]
+    return (f"{net.ldr.name} in place of the timing resistor"
+            + (f", with {' and '.join(clamps)}" if clamps else "")
+            + f": typical period {_eng(float(per[0]), 's')} at {lux[0]:g} lx, "
+            f"{_eng(float(per[-1]), 's')} at {lux[-1]:g} lx"
+            + ("" if rate.within_range is None else
+               "; every corner within " if rate.within_range else "; not every corner within ")
+            + (f"{_eng(rate.period_range_s[0], 's')}..{_eng(rate.period_range_s[1], 's')}"
+               if rate.period_range_s else ""))
