@@ -94,3 +94,16 @@ def test_tables_from_the_wheel_as_a_zip(installed, tmp_path):
     where, rows = out.stdout.split()
     assert where.startswith(str(wheel))
     assert int(rows) == 96  # E96 holds 96 values per decade (IEC 60063, ref:iec-60063)
+
+
+def test_every_subpackage_is_in_the_wheel_list():
+    # pyproject.toml lists the packages a wheel holds: a new folder must be added there
+    import tomllib
+
+    root = Path(__file__).resolve().parent.parent
+    listed = set(tomllib.loads((root / "pyproject.toml").read_text(encoding="utf-8"))
+                 ["tool"]["setuptools"]["packages"])
+    found = {".".join(p.parent.relative_to(root).parts)
+             for p in (root / "pulsepick").rglob("__init__.py")}
+    assert "pulsepick.units" in found
+    assert found - listed == set()

@@ -59,29 +59,77 @@ def make_request(
     Every problem is collected and reported in one :class:`RequestError`.
     ``led`` is a colour key (``"red"``) or an ``LedModel`` (a user-described LED).
     """
-    from pulsepick.parts.led import LED_KEYS, get_led
-    from pulsepick.series import get_series
-    from pulsepick.units import check_component, parse_quantity, parse_range, parse_value
+    o = _Collected()
+    targets = _read_targets(o, phrase, {"every": every, "flash": flash, "peak": peak,
+                                        "effective": effective, "intensity": intensity})
+    supply_v, supply_end = _read_supply(o, supply)
+    families = _read_families(o, family)
+    led_model = _read_led(o, led)
+    names = _read_series(o, series, cap_series)
+    timing_caps = _read_timing_caps(o, timing_cap)
+    r_vals = _read_r_range(o, min_r, max_r)
+    c_lo, c_hi = _read_cap_range(o, cap_range)
+    stage_list, core_list = _read_circuits(o, stages, cores, families, buffered)
+    stock_obj = _read_stock(o, stock)
+    ints = _read_counts(o, top, builds, seed)
+    o.choices["buffered"] = {None: "either", True: "yes", False: "no"}[buffered]
+    if buffered is None:
+        o.defaults.append("buffered")
+    problems, defaults, choices, opt = o.problems, o.defaults, o.choices, o.opt
 
-    problems: list[str] = []
-    defaults: list[str] = []
-    choices: dict[str, str] = {}
+    if targets is not None and led_model is not None and targets.intensity_cd is not None \
+            and led_model.mcd_per_a is None:
+        problems.append(f"the {led_model.name} LED has no intensity figure in our tables, so "
+                        "an intensity in mcd cannot be aimed at; give the brightness as a "
+                        "current (\"5 mA peak\", \"as bright as a steady 1 mA\") or choose "
+                        "an LED with intensity data (red, bright-red, green, white)")
+    if prefer is not None and prefer not in PREFER_CHOICES:
+        problems.append(f"--prefer {prefer!r}: accepted {', '.join(PREFER_CHOICES)}")
+    if problems:
+        raise RequestError("; ".join(problems))
+    assert targets is not None and supply_v is not None and c_lo is not None
+    return SolveRequest(
+        targets=targets, supply_v=supply_v, supply_end_v=supply_end, families=families,
+        led=led_model, r_series=names["series"], c_series=names["cap_series"],
+        timing_caps=timing_caps, r_min_ohm=r_vals["min_r"], r_max_ohm=r_vals["max_r"],
+        c_min_f=c_lo, c_max_f=c_hi, cores=core_list, stages=stage_list,
+        buffered=buffered, stock=stock_obj, top=ints["top"], builds=ints["builds"],
+        seed=ints["seed"], chip_overrides=dict(chip_overrides or {}),
+        prefer=opt("prefer", prefer, DEFAULT_PREFER), choices=choices,
+        defaults=tuple(defaults),
+    )
 
-    def opt(name: str, value: Any, default: Any) -> Any:
+
+class _Collected:
+    """What :func:`make_request` gathers while it reads the options: every problem, the
+    options left to their default, and the text of each choice."""
+
+    def __init__(self) -> None:
+        self.problems: list[str] = []
+        self.defaults: list[str] = []
+        self.choices: dict[str, str] = {}
+
+    def opt(self, name: str, value: Any, default: Any) -> Any:
         if value is None:
-            defaults.append(name)
+            self.defaults.append(name)
             value = default
-        choices[name] = str(value)
+        self.choices[name] = str(value)
         return value
 
-    targets = None
-    try:
-        targets = merge_targets(phrase, {"every": every, "flash": flash, "peak": peak,
-                                         "effective": effective, "intensity": intensity})
-    except RequestError as err:
-        problems.append(str(err))
 
-    supply_text = opt("supply", supply, DEFAULT_SUPPLY)
+def _read_targets(o: _Collected, phrase: str | None, flags: dict):
+    try:
+        return merge_targets(phrase, flags)
+    except RequestError as err:
+        o.problems.append(str(err))
+    return None
+
+
+def _read_supply(o: _Collected, supply: str | None) -> tuple[float | None, float | None]:
+    from pulsepick.units import parse_quantity, parse_range
+
+    problems = o.problems
+    supply_text = o.opt("supply", supply, DEFAULT_SUPPLY)
     supply_v = supply_end = None
     try:
         if ".." in supply_text or "\u2026" in supply_text:
@@ -93,67 +141,100 @@ def make_request(
             supply_v = parse_quantity(supply_text, "voltage", bare_ok=True)
     except PulsepickError as err:
         problems.append(f"--supply {supply_text!r}: {err}")
+    return supply_v, supply_end
 
-    family_text = opt("family", family, DEFAULT_FAMILY).strip().lower()
+
+def _read_families(o: _Collected, family: str | None) -> tuple[str, ...]:
+    family_text = o.opt("family", family, DEFAULT_FAMILY).strip().lower()
     families: tuple[str, ...] = ()
     try:
         words = _split_list(family_text, FAMILY_CHOICES, "--family")
         families = tuple(f for f in FAMILY_CHOICES if f != "any" and
                          ("any" in words or f in words))
     except RequestError as err:
-        problems.append(str(err))
+        o.problems.append(str(err))
+    return families
+
+
+def _read_led(o: _Collected, led: Any):
+    from pulsepick.parts.led import LED_KEYS, get_led
 
     led_model = None
-    led_value = opt("led", led, DEFAULT_LED)
+    led_value = o.opt("led", led, DEFAULT_LED)
     if isinstance(led_value, str):
         try:
             led_model = get_led(led_value.strip().lower())
         except PulsepickError:
-            problems.append(f"--led {led_value!r} unknown; accepted: {', '.join(LED_KEYS)} "
-                            "(or describe your own LED)")
+            o.problems.append(f"--led {led_value!r} unknown; accepted: {', '.join(LED_KEYS)} "
+                              "(or describe your own LED)")
     else:
         led_model = led_value
-        choices["led"] = getattr(led_value, "key", "custom")
+        o.choices["led"] = getattr(led_value, "key", "custom")
+    return led_model
+
+
+def _read_series(o: _Collected, series: str | None, cap_series: str | None) -> dict:
+    from pulsepick.series import get_series
 
     names = {}
     for key, value, default in (("series", series, DEFAULT_R_SERIES),
                                 ("cap_series", cap_series, DEFAULT_C_SERIES)):
-        text = opt(key, value, default)
+        text = o.opt(key, value, default)
         try:
             names[key] = get_series(text).name
         except PulsepickError as err:
-            problems.append(f"--{key.replace('_', '-')} {text!r}: {err}")
+            o.problems.append(f"--{key.replace('_', '-')} {text!r}: {err}")
+    return names
 
-    tc_text = opt("timing_cap", timing_cap, DEFAULT_TIMING_CAP).strip().lower()
+
+def _read_timing_caps(o: _Collected, timing_cap: str | None) -> tuple[str, ...]:
+    tc_text = o.opt("timing_cap", timing_cap, DEFAULT_TIMING_CAP).strip().lower()
     timing_caps: tuple[str, ...] = ()
     if tc_text not in TIMING_CAP_CHOICES:
-        problems.append(f"--timing-cap {tc_text!r} unknown; accepted: "
-                        f"{', '.join(TIMING_CAP_CHOICES)}")
+        o.problems.append(f"--timing-cap {tc_text!r} unknown; accepted: "
+                          f"{', '.join(TIMING_CAP_CHOICES)}")
     else:
         timing_caps = TIMING_CAP_CHOICES[tc_text]
+    return timing_caps
+
+
+def _read_r_range(o: _Collected, min_r: str | None, max_r: str | None) -> dict:
+    from pulsepick.units import check_component, parse_value
 
     r_vals = {}
     for key, value, default in (("min_r", min_r, DEFAULT_R_RANGE[0]),
                                 ("max_r", max_r, DEFAULT_R_RANGE[1])):
-        text = opt(key, value, default)
+        text = o.opt(key, value, default)
         try:
             r_vals[key] = check_component(parse_value(text, "ohm"), "ohm",
                                           f"--{key.replace('_', '-')}")
         except PulsepickError as err:
-            problems.append(f"--{key.replace('_', '-')} {text!r}: {err}")
+            o.problems.append(f"--{key.replace('_', '-')} {text!r}: {err}")
+    return r_vals
 
-    cr_text = opt("cap_range", cap_range, DEFAULT_CAP_RANGE)
+
+def _read_cap_range(o: _Collected, cap_range: str | None) -> tuple[float | None, float | None]:
+    from pulsepick.units import check_component, parse_range
+
+    cr_text = o.opt("cap_range", cap_range, DEFAULT_CAP_RANGE)
     c_lo = c_hi = None
     try:
         c_lo, c_hi = parse_range(cr_text, "capacitance")
         for c_end in (c_lo, c_hi):
             check_component(c_end, "F", "--cap-range")
         if c_lo >= c_hi:
-            problems.append(f"--cap-range {cr_text}: write the range from small to large, "
-                            "e.g. 1n..1m")
+            o.problems.append(f"--cap-range {cr_text}: write the range from small to large, "
+                              "e.g. 1n..1m")
     except PulsepickError as err:
-        problems.append(f"--cap-range {cr_text!r}: {err}")
+        o.problems.append(f"--cap-range {cr_text!r}: {err}")
+    return c_lo, c_hi
 
+
+def _read_circuits(o: _Collected, stages: str | None, cores: str | None,
+                   families: tuple[str, ...], buffered: bool | None
+                   ) -> tuple[tuple[str, ...], tuple[str, ...]]:
+    """The stages and the cores searched, the cores kept to those the chips can run."""
+    problems, opt = o.problems, o.opt
     stage_list: tuple[str, ...] = ()
     core_list: tuple[str, ...] = ()
     try:
@@ -180,57 +261,38 @@ def make_request(
             problems.append("--buffered needs a Schmitt core (a 555 output drives the stage "
                             "itself)")
         core_list = bufferable
+    return stage_list, core_list
 
+
+def _read_stock(o: _Collected, stock: str | Stock | None) -> Stock | None:
     stock_obj = None
     if isinstance(stock, Stock):
         stock_obj = stock
-        choices["stock"] = stock.source
+        o.choices["stock"] = stock.source
     elif stock is not None:
-        choices["stock"] = stock
+        o.choices["stock"] = stock
         try:
             stock_obj = read_stock(stock)
         except RequestError as err:
-            problems.append(str(err))
+            o.problems.append(str(err))
     else:
-        defaults.append("stock")
+        o.defaults.append("stock")
+    return stock_obj
 
-    ints = {}
+
+def _read_counts(o: _Collected, top: int | None, builds: int | None,
+                 seed: int | None) -> dict[str, int]:
     from pulsepick.limits import MAX_BUILDS, MAX_SEED, MAX_TOP, MIN_BUILDS, check_count
 
+    ints = {}
     for key, value, default, low, high in (("top", top, DEFAULT_TOP, 1, MAX_TOP),
                                            ("builds", builds, DEFAULT_BUILDS, MIN_BUILDS,
                                             MAX_BUILDS),
                                            ("seed", seed, DEFAULT_SEED, 0, MAX_SEED)):
-        v = opt(key, value, default)
+        v = o.opt(key, value, default)
         try:
             ints[key] = check_count(f"--{key}", v, low, high)
         except RequestError as err:
-            problems.append(str(err))
+            o.problems.append(str(err))
             ints[key] = default
-    choices["buffered"] = {None: "either", True: "yes", False: "no"}[buffered]
-    if buffered is None:
-        defaults.append("buffered")
-
-    if targets is not None and led_model is not None and targets.intensity_cd is not None \
-            and led_model.mcd_per_a is None:
-        problems.append(f"the {led_model.name} LED has no intensity figure in our tables, so "
-                        "an intensity in mcd cannot be aimed at; give the brightness as a "
-                        "current (\"5 mA peak\", \"as bright as a steady 1 mA\") or choose "
-                        "an LED with intensity data (red, bright-red, green, white)")
-    if prefer is not None and prefer not in PREFER_CHOICES:
-        problems.append(f"--prefer {prefer!r}: accepted {', '.join(PREFER_CHOICES)}")
-    if problems:
-        raise RequestError("; ".join(problems))
-    assert targets is not None and supply_v is not None and c_lo is not None
-    return SolveRequest(
-        targets=targets, supply_v=supply_v, supply_end_v=supply_end, families=families,
-        led=led_model, r_series=names["series"], c_series=names["cap_series"],
-        timing_caps=timing_caps, r_min_ohm=r_vals["min_r"], r_max_ohm=r_vals["max_r"],
-        c_min_f=c_lo, c_max_f=c_hi, cores=core_list, stages=stage_list,
-        buffered=buffered, stock=stock_obj, top=ints["top"], builds=ints["builds"],
-        seed=ints["seed"], chip_overrides=dict(chip_overrides or {}),
-        prefer=opt("prefer", prefer, DEFAULT_PREFER), choices=choices,
-        defaults=tuple(defaults),
-    )
-
-
+    return ints

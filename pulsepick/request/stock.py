@@ -81,10 +81,8 @@ def parse_stock(text: str, source: str = "stock file") -> Stock:
     RequestError
         naming each row that could not be read (line number and text).
     """
-    from pulsepick.errors import echo
     from pulsepick.infile import BOM
     from pulsepick.limits import MAX_STOCK_ROWS
-    from pulsepick.units import check_component, parse_value
 
     lines = text.removeprefix(BOM).splitlines()
     body = [(n, line) for n, line in enumerate(lines, start=1)
@@ -95,6 +93,29 @@ def parse_stock(text: str, source: str = "stock file") -> Stock:
         raise RequestError(f"{source} has {len(body) - 1:,} rows; a stock file takes at most "
                            f"{MAX_STOCK_ROWS:,}")
     header_no, header = body[0]
+    columns = _stock_columns(header_no, header, source)
+    items: list[StockItem] = []
+    problems: list[str] = []
+    for n, line in body[1:]:
+        if len(problems) >= _MAX_PROBLEMS:
+            problems.append("and maybe more")
+            break
+        item = _stock_row(n, line, columns)
+        if isinstance(item, str):
+            problems.append(item)
+        else:
+            items.append(item)
+    if problems:
+        raise RequestError(f"{source}: " + "; ".join(problems) + f" (expected {_STOCK_FORMAT})")
+    if not items:
+        raise RequestError(f"{source} lists no parts; expected {_STOCK_FORMAT}")
+    return Stock(items=tuple(items), source=source)
+
+
+def _stock_columns(header_no: int, header: str, source: str) -> list[str]:
+    """The columns the header row names (kind and value at least, each once)."""
+    from pulsepick.errors import echo
+
     try:
         columns = [c.strip().lower() for c in next(csv.reader([header]))]
     except csv.Error:
@@ -111,59 +132,47 @@ def parse_stock(text: str, source: str = "stock file") -> Stock:
             what.append("a column twice")
         raise RequestError(f"{source} line {header_no}: header {echo(header.strip())} has "
                            f"{'; '.join(what)}; expected {_STOCK_FORMAT}")
-    items: list[StockItem] = []
-    problems: list[str] = []
-    for n, line in body[1:]:
-        if len(problems) >= _MAX_PROBLEMS:
-            problems.append("and maybe more")
-            break
-        where = f"line {n} {echo(line.strip(), 40)}"
+    return columns
+
+
+def _stock_row(n: int, line: str, columns: list[str]) -> StockItem | str:
+    """One row of the drawer as a :class:`StockItem`, or what is wrong with it."""
+    from pulsepick.errors import echo
+    from pulsepick.units import check_component, parse_value
+
+    where = f"line {n} {echo(line.strip(), 40)}"
+    try:
+        fields = next(csv.reader(io.StringIO(line)))
+    except csv.Error as err:
+        return f"{where}: not a CSV row ({err})"
+    fields = [f.strip() for f in fields]
+    if len(fields) > len(columns):
+        return f"{where}: {len(fields)} fields for {len(columns)} columns"
+    row = dict(zip(columns, fields + [""] * (len(columns) - len(fields)), strict=True))
+    kind_word = row["kind"].lower()
+    kind = {"r": "R", "resistor": "R", "c": "C", "capacitor": "C"}.get(kind_word)
+    if kind is None:
+        return f"{where}: kind {echo(row['kind'], 20)} is not R, resistor, C or capacitor"
+    try:
+        unit = "ohm" if kind == "R" else "F"
+        value = check_component(parse_value(row["value"], unit), unit, "value")
+    except PulsepickError as err:
+        return f"{where}: {err}"
+    qty: int | None = None
+    if row.get("qty"):
         try:
-            fields = next(csv.reader(io.StringIO(line)))
-        except csv.Error as err:
-            problems.append(f"{where}: not a CSV row ({err})")
-            continue
-        fields = [f.strip() for f in fields]
-        if len(fields) > len(columns):
-            problems.append(f"{where}: {len(fields)} fields for {len(columns)} columns")
-            continue
-        row = dict(zip(columns, fields + [""] * (len(columns) - len(fields)), strict=True))
-        kind_word = row["kind"].lower()
-        kind = {"r": "R", "resistor": "R", "c": "C", "capacitor": "C"}.get(kind_word)
-        if kind is None:
-            problems.append(f"{where}: kind {echo(row['kind'], 20)} is not R, resistor, C or "
-                            "capacitor")
-            continue
-        try:
-            unit = "ohm" if kind == "R" else "F"
-            value = check_component(parse_value(row["value"], unit), unit, "value")
-        except PulsepickError as err:
-            problems.append(f"{where}: {err}")
-            continue
-        qty: int | None = None
-        if row.get("qty"):
-            try:
-                qty = int(row["qty"])
-                if qty < 0:
-                    raise ValueError
-            except ValueError:
-                problems.append(f"{where}: qty {echo(row['qty'], 20)} is not a whole number "
-                                ">= 0")
-                continue
-        diel = (row.get("dielectric") or "").lower() or None
-        if diel is not None and kind == "R":
-            problems.append(f"{where}: a resistor has no dielectric")
-            continue
-        if diel is not None and diel not in STOCK_DIELECTRICS:
-            problems.append(f"{where}: dielectric {echo(diel, 20)} unknown; accepted: "
-                            f"{', '.join(STOCK_DIELECTRICS)}")
-            continue
-        items.append(StockItem(kind, value, qty, diel, n))
-    if problems:
-        raise RequestError(f"{source}: " + "; ".join(problems) + f" (expected {_STOCK_FORMAT})")
-    if not items:
-        raise RequestError(f"{source} lists no parts; expected {_STOCK_FORMAT}")
-    return Stock(items=tuple(items), source=source)
+            qty = int(row["qty"])
+            if qty < 0:
+                raise ValueError
+        except ValueError:
+            return f"{where}: qty {echo(row['qty'], 20)} is not a whole number >= 0"
+    diel = (row.get("dielectric") or "").lower() or None
+    if diel is not None and kind == "R":
+        return f"{where}: a resistor has no dielectric"
+    if diel is not None and diel not in STOCK_DIELECTRICS:
+        return (f"{where}: dielectric {echo(diel, 20)} unknown; accepted: "
+                f"{', '.join(STOCK_DIELECTRICS)}")
+    return StockItem(kind, value, qty, diel, n)
 
 
 def read_stock(path: str) -> Stock:
