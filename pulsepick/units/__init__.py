@@ -65,6 +65,7 @@ from pulsepick.units.values import (
 __all__ = [
     "ABSOLUTE_ZERO_C",
     "COMPONENT_RANGE",
+    "MISSING",
     "PREFIX_EXP",
     "QUANTITY_KINDS",
     "TOLERANCE_LETTERS",
@@ -74,7 +75,6 @@ __all__ = [
     "RkmKind",
     "ValueUnit",
     "check_component",
-    "MISSING",
     "format_eng",
     "format_figure",
     "format_pct",
