@@ -190,6 +190,13 @@ def error_text(message: str) -> str:
     return text + (" ... (cut short)" if cut else "")
 
 
+def _worded(err: BaseException) -> str:
+    """An error's message with the core's hints worded as options (``--buffered``)."""
+    from pulsepick.output.render import word_hints
+
+    return word_hints(str(err), "cli")
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run the program; returns the exit status.
 
@@ -265,7 +272,7 @@ def _dispatch(args_list: list[str], debug: bool) -> int:
     except PulsepickError as err:
         if debug:
             traceback.print_exc()
-        _say(f"pulsepick: error: {error_text(str(err))}")
+        _say(f"pulsepick: error: {error_text(_worded(err))}")
         return EXIT_BAD_INPUT
     except BrokenPipeError:
         _quiet_stdout()
@@ -282,7 +289,7 @@ def _dispatch(args_list: list[str], debug: bool) -> int:
         if debug:
             traceback.print_exc()
         _say(f"pulsepick: error: this is outside what the engines handle "
-             f"({error_text(str(err))[:150]}); try values nearer the usual ranges")
+             f"({error_text(_worded(err))[:150]}); try values nearer the usual ranges")
         return EXIT_BAD_INPUT
     except MemoryError:
         _say("pulsepick: error: out of memory; ask for less work (fewer --builds, lights or "
@@ -291,7 +298,7 @@ def _dispatch(args_list: list[str], debug: bool) -> int:
     except Exception as err:
         if debug:
             traceback.print_exc()
-        _say(f"pulsepick: internal error: {type(err).__name__}: {error_text(str(err))}. "
+        _say(f"pulsepick: internal error: {type(err).__name__}: {error_text(_worded(err))}. "
              "This is a bug; please report it with the command you ran (add --debug for "
              "details).")
         return EXIT_BUG

@@ -21,8 +21,11 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from pulsepick.errors import RequestError
+from pulsepick.hints import Hint, hint
 from pulsepick.request import FAMILY_CHOICES, SolveRequest
 
+#: The remedy that spreads the periods out (offered only when they are not already).
+SPREAD_OUT = Hint("spread_out", True)
 #: The logic families a light can share a package on (every family key but the 555).
 SCHMITT_FAMILIES = tuple(f for f in FAMILY_CHOICES if f not in ("timer555", "any"))
 
@@ -79,10 +82,10 @@ def family_plan(req: SolveRequest) -> FamilyPlan:
         span = f"{hi:g} V down to {lo:g} V"
         if covering and defaulted:
             note = (f"{ranges}, not the whole supply range ({span}); the lights use "
-                    f"{covering[0]}, which does (--family {covering[0]})")
+                    f"{covering[0]}, which does ({hint('family', covering[0])})")
         elif covering:
             note = (f"{ranges}, not the whole supply range ({span}); {covering[0]} does "
-                    f"(--family {covering[0]})")
+                    f"({hint('family', covering[0])})")
         else:
             note = (f"{ranges}, not the whole supply range ({span}), and no logic family "
                     "covers it; narrow the supply range or use the CMOS 555")
@@ -215,16 +218,16 @@ def lock_remedies(breq, picks, groups, share, options_fn, *, seed: int = 0,
                        resistor_tol_pct=[TIGHT_RESISTOR_PCT] * len(picks),
                        cap_tol=TIGHT_CAP_PCT)
     out.append(Remedy(f"tighter timing parts ({TIGHT_RESISTOR_PCT:g} % resistors, "
-                      f"{TIGHT_CAP_PCT:g} % capacitors)", tight.share, "--series E96"))
+                      f"{TIGHT_CAP_PCT:g} % capacitors)", tight.share, Hint("series", "E96")))
     periods = [float(c.figures["period_s"]) * k for c, k in zip(picks, scale, strict=True)]
     asked = [li.request.targets.period_s * k for li, k in zip(breq.lights, scale, strict=True)]
+    wider = min(0.5, 2 * breq.period_tolerance)
     for tol, words, opt in (
             (breq.period_tolerance, f"spread the periods out within {breq.period_tolerance:.0%}",
-             "--spread-out"),
-            (min(0.5, 2 * breq.period_tolerance),
-             f"a wider period tolerance ({min(0.5, 2 * breq.period_tolerance):.0%}) for the "
-             "spread-out search", f"--period-tolerance {min(0.5, 2 * breq.period_tolerance):.0%}")):
-        if opt == "--spread-out" and breq.spread_out:
+             SPREAD_OUT),
+            (wider, f"a wider period tolerance ({wider:.0%}) for the spread-out search",
+             Hint("period_tolerance", f"{wider:.0%}"))):
+        if opt == SPREAD_OUT and breq.spread_out:
             continue
         try:
             opts = [options_fn(i, tol).periods_s * scale[i] for i in range(len(picks))]
@@ -240,7 +243,7 @@ def lock_remedies(breq, picks, groups, share, options_fn, *, seed: int = 0,
     alone = [g if i != worst else max(groups) + 1 for i, g in enumerate(groups)]
     sep = share_of(periods, share.log_dev, alone, margin=share.margin, max_q=share.max_q)
     out.append(Remedy(f"{breq.lights[worst].name} on a package of its own", sep.share,
-                      "--max-packages"))
+                      Hint("max_packages")))
     # only what lowers the share is a remedy
     return rank_remedies([r for r in out if r.share < share.share])
 
@@ -267,7 +270,7 @@ def build_verdict(breq, n_lights: int, n_packages: int, share, *, spread: bool
         message += "; no build has a pair near a lock"
     if limit is not None:
         message += (f", within the {limit:.1%} limit asked" if ok else
-                    f", above the {limit:.1%} limit asked (--max-lock-share)")
+                    f", above the {limit:.1%} limit asked ({hint('max_lock_share')})")
     return ok, message
 
 
@@ -291,7 +294,7 @@ def _trim_remedy(breq, picks, groups, share, designs):
     if not any(t is not None for t in trims):
         return None
     return Remedy(f"a trimmer per light set to {TRIM_SETTING_RESOLUTION:.0%} of travel",
-                  res.share, "--trim")
+                  res.share, Hint("trim", True))
 
 
 def share_text(names, pair, margin: float, spread_out: bool, share: float,
@@ -310,7 +313,7 @@ def share_text(names, pair, margin: float, spread_out: bool, share: float,
 
 def remedies_text(remedies, spread_out: bool) -> str | None:
     """One line: the remedies, from the one leaving the least lock share."""
-    offered = [r for r in remedies if not (spread_out and r.option == "--spread-out")]
+    offered = [r for r in remedies if not (spread_out and r.option == SPREAD_OUT)]
     if not offered:
         return None
     return "to lower the share of builds near a lock, best first: " + "; ".join(

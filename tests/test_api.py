@@ -10,6 +10,7 @@ import pytest
 import pulsepick as pp
 from pulsepick.cli import main
 from pulsepick.errors import RequestError
+from pulsepick.output.render import hint_style
 
 SOLVE = dict(cores="timer555", stages="direct", top=1, builds=200, jobs=1)
 SOLVE_ARGV = ["--cores", "timer555", "--stages", "direct", "--top", "1", "--builds", "200",
@@ -20,7 +21,10 @@ CHECK_ARGV = ["--core", "schmitt", "--r", "2M2", "--c", "1u", "--stage", "pulse"
 
 
 def _cli_json(capsys, argv: list[str]) -> dict:
-    assert main([*argv, "--json"]) == 0
+    """The command's --json document, its hints worded as the API words them
+    (``buffered=True`` for ``--buffered``)."""
+    with hint_style("api"):
+        assert main([*argv, "--json"]) == 0
     out, _ = capsys.readouterr()
     return json.loads(out)
 

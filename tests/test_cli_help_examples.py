@@ -1,4 +1,5 @@
-"""Every example printed by a command's ``--help`` runs as typed (exit 0).
+"""Every example printed by a command's ``--help`` runs as typed (exit 0), and leaves
+no unworded hint (:mod:`pulsepick.hints`) in its output or its files.
 
 The examples run in a scratch folder that holds the files they name (a parts drawer,
 an irradiance profile, the shipped example design). To keep the suite quick the
@@ -18,6 +19,7 @@ import pytest
 
 from pulsepick.cli import build_parser, main
 from pulsepick.commands import COMMAND_MODULES
+from pulsepick.hints import has_marker
 
 REPO = Path(__file__).resolve().parent.parent
 EXAMPLES = [(name, line) for name in COMMAND_MODULES
@@ -67,3 +69,9 @@ def test_help_example_runs(name, line, tmp_path, monkeypatch, capsys):
     out, err = capsys.readouterr()
     assert code == 0, f"{line}\n{err}"
     assert out.strip() or "wrote" in err
+    # the core's hints are worded as options on the screen and in every file written
+    assert not has_marker(out + err)
+    for path in tmp_path.rglob("*"):
+        if path.is_file() and path.suffix in (".html", ".csv", ".json", ".toml", ".txt",
+                                              ".svg"):
+            assert not has_marker(path.read_text(encoding="utf-8", errors="replace")), path

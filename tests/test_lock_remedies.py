@@ -11,6 +11,7 @@ from pulsepick.analysis.lock import LOCK_GRADES, lock_grade, lock_share
 from pulsepick.analysis.locktrim import TRIM_SETTING_RESOLUTION, trimmed_share
 from pulsepick.errors import RequestError
 from pulsepick.packing import NIGHT_LUX, build_verdict, night_designs
+from pulsepick.output.render import word_hints
 from pulsepick.request import make_build_request, make_request
 from pulsepick.solve import solve, solve_build
 
@@ -34,8 +35,8 @@ def test_a_lock_share_is_a_warning_unless_a_limit_is_asked():
                     "builds have a pair near a lock")
     ok, text = build_verdict(_breq(0.05), 3, 1, share, spread=False)
     assert not ok
-    assert text.endswith("lock risk moderate: 6.3% of builds have a pair near a lock, above "
-                         "the 5.0% limit asked (--max-lock-share)")
+    assert word_hints(text).endswith("lock risk moderate: 6.3% of builds have a pair near a "
+                                     "lock, above the 5.0% limit asked (--max-lock-share)")
     ok, text = build_verdict(_breq(0.10), 2, 2, SimpleNamespace(share=0.0), spread=False)
     assert ok
     assert text == ("2 lights on 2 packages; no build has a pair near a lock, within the "

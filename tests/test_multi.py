@@ -9,6 +9,7 @@ import pytest
 from pulsepick.analysis import multi
 from pulsepick.engine.loadcurve import constant_load
 from pulsepick.errors import RequestError
+from pulsepick.output.render import word_hints
 
 
 def _near_simple_ratio(lo: float, hi: float, margin: float) -> bool:
@@ -93,7 +94,7 @@ def test_choose_periods_reports_when_impossible():
     asked = [3.0, 3.0]
     options = [np.array([3.0]), np.array([3.0])]
     choice = multi.choose_periods(asked, options, [(0, 1)], {(0, 1): (0.0, 0.0)})
-    assert not choice.success and "widen --period-tolerance" in choice.message
+    assert not choice.success and "widen --period-tolerance" in word_hints(choice.message)
 
 
 def test_golden_periods_avoid_simple_ratios():

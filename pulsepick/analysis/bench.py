@@ -29,6 +29,7 @@ from pulsepick.circuits.base import Topology, core_names, get_core, get_stage, s
 from pulsepick.design import Design
 from pulsepick.engine.environment import ChipSpec, PartChoice
 from pulsepick.errors import RequestError
+from pulsepick.hints import hint
 from pulsepick.parts.logic import FAMILY_KEYS, get_family
 
 #: Standard normal quantile of 99.9 % (scipy.stats.norm.ppf(0.999)): the published
@@ -145,7 +146,7 @@ class Timing:
             if t <= u:
                 raise RequestError(f"the {name} phase ({t:g} s) is not longer than its "
                                    f"uncertainty ({u:g} s); time more periods, or use a "
-                                   "larger R or C (see --recipe)")
+                                   f"larger R or C (see {hint('recipe', True)})")
 
 
 @dataclass(frozen=True)
@@ -292,7 +293,7 @@ def recipe(family: str, supply_v: float, led: Any, *, resistors=None, capacitors
     from pulsepick.series import get_series
 
     if family not in FAMILY_KEYS:
-        raise RequestError(f"calibrate measures a Schmitt chip; --family takes one of "
+        raise RequestError(f"calibrate measures a Schmitt chip; {hint('family')} takes one of "
                            f"{', '.join(FAMILY_KEYS)}")
     e6 = get_series("E6")
     rs = np.asarray(resistors if resistors else e6.values(*RECIPE_R_RANGE_OHM), dtype=float)
@@ -300,7 +301,7 @@ def recipe(family: str, supply_v: float, led: Any, *, resistors=None, capacitors
     rs = rs[(rs >= RECIPE_R_RANGE_OHM[0]) & (rs <= 2.2 * RECIPE_R_RANGE_OHM[1])]
     if rs.size == 0 or cs.size == 0:
         raise RequestError("the drawer has no resistor of 100 kΩ to 10 MΩ or no capacitor "
-                           "for the test oscillator; add some, or leave out --stock")
+                           f"for the test oscillator; add some, or leave out {hint('stock')}")
     typ = get_family(family).thresholds(supply_v)
     th1, tl1 = closed_form_phases(float(typ.vt_plus_typ), float(typ.vt_minus_typ), 1.0,
                                   supply_v)
@@ -312,7 +313,7 @@ def recipe(family: str, supply_v: float, led: Any, *, resistors=None, capacitors
     if not ok.any():
         raise RequestError("no R and C in the drawer make a test oscillator of 4-10 s with "
                            "both phases over 1 s; add a resistor of 1-4.7 MΩ and a 1-2.2 µF "
-                           "film capacitor, or leave out --stock")
+                           f"film capacitor, or leave out {hint('stock')}")
     cost = np.where(ok, np.abs(np.log(period / RECIPE_AIM_S)) + 0.2 * (rr > 2.2e6)
                     + 0.2 * (cc > 2.2e-6), np.inf)
     i, j = np.unravel_index(int(np.argmin(cost)), cost.shape)

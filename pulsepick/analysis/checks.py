@@ -20,6 +20,7 @@ from pulsepick.analysis.spread import DEFAULT_TEMP_RANGE_C, TEMP_RANGE_TEXT
 from pulsepick.circuits.base import DARK, RUNS, STALLS, Topology, get_core
 from pulsepick.design import Design
 from pulsepick.engine.environment import chip_model
+from pulsepick.hints import hint
 from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
 from pulsepick.units import format_eng
 
@@ -96,7 +97,7 @@ def assumptions(design: Design) -> dict[str, Any]:
     if not design.chip.is_timer:
         if design.chip.cross_current_a is not None:
             how = (" (a measured chip's draw)" if design.chip.follows_family
-                   else " (given with --cross-current)")
+                   else f" (given with {hint('cross_current')})")
             out["crossing_current"] = (f"measured: {format_eng(design.chip.cross_current_a, 'A')}"
                                        + how)
         else:
@@ -104,7 +105,7 @@ def assumptions(design: Design) -> dict[str, Any]:
             out["crossing_current"] = (
                 f"ESTIMATE {format_eng(float(np.ravel(f.extras['crossing_a'])[0]), 'A')} average "
                 "(no published figure; square-law model of the input stage; replace it with "
-                "a measured figure via --cross-current)")
+                f"a measured figure via {hint('cross_current')})")
     return out
 
 
@@ -256,8 +257,8 @@ def circuit_findings(design: Design, status=None, peak_a: float | None = None,
         out.append(Finding(
             "stage-loading",
             f"the LED stage loads the timing gate's output and shifts a phase of the timing by "
-            f"{100 * shift:+.1f} % (output resistance {r_out:.0f} Ω); --buffered drives it "
-            "from a spare gate instead"))
+            f"{100 * shift:+.1f} % (output resistance {r_out:.0f} Ω); "
+            f"{hint('buffered', True)} drives it from a spare gate instead"))
     return out
 
 

@@ -30,6 +30,7 @@ from pulsepick.circuits.base import DARK, RUNS, STALLS, get_core
 from pulsepick.design import Design
 from pulsepick.engine import fast
 from pulsepick.errors import RequestError
+from pulsepick.hints import hint
 from pulsepick.parts.photoresistor import CORNERS, POWER_LAW_RANGE_LUX, Photoresistor
 from pulsepick.units import format_eng
 
@@ -225,7 +226,7 @@ def _warnings(lux, per, stat, flash, supply, period_range_s, within, network) ->
                 f"the oscillator stops with {word} at {dark_end:.3g} lux and darker: the "
                 "photoresistor is so large there that leakage holds the timing capacitor "
                 "short of its threshold (too slow); put a resistor across the photoresistor "
-                "(--parallel-r) or solve one with --period-range")
+                f"({hint('parallel_r')}) or solve one with {hint('period_range')}")
             break
     with np.errstate(invalid="ignore"):
         race = np.isfinite(per["low"]) & np.isfinite(flash) & (per["low"] < RACE_FACTOR * flash)
@@ -233,7 +234,7 @@ def _warnings(lux, per, stat, flash, supply, period_range_s, within, network) ->
     if at is not None:
         out.append(
             f"at {at:.3g} lux and brighter the period falls below twice the flash length "
-            "(the light races into a flicker); add a series resistor (--series-r)")
+            f"(the light races into a flicker); add a series resistor ({hint('series_r')})")
     ok = np.isfinite(supply)
     if ok.sum() >= 2:
         dark_i, bright_i = float(supply[ok][0]), float(supply[ok][-1])
@@ -368,7 +369,7 @@ def solve_clamp(design: Design, ldr: Photoresistor, period_range_s: tuple[float,
             success=False,
             message=(f"no {series} clamp keeps every corner between "
                      f"{format_eng(r_lo, 'Ω')} and {format_eng(r_hi, 'Ω')}"
-                     + ("" if mode == "both" else "; try --clamp both")))
+                     + ("" if mode == "both" else f"; try {hint('clamp', 'both')}")))
     net = LdrNetwork(ldr, series_ohm=float(s[best]), parallel_ohm=float(p[best]))
     sp = _period_ratio(r_map, p_map, float(total(typ_dark)[best]),
                        float(total(typ_bright)[best]))

@@ -34,8 +34,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from pulsepick.analysis.multi import DEFAULT_LOCK_MARGIN, MAX_RATIO_Q, _zones
+from pulsepick.analysis.multi.ratios import DEFAULT_LOCK_MARGIN, MAX_RATIO_Q, _zones
 from pulsepick.errors import RequestError
+from pulsepick.hints import Hint, hint
 
 #: Monte Carlo builds of the lock share (per package).
 LOCK_BUILDS = 2000
@@ -235,7 +236,7 @@ def minimise_share(asked_s: Sequence[float], options: Sequence[np.ndarray],
     opts = [np.asarray(o, dtype=float) for o in options]
     if any(o.size == 0 for o in opts):
         raise RequestError("a light has no standard-value variant within the period "
-                           "tolerance; widen --period-tolerance")
+                           f"tolerance; widen {hint('period_tolerance')}")
     la = np.log(np.asarray(asked_s, dtype=float))
     pairs = [(i, j) for i, j in itertools.combinations(range(n), 2) if groups[i] == groups[j]]
     builds = int(base.log_dev[0].size) if n else 0
@@ -294,7 +295,7 @@ class Remedy:
 
     action: str  # what to do, in words
     share: float  # share of builds near a lock after it
-    option: str  # the option that does it ("" when none)
+    option: Hint | None  # the option that does it (pulsepick.hints), None when none
 
 
 def lock_grade(share: float) -> str:

@@ -23,6 +23,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from pulsepick.hints import hint
 from pulsepick.tables import load_table
 from pulsepick.units import format_eng
 
@@ -150,7 +151,8 @@ def _pin_excesses(design, gr: GateRatings, led_peak_a: float, led_fix) -> list[R
     if gr.out_pin_max_a is not None and pin_a > gr.out_pin_max_a:
         fix = fix_text(gr.out_pin_max_a)
         if not design.topo.buffered and stage.gate_carries_led:
-            fix += "; a buffer gate (--buffered) moves the load off the timing gate"
+            fix += (f"; a buffer gate ({hint('buffered', True)}) moves the load off the "
+                    "timing gate")
         out.append(RatingExcess(f"U1 {pin}", f"output current ({what})", pin_a,
                                 gr.out_pin_max_a,
                                 f"{gr.family.upper()} absolute maximum per pin, "

@@ -23,6 +23,7 @@ from datetime import timedelta
 from pulsepick.analysis.night import simulate_night
 from pulsepick.engine.loadcurve import LoadCurve
 from pulsepick.errors import RequestError
+from pulsepick.hints import hint
 from pulsepick.parts.storage import STORAGE_KEYS, Storage, get_storage
 
 DEFAULT_MARGIN = 0.2  # the night plus 20 % (common practice)
@@ -142,8 +143,8 @@ def size_for_night(storage: Storage, v_start_v: float, night_s: float,
     light_stop = math.nan if load is None else load.light_stops_below_v()
     v_stop = max(stop_at_v or 0.0, 0.0 if math.isnan(light_stop) else light_stop)
     if v_stop <= 0.0:
-        raise RequestError("sizing needs a stop voltage: give --stop-at such as 1.8V, or a "
-                           "circuit whose light stops")
+        raise RequestError(f"sizing needs a stop voltage: give {hint('stop_at')} such as 1.8V, "
+                           "or a circuit whose light stops")
     c_min = min_capacitance(storage, v_start_v, target, load, stop_at_v, **options)
     suggested = None
     for key in sorted(STORAGE_KEYS, key=lambda k: get_storage(k).capacitance_f):

@@ -39,6 +39,7 @@ from pulsepick.circuits.base import (
     get_stage,
 )
 from pulsepick.engine.environment import chip_model
+from pulsepick.hints import hint
 from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
 from pulsepick.units import format_eng
 
@@ -118,7 +119,7 @@ def _latch(design, env) -> Verdict | None:
             f"latched with the output high and the LED on at {format_eng(i, 'A')}: the LED "
             f"load pulls the gate's output down to {high:.2f} V, below its own VT+ "
             f"{vtp:.2f} V, so C1 never reaches VT+ and the oscillation stops; a larger RS or "
-            "a buffer gate (--buffered) frees it", True, i, high)
+            f"a buffer gate ({hint('buffered', True)}) frees it", True, i, high)
     if low is not None and low >= vtm:
         i = float(np.ravel(led.current(vdd - low, r_ext=rs))[0])
         return Verdict(
@@ -126,7 +127,7 @@ def _latch(design, env) -> Verdict | None:
             f"latched with the output low and the LED on at {format_eng(i, 'A')}: the LED "
             f"load pulls the gate's output up to {low:.2f} V, above its own VT- {vtm:.2f} V, "
             "so C1 never falls to VT- and the oscillation stops; a larger RS or a buffer "
-            "gate (--buffered) frees it", True, i, low)
+            f"gate ({hint('buffered', True)}) frees it", True, i, low)
     return None
 
 
@@ -146,7 +147,8 @@ def _stall_reason(design, env) -> str:
         if int(_scalar(fast.evaluate(alone, design.working_values(env2), env2,
                                      powered).status)) == RUNS:
             return ("stalls: the LED stage's load holds the timing gate's output short of "
-                    "the threshold; a buffer gate (--buffered) or a larger RS frees it")
+                    f"the threshold; a buffer gate ({hint('buffered', True)}) or a larger RS "
+                    "frees it")
     if leak > 0 and leak >= 0.5 * i_up:
         return (f"stalls: the {kind.name} timing capacitor's typical leakage "
                 f"{format_eng(leak, 'A')} at VT+ takes the charging current of "

@@ -11,7 +11,11 @@ refused with the list of accepted ones.
 
 Each returns a :class:`Result`: ``.result`` is the core's result object,
 ``.to_dict()`` the same document the command prints with ``--json``, and
-``.to_frame()`` a pandas table when pandas is installed.
+``.to_frame()`` a pandas table when pandas is installed. Where a message names an
+option, the document and the errors name it as a keyword (``buffered=True``, where the
+command line says ``--buffered``); texts read straight from ``.result`` carry the
+core's hint markers (:mod:`pulsepick.hints`), which
+``pulsepick.output.render.word_hints(text, "api")`` words.
 
 Examples
 --------
@@ -29,6 +33,7 @@ from __future__ import annotations
 
 import argparse
 import contextlib
+import functools
 import io
 import json
 import math
@@ -36,7 +41,7 @@ from collections import OrderedDict
 from typing import Any
 
 from pulsepick.api.result import CheckOutcome, Result
-from pulsepick.errors import RequestError
+from pulsepick.errors import PulsepickError, RequestError
 
 __all__ = ["Result", "bands", "calibrate", "check", "day", "night", "retune", "solve",
            "values"]
@@ -131,6 +136,28 @@ def _record(arg: Any, options: dict[str, Any]) -> dict[str, Any]:
 
 # ---------------------------------------------------------------------------- functions
 
+def _keywords(fn):
+    """``fn`` with the hints of its document and its errors worded as keywords."""
+
+    @functools.wraps(fn)
+    def call(*args: Any, **kwargs: Any):
+        from pulsepick.output.render import hint_style, word_hints
+
+        with hint_style("api"):
+            try:
+                return fn(*args, **kwargs)
+            except PulsepickError as err:
+                text = str(err)
+                worded = word_hints(text)
+                if worded != text:
+                    err.args = (worded,)
+                raise
+
+    return call
+
+
+
+@_keywords
 def solve(phrase: str | None = None, *, cache: bool = True, **options: Any) -> Result:
     """Find standard parts for a wanted blink: ranked circuits with spread and drift.
 
@@ -200,6 +227,7 @@ def _solve(args, cmd):
     done = cmd.compute(args)
     return done.result, _json(cmd.solve_json(done))
 
+@_keywords
 def check(**options: Any) -> Result:
     """Analyse a circuit someone built or plans (the options of ``pulsepick check``).
 
@@ -229,6 +257,7 @@ def check(**options: Any) -> Result:
     return Result("check", _record(None, options), outcome, data)
 
 
+@_keywords
 def night(design: str | None = None, **options: Any) -> Result:
     """Run a night on a storage part (the options of ``pulsepick night``).
 
@@ -251,6 +280,7 @@ def night(design: str | None = None, **options: Any) -> Result:
     return Result("night", _record(design, options), out.result, _json(data))
 
 
+@_keywords
 def day(**options: Any) -> Result:
     """Run days and nights with a panel (the options of ``pulsepick day``).
 
@@ -270,6 +300,7 @@ def day(**options: Any) -> Result:
     return Result("day", _record(None, options), out.result, _json(cmd.day_json(out)))
 
 
+@_keywords
 def bands(**options: Any) -> Result:
     """Tolerance bands of a circuit over its parts and chip (``pulsepick bands``).
 
@@ -287,6 +318,7 @@ def bands(**options: Any) -> Result:
     return Result("bands", _record(None, options), result, _json(cmd.bands_json(result)))
 
 
+@_keywords
 def calibrate(**options: Any) -> Result:
     """Chip thresholds from a timed test oscillator (``pulsepick calibrate``).
 
@@ -302,6 +334,7 @@ def calibrate(**options: Any) -> Result:
     return _captured("calibrate", None, options)
 
 
+@_keywords
 def retune(**options: Any) -> Result:
     """Part changes that bring a built circuit back to its blink (``pulsepick retune``).
 
@@ -324,6 +357,7 @@ def _captured(command: str, arg: Any, options: dict[str, Any]) -> Result:
     return Result(command, _record(arg, options), data, data)
 
 
+@_keywords
 def values(what: str | float | None = None, **options: Any) -> Result:
     """E-series values: a series, a decoded value, or picks (``pulsepick values``).
 

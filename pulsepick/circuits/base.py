@@ -15,6 +15,7 @@ from typing import Any, ClassVar, Literal, Protocol
 import numpy as np
 
 from pulsepick.errors import CircuitError
+from pulsepick.hints import hint
 
 Array = np.ndarray
 ChipKind = Literal["schmitt", "timer"]
@@ -439,7 +440,7 @@ def check_values(topo: Topology, values: dict[str, Any]) -> dict[str, Any]:
     core, stage = get_core(topo.core), get_stage(topo.stage)
     if topo.buffered and not core.bufferable:
         raise CircuitError("a buffer gate is only used with Schmitt cores; the 555 output "
-                           "already drives the stage (drop --buffered)")
+                           f"already drives the stage (drop {hint('buffered', True)})")
     out: dict[str, Any] = {}
     problems = []
     for p in core.params + stage.params:

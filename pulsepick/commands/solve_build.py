@@ -254,6 +254,7 @@ def build_json(result, **extras) -> dict:
     from pulsepick import __version__
     from pulsepick.output.export import candidate_json, solve_cautions
     from pulsepick.packing import night_lux
+    from pulsepick.output.render import word_hints
 
     breq = result.request
     names = [li.name for li in result.lights]
@@ -286,7 +287,8 @@ def build_json(result, **extras) -> dict:
         _lock_grade(result.lock_share.share),
         "max_lock_share": breq.max_lock_share,
         "lock_share_before_spread_out": _share_json(names, result.lock_share_before),
-        "lock_remedies": [{"action": r.action, "lock_share": r.share, "option": r.option}
+        "lock_remedies": [{"action": r.action, "lock_share": r.share,
+                           "option": word_hints(r.option) if r.option else ""}
                           for r in result.remedies],
         "lock_risks_before_spread_out": None if result.risks_before is None else
         [_risk_json(names, r) for r in result.risks_before],

@@ -51,7 +51,9 @@ def _nothing_line(what: str, explanations) -> None:
     """The one stderr line of a request that gets nothing (the reasons are on stdout)."""
     import sys
 
-    first = next(iter(explanations), "")
+    from pulsepick.output.render import word_hints
+
+    first = word_hints(next(iter(explanations), ""))
     reason = f": {first}" if first else ""
     print(f"pulsepick: error: nothing can be offered for \"{what}\"{reason}",
           file=sys.stderr)

@@ -14,6 +14,7 @@ import numpy as np
 
 from pulsepick.circuits.base import Env
 from pulsepick.errors import PartError
+from pulsepick.hints import hint
 from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
 from pulsepick.parts.chipprofile import measured_family
 from pulsepick.parts.diode import get_diode
@@ -48,7 +49,8 @@ class ChipSpec:
             raise PartError(f"chip spread {self.spread!r}: accepted {', '.join(CHIP_SPREADS)}")
         measured = (self.vt_plus_v, self.vt_minus_v, self.rout_ohm)
         if self.family == TIMER_KEY and any(x is not None for x in measured):
-            raise PartError("--vt-plus, --vt-minus and --rout describe a Schmitt gate; "
+            raise PartError(f"{hint('vt_plus')}, {hint('vt_minus')} and {hint('rout')} describe "
+                            "a Schmitt gate; "
                             "they do not apply to timer555")
 
     @property

@@ -32,6 +32,7 @@ import tempfile
 from typing import Any
 
 from pulsepick.errors import ExportError
+from pulsepick.output.render import word_hints
 
 BUYLIST_COLUMNS = ("qty", "refs", "kind", "value", "value_si", "unit", "code", "series",
                    "tolerance", "dielectric", "rating", "bands", "notes")
@@ -178,7 +179,7 @@ def safe_cell(value: Any) -> str:
     >>> safe_cell(4700.0)
     '4700.0'
     """
-    text = "" if value is None else str(value)
+    text = "" if value is None else word_hints(str(value))
     text = text.replace("\r\n", " ").replace("\r", " ").replace("\n", " ")
     if text.lstrip(" ").startswith(FORMULA_STARTS):
         text = "'" + text

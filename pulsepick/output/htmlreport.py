@@ -23,6 +23,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 from pulsepick.analysis.cautions import NOT_A_SAFETY_LIGHT
+from pulsepick.output.render import word_hints
 
 
 @dataclass(frozen=True)
@@ -107,7 +108,7 @@ def cell_text(cell: Cell | str) -> str:
 
 
 def _esc(text: str) -> str:
-    return html.escape(str(text), quote=True)
+    return html.escape(word_hints(str(text)), quote=True)
 
 
 def _value_attrs(cell: Cell | str) -> str:

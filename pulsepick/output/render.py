@@ -5,6 +5,8 @@ Only shell modules (``cli``, ``commands``) import this; the core never prints.
 
 from __future__ import annotations
 
+import contextlib
+import contextvars
 import json
 import math
 import os
@@ -16,9 +18,60 @@ from rich import box
 from rich.console import Console
 from rich.table import Table
 
+from pulsepick.hints import MARKER, Hint, has_marker, parse
+
 REPORT_WIDTH = 100
 #: Narrowest report we lay out; a smaller COLUMNS is raised to this.
 MIN_WIDTH = 40
+
+
+# ---------------------------------------------------------------------------- hints
+
+#: How hints are worded here: "cli" (``--buffered``) or "api" (``buffered=True``).
+HINT_STYLES = ("cli", "api")
+_HINT_STYLE: contextvars.ContextVar[str] = contextvars.ContextVar("hint_style", default="cli")
+
+
+@contextlib.contextmanager
+def hint_style(style: str):
+    """Word hints in ``style`` ("cli" or "api") inside the ``with`` block."""
+    if style not in HINT_STYLES:
+        raise ValueError(f"hint style {style!r}: one of {', '.join(HINT_STYLES)}")
+    token = _HINT_STYLE.set(style)
+    try:
+        yield
+    finally:
+        _HINT_STYLE.reset(token)
+
+
+def _word(h: Hint, style: str) -> str:
+    if h.command or style == "cli":
+        name = "--" + ("no-" if h.value is False else "") + h.option.replace("_", "-")
+        words = name if h.value is None or h.is_flag else f"{name} {h.value}"
+        return f"pulsepick {h.command} {words}" if h.command else words
+    return h.option if h.value is None else f"{h.option}={h.value!r}"
+
+
+def word_hints(text: Any, style: str | None = None) -> Any:
+    """``text`` with every hint (:mod:`pulsepick.hints`) worded for the user: as the
+    command-line option (``--buffered``, ``--no-buffered``, ``--clamp both``) or, in the
+    "api" style, as the keyword (``buffered=True``, ``clamp='both'``); a hint naming
+    another command is worded as its command line in both. A :class:`Hint` becomes its
+    words; anything but text passes unchanged."""
+    style = style or _HINT_STYLE.get()
+    if isinstance(text, Hint):
+        return _word(text, style)
+    if not isinstance(text, str) or not has_marker(text):
+        return text
+    return MARKER.sub(lambda m: _word(parse(m.group(0)), style), text)
+
+
+class _WordingConsole(Console):
+    """A console that words the hints of every text it lays out (printed text, table
+    cells and titles all pass through ``render_str``)."""
+
+    def render_str(self, text: str, *args, **kwargs):  # type: ignore[override]
+        return super().render_str(word_hints(text), *args, **kwargs)
 
 
 class _TrimmedLines:
@@ -68,7 +121,7 @@ def make_console(file: TextIO | None = None, width: int | None = None) -> Consol
     no_color = bool(os.environ.get("NO_COLOR"))
     target = file if file is not None else sys.stdout
     interactive = hasattr(target, "isatty") and target.isatty()
-    return Console(
+    return _WordingConsole(
         file=_TrimmedLines(target),
         width=width or report_width(interactive),
         no_color=no_color,
@@ -79,7 +132,10 @@ def make_console(file: TextIO | None = None, width: int | None = None) -> Consol
 
 
 def _plain(obj: Any) -> Any:
-    """Convert numpy scalars/arrays, tuples and non-finite floats to plain JSON."""
+    """Convert numpy scalars/arrays, tuples and non-finite floats to plain JSON, with
+    the hints in text worded."""
+    if isinstance(obj, str | Hint):
+        return word_hints(obj)
     if hasattr(obj, "tolist"):
         obj = obj.tolist()
     if isinstance(obj, dict):
@@ -111,6 +167,7 @@ def simple_table(title: str | None, columns: list[str], rows: list[list[str]],
                  justify: list[str] | None = None) -> Table:
     """A plain-bordered table that survives NO_COLOR and copy-paste."""
     table = Table(title=title, box=box.SIMPLE_HEAD, title_justify="left", pad_edge=False)
+    rows = [[word_hints(cell) for cell in row] for row in rows]
     for i, name in enumerate(columns):
         cells = [str(row[i]) for row in rows if i < len(row)]
         values = [len(c) for c in cells if _is_value(c)]
@@ -134,7 +191,7 @@ def wrap_text(text: str, width: int, indent: str = "  ", hang: str = "    ") -> 
     """``text`` wrapped to ``width`` with a hanging indent, values kept with their units."""
     import textwrap
 
-    glued = _VALUE_UNIT.sub(_GLUE, text)
+    glued = _VALUE_UNIT.sub(_GLUE, word_hints(text))
     lines = textwrap.wrap(glued, width=width, initial_indent=indent, subsequent_indent=hang,
                           break_long_words=False, break_on_hyphens=False)
     return [line.replace(_GLUE, " ") for line in lines] or [indent.rstrip()]

@@ -27,6 +27,7 @@ import tomllib
 from dataclasses import dataclass
 
 from pulsepick.errors import PartError
+from pulsepick.hints import hint
 from pulsepick.parts.logic import FAMILY_KEYS, LogicFamily, ThresholdPoint
 
 PROFILE_KEYS = ("family", "supply_v", "vt_plus_v", "vt_minus_v", "supply_current_a",
@@ -94,7 +95,7 @@ def parse_profile(text: str, path: str = "chip.toml") -> ChipProfile:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as err:
         raise PartError(f"{path}: not a TOML chip profile ({err}); write it with "
-                        "'pulsepick calibrate --save'") from err
+                        f"'{hint('save', True, 'calibrate')}'") from err
     problems = []
     unknown = sorted(set(data) - set(PROFILE_KEYS))
     if unknown:
@@ -129,7 +130,8 @@ def read_profile(path: str) -> ChipProfile:
     from pulsepick.infile import read_text
 
     try:
-        text = read_text(path, "chip profile", "a file written by 'pulsepick calibrate --save'")
+        text = read_text(path, "chip profile",
+                         f"a file written by '{hint('save', True, 'calibrate')}'")
     except RequestError as err:
         raise PartError(str(err)) from None
     return parse_profile(text, path)

@@ -12,6 +12,7 @@ from typing import Any
 import numpy as np
 
 from pulsepick.circuits.base import get_stage
+from pulsepick.hints import hint
 from pulsepick.runner import Runner, runner_or_serial
 from pulsepick.solve.texts import time_text
 from pulsepick.solve.types import SolveResult
@@ -138,7 +139,8 @@ def median_note(design, spread, aimed_period_s: float | None = None) -> str | No
             and shares.get("chip_thresholds", 0.0) > 0):
         causes.append("the chip's typical thresholds sit off-centre in its datasheet limits "
                       "(the builds draw them between the minimum and maximum); measure your "
-                      "chip's thresholds and give --vt-plus and --vt-minus to centre on it")
+                      f"chip's thresholds and give {hint('vt_plus')} and {hint('vt_minus')} "
+                      "to centre on it")
     if spread.supply_range_v is not None and shares.get("supply", 0.0) > 0:
         lo, hi = spread.supply_range_v
         causes.append(f"the builds' supply is spread over {lo:g}..{hi:g} V while the "

@@ -9,13 +9,18 @@ import math
 import numpy as np
 
 from pulsepick.circuits.base import get_stage
+from pulsepick.hints import hint
 from pulsepick.request import SolveRequest
 from pulsepick.solve.score import (
-    FLICKER_FUSION_HZ, LEAK_MARGIN, led_current_limit, peak_needed, SEPARATE_FLASHES_MAX_HZ,
+    FLICKER_FUSION_HZ,
+    LEAK_MARGIN,
+    SEPARATE_FLASHES_MAX_HZ,
     SIGMA,
+    led_current_limit,
+    peak_needed,
 )
 from pulsepick.solve.space import _chip, _stage_wanted
-from pulsepick.solve.texts import figure_text, FIGURE_WORDS, time_text
+from pulsepick.solve.texts import FIGURE_WORDS, figure_text, time_text
 from pulsepick.solve.types import Candidate
 
 
@@ -203,7 +208,7 @@ def _period_too_long(req: SolveRequest, target: float, got: float, longest: floa
                 f"reaching up to {time_text(leaky[1])} with {ranges} were left out for that "
                 "reason; a longer period needs a counter stage dividing a shorter one.")
     return (f"{head} Nothing searched goes above {time_text(longest)} with {ranges}: a "
-            "larger --max-r or --cap-range, or a counter stage, would be needed.")
+            f"larger {hint('max_r')} or {hint('cap_range')}, or a counter stage, would be needed.")
 
 
 def _why_high(req: SolveRequest, key: str) -> str:
@@ -212,7 +217,7 @@ def _why_high(req: SolveRequest, key: str) -> str:
     if key == "period_s":
         return (f": with resistors up to {format_eng(req.r_max_ohm, 'Ω')} and capacitors up "
                 f"to {format_eng(req.c_max_f, 'F')} no longer period was found (a larger "
-                "--max-r or --cap-range, or a counter stage, would be needed).")
+                f"{hint('max_r')} or {hint('cap_range')}, or a counter stage, would be needed).")
     if key in ("led_peak_a", "effective_a", "effective_mcd"):
         return (f": the LED's own resistance and the chip's output resistance at "
                 f"{req.supply_v:.2f} V limit the current (a brighter LED colour, a higher "

@@ -12,11 +12,12 @@ from typing import Any
 
 import numpy as np
 
-from pulsepick.circuits.base import core_fits_chip, DARK, get_core, get_stage, RUNS, Topology
+from pulsepick.circuits.base import DARK, RUNS, Topology, core_fits_chip, get_core, get_stage
+from pulsepick.hints import hint
 from pulsepick.request import SolveRequest
 from pulsepick.runner import Runner, runner_or_serial
 from pulsepick.solve.explain import _explain, _prechecks
-from pulsepick.solve.score import misses, n_parts, PARTS_WEIGHT
+from pulsepick.solve.score import PARTS_WEIGHT, misses, n_parts
 from pulsepick.solve.search import _Pick, _Searcher
 from pulsepick.solve.space import _chip, _space, _variants, aim_env, aim_levels, stage_cap_kind
 from pulsepick.solve.types import Candidate, SolveResult
@@ -100,9 +101,10 @@ def solve(req: SolveRequest, *, runner: Runner | None = None) -> SolveResult:
     if space.c_timing.size == 0:
         kinds = ", ".join(req.timing_caps)
         explanations.append(f"No timing capacitor of the kinds allowed ({kinds}) is {where}; "
-                            "allow other kinds with --timing-cap or widen --cap-range.")
+                            f"allow other kinds with {hint('timing_cap')} or widen "
+                            f"{hint('cap_range')}.")
     if space.r_timing.size == 0:
-        explanations.append(f"No timing resistor is {where} (--min-r to --max-r).")
+        explanations.append(f"No timing resistor is {where} ({hint('min_r')} to {hint('max_r')}).")
     picks: list[_Pick] = []
     evaluated = 0
     seen: dict[str, list[float]] = {}
@@ -195,7 +197,7 @@ def solve(req: SolveRequest, *, runner: Runner | None = None) -> SolveResult:
     if not success and not explanations:
         explanations.append("No combination of the allowed parts oscillates with a visible "
                             "LED at this supply; widen the value ranges, allow more circuits "
-                            "(--cores, --stages) or another LED or chip.")
+                            f"({hint('cores')}, {hint('stages')}) or another LED or chip.")
     if not success:
         running = []
     else:
