@@ -173,115 +173,184 @@ def solve_build(breq, *, runner: Runner | None = None,
         when the lights cannot fit ``max_packages`` even with the fewest gates; the
         message gives the count.
     """
-    from pulsepick.analysis import multi
     from pulsepick.request import BuildRequest
 
     assert isinstance(breq, BuildRequest)
     t0 = time.perf_counter()
     names = [li.name for li in breq.lights]
-    if breq.max_packages is not None:
-        least = multi.plan_packages(_least_uses(breq), dusk_detector=breq.dusk_detector)
-        text = multi.package_limit_error(least, breq.max_packages)
-        if text is not None:
-            raise RequestError(text)
+    _check_least_packages(breq)
+    from pulsepick import packing
     from pulsepick.packing import solve_lights
 
     results, pack_notes = solve_lights(breq, solve, runner=runner)
     failed = [n for n, r in zip(names, results, strict=True) if not r.success]
     if failed:
-        lights = tuple(LightPick(n, r, r.candidates[0] if r.candidates else None,
-                                 li.request.targets.period_s)
-                       for n, r, li in zip(names, results, breq.lights, strict=True))
-        return BuildResult(
-            request=breq, lights=lights, plan=None, risks=(), risks_before=None,
-            spread_out=None, total_supply_a=math.nan, success=False,
-            message=f"nothing can be offered for {', '.join(failed)}",
-            warnings=tuple(f"{n}: {e}" for n, r in zip(names, results, strict=True)
-                           for e in r.explanations),
-            search_s=time.perf_counter() - t0)
+        return _failed_build(breq, names, results, failed, t0)
     chosen = _one_family(breq, names, results, [0] * len(results))
     chosen = _fit_packages(breq, names, results, chosen)
     picks = [results[i].candidates[k] for i, k in enumerate(chosen)]
     plan = _plan(breq, names, picks)
     groups = [plan.package_of(i) for i in range(len(picks))]
     asked = [li.request.targets.period_s for li in breq.lights]
-    margin = breq.lock_margin
-
-    def bands(cands):
-        return [multi.ratio_samples(c.design, seed=breq.lights[i].request.seed + i,
-                                    resistor_tol_pct=_r_tols(c))
-                for i, c in enumerate(cands)]
-
-    from pulsepick import packing
-    from pulsepick.analysis.lock import ACCEPTABLE_LOCK_SHARE, minimise_share
-
-    def at_night(cands):
-        """A photoresistor light's network, and the light with the timing resistance the
-        network has in the night's light: its figures are the night's."""
-        if not breq.photoresistors:
-            return list(cands), {}
-        lr = packing.light_rates(breq, cands)
-        lux = packing.night_lux(breq)
-        vals = packing.night_values(lr, cands, lux)
-        return [_revalue(breq.lights[i].request, c, vals[i],
-                         note=f"figures at the night's light level {lux:g} lx (typical "
-                              "photoresistor)") if i in vals else c
-                for i, c in enumerate(cands)], lr
-
-    picks, rates = at_night(picks)
-    samples = bands(picks)
-    periods = [c.figures["period_s"] for c in picks]
-    risks = multi.lock_risks(periods, groups, samples, margin=margin)
+    lock_seed = breq.lights[0].request.seed
+    picks, rates, samples, periods, risks, night, share = _lock_state(breq, picks, groups,
+                                                                      lock_seed)
     risks_before = None
     choice = None
     moved = [False] * len(picks)
-    lock_seed = breq.lights[0].request.seed
+    share_before = None
+    if breq.spread_out:
+        choice, new, moved = _spread_out(breq, picks, asked, groups, samples, periods, night,
+                                         share)
+        risks_before = risks
+        share_before = share
+        picks, rates, samples, periods, risks, night, share = _lock_state(breq, new, groups,
+                                                                          lock_seed)
+        choice = _spread_out_outcome(breq, choice, share_before, share)
+    picks, remedies = _assess_with_remedies(breq, results, picks, groups, share, asked, night,
+                                            lock_seed, runner, assess_picks)
+    picks = _numbered(picks, rates, groups)
+    gating = _dusk_gating(breq, picks, rates)
+    warnings = _build_warnings(breq, names, pack_notes, share, remedies, gating, rates)
+    total = _night_supply_a(picks, night)
+    ok, message = packing.build_verdict(breq, len(picks), len(plan.packages), share,
+                                        spread=choice is not None)
+    lights = tuple(LightPick(n, r, c, asked[i], moved[i])
+                   for i, (n, r, c) in enumerate(zip(names, results, picks, strict=True)))
+    return BuildResult(request=breq, lights=lights, plan=plan, risks=risks,
+                       risks_before=risks_before, spread_out=choice, total_supply_a=total,
+                       success=ok, message=message, warnings=tuple(warnings),
+                       search_s=time.perf_counter() - t0, lock_share=share,
+                       lock_share_before=share_before, remedies=remedies, gating=gating,
+                       rates=rates, night_designs=tuple(night))
+
+
+def _check_least_packages(breq) -> None:
+    """Raise before solving when even the fewest gates cannot fit ``max_packages``."""
+    from pulsepick.analysis import multi
+
+    if breq.max_packages is not None:
+        least = multi.plan_packages(_least_uses(breq), dusk_detector=breq.dusk_detector)
+        text = multi.package_limit_error(least, breq.max_packages)
+        if text is not None:
+            raise RequestError(text)
+
+
+def _failed_build(breq, names, results, failed, t0: float) -> BuildResult:
+    """The build when a light has nothing offered: each light's own solve and its
+    explanations as warnings."""
+    lights = tuple(LightPick(n, r, r.candidates[0] if r.candidates else None,
+                             li.request.targets.period_s)
+                   for n, r, li in zip(names, results, breq.lights, strict=True))
+    return BuildResult(
+        request=breq, lights=lights, plan=None, risks=(), risks_before=None,
+        spread_out=None, total_supply_a=math.nan, success=False,
+        message=f"nothing can be offered for {', '.join(failed)}",
+        warnings=tuple(f"{n}: {e}" for n, r in zip(names, results, strict=True)
+                       for e in r.explanations),
+        search_s=time.perf_counter() - t0)
+
+
+def _bands(breq, cands) -> list:
+    """Each light's period ratio samples over its parts' tolerances."""
+    from pulsepick.analysis import multi
+
+    return [multi.ratio_samples(c.design, seed=breq.lights[i].request.seed + i,
+                                resistor_tol_pct=_r_tols(c))
+            for i, c in enumerate(cands)]
+
+
+def _at_night(breq, cands):
+    """A photoresistor light's network, and the light with the timing resistance the
+    network has in the night's light: its figures are the night's."""
+    from pulsepick import packing
+
+    if not breq.photoresistors:
+        return list(cands), {}
+    lr = packing.light_rates(breq, cands)
+    lux = packing.night_lux(breq)
+    vals = packing.night_values(lr, cands, lux)
+    return [_revalue(breq.lights[i].request, c, vals[i],
+                     note=f"figures at the night's light level {lux:g} lx (typical "
+                          "photoresistor)") if i in vals else c
+            for i, c in enumerate(cands)], lr
+
+
+def _lock_state(breq, cands, groups, lock_seed: int):
+    """The picks with their figures at night and what the lock check reads of them:
+    ``(picks, rates, samples, periods, risks, night, share)`` (the photoresistor lights'
+    rates, each light's period ratio samples and period, the pair risks, the designs as
+    they run at night and the build's lock share)."""
+    from pulsepick import packing
+    from pulsepick.analysis import multi
+
+    picks, rates = _at_night(breq, cands)
+    samples = _bands(breq, picks)
+    periods = [c.figures["period_s"] for c in picks]
+    risks = multi.lock_risks(periods, groups, samples, margin=breq.lock_margin)
     # a photoresistor light runs at night at its network's value in the night's light
     night = packing.night_designs(breq, picks, rates)
     share = packing.build_lock_share(breq, picks, groups, seed=lock_seed, designs=night)
-    share_before = None
-    if breq.spread_out:
-        options = [_period_options(breq.lights[i].request, c, asked[i], breq.period_tolerance)
-                   for i, c in enumerate(picks)]
-        pairs = [(i, j) for i, j in itertools.combinations(range(len(picks)), 2)
-                 if groups[i] == groups[j]]
-        offsets = {}
-        for i, j in pairs:
-            lo, hi = multi.pair_band(samples[i], samples[j])
-            x = math.log(periods[i] / periods[j])
-            offsets[(i, j)] = (lo - x, hi - x) if math.isfinite(lo) else (0.0, 0.0)
-        choice = multi.choose_periods(asked, [o.periods_s for o in options], pairs, offsets,
-                                      margin=margin, tolerance=breq.period_tolerance)
-        # the least share of builds near a lock, from the clearest choice among others
-        k = packing.night_scales(picks, night)
-        best, _ = minimise_share([a * k[i] for i, a in enumerate(asked)],
-                                 [o.periods_s * k[i] for i, o in enumerate(options)], share,
-                                 [p * k[i] for i, p in enumerate(periods)], groups,
-                                 starts=[list(choice.chosen)])
-        choice = replace(choice, chosen=tuple(best), chosen_s=tuple(
-            float(options[i].periods_s[k]) for i, k in enumerate(best)))
-        risks_before = risks
-        share_before = share
-        new = []
-        for i, c in enumerate(picks):
-            values = options[i].values[choice.chosen[i]]
-            if choice.chosen[i] == options[i].original:
-                new.append(c)
-                continue
-            moved[i] = True
-            new.append(_revalue(breq.lights[i].request, c, values))
-        picks, rates = at_night(new)
-        samples = bands(picks)
-        periods = [c.figures["period_s"] for c in picks]
-        risks = multi.lock_risks(periods, groups, samples, margin=margin)
-        night = packing.night_designs(breq, picks, rates)
-        share = packing.build_lock_share(breq, picks, groups, seed=lock_seed, designs=night)
-        limit = (ACCEPTABLE_LOCK_SHARE if breq.max_lock_share is None
-                 else breq.max_lock_share)
-        choice = replace(choice, success=share.share <= limit, message=(
-            f"the share of builds with a pair near a lock goes from {share_before.share:.1%} "
-            f"to {share.share:.1%} (least within {breq.period_tolerance:.0%} of the periods "
-            "asked)"))
+    return picks, rates, samples, periods, risks, night, share
+
+
+def _spread_out(breq, picks, asked, groups, samples, periods, night, share):
+    """The spread-out search: the periods chosen within the tolerance to keep the pairs
+    sharing a package clear of a lock, the picks with those timing values and which of
+    them moved."""
+    from pulsepick import packing
+    from pulsepick.analysis import multi
+    from pulsepick.analysis.lock import minimise_share
+
+    options = [_period_options(breq.lights[i].request, c, asked[i], breq.period_tolerance)
+               for i, c in enumerate(picks)]
+    pairs = [(i, j) for i, j in itertools.combinations(range(len(picks)), 2)
+             if groups[i] == groups[j]]
+    offsets = {}
+    for i, j in pairs:
+        lo, hi = multi.pair_band(samples[i], samples[j])
+        x = math.log(periods[i] / periods[j])
+        offsets[(i, j)] = (lo - x, hi - x) if math.isfinite(lo) else (0.0, 0.0)
+    choice = multi.choose_periods(asked, [o.periods_s for o in options], pairs, offsets,
+                                  margin=breq.lock_margin, tolerance=breq.period_tolerance)
+    # the least share of builds near a lock, from the clearest choice among others
+    k = packing.night_scales(picks, night)
+    best, _ = minimise_share([a * k[i] for i, a in enumerate(asked)],
+                             [o.periods_s * k[i] for i, o in enumerate(options)], share,
+                             [p * k[i] for i, p in enumerate(periods)], groups,
+                             starts=[list(choice.chosen)])
+    choice = replace(choice, chosen=tuple(best), chosen_s=tuple(
+        float(options[i].periods_s[k]) for i, k in enumerate(best)))
+    moved = [False] * len(picks)
+    new = []
+    for i, c in enumerate(picks):
+        values = options[i].values[choice.chosen[i]]
+        if choice.chosen[i] == options[i].original:
+            new.append(c)
+            continue
+        moved[i] = True
+        new.append(_revalue(breq.lights[i].request, c, values))
+    return choice, new, moved
+
+
+def _spread_out_outcome(breq, choice, share_before, share):
+    """The spread-out choice with its verdict: the lock share it leaves against the limit."""
+    from pulsepick.analysis.lock import ACCEPTABLE_LOCK_SHARE
+
+    limit = (ACCEPTABLE_LOCK_SHARE if breq.max_lock_share is None
+             else breq.max_lock_share)
+    return replace(choice, success=share.share <= limit, message=(
+        f"the share of builds with a pair near a lock goes from {share_before.share:.1%} "
+        f"to {share.share:.1%} (least within {breq.period_tolerance:.0%} of the periods "
+        "asked)"))
+
+
+def _assess_with_remedies(breq, results, picks, groups, share, asked, night, lock_seed: int,
+                          runner: Runner | None, assess_picks: bool):
+    """The picks, verified with :func:`assess` when ``assess_picks``, and the remedies
+    for the lock share, ranked by the share each leaves."""
+    from pulsepick import packing
+
     chosen_picks = list(picks)
 
     def remedies_fn():
@@ -298,21 +367,35 @@ def solve_build(breq, *, runner: Runner | None = None,
         picks = [_assessed(c, out) for c, out in zip(picks, outs, strict=True)]
     else:
         remedies = remedies_fn()
-    picks = _numbered(picks, rates, groups)
+    return picks, remedies
+
+
+def _dusk_gating(breq, picks, rates):
+    """The dusk detector's hold on every light (BuildGating); None without a detector."""
+    if not breq.dusk_detector:
+        return None
+    from pulsepick import packing
+    from pulsepick.analysis.gating import build_gating
+
+    return build_gating(packing.held_designs(picks, rates), *packing.supply_span(
+        breq.lights[0].request))
+
+
+def _build_warnings(breq, names, pack_notes, share, remedies, gating, rates) -> list[str]:
+    """The build's warnings: the packing notes, the pair most often near a lock and the
+    remedies, a dusk hold that does not hold, the photoresistor lights' rates."""
+    from pulsepick import packing
+
     warnings = list(pack_notes)
     near = [p for p in share.pairs if p.share > 0]
     if near:
-        warnings.append(packing.share_text(names, max(near, key=lambda p: p.share), margin,
-                                           breq.spread_out, share.share, len(near)))
+        warnings.append(packing.share_text(names, max(near, key=lambda p: p.share),
+                                           breq.lock_margin, breq.spread_out, share.share,
+                                           len(near)))
     if any(p.share > 0 for p in share.pairs) and packing.remedies_text(remedies,
                                                                        breq.spread_out):
         warnings.append(packing.remedies_text(remedies, breq.spread_out))
-    gating = None
     if breq.dusk_detector:
-        from pulsepick.analysis.gating import build_gating
-
-        gating = build_gating(packing.held_designs(picks, rates), *packing.supply_span(
-            breq.lights[0].request))
         for h in gating.holds:
             if not h.holds:
                 warnings.append(
@@ -321,21 +404,16 @@ def solve_build(breq, *, runner: Runner | None = None,
                     f"threshold limit of {h.limit_v:.2f} V; it may keep blinking by day")
     for i, lr in rates.items():
         warnings.extend(f"{names[i]}: {w}" for w in getattr(lr.rate, "warnings", ()))
-    # the night's draw: a photoresistor light at the night's light level
-    # every light at the switching levels its figures use (the median chip aimed at)
-    total = float(sum(c.figures["supply_avg_a"] if d is c.design else
-                      np.ravel(d.fast(**_levels_kw(c)).supply_avg_a)[0]
-                      for c, d in zip(picks, night, strict=True)))
-    ok, message = packing.build_verdict(breq, len(picks), len(plan.packages), share,
-                                        spread=choice is not None)
-    lights = tuple(LightPick(n, r, c, asked[i], moved[i])
-                   for i, (n, r, c) in enumerate(zip(names, results, picks, strict=True)))
-    return BuildResult(request=breq, lights=lights, plan=plan, risks=risks,
-                       risks_before=risks_before, spread_out=choice, total_supply_a=total,
-                       success=ok, message=message, warnings=tuple(warnings),
-                       search_s=time.perf_counter() - t0, lock_share=share,
-                       lock_share_before=share_before, remedies=remedies, gating=gating,
-                       rates=rates, night_designs=tuple(night))
+    return warnings
+
+
+def _night_supply_a(picks, night) -> float:
+    """A, all lights' average supply current: the night's draw, a photoresistor light at
+    the night's light level, every light at the switching levels its figures use (the
+    median chip aimed at)."""
+    return float(sum(c.figures["supply_avg_a"] if d is c.design else
+                     np.ravel(d.fast(**_levels_kw(c)).supply_avg_a)[0]
+                     for c, d in zip(picks, night, strict=True)))
 
 
 def _numbered(picks, rates, groups) -> list:

@@ -69,12 +69,45 @@ def solve(req: SolveRequest, *, runner: Runner | None = None) -> SolveResult:
     tasks, e.g. on the caller's worker processes. Reference verification, spread,
     drift and warnings come from :func:`assess`.
     """
-    from pulsepick.engine.environment import PartChoice, chip_model
-
     t_start = time.perf_counter()
     _TIMING_CACHE.clear()  # each search counts and times its own sweeps
     search = next(_SEARCHES)
     explanations, nothing = _prechecks(req)
+    tasks, notes = _search_tasks(req, search)
+    explanations += notes
+    explanations += _request_notes(req)
+    picks, evaluated, seen = _run_searches(tasks, runner)
+    chosen = _chosen_picks(req, picks)
+    aims = req.aims()
+    candidates = [_candidate(req, rank, pick, aims) for rank, pick in enumerate(chosen, start=1)]
+    running = [c for c in candidates if c.figures["status"] == RUNS]
+    nearest = None
+    if not running and candidates:
+        nearest = dict(candidates[0].figures)
+    explanations += _explain(req, aims, seen, running)
+    success = bool(running) and not nothing
+    if not success and not explanations:
+        explanations.append("No combination of the allowed parts oscillates with a visible "
+                            "LED at this supply; widen the value ranges, allow more circuits "
+                            f"({hint('cores')}, {hint('stages')}) or another LED or chip.")
+    if not success:
+        running = []
+    else:
+        running = [replace(c, rank=i) for i, c in enumerate(running, start=1)]
+    message = (f"{len(running)} circuits offered" if success else
+               "nothing can be offered for this request")
+    return SolveResult(
+        request=req, candidates=tuple(running), explanations=tuple(explanations),
+        nearest=nearest, evaluated=evaluated, search_s=time.perf_counter() - t_start,
+        success=success, message=message,
+    )
+
+
+def _search_tasks(req: SolveRequest, search: int) -> tuple[list[tuple], list[str]]:
+    """The search tasks (arguments of :func:`_search_task`) for every chip family
+    powered at the supply, and the note naming the families left out."""
+    from pulsepick.engine.environment import chip_model
+
     tasks = []
     unpowered = []
     for family in req.families:
@@ -86,50 +119,72 @@ def solve(req: SolveRequest, *, runner: Runner | None = None) -> SolveResult:
         for core, steer, topos in _variants(req):
             if core_fits_chip(core, chip.is_timer):
                 tasks.append((req, family, core, steer, topos, search))
+    notes = []
     if unpowered:
-        explanations.append(
+        notes.append(
             f"At {req.supply_v:.2f} V these chips are outside their supply range and were "
             f"left out: {', '.join(unpowered)}.")
+    return tasks, notes
+
+
+def _request_notes(req: SolveRequest) -> list[str]:
+    """Notes on the request itself: a family given that stops before the end of the
+    night, no timing capacitor or resistor in the allowed values."""
+    notes = []
     if "family" not in req.defaults:
         from pulsepick.packing import family_plan
 
         note = family_plan(req).note  # the family given stops before the end of the night
         if note:
-            explanations.append(f"Family {note}.")
+            notes.append(f"Family {note}.")
     space = _space(req)
     where = f"in {req.stock.source}" if req.stock is not None else "in the allowed ranges"
     if space.c_timing.size == 0:
         kinds = ", ".join(req.timing_caps)
-        explanations.append(f"No timing capacitor of the kinds allowed ({kinds}) is {where}; "
-                            f"allow other kinds with {hint('timing_cap')} or widen "
-                            f"{hint('cap_range')}.")
+        notes.append(f"No timing capacitor of the kinds allowed ({kinds}) is {where}; "
+                     f"allow other kinds with {hint('timing_cap')} or widen "
+                     f"{hint('cap_range')}.")
     if space.r_timing.size == 0:
-        explanations.append(f"No timing resistor is {where} ({hint('min_r')} to {hint('max_r')}).")
+        notes.append(f"No timing resistor is {where} ({hint('min_r')} to {hint('max_r')}).")
+    return notes
+
+
+def _load_integrator_meanwhile() -> None:
+    """Import the reference engine's integrator while the worker processes search.
+
+    scipy.integrate is slow to import: imported here, the workers of assess() start
+    with it (they are forked from this process); a signal waits until the import is
+    whole."""
+    from pulsepick.engine.reference import load_integrator
+    from pulsepick.runner import signals_deferred
+
+    with signals_deferred():
+        load_integrator()
+
+
+def _run_searches(tasks: list[tuple], runner: Runner | None
+                  ) -> tuple[list[_Pick], int, dict[str, list[float]]]:
+    """Run the search tasks: every pick found, the evaluations counted and the span of
+    each figure seen."""
     picks: list[_Pick] = []
     evaluated = 0
     seen: dict[str, list[float]] = {}
-    def meanwhile() -> None:
-        # the reference engine's integrator (scipy.integrate) is slow to import: import
-        # it here while the worker processes search, so that the workers of assess()
-        # start with it (they are forked from this process); a signal waits until the
-        # import is whole
-        from pulsepick.engine.reference import load_integrator
-        from pulsepick.runner import signals_deferred
-
-        with signals_deferred():
-            load_integrator()
-
     # every search draws the median chip with numpy.random: imported once here, the
     # workers forked for the search start with it instead of each importing it
     import numpy.random  # noqa: F401
 
-    for task_picks, n, task_seen in runner_or_serial(runner).map(_search_task, tasks,
-                                                                 meanwhile=meanwhile):
+    for task_picks, n, task_seen in runner_or_serial(runner).map(
+            _search_task, tasks, meanwhile=_load_integrator_meanwhile):
         picks.extend(task_picks)
         evaluated += n
         for key, (lo, hi) in task_seen.items():
             old = seen.get(key)
             seen[key] = [min(lo, old[0]), max(hi, old[1])] if old else [lo, hi]
+    return picks, evaluated, seen
+
+
+def _chosen_picks(req: SolveRequest, picks: list[_Pick]) -> list[_Pick]:
+    """The picks to offer, best first: near the aims, diverse, over-rated ones last."""
     picks.sort(key=lambda p: p.cost)
     # a circuit whose flash or brightness misses its aim by more than a factor of two is
     # shown only when nothing closer exists (and is then flagged)
@@ -157,57 +212,42 @@ def solve(req: SolveRequest, *, runner: Runner | None = None) -> SolveResult:
                 taken.add(ident(pick))
                 chosen.append(pick)
     chosen.sort(key=lambda p: p.cost)
+    # a circuit with a current over a rating (the LED's, a gate pin's) never ranks first
+    chosen.sort(key=lambda p: _over_rating(req, p))
+    return chosen
 
+
+def _over_rating(req: SolveRequest, pick: _Pick) -> bool:
+    """True when a current of the pick is over a rating (the LED's, a gate pin's)."""
     from pulsepick.analysis.ratings import over_rating
     from pulsepick.design import Design
+    from pulsepick.engine.environment import PartChoice
 
-    def _over(pick: _Pick) -> bool:
-        d = Design(pick.topo, pick.values, _chip(req, pick.family), PartChoice(led=req.led),
-                   req.supply_v)
-        return over_rating(d, float(pick.figures["led_peak_a"]))
+    d = Design(pick.topo, pick.values, _chip(req, pick.family), PartChoice(led=req.led),
+               req.supply_v)
+    return over_rating(d, float(pick.figures["led_peak_a"]))
 
-    # a circuit with a current over a rating (the LED's, a gate pin's) never ranks first
-    chosen.sort(key=_over)
 
-    aims = req.aims()
-    candidates = []
-    for rank, pick in enumerate(chosen, start=1):
-        design = Design(pick.topo, pick.values, _chip(req, pick.family),
-                        PartChoice(led=req.led, timing_cap=pick.kind,
-                                   stage_cap=_stage_kind(req, pick)), req.supply_v)
-        figs = pick.figures
-        errors = {key: (figs[key] / target - 1.0 if np.isfinite(figs[key]) else math.nan)
-                  for key, (target, _) in aims.items()}
-        candidates.append(Candidate(
-            rank=rank, design=design, parts=_parts(req, design, figs), figures=figs,
-            errors=errors, score=pick.cost,
-            score_parts=dict(pick.parts_cost, parts=PARTS_WEIGHT * n_parts(pick.topo,
-                                                                            pick.values)),
-            period_spread=math.sqrt(pick.var), end_figures=pick.end_figures,
-            notes=_candidate_notes(req, design, figs, pick.end_figures),
-            aim_levels_v=aim_levels(req, design.chip, pick.topo.core, pick.topo.steer),
-            misses=misses(req, figs),
-        ))
-    running = [c for c in candidates if c.figures["status"] == RUNS]
-    nearest = None
-    if not running and candidates:
-        nearest = dict(candidates[0].figures)
-    explanations += _explain(req, aims, seen, running)
-    success = bool(running) and not nothing
-    if not success and not explanations:
-        explanations.append("No combination of the allowed parts oscillates with a visible "
-                            "LED at this supply; widen the value ranges, allow more circuits "
-                            f"({hint('cores')}, {hint('stages')}) or another LED or chip.")
-    if not success:
-        running = []
-    else:
-        running = [replace(c, rank=i) for i, c in enumerate(running, start=1)]
-    message = (f"{len(running)} circuits offered" if success else
-               "nothing can be offered for this request")
-    return SolveResult(
-        request=req, candidates=tuple(running), explanations=tuple(explanations),
-        nearest=nearest, evaluated=evaluated, search_s=time.perf_counter() - t_start,
-        success=success, message=message,
+def _candidate(req: SolveRequest, rank: int, pick: _Pick, aims: dict) -> Candidate:
+    """The pick offered at ``rank``: its design with parts, figures, errors and notes."""
+    from pulsepick.design import Design
+    from pulsepick.engine.environment import PartChoice
+
+    design = Design(pick.topo, pick.values, _chip(req, pick.family),
+                    PartChoice(led=req.led, timing_cap=pick.kind,
+                               stage_cap=_stage_kind(req, pick)), req.supply_v)
+    figs = pick.figures
+    errors = {key: (figs[key] / target - 1.0 if np.isfinite(figs[key]) else math.nan)
+              for key, (target, _) in aims.items()}
+    return Candidate(
+        rank=rank, design=design, parts=_parts(req, design, figs), figures=figs,
+        errors=errors, score=pick.cost,
+        score_parts=dict(pick.parts_cost, parts=PARTS_WEIGHT * n_parts(pick.topo,
+                                                                        pick.values)),
+        period_spread=math.sqrt(pick.var), end_figures=pick.end_figures,
+        notes=_candidate_notes(req, design, figs, pick.end_figures),
+        aim_levels_v=aim_levels(req, design.chip, pick.topo.core, pick.topo.steer),
+        misses=misses(req, figs),
     )
 
 
