@@ -289,6 +289,20 @@ def _period_map(design: Design, param: str, levels: dict | None = None
     return r[keep], p[keep]
 
 
+def _check_reachable(r_map, p_map, lo_p: float, hi_p: float) -> None:
+    """Refuse a period range (s) wholly below or above what the circuit's map gives."""
+    if lo_p < p_map[0] * (1 - 1e-9) and hi_p < p_map[0]:
+        raise RequestError(
+            f"period range {format_eng(lo_p, 's')}..{format_eng(hi_p, 's')} is below anything "
+            f"this circuit gives ({format_eng(p_map[0], 's')} at "
+            f"{format_eng(r_map[0], 'Ω')}); use a smaller timing capacitor")
+    if lo_p > p_map[-1]:
+        raise RequestError(
+            f"period range {format_eng(lo_p, 's')}..{format_eng(hi_p, 's')} is above anything "
+            f"this circuit gives before it stalls ({format_eng(p_map[-1], 's')}); use a "
+            "larger timing capacitor")
+
+
 def _resistance_for(r_map, p_map, period: float) -> float:
     return float(np.exp(np.interp(math.log(period), np.log(p_map), np.log(r_map))))
 
@@ -323,16 +337,7 @@ def solve_clamp(design: Design, ldr: Photoresistor, period_range_s: tuple[float,
     lo_p, hi_p = (float(x) for x in period_range_s)
     param = timing_param(design)
     r_map, p_map = _period_map(design, param, levels)
-    if lo_p < p_map[0] * (1 - 1e-9) and hi_p < p_map[0]:
-        raise RequestError(
-            f"period range {format_eng(lo_p, 's')}..{format_eng(hi_p, 's')} is below anything "
-            f"this circuit gives ({format_eng(p_map[0], 's')} at "
-            f"{format_eng(r_map[0], 'Ω')}); use a smaller timing capacitor")
-    if lo_p > p_map[-1]:
-        raise RequestError(
-            f"period range {format_eng(lo_p, 's')}..{format_eng(hi_p, 's')} is above anything "
-            f"this circuit gives before it stalls ({format_eng(p_map[-1], 's')}); use a "
-            "larger timing capacitor")
+    _check_reachable(r_map, p_map, lo_p, hi_p)
     r_lo = _resistance_for(r_map, p_map, max(lo_p, p_map[0]))
     r_hi = _resistance_for(r_map, p_map, min(hi_p, p_map[-1]))
     e_lo, e_hi = (float(x) for x in lux_range)

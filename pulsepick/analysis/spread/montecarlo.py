@@ -152,88 +152,24 @@ def spread(design: Design, *, target_period_s: float | None = None,
     -------
     SpreadResult
     """
-    if not (isinstance(builds, int) and 2 <= builds <= 1_000_000):
-        raise RequestError(f"builds {builds!r}: accepted a whole number from 2 to 1,000,000")
-    if not (isinstance(seed, int) and seed >= 0):
-        raise RequestError(f"seed {seed!r}: accepted a whole number of 0 or more")
-    if not (isinstance(yield_band, (int, float)) and 0 < yield_band < 1):
-        raise RequestError(f"yield band {yield_band!r}: accepted a fraction between 0 and 1")
-    temp_range = _check_range(temp_range_c, "temperature range", "C", positive=False)
-    supply_range = (None if supply_range_v is None
-                    else _check_range(supply_range_v, "supply range", "V", positive=True))
-    if target_period_s is not None and not (math.isfinite(target_period_s)
-                                            and target_period_s > 0):
-        raise RequestError(f"target period {target_period_s!r}: accepted a time above 0 s")
+    temp_range, supply_range = _checked_ranges(builds, seed, yield_band, temp_range_c,
+                                               supply_range_v, target_period_s)
     tols = part_tolerances(design, resistor_tol_pct, cap_tol)
-    names = [t.name for t in tols]
-    vary_set = _vary_set(vary)
-    draws = _draw(design, tols, builds, seed, temp_range, supply_range, vary_set)
-
-    runs = [("all", _run_batch(design, draws, names, builds, None))]
-    if shares:
-        n_share = min(builds, SHARE_BUILDS)
-        runs += [(s, _run_batch(design, draws, names, n_share, s))
-                 for s in SOURCES if draws.varies[s]]
-    varies = dict(draws.varies)
-    del draws  # the batches hold what the engine needs; free the raw draws first
-    nominal_batch = _Batch.nominal(design, 1, names)
-    pieces = [nominal_batch] + [b for _, b in runs]
-    if corners:
-        cb = _corner_batch(design, tols, temp_range, supply_range, varies)
-        pieces.append(cb)
-    fig = _evaluate_chunked(design, pieces)  # in engine calls of bounded size
-
-    nominal = {k: float(v[0]) for k, v in _slice(fig, slice(0, 1)).items()}
-    start = 1
-    blocks = {}
-    for name, b in runs:
-        blocks[name] = _slice(fig, slice(start, start + b.size))
-        start += b.size
+    fig, runs, cb, varies = _evaluate_builds(design, tols, builds, seed, temp_range,
+                                             supply_range, _vary_set(vary), shares, corners)
+    nominal, blocks, start = _split_blocks(fig, runs)
     allb = blocks["all"]
     target = float(target_period_s) if target_period_s is not None else nominal["period_s"]
-
-    quantiles, mc_range = {}, {}
-    for k in FIGURE_KEYS:
-        vals = _good(allb, k)
-        if vals.size:
-            quantiles[k] = tuple(float(x) for x in np.percentile(vals, QUANTILE_LEVELS))
-            mc_range[k] = (float(vals.min()), float(vals.max()))
-        else:
-            quantiles[k] = (math.nan,) * 3
-            mc_range[k] = (math.nan, math.nan)
-
-    variances = {}
-    for s in SOURCES:
-        if s in blocks:
-            p = _good(blocks[s], "period_s")
-            variances[s] = float(np.var(p)) if p.size > 1 else 0.0
-        else:
-            variances[s] = 0.0
-    total = sum(variances.values())
-    share = {s: (variances[s] / total if total > 0 else 0.0) for s in SOURCES}
+    quantiles, mc_range = _quantiles_and_range(allb)
+    share = _variance_shares(blocks)
 
     corner_rng: dict[str, tuple[float, float]] = {}
     n_corner, fails, n_stalls = 0, 0, 0
     if corners:
-        cblock = _slice(fig, slice(start, start + cb.size))
         n_corner = cb.size
-        fails = int(np.sum(cblock["status"] != RUNS))
-        n_stalls = int(np.sum(cblock["status"] == STALLS))
-        stalls = n_stalls > 0
-        for k in FIGURE_KEYS:
-            vals = _good(cblock, k)
-            lo, hi = ((float(vals.min()), float(vals.max())) if vals.size
-                      else (math.nan, math.nan))
-            if stalls and k != "led_peak_a":
-                # a stalled corner: no bound on how long a period or flash lasts, nor on
-                # what a near-stalled build averages
-                hi = math.inf
-            corner_rng[k] = (lo, hi)
+        corner_rng, fails, n_stalls = _corner_figures(fig, slice(start, start + cb.size))
 
     st = allb["status"]
-    period = allb["period_s"]
-    with np.errstate(invalid="ignore"):
-        good = (st == RUNS) & (np.abs(period / target - 1.0) <= yield_band)
     n_osc = int(np.sum((st == RUNS) | (st == DARK)))
     success = n_osc > 0
     message = "" if success else "no build oscillates with the chip powered"
@@ -248,12 +184,124 @@ def spread(design: Design, *, target_period_s: float | None = None,
         mc_range=mc_range, corners=corner_rng, corner_count=n_corner, corner_failures=fails,
         corner_stalls=n_stalls,
         shares=share if shares else {}, source_varies=varies,
-        yield_fraction=float(np.mean(good)),
+        yield_fraction=_yield_fraction(allb, target, yield_band),
         stall_fraction=float(np.mean(st == STALLS)),
         dark_fraction=float(np.mean(st == DARK)),
         unpowered_fraction=float(np.mean(st == UNPOWERED)),
         success=success, message=message, samples=samples,
     )
+
+
+def _checked_ranges(builds, seed, yield_band, temp_range_c, supply_range_v,
+                    target_period_s) -> tuple[tuple[float, float], tuple[float, float] | None]:
+    """Refuse bad run settings; the checked temperature (C) and supply (V) ranges."""
+    if not (isinstance(builds, int) and 2 <= builds <= 1_000_000):
+        raise RequestError(f"builds {builds!r}: accepted a whole number from 2 to 1,000,000")
+    if not (isinstance(seed, int) and seed >= 0):
+        raise RequestError(f"seed {seed!r}: accepted a whole number of 0 or more")
+    if not (isinstance(yield_band, (int, float)) and 0 < yield_band < 1):
+        raise RequestError(f"yield band {yield_band!r}: accepted a fraction between 0 and 1")
+    temp_range = _check_range(temp_range_c, "temperature range", "C", positive=False)
+    supply_range = (None if supply_range_v is None
+                    else _check_range(supply_range_v, "supply range", "V", positive=True))
+    if target_period_s is not None and not (math.isfinite(target_period_s)
+                                            and target_period_s > 0):
+        raise RequestError(f"target period {target_period_s!r}: accepted a time above 0 s")
+    return temp_range, supply_range
+
+
+def _evaluate_builds(design, tols, builds, seed, temp_range, supply_range, vary_set,
+                     shares, corners):
+    """Draw the builds and evaluate them with the nominal build and the corners.
+
+    Returns the figures of every piece in order (nominal, the ``runs`` batches, then the
+    corner batch), the named ``runs``, the corner batch (None without corners) and which
+    sources vary.
+    """
+    names = [t.name for t in tols]
+    draws = _draw(design, tols, builds, seed, temp_range, supply_range, vary_set)
+
+    runs = [("all", _run_batch(design, draws, names, builds, None))]
+    if shares:
+        n_share = min(builds, SHARE_BUILDS)
+        runs += [(s, _run_batch(design, draws, names, n_share, s))
+                 for s in SOURCES if draws.varies[s]]
+    varies = dict(draws.varies)
+    del draws  # the batches hold what the engine needs; free the raw draws first
+    nominal_batch = _Batch.nominal(design, 1, names)
+    pieces = [nominal_batch] + [b for _, b in runs]
+    cb = None
+    if corners:
+        cb = _corner_batch(design, tols, temp_range, supply_range, varies)
+        pieces.append(cb)
+    fig = _evaluate_chunked(design, pieces)  # in engine calls of bounded size
+    return fig, runs, cb, varies
+
+
+def _split_blocks(fig: Figures, runs) -> tuple[dict[str, float], dict[str, dict], int]:
+    """The nominal figures, one block of figures per run, and where the corners start."""
+    nominal = {k: float(v[0]) for k, v in _slice(fig, slice(0, 1)).items()}
+    start = 1
+    blocks = {}
+    for name, b in runs:
+        blocks[name] = _slice(fig, slice(start, start + b.size))
+        start += b.size
+    return nominal, blocks, start
+
+
+def _quantiles_and_range(allb: dict[str, np.ndarray]):
+    """Per figure, (P5, P50, P95) and (min, max) over the builds that oscillate."""
+    quantiles, mc_range = {}, {}
+    for k in FIGURE_KEYS:
+        vals = _good(allb, k)
+        if vals.size:
+            quantiles[k] = tuple(float(x) for x in np.percentile(vals, QUANTILE_LEVELS))
+            mc_range[k] = (float(vals.min()), float(vals.max()))
+        else:
+            quantiles[k] = (math.nan,) * 3
+            mc_range[k] = (math.nan, math.nan)
+    return quantiles, mc_range
+
+
+def _variance_shares(blocks: dict[str, dict[str, np.ndarray]]) -> dict[str, float]:
+    """Each source's share of the period variance (sums to 1, or all 0)."""
+    variances = {}
+    for s in SOURCES:
+        if s in blocks:
+            p = _good(blocks[s], "period_s")
+            variances[s] = float(np.var(p)) if p.size > 1 else 0.0
+        else:
+            variances[s] = 0.0
+    total = sum(variances.values())
+    return {s: (variances[s] / total if total > 0 else 0.0) for s in SOURCES}
+
+
+def _corner_figures(fig: Figures, sl: slice):
+    """Per figure (min, max) over the corners in ``sl``, with failing and stalling counts."""
+    corner_rng: dict[str, tuple[float, float]] = {}
+    cblock = _slice(fig, sl)
+    fails = int(np.sum(cblock["status"] != RUNS))
+    n_stalls = int(np.sum(cblock["status"] == STALLS))
+    stalls = n_stalls > 0
+    for k in FIGURE_KEYS:
+        vals = _good(cblock, k)
+        lo, hi = ((float(vals.min()), float(vals.max())) if vals.size
+                  else (math.nan, math.nan))
+        if stalls and k != "led_peak_a":
+            # a stalled corner: no bound on how long a period or flash lasts, nor on
+            # what a near-stalled build averages
+            hi = math.inf
+        corner_rng[k] = (lo, hi)
+    return corner_rng, fails, n_stalls
+
+
+def _yield_fraction(allb: dict[str, np.ndarray], target: float, yield_band: float) -> float:
+    """Share of the builds that run lit within +/- ``yield_band`` of ``target``."""
+    st = allb["status"]
+    period = allb["period_s"]
+    with np.errstate(invalid="ignore"):
+        good = (st == RUNS) & (np.abs(period / target - 1.0) <= yield_band)
+    return float(np.mean(good))
 
 
 # ----------------------------------------------------------------------- linearised
