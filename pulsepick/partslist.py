@@ -101,11 +101,7 @@ def parts_list(design, *, r_series: str = "E24", c_series: str = "E12",
         Peak LED current (A) for the series resistor's power rating; default: the
         fast engine's figure.
     """
-    from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
-    from pulsepick.parts.capsize import size_class
-    from pulsepick.parts.diode import get_diode
     from pulsepick.series import get_series
-    from pulsepick.units import format_eng, format_rkm
 
     topo, values, parts = design.topo, design.values, design.parts
     core, stage = get_core(topo.core), get_stage(topo.stage)
@@ -119,37 +115,69 @@ def parts_list(design, *, r_series: str = "E24", c_series: str = "E12",
             continue
         if p.kind == "R":
             n_r += 1
-            rating = _resistor_rating(design, p.name, value, led_peak_a)
-            lines.append(PartLine(
-                ref=f"R{n_r}", kind="resistor", value=value, unit="ohm",
-                display=format_eng(value, "Ω"), code=format_rkm(value, "R"),
-                series=_series_of(value, r_series), tolerance=_tol_text(r_tol, r_tol),
-                tolerance_pct=r_tol, dielectric="", rating=f"{rating:g} W", role=p.role,
-                param=p.name,
-                note="metal film" if r_tol <= 1 else "",
-            ))
+            lines.append(_resistor_line(design, p, value, f"R{n_r}", r_series, r_tol,
+                                        led_peak_a))
         else:
             n_c += 1
-            kind_key = parts.timing_cap if p.name == "c1" else parts.stage_cap
-            kind = get_cap_kind(kind_key)
-            rating_v = pick_voltage_rating(kind, v_max)
-            note = ""
-            if kind.key == "electrolytic":
-                note = "polarised: + to the side that sits higher"
-            elif kind.class2 and p.name == "c1":
-                note = "class-2 ceramic: value moves with voltage, temperature and age"
-            size = size_class(kind.key, value)
-            if size.rank > 0:
-                note = "; ".join(x for x in (note, f"{size.name} part: {size.why}") if x)
-            lines.append(PartLine(
-                ref=f"C{n_c}", kind="capacitor", value=value, unit="F",
-                display=format_eng(value, "F"), code=format_rkm(value, "C"),
-                series=_series_of(value, c_series),
-                tolerance=_tol_text(kind.tol_minus_pct, kind.tol_plus_pct),
-                tolerance_pct=max(kind.tol_minus_pct, kind.tol_plus_pct),
-                dielectric=kind.name, rating=f"{rating_v:g} V", role=p.role, param=p.name,
-                note=note,
-            ))
+            lines.append(_capacitor_line(parts, p, value, f"C{n_c}", c_series, v_max))
+    lines.extend(_extra_lines(topo, parts))
+    lines.append(_led_line(topo, parts))
+    return tuple(lines)
+
+
+def _resistor_line(design, p, value: float, ref: str, r_series: str, r_tol: float,
+                   led_peak_a: float | None) -> PartLine:
+    """The line of the resistor ``ref`` standing for circuit value ``p`` of ``value`` ohm,
+    with tolerance ``r_tol`` (%) and the power rating the LED current asks for."""
+    from pulsepick.units import format_eng, format_rkm
+
+    rating = _resistor_rating(design, p.name, value, led_peak_a)
+    return PartLine(
+        ref=ref, kind="resistor", value=value, unit="ohm",
+        display=format_eng(value, "Ω"), code=format_rkm(value, "R"),
+        series=_series_of(value, r_series), tolerance=_tol_text(r_tol, r_tol),
+        tolerance_pct=r_tol, dielectric="", rating=f"{rating:g} W", role=p.role,
+        param=p.name,
+        note="metal film" if r_tol <= 1 else "",
+    )
+
+
+def _capacitor_line(parts, p, value: float, ref: str, c_series: str,
+                    v_max: float) -> PartLine:
+    """The line of the capacitor ``ref`` standing for circuit value ``p`` of ``value``
+    farad: its kind from ``parts``, the usual voltage rating for a supply of ``v_max`` (V),
+    and notes on polarity, class-2 drift and size."""
+    from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
+    from pulsepick.parts.capsize import size_class
+    from pulsepick.units import format_eng, format_rkm
+
+    kind_key = parts.timing_cap if p.name == "c1" else parts.stage_cap
+    kind = get_cap_kind(kind_key)
+    rating_v = pick_voltage_rating(kind, v_max)
+    note = ""
+    if kind.key == "electrolytic":
+        note = "polarised: + to the side that sits higher"
+    elif kind.class2 and p.name == "c1":
+        note = "class-2 ceramic: value moves with voltage, temperature and age"
+    size = size_class(kind.key, value)
+    if size.rank > 0:
+        note = "; ".join(x for x in (note, f"{size.name} part: {size.why}") if x)
+    return PartLine(
+        ref=ref, kind="capacitor", value=value, unit="F",
+        display=format_eng(value, "F"), code=format_rkm(value, "C"),
+        series=_series_of(value, c_series),
+        tolerance=_tol_text(kind.tol_minus_pct, kind.tol_plus_pct),
+        tolerance_pct=max(kind.tol_minus_pct, kind.tol_plus_pct),
+        dielectric=kind.name, rating=f"{rating_v:g} V", role=p.role, param=p.name,
+        note=note,
+    )
+
+
+def _extra_lines(topo, parts) -> list[PartLine]:
+    """The diodes (D1..) and transistors (Q1..) the core and the stage add."""
+    from pulsepick.parts.diode import get_diode
+
+    lines: list[PartLine] = []
     extras = get_core(topo.core).extra_parts(topo) + get_stage(topo.stage).extra_parts(topo)
     counts: dict[str, int] = {}
     for extra in extras:
@@ -169,13 +197,17 @@ def parts_list(design, *, r_series: str = "E24", c_series: str = "E12",
             display=display, code=key, series="", tolerance="", tolerance_pct=None,
             dielectric="", rating=rating, role=extra.role, note=extra.note,
         ))
+    return lines
+
+
+def _led_line(topo, parts) -> PartLine:
+    """The LED's line, LED1."""
     led = parts.led
-    lines.append(PartLine(
+    return PartLine(
         ref="LED1", kind="led", value=None, unit="", display=led.name, code=led.key,
         series="", tolerance="", tolerance_pct=None, dielectric="", rating="",
         role="the light", note=get_stage(topo.stage).led_note(topo),
-    ))
-    return tuple(lines)
+    )
 
 
 def _chip_line(design) -> PartLine:

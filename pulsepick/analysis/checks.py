@@ -156,13 +156,11 @@ def circuit_findings(design: Design, status=None, peak_a: float | None = None,
     ``with_state`` False leaves out the state's own line (a report that prints the
     verdict's reason beside its status row).
     """
-    from pulsepick.analysis.ratings import rating_excesses
-    from pulsepick.analysis.verdict import LATCHED, verdict
+    from pulsepick.analysis.verdict import verdict
 
     out: list[Finding] = []
     kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
     env, powered = design.env(**kw)
-    vdd = design.supply_v
     if status is None or peak_a is None:
         f = design.fast(**kw)
         if status is None:
@@ -175,6 +173,17 @@ def circuit_findings(design: Design, status=None, peak_a: float | None = None,
         out.append(Finding(state.state, state.reason or state.state))
 
     i_up, i_down = charging_currents(design, env)
+    out.extend(_timing_resistor_findings(design, env))
+    out.extend(_timing_cap_findings(design, env, i_up, status))
+    out.extend(_low_r_findings(design, env))
+    out.extend(_led_findings(design, state, status, peak_a, with_state))
+    out.extend(_stage_loading_findings(design, env))
+    return out
+
+
+def _timing_resistor_findings(design: Design, env) -> list[Finding]:
+    """The input-leakage warning and every timing resistor above 10 MΩ."""
+    out: list[Finding] = []
     leak = pin_leakage_finding(design, env)
     if leak is not None:
         out.append(leak)
@@ -183,7 +192,14 @@ def circuit_findings(design: Design, status=None, peak_a: float | None = None,
             out.append(Finding("high-r",
                                f"{label} {format_eng(r, 'Ω')} is above 10 MΩ: board leakage, "
                                "flux residue and humidity can shift or stop the timing"))
+    return out
 
+
+def _timing_cap_findings(design: Design, env, i_up: float, status) -> list[Finding]:
+    """The timing capacitor's leakage against the charging current ``i_up`` (A) at VT+,
+    and the warning on its kind (electrolytic, tantalum or class-2 ceramic)."""
+    out: list[Finding] = []
+    vdd = design.supply_v
     kind = get_cap_kind(design.parts.timing_cap)
     c = design.values["c1"]
     rating = pick_voltage_rating(kind, vdd)
@@ -224,7 +240,12 @@ def circuit_findings(design: Design, status=None, peak_a: float | None = None,
             f"{TEMP_RANGE_TEXT}, keeps {100 * bias:.0f} % of its value at {vdd:g} V bias, and "
             "ages; "
             "prefer film or C0G"))
+    return out
 
+
+def _low_r_findings(design: Design, env) -> list[Finding]:
+    """A timing resistance so low that the gate's output resistance sets the timing."""
+    out: list[Finding] = []
     r_min = min(_timing_resistances(design).values())
     r_out = float(np.ravel(env.rout_high)[0])
     if r_min < LOW_R_FACTOR * r_out:
@@ -233,7 +254,18 @@ def circuit_findings(design: Design, status=None, peak_a: float | None = None,
             f"timing resistance {format_eng(r_min, 'Ω')} is within {LOW_R_FACTOR:g} x the gate's "
             f"output resistance ({r_out:.0f} Ω): the chip's drive, not the resistor, sets the "
             "timing; use at least a few kΩ"))
+    return out
 
+
+def _led_findings(design: Design, state, status, peak_a: float,
+                  with_state: bool) -> list[Finding]:
+    """Ratings the LED current exceeds, and the dark LED or the forward voltage too close
+    to the supply."""
+    from pulsepick.analysis.ratings import rating_excesses
+    from pulsepick.analysis.verdict import LATCHED
+
+    out: list[Finding] = []
+    vdd = design.supply_v
     led = design.parts.led
     rated_a = state.led_a if state.state == LATCHED else peak_a
     for excess in rating_excesses(design, rated_a if rated_a is not None else 0.0):
@@ -250,7 +282,12 @@ def circuit_findings(design: Design, status=None, peak_a: float | None = None,
                 f"LED forward voltage is close to the supply: {led.name} needs {vf:.2f} V for "
                 f"{format_eng(led.visible_a, 'A')}; the light goes dark below about "
                 f"{v_dark:.2f} V supply, so it dims and stops as the storage droops"))
+    return out
 
+
+def _stage_loading_findings(design: Design, env) -> list[Finding]:
+    """The LED stage shifting the timing by loading the timing gate's output."""
+    out: list[Finding] = []
     shift = stage_loading_shift(design)
     if shift is not None and abs(shift) > LOADING_SHIFT:
         r_out = float(np.ravel(env.rout_high)[0])
