@@ -197,6 +197,18 @@ def test_crossing_current_is_labelled_and_can_be_given(capsys):
     assert doc["assumptions"]["chip_measured"]["cross_current_a"] == pytest.approx(15e-6)
 
 
+def test_crossing_current_estimate_is_said_once_for_every_candidate(capsys):
+    out = _report(capsys, ["one flash every 3 s", "--family", "hc", "--cores", "schmitt",
+                           "--stages", "direct,pulse", "--top", "3", "--builds", "100",
+                           "--jobs", "1"])
+    line = " ".join(out[out.index("crossing current"):].split("Cautions")[0].split())
+    # one label and one explanation, each candidate's own figure beside its rank
+    assert line.startswith("crossing current of the Schmitt gate (ESTIMATE): #1 ")
+    flat = " ".join(out.split())
+    assert flat.count("ESTIMATE") == 1 and flat.count("no published figure") == 1
+    assert all(f"#{rank} " in line for rank in (1, 2, 3))
+
+
 def test_plot_and_report_are_written(capsys, tmp_path):
     pytest.importorskip("matplotlib")
     png, html = tmp_path / "garden.png", tmp_path / "garden.html"

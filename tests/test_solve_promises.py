@@ -67,7 +67,7 @@ def test_a_far_miss_is_shown_only_when_nothing_closer_exists():
 
 
 def test_size_classes():
-    # common practice (data/parts/capacitor_sizes.csv): film above 1 uF is bulky, C0G above
+    # common practice (data/parts/capacitor_sizes.csv): film above 1 µF is bulky, C0G above
     # 100 nF is rare, a small ceramic is small
     assert size_class("film-pp", 4.7e-6).name == "bulky"
     assert size_class("film-pet", 1e-6).name == "bulky"

@@ -78,7 +78,7 @@ def test_led_and_pin_ratings_named_with_fix():
     limits = sorted(e.limit_a for e in excess)
     assert limits == [20e-3, 25e-3]
     pin = next(e for e in excess if e.limit_a == 25e-3)
-    assert "ref:in74hc14a" in pin.text() and "larger RS" in pin.text()
+    assert "IN74HC14A maximum ratings" in pin.text() and "larger RS" in pin.text()
     # the RS the fix names brings the current to the limit (to 5 %)
     rs_fix = float(pin.text().split("about ")[1].split(" Ω")[0])
     d2 = _design(rs=rs_fix, buffered=True)
@@ -91,7 +91,7 @@ def test_check_warns_on_led_and_pin_current(capsys):
     assert out["status"]["state"] == "runs"
     text = " ".join(out["warnings"])
     assert "LED1" in text and "20 mA" in text  # red LED continuous rating (leds.csv)
-    assert "output pin" in text and "25 mA" in text and "ref:in74hc14a" in text
+    assert "output pin" in text and "25 mA" in text and "IN74HC14A maximum ratings" in text
 
 
 def test_check_reports_latched_with_the_led_on(capsys):

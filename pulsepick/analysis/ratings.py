@@ -58,10 +58,11 @@ class RatingExcess:
 
 
 def _cite(source: str) -> str:
-    """The short citation of a table row: its ref:KEY, else how the figure is known."""
-    keys = re.findall(r"ref:[a-z0-9.-]+", source)
-    if keys:
-        return ", ".join(dict.fromkeys(keys))
+    """The short citation of a table row for a reader: the document a published figure
+    comes from (the row's words before its first colon, without asides), else how the
+    figure is known."""
+    if re.search(r"ref:[a-z0-9.-]+", source):
+        return re.sub(r"\s*\([^)]*\)", "", source.split(":", 1)[0]).strip()
     return "from memory" if "from memory" in source else source
 
 

@@ -103,7 +103,8 @@ def run(args) -> int:
     figures["status"] = state.state
     if state.led_a is not None:  # latched: the steady current it draws instead
         figures.update(led_peak_a=state.led_a, effective_a=state.led_a,
-                       supply_avg_a=state.led_a)
+                       supply_avg_a=state.led_a, high_s=None, low_s=None, flash_s=None,
+                       flash_10pct_s=None, led_charge_c=None, effective_mcd=None)
     reason = state.reason
     if args.json:
         doc = check_json(design, figures, reason, findings, assumed, engine)
@@ -116,7 +117,7 @@ def run(args) -> int:
     render_report(console, design, figures, reason, findings, assumed, engine=engine)
     if not args.no_drawing:
         ref = ref if ref is not None else design.reference()
-        _render_waveform(console, design, ref)
+        _render_waveform(console, design, ref, state.state)
     _render_cautions(console)
     announce(args, check_pictures(args, design, figures, reason, findings, assumed, ref, engine))
     return 0
@@ -168,7 +169,12 @@ def render_report(console, design: Design, figures: dict, reason, findings, assu
                   f"visible from {format_eng(assumed['led_visible_a'], 'A')} "
                   f"({assumed['led_model_from']})")
     print_wrapped(console, f"timing capacitor: {assumed['timing_cap_kind']}")
-    if "crossing_current" in assumed:
+    if "crossing_current" in assumed and figures["status"] == "latched":
+        # the input rests between its thresholds, where the input stage draws the most
+        print_wrapped(console, "crossing current: not estimated while latched (the input "
+                      "rests between its thresholds, where the input stage draws the most; "
+                      "measure the supply current)")
+    elif "crossing_current" in assumed:
         print_wrapped(console, f"crossing current: {assumed['crossing_current']}")
     print_wrapped(console, f"effective intensity: {assumed['effective_intensity_method']}")
     if findings:
@@ -177,9 +183,10 @@ def render_report(console, design: Design, figures: dict, reason, findings, assu
             print_wrapped(console, f.text, indent="  ! ", hang="    ")
 
 
-def _render_waveform(console, design: Design, ref) -> None:
+def _render_waveform(console, design: Design, ref, state: str) -> None:
     if not ref.trace:
-        console.print("[bold]one period[/bold]  (none: the oscillator stalls)")
+        why = "it is latched" if state == "latched" else "the oscillator stalls"
+        console.print(f"[bold]one period[/bold]  (none: {why})")
         return
     env, _ = design.env()
     console.print("[bold]one period[/bold] (reference simulation)")

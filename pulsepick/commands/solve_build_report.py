@@ -54,10 +54,13 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
 
 
 def _render_lights_table(console, result) -> None:
-    """One row per light: asked and offered period, circuit, chip, flash, peak, supply."""
+    """One row per light: asked and offered period (the median of its builds where they
+    were run, as in the ranking of one light), circuit, chip, flash, peak, supply."""
+    from pulsepick.commands.solve_summary import _spread
     from pulsepick.output.render import simple_table
 
     rows = []
+    medians = False
     for li in result.lights:
         c = li.pick
         if c is None:
@@ -65,13 +68,17 @@ def _render_lights_table(console, result) -> None:
                          ""])
             continue
         f = c.figures
+        median = _spread(c)[0]
+        medians = medians or median is not None
         rows.append([li.name, _eng(li.asked_s, "s"), c.design.topo.label(),
-                     c.design.chip.family, _eng(f["period_s"], "s")
+                     c.design.chip.family, _eng(f["period_s"] if median is None else median,
+                                                "s")
                      + (" *" if li.moved else ""), _eng(f["flash_s"], "s"),
                      _eng(f["led_peak_a"], "A"), _eng(f["supply_avg_a"], "A")])
+    notes = (["period: the median of the builds"] if medians else []) + (
+        ["* period moved by --spread-out"] if any(li.moved for li in result.lights) else [])
     console.print(simple_table(
-        "Lights" + (" (* period moved by --spread-out)" if any(li.moved for li in
-                                                              result.lights) else ""),
+        "Lights" + (f" ({'; '.join(notes)})" if notes else ""),
         ["light", "asked", "circuit", "chip", "period", "flash", "peak", "supply"], rows,
         justify=["left", "right", "left", "left", "right", "right", "right", "right"]))
     console.print()

@@ -8,9 +8,10 @@ drift through the night, and one period of the best circuit's waveform.
 from __future__ import annotations
 
 import math
-import re
 
-from pulsepick.commands.solve_text import _bullet, _eng, _render_cautions, render_unmet
+from pulsepick.commands.solve_text import (
+    _bullet, _eng, _render_cautions, crossing_text, render_unmet,
+)
 from pulsepick.units import format_pct
 
 
@@ -121,25 +122,6 @@ def render_detail(console, result, *, buylist: str | None = None, pick: int = 1,
                                f"choose 1 to {len(result.candidates)}")
         result = replace(result, candidates=(result.candidates[pick - 1],))
     render_report(console, result, buylist=buylist, pick=pick, schematics=True)
-
-
-def crossing_text(result) -> str | None:
-    """The crossing-current assumption of the Schmitt candidates, once for the report."""
-    texts = [(c.rank, c.crossing_current) for c in result.candidates if c.crossing_current]
-    if not texts:
-        return None
-    ranks = " ".join(f"#{r}" for r, _ in texts)
-    if len({t for _, t in texts}) == 1:
-        return f"crossing current of the Schmitt gate ({ranks}): {texts[0][1]}"
-    # one label and one explanation, the figure of each candidate beside its rank
-    parts = [re.match(r"^(ESTIMATE|measured:) (\S+ \S+)(.*)$", t) for _, t in texts]
-    if all(parts) and len({(m.group(1), m.group(3)) for m in parts}) == 1:
-        figures = ", ".join(f"#{r} {m.group(2)}" for (r, _), m in zip(texts, parts,
-                                                                         strict=True))
-        return (f"crossing current of the Schmitt gate: {parts[0].group(1)} {figures}"
-                f"{parts[0].group(3)}")
-    return (f"crossing current of the Schmitt gate ({ranks}): "
-            + "; ".join(f"#{r} {t}" for r, t in texts))
 
 
 def _render_request(console, req, result=None) -> None:

@@ -14,24 +14,12 @@ import math
 from rich import box
 from rich.table import Table
 
-from pulsepick.commands.solve_text import _bullet, _eng, _render_cautions, render_unmet
+from pulsepick.commands.solve_text import (
+    _bullet, _eng, _render_cautions, crossing_text, render_unmet,
+)
 
 #: Columns that never wrap (a value stays with its unit).
 _NUMERIC = ("period", "P5..P95", "yield", "flash", "peak", "night")
-
-
-
-
-def _crossing_text(result) -> str | None:
-    """The crossing-current assumption of the Schmitt candidates, once for the report."""
-    texts = [(c.rank, c.crossing_current) for c in result.candidates if c.crossing_current]
-    if not texts:
-        return None
-    ranks = " ".join(f"#{r}" for r, _ in texts)
-    if len({t for _, t in texts}) == 1:
-        return f"crossing current of the Schmitt gate ({ranks}): {texts[0][1]}"
-    return (f"crossing current of the Schmitt gate ({ranks}): "
-            + "; ".join(f"#{r} {t}" for r, t in texts))
 
 
 def _source_words(key: str) -> str:
@@ -187,7 +175,7 @@ def render_summary(console, result, *, buylist: str | None = None, pick: int = 1
     console.print()
     chosen = result.candidates[min(max(pick, 1), len(result.candidates)) - 1]
     render_block(console, req, chosen, schematic=schematic)
-    crossing = _crossing_text(result)
+    crossing = crossing_text(result)
     if crossing:
         print_wrapped(console, crossing, indent="  ", hang="    ")
     console.print()

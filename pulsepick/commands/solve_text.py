@@ -3,6 +3,8 @@ notation, wrapped bullets, the cautions, and what a request cannot meet."""
 
 from __future__ import annotations
 
+import re
+
 
 def _eng(x, unit: str, digits: int = 3) -> str:
     """Engineering text of a figure; times as the solver words them; "-" when missing."""
@@ -57,3 +59,22 @@ def _nothing_line(what: str, explanations) -> None:
     reason = f": {first}" if first else ""
     print(f"pulsepick: error: nothing can be offered for \"{what}\"{reason}",
           file=sys.stderr)
+
+
+def crossing_text(result) -> str | None:
+    """The crossing-current assumption of the Schmitt candidates, once for the report."""
+    texts = [(c.rank, c.crossing_current) for c in result.candidates if c.crossing_current]
+    if not texts:
+        return None
+    ranks = " ".join(f"#{r}" for r, _ in texts)
+    if len({t for _, t in texts}) == 1:
+        return f"crossing current of the Schmitt gate ({ranks}): {texts[0][1]}"
+    # one label and one explanation, the figure of each candidate beside its rank
+    parts = [re.match(r"^(ESTIMATE|measured:) (\S+ \S+)(.*)$", t) for _, t in texts]
+    if all(parts) and len({(m.group(1), m.group(3)) for m in parts}) == 1:
+        figures = ", ".join(f"#{r} {m.group(2)}" for (r, _), m in zip(texts, parts,
+                                                                         strict=True))
+        return (f"crossing current of the Schmitt gate ({parts[0].group(1)}): {figures}"
+                f"{parts[0].group(3)}")
+    return (f"crossing current of the Schmitt gate ({ranks}): "
+            + "; ".join(f"#{r} {t}" for r, t in texts))
