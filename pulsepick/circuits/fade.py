@@ -168,43 +168,17 @@ class FadeStage(StageDefaults):
             i_off = decay_end_current(led.junction, led.junction.r_s, ch_r, i_pk, t_off_r)
             return np.minimum(led.voltage(i_off), v_end), t_start, v_end, q_on, i_pk
 
-        # periodic steady state: the map v0 -> v1 is increasing and contracting, so the
-        # fixed point is the root of F(v) = one_period(v) - v, bracketed by [0, V*]
-        # (F(0) >= 0 >= F(V*)); Illinois-style false position, vectorised
-        lo = np.zeros_like(v_star)
-        hi = v_star.copy()
-        if state is not None:  # a previous pass's answer narrows the bracket
-            lo = np.clip(v_start - 0.02, 0.0, v_star)
-            hi = np.clip(v_start + 0.02, 0.0, v_star)
-        f_lo = one_period(lo)[0] - lo
-        f_hi = one_period(hi)[0] - hi
-        if state is not None:  # where the narrow bracket misses, the whole range
-            bad_lo, bad_hi = ~(f_lo >= 0), ~(f_hi <= 0)
-            lo, hi = np.where(bad_lo, 0.0, lo), np.where(bad_hi, v_star, hi)
-            f_lo = _again(one_period, lo, f_lo, bad_lo)
-            f_hi = _again(one_period, hi, f_hi, bad_hi)
+        # periodic steady state: the root of F(v) = one_period(v) - v in its bracket;
+        # Illinois-style false position, vectorised
+        lo, hi, f_lo, f_hi = _bracket(one_period, v_star, v_start, state is not None)
         side = np.zeros(lo.shape)
         if lo.ndim == 1:
             # one_period at each row's root, kept from the row's last iteration
             v_start, t_start, v_end, q_led_on, i_pk = _root_rows(one_period, lo, hi, f_lo,
                                                                  f_hi, side)
         else:
-            for _ in range(_ROOT_STEPS):
-                with np.errstate(divide="ignore", invalid="ignore"):
-                    mid = np.where(f_lo - f_hi > 0, lo + f_lo * (hi - lo) / (f_lo - f_hi),
-                                   0.5 * (lo + hi))
-                mid = np.clip(mid, lo, hi)
-                f_mid = one_period(mid)[0] - mid
-                up = f_mid > 0
-                # Illinois: halve the value kept at the end that did not move twice running
-                f_hi = np.where(up & (side > 0), 0.5 * f_hi, f_hi)
-                f_lo = np.where(~up & (side < 0), 0.5 * f_lo, f_lo)
-                lo, f_lo = np.where(up, mid, lo), np.where(up, f_mid, f_lo)
-                hi, f_hi = np.where(up, hi, mid), np.where(up, f_hi, f_mid)
-                side = np.where(up, 1.0, -1.0)
-                if np.all((np.abs(f_mid) < 1e-9) | (hi - lo < 1e-9)):
-                    break
-            v_start, t_start, v_end, q_led_on, i_pk = one_period(mid)
+            v_start, t_start, v_end, q_led_on, i_pk = _root_batch(one_period, lo, hi, f_lo,
+                                                                  f_hi, side)
         q_led_off = ch * (v_end - v_start)
         q_in = q_led_off + q_led_on
         q_led = q_led_off + q_led_on
@@ -239,6 +213,29 @@ class FadeStage(StageDefaults):
                 "VLED hold lk 0", "DLED lk 0 DLED")
 
 
+def _bracket(one_period, v_star, v_start, warm):
+    """Bracket ``lo``, ``hi`` of the periodic steady state of ``FadeStage.fast``, with
+    F(v) = one_period(v) - v at each end: ``(lo, hi, f_lo, f_hi)``.
+
+    The map v0 -> v1 is increasing and contracting, so the fixed point is the root of F,
+    bracketed by [0, V*] (F(0) >= 0 >= F(V*)). When ``warm``, a previous pass's answer
+    ``v_start`` narrows the bracket, widened back where it misses the root.
+    """
+    lo = np.zeros_like(v_star)
+    hi = v_star.copy()
+    if warm:  # a previous pass's answer narrows the bracket
+        lo = np.clip(v_start - 0.02, 0.0, v_star)
+        hi = np.clip(v_start + 0.02, 0.0, v_star)
+    f_lo = one_period(lo)[0] - lo
+    f_hi = one_period(hi)[0] - hi
+    if warm:  # where the narrow bracket misses, the whole range
+        bad_lo, bad_hi = ~(f_lo >= 0), ~(f_hi <= 0)
+        lo, hi = np.where(bad_lo, 0.0, lo), np.where(bad_hi, v_star, hi)
+        f_lo = _again(one_period, lo, f_lo, bad_lo)
+        f_hi = _again(one_period, hi, f_hi, bad_hi)
+    return lo, hi, f_lo, f_hi
+
+
 def _again(one_period, v, f, rows):
     """``f`` with F(v) = one_period(v) - v evaluated anew where ``rows`` is true (only
     those rows when the batch is 1-D)."""
@@ -250,6 +247,30 @@ def _again(one_period, v, f, rows):
     out = np.array(f, dtype=float)
     out[idx] = one_period(v[idx], idx)[0] - v[idx]
     return out
+
+
+def _root_batch(one_period, lo, hi, f_lo, f_hi, side):
+    """The Illinois false-position loop of ``FadeStage.fast`` on a batch of any shape,
+    every element iterated until all have converged.
+
+    Returns what ``one_period`` gives at the last iterate.
+    """
+    for _ in range(_ROOT_STEPS):
+        with np.errstate(divide="ignore", invalid="ignore"):
+            mid = np.where(f_lo - f_hi > 0, lo + f_lo * (hi - lo) / (f_lo - f_hi),
+                           0.5 * (lo + hi))
+        mid = np.clip(mid, lo, hi)
+        f_mid = one_period(mid)[0] - mid
+        up = f_mid > 0
+        # Illinois: halve the value kept at the end that did not move twice running
+        f_hi = np.where(up & (side > 0), 0.5 * f_hi, f_hi)
+        f_lo = np.where(~up & (side < 0), 0.5 * f_lo, f_lo)
+        lo, f_lo = np.where(up, mid, lo), np.where(up, f_mid, f_lo)
+        hi, f_hi = np.where(up, hi, mid), np.where(up, f_hi, f_mid)
+        side = np.where(up, 1.0, -1.0)
+        if np.all((np.abs(f_mid) < 1e-9) | (hi - lo < 1e-9)):
+            break
+    return one_period(mid)
 
 
 def _root_rows(one_period, lo, hi, f_lo, f_hi, side):
