@@ -190,6 +190,9 @@ def _render_days(console, result: DaysResult) -> None:
     table.padding = (0, 1, 0, 0)  # two spaces between columns: the eleven fit in 100
     console.print(table)
     console.print(_full_note(result))
+    if any(r.charge_in_c < 0 for r in result.rows):
+        console.print("charge in below zero: on that day the diode's reverse leakage back "
+                      "into the panel took more than the light gave.")
     console.print(f"Nights lasted: {result.nights_lasted} of {len(result.rows)}.")
 
 
