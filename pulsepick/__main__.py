@@ -1,7 +1,5 @@
 """Allow ``python -m pulsepick``."""
 
-import sys
+from pulsepick.cli import run
 
-from pulsepick.cli import main
-
-sys.exit(main())
+run()

@@ -17,6 +17,7 @@ signal, an error) the workers are killed at once instead of being waited for.
 from __future__ import annotations
 
 import contextlib
+import gc
 import os
 import signal
 import threading
@@ -48,6 +49,19 @@ def _held():
         yield
     finally:
         signal.pthread_sigmask(signal.SIG_SETMASK, old)
+
+
+@contextlib.contextmanager
+def _frozen():
+    """Workers forked inside the block leave the parent's objects to the parent: they
+    are moved out of the garbage collector's view (``gc.freeze``) while the workers are
+    forked, so a worker's collections do not touch, and so copy, the memory pages it
+    shares with its parent (numpy's and scipy's modules among them)."""
+    gc.freeze()
+    try:
+        yield
+    finally:
+        gc.unfreeze()
 
 
 def _die_with_parent(parent_pid: int) -> None:
@@ -160,7 +174,7 @@ class PoolRunner:
         pool = self._open(width)
         try:
             idx = list(range(len(tasks))) if order is None else list(order)
-            with _held():  # the first batch forks the workers
+            with _held(), _frozen():  # the first batch forks the workers
                 futures = {i: pool.submit(fn, *tasks[i]) for i in idx}
             if meanwhile is not None:
                 meanwhile()

@@ -32,6 +32,18 @@ def test_tail_quantile_is_scipys():
     assert Z_TAIL == pytest.approx(stats.norm.ppf(0.999), rel=1e-12)
 
 
+def test_normal_cdf_and_its_inverse_are_scipys():
+    # scipy.special.ndtr / ndtri (a general-purpose reference library)
+    from scipy import special
+
+    from pulsepick.analysis.chipspread import _ndtr, _ndtri
+
+    p = np.array([1e-3, 0.01, 0.2, 0.5, 0.77, 0.999])
+    assert _ndtri(p) == pytest.approx(special.ndtri(p), rel=1e-12, abs=1e-14)
+    z = np.linspace(-4.0, 4.0, 17)
+    assert _ndtr(z) == pytest.approx(special.ndtr(z), rel=1e-12, abs=1e-15)
+
+
 def test_median_is_the_typical_value_and_limits_are_the_tails():
     t = (1.598 - 1.45) / (2.15 - 1.45)  # HC VT+ at 3 V: typical 21 % of the way up
     assert float(split_normal_fraction(0.5, t)) == pytest.approx(t, abs=1e-12)

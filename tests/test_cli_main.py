@@ -32,3 +32,19 @@ def test_bad_input_returns_2_with_one_line(capsys):
     assert len(err) == 1 and err[0].startswith("pulsepick: error:") and "E7" in err[0]
     assert main(["no-such-command"]) == EXIT_BAD_INPUT
     assert main([]) == EXIT_BAD_INPUT  # no command: the help, and status 2
+
+
+def test_the_program_ends_with_mains_status_and_all_its_output():
+    # run() ends the process at once after main(): the output must be whole and flushed
+    import json
+    import subprocess
+    import sys
+
+    done = subprocess.run([sys.executable, "-m", "pulsepick", "values", "4k7", "--series",
+                           "E12", "--json"], capture_output=True, text=True, check=False)
+    assert done.returncode == EXIT_OK
+    assert json.loads(done.stdout)  # the whole document, parsed
+    bad = subprocess.run([sys.executable, "-m", "pulsepick", "values", "4k7", "--series",
+                          "E7"], capture_output=True, text=True, check=False)
+    assert bad.returncode == EXIT_BAD_INPUT
+    assert bad.stdout == "" and len(bad.stderr.strip().splitlines()) == 1

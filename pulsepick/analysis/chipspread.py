@@ -41,6 +41,7 @@ Public functions (other analyses call these; do not copy the distribution):
 from __future__ import annotations
 
 import math
+from statistics import NormalDist
 
 import numpy as np
 
@@ -52,6 +53,14 @@ from pulsepick.errors import PartError
 TAIL_SHARE = 1e-3
 #: Standard normal quantile of 1 - TAIL_SHARE (scipy.special.ndtri(0.999)).
 Z_TAIL = 3.090232306167813
+
+# The standard normal's CDF and its inverse, element by element, from the standard
+# library (statistics.NormalDist: math.erf, and Wichura's AS 241 for the inverse), so the
+# solver's workers need not import scipy.special (tests hold them to scipy.special's
+# ndtr and ndtri). The arrays here are tens to thousands of values.
+_STD_NORMAL = NormalDist()
+_ndtr = np.vectorize(_STD_NORMAL.cdf, otypes=[float])
+_ndtri = np.vectorize(_STD_NORMAL.inv_cdf, otypes=[float])
 _EPS_V = 1e-12  # V, slack on the hysteresis test (a measured chip pins VH exactly)
 #: The reading of the limits unless a chip says otherwise (CHIP_SPREADS).
 DEFAULT_CHIP_SPREAD = CHIP_SPREADS[0]
@@ -65,10 +74,8 @@ def split_normal_fraction(u, typ_frac) -> np.ndarray:
     the limits. The median is ``typ_frac``; 0 and 1 are the 0.1 % and 99.9 % points
     of the untruncated halves, and the draw is truncated there.
     """
-    from scipy.special import ndtri
-
     u = np.asarray(u, dtype=float)
-    z = ndtri(TAIL_SHARE + u * (1.0 - 2.0 * TAIL_SHARE))
+    z = _ndtri(TAIL_SHARE + u * (1.0 - 2.0 * TAIL_SHARE))
     return _from_z(z, typ_frac)
 
 
@@ -92,14 +99,12 @@ def _truncated_normal(rng, n: int) -> np.ndarray:
 
 def split_normal_cdf(x, typ_frac) -> np.ndarray:
     """CDF of the truncated split normal on [0, 1] (inverse of :func:`split_normal_fraction`)."""
-    from scipy.special import ndtr
-
     x = np.clip(np.asarray(x, dtype=float), 0.0, 1.0)
     t = np.asarray(typ_frac, dtype=float)
     with np.errstate(invalid="ignore", divide="ignore"):
         z = np.where(x < t, np.where(t > 0, (x - t) / t, 0.0),
                      np.where(t < 1, (x - t) / (1.0 - t), 0.0))
-    p = ndtr(z * Z_TAIL)
+    p = _ndtr(z * Z_TAIL)
     return np.clip((p - TAIL_SHARE) / (1.0 - 2.0 * TAIL_SHARE), 0.0, 1.0)
 
 
@@ -281,13 +286,11 @@ def threshold_percentile(family: str, supply_v: float, vt_plus_v: float,
     p_lo, p_typ, p_hi, m_lo, m_typ, m_hi, _, _ = (float(np.asarray(x).reshape(-1)[0])
                                                    for x in threshold_limits(family, supply_v))
 
-    from scipy.special import ndtr
-
     def pct(x, lo, typ, hi):
         # the untruncated split normal, so that the limits read 0.1 % and 99.9 %
         side = (typ - lo) if x < typ else (hi - typ)
         if side <= 0:
             return 50.0 if x == typ else (0.0 if x < typ else 100.0)
-        return float(ndtr((x - typ) / side * Z_TAIL)) * 100.0
+        return _STD_NORMAL.cdf((x - typ) / side * Z_TAIL) * 100.0
 
     return pct(vt_plus_v, p_lo, p_typ, p_hi), pct(vt_minus_v, m_lo, m_typ, m_hi)
