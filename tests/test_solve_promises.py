@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import math
 
 import pytest
 
@@ -64,6 +65,32 @@ def test_a_far_miss_is_shown_only_when_nothing_closer_exists():
     assert cands and all(c.misses and c.misses[0].startswith("flash ") for c in cands)
     assert misses(req, {"flash_s": 0.09, "led_peak_a": 5e-3}) == ()
     assert misses(req, {"flash_s": 0.11, "led_peak_a": 5e-3}) == ("flash 110 ms",)
+
+
+def test_a_peak_beyond_the_leds_rating_leaves_the_flash_to_decide(capsys, monkeypatch):
+    # 50 mA is beyond the red LED's 20 mA rating (data/parts/leds.csv): every circuit
+    # misses the stated peak, so the flash decides what is shown; the peak is judged
+    # against the rating, and the limit is worded without a drive figure of "inf"
+    monkeypatch.setenv("NO_COLOR", "1")
+    req = make_request("one flash every 2 s, 50 mA peak", top=5)
+    result = solve(req)
+    assert result.candidates
+    for c in result.candidates:
+        assert abs(math.log(c.figures["flash_s"] / req.flash_s)) < math.log(MISS_FACTOR)
+    assert misses(req, {"flash_s": 0.05, "led_peak_a": 19e-3}) == ()
+    assert misses(req, {"flash_s": 0.05, "led_peak_a": 8e-3}) == ("peak 8 mA",)
+    assert main(["solve", "one flash every 2 s, 50 mA peak", "--top", "3"]) == 0
+    text = capsys.readouterr().out
+    assert "continuous rating of 20 mA" in text and "inf A" not in text
+
+
+def test_a_shown_miss_is_flagged_in_the_ranking_table(capsys, monkeypatch):
+    monkeypatch.setenv("NO_COLOR", "1")
+    assert main(["solve", "one flash every 3 s", "--family", "hc", "--cores", "schmitt",
+                 "--stages", "direct", "--top", "2"]) == 0
+    text = " ".join(capsys.readouterr().out.split())  # the table wraps its cells
+    assert "! flash" in text
+    assert "more than 2x off its aim: shown because no circuit comes closer" in text
 
 
 def test_size_classes():

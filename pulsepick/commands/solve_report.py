@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 
 from pulsepick.commands.solve_text import (
-    _bullet, _eng, _render_cautions, crossing_text, render_unmet,
+    _bullet, _eng, _render_cautions, crossing_text, miss_caption, render_unmet,
 )
 from pulsepick.units import format_pct
 
@@ -75,9 +75,9 @@ def render_report(console, result, *, buylist: str | None = None, pick: int = 1,
         f"Ranked circuits ({result.evaluated:,} evaluated in {result.search_s:.2f} s; lower "
         "score is better; period: the median of the builds)",
         heads, rows, justify=["right", "left", "left"] + ["right"] * (len(heads) - 3)))
-    caption = night_caption(result)
-    if caption:
-        print_wrapped(console, caption, indent="", hang="  ")
+    for caption in (miss_caption(result), night_caption(result)):
+        if caption:
+            print_wrapped(console, caption, indent="", hang="  ")
     console.print()
     for c in result.candidates:
         _render_candidate(console, req, c)

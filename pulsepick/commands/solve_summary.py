@@ -15,7 +15,7 @@ from rich import box
 from rich.table import Table
 
 from pulsepick.commands.solve_text import (
-    _bullet, _eng, _render_cautions, crossing_text, render_unmet,
+    _bullet, _eng, _render_cautions, crossing_text, miss_caption, render_unmet,
 )
 
 #: Columns that never wrap (a value stays with its unit).
@@ -120,7 +120,8 @@ def ranked_table(result) -> Table:
         period = _eng(med if med is not None else c.figures["period_s"], "s")
         f = c.figures
         table.add_row(
-            str(c.rank), circuit_text(c), parts_codes(c),
+            str(c.rank), circuit_text(c) + (" ! " + ", ".join(c.misses) if c.misses else ""),
+            parts_codes(c),
             period, band_text(p5, p95), "-" if yld is None else f"{yld * 100:.0f} %",
             _eng(f["flash_s"], "s"), _eng(f["led_peak_a"], "A"), night_word(c))
     return table
@@ -169,9 +170,9 @@ def render_summary(console, result, *, buylist: str | None = None, pick: int = 1
     if render_unmet(console, result, solve_cautions(req)):
         return
     console.print(ranked_table(result))
-    caption = night_caption(result)
-    if caption:
-        print_wrapped(console, caption, indent="", hang="  ")
+    for caption in (miss_caption(result), night_caption(result)):
+        if caption:
+            print_wrapped(console, caption, indent="", hang="  ")
     console.print()
     chosen = result.candidates[min(max(pick, 1), len(result.candidates)) - 1]
     render_block(console, req, chosen, schematic=schematic)

@@ -27,6 +27,16 @@ def _render_cautions(console, cautions) -> None:
         _bullet(console, text)
 
 
+def miss_caption(result) -> str | None:
+    """What the "!" after a circuit in a ranking table means; None when no row has one."""
+    from pulsepick.solve import MISS_FACTOR
+
+    if not any(c.misses for c in result.candidates):
+        return None
+    return (f"! a figure more than {MISS_FACTOR:g}x off its aim: shown because no circuit "
+            "comes closer to it")
+
+
 def render_unmet(console, result, cautions) -> bool:
     """What the request cannot meet exactly; when nothing at all can be offered, the
     nearest circuit and the cautions too. True when the report ends there."""

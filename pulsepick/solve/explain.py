@@ -131,9 +131,10 @@ def _current_explanation(req: SolveRequest, aims, running: list[Candidate]) -> s
                 f"flash needs a peak of about {format_eng(need, 'A')} from the {led.name} LED "
                 f"({led.mcd_per_a * 1e-3:.3g} mcd per mA; {blondel})")
         key = "effective_mcd"
-    text += (f"; the LED is held to {limit_words}, and the chip outputs drive at most "
-             f"{format_eng(drive, 'A')} into it at {req.supply_v:.2f} V with no series "
-             "resistor")
+    text += f"; the LED is held to {limit_words}"
+    if math.isfinite(drive):
+        text += (f", and the chip outputs drive at most {format_eng(drive, 'A')} into it "
+                 f"at {req.supply_v:.2f} V with no series resistor")
     if drive < limit:
         text += (f" (it needs {float(led.voltage(need)):.2f} V for {format_eng(need, 'A')}): "
                  "the chip's drive at this supply is the limit; a higher supply, an LED of "

@@ -17,7 +17,7 @@ from pulsepick.hints import hint
 from pulsepick.request import SolveRequest
 from pulsepick.runner import Runner, runner_or_serial
 from pulsepick.solve.explain import _explain, _prechecks
-from pulsepick.solve.score import PARTS_WEIGHT, misses, n_parts
+from pulsepick.solve.score import PARTS_WEIGHT, missed_keys, misses, n_parts
 from pulsepick.solve.search import _Pick, _Searcher
 from pulsepick.solve.space import _chip, _space, _variants, aim_env, aim_levels, stage_cap_kind
 from pulsepick.solve.types import Candidate, SolveResult
@@ -183,14 +183,27 @@ def _run_searches(tasks: list[tuple], runner: Runner | None
     return picks, evaluated, seen
 
 
+def _nearest(req: SolveRequest, picks: list[_Pick]) -> list[_Pick]:
+    """``picks`` without those whose flash or brightness misses its aim by more than a
+    factor of two where another pick meets that aim: a miss is shown only when nothing
+    closer exists (and is then flagged). A figure every pick misses (a peak beyond the
+    LED's rating, say) leaves the others to decide; when no pick meets all the aims that
+    some pick meets, those missing the fewest stay."""
+    if not picks:
+        return picks
+    keyed = [(p, set(missed_keys(req, p.figures))) for p in picks]
+    unavoidable = set.intersection(*(k for _, k in keyed))
+    near = [p for p, k in keyed if k <= unavoidable]
+    if near:
+        return near
+    fewest = min(len(k) for _, k in keyed)
+    return [p for p, k in keyed if len(k) == fewest]
+
+
 def _chosen_picks(req: SolveRequest, picks: list[_Pick]) -> list[_Pick]:
     """The picks to offer, best first: near the aims, diverse, over-rated ones last."""
     picks.sort(key=lambda p: p.cost)
-    # a circuit whose flash or brightness misses its aim by more than a factor of two is
-    # shown only when nothing closer exists (and is then flagged)
-    near = [p for p in picks if not misses(req, p.figures)]
-    if near:
-        picks = near
+    picks = _nearest(req, picks)
 
     # diversity: the best of each topology (core and stage) first, then the next best
     chosen: list[_Pick] = []
