@@ -106,3 +106,26 @@ def test_timer_period_barely_moves_with_supply():
 def test_bad_input(args):
     with pytest.raises(RequestError):
         drift(hc_marker(), *args)
+
+
+def test_a_solved_candidates_drift_follows_the_chip_its_figures_show():
+    # the solver aims at the median chip (its levels at the design supply); the drift
+    # table starts from the same figures and follows that chip down the supply
+    from pulsepick.analysis.chipspread import same_chip_levels, threshold_limits
+    from pulsepick.request import make_request
+    from pulsepick.solve import assess, solve
+
+    req = make_request("one flash every 3 s, 40 ms long", supply="2.7V..1.8V", family="lvc",
+                       cores="schmitt-steered", stages="direct", buffered=True, top=1)
+    c = assess(solve(req)).candidates[0]
+    assert c.aim_levels_v is not None and c.drift is not None
+    vtp, vtm = c.aim_levels_v
+    shown = c.design.fast(vt_plus=vtp, vt_minus=vtm)
+    assert c.drift.period_s[0] == pytest.approx(float(np.ravel(shown.period_s)[0]), rel=1e-9)
+    # the chip keeps its place between typical and limit at every supply
+    p, m = same_chip_levels(c.design.chip, 2.7, vtp, vtm, [2.7, 1.8])
+    assert p[0] == pytest.approx(vtp) and m[0] == pytest.approx(vtm)
+    lo, typ, hi = (float(np.ravel(x)[0]) for x in threshold_limits(c.design.chip, 1.8)[:3])
+    lo0, typ0, hi0 = (float(np.ravel(x)[0]) for x in threshold_limits(c.design.chip, 2.7)[:3])
+    share = (vtp - typ0) / ((hi0 - typ0) if vtp >= typ0 else (typ0 - lo0))
+    assert (p[1] - typ) / ((hi - typ) if p[1] >= typ else (typ - lo)) == pytest.approx(share)

@@ -264,6 +264,32 @@ def threshold_limits(chip, supply_v) -> tuple[np.ndarray, ...]:
             th.vt_minus_typ, th.vt_minus_max, th.vh_min, th.vh_max)
 
 
+def same_chip_levels(chip, supply_v: float, vt_plus_v: float, vt_minus_v: float,
+                     supplies) -> tuple[np.ndarray, np.ndarray]:
+    """VT+ and VT- (V) at each of ``supplies`` of the one chip whose levels at
+    ``supply_v`` are ``vt_plus_v`` and ``vt_minus_v`` (the median chip a search aimed at,
+    say).
+
+    The chip keeps its place among bought chips: each level stays the same share of the
+    way from the typical value towards the limit on its side (the same percentile of
+    the split normal; common practice: a chip's thresholds track the supply as the
+    datasheet's typical and limit columns do). At ``supply_v`` the levels are returned
+    as given.
+    """
+    lim0 = [float(np.asarray(x).reshape(-1)[0]) for x in threshold_limits(chip, supply_v)]
+    lim = threshold_limits(chip, np.asarray(supplies, dtype=float))
+
+    def place(x: float, lo: float, typ: float, hi: float) -> float:
+        side = (typ - lo) if x < typ else (hi - typ)
+        return 0.0 if side <= 0 else (x - typ) / side
+
+    def at(g: float, lo, typ, hi) -> np.ndarray:
+        return typ + (g * (typ - lo) if g < 0 else g * (hi - typ))
+
+    return (at(place(vt_plus_v, *lim0[0:3]), *lim[0:3]),
+            at(place(vt_minus_v, *lim0[3:6]), *lim[3:6]))
+
+
 def draw_thresholds(chip, supply_v: float, n: int, rng) -> tuple[np.ndarray, np.ndarray]:
     """VT+ and VT- (V) of ``n`` chips of ``chip`` (ChipSpec or family key) at ``supply_v``.
 

@@ -135,12 +135,24 @@ def _flat(x, n: int) -> np.ndarray:
     return np.broadcast_to(np.asarray(x, dtype=float), (n,)).copy()
 
 
-def _lit(design: Design, v) -> np.ndarray:
+def _chip_kw(design: Design, v, levels) -> dict:
+    """Keyword arguments of ``design.fast`` at supplies ``v`` for the chip whose levels
+    at the design supply are ``levels`` (V; None: the typical chip)."""
+    if levels is None:
+        return {}
+    from pulsepick.analysis.chipspread import same_chip_levels
+
+    vtp, vtm = same_chip_levels(design.chip, design.supply_v, levels[0], levels[1], v)
+    return {"vt_plus": vtp, "vt_minus": vtm}
+
+
+def _lit(design: Design, v, levels=None) -> np.ndarray:
     """True where the oscillator runs and the LED peak reaches its visible current.
 
     The chip's supply range is not part of this (that is ``_powered``).
     """
-    f = design.fast(np.asarray(v, dtype=float))
+    v = np.asarray(v, dtype=float)
+    f = design.fast(v, **_chip_kw(design, v, levels))
     peak = _flat(f.led_peak_a, np.size(v))
     period = _flat(f.period_s, np.size(v))
     return np.isfinite(period) & (peak >= design.parts.led.visible_a)
@@ -170,7 +182,8 @@ def _boundary(test, hi: float, lo: float) -> float:
     return 0.5 * (hi + lo)
 
 
-def drift(design: Design, v_full: float, v_end: float, steps=None) -> DriftResult:
+def drift(design: Design, v_full: float, v_end: float, steps=None,
+          levels: tuple[float, float] | None = None) -> DriftResult:
     """Figures of ``design`` at every supply from ``v_full`` down to ``v_end``.
 
     Parameters
@@ -182,6 +195,10 @@ def drift(design: Design, v_full: float, v_end: float, steps=None) -> DriftResul
         Supply at the end of the night, V (below ``v_full``).
     steps : None, int or sequence of float
         None: every 0.1 V (common practice); see :func:`supply_grid`.
+    levels : (float, float), optional
+        VT+ and VT- in V of the chip at the design supply (the median chip a search
+        aimed at), followed to every supply by
+        :func:`pulsepick.analysis.chipspread.same_chip_levels`; None: the typical chip.
 
     Returns
     -------
@@ -195,7 +212,7 @@ def drift(design: Design, v_full: float, v_end: float, steps=None) -> DriftResul
                            "above the end-of-night supply")
     v = supply_grid(float(v_full), float(v_end), steps)
     n = v.size
-    f = design.fast(v)  # one vectorised call over every step
+    f = design.fast(v, **_chip_kw(design, v, levels))  # one vectorised call over every step
     status = np.broadcast_to(np.asarray(f.status), (n,)).astype(int)
     period = _flat(f.period_s, n)
     arrays = {k: _flat(getattr(f, k), n) for k in
@@ -209,7 +226,7 @@ def drift(design: Design, v_full: float, v_end: float, steps=None) -> DriftResul
         off = np.flatnonzero(~lit)
         if off.size:
             j = int(off[0])
-            dark_below = _boundary(lambda x: _lit(design, x), float(v[j - 1]), float(v[j]))
+            dark_below = _boundary(lambda x: _lit(design, x, levels), float(v[j - 1]), float(v[j]))
     unpowered_below = None
     if powered[0]:
         off = np.flatnonzero(~powered)

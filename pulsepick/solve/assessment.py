@@ -60,7 +60,7 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
     if supply_end_v is not None:
         t = time.perf_counter()
         try:
-            out["drift"] = drift(design, design.supply_v, supply_end_v)
+            out["drift"] = drift(design, design.supply_v, supply_end_v, levels=levels)
         except PulsepickError as err:
             out["warnings"].append(f"drift analysis: {err}")
         out["timings_s"]["drift"] = time.perf_counter() - t
