@@ -51,11 +51,21 @@ PART = "npn-small"
 #: Collector-to-base current ratio a hard-saturated switch is designed for (common
 #: practice: a forced gain of about 10); it only centres the base resistor search.
 FORCED_GAIN = 10.0
+#: The lowest forced gain searched (common practice): a base resistor that feeds more
+#: than a fifth of the LED's current into the base only loads the gate and the storage.
+MIN_FORCED_GAIN = 5.0
 #: Base-emitter and collector-emitter drops assumed for the first estimates, V
 #: (estimate, inside the data sheet's VBE(sat) and VCE(sat) limits, ref:onsemi-2n3904).
 VBE_GUESS_V, VCE_GUESS_V = 0.75, 0.1
 _BISECTIONS = 70
 _SCALAR_BISECTIONS = 90
+
+
+def _base_resistor(ctx: SearchContext, forced_gain: float) -> float:
+    """The base resistor (ohm) that feeds the aimed LED peak / ``forced_gain`` into the
+    base from a high gate output (estimate: VBE_GUESS_V across the base junction)."""
+    i_base = ctx.peak_a / forced_gain
+    return max((ctx.supply_v - VBE_GUESS_V) / i_base - ctx.rout_high_ohm, STAGE_R_MIN_OHM)
 
 
 def on_current(tr, led, vdd, v_src, r_base, rs):
@@ -185,13 +195,14 @@ class TransistorStage(StageDefaults):
 
     def search_grid(self, ctx: SearchContext, topo):
         _, rs = ctx.series_grid(self.search.per_decade, VCE_GUESS_V, rout_ohm=0.0)
-        i_base = ctx.peak_a / FORCED_GAIN
-        rb_est = max((ctx.supply_v - VBE_GUESS_V) / i_base - ctx.rout_high_ohm,
-                     STAGE_R_MIN_OHM)
-        return crossed("rbase", ctx.resistor_grid(rb_est, self.search.per_decade), "rs", rs)
+        rb = ctx.resistor_grid(_base_resistor(ctx, FORCED_GAIN), self.search.per_decade)
+        rb = rb[rb >= _base_resistor(ctx, MIN_FORCED_GAIN)]
+        return crossed("rbase", rb, "rs", rs)
 
     def refine(self, ctx: SearchContext, point):
-        return crossed_neighbours(point, "rbase", ctx.r_values, "rs", ctx.r_values)
+        floor = _base_resistor(ctx, MIN_FORCED_GAIN)
+        return [p for p in crossed_neighbours(point, "rbase", ctx.r_values, "rs", ctx.r_values)
+                if p["rbase"] >= floor or p["rbase"] >= point["rbase"]]
 
     def spice(self, v, env, topo):
         """Circuit-simulator lines of the stage (nodes: see ``base.SPICE_NODES``): the
