@@ -170,15 +170,12 @@ def render_summary(console, result, *, buylist: str | None = None, pick: int = 1
     if render_unmet(console, result, solve_cautions(req)):
         return
     console.print(ranked_table(result))
-    for caption in (miss_caption(result), night_caption(result)):
+    for caption in (miss_caption(result), night_caption(result), crossing_text(result)):
         if caption:
             print_wrapped(console, caption, indent="", hang="  ")
     console.print()
     chosen = result.candidates[min(max(pick, 1), len(result.candidates)) - 1]
     render_block(console, req, chosen, schematic=schematic)
-    crossing = crossing_text(result)
-    if crossing:
-        print_wrapped(console, crossing, indent="  ", hang="    ")
     console.print()
     if buylist:
         console.print(f"Buy list of circuit {pick} written to {buylist}", markup=False)
