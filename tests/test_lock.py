@@ -57,3 +57,18 @@ def test_package_draws_are_shared(design):
     res = lock_share([design, design], [1, 1], builds=400, seed=5)
     assert 0.0 < res.share < 1.0 and res.pairs[0].nearest == "1:1"
     assert res.share == pytest.approx(res.packages[1], rel=1e-12)
+
+
+def test_spread_out_keeps_every_median_build_out_of_step():
+    # two lights with wide bands (10 % per light): moving a median onto 1:1 barely changes
+    # the share, so the search first keeps each pair's median ratio out of the lock zones
+    from pulsepick.analysis.lock import minimise_share
+
+    rng = np.random.default_rng(3)
+    dev = (rng.normal(0.0, 0.1, 2000), rng.normal(0.0, 0.1, 2000))
+    base = share_of([3.4, 3.6], dev, [0, 0])
+    options = [np.array([3.1, 3.26, 3.4, 3.58, 3.74]), np.array([3.6])]
+    chosen, res = minimise_share([3.4, 3.6], options, base, [3.4, 3.6], [0, 0])
+    ratio = options[0][chosen[0]] / 3.6
+    assert not near_lock(np.array([math.log(ratio)]))[0][0]
+    assert 0.0 < res.share < 0.5

@@ -22,7 +22,10 @@ Minimising the share
 A variant's builds are its own builds scaled by the ratio of the variant's nominal period
 to the solved one (the variants change R and C by a few E-series steps; the relative
 spread of the period stays nearly the same, an estimate). A coordinate search over the
-choices minimises the share and then the distance from the periods asked.
+choices minimises, in turn, the pairs whose median build sits near a lock (with wide
+bands the share changes little as a median moves onto p:q, but two lights in step on the
+build one expects is what a maker sees), the share, and the distance from the periods
+asked.
 """
 
 from __future__ import annotations
@@ -229,9 +232,11 @@ def share_of(periods_s: Sequence[float], log_dev: Sequence[np.ndarray], groups: 
 def minimise_share(asked_s: Sequence[float], options: Sequence[np.ndarray],
                    base: LockShare, base_s: Sequence[float], groups: Sequence[int],
                    starts: Sequence[Sequence[int]] = ()) -> tuple[list[int], LockShare]:
-    """One period per light from ``options`` (s) with the least lock share, then nearest
-    to ``asked_s``; the builds of ``base`` (at periods ``base_s``) are scaled to each
-    option (see the module doc). Returns the chosen indices and their share."""
+    """One period per light from ``options`` (s): first the fewest pairs whose median
+    build sits near a lock (two lights in step on the build one expects), then the least
+    lock share, then the nearest to ``asked_s``. The builds of ``base`` (at periods
+    ``base_s``) are scaled to each option (see the module doc). Returns the chosen
+    indices and their share."""
     n = len(asked_s)
     opts = [np.asarray(o, dtype=float) for o in options]
     if any(o.size == 0 for o in opts):
@@ -254,13 +259,26 @@ def minimise_share(asked_s: Sequence[float], options: Sequence[np.ndarray],
             got = cache[(i, j, ki, kj)] = near & ok
         return got
 
+    # each pair's median log ratio relative to its nominal one (the builds' own offset)
+    med_off = {}
+    for i, j in pairs:
+        d = np.asarray(base.log_dev[i], dtype=float) - np.asarray(base.log_dev[j], dtype=float)
+        d = d[np.isfinite(d)]
+        med_off[(i, j)] = float(np.median(d)) if d.size else 0.0
+
+    def median_locks(choice) -> int:
+        # pairs whose median build sits near a lock: in step on the build one expects
+        x = np.array([math.log(float(opts[i][choice[i]])) - math.log(float(opts[j][choice[j]]))
+                      + med_off[(i, j)] for i, j in pairs])
+        return int(near_lock(x, base.margin, base.max_q)[0].sum()) if pairs else 0
+
     def key(choice):
         per = [float(opts[i][choice[i]]) for i in range(n)]
         anyb = np.zeros(builds, dtype=bool)
         for i, j in pairs:
             anyb |= near_pair(i, j, choice[i], choice[j])
         dev = sum(abs(math.log(per[i]) - la[i]) for i in range(n))
-        return (float(anyb.mean()) if builds else 0.0, dev), per
+        return (median_locks(choice), float(anyb.mean()) if builds else 0.0, dev), per
 
     start = [int(np.argmin(np.abs(np.log(o) - math.log(b)))) for o, b in zip(opts, base_s,
                                                                             strict=True)]
