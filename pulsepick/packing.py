@@ -244,8 +244,8 @@ def lock_remedies(breq, picks, groups, share, options_fn, *, seed: int = 0,
     sep = share_of(periods, share.log_dev, alone, margin=share.margin, max_q=share.max_q)
     # no option asks for it: the packer fills as few packages as it can (by hand, a
     # second package wired for this light alone)
-    out.append(Remedy(f"{breq.lights[worst].name} on a package of its own (a second "
-                      "package wired for it alone, by hand)", sep.share, None))
+    out.append(Remedy(f"{breq.lights[worst].name} on a package of its own (by hand)",
+                      sep.share, None))
     # only what lowers the share is a remedy
     return rank_remedies([r for r in out if r.share < share.share])
 

@@ -144,7 +144,7 @@ def test_example_solve_report_night_and_day(tmp_path):
     # the console: a summary screen, then one screen per light (100 columns; a screen is
     # taken as 50 lines)
     out = io.StringIO()
-    render_build(make_console(out, width=100), result, storage=True)
+    render_build(make_console(out, width=100), result, storage=extras.get("storage"))
     lines = out.getvalue().splitlines()
     starts = [k for k, line in enumerate(lines) for n in names
               if line.startswith(f"{n}: ")]

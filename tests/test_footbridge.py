@@ -62,7 +62,7 @@ def built():
     extras = _build_extras(design)
     doc = json.loads(json.dumps(build_json(result, **extras)))
     out = io.StringIO()
-    render_build(make_console(out, width=200), result, storage=True)
+    render_build(make_console(out, width=200), result, storage=extras.get("storage"))
     rows = read_buylist(build_buylist_text(result, **extras))
     return result, doc, out.getvalue(), rows
 
@@ -223,3 +223,25 @@ def test_the_readme_night_and_day_of_the_example_last(capsys):
     assert len(doc["days"]) == 4 and doc["nights_lasted"] == 4
     # the season the example states: the night of 20 June at 52.1° N
     assert doc["night"]["given"] != "clock" and doc["days"][0]["night_s"] < 6 * 3600
+
+
+def test_the_energy_budget_sets_the_night_against_the_storage(built):
+    # 25 F from 2.4 V down to 1.9 V is 12.5 C (Q = C dV), against the 16.5 C a 12 h night
+    # (the fixture gives no night) needs at the lights' draw
+    _, _, text, _ = built
+    flat = " ".join(text.split())
+    assert "storage gives 12.5 C from 2.40 V to 1.90 V, 76% of that" in flat
+
+
+def test_a_storage_short_of_the_night_is_said_in_the_solve():
+    from types import SimpleNamespace
+
+    from pulsepick.commands.solve_build_report import storage_budget_text
+    from pulsepick.parts.storage import get_storage
+
+    req = SimpleNamespace(supply_v=2.6, supply_end_v=1.8)
+    result = SimpleNamespace(request=SimpleNamespace(lights=(SimpleNamespace(request=req),)))
+    text = storage_budget_text(result, get_storage("5f-2v7"), 40.0)
+    # 5 F x 0.8 V = 4 C against 40 C: a tenth
+    assert "the 5 F storage gives 4 C from 2.60 V to 1.80 V, 10% of that" in text
+    assert "--size sizes it" in text

@@ -162,7 +162,7 @@ def run_build(args) -> int:
         dump_json(build_doc(done))
     else:
         render_build(make_console(), result, buylist=args.buylist if offered else None,
-                     storage="storage" in extras, night=done.night,
+                     storage=extras.get("storage"), night=done.night,
                      cautions=() if done.advice is None else done.advice.cautions)
     if not offered:
         _nothing_line(breq.describe(), list(result.warnings) or [result.message])

@@ -11,11 +11,13 @@ from pulsepick.commands.solve_lock import render_lock_risks
 from pulsepick.commands.solve_text import _eng, _render_cautions
 
 
-def render_build(console, result, *, buylist: str | None = None, storage: bool = False,
+def render_build(console, result, *, buylist: str | None = None, storage=None,
                  night=None, cautions=()) -> None:
     """The terminal report of a several-lights build (readable at 100 columns).
 
-    ``storage``: the build names a storage part (the supercapacitor caution applies).
+    ``storage``: the build's storage part (:class:`pulsepick.parts.storage.Storage`; the
+    supercapacitor caution applies, and the energy budget sets the night against it), or
+    None.
     ``night``: the design file's night (:class:`pulsepick.commands.design_night.DesignNight`).
     ``cautions``: cautions of the charge path (over-voltage and the proposed clamp).
     """
@@ -32,12 +34,12 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
         for w in result.warnings:
             print_wrapped(console, w, indent="  - ", hang="    ")
         console.print()
-        _render_cautions(console, tuple(cautions) + tuple(solve_cautions(breq, storage=storage)))
+        _render_cautions(console, tuple(cautions) + tuple(solve_cautions(breq, storage=storage is not None)))
         return
     _render_packages(console, result.plan, names)
     render_lock_risks(console, result, names)
     _render_plan_notes(console, result)
-    _render_energy(console, result, night)
+    _render_energy(console, result, night, storage)
     # the summary screen ends with the warnings and the verdict; then one screen per light
     if result.warnings:
         console.print("[bold]Warnings[/bold]")
@@ -50,7 +52,7 @@ def render_build(console, result, *, buylist: str | None = None, storage: bool =
     if buylist:
         console.print(f"Buy list of the whole build written to {buylist}", markup=False)
         console.print()
-    _render_cautions(console, tuple(cautions) + tuple(solve_cautions(breq, storage=storage)))
+    _render_cautions(console, tuple(cautions) + tuple(solve_cautions(breq, storage=storage is not None)))
 
 
 def _render_lights_table(console, result) -> None:
@@ -81,7 +83,6 @@ def _render_lights_table(console, result) -> None:
         "Lights" + (f" ({'; '.join(notes)})" if notes else ""),
         ["light", "asked", "circuit", "chip", "period", "flash", "peak", "supply"], rows,
         justify=["left", "right", "left", "left", "right", "right", "right", "right"]))
-    console.print()
 
 
 def _render_packages(console, plan, names) -> None:
@@ -116,23 +117,42 @@ def _render_plan_notes(console, result) -> None:
         console.print()
 
 
-def _render_energy(console, result, night) -> None:
-    """The energy budget of all lights over the night."""
+def _render_energy(console, result, night, storage=None) -> None:
+    """The energy budget of all lights over the night, set against the storage's charge
+    when the build names one."""
     from pulsepick.output.render import print_wrapped
 
     console.print("[bold]Energy budget[/bold]")
     night_s = 12 * 3600 if night is None else night.night_s
-    night_c = _eng(result.total_supply_a * night_s, "C")
+    need_c = result.total_supply_a * night_s
     night_words = "a 12 h night" if night is None else f"the {night.text}"
     held = ("" if result.gating is None else
-            f"; held by day {_eng(result.gating.held_a, 'A')} besides the chips' quiescent "
-            "current")
+            f" (held by day: {_eng(result.gating.held_a, 'A')} and the chips' quiescent "
+            "current)")
     print_wrapped(console, f"all lights draw {_eng(result.total_supply_a, 'A')} on average at "
-                           f"the design supply ({night_c} over {night_words}){held}; "
-                           "'pulsepick night' runs the storage")
+                           f"the design supply, {_eng(need_c, 'C')} over {night_words}{held}; "
+                           + storage_budget_text(result, storage, need_c))
     if night is not None and night.note:
         print_wrapped(console, night.note)
     console.print()
+
+
+def storage_budget_text(result, storage, need_c: float) -> str:
+    """The storage's charge between the build's start and stop supplies against what the
+    night needs at the design supply's draw (an estimate: the draw falls with the
+    voltage); where to run the night without a storage or a supply range."""
+    if storage is None:
+        return "'pulsepick night' runs the storage through the night"
+    req = result.request.lights[0].request
+    if req.supply_end_v is None or not need_c > 0:
+        return "'pulsepick night' runs the storage through the night"
+    have_c = storage.capacitance_f * (req.supply_v - req.supply_end_v)
+    share = have_c / need_c
+    verdict = "enough" if share >= 1 else f"{share:.0%} of that"
+    return (f"the {_eng(storage.capacitance_f, 'F')} storage gives {_eng(have_c, 'C')} from "
+            f"{req.supply_v:.2f} V to {req.supply_end_v:.2f} V, {verdict} (estimate at the "
+            "full-supply draw): 'pulsepick night' runs it" + ("" if share >= 1 else
+                                                              ", --size sizes it"))
 
 
 def _render_light_screens(console, result) -> None:
