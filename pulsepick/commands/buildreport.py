@@ -99,7 +99,7 @@ def build_report(result, lines, *, night=None, images=None) -> Report:
     sections.append(_package_section(result, names, plan))
     sections += [s for s in (_gating_section(result, names), _lock_section(result, names))
                  if s is not None]
-    sections.append(_energy_section(result))
+    sections.append(_energy_section(result, night))
     if night is not None:
         sections.append(_night_section(night))
     sections.append(Section("parts", "Parts and buy list", parts_blocks(lines)))
@@ -118,17 +118,22 @@ def build_report(result, lines, *, night=None, images=None) -> Report:
 
 def _light_sections(result, names, plan) -> list:
     """The table of every light, then one section per light with its parts."""
+    from pulsepick.commands.solve_summary import _spread
+
     light_rows = []
     for i, li in enumerate(result.lights):
         c = li.pick
         f = c.figures
+        med = _spread(c)[0]
         light_rows.append((li.name, num(li.asked_s, "s"), c.design.topo.label(),
                            c.design.chip.family, f"U{plan.package_of(i)}",
-                           num(f["period_s"], "s"), num(f["flash_s"], "s"),
+                           num(f["period_s"] if med is None else med, "s"),
+                           num(f["flash_s"], "s"),
                            num(f["led_peak_a"], "A"), num(f["supply_avg_a"], "A")))
     sections = [Section("lights", "Lights", (Table(
-        "lights", "Every light of the build", ("light", "asked", "circuit", "chip", "package",
-                                               "period", "flash", "LED peak", "supply"),
+        "lights", "Every light of the build (period: the median of its builds)",
+        ("light", "asked", "circuit", "chip", "package", "period", "flash", "LED peak",
+         "supply"),
         tuple(light_rows), numeric=(False, True, False, False, False, True, True, True,
                                     True)),))]
     for li in result.lights:
@@ -198,10 +203,15 @@ def _lock_section(result, names) -> Section | None:
     return Section("lock", "Lock risk", tuple(blocks))
 
 
-def _energy_section(result) -> Section:
-    """The energy budget of all lights."""
+def _energy_section(result, night=None) -> Section:
+    """The energy budget of all lights (over the design file's night when there is one,
+    else a 12 h night)."""
+    from pulsepick.commands.wording import duration_text
+
+    night_s = 12 * 3600.0 if night is None else float(night[0].duration_s)
     budget = [("all lights at the design supply", num(result.total_supply_a, "A")),
-              ("over a 12 h night", num(result.total_supply_a * 12 * 3600, "C"))]
+              (f"over the {duration_text(night_s)} night",
+               num(result.total_supply_a * night_s, "C"))]
     if result.gating is not None:
         budget.append(("held by day", num(result.gating.held_a, "A")))
     return Section("energy", "Energy budget", (
@@ -210,15 +220,16 @@ def _energy_section(result) -> Section:
 
 def _night_section(night) -> Section:
     """The night of the design file's storage with every light's load."""
-    from pulsepick.commands.wording import verdict
+    from pulsepick.commands.wording import duration_text, verdict
+    from pulsepick.output.htmlreport import Cell
 
     res = night[0]
     return Section("night", "The night", (
         Paragraph(f"Night: {verdict(res, False)}."),
         Table("night", "", ("", "value"), (
             ("start", num(res.v_start_v, "V")),
-            ("runs for", num(res.runtime_s, "s")),
-            ("night", num(res.duration_s, "s")),
+            ("runs for", Cell(duration_text(res.runtime_s), float(res.runtime_s), "s")),
+            ("night", Cell(duration_text(res.duration_s), float(res.duration_s), "s")),
             ("lasts the night", "yes" if res.lasts_the_night else "no")))))
 
 

@@ -89,7 +89,10 @@ def night_view(result, open_ended: bool = False) -> NightView:
 
 
 _CAPTIONS = {
-    WaveView: lambda v: ("One period: timing-capacitor voltage with the switching thresholds, "
+    # a build's views name their light first ("gate, reference simulation")
+    WaveView: lambda v: ("One period" + (f" of {v.source.split(',')[0]}"
+                                         if "," in v.source else "") +
+                         ": timing-capacitor voltage with the switching thresholds, "
                          "the gate output and the LED current."),
     SpreadView: lambda v: (f"The period over {v.builds:,} builds (seed {v.seed}) with the "
                            "P5..P95 band" + (" and the target" if v.target_s else "") + "."),
