@@ -354,3 +354,15 @@ def test_weather_words():
         parse_weather("clear,sunny")
     with pytest.raises(RequestError, match="unknown weather"):
         get_profile("foggy")
+
+
+def test_a_proposed_clamp_under_the_start_says_where_the_night_then_starts():
+    from pulsepick.analysis.overvoltage import clamp_advice
+
+    # 5 V panel on a 2.7 V cell: a 2.4 V clamp is proposed (8 % under the rating, rounded
+    # down); a night run from 2.6 V would start above it
+    args = (get_storage("5f-2v7"), get_panel("5v60ma"), get_diode("schottky"))
+    advice = clamp_advice(*args, start_v=2.6)
+    assert advice.proposed_clamp_v == pytest.approx(2.4)
+    assert "under the 2.60 V the night is run from" in advice.proposal
+    assert "night is run from" not in clamp_advice(*args, start_v=2.4).proposal

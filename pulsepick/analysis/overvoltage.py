@@ -53,8 +53,12 @@ class ClampAdvice:
 
 
 def clamp_advice(storage: Storage, panel: PanelModel, diode: DiodeModel,
-                 clamp_v: float | None = None) -> ClampAdvice:
-    """The over-voltage caution and a sized clamp for a panel charging a storage."""
+                 clamp_v: float | None = None, start_v: float | None = None) -> ClampAdvice:
+    """The over-voltage caution and a sized clamp for a panel charging a storage.
+
+    ``start_v`` (V): the voltage the night is run from, when given; a proposed clamp
+    below it says that the storage then starts the night at the clamp.
+    """
     voc = float(panel.voc(FULL_SUN_W_M2))
     isc = float(panel.isc(FULL_SUN_W_M2))
     v_possible = clamp_v if clamp_v is not None else voc - diode_drop_v(diode)
@@ -73,6 +77,10 @@ def clamp_advice(storage: Storage, panel: PanelModel, diode: DiodeModel,
             f"{proposed:.1f} V; at the panel's full-sun short-circuit current {isc * 1e3:.0f} mA "
             f"it dissipates up to {proposed_w * 1e3:.0f} mW. Or choose a storage rated at "
             f"{v_possible:.1f} V or more.")
+        if start_v is not None and start_v > proposed + 1e-9:
+            proposal += (f" With the clamp the storage sits at about {proposed:.1f} V by "
+                         f"day, under the {start_v:.2f} V the night is run from; with the "
+                         "clamp in the design (and no higher start) the night starts at it.")
         cautions.append(proposal)
     return ClampAdvice(v_possible, storage.v_rated_v, clamp_v, proposed, proposed_w, isc,
                        tuple(cautions), voc - diode_drop_v(diode), what=what, proposal=proposal)

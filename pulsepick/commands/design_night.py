@@ -86,4 +86,7 @@ def design_clamp(design):
                            f"{', '.join(DIODE_KEYS)}")
     clamp = design.panel.get("clamp")
     clamp_v = None if clamp is None else parse_quantity(clamp, "voltage", bare_ok=True)
-    return clamp_advice(storage_part(design), panel_part(design), get_diode(diode), clamp_v)
+    start = design.storage.get("start")
+    start_v = None if start is None else parse_quantity(start, "voltage", bare_ok=True)
+    return clamp_advice(storage_part(design), panel_part(design), get_diode(diode), clamp_v,
+                        start_v)
