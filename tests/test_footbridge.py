@@ -49,6 +49,7 @@ def built():
         _build_extras,
         build_buylist_text,
         build_json,
+        build_lines,
         render_build,
     )
     from pulsepick.designfile import build_request, read_design
@@ -62,7 +63,8 @@ def built():
     extras = _build_extras(design)
     doc = json.loads(json.dumps(build_json(result, **extras)))
     out = io.StringIO()
-    render_build(make_console(out, width=200), result, storage=extras.get("storage"))
+    render_build(make_console(out, width=200), result, storage=extras.get("storage"),
+                 lines=build_lines(result, **extras))
     rows = read_buylist(build_buylist_text(result, **extras))
     return result, doc, out.getvalue(), rows
 
@@ -95,7 +97,12 @@ def test_one_designator_scheme_for_the_whole_build(built):
     shown = _console_refs(console, names)
     in_json = {li["name"]: [p["ref"] for p in li["circuit"]["parts"] if p["kind"] != "chip"]
                for li in doc["lights"]}
-    assert shown == in_json
+    # each light's screen adds its dusk hold diode, a part of the build (doc["parts"])
+    holds = {p["ref"]: p["role"].split(":")[0] for p in doc["parts"]
+             if "dusk hold diode" in p["role"]}
+    assert len(holds) == len(names)
+    assert {n: [r for r in refs if r not in holds] for n, refs in shown.items()} == in_json
+    assert all(holds[r] == n for n, refs in shown.items() for r in refs if r in holds)
     every = [r for refs in shown.values() for r in refs]
     assert len(every) == len(set(every)) >= 20  # unique across the build
     # the buy list names the same designators for the lights' parts, each once
@@ -245,3 +252,17 @@ def test_a_storage_short_of_the_night_is_said_in_the_solve():
     # 5 F x 0.8 V = 4 C against 40 C: a tenth
     assert "the 5 F storage gives 4 C from 2.60 V to 1.80 V, 10% of that" in text
     assert "--size sizes it" in text
+
+
+def test_each_light_screen_lists_its_dusk_hold_diode(built):
+    # the hold diodes are numbered with the build's parts (as the buy list numbers them)
+    # and shown on the screen of the light each one holds
+    result, doc, text, rows = built
+    lines = text.splitlines()
+    for li in result.lights:
+        start = next(k for k, line in enumerate(lines) if line.startswith(f"{li.name}: "))
+        end = next(k for k in range(start + 1, len(lines)) if not lines[k].strip()
+                   and k > start + 3)
+        screen = " ".join(" ".join(lines[start:end + 12]).split())
+        assert "dusk hold diode" in screen
+    assert any("D4" in row["refs"].split() for row in rows)

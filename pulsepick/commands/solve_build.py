@@ -163,7 +163,8 @@ def run_build(args) -> int:
     else:
         render_build(make_console(), result, buylist=args.buylist if offered else None,
                      storage=extras.get("storage"), night=done.night,
-                     cautions=() if done.advice is None else done.advice.cautions)
+                     cautions=() if done.advice is None else done.advice.cautions,
+                     lines=build_lines(result, **extras) if offered else ())
     if not offered:
         _nothing_line(breq.describe(), list(result.warnings) or [result.message])
         return 2

@@ -12,7 +12,7 @@ from pulsepick.commands.solve_text import _eng, _render_cautions
 
 
 def render_build(console, result, *, buylist: str | None = None, storage=None,
-                 night=None, cautions=()) -> None:
+                 night=None, cautions=(), lines=()) -> None:
     """The terminal report of a several-lights build (readable at 100 columns).
 
     ``storage``: the build's storage part (:class:`pulsepick.parts.storage.Storage`; the
@@ -20,6 +20,8 @@ def render_build(console, result, *, buylist: str | None = None, storage=None,
     None.
     ``night``: the design file's night (:class:`pulsepick.commands.design_night.DesignNight`).
     ``cautions``: cautions of the charge path (over-voltage and the proposed clamp).
+    ``lines``: the build's parts (``PartLine``, as the buy list numbers them); each light's
+    screen adds the build parts that serve it alone (its dusk hold diode).
     """
     from pulsepick.output.export import solve_cautions
     from pulsepick.output.render import print_wrapped
@@ -48,7 +50,7 @@ def render_build(console, result, *, buylist: str | None = None, storage=None,
         console.print()
     console.print(f"[bold]{result.message}[/bold]", highlight=False)
     console.print()
-    _render_light_screens(console, result)
+    _render_light_screens(console, result, lines)
     if buylist:
         console.print(f"Buy list of the whole build written to {buylist}", markup=False)
         console.print()
@@ -155,9 +157,10 @@ def storage_budget_text(result, storage, need_c: float) -> str:
                                                               ", --size sizes it"))
 
 
-def _render_light_screens(console, result) -> None:
+def _render_light_screens(console, result, lines=()) -> None:
     """One screen per light: its parts (a photoresistor network in place of the timing
-    resistor when the light sets the rate), notes and warnings."""
+    resistor when the light sets the rate; the build parts that serve it alone, such as
+    its dusk hold diode, from ``lines``), notes and warnings."""
     from pulsepick.output.render import print_wrapped, simple_table
     from pulsepick.packing import night_lux
 
@@ -169,6 +172,11 @@ def _render_light_screens(console, result) -> None:
         own = c.parts
         prow = [[p.ref, p.display, p.code, p.tolerance, p.dielectric or "-", p.role]
                 for p in own if p.kind != "chip"]
+        mine, refs = f"{li.name}: ", {p.ref for p in own}
+        prow += [[p.ref, p.display, p.code, p.tolerance, "-",
+                  p.role[len(mine):] + (f" ({p.note})" if p.note else "")]
+                 for p in lines if p.role.startswith(mine) and p.ref not in refs
+                 and p.kind != "chip"]
         console.print(simple_table(None, ["ref", "value", "code", "tol", "kind", "role"], prow))
         if i in rates:
             print_wrapped(console, "rate set by the light: " + _rate_text(
