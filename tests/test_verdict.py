@@ -142,7 +142,7 @@ def test_input_leakage_is_graded(r1, word):
     if word is None:
         assert f is None
     else:
-        assert f.text.startswith(word + ":") and "0.25 V" in f.text
+        assert f.text.startswith(word + ":") and "250 mV" in f.text
 
 
 def test_leakage_is_one_line_per_design():

@@ -136,12 +136,13 @@ def pin_leakage_finding(design: Design, env=None) -> Finding | None:
     if err_max < PIN_LEAK_MARGIN_SHARE * vh_min:
         return None
     word = "fails with a worst-case chip" if err_max > vh_min else "margin"
+    beyond = " (more than the supply)" if err_max > design.supply_v else ""
     return Finding(
         "pin-leakage",
         f"{word}: input leakage up to {format_eng(leak_max, 'A')} (guaranteed maximum over "
-        f"temperature) x {label} {format_eng(r, 'Ω')} = {err_max:.3g} V against {which} of "
-        f"{vh_min:.3g} V at {design.supply_v:g} V; typical leakage {format_eng(leak_typ, 'A')} "
-        f"gives {leak_typ * r:.3g} V")
+        f"temperature) x {label} {format_eng(r, 'Ω')} = {format_eng(err_max, 'V')}{beyond} "
+        f"against {which} of {format_eng(vh_min, 'V')} at {design.supply_v:g} V; typical "
+        f"leakage {format_eng(leak_typ, 'A')} gives {format_eng(leak_typ * r, 'V')}")
 
 
 def circuit_findings(design: Design, status=None, peak_a: float | None = None,

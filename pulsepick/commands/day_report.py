@@ -127,7 +127,8 @@ def render_report(result: DaysResult, night_info: dict, console, sky=None,
     _render_verdicts(console, result)
     if sky is not None:
         totals = sky.irradiation_wh_m2
-        console.print(f"Light on the panel: {min(totals) / 1e3:.2f} to {max(totals) / 1e3:.2f} "
+        lo, hi = f"{min(totals) / 1e3:.2f}", f"{max(totals) / 1e3:.2f}"
+        console.print(f"Light on the panel: {lo if lo == hi else f'{lo} to {hi}'} "
                       f"kWh/m² a day (clear sky times each day's index; tilt {sky.site.tilt:g}°, "
                       f"azimuth {sky.site.azimuth:g}°, turbidity {sky.site.turbidity:g}).")
         line = sky.sensitivity_line()

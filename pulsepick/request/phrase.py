@@ -126,7 +126,8 @@ def parse_phrase(phrase: str) -> BlinkTargets:
         found_piece = _match_piece(text, pos)
         if found_piece is None:
             rest = text[pos:].split(",")[0].split(";")[0].strip()
-            raise RequestError(f"cannot read {_quote(rest)} in {_quote(phrase)}" + _examples())
+            where = "" if rest == phrase.strip() else f" in {_quote(phrase)}"
+            raise RequestError(f"cannot read {_quote(rest)}{where}" + _examples())
         m, action = found_piece
         piece = m.group(0).strip()
         try:
