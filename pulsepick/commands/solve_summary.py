@@ -207,7 +207,7 @@ def render_block(console, req, c, *, schematic: bool = False) -> None:
         period += f" (aim {_eng(aim[0], 's')}, {err * 100:+.1f} %)"
     figs = [f"period {period}", f"flash {_eng(f['flash_s'], 's')}",
             f"peak {_eng(f['led_peak_a'], 'A')}",
-            f"effective {_eng(f['effective_a'], 'A')}",
+            f"as bright as a steady {_eng(f['effective_a'], 'A')} (effective)",
             f"supply {_eng(f['supply_avg_a'], 'A')} average"]
     ref = c.reference_figures
     if ref is not None and math.isfinite(ref.get("period_s", math.nan)) and f["period_s"]:
