@@ -242,8 +242,7 @@ def lock_remedies(breq, picks, groups, share, options_fn, *, seed: int = 0,
                                                      if i in (p.a, p.b)))
     alone = [g if i != worst else max(groups) + 1 for i, g in enumerate(groups)]
     sep = share_of(periods, share.log_dev, alone, margin=share.margin, max_q=share.max_q)
-    # no option asks for it: the packer fills as few packages as it can (by hand, a
-    # second package wired for this light alone)
+    # no option asks for it: the packer fills as few packages as it can
     out.append(Remedy(f"{breq.lights[worst].name} on a package of its own (by hand)",
                       sep.share, None))
     # only what lowers the share is a remedy
