@@ -96,8 +96,35 @@ def _rs_for(design, led_a: float, limit_a: float) -> float | None:
     return rs + v_drive * (1.0 / limit_a - 1.0 / led_a)
 
 
-def rating_excesses(design, led_peak_a: float) -> list[RatingExcess]:
-    """Every current of ``design`` over a rating, at an LED peak of ``led_peak_a`` (A)."""
+def _e24_rs_within(design, rs_estimate: float, limit_a: float) -> float:
+    """The smallest E24 series resistor (IEC 60063) from ``rs_estimate`` up that keeps the
+    design's LED peak within ``limit_a`` by the fast engine (a few steps at most)."""
+    from dataclasses import replace
+
+    from pulsepick.series import get_series
+
+    e24 = get_series("E24")
+    r = float(e24.nearest(rs_estimate, rounding="up"))
+    for _ in range(4):
+        peak = design_peak(replace(design, values={**design.values, "rs": r}))
+        if not peak > limit_a:
+            break
+        r = float(e24.nearest(r * 1.01, rounding="up"))
+    return r
+
+
+def design_peak(design) -> float:
+    """The LED peak (A) of ``design`` by the fast engine at its supply."""
+    return float(np.ravel(design.fast().led_peak_a)[0])
+
+
+def rating_excesses(design, led_peak_a: float, *, fixes: bool = True
+                    ) -> list[RatingExcess]:
+    """Every current of ``design`` over a rating, at an LED peak of ``led_peak_a`` (A).
+
+    ``fixes`` False leaves the fix texts out (they run the fast engine to pick the E24
+    resistor): for a yes/no answer such as :func:`over_rating`.
+    """
     if not (isinstance(led_peak_a, float | int) and math.isfinite(led_peak_a)
             and led_peak_a > 0):
         return []
@@ -105,10 +132,15 @@ def rating_excesses(design, led_peak_a: float) -> list[RatingExcess]:
     led = design.parts.led
 
     def fix_text(limit: float) -> str:
+        if not fixes:
+            return ""
         rs = _rs_for(design, led_peak_a, limit)
-        first = ("a larger RS" if rs is None or "rs" not in design.values else
-                 f"a larger RS (about {format_eng(rs, 'Ω')} or more for "
-                 f"{format_eng(limit, 'A')})")
+        if rs is None or "rs" not in design.values:
+            first = "a larger RS"
+        else:  # the next E24 value up (IEC 60063)
+            e24 = _e24_rs_within(design, rs, limit)
+            first = (f"a larger RS ({format_eng(e24, 'Ω')} or more, E24, for "
+                     f"{format_eng(limit, 'A')})")
         return f"fix: {first}, or drive the LED through a transistor"
 
     if led.i_max_a is not None and led_peak_a > led.i_max_a:
@@ -151,7 +183,7 @@ def _pin_excesses(design, gr: GateRatings, led_peak_a: float, led_fix) -> list[R
     pin = "spare gate's output pin" if design.topo.buffered else "timing gate's output pin"
     if gr.out_pin_max_a is not None and pin_a > gr.out_pin_max_a:
         fix = fix_text(gr.out_pin_max_a)
-        if not design.topo.buffered and stage.gate_carries_led:
+        if fix and not design.topo.buffered and stage.gate_carries_led:
             fix += (f"; a buffer gate ({hint('buffered', True)}) moves the load off the "
                     "timing gate")
         out.append(RatingExcess(f"U1 {pin}", f"output current ({what})", pin_a,
@@ -170,4 +202,4 @@ def _pin_excesses(design, gr: GateRatings, led_peak_a: float, led_fix) -> list[R
 
 def over_rating(design, led_peak_a: float) -> bool:
     """True when any current of ``design`` is over a rating."""
-    return bool(rating_excesses(design, led_peak_a))
+    return bool(rating_excesses(design, led_peak_a, fixes=False))
