@@ -16,8 +16,8 @@ import sys
 import threading
 import traceback
 import warnings
-from typing import NoReturn
 from types import ModuleType
+from typing import NoReturn
 
 from pulsepick import __version__
 from pulsepick.commands import COMMAND_MODULES

@@ -257,7 +257,7 @@ def test_a_storage_short_of_the_night_is_said_in_the_solve():
 def test_each_light_screen_lists_its_dusk_hold_diode(built):
     # the hold diodes are numbered with the build's parts (as the buy list numbers them)
     # and shown on the screen of the light each one holds
-    result, doc, text, rows = built
+    result, _, text, rows = built
     lines = text.splitlines()
     for li in result.lights:
         start = next(k for k, line in enumerate(lines) if line.startswith(f"{li.name}: "))

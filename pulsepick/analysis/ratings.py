@@ -106,16 +106,11 @@ def _e24_rs_within(design, rs_estimate: float, limit_a: float) -> float:
     e24 = get_series("E24")
     r = float(e24.nearest(rs_estimate, rounding="up"))
     for _ in range(4):
-        peak = design_peak(replace(design, values={**design.values, "rs": r}))
+        peak = replace(design, values={**design.values, "rs": r}).fast().row(0)["led_peak_a"]
         if not peak > limit_a:
             break
         r = float(e24.nearest(r * 1.01, rounding="up"))
     return r
-
-
-def design_peak(design) -> float:
-    """The LED peak (A) of ``design`` by the fast engine at its supply."""
-    return float(np.ravel(design.fast().led_peak_a)[0])
 
 
 def rating_excesses(design, led_peak_a: float, *, fixes: bool = True

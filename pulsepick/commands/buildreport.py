@@ -82,7 +82,8 @@ def build_views(result, night=None) -> list:
         if c is not None and c.reference is not None:
             v = wave_view(c.design, c.reference, li.asked_s)
             if v is not None:
-                views.append(replace(v, source=f"{li.name}, reference simulation"))
+                views.append(replace(v, source=f"{li.name}, reference simulation",
+                                     light=li.name))
     if night is not None:
         views.append(night_view(night[0]))
     return views
@@ -207,8 +208,9 @@ def _energy_section(result, night=None) -> Section:
     """The energy budget of all lights (over the design file's night when there is one,
     else a 12 h night)."""
     from pulsepick.commands.wording import duration_text
+    from pulsepick.solve.nightcheck import DEFAULT_NIGHT_S
 
-    night_s = 12 * 3600.0 if night is None else float(night[0].duration_s)
+    night_s = DEFAULT_NIGHT_S if night is None else float(night[0].duration_s)
     budget = [("all lights at the design supply", num(result.total_supply_a, "A")),
               (f"over the {duration_text(night_s)} night",
                num(result.total_supply_a * night_s, "C"))]

@@ -89,9 +89,7 @@ def night_view(result, open_ended: bool = False) -> NightView:
 
 
 _CAPTIONS = {
-    # a build's views name their light first ("gate, reference simulation")
-    WaveView: lambda v: ("One period" + (f" of {v.source.split(',')[0]}"
-                                         if "," in v.source else "") +
+    WaveView: lambda v: ("One period" + (f" of {v.light}" if v.light else "") +
                          ": timing-capacitor voltage with the switching thresholds, "
                          "the gate output and the LED current."),
     SpreadView: lambda v: (f"The period over {v.builds:,} builds (seed {v.seed}) with the "

@@ -154,6 +154,7 @@ def run_build(args) -> int:
 
     done = compute_build(args)
     result, breq, extras, offered = done.result, done.request, done.extras, done.offered
+    lines = build_lines(result, **extras) if offered else ()
     if args.buylist and offered:
         from pulsepick.output.export import write_atomic
 
@@ -164,14 +165,14 @@ def run_build(args) -> int:
         render_build(make_console(), result, buylist=args.buylist if offered else None,
                      storage=extras.get("storage"), night=done.night,
                      cautions=() if done.advice is None else done.advice.cautions,
-                     lines=build_lines(result, **extras) if offered else ())
+                     lines=lines)
     if not offered:
         _nothing_line(breq.describe(), list(result.warnings) or [result.message])
         return 2
     from pulsepick.commands.buildreport import build_pictures
     from pulsepick.commands.pictures import announce
 
-    announce(args, build_pictures(args, result, build_lines(result, **extras), done.design))
+    announce(args, build_pictures(args, result, lines, done.design))
     # offered, but over the lock share the request limits (--max-lock-share)
     return 0 if result.success else 3
 

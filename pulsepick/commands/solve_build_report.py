@@ -27,6 +27,7 @@ def render_build(console, result, *, buylist: str | None = None, storage=None,
     from pulsepick.output.render import print_wrapped
 
     breq = result.request
+    has_storage = storage is not None
     names = [li.name for li in result.lights]
     console.print(f"[bold]pulsepick solve[/bold]: {breq.describe()}", highlight=False)
     console.print()
@@ -36,7 +37,7 @@ def render_build(console, result, *, buylist: str | None = None, storage=None,
         for w in result.warnings:
             print_wrapped(console, w, indent="  - ", hang="    ")
         console.print()
-        _render_cautions(console, tuple(cautions) + tuple(solve_cautions(breq, storage=storage is not None)))
+        _render_cautions(console, (*cautions, *solve_cautions(breq, storage=has_storage)))
         return
     _render_packages(console, result.plan, names)
     render_lock_risks(console, result, names)
@@ -54,7 +55,7 @@ def render_build(console, result, *, buylist: str | None = None, storage=None,
     if buylist:
         console.print(f"Buy list of the whole build written to {buylist}", markup=False)
         console.print()
-    _render_cautions(console, tuple(cautions) + tuple(solve_cautions(breq, storage=storage is not None)))
+    _render_cautions(console, (*cautions, *solve_cautions(breq, storage=has_storage)))
 
 
 def _render_lights_table(console, result) -> None:
@@ -123,9 +124,10 @@ def _render_energy(console, result, night, storage=None) -> None:
     """The energy budget of all lights over the night, set against the storage's charge
     when the build names one."""
     from pulsepick.output.render import print_wrapped
+    from pulsepick.solve.nightcheck import DEFAULT_NIGHT_S
 
     console.print("[bold]Energy budget[/bold]")
-    night_s = 12 * 3600 if night is None else night.night_s
+    night_s = DEFAULT_NIGHT_S if night is None else night.night_s
     need_c = result.total_supply_a * night_s
     night_words = "a 12 h night" if night is None else f"the {night.text}"
     held = ("" if result.gating is None else
@@ -143,10 +145,8 @@ def storage_budget_text(result, storage, need_c: float) -> str:
     """The storage's charge between the build's start and stop supplies against what the
     night needs at the design supply's draw (an estimate: the draw falls with the
     voltage); where to run the night without a storage or a supply range."""
-    if storage is None:
-        return "'pulsepick night' runs the storage through the night"
     req = result.request.lights[0].request
-    if req.supply_end_v is None or not need_c > 0:
+    if storage is None or req.supply_end_v is None or not need_c > 0:
         return "'pulsepick night' runs the storage through the night"
     have_c = storage.capacitance_f * (req.supply_v - req.supply_end_v)
     share = have_c / need_c

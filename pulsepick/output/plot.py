@@ -68,6 +68,7 @@ class WaveView:
     high_s: float  # s, time the gate output is high
     target_period_s: float | None = None  # s, the period asked for
     source: str = "reference simulation"  # where the trace comes from
+    light: str = ""  # the light of a build it belongs to ("" for a single light)
 
 
 @dataclass(frozen=True, eq=False)
