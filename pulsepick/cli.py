@@ -228,6 +228,23 @@ def main(argv: list[str] | None = None) -> int:
                 pass
 
 
+#: Thread-count variables of the BLAS libraries that numpy and scipy load (OpenBLAS in
+#: their wheels; MKL and OpenMP builds elsewhere).
+BLAS_THREAD_VARIABLES = ("OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS", "OMP_NUM_THREADS")
+
+
+def single_threaded_blas() -> None:
+    """One BLAS thread per process unless the user set otherwise (before numpy loads).
+
+    pulsepick parallelises by worker processes, one per core, over many small arrays;
+    a BLAS thread pool in each process only adds threads that wait spinning for work
+    and take CPU time from the workers (common practice for process-parallel
+    programs). A variable the user has set is left as it is.
+    """
+    for name in BLAS_THREAD_VARIABLES:
+        os.environ.setdefault(name, "1")
+
+
 def run() -> NoReturn:
     """The ``pulsepick`` program: :func:`main` on the command line, then the process ends.
 
@@ -236,6 +253,7 @@ def run() -> NoReturn:
     a fifth of a second after a solve (numpy and scipy) and changes nothing the user
     sees: every file is closed and every worker process has ended by then.
     """
+    single_threaded_blas()
     status = main()
     for stream in (sys.stdout, sys.stderr):
         try:

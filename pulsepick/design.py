@@ -78,11 +78,14 @@ class Design:
         env, powered = self.env(vdd, **kwargs)
         return fast.evaluate(self.topo, self.working_values(env), env, powered=powered)
 
-    def reference(self, vdd=None, **kwargs) -> reference.ReferenceResult:
-        """Figures from the transient reference simulation (scalar supply only)."""
+    def reference(self, vdd=None, *, rtol: float | None = None,
+                  **kwargs) -> reference.ReferenceResult:
+        """Figures from the transient reference simulation (scalar supply only);
+        ``rtol``: the integrator's relative tolerance (None: the engine's default)."""
         env, powered = self.env(vdd, **kwargs)
+        extra = {} if rtol is None else {"rtol": rtol}
         return reference.simulate(self.topo, self.working_values(env), env,
-                                  powered=bool(np.all(powered)))
+                                  powered=bool(np.all(powered)), **extra)
 
     def label(self) -> str:
         return f"{self.topo.label()}, {self.chip.family}, {self.parts.led.name}"

@@ -9,10 +9,7 @@ over worker processes it owns (their number and their lifetime).
 
 from __future__ import annotations
 
-import signal
-import threading
-from collections.abc import Callable, Iterator, Sequence
-from contextlib import contextmanager
+from collections.abc import Callable, Sequence
 from typing import Any, Protocol
 
 
@@ -30,7 +27,9 @@ class Runner(Protocol):
         handed out (default: as given). ``limit`` is the most tasks that may run at
         once (a memory bound; None: no bound). ``fresh`` asks for workers started for
         this batch, so that they begin with every module this process has imported by
-        now (a runner of one process ignores it).
+        now (a runner of one process ignores it). ``meanwhile`` may run a batch of its
+        own on the same runner: asked ``fresh``, it gets new workers while the first
+        batch's go on.
         """
         ...
 
@@ -56,34 +55,4 @@ def runner_or_serial(runner: Runner | None) -> Runner:
     return SERIAL if runner is None else runner
 
 
-@contextmanager
-def signals_deferred() -> Iterator[None]:
-    """Ctrl-C, SIGTERM and SIGHUP arriving inside the block take effect as it ends.
-
-    For work that must not be broken off half way, such as importing a large package:
-    an import stopped half way leaves modules half made, and the program's own exit then
-    fails. Only the main thread handles signals; elsewhere the block runs as it is.
-    """
-    if threading.current_thread() is not threading.main_thread():
-        yield
-        return
-    caught: list[int] = []
-
-    def note(signum, _frame) -> None:
-        caught.append(signum)
-
-    old = {}
-    for name in ("SIGINT", "SIGTERM", "SIGHUP"):
-        sig = getattr(signal, name, None)
-        if sig is not None and signal.getsignal(sig) is not None:
-            old[sig] = signal.signal(sig, note)
-    try:
-        yield
-    finally:
-        for sig, handler in old.items():
-            signal.signal(sig, handler)
-        if caught:
-            signal.raise_signal(caught[0])  # now handled as it would have been
-
-
-__all__ = ["SERIAL", "Runner", "SerialRunner", "runner_or_serial", "signals_deferred"]
+__all__ = ["SERIAL", "Runner", "SerialRunner", "runner_or_serial"]

@@ -119,15 +119,18 @@ class PoolRunner:
     to the core. The workers start with the first batch that needs them and serve every
     later batch while the runner is open; a batch bounded to fewer tasks at once
     (``limit``) gets a pool of that size instead. A batch of one task, or a runner of one
-    job, runs in this process. Leaving the ``with`` block shuts the workers down; leaving
-    it, or a batch, with an exception (Ctrl-C, a termination signal, an error) kills
-    them at once instead of waiting for them.
+    job, runs in this process. A batch that asks for fresh workers while another batch
+    still runs (from its ``meanwhile``) gets a pool of its own, and the busy pool ends
+    when its batch does. Leaving the ``with`` block shuts the workers down; leaving it,
+    or a batch, with an exception (Ctrl-C, a termination signal, an error) kills them
+    at once instead of waiting for them.
     """
 
     def __init__(self, jobs: int) -> None:
         self.jobs = max(1, int(jobs))
         self._pool = None
         self._width = 0
+        self._busy: dict[int, int] = {}  # id of a pool -> batches running on it
 
     def __enter__(self) -> PoolRunner:
         return self
@@ -145,9 +148,17 @@ class PoolRunner:
         else:
             pool.shutdown(wait=True)
 
+    def _retire(self) -> None:
+        """No more batches for the current pool: shut it down now when it is idle, else
+        when its batch ends (see :meth:`map`)."""
+        if self._pool is not None and self._busy.get(id(self._pool)):
+            self._pool, self._width = None, 0
+        else:
+            self.close()
+
     def _open(self, width: int):
         if self._pool is not None and self._width != width:
-            self.close()
+            self._retire()
         if self._pool is None:
             import multiprocessing
             from concurrent.futures import ProcessPoolExecutor
@@ -170,8 +181,10 @@ class PoolRunner:
 
             return SERIAL.map(fn, tasks, meanwhile=meanwhile)
         if fresh:
-            self.close()  # idle workers: forked anew below, with this process's modules
+            self._retire()  # forked anew below, with this process's modules
         pool = self._open(width)
+        self._busy[id(pool)] = self._busy.get(id(pool), 0) + 1
+        killed = False
         try:
             idx = list(range(len(tasks))) if order is None else list(order)
             with _held(), _frozen():  # the first batch forks the workers
@@ -180,8 +193,17 @@ class PoolRunner:
                 meanwhile()
             return [futures[i].result() for i in range(len(tasks))]
         except BaseException:
+            killed = True
+            if pool is not self._pool:
+                _kill(pool)
             self.close(kill=True)
             raise
+        finally:
+            self._busy[id(pool)] -= 1
+            if not self._busy[id(pool)]:
+                del self._busy[id(pool)]
+                if pool is not self._pool and not killed:
+                    pool.shutdown(wait=True)  # retired meanwhile: its workers are idle
 
 
 def pool_runner(jobs: int | None = None) -> PoolRunner:

@@ -48,3 +48,17 @@ def test_the_program_ends_with_mains_status_and_all_its_output():
                           "E7"], capture_output=True, text=True, check=False)
     assert bad.returncode == EXIT_BAD_INPUT
     assert bad.stdout == "" and len(bad.stderr.strip().splitlines()) == 1
+
+
+def test_the_program_runs_one_blas_thread_per_process_unless_the_user_says_otherwise(
+        monkeypatch):
+    from pulsepick.cli import BLAS_THREAD_VARIABLES, single_threaded_blas
+
+    for name in BLAS_THREAD_VARIABLES:
+        monkeypatch.delenv(name, raising=False)
+    monkeypatch.setenv("OMP_NUM_THREADS", "3")
+    single_threaded_blas()
+    import os
+
+    assert os.environ["OPENBLAS_NUM_THREADS"] == "1" and os.environ["MKL_NUM_THREADS"] == "1"
+    assert os.environ["OMP_NUM_THREADS"] == "3"

@@ -69,15 +69,3 @@ def test_killed_parent_takes_its_workers_along():
         if proc.poll() is None:
             proc.kill()
             proc.wait()
-
-
-def test_a_signal_inside_signals_deferred_takes_effect_as_the_block_ends():
-    from pulsepick.runner import signals_deferred
-
-    done = []
-    with pytest.raises(KeyboardInterrupt):
-        with signals_deferred():
-            signal.raise_signal(signal.SIGINT)
-            done.append("the whole block ran")
-    assert done == ["the whole block ran"]
-    assert signal.getsignal(signal.SIGINT) is signal.default_int_handler

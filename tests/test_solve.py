@@ -409,3 +409,22 @@ def test_no_near_copies_fill_the_list():
         key = (c.design.chip.family, c.design.topo, core_values)
         assert key not in timing
         timing.add(key)
+
+
+def test_the_check_tolerance_changes_no_figure_the_report_shows():
+    # an offered circuit's reference run integrates at CHECK_RTOL; every figure stays
+    # within 1e-4 of a run at the engine's default (the report shows 0.01 %)
+    from pulsepick.solve.assessment import CHECK_RTOL
+
+    req = make_request("one flash every 3 s, 40 ms long", led="red", supply="2.7V..1.8V",
+                       family="lvc,timer555")
+    found = solve(req).candidates
+    assert len(found) >= 4 and CHECK_RTOL > 1e-9
+    for c in found:
+        kw = {"vt_plus": c.aim_levels_v[0], "vt_minus": c.aim_levels_v[1]} \
+            if c.aim_levels_v is not None else {}
+        fine, quick = c.design.reference(**kw), c.design.reference(rtol=CHECK_RTOL, **kw)
+        assert fine.success and quick.success
+        for key, value in fine.figures.row().items():
+            if math.isfinite(value) and value != 0:
+                assert quick.figures.row()[key] == pytest.approx(value, rel=1e-4), key

@@ -3,8 +3,11 @@ engine needs it (see DEVELOPERS.md, start-up time)."""
 
 from __future__ import annotations
 
+import os
 import subprocess
 import sys
+
+import pytest
 
 
 def test_solve_path_imports_no_scipy_until_a_reference_run():
@@ -29,3 +32,40 @@ def test_the_median_aim_needs_no_scipy():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=True).stdout.splitlines()
     assert out == ["True []"]
+
+
+def test_the_checks_beside_the_reference_runs_need_no_scipy():
+    # the spreads, drift and warnings of the offered circuits start on the search's
+    # workers while this process still imports the integrator, so they must need none
+    code = ("import sys, importlib\n"
+            "import pulsepick.prefetch\n"
+            "pulsepick.prefetch.prefetch = lambda *names: None\n"
+            "from pulsepick.request import make_request\n"
+            "from pulsepick.solve import solve\n"
+            "A = importlib.import_module('pulsepick.solve.assessment')\n"
+            "req = make_request('one flash every 3 s, 40 ms long', led='red',\n"
+            "                   supply='2.7V..1.8V', family='lvc,timer555')\n"
+            "res = solve(req)\n"
+            "outs = [A._assess_part('rest', A._assess_args(req, c)) for c in res.candidates]\n"
+            "print(len(outs), all(o.get('spread') is not None for o in outs))\n"
+            "print(sorted(m for m in sys.modules if m.split('.')[0] == 'scipy'))\n")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True).stdout.splitlines()
+    assert out[0].split()[1] == "True" and int(out[0].split()[0]) >= 3
+    assert out[1] == "[]"
+
+
+@pytest.mark.skipif(not hasattr(os, "fork"), reason="needs os.fork")
+def test_a_fork_waits_for_the_integrator_import_under_way():
+    # the import runs in a thread; a child forked meanwhile must start with it whole
+    code = ("import os, sys\n"
+            "from pulsepick.prefetch import prefetch\n"
+            "prefetch('scipy.integrate')\n"
+            "pid = os.fork()\n"
+            "if pid == 0:\n"
+            "    m = sys.modules.get('scipy.integrate')\n"
+            "    os._exit(0 if m is not None and hasattr(m, 'solve_ivp') else 3)\n"
+            "print(os.waitpid(pid, 0)[1] >> 8)\n")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         check=True).stdout.split()
+    assert out == ["0"]

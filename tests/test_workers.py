@@ -8,7 +8,7 @@ import sys
 import pytest
 
 from pulsepick.runner import SERIAL, runner_or_serial
-from pulsepick.workers import PoolRunner, alive, default_jobs, on_workers
+from pulsepick.workers import PoolRunner, alive, children, default_jobs, on_workers
 
 linux_only = pytest.mark.skipif(sys.platform != "linux", reason="fork start method")
 
@@ -68,4 +68,42 @@ def test_an_error_in_a_task_kills_the_workers_and_the_next_batch_gets_new_ones()
         with pytest.raises(ValueError, match="task 2 fails"):
             runner.map(_fail, [(0,), (1,), (2,), (3,)])
         assert not any(alive(p) for p in before)
+        assert runner.map(_square, [(5,), (6,)]) == [25, 36]
+
+
+def _slow_pid(_: int) -> int:
+    import time
+
+    time.sleep(0.05)
+    return os.getpid()
+
+
+@linux_only
+def test_a_fresh_batch_from_meanwhile_gets_its_own_workers_beside_the_busy_ones():
+    inner: list[list[int]] = []
+    with PoolRunner(2) as runner:
+        outer = runner.map(_slow_pid, [(i,) for i in range(6)], meanwhile=lambda: inner.append(
+            runner.map(_pid, [(i,) for i in range(4)], fresh=True)))
+        assert len(outer) == 6 and len(inner[0]) == 4
+        assert not set(outer) & set(inner[0])  # new workers for the fresh batch
+        assert os.getpid() not in set(outer) | set(inner[0])
+        assert not any(alive(p) for p in outer)  # the busy pool ended with its batch
+        again = runner.map(_pid, [(i,) for i in range(4)])  # the fresh workers serve on
+        assert not set(again) & set(outer) and os.getpid() not in again
+    assert not any(alive(p) for p in set(inner[0]) | set(again))
+
+
+@linux_only
+def test_an_error_in_a_fresh_batch_from_meanwhile_kills_both_sets_of_workers():
+    seen: list[set[int]] = []
+
+    def meanwhile() -> None:
+        seen.append(set(runner.map(_pid, [(0,), (1,)], fresh=True)))
+        runner.map(_fail, [(0,), (1,), (2,)])
+
+    with PoolRunner(2) as runner:
+        with pytest.raises(ValueError, match="task 2 fails"):
+            runner.map(_slow_pid, [(i,) for i in range(4)], meanwhile=meanwhile)
+        assert seen and not any(alive(p) for p in seen[0])
+        assert not [p for p in children(os.getpid()) if alive(p)]  # the outer ones too
         assert runner.map(_square, [(5,), (6,)]) == [25, 36]

@@ -32,14 +32,21 @@ from pulsepick.circuits.base import (
 )
 from pulsepick.circuits.decay import K_OVER_Q
 
+#: The module of the integrator (see :func:`load_integrator`), for a prefetch
+#: (:mod:`pulsepick.prefetch`).
+INTEGRATOR_MODULE = "scipy.integrate"
+
 
 def load_integrator():
     """``scipy.integrate.solve_ivp``, imported on first use.
 
     scipy.integrate brings scipy.optimize, scipy.linalg and scipy.special with it (some
     tenths of a second of start-up), so only the code that simulates pays for it; the
-    solver imports it in its own process while its workers search.
+    solver prefetches it (:mod:`pulsepick.prefetch`) while its workers search.
     """
+    from pulsepick.prefetch import wait
+
+    wait()
     from scipy.integrate import solve_ivp
 
     return solve_ivp
@@ -154,6 +161,28 @@ class _Circuit:
         self.n_x = self.stage.n_states
         self._last_node: dict = {}
         self._last_slope: dict = {}
+        # the last evaluation of each side's currents: the node solve ends on the root,
+        # where :meth:`nodes` asks for them once more
+        self._core_last: tuple = (None, None)
+        self._stage_last: tuple = (None, None)
+
+    def _core(self, vo: float, vc: float, high: bool) -> tuple:
+        """``core.ref_currents`` at ``vo``, the timing capacitor at ``vc``."""
+        key, val = self._core_last
+        if key != (vo, vc, high):
+            key = (vo, vc, high)
+            val = self.core.ref_currents(self.v, self.env, self.topo, vo, vc, high)
+            self._core_last = (key, val)
+        return val
+
+    def _stage(self, vo: float, xs: list[float], high: bool) -> tuple:
+        """``stage.ref_currents`` at ``vo``, the stage's states at ``xs``."""
+        key, val = self._stage_last
+        if key != (vo, tuple(xs), high):
+            key = (vo, tuple(xs), high)
+            val = self.stage.ref_currents(self.v, self.env, self.topo, vo, xs, high)
+            self._stage_last = (key, val)
+        return val
 
     def _solve_node(self, v_src: float, r_out: float, load, key) -> float:
         """Node voltage where the gate's output current equals the load's draw.
@@ -197,9 +226,9 @@ class _Circuit:
 
     def nodes(self, vc: float, xs: list[float], high: bool):
         """Solve the output nodes; return (i_cap, dxs, i_led, i_supply, vo)."""
-        env, v, topo = self.env, self.v, self.topo
-        core_out = lambda vo: self.core.ref_currents(v, env, topo, vo, vc, high)[1]  # noqa: E731
-        stage_out = lambda vo, dh: self.stage.ref_currents(v, env, topo, vo, xs, dh)[0]  # noqa: E731
+        env, topo = self.env, self.topo
+        core_out = lambda vo: self._core(vo, vc, high)[1]  # noqa: E731
+        stage_out = lambda vo, dh: self._stage(vo, xs, dh)[0]  # noqa: E731
         v_src, r_out = (env.vdd, env.rout_high) if high else (0.0, env.rout_low)
         if self.timer:
             vo_t = v_src
@@ -220,8 +249,8 @@ class _Circuit:
             vo_s = vo_t
             drv_high = high
             supply_gate = (env.vdd - vo_t) / env.rout_high if high else 0.0
-        i_cap, _, i_core_supply = self.core.ref_currents(v, env, topo, vo_t, vc, high)
-        _, dxs, i_led, i_stage_supply = self.stage.ref_currents(v, env, topo, vo_s, xs, drv_high)
+        i_cap, _, i_core_supply = self._core(vo_t, vc, high)
+        _, dxs, i_led, i_stage_supply = self._stage(vo_s, xs, drv_high)
         return i_cap, dxs, i_led, supply_gate + i_core_supply + i_stage_supply, vo_t
 
     def rhs(self, high: bool):
@@ -242,6 +271,13 @@ class _Circuit:
         v = self.v
         r = v.get("r1", 0.0) + v.get("ra", 0.0) + v.get("rb", 0.0)
         return r * v["c1"]
+
+
+#: Two cycles whose periods differ by less than this share are the periodic steady state
+#: (with the stage's state within 1 µV), or by this many times the integrator's relative
+#: tolerance where that is larger: a looser integration repeats its cycles only so well.
+SETTLED_PERIOD = 1e-8
+SETTLED_PER_RTOL = 10.0
 
 
 def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 400,
@@ -298,7 +334,8 @@ def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 400,
         if len(periods) >= 2:
             p_prev, p_now = periods[-2], periods[-1]
             settled = np.all(np.abs(edge_states[-1] - edge_states[-2]) <= 1e-6)
-            if abs(p_now - p_prev) <= 1e-8 * p_now and settled:
+            if abs(p_now - p_prev) <= max(SETTLED_PERIOD, SETTLED_PER_RTOL * rtol) * p_now \
+                    and settled:
                 break
         y[1 + n_x:] = 0.0  # restart the charge counters each cycle
     else:

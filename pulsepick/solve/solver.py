@@ -22,7 +22,6 @@ from pulsepick.solve.search import _Pick, _Searcher
 from pulsepick.solve.space import _chip, _space, _variants, aim_env, aim_levels, stage_cap_kind
 from pulsepick.solve.types import Candidate, SolveResult
 
-
 #: Timing networks already swept in this process for the current search (a task per
 #: stage shares its core's sweep).
 _TIMING_CACHE: dict[Any, Any] = {}
@@ -149,17 +148,20 @@ def _request_notes(req: SolveRequest) -> list[str]:
     return notes
 
 
-def _load_integrator_meanwhile() -> None:
-    """Import the reference engine's integrator while the worker processes search.
+#: What this process needs after the search: the candidates' parts lists and ratings,
+#: and the reference engine's integrator, which the workers that check the candidates
+#: are forked with (see :func:`assess`).
+_AFTER_SEARCH = ("pulsepick.partslist", "pulsepick.analysis.ratings")
 
-    scipy.integrate is slow to import: imported here, the workers of assess() start
-    with it (they are forked from this process); a signal waits until the import is
-    whole."""
-    from pulsepick.engine.reference import load_integrator
-    from pulsepick.runner import signals_deferred
 
-    with signals_deferred():
-        load_integrator()
+def _prefetch_after_search() -> None:
+    """Start importing what this process needs after the search, while the workers
+    search (:mod:`pulsepick.prefetch`): scipy.integrate alone takes about half a second
+    of CPU, which then overlaps with the search and with the spreads of :func:`assess`."""
+    from pulsepick.engine.reference import INTEGRATOR_MODULE
+    from pulsepick.prefetch import prefetch
+
+    prefetch(*_AFTER_SEARCH, INTEGRATOR_MODULE)
 
 
 def _run_searches(tasks: list[tuple], runner: Runner | None
@@ -169,12 +171,16 @@ def _run_searches(tasks: list[tuple], runner: Runner | None
     picks: list[_Pick] = []
     evaluated = 0
     seen: dict[str, list[float]] = {}
-    # every search draws the median chip with numpy.random: imported once here, the
-    # workers forked for the search start with it instead of each importing it
+    # every search draws the median chip with numpy.random and sizes its capacitors:
+    # imported once here, the workers forked for the search start with these modules
+    # instead of each importing them
     import numpy.random  # noqa: F401
 
+    import pulsepick.analysis.median
+    import pulsepick.parts.capsize  # noqa: F401
+
     for task_picks, n, task_seen in runner_or_serial(runner).map(
-            _search_task, tasks, meanwhile=_load_integrator_meanwhile):
+            _search_task, tasks, meanwhile=_prefetch_after_search):
         picks.extend(task_picks)
         evaluated += n
         for key, (lo, hi) in task_seen.items():
