@@ -46,8 +46,9 @@ def test_the_checks_beside_the_reference_runs_need_no_scipy():
             "req = make_request('one flash every 3 s, 40 ms long', led='red',\n"
             "                   supply='2.7V..1.8V', family='lvc,timer555')\n"
             "res = solve(req)\n"
-            "outs = [A._assess_part('rest', A._assess_args(req, c)) for c in res.candidates]\n"
-            "print(len(outs), all(o.get('spread') is not None for o in outs))\n"
+            "outs = [A._assess_part(part, A._assess_args(req, c))\n"
+            "        for c in res.candidates for part in ('spread', 'checks')]\n"
+            "print(len(outs) // 2, all(o.get('spread') is not None for o in outs[::2]))\n"
             "print(sorted(m for m in sys.modules if m.split('.')[0] == 'scipy'))\n")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=True).stdout.splitlines()

@@ -35,25 +35,15 @@ def _assess_reference(design, levels: tuple[float, float] | None = None) -> tupl
     return design.reference(rtol=CHECK_RTOL, **kw), time.perf_counter() - t
 
 
-def _assess_one(design, target_period_s: float, builds: int, seed: int,
-                supply_end_v: float | None, r_tols: dict[str, float],
-                levels: tuple[float, float] | None = None,
-                with_reference: bool = True) -> dict[str, Any]:
-    """Reference run, spread, drift and warnings of one design (runs in a worker).
-
-    ``levels`` (V): the switching levels of the median chip the search aimed at (see
-    :func:`_assess_reference`). ``with_reference`` False leaves the reference run out
-    (the worker pool runs it as a task of its own).
-    """
-    from pulsepick.analysis.checks import assumptions, circuit_warnings
-    from pulsepick.analysis.drift import drift
+def _assess_spread(design, target_period_s: float, builds: int, seed: int,
+                   supply_end_v: float | None, r_tols: dict[str, float],
+                   levels: tuple[float, float] | None = None) -> dict[str, Any]:
+    """The spread of one design over its builds (a task of the worker pool; the
+    arguments are those of :func:`_assess_args`)."""
     from pulsepick.analysis.spread import spread
     from pulsepick.errors import PulsepickError
 
-    out: dict[str, Any] = {"timings_s": {}, "warnings": []}
-    kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
-    if with_reference:
-        out["reference"], out["timings_s"]["reference"] = _assess_reference(design, levels)
+    out: dict[str, Any] = {"warnings": []}
     t = time.perf_counter()
     supply_range = None if supply_end_v is None else (supply_end_v, design.supply_v)
     try:
@@ -62,7 +52,25 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
                                resistor_tol_pct=r_tols or None)
     except PulsepickError as err:
         out["warnings"].append(f"spread analysis: {err}")
-    out["timings_s"]["spread"] = time.perf_counter() - t
+    out["timings_s"] = {"spread": time.perf_counter() - t}
+    return out
+
+
+def _assess_checks(design, target_period_s: float, builds: int, seed: int,
+                   supply_end_v: float | None, r_tols: dict[str, float],
+                   levels: tuple[float, float] | None = None) -> dict[str, Any]:
+    """Drift, warnings and the period the candidate shows, of one design (a task of the
+    worker pool; the arguments are those of :func:`_assess_args`).
+
+    ``levels`` (V): the switching levels of the median chip the search aimed at (see
+    :func:`_assess_reference`).
+    """
+    from pulsepick.analysis.checks import assumptions, circuit_warnings
+    from pulsepick.analysis.drift import drift
+    from pulsepick.errors import PulsepickError
+
+    out: dict[str, Any] = {"timings_s": {}, "warnings": []}
+    kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
     if supply_end_v is not None:
         t = time.perf_counter()
         try:
@@ -74,19 +82,16 @@ def _assess_one(design, target_period_s: float, builds: int, seed: int,
         aim = design.fast(**kw)
         shown = {"status": int(np.ravel(aim.status)[0]),
                  "peak_a": float(np.ravel(aim.led_peak_a)[0])}
+        if levels is not None:
+            out["aimed_period_s"] = float(np.ravel(aim.period_s)[0])
     except PulsepickError:
-        aim, shown = None, {}
+        shown = {}
     try:
         out["warnings"].extend(circuit_warnings(design, levels=levels, **shown))
     except PulsepickError as err:
         out["warnings"].append(f"checks: {err}")
     if not design.chip.is_timer:
         out["crossing_current"] = assumptions(design).get("crossing_current")
-    if out.get("spread") is not None:
-        aimed = None
-        if levels is not None:
-            aimed = float(np.ravel((aim if aim is not None else design.fast(**kw)).period_s)[0])
-        out["median_note"] = median_note(design, out["spread"], aimed)
     return out
 
 
@@ -195,17 +200,17 @@ def _assess_args(req, c) -> tuple:
 
 def _assess_outputs(args: list, runner: Runner | None = None,
                     during=None) -> tuple[list[dict[str, Any]], Any]:
-    """:func:`_assess_one` of each argument tuple, on ``runner``, and the result of
-    ``during()`` (None when not given), which runs in this process while the runner's
-    workers work.
+    """The assessment of each argument tuple (see :func:`_assess_args`) on ``runner``,
+    and the result of ``during()`` (None when not given), which runs in this process
+    while the runner's workers work.
 
-    Each design is two tasks, its reference run and the rest of its assessment (spread,
-    drift, checks), so that one costly design does not hold up a worker while another
-    idles; the costliest stages go first. The rest needs no scipy: with several designs
-    it starts at once on the workers that searched, while this process ends importing
-    the reference engine's integrator (see :mod:`.solver`), and the reference runs go
-    to fresh workers, which start with it. A single design, or spreads too large to
-    run beside the reference runs, make one batch of fresh workers.
+    Each design is three tasks, its spread, its drift and checks, and its reference run,
+    so that one costly design does not hold up a worker while another idles; the
+    costliest go first. The spreads and checks need no scipy: with several designs they
+    start at once on the workers that searched, while this process ends importing the
+    reference engine's integrator (see :mod:`.solver`), and the reference runs go to
+    fresh workers, which start with it. A single design, or spreads too large to run
+    beside the reference runs, make one batch of fresh workers.
     """
     from pulsepick.engine.reference import load_integrator
     from pulsepick.limits import workers_for_builds
@@ -213,7 +218,8 @@ def _assess_outputs(args: list, runner: Runner | None = None,
     run = runner_or_serial(runner)
     got: list[Any] = []
     meanwhile = None if during is None else lambda: got.append(during())
-    tasks = [(part, a) for a in args for part in ("rest", "reference")]
+    tasks = [(part, a) for a in args for part in _PARTS]
+    # the costliest stages first, each one's spread before its checks
     order = sorted(range(len(tasks)), key=lambda i: (
         get_stage(tasks[i][1][0].topo.stage).search_rank, i))
     # bounded memory for many builds: fewer spreads at once when each is large
@@ -225,18 +231,19 @@ def _assess_outputs(args: list, runner: Runner | None = None,
         load_integrator()  # here, before the workers are forked
         parts = run.map(_assess_part, tasks, order=order, fresh=True,
                         limit=workers_for_builds(len(tasks), builds), meanwhile=meanwhile)
-    outputs = [_joined(rest, ref) for rest, ref in zip(parts[::2], parts[1::2], strict=True)]
-    return [out for out in outputs if out is not None], (got[0] if got else None)
+    n = len(_PARTS)
+    outputs = [_joined(a, *parts[n * i:n * (i + 1)]) for i, a in enumerate(args)]
+    return outputs, (got[0] if got else None)
 
 
 def _pipelined(run: Runner, tasks: list[tuple], order: list[int], limit: int,
                meanwhile) -> list[Any]:
-    """The results of ``tasks`` (see :func:`_assess_outputs`): the rest on the workers
-    at hand, the reference runs on fresh workers once the integrator is imported, and
-    ``meanwhile()`` in this process while both batches run."""
+    """The results of ``tasks`` (see :func:`_assess_outputs`): the spreads and checks on
+    the workers at hand, the reference runs on fresh workers once the integrator is
+    imported, and ``meanwhile()`` in this process while both batches run."""
     from pulsepick.engine.reference import load_integrator
 
-    rest = [i for i in order if tasks[i][0] == "rest"]
+    rest = [i for i in order if tasks[i][0] != "reference"]
     ref = [i for i in order if tasks[i][0] == "reference"]
     out: list[Any] = [None] * len(tasks)
 
@@ -252,19 +259,27 @@ def _pipelined(run: Runner, tasks: list[tuple], order: list[int], limit: int,
     return out
 
 
+#: The tasks of one design, in the order their results are joined.
+_PARTS = ("spread", "checks", "reference")
+
+
 def _assess_part(part: str, args: tuple):
-    """One task of the worker pool: the reference run of a design, or the rest of its
-    assessment (see :func:`_assess_outputs`)."""
+    """One task of the worker pool: the spread, the checks or the reference run of a
+    design (see :func:`_assess_outputs`)."""
     if part == "reference":
         return _assess_reference(args[0], args[6])
-    return _assess_one(*args, with_reference=False)
+    return (_assess_spread if part == "spread" else _assess_checks)(*args)
 
 
-def _joined(rest: dict[str, Any], reference: tuple[Any, float]) -> dict[str, Any]:
-    """The output of :func:`_assess_one` from its two tasks."""
-    out = dict(rest)
-    out["reference"] = reference[0]
-    out["timings_s"] = {"reference": reference[1], **rest["timings_s"]}
+def _joined(args: tuple, spread: dict[str, Any], checks: dict[str, Any],
+            reference: tuple[Any, float]) -> dict[str, Any]:
+    """The assessment of one design (arguments ``args``) from its three tasks."""
+    out = {**checks, **spread, "reference": reference[0],
+           "warnings": spread["warnings"] + checks["warnings"],
+           "timings_s": {"reference": reference[1], **spread["timings_s"],
+                         **checks["timings_s"]}}
+    if out.get("spread") is not None:
+        out["median_note"] = median_note(args[0], out["spread"], checks.get("aimed_period_s"))
     return out
 
 
