@@ -116,7 +116,8 @@ def _polygon_corner_points(pts: np.ndarray, vdd: float, h_lo: float, h_hi: float
             if not math.isfinite(h):
                 continue
             if abs(a[0] - a[1] - h) < 1e-9 and abs(b[0] - b[1] - h) < 1e-9:
-                t = np.linspace(0.0, 1.0, _EDGE_SAMPLES)[:, None]
+                # the edge's inner points: its ends are vertices, taken already
+                t = np.linspace(0.0, 1.0, _EDGE_SAMPLES)[1:-1, None]
                 out.append(a + t * (b - a))
                 if schmitt:
                     p_star = 0.5 * (vdd + h)
