@@ -279,10 +279,8 @@ def _trim_remedy(breq, picks, groups, share, designs):
     """The trimmer remedy (``Remedy``), or None when no light sharing a package can have
     a trimmer covering its builds."""
     from pulsepick.analysis.lock import Remedy
-    from pulsepick.analysis.locktrim import (
-        TRIM_SETTING_RESOLUTION,
-        trimmed_share,
-    )
+    from pulsepick.analysis.locktrim import TRIM_SETTING_RESOLUTION, trimmed_share
+
     shared = {g for g in groups if list(groups).count(g) > 1}
     # a photoresistor light's period resistor is the photoresistor: no trimmer there
     wanted = [groups[i] in shared and not c.design.chip.is_timer and designs[i] is c.design
@@ -294,8 +292,8 @@ def _trim_remedy(breq, picks, groups, share, designs):
                                resistor_tol_pct=[_r_tols(c) for c in picks])
     if not any(t is not None for t in trims):
         return None
-    return Remedy(f"a trimmer per light set to {TRIM_SETTING_RESOLUTION:.0%} of travel",
-                  res.share, Hint("trim", True))
+    return Remedy(f"a trimmer per light, each set on the bench to within "
+                  f"{TRIM_SETTING_RESOLUTION:.0%} of its travel", res.share, Hint("trim", True))
 
 
 def share_text(names, pair, margin: float, spread_out: bool, share: float,

@@ -63,3 +63,17 @@ def test_the_program_runs_one_blas_thread_per_process_unless_the_user_says_other
     assert os.environ["OPENBLAS_NUM_THREADS"] == "1" and os.environ["MKL_NUM_THREADS"] == "1"
     assert os.environ["OMP_NUM_THREADS"] == "3"
 
+
+
+def test_a_reader_that_leaves_early_ends_the_program_quietly():
+    # `pulsepick ... | head -1`: the reader closes the pipe; the program ends with status
+    # 0 and says nothing (the shell convention for a pipe cut short, as `head` expects)
+    import subprocess
+    import sys
+
+    proc = subprocess.Popen([sys.executable, "-m", "pulsepick", "check", "--r", "1M",
+                             "--c", "1u", "--rs", "470"],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    proc.stdout.close()  # before the program writes anything
+    _, err = proc.communicate(timeout=60)
+    assert proc.returncode == EXIT_OK and err == b""

@@ -73,6 +73,12 @@ class _WordingConsole(Console):
     def render_str(self, text: str, *args, **kwargs):  # type: ignore[override]
         return super().render_str(word_hints(text), *args, **kwargs)
 
+    def on_broken_pipe(self) -> None:
+        """The reader of the output left (``| head``): the error goes to the program,
+        which ends quietly, instead of the console's own exit with status 1."""
+        self.quiet = True
+        raise BrokenPipeError("the reader of the output has left")
+
 
 class _TrimmedLines:
     """A text stream that drops the spaces at the end of every line written through it
