@@ -78,6 +78,14 @@ def main() -> None:
                                             f"{'met' if med <= TARGET_S else 'NOT met'}")
         print(f"  {who:8s} {name:5s} wall median {med:.2f} s (min {min(t):.2f}, max "
               f"{max(t):.2f}), CPU {cpu:.2f} s{verdict}")
+    if opts.baseline:
+        # the ratio holds where the host's own speed drifts between runs of the bench
+        ratios = []
+        for name in ("plain", "demo"):
+            ours, theirs = (statistics.median(w for w, _ in times[(who, name)])
+                            for who in ("this", "baseline"))
+            ratios.append(f"{name} {ours / theirs:.2f}")
+        print("  this / baseline, median wall time: " + ", ".join(ratios))
 
     from pulsepick.request import make_request
     from pulsepick.solve import assess, solve
