@@ -93,7 +93,7 @@ def _die_with_parent(parent_pid: int) -> None:
 
 
 def _kill(pool) -> None:
-    procs = list(getattr(pool, "_processes", {}).values())
+    procs = list((getattr(pool, "_processes", None) or {}).values())  # None: shut down
     for p in procs:
         try:
             p.kill()

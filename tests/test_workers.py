@@ -107,3 +107,13 @@ def test_an_error_in_a_fresh_batch_from_meanwhile_kills_both_sets_of_workers():
         assert seen and not any(alive(p) for p in seen[0])
         assert not [p for p in children(os.getpid()) if alive(p)]  # the outer ones too
         assert runner.map(_square, [(5,), (6,)]) == [25, 36]
+
+
+@linux_only
+def test_a_failing_batch_from_meanwhile_on_the_same_workers_reports_its_own_error():
+    with PoolRunner(2) as runner:
+        with pytest.raises(ValueError, match="task 2 fails"):
+            runner.map(_slow_pid, [(i,) for i in range(4)],
+                       meanwhile=lambda: runner.map(_fail, [(0,), (1,), (2,)]))
+        assert not [p for p in children(os.getpid()) if alive(p)]
+        assert runner.map(_square, [(3,), (4,)]) == [9, 16]

@@ -222,25 +222,27 @@ def _assess_outputs(args: list, runner: Runner | None = None,
     # the costliest stages first, each one's spread before its checks
     order = sorted(range(len(tasks)), key=lambda i: (
         get_stage(tasks[i][1][0].topo.stage).search_rank, i))
-    # bounded memory for many builds: fewer spreads at once when each is large
-    builds = max((a[2] for a in args), default=0)
-    limit = workers_for_builds(len(args), builds)
-    if len(args) > 1 and limit >= workers_for_builds(len(args), 0):
-        parts = _pipelined(run, tasks, order, limit, meanwhile)
+    # bounded memory for many builds: fewer processes at once when each spread is large;
+    # the two batches side by side share the bound (each process counted as a spread's)
+    limit = workers_for_builds(len(tasks), max((a[2] for a in args), default=0))
+    beside = min(MAX_REFERENCE_WORKERS, limit - MIN_SPREAD_WORKERS)
+    if len(args) > 1 and beside >= 1:
+        parts = _pipelined(run, tasks, order, (limit - beside, beside), meanwhile)
     else:
         load_integrator()  # here, before the workers are forked
-        parts = run.map(_assess_part, tasks, order=order, fresh=True,
-                        limit=workers_for_builds(len(tasks), builds), meanwhile=meanwhile)
+        parts = run.map(_assess_part, tasks, order=order, fresh=True, limit=limit,
+                        meanwhile=meanwhile)
     n = len(_PARTS)
     outputs = [_joined(a, *parts[n * i:n * (i + 1)]) for i, a in enumerate(args)]
     return outputs, (got[0] if got else None)
 
 
-def _pipelined(run: Runner, tasks: list[tuple], order: list[int], limit: int,
+def _pipelined(run: Runner, tasks: list[tuple], order: list[int], limits: tuple[int, int],
                meanwhile) -> list[Any]:
     """The results of ``tasks`` (see :func:`_assess_outputs`): the spreads and checks on
     the workers at hand, the reference runs on fresh workers once the integrator is
-    imported, and ``meanwhile()`` in this process while both batches run."""
+    imported, and ``meanwhile()`` in this process while both batches run; ``limits``:
+    the most workers of each batch at once."""
     from pulsepick.engine.reference import load_integrator
 
     rest = [i for i in order if tasks[i][0] != "reference"]
@@ -250,14 +252,20 @@ def _pipelined(run: Runner, tasks: list[tuple], order: list[int], limit: int,
     def reference_runs() -> None:
         load_integrator()  # here, before the workers are forked
         for i, got in zip(ref, run.map(_assess_part, [tasks[i] for i in ref], fresh=True,
-                                       meanwhile=meanwhile), strict=True):
+                                       limit=limits[1], meanwhile=meanwhile), strict=True):
             out[i] = got
 
-    for i, got in zip(rest, run.map(_assess_part, [tasks[i] for i in rest], limit=limit,
+    for i, got in zip(rest, run.map(_assess_part, [tasks[i] for i in rest], limit=limits[0],
                                     meanwhile=reference_runs), strict=True):
         out[i] = got
     return out
 
+
+#: Beside the spreads, the reference runs take at most this many workers (they are about
+#: a third of the assessment's work), and the spreads keep at least this many; where the
+#: memory bound leaves fewer, every task goes in one batch.
+MAX_REFERENCE_WORKERS = 2
+MIN_SPREAD_WORKERS = 2
 
 #: The tasks of one design, in the order their results are joined.
 _PARTS = ("spread", "checks", "reference")
