@@ -465,3 +465,23 @@ def test_the_reference_runs_go_beside_the_spreads_only_within_the_memory_bound()
         outs, _ = _assess_outputs(args, runner)
         assert runner.batches == batches and len(outs) == 2
     assert workers_for_builds(6, 600_000) < 2 + MAX_REFERENCE_WORKERS
+
+
+def test_the_dark_supply_above_a_share_is_the_whole_sweeps_where_it_warns():
+    # the forward-voltage warning sweeps only the supplies above its share of the design's
+    # supply (and the one just below): where the whole sweep's answer lies above it, the
+    # answer is the same; elsewhere neither warns
+    from pulsepick.analysis.checks import VF_CLOSE_SHARE, dark_below
+
+    warned = 0
+    for led, supply in (("blue", "3.0V"), ("green", "3.2V"), ("red", "3V")):
+        for c in solve(make_request("one flash every 2 s", led=led, supply=supply)).candidates:
+            d = c.design
+            line = VF_CLOSE_SHARE * d.supply_v
+            whole, part = dark_below(d), dark_below(d, above_v=line)
+            if whole is not None and whole > line:
+                warned += 1
+                assert part == whole
+            else:
+                assert part is None or part <= line
+    assert warned >= 3

@@ -31,6 +31,9 @@ PIN_LEAK_MARGIN_SHARE = 0.5
 HIGH_R_OHM = 10e6  # above this, board leakage and humidity matter (common practice)
 LOW_R_FACTOR = 10.0  # timing R below this many output resistances is set by the chip
 LOADING_SHIFT = 0.01  # period shift by the LED stage's load worth telling (1 %)
+#: The LED's forward voltage is "close to the supply" when the light goes dark at a supply
+#: above this share of the design's (common practice: a quarter of droop is little)
+VF_CLOSE_SHARE = 0.75
 
 
 @dataclass(frozen=True)
@@ -275,9 +278,9 @@ def _led_findings(design: Design, state, status, peak_a: float,
         if with_state:
             out.append(Finding("led-dark", state.reason or "dark"))
     elif status == RUNS:
-        v_dark = dark_below(design)
+        v_dark = dark_below(design, above_v=VF_CLOSE_SHARE * vdd)
         vf = float(led.voltage(led.visible_a))
-        if v_dark is not None and v_dark > 0.75 * vdd:
+        if v_dark is not None and v_dark > VF_CLOSE_SHARE * vdd:
             out.append(Finding(
                 "led-vf",
                 f"LED forward voltage is close to the supply: {led.name} needs {vf:.2f} V for "
@@ -306,9 +309,17 @@ def circuit_warnings(design: Design, levels: tuple[float, float] | None = None,
     return [f.text for f in circuit_findings(design, status, peak_a, levels=levels)]
 
 
-def dark_below(design: Design, v_floor: float = 0.5, points: int = 121) -> float | None:
-    """Supply below which the LED no longer reaches visible current (None: never dark)."""
+def dark_below(design: Design, v_floor: float = 0.5, points: int = 121,
+               above_v: float | None = None) -> float | None:
+    """Supply below which the LED no longer reaches visible current (None: never dark).
+
+    The supplies tried are ``points`` from ``v_floor`` up to the design's supply; with
+    ``above_v`` only those above it and the one just below, which gives the same answer
+    wherever that answer is above ``above_v`` (and None or one at or below it where not).
+    """
     v = np.linspace(v_floor, design.supply_v, points)
+    if above_v is not None:
+        v = v[max(int(np.searchsorted(v, above_v, side="right")) - 1, 0):]
     f = design.fast(v)
     lit = np.asarray(f.status) == RUNS
     if lit.all():
