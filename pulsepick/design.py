@@ -91,6 +91,13 @@ class Design:
         return f"{self.topo.label()}, {self.chip.family}, {self.parts.led.name}"
 
 
+def levels_kw(levels: tuple[float, float] | None) -> dict[str, float]:
+    """Keyword arguments of :meth:`Design.env`, :meth:`Design.fast` and
+    :meth:`Design.reference` for the switching levels ``levels`` (VT+, VT- in V, such as
+    the median chip a search aimed at); None: the chip's typical levels."""
+    return {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
+
+
 def status_word(code: Any) -> str:
     return STATUS_WORDS[int(code)]
 

@@ -366,8 +366,9 @@ def light_rates(breq, picks) -> dict[int, LightRate]:
 
 def _levels(c) -> dict:
     """The switching levels a pick's figures use (the median chip aimed at), as keywords."""
-    lv = getattr(c, "aim_levels_v", None)
-    return {} if lv is None else {"vt_plus": lv[0], "vt_minus": lv[1]}
+    from pulsepick.design import levels_kw
+
+    return levels_kw(getattr(c, "aim_levels_v", None))
 
 
 def night_values(rates: dict, picks, lux: float) -> dict[int, dict]:

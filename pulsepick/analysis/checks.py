@@ -18,7 +18,7 @@ import numpy as np
 
 from pulsepick.analysis.spread import DEFAULT_TEMP_RANGE_C, TEMP_RANGE_TEXT
 from pulsepick.circuits.base import DARK, RUNS, STALLS, Topology, get_core
-from pulsepick.design import Design
+from pulsepick.design import Design, levels_kw
 from pulsepick.engine.environment import chip_model
 from pulsepick.hints import hint
 from pulsepick.parts.capacitor import get_cap_kind, pick_voltage_rating
@@ -163,7 +163,7 @@ def circuit_findings(design: Design, status=None, peak_a: float | None = None,
     from pulsepick.analysis.verdict import verdict
 
     out: list[Finding] = []
-    kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
+    kw = levels_kw(levels)
     env, powered = design.env(**kw)
     if status is None or peak_a is None:
         f = design.fast(**kw)

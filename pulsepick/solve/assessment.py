@@ -12,6 +12,7 @@ from typing import Any
 import numpy as np
 
 from pulsepick.circuits.base import get_stage
+from pulsepick.design import levels_kw
 from pulsepick.hints import hint
 from pulsepick.runner import Runner, runner_or_serial
 from pulsepick.solve.texts import time_text
@@ -31,7 +32,7 @@ def _assess_reference(design, levels: tuple[float, float] | None = None) -> tupl
     search aimed at), so that it checks the figures the candidate shows.
     """
     t = time.perf_counter()
-    kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
+    kw = levels_kw(levels)
     return design.reference(rtol=CHECK_RTOL, **kw), time.perf_counter() - t
 
 
@@ -70,7 +71,7 @@ def _assess_checks(design, target_period_s: float, builds: int, seed: int,
     from pulsepick.errors import PulsepickError
 
     out: dict[str, Any] = {"timings_s": {}, "warnings": []}
-    kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
+    kw = levels_kw(levels)
     if supply_end_v is not None:
         t = time.perf_counter()
         try:
@@ -186,9 +187,7 @@ def assess(result: SolveResult, *, runner: Runner | None = None) -> SolveResult:
 
 def _levels_kw(c) -> dict[str, float]:
     """Keyword arguments that evaluate a design at candidate ``c``'s aimed levels."""
-    if c.aim_levels_v is None:
-        return {}
-    return {"vt_plus": c.aim_levels_v[0], "vt_minus": c.aim_levels_v[1]}
+    return levels_kw(c.aim_levels_v)
 
 
 def _assess_args(req, c) -> tuple:

@@ -459,9 +459,7 @@ def _revalue(req: SolveRequest, c: Candidate, values: dict[str, float], *,
              note: str = "timing values moved by the spread-out search") -> Candidate:
     """The candidate with new timing values: figures, errors and parts follow."""
     design = replace(c.design, values=dict(values))
-    kw = {} if c.aim_levels_v is None else {"vt_plus": c.aim_levels_v[0],
-                                            "vt_minus": c.aim_levels_v[1]}
-    figs = design.fast(**kw).row(0)
+    figs = design.fast(**_levels_kw(c)).row(0)
     errors = {key: (figs[key] / target - 1.0 if np.isfinite(figs[key]) else math.nan)
               for key, (target, _) in req.aims().items()}
     return replace(c, design=design, figures=figs, errors=errors,

@@ -148,9 +148,9 @@ def _request_notes(req: SolveRequest) -> list[str]:
     return notes
 
 
-#: What this process needs after the search: the candidates' parts lists and ratings,
-#: and the reference engine's integrator, which the workers that check the candidates
-#: are forked with (see :func:`assess`).
+#: What this process needs after the search besides the reference engine's integrator
+#: (which the workers that check the candidates are forked with, see :func:`assess`):
+#: the candidates' parts lists and ratings.
 _AFTER_SEARCH = ("pulsepick.partslist", "pulsepick.analysis.ratings")
 
 

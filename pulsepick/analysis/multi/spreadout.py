@@ -10,6 +10,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from pulsepick.analysis.multi.ratios import DEFAULT_LOCK_MARGIN, MAX_RATIO_Q, clearance
+from pulsepick.design import levels_kw
 from pulsepick.errors import RequestError
 from pulsepick.hints import hint
 
@@ -75,7 +76,7 @@ def period_options(design, asked_s: float, tolerance: float, *, r_series: str = 
         names.append(p.name)
     mesh = np.meshgrid(*grids, indexing="ij")
     flat = {n: m.ravel() for n, m in zip(names, mesh, strict=True)}
-    kw = {} if levels is None else {"vt_plus": levels[0], "vt_minus": levels[1]}
+    kw = levels_kw(levels)
     env, powered = design.env(**kw)
     base = dict(design.working_values(env))
     factor = design.timing_cap_factor(env)
