@@ -280,14 +280,21 @@ def same_chip_levels(chip, supply_v: float, vt_plus_v: float, vt_minus_v: float,
     lim = threshold_limits(chip, np.asarray(supplies, dtype=float))
 
     def place(x: float, lo: float, typ: float, hi: float) -> float:
-        side = (typ - lo) if x < typ else (hi - typ)
-        return 0.0 if side <= 0 else (x - typ) / side
+        share = _side_share(x, lo, typ, hi)
+        return 0.0 if share is None else share
 
     def at(g: float, lo, typ, hi) -> np.ndarray:
         return typ + (g * (typ - lo) if g < 0 else g * (hi - typ))
 
     return (at(place(vt_plus_v, *lim0[0:3]), *lim[0:3]),
             at(place(vt_minus_v, *lim0[3:6]), *lim[3:6]))
+
+
+def _side_share(x: float, lo: float, typ: float, hi: float) -> float | None:
+    """How far ``x`` sits from the typical value towards the limit on its side, as a
+    share of that side (negative below typical); None when that side is empty."""
+    side = (typ - lo) if x < typ else (hi - typ)
+    return None if side <= 0 else (x - typ) / side
 
 
 def draw_thresholds(chip, supply_v: float, n: int, rng) -> tuple[np.ndarray, np.ndarray]:
@@ -314,9 +321,9 @@ def threshold_percentile(family: str, supply_v: float, vt_plus_v: float,
 
     def pct(x, lo, typ, hi):
         # the untruncated split normal, so that the limits read 0.1 % and 99.9 %
-        side = (typ - lo) if x < typ else (hi - typ)
-        if side <= 0:
+        share = _side_share(x, lo, typ, hi)
+        if share is None:
             return 50.0 if x == typ else (0.0 if x < typ else 100.0)
-        return _STD_NORMAL.cdf((x - typ) / side * Z_TAIL) * 100.0
+        return _STD_NORMAL.cdf(share * Z_TAIL) * 100.0
 
     return pct(vt_plus_v, p_lo, p_typ, p_hi), pct(vt_minus_v, m_lo, m_typ, m_hi)

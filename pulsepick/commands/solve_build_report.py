@@ -129,7 +129,7 @@ def _render_energy(console, result, night, storage=None) -> None:
     console.print("[bold]Energy budget[/bold]")
     night_s = DEFAULT_NIGHT_S if night is None else night.night_s
     need_c = result.total_supply_a * night_s
-    night_words = "a 12 h night" if night is None else f"the {night.text}"
+    night_words = f"a {night_s / 3600:g} h night" if night is None else f"the {night.text}"
     held = ("" if result.gating is None else
             f" (held by day: {_eng(result.gating.held_a, 'A')} and the chips' quiescent "
             "current)")
