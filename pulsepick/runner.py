@@ -18,18 +18,14 @@ class Runner(Protocol):
 
     def map(self, fn: Callable[..., Any], tasks: Sequence[tuple], *,
             meanwhile: Callable[[], None] | None = None,
-            order: Sequence[int] | None = None, limit: int | None = None,
-            fresh: bool = False) -> list:
+            order: Sequence[int] | None = None, limit: int | None = None) -> list:
         """``[fn(*task) for task in tasks]``.
 
         ``meanwhile()``, when given, runs in this process while the tasks run elsewhere
         (or first, when they run here). ``order`` is the order in which the tasks are
         handed out (default: as given). ``limit`` is the most tasks that may run at
-        once (a memory bound; None: no bound). ``fresh`` asks for workers started for
-        this batch, so that they begin with every module this process has imported by
-        now (a runner of one process ignores it). ``meanwhile`` may run a batch of its
-        own on the same runner: asked ``fresh``, it gets new workers while the first
-        batch's go on.
+        once (a memory bound; None: no bound). ``meanwhile`` may run a batch of its own
+        on the same runner.
         """
         ...
 
@@ -39,8 +35,7 @@ class SerialRunner:
 
     def map(self, fn: Callable[..., Any], tasks: Sequence[tuple], *,
             meanwhile: Callable[[], None] | None = None,
-            order: Sequence[int] | None = None, limit: int | None = None,
-            fresh: bool = False) -> list:
+            order: Sequence[int] | None = None, limit: int | None = None) -> list:
         if meanwhile is not None:
             meanwhile()
         return [fn(*task) for task in tasks]

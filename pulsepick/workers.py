@@ -119,9 +119,9 @@ class PoolRunner:
     to the core. The workers start with the first batch that needs them and serve every
     later batch while the runner is open; a batch bounded to fewer tasks at once
     (``limit``) gets a pool of that size instead. A batch of one task, or a runner of one
-    job, runs in this process. A batch that asks for fresh workers while another batch
-    still runs (from its ``meanwhile``) gets a pool of its own, and the busy pool ends
-    when its batch does. Leaving the ``with`` block shuts the workers down; leaving it,
+    job, runs in this process. A batch of another size while another batch still runs
+    (from its ``meanwhile``) gets a pool of its own, and the busy pool ends when its
+    batch does. Leaving the ``with`` block shuts the workers down; leaving it,
     or a batch, with an exception (Ctrl-C, a termination signal, an error) kills them
     at once instead of waiting for them.
     """
@@ -172,16 +172,13 @@ class PoolRunner:
 
     def map(self, fn: Callable[..., Any], tasks: Sequence[tuple], *,
             meanwhile: Callable[[], None] | None = None,
-            order: Sequence[int] | None = None, limit: int | None = None,
-            fresh: bool = False) -> list:
+            order: Sequence[int] | None = None, limit: int | None = None) -> list:
         """``[fn(*task) for task in tasks]`` (see :class:`pulsepick.runner.Runner`)."""
         width = self.jobs if limit is None else max(1, min(self.jobs, limit))
         if width <= 1 or len(tasks) <= 1:
             from pulsepick.runner import SERIAL
 
             return SERIAL.map(fn, tasks, meanwhile=meanwhile)
-        if fresh:
-            self._retire()  # forked anew below, with this process's modules
         pool = self._open(width)
         self._busy[id(pool)] = self._busy.get(id(pool), 0) + 1
         killed = False

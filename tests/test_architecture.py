@@ -31,7 +31,7 @@ LAYERS = (
     ("circuits",),
     ("parts",),
     ("units", "series", "tables", "errors", "physconst", "colour", "data", "limits", "infile",
-     "workers", "runner", "hints", "prefetch"),
+     "workers", "runner", "hints"),
 )
 
 #: Upward imports still tolerated (none: keep it that way).

@@ -430,41 +430,37 @@ def test_the_check_tolerance_changes_no_figure_the_report_shows():
                 assert quick.figures.row()[key] == pytest.approx(value, rel=1e-4), key
 
 
-
 class _RecordingRunner:
-    """Notes each batch's shape (tasks, limit, fresh) and answers every task with an
-    empty result of its kind, so that no build is run."""
+    """Notes each batch's shape (tasks, limit) and answers every task with an empty
+    result of its kind, so that no build is run."""
 
     def __init__(self) -> None:
-        self.batches: list[tuple[int, int | None, bool]] = []
+        self.batches: list[tuple[int, int | None]] = []
 
-    def map(self, fn, tasks, *, meanwhile=None, order=None, limit=None, fresh=False):
-        self.batches.append((len(tasks), limit, fresh))
+    def map(self, fn, tasks, *, meanwhile=None, order=None, limit=None):
+        self.batches.append((len(tasks), limit))
         if meanwhile is not None:
             meanwhile()
         return [(None, 0.0) if part == "reference" else {"warnings": [], "timings_s": {}}
                 for part, _ in tasks]
 
 
-def test_the_reference_runs_go_beside_the_spreads_only_within_the_memory_bound():
-    # two batches side by side (spreads and checks; reference runs on fresh workers)
-    # while the bound of limits.py leaves room for both; one batch beyond it
+def test_the_assessment_is_one_batch_within_the_memory_bound():
+    # the spread, the checks and the reference run of each design, all on the workers
+    # that searched, as many at once as the bound of limits.py allows
     from pulsepick.limits import workers_for_builds
-    from pulsepick.solve.assessment import MAX_REFERENCE_WORKERS, _assess_args, _assess_outputs
+    from pulsepick.solve.assessment import _assess_args, _assess_outputs
 
     req = make_request("flash every 2 s for 40 ms, 5 mA peak", stages="direct,fade", top=2)
     found = solve(req).candidates
     assert len(found) == 2
-    for builds, batches in (
-            (2000, [(4, workers_for_builds(6, 2000) - MAX_REFERENCE_WORKERS, False),
-                    (2, MAX_REFERENCE_WORKERS, True)]),
-            (600_000, [(6, workers_for_builds(6, 600_000), True)])):
-        args = [_assess_args(req, c)[:2] + (builds,) + _assess_args(req, c)[3:]
+    for builds in (2000, 600_000):
+        args = [(*_assess_args(req, c)[:2], builds, *_assess_args(req, c)[3:])
                 for c in found]
         runner = _RecordingRunner()
         outs, _ = _assess_outputs(args, runner)
-        assert runner.batches == batches and len(outs) == 2
-    assert workers_for_builds(6, 600_000) < 2 + MAX_REFERENCE_WORKERS
+        assert runner.batches == [(6, workers_for_builds(6, builds))] and len(outs) == 2
+    assert workers_for_builds(6, 600_000) < workers_for_builds(6, 2000)
 
 
 def test_the_dark_supply_above_a_share_is_the_whole_sweeps_where_it_warns():

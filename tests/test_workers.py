@@ -79,29 +79,29 @@ def _slow_pid(_: int) -> int:
 
 
 @linux_only
-def test_a_fresh_batch_from_meanwhile_gets_its_own_workers_beside_the_busy_ones():
+def test_a_batch_of_another_size_from_meanwhile_gets_its_own_workers_beside_the_busy_ones():
     inner: list[list[int]] = []
-    with PoolRunner(2) as runner:
+    with PoolRunner(3) as runner:
         outer = runner.map(_slow_pid, [(i,) for i in range(6)], meanwhile=lambda: inner.append(
-            runner.map(_pid, [(i,) for i in range(4)], fresh=True)))
+            runner.map(_pid, [(i,) for i in range(4)], limit=2)))
         assert len(outer) == 6 and len(inner[0]) == 4
-        assert not set(outer) & set(inner[0])  # new workers for the fresh batch
+        assert not set(outer) & set(inner[0])  # new workers for the smaller batch
         assert os.getpid() not in set(outer) | set(inner[0])
         assert not any(alive(p) for p in outer)  # the busy pool ended with its batch
-        again = runner.map(_pid, [(i,) for i in range(4)])  # the fresh workers serve on
+        again = runner.map(_pid, [(i,) for i in range(4)], limit=2)  # the new ones serve on
         assert not set(again) & set(outer) and os.getpid() not in again
     assert not any(alive(p) for p in set(inner[0]) | set(again))
 
 
 @linux_only
-def test_an_error_in_a_fresh_batch_from_meanwhile_kills_both_sets_of_workers():
+def test_an_error_in_a_batch_of_another_size_from_meanwhile_kills_both_sets_of_workers():
     seen: list[set[int]] = []
 
     def meanwhile() -> None:
-        seen.append(set(runner.map(_pid, [(0,), (1,)], fresh=True)))
-        runner.map(_fail, [(0,), (1,), (2,)])
+        seen.append(set(runner.map(_pid, [(0,), (1,)], limit=2)))
+        runner.map(_fail, [(0,), (1,), (2,)], limit=2)
 
-    with PoolRunner(2) as runner:
+    with PoolRunner(3) as runner:
         with pytest.raises(ValueError, match="task 2 fails"):
             runner.map(_slow_pid, [(i,) for i in range(4)], meanwhile=meanwhile)
         assert seen and not any(alive(p) for p in seen[0])

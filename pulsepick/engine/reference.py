@@ -1,7 +1,8 @@
 """Reference engine: transient simulation of one circuit to periodic steady state.
 
 Independent of the fast engine: it integrates the circuit's differential equations
-with ``scipy.integrate.solve_ivp`` (LSODA), switches the gate on threshold events,
+with an explicit Runge-Kutta method (:mod:`.dormand_prince`; scipy's LSODA where the
+circuit turns out stiff for it), switches the gate on threshold events,
 and at every step solves the driving output node from Kirchhoff's current law
 (so the LED stage's load on the timing gate is included as it happens). Junction
 currents use this module's own scalar Shockley solver. It runs cycles until the
@@ -12,6 +13,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from functools import partial
 from types import SimpleNamespace
 from typing import Any
 
@@ -31,58 +33,16 @@ from pulsepick.circuits.base import (
     get_stage,
 )
 from pulsepick.circuits.decay import K_OVER_Q
-
-#: The module of the integrator (see :func:`load_integrator`), for a prefetch
-#: (:mod:`pulsepick.prefetch`).
-INTEGRATOR_MODULE = "scipy.integrate"
+from pulsepick.engine.dormand_prince import Stiff, brentq, integrate
 
 
 def load_integrator():
-    """``scipy.integrate.solve_ivp``, imported on first use.
-
-    scipy.integrate brings scipy.optimize, scipy.linalg and scipy.special with it (some
-    tenths of a second of start-up), so only the code that simulates pays for it; the
-    solver prefetches it (:mod:`pulsepick.prefetch`) while its workers search.
-    """
-    from pulsepick.prefetch import wait
-
-    wait()
+    """``scipy.integrate.solve_ivp`` with LSODA, for the circuits that are stiff for the
+    explicit method, imported on first use: scipy.integrate brings scipy.optimize,
+    scipy.linalg and scipy.special with it (about half a second of start-up)."""
     from scipy.integrate import solve_ivp
 
-    return solve_ivp
-
-
-def brentq(f, a: float, b: float, xtol: float = 1e-13, rtol: float = 1e-13,
-           maxiter: int = 200) -> float:
-    """Root of ``f`` in the bracket [a, b] (signs must differ): Illinois false position
-    with a bisection step whenever it stalls. Small and local, so the reference engine
-    does not need scipy.optimize at start-up."""
-    fa, fb = f(a), f(b)
-    if fa == 0.0:
-        return a
-    if fb == 0.0:
-        return b
-    if (fa > 0) == (fb > 0):
-        raise ValueError("root not bracketed")
-    side = 0
-    for _ in range(maxiter):
-        c = b - fb * (b - a) / (fb - fa)
-        if not (min(a, b) < c < max(a, b)):
-            c = 0.5 * (a + b)
-        fc = f(c)
-        if fc == 0.0 or abs(b - a) <= xtol + rtol * abs(c):
-            return c
-        if (fc > 0) == (fb > 0):
-            b, fb = c, fc
-            if side == -1:
-                fa *= 0.5
-            side = -1
-        else:
-            a, fa = c, fc
-            if side == 1:
-                fb *= 0.5
-            side = 1
-    return 0.5 * (a + b)
+    return partial(solve_ivp, method="LSODA", dense_output=True)
 
 
 class ScalarShockley:
@@ -282,9 +242,13 @@ SETTLED_PER_RTOL = 10.0
 
 def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 400,
              rtol: float = 1e-9, powered: bool = True) -> ReferenceResult:
-    """Simulate one circuit (scalar values) to periodic steady state and measure it."""
+    """Simulate one circuit (scalar values) to periodic steady state and measure it.
+
+    Each phase is integrated with the explicit Runge-Kutta method of
+    :mod:`.dormand_prince`; from the first phase that is stiff for it on, with LSODA.
+    """
     vals = {k: float(np.asarray(x).reshape(-1)[0]) for k, x in check_values(topo, values).items()}
-    solve_ivp = load_integrator()
+    integrator = integrate  # LSODA once a phase is stiff for it
     senv = _scalar_env(env)
     circ = _Circuit(topo, vals, senv)
     n_x = circ.n_x
@@ -310,9 +274,14 @@ def simulate(topo: Topology, values: dict, env: Env, *, max_cycles: int = 400,
 
             event.terminal = True
             event.direction = 1.0 if high else -1.0
-            sol = solve_ivp(circ.rhs(high), (t0, t0 + t_max), y, method="LSODA",
-                            events=event, rtol=rtol, atol=atol, dense_output=True,
-                            first_step=min(1e-6 * circ.tau_scale(), 1e-4))
+            args = (circ.rhs(high), (t0, t0 + t_max), y)
+            kw = {"events": event, "rtol": rtol, "atol": atol,
+                  "first_step": min(1e-6 * circ.tau_scale(), 1e-4)}
+            try:
+                sol = integrator(*args, **kw)
+            except Stiff:
+                integrator = load_integrator()
+                sol = integrator(*args, **kw)
             if not sol.success or sol.t_events[0].size == 0:
                 stalled = True
                 stalled_high = high

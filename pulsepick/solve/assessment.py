@@ -205,13 +205,8 @@ def _assess_outputs(args: list, runner: Runner | None = None,
 
     Each design is three tasks, its spread, its drift and checks, and its reference run,
     so that one costly design does not hold up a worker while another idles; the
-    costliest go first. The spreads and checks need no scipy: with several designs they
-    start at once on the workers that searched, while this process ends importing the
-    reference engine's integrator (see :mod:`.solver`), and the reference runs go to
-    fresh workers, which start with it. A single design, or spreads too large to run
-    beside the reference runs, make one batch of fresh workers.
+    costliest go first, on the workers that searched.
     """
-    from pulsepick.engine.reference import load_integrator
     from pulsepick.limits import workers_for_builds
 
     run = runner_or_serial(runner)
@@ -221,50 +216,13 @@ def _assess_outputs(args: list, runner: Runner | None = None,
     # the costliest stages first, each one's spread before its checks
     order = sorted(range(len(tasks)), key=lambda i: (
         get_stage(tasks[i][1][0].topo.stage).search_rank, i))
-    # bounded memory for many builds: fewer processes at once when each spread is large;
-    # the two batches side by side share the bound (each process counted as a spread's)
+    # bounded memory for many builds: fewer processes at once when each spread is large
     limit = workers_for_builds(len(tasks), max((a[2] for a in args), default=0))
-    beside = min(MAX_REFERENCE_WORKERS, limit - MIN_SPREAD_WORKERS)
-    if len(args) > 1 and beside >= 1:
-        parts = _pipelined(run, tasks, order, (limit - beside, beside), meanwhile)
-    else:
-        load_integrator()  # here, before the workers are forked
-        parts = run.map(_assess_part, tasks, order=order, fresh=True, limit=limit,
-                        meanwhile=meanwhile)
+    parts = run.map(_assess_part, tasks, order=order, limit=limit, meanwhile=meanwhile)
     n = len(_PARTS)
     outputs = [_joined(a, *parts[n * i:n * (i + 1)]) for i, a in enumerate(args)]
     return outputs, (got[0] if got else None)
 
-
-def _pipelined(run: Runner, tasks: list[tuple], order: list[int], limits: tuple[int, int],
-               meanwhile) -> list[Any]:
-    """The results of ``tasks`` (see :func:`_assess_outputs`): the spreads and checks on
-    the workers at hand, the reference runs on fresh workers once the integrator is
-    imported, and ``meanwhile()`` in this process while both batches run; ``limits``:
-    the most workers of each batch at once."""
-    from pulsepick.engine.reference import load_integrator
-
-    rest = [i for i in order if tasks[i][0] != "reference"]
-    ref = [i for i in order if tasks[i][0] == "reference"]
-    out: list[Any] = [None] * len(tasks)
-
-    def reference_runs() -> None:
-        load_integrator()  # here, before the workers are forked
-        for i, got in zip(ref, run.map(_assess_part, [tasks[i] for i in ref], fresh=True,
-                                       limit=limits[1], meanwhile=meanwhile), strict=True):
-            out[i] = got
-
-    for i, got in zip(rest, run.map(_assess_part, [tasks[i] for i in rest], limit=limits[0],
-                                    meanwhile=reference_runs), strict=True):
-        out[i] = got
-    return out
-
-
-#: Beside the spreads, the reference runs take at most this many workers (they are about
-#: a third of the assessment's work), and the spreads keep at least this many; where the
-#: memory bound leaves fewer, every task goes in one batch.
-MAX_REFERENCE_WORKERS = 2
-MIN_SPREAD_WORKERS = 2
 
 #: The tasks of one design, in the order their results are joined.
 _PARTS = ("spread", "checks", "reference")

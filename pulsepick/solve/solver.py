@@ -148,22 +148,6 @@ def _request_notes(req: SolveRequest) -> list[str]:
     return notes
 
 
-#: What this process needs after the search besides the reference engine's integrator
-#: (which the workers that check the candidates are forked with, see :func:`assess`):
-#: the candidates' parts lists and ratings.
-_AFTER_SEARCH = ("pulsepick.partslist", "pulsepick.analysis.ratings")
-
-
-def _prefetch_after_search() -> None:
-    """Start importing what this process needs after the search, while the workers
-    search (:mod:`pulsepick.prefetch`): scipy.integrate alone takes about half a second
-    of CPU, which then overlaps with the search and with the spreads of :func:`assess`."""
-    from pulsepick.engine.reference import INTEGRATOR_MODULE
-    from pulsepick.prefetch import prefetch
-
-    prefetch(*_AFTER_SEARCH, INTEGRATOR_MODULE)
-
-
 def _run_searches(tasks: list[tuple], runner: Runner | None
                   ) -> tuple[list[_Pick], int, dict[str, list[float]]]:
     """Run the search tasks: every pick found, the evaluations counted and the span of
@@ -180,7 +164,7 @@ def _run_searches(tasks: list[tuple], runner: Runner | None
     import pulsepick.parts.capsize  # noqa: F401
 
     for task_picks, n, task_seen in runner_or_serial(runner).map(
-            _search_task, tasks, meanwhile=_prefetch_after_search):
+            _search_task, tasks):
         picks.extend(task_picks)
         evaluated += n
         for key, (lo, hi) in task_seen.items():
