@@ -98,6 +98,26 @@ def test_it_agrees_with_scipy_on_a_nonlinear_oscillator(method):
     assert np.max(np.abs(ours.sol(ts) - theirs.sol(ts))) < 1e-6
 
 
+def test_its_steps_and_dense_output_are_scipys_rk45():
+    # the same pair and step-size rule as scipy's RK45 (scipy.integrate): the same steps,
+    # and the same interpolant between them
+    def vdp(_t, y):
+        return [y[1], (1 - y[0] ** 2) * y[1] - y[0]]
+
+    kw = {"rtol": 1e-6, "atol": 1e-9, "first_step": 1e-3}
+    ours = integrate(vdp, (0.0, 7.0), [2.0, 0.0], **kw)
+    theirs = solve_ivp(vdp, (0.0, 7.0), [2.0, 0.0], method="RK45", dense_output=True, **kw)
+    assert ours.sol.t == pytest.approx(theirs.t, rel=1e-12)
+    ts = np.linspace(0.0, 7.0, 141)
+    assert np.max(np.abs(ours.sol(ts) - theirs.sol(ts))) < 1e-12
+
+
+def test_a_span_must_run_forward():
+    for span in ((1.0, 0.0), (1.0, 1.0)):
+        with pytest.raises(ValueError, match="forward"):
+            integrate(lambda _t, y: -y, span, [1.0], first_step=0.1)
+
+
 def test_a_stiff_problem_is_handed_on():
     # a state pulled to cos(t) with a time constant of 1 us over 1 s: an explicit method
     # would need a million steps
@@ -162,11 +182,17 @@ def test_a_stiff_circuit_falls_back_to_lsoda(monkeypatch):
     assert isinstance(lsoda, partial) and lsoda.keywords["method"] == "LSODA"
 
 
-def test_a_step_into_nonsense_is_taken_again_shorter():
-    # sqrt(y) is not a number below zero: the steps that overshoot are rejected, and the
-    # solution ends on the span's end, finite throughout
+@pytest.mark.parametrize("outside", ["nan", "raises"])
+def test_a_step_into_nonsense_is_taken_again_shorter(outside):
+    # sqrt(y) is not a number below zero (a NaN, or an error such as a root finder's
+    # "not bracketed"): the steps that overshoot are rejected, and the solution ends on
+    # the span's end, finite throughout
     def fall(_t, y):
-        return [-math.sqrt(y[0]) if y[0] >= 0 else math.nan]
+        if y[0] >= 0:
+            return [-math.sqrt(y[0])]
+        if outside == "nan":
+            return [math.nan]
+        raise ValueError("math domain error")
 
     sol = integrate(fall, (0.0, 1.9), [1.0], rtol=1e-8, atol=1e-12, first_step=0.5)
     assert sol.success and sol.sol.t[-1] == 1.9

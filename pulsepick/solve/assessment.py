@@ -19,9 +19,9 @@ from pulsepick.solve.texts import time_text
 from pulsepick.solve.types import SolveResult
 
 #: Relative tolerance of the reference run that checks an offered circuit: its figures
-#: land within 2e-5 of a run at the engine's default 1e-9 (measured on 32 offered
-#: circuits of 7 requests; tests/test_solve.py holds them to 1e-4), finer than the
-#: 0.01 % the report shows, for about a quarter less time.
+#: land within 7e-5 of a run at the engine's default 1e-9 (the supply current; the
+#: period within 1e-6; measured on 32 offered circuits of 7 requests, tests/test_solve.py
+#: holds them to 1e-4), finer than the 0.01 % the report shows, in 60 % of the time.
 CHECK_RTOL = 1e-6
 
 
