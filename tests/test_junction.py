@@ -141,3 +141,23 @@ def test_real_lambert_w_matches_scipy():
     big = np.linspace(20.0, 700.0, 50)  # W(e^y) + ln W(e^y) = y where exp would overflow
     w = lambert_w_of_exp(big)
     np.testing.assert_allclose(w + np.log(w), big, rtol=1e-14)
+
+
+@pytest.mark.parametrize("junction", JUNCTIONS)
+def test_the_reference_engines_scalar_solver_matches_brentq(junction):
+    # the reference engine's own Newton solver, started cold and warm from the previous
+    # answer above and below the root, against scipy.optimize.brentq on the same equation
+    from pulsepick.engine.reference import ScalarShockley
+
+    solver = ScalarShockley(junction)
+    a = junction.n_vt
+    for v in (0.05, 0.3, 1.0, 3.0, 12.0, 1.0, 0.3, 3.0):
+        for r_ext in (0.0, 10.0, 4.7e3, 1e6, 10.0):
+            r = junction.r_s + r_ext
+
+            def f(i, v=v, r=r):
+                return junction.i_s * math.expm1((v - i * r) / a) - i
+
+            hi = v / r if r > 0 else junction.i_s * math.expm1(min(v / a, 700))
+            expected = brentq(f, 0.0, hi * (1 + 1e-12) + 1e-30, xtol=1e-300, rtol=1e-14)
+            assert solver.current(v, r_ext) == pytest.approx(expected, rel=1e-12, abs=1e-25)
