@@ -171,8 +171,9 @@ def test_led_current_limit_pulsed_and_unknown():
 
 def test_intensity_out_of_reach_explains_the_drive_limit():
     # 200 mcd effective from a 40 ms flash: Ie = Ip*t/(0.2 s + t) (Blondel-Rey,
-    # ref:ies-effective-intensity) gives Ip = 200 * 0.24/0.04 = 1200 mcd; the white LED gives 4000 mcd at 20 mA
-    # (Cree LC513FWH1-60Q-A0, ref:cree-lc513fwh1), 200 mcd/mA, so the peak needed is 6 mA
+    # ref:ies-effective-intensity) gives Ip = 200 * 0.24/0.04 = 1200 mcd; the white LED
+    # gives 4000 mcd at 20 mA (Cree LC513FWH1-60Q-A0, ref:cree-lc513fwh1), 200 mcd/mA,
+    # so the peak needed is 6 mA
     result = solve(make_request(every="3s", flash="40ms", intensity="200mcd", led="white",
                                 cores="timer555", stages="direct", top=1))
     assert result.success
