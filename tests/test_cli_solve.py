@@ -46,6 +46,40 @@ def test_default_report_is_short_and_detail_shows_one(capsys, monkeypatch):
     assert "schematic: timer555" in one
 
 
+def test_the_summary_assesses_in_full_only_the_circuit_it_shows(capsys, monkeypatch):
+    # the text summary shows one circuit's spread sources: only that one gets them (and
+    # its corners); --detail, --json and the pictures get every circuit in full
+    import importlib
+    from argparse import Namespace
+
+    from pulsepick.commands import solve as solve_cmd
+    from pulsepick.solve import assessment
+
+    asked = []
+    real = assessment.assess
+
+    def spy(result, *, runner=None, detail=None):
+        asked.append(detail)
+        return real(result, runner=runner, detail=detail)
+
+    monkeypatch.setattr(importlib.import_module("pulsepick.solve"), "assess", spy)
+    monkeypatch.setenv("NO_COLOR", "1")
+    args = ["solve", "flash every 2.5 s for 40 ms, 5 mA peak", "--cores", "timer555",
+            "--top", "3", "--builds", "200", "--jobs", "1"]
+    for extra in ([], ["--pick", "2"], ["--pick", "9"], ["--detail"], ["--json"]):
+        assert main([*args, *extra]) == 0
+        out = capsys.readouterr().out
+        if not extra or extra[0] == "--pick":
+            assert "spread mostly from" in " ".join(out.split())
+    assert asked == [(1,), (2,), (3,), None, None]
+    found = Namespace(candidates=(1, 2))
+    base = dict(detail=False, json=False, plot=None, report=None, pick=1)
+    assert solve_cmd._shown_in_full(Namespace(**base), found) == (1,)
+    assert solve_cmd._shown_in_full(Namespace(**{**base, "report": "r.html"}), found) is None
+    assert solve_cmd._shown_in_full(Namespace(**{**base, "plot": "p.png"}), found) is None
+    assert solve_cmd._shown_in_full(Namespace(**base), Namespace(candidates=())) is None
+
+
 def test_json_is_plain_and_complete(capsys):
     code = main(["solve", "--every", "3s", "--flash", "40ms", "--peak", "5mA", "--json",
                  "--supply", "2.7V..1.8V", "--family", "lvc", "--cores", "schmitt-steered",

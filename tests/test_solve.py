@@ -368,6 +368,42 @@ def test_assess_on_two_workers_gives_what_one_process_gives():
         assert list(b.timings_s) == list(a.timings_s) == ["reference", "spread", "drift"]
 
 
+def test_assess_in_detail_only_for_the_ranks_asked():
+    # the ranks in detail get their spread's variance shares and corners; the others the
+    # same builds without them (median, P5..P95, yield and every build's figures equal)
+    req = make_request("flash every 2 s for 40 ms, 5 mA peak", stages="direct,fade",
+                       supply="2.7V..1.8V", top=2, builds=200)
+    found = solve(req)
+    full, part = assess(found), assess(found, detail=(2,))
+    assert [c.rank for c in part.candidates] == [1, 2]
+    a, b = full.candidates[0], part.candidates[0]
+    assert a.spread.shares and a.spread.corners and a.spread.corner_count > 0
+    assert b.spread.shares == {} and b.spread.corners == {} and b.spread.corner_count == 0
+    assert b.spread.quantiles == a.spread.quantiles
+    assert b.spread.yield_fraction == a.spread.yield_fraction > 0
+    assert np.array_equal(b.spread.samples["period_s"], a.spread.samples["period_s"])
+    assert b.median_note == a.median_note and b.warnings == a.warnings
+    assert b.reference_figures == a.reference_figures
+    # the rank asked for is the full one
+    assert part.candidates[1].spread.shares == full.candidates[1].spread.shares
+    assert part.candidates[1].spread.corners == full.candidates[1].spread.corners
+
+
+def test_median_note_names_a_varying_source_without_the_shares():
+    # a spread without its variance shares names the sources that vary over the builds
+    from pulsepick.solve.assessment import _moves
+
+    req = make_request("flash every 2 s for 40 ms, 5 mA peak", cores="timer555",
+                       stages="direct", supply="2.7V..1.8V", top=1, builds=200)
+    found = solve(req)
+    full = assess(found).candidates[0].spread
+    part = assess(found, detail=()).candidates[0].spread
+    assert part.shares == {} and full.shares
+    for source in ("supply", "chip_thresholds"):
+        assert _moves(full, source) is (full.shares[source] > 0)
+        assert _moves(part, source) is part.source_varies[source] is True
+
+
 def test_drawer_without_a_usable_timing_capacitor_is_explained():
     from pulsepick.request import parse_stock
 
@@ -443,7 +479,7 @@ class _RecordingRunner:
         if meanwhile is not None:
             meanwhile()
         return [(None, 0.0) if part == "reference" else {"warnings": [], "timings_s": {}}
-                for part, _ in tasks]
+                for part, *_ in tasks]
 
 
 def test_the_assessment_is_one_batch_within_the_memory_bound():

@@ -87,7 +87,8 @@ def compute(args) -> SolveRun:
     args.pick = 1 if args.pick is None else args.pick
     night = night_plan(args, req)
     with pool_runner(args.jobs) as runner:  # one set of workers for the search and checks
-        result = assess(solve(req, runner=runner), runner=runner)
+        found = solve(req, runner=runner)
+        result = assess(found, runner=runner, detail=_shown_in_full(args, found))
     if night is not None:
         from pulsepick.solve.nightcheck import night_check
 
@@ -98,6 +99,17 @@ def compute(args) -> SolveRun:
 
         result, plans = trim_result(result, req.r_series)
     return SolveRun(result, req, plans, picked)
+
+
+def _shown_in_full(args, found) -> tuple[int, ...] | None:
+    """The ranks whose spread the output shows in full (variance shares, corners): the
+    one block of the text summary, or every candidate (None) for --detail, --json and
+    the pictures."""
+    from pulsepick.commands.pictures import wants_pictures
+
+    if args.detail or args.json or wants_pictures(args) or not found.candidates:
+        return None
+    return (min(max(args.pick, 1), len(found.candidates)),)
 
 
 def solve_json(run: SolveRun) -> dict:

@@ -6,6 +6,7 @@ from __future__ import annotations
 
 import math
 import time
+from collections.abc import Collection, Sequence
 from dataclasses import replace
 from typing import Any
 
@@ -38,9 +39,11 @@ def _assess_reference(design, levels: tuple[float, float] | None = None) -> tupl
 
 def _assess_spread(design, target_period_s: float, builds: int, seed: int,
                    supply_end_v: float | None, r_tols: dict[str, float],
-                   levels: tuple[float, float] | None = None) -> dict[str, Any]:
+                   levels: tuple[float, float] | None = None, *,
+                   full: bool = True) -> dict[str, Any]:
     """The spread of one design over its builds (a task of the worker pool; the
-    arguments are those of :func:`_assess_args`)."""
+    arguments are those of :func:`_assess_args`). ``full``: with the variance shares
+    and the worst-case corners (see :func:`assess`)."""
     from pulsepick.analysis.spread import spread
     from pulsepick.errors import PulsepickError
 
@@ -50,7 +53,8 @@ def _assess_spread(design, target_period_s: float, builds: int, seed: int,
     try:
         out["spread"] = spread(design, target_period_s=target_period_s, builds=builds,
                                seed=seed, supply_range_v=supply_range,
-                               resistor_tol_pct=r_tols or None)
+                               resistor_tol_pct=r_tols or None, shares=full,
+                               corners=full)
     except PulsepickError as err:
         out["warnings"].append(f"spread analysis: {err}")
     out["timings_s"] = {"spread": time.perf_counter() - t}
@@ -125,6 +129,14 @@ def _thresholds_off_centre(design) -> bool:
     return False
 
 
+def _moves(spread, source: str) -> bool:
+    """Whether ``source`` moves the builds: its variance share is above nil (where the
+    spread has the shares), else it varies over the builds."""
+    if spread.shares:
+        return spread.shares.get(source, 0.0) > 0
+    return bool(spread.source_varies.get(source, False))
+
+
 def median_note(design, spread, aimed_period_s: float | None = None) -> str | None:
     """A line when the Monte Carlo median period is off the nominal one, with the cause.
 
@@ -146,14 +158,13 @@ def median_note(design, spread, aimed_period_s: float | None = None) -> str | No
     text = (f"the median build blinks at {time_text(p50)} ({shift:+.0%} on the nominal "
             f"{time_text(nominal)})")
     causes = []
-    shares = spread.shares
     if (aimed_period_s is None and _thresholds_off_centre(design)
-            and shares.get("chip_thresholds", 0.0) > 0):
+            and _moves(spread, "chip_thresholds")):
         causes.append("the chip's typical thresholds sit off-centre in its datasheet limits "
                       "(the builds draw them between the minimum and maximum); measure your "
                       f"chip's thresholds and give {hint('vt_plus')} and {hint('vt_minus')} "
                       "to centre on it")
-    if spread.supply_range_v is not None and shares.get("supply", 0.0) > 0:
+    if spread.supply_range_v is not None and _moves(spread, "supply"):
         lo, hi = spread.supply_range_v
         causes.append(f"the builds' supply is spread over {lo:g}..{hi:g} V while the "
                       f"nominal is at {design.supply_v:g} V")
@@ -162,7 +173,8 @@ def median_note(design, spread, aimed_period_s: float | None = None) -> str | No
     return text + ": " + "; and ".join(causes)
 
 
-def assess(result: SolveResult, *, runner: Runner | None = None) -> SolveResult:
+def assess(result: SolveResult, *, runner: Runner | None = None,
+           detail: Collection[int] | None = None) -> SolveResult:
     """Verify every candidate with the reference engine and add spread, drift, warnings.
 
     Parameters
@@ -173,6 +185,12 @@ def assess(result: SolveResult, *, runner: Runner | None = None) -> SolveResult:
         Runs the candidates' checks (:mod:`pulsepick.runner`; default: in this
         process). The reference engine takes tenths of a second per circuit, so two
         worker processes nearly halve the wall time on two cores.
+    detail : collection of int, optional
+        The ranks (1 = best) whose spread also carries the variance share of each
+        source and the worst-case corners; default every candidate. The others get the
+        builds alone (median, P5..P95, yield and every build's figures, the same as
+        with them), in about a quarter of the time: a report that shows one
+        candidate in full asks for that one.
     """
     req = result.request
     cands = list(result.candidates)
@@ -180,7 +198,8 @@ def assess(result: SolveResult, *, runner: Runner | None = None) -> SolveResult:
         return result
     # the spread uses the resistor tolerances of the parts list (the series asked for)
     args = [_assess_args(req, c) for c in cands]
-    outputs, _ = _assess_outputs(args, runner)
+    full = [detail is None or c.rank in detail for c in cands]
+    outputs, _ = _assess_outputs(args, runner, full=full)
     return result.with_candidates(tuple(_assessed(c, out) for c, out in zip(
         cands, outputs, strict=True)))
 
@@ -197,11 +216,12 @@ def _assess_args(req, c) -> tuple:
             c.aim_levels_v)
 
 
-def _assess_outputs(args: list, runner: Runner | None = None,
-                    during=None) -> tuple[list[dict[str, Any]], Any]:
+def _assess_outputs(args: list, runner: Runner | None = None, during=None,
+                    full: Sequence[bool] | None = None) -> tuple[list[dict[str, Any]], Any]:
     """The assessment of each argument tuple (see :func:`_assess_args`) on ``runner``,
     and the result of ``during()`` (None when not given), which runs in this process
-    while the runner's workers work.
+    while the runner's workers work. ``full`` (one flag per tuple, default all true):
+    which spreads carry the variance shares and the corners.
 
     Each design is three tasks, its spread, its drift and checks, and its reference run,
     so that one costly design does not hold up a worker while another idles; the
@@ -212,7 +232,8 @@ def _assess_outputs(args: list, runner: Runner | None = None,
     run = runner_or_serial(runner)
     got: list[Any] = []
     meanwhile = None if during is None else lambda: got.append(during())
-    tasks = [(part, a) for a in args for part in _PARTS]
+    full = [True] * len(args) if full is None else list(full)
+    tasks = [(part, a, f) for a, f in zip(args, full, strict=True) for part in _PARTS]
     # the costliest stages first, each one's spread before its checks
     order = sorted(range(len(tasks)), key=lambda i: (
         get_stage(tasks[i][1][0].topo.stage).search_rank, i))
@@ -228,12 +249,14 @@ def _assess_outputs(args: list, runner: Runner | None = None,
 _PARTS = ("spread", "checks", "reference")
 
 
-def _assess_part(part: str, args: tuple):
-    """One task of the worker pool: the spread, the checks or the reference run of a
-    design (see :func:`_assess_outputs`)."""
+def _assess_part(part: str, args: tuple, full: bool = True):
+    """One task of the worker pool: the spread (``full``: with shares and corners), the
+    checks or the reference run of a design (see :func:`_assess_outputs`)."""
     if part == "reference":
         return _assess_reference(args[0], args[6])
-    return (_assess_spread if part == "spread" else _assess_checks)(*args)
+    if part == "spread":
+        return _assess_spread(*args, full=full)
+    return _assess_checks(*args)
 
 
 def _joined(args: tuple, spread: dict[str, Any], checks: dict[str, Any],
