@@ -55,3 +55,17 @@ def test_the_program_collects_garbage_less_often_than_pythons_default():
     from pulsepick.cli import GC_YOUNG_THRESHOLD
 
     assert _lines(code) == [str(GC_YOUNG_THRESHOLD)] and GC_YOUNG_THRESHOLD > 700
+
+
+def test_a_solve_without_pictures_loads_no_drawing_or_page_module():
+    # the summary of a solve writes no image or report: the plot and HTML modules (and
+    # matplotlib) stay unloaded (tests/test_cli_solve.py writes both)
+    code = ("import io, sys, contextlib\n"
+            "import pulsepick.cli as cli\n"
+            "with contextlib.redirect_stdout(io.StringIO()):\n"
+            "    cli.main(['solve', 'flash every 2 s for 40 ms', '--cores', 'timer555',\n"
+            "              '--stages', 'direct', '--top', '1', '--builds', '200',\n"
+            "              '--jobs', '1'])\n"
+            "print(sorted(m for m in sys.modules if m.endswith(('htmlreport', 'output.plot'))\n"
+            "             or m.startswith('matplotlib')))\n")
+    assert _lines(code) == ["[]"]

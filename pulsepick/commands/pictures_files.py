@@ -1,5 +1,9 @@
 """The ``--plot`` and ``--report`` options, the checks of their files before a long run,
-and the atomic writing of the image and the report."""
+and the atomic writing of the image and the report.
+
+The drawing and page modules load only where an image or a report is made: a command
+that parses these options and writes neither does not pay for their import.
+"""
 
 from __future__ import annotations
 
@@ -7,20 +11,8 @@ import argparse
 import os
 import sys
 
-from pulsepick.commands.pictures_views import _CAPTIONS
 from pulsepick.errors import RequestError, echo
 from pulsepick.output.export import write_atomic
-from pulsepick.output.htmlreport import (
-    Image,
-    render_html,
-)
-from pulsepick.output.plot import (
-    FIGURE_PIXELS,
-    image_bytes,
-    image_format,
-    plot_available,
-    require_matplotlib,
-)
 
 REPORT_SUFFIXES = (".html", ".htm")
 NO_IMAGES = ("No pictures in this report: the plot extra (matplotlib) is not installed. "
@@ -68,6 +60,8 @@ def check_picture_targets(args, inputs=(), *, with_buylist: bool = False) -> Non
     if with_buylist and getattr(args, "buylist", None):
         outputs.append(("--buylist", args.buylist))
     if plot:
+        from pulsepick.output.plot import image_format, require_matplotlib
+
         image_format(plot)
         require_matplotlib()
         outputs.append(("--plot", plot))
@@ -92,6 +86,9 @@ def write_file_atomic(path: str, data: bytes, *, force: bool = False) -> None:
 
 def _write(args, views: list, title: str, report_fn) -> list[str]:
     """Write the image and the report the options ask for; the lines to announce."""
+    from pulsepick.output.htmlreport import render_html
+    from pulsepick.output.plot import image_bytes, image_format
+
     done = []
     force = bool(getattr(args, "force", False))
     if getattr(args, "plot", None):
@@ -125,8 +122,13 @@ def announce(args, lines: list[str]) -> None:
         console.print(line, markup=False, highlight=False)
 
 
-def _images(views: list, title: str) -> list[Image] | None:
-    """PNG images of each view for the report, or None when matplotlib is missing."""
+def _images(views: list, title: str) -> list | None:
+    """PNG images of each view for the report (htmlreport ``Image``), or None when
+    matplotlib is missing."""
+    from pulsepick.commands.pictures_views import _CAPTIONS
+    from pulsepick.output.htmlreport import Image
+    from pulsepick.output.plot import FIGURE_PIXELS, image_bytes, plot_available
+
     if not plot_available():
         return None
     out = []

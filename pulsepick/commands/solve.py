@@ -69,7 +69,7 @@ class SolveRun(NamedTuple):
 
 def compute(args) -> SolveRun:
     """Check the options, solve and assess one light (several lights: :func:`compute_build`)."""
-    from pulsepick.commands.pictures import check_picture_targets
+    from pulsepick.commands.pictures_files import check_picture_targets
     from pulsepick.errors import RequestError
     from pulsepick.solve import assess, solve
     from pulsepick.workers import pool_runner
@@ -105,7 +105,7 @@ def _shown_in_full(args, found) -> tuple[int, ...] | None:
     """The ranks whose spread the output shows in full (variance shares, corners): the
     one block of the text summary, or every candidate (None) for --detail, --json and
     the pictures."""
-    from pulsepick.commands.pictures import wants_pictures
+    from pulsepick.commands.pictures_files import wants_pictures
 
     if args.detail or args.json or wants_pictures(args) or not found.candidates:
         return None
@@ -126,7 +126,7 @@ def solve_json(run: SolveRun) -> dict:
 
 def run(args) -> int:
     """Parse, solve, assess, and print or export."""
-    from pulsepick.commands.pictures import solve_pictures
+    from pulsepick.commands.pictures_files import wants_pictures
     from pulsepick.output.render import dump_json, make_console
 
     if _is_build(args):
@@ -153,7 +153,10 @@ def run(args) -> int:
             from pulsepick.commands.trim_parts import render_trim
 
             render_trim(console, plans)
-    solve_pictures(args, result)
+    if wants_pictures(args):
+        from pulsepick.commands.pictures import solve_pictures
+
+        solve_pictures(args, result)
     if not result.success:
         _nothing_line(req.describe(), result.explanations)
         return 2

@@ -29,7 +29,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
     _build_arguments(parser)
     _lights_arguments(parser)
     _output_arguments(parser)
-    from pulsepick.commands.pictures import add_picture_arguments
+    from pulsepick.commands.pictures_files import add_picture_arguments
 
     add_picture_arguments(parser)
 
