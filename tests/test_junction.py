@@ -135,12 +135,15 @@ def test_real_lambert_w_matches_scipy():
 
     from pulsepick.parts.junction import lambert_w_of_exp
 
-    y = np.linspace(-60.0, 19.9, 4001)
-    ref = lambertw(np.exp(y)).real
-    np.testing.assert_allclose(lambert_w_of_exp(y), ref, rtol=1e-13, atol=0.0)
-    big = np.linspace(20.0, 700.0, 50)  # W(e^y) + ln W(e^y) = y where exp would overflow
+    y = np.linspace(-60.0, -30.01, 4001)  # W(e^y) = e^y to this precision
+    np.testing.assert_allclose(lambert_w_of_exp(y), lambertw(np.exp(y)).real, rtol=1e-13)
+    y = np.linspace(-30.0, 19.9, 40001)  # Newton's steps from ln(1 + e^y)
+    np.testing.assert_allclose(lambert_w_of_exp(y), lambertw(np.exp(y)).real, rtol=1e-14)
+    y = np.linspace(20.0, 700.0, 4001)  # the log form, where exp(y) is still a float
+    np.testing.assert_allclose(lambert_w_of_exp(y), lambertw(np.exp(y)).real, rtol=1e-14)
+    big = np.geomspace(20.0, 1e6, 500)  # W(e^y) + ln W(e^y) = y where exp would overflow
     w = lambert_w_of_exp(big)
-    np.testing.assert_allclose(w + np.log(w), big, rtol=1e-14)
+    np.testing.assert_allclose(w + np.log(w), big, rtol=1e-15)
 
 
 @pytest.mark.parametrize("junction", JUNCTIONS)
