@@ -189,8 +189,8 @@ def assess(result: SolveResult, *, runner: Runner | None = None,
         The ranks (1 = best) whose spread also carries the variance share of each
         source and the worst-case corners; default every candidate. The others get the
         builds alone (median, P5..P95, yield and every build's figures, the same as
-        with them), in about a quarter of the time: a report that shows one
-        candidate in full asks for that one.
+        with them), in about a third of the time: a report that shows one candidate
+        in full asks for that one.
     """
     req = result.request
     cands = list(result.candidates)
