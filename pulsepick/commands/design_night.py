@@ -12,8 +12,7 @@ from dataclasses import dataclass
 from datetime import date, datetime, timedelta
 
 from pulsepick.errors import RequestError
-
-DEFAULT_NIGHT_S = 12 * 3600.0  # s, when the file gives no night (an illustrative length)
+from pulsepick.solve.nightcheck import DEFAULT_NIGHT_S  # when the file gives no night
 
 
 @dataclass(frozen=True)
@@ -67,8 +66,8 @@ def design_night(design) -> DesignNight:
             length = (dawn - dusk).total_seconds()
             return DesignNight(length, f"{_hm(length)} night ({n['dusk']} to {n['dawn']})",
                                "clock", dusk)
-    return DesignNight(DEFAULT_NIGHT_S, "12 h night (the file gives no [site] or [night])",
-                       "default")
+    return DesignNight(DEFAULT_NIGHT_S, f"{DEFAULT_NIGHT_S / 3600:g} h night (the file gives "
+                       "no [site] or [night])", "default")
 
 
 def design_clamp(design):
