@@ -112,6 +112,23 @@ def test_its_steps_and_dense_output_are_scipys_rk45():
     assert np.max(np.abs(ours.sol(ts) - theirs.sol(ts))) < 1e-12
 
 
+@pytest.mark.parametrize("y0, span", [([2.0, 0.0], 7.0), ([0.0, 0.0], 3.0),
+                                      ([1e-3, 2.0], 20.0)])
+def test_without_a_first_step_it_starts_as_scipys_rk45(y0, span):
+    # no first step given: the starting-step rule (Hairer, Norsett & Wanner 1993, II.4)
+    # picks the one scipy's solve_ivp picks (RK45), so every step is the same again
+    def vdp(_t, y):
+        return [y[1], (1 - y[0] ** 2) * y[1] - y[0] + 0.1]
+
+    kw = {"rtol": 1e-8, "atol": 1e-10}
+    ours = integrate(vdp, (0.0, span), y0, **kw)
+    theirs = solve_ivp(vdp, (0.0, span), y0, method="RK45", dense_output=True, **kw)
+    assert ours.sol.t[1] == pytest.approx(theirs.t[1], rel=1e-14)  # the first step
+    assert ours.sol.t.size == theirs.t.size > 10
+    assert ours.sol.t == pytest.approx(theirs.t, rel=1e-9)  # rounding over the steps
+    assert ours.nfev == theirs.nfev
+
+
 def test_a_span_must_run_forward():
     for span in ((1.0, 0.0), (1.0, 1.0)):
         with pytest.raises(ValueError, match="forward"):

@@ -314,3 +314,27 @@ def test_open_ended_run_has_only_a_start_figure():
     assert [p.label for p in result.figures] == ["start"]
     assert result.figures[0].t_s == 0.0 and result.figures[0].v_v == GOLD_V0
     assert result.runtime_s == pytest.approx(GOLD_T_S, rel=0.005)  # ref:panasonic-gold-cap
+
+
+@pytest.mark.parametrize("stop_v", [2.0, 1.0])
+def test_scipys_rk45_takes_over_where_our_integrator_hands_on(monkeypatch, stop_v):
+    # the night integrates with the Dormand-Prince pair of engine/dormand_prince.py; where
+    # that integrator hands on (stiff, or past its step bound), scipy's solve_ivp RK45
+    # (scipy.integrate, the same method) runs the night instead, to the same figures
+    # within the integration tolerance
+    from pulsepick.analysis import night
+    from pulsepick.engine.dormand_prince import Stiff
+
+    args = (custom_storage(0.47), 2.7, 15 * 3600.0, fake_blinker(stop_v))
+    ours = simulate_night(*args)
+
+    def hands_on(*_a, **_k):
+        raise Stiff("as past the step bound")
+
+    monkeypatch.setattr(night, "integrate", hands_on)
+    theirs = simulate_night(*args)
+    assert ours.lasts_the_night == theirs.lasts_the_night == (stop_v < 1.5)
+    assert ours.runtime_s == pytest.approx(theirs.runtime_s, rel=1e-6)
+    assert ours.v_end_v == pytest.approx(theirs.v_end_v, rel=1e-6)
+    assert ours.flashes == pytest.approx(theirs.flashes, rel=1e-6)
+    assert np.allclose(ours.timeline.v_v, theirs.timeline.v_v, rtol=1e-6, equal_nan=True)

@@ -69,3 +69,24 @@ def test_a_solve_without_pictures_loads_no_drawing_or_page_module():
             "print(sorted(m for m in sys.modules if m.endswith(('htmlreport', 'output.plot'))\n"
             "             or m.startswith('matplotlib')))\n")
     assert _lines(code) == ["[]"]
+
+
+def test_a_night_on_a_storage_imports_no_scipy():
+    # solve --storage runs each candidate's night (analysis/night.py): the same
+    # Dormand-Prince integrator, no scipy module; scipy's RK45 only past its step bound
+    code = ("import sys\n"
+            "import numpy as np\n"
+            "from pulsepick.analysis.night import simulate_night\n"
+            "from pulsepick.design import load_curve\n"
+            "from pulsepick.parts.storage import get_storage\n"
+            "from pulsepick.request import make_request\n"
+            "from pulsepick.solve import solve\n"
+            "req = make_request('one flash every 3 s, 40 ms long', led='red',\n"
+            "                   supply='2.7V..1.8V', family='lvc,timer555')\n"
+            "c = solve(req).candidates[0]\n"
+            "load = load_curve(c.design, np.linspace(0.5, 2.75, 226))\n"
+            "run = simulate_night(get_storage('5f-2v7'), 2.7, 12 * 3600.0, load,\n"
+            "                     stop_at_v=1.8)\n"
+            "print(run.lasts_the_night, round(run.v_end_v, 2))\n"
+            + SCIPY_LOADED)
+    assert _lines(code) == ["True 1.84", "[]"]

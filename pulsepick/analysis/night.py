@@ -1,8 +1,10 @@
 """The night: a charged supercapacitor feeding a blinker from dusk to dawn.
 
 The storage voltage obeys ``C dV/dt = -(I_load(V) + I_leak(V, t) + I_extra)``,
-integrated with :func:`scipy.integrate.solve_ivp` (RK45) and stopped by a
-terminal event at the stop voltage: the larger of the user's ``stop_at_v`` and
+integrated with the Dormand-Prince 5(4) pair of :mod:`pulsepick.engine.dormand_prince`
+(the method and step-size rule of scipy's ``solve_ivp`` RK45, which takes over only for
+a night past that integrator's step bound, so a night needs no scipy import) and
+stopped by a terminal event at the stop voltage: the larger of the user's ``stop_at_v`` and
 the load curve's own stop voltage (below it the LED no longer reaches visible
 current or the chip leaves its supply range). Flash count and the charge each
 drain takes are integrated alongside the voltage.
@@ -17,9 +19,9 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, replace
 from datetime import datetime, timedelta
+from typing import Any
 
 import numpy as np
-from scipy.integrate import solve_ivp
 
 from pulsepick.analysis.cautions import GENERAL_CAUTIONS, storage_cautions
 from pulsepick.analysis.night_notes import (  # noqa: F401  (re-exported)
@@ -33,6 +35,7 @@ from pulsepick.analysis.night_notes import (  # noqa: F401  (re-exported)
     solver_message,
     stop_reason,
 )
+from pulsepick.engine.dormand_prince import Stiff, integrate
 from pulsepick.engine.loadcurve import LoadCurve
 from pulsepick.errors import PartError, RequestError
 from pulsepick.parts.storage import LEAK_LEVELS, Storage
@@ -40,7 +43,7 @@ from pulsepick.parts.storage import LEAK_LEVELS, Storage
 # estimate: a solar-charged store is full by early afternoon, some six hours before dusk.
 DEFAULT_T_SINCE_CHARGE_S = 6 * 3600.0
 TIMELINE_POINTS = 200  # samples for a chart of the night
-_RTOL = 1e-8  # solve_ivp relative tolerance; the budget checks need 0.5 %
+_RTOL = 1e-8  # the integration's relative tolerance; the budget checks need 0.5 %
 _ATOL_V = 1e-9  # V
 
 
@@ -166,7 +169,7 @@ def _check_inputs(storage, v_start_v, duration_s, extra_load_a, storage_leak_a, 
 class _Run:
     """The integration of one night: the solution and how it ended."""
 
-    sol: object  # scipy's OdeResult with dense output, or None when not started
+    dense: Any  # the state at any time of the run (a callable), or None when not started
     runtime: float  # s
     state_end: np.ndarray  # v, flashes, circuit, leakage and extra charge at the end
     success: bool
@@ -219,38 +222,44 @@ def _integrate_night(rhs, v_start_v: float, v_stop: float, duration_s: float) ->
     if v_start_v <= v_stop:
         # The light is never on at this start voltage: nothing to integrate.
         return _Run(
-            sol=None, runtime=0.0, state_end=np.array([v_start_v, 0.0, 0.0, 0.0, 0.0]),
+            dense=None, runtime=0.0, state_end=np.array([v_start_v, 0.0, 0.0, 0.0, 0.0]),
             success=True, stopped=True,
             message="not started: the start voltage is at or below the stop voltage",
         )
-    sol = solve_ivp(
-        rhs, (0.0, float(duration_s)), [float(v_start_v), 0.0, 0.0, 0.0, 0.0],
-        method="RK45", rtol=_RTOL, atol=[_ATOL_V, 1e-9, 1e-15, 1e-15, 1e-15],
-        events=reach_stop, dense_output=True,
-    )
+    args = (rhs, (0.0, float(duration_s)), [float(v_start_v), 0.0, 0.0, 0.0, 0.0])
+    kw = {"rtol": _RTOL, "atol": [_ATOL_V, 1e-9, 1e-15, 1e-15, 1e-15], "events": reach_stop}
+    try:
+        sol = integrate(*args, **kw)
+        t_last = float(sol.sol.t[-1])
+    except Stiff:  # stiff for it or past its step bound: scipy's RK45, the same method
+        from scipy.integrate import solve_ivp
+
+        sol = solve_ivp(*args, method="RK45", dense_output=True, **kw)
+        t_last = float(sol.t[-1])
+    dense = sol.sol
     success = bool(sol.success)
-    stopped = sol.status == 1 and len(sol.t_events[0]) > 0
+    stopped = len(sol.t_events[0]) > 0  # the one event is terminal
     if stopped:
         runtime = float(sol.t_events[0][0])
         state_end = np.asarray(sol.y_events[0][0], dtype=float)
         state_end[0] = v_stop  # exactly at the event, not a root-finder's neighbour
     else:
-        runtime = float(sol.t[-1])
-        state_end = np.asarray(sol.y[:, -1], dtype=float)
+        runtime = t_last
+        state_end = np.asarray(dense(t_last), dtype=float)
     message = solver_message(success, stopped, v_stop, runtime, duration_s)
-    return _Run(sol=sol, runtime=runtime, state_end=state_end, success=success,
+    return _Run(dense=dense, runtime=runtime, state_end=state_end, success=success,
                 stopped=stopped, message=message)
 
 
 def _night_figures(run: _Run, load, dusk, v_start_v: float, duration_s: float,
                    lasts: bool) -> tuple[NightPoint, ...]:
     """The blinker at dusk, midnight and dawn."""
-    sol, runtime = run.sol, run.runtime
+    dense, runtime = run.dense, run.runtime
 
     def v_at(t: float) -> float:
-        if sol is None:
+        if dense is None:
             return v_start_v if t == 0.0 else math.nan
-        return float(sol.sol(t)[0]) if t <= runtime else math.nan
+        return float(dense(t)[0]) if t <= runtime else math.nan
 
     def point(label: str, t: float) -> NightPoint:
         v = v_at(t)
@@ -269,15 +278,15 @@ def _night_figures(run: _Run, load, dusk, v_start_v: float, duration_s: float,
 
 def _night_timeline(run: _Run, load, v_start_v: float, duration_s: float) -> NightTimeline:
     """The night sampled evenly for a chart."""
-    sol = run.sol
+    dense = run.dense
     t_grid = np.linspace(0.0, duration_s, TIMELINE_POINTS)
     v_grid = np.full_like(t_grid, math.nan)
-    if sol is not None:
+    if dense is not None:
         inside = t_grid <= run.runtime
-        v_grid[inside] = sol.sol(t_grid[inside])[0]
+        v_grid[inside] = dense(t_grid[inside])[0]
     else:
         v_grid[0] = v_start_v
-    if load is not None and sol is not None:
+    if load is not None and dense is not None:
         eff_a = np.interp(v_grid, load.supply_v, load.effective_a)
         eff_cd = np.interp(v_grid, load.supply_v, load.effective_cd)
         eff_a[~np.isfinite(v_grid)] = math.nan

@@ -142,13 +142,33 @@ def _rms(x: np.ndarray) -> float:
     return math.sqrt(float(np.dot(x, x)) / x.size)
 
 
+def _starting_step(fun: Callable, t: float, y: np.ndarray, f0: np.ndarray, span: float,
+                   rtol: float, atol: np.ndarray) -> float:
+    """The first step when none is given: the starting-step rule of
+    ref:hairer-norsett-wanner-1993 (section II.4, for an error of order 5 in h), as
+    scipy's ``solve_ivp`` applies it; never longer than the span."""
+    scale = atol + np.abs(y) * rtol
+    d0, d1 = _rms(y / scale), _rms(f0 / scale)
+    h0 = 1e-6 if d0 < 1e-5 or d1 < 1e-5 else 0.01 * d0 / d1
+    h0 = min(h0, span)
+    d2 = _rms((np.asarray(fun(t + h0, y + h0 * f0), dtype=float) - f0) / scale) / h0
+    if d1 <= 1e-15 and d2 <= 1e-15:
+        h1 = max(1e-6, h0 * 1e-3)
+    else:
+        h1 = (0.01 / max(d1, d2)) ** (1.0 / 5.0)
+    return min(100.0 * h0, h1, span)
+
+
 def integrate(fun: Callable, t_span: tuple[float, float], y0, *, events=(),
-              rtol: float = 1e-6, atol: Any = 1e-9, first_step: float) -> Solution:
+              rtol: float = 1e-6, atol: Any = 1e-9,
+              first_step: float | None = None) -> Solution:
     """Integrate ``y' = fun(t, y)`` over ``t_span`` from ``y0``.
 
     ``events``: a function ``g(t, y)`` or a sequence of them, each with the optional
     attributes ``terminal`` (stop at its first zero) and ``direction`` (+1: rising
     zeros only, -1: falling only, 0: both), as scipy's ``solve_ivp`` takes them.
+    ``first_step``: the first trial step; by default the starting-step rule of
+    :func:`_starting_step` picks it.
     Raises :class:`Stiff` where the problem is stiff for this method. A trial step
     on which ``fun`` raises ValueError or ArithmeticError, or returns a number that is
     not finite, is taken again shorter: it left the equations' domain.
@@ -166,7 +186,11 @@ def integrate(fun: Callable, t_span: tuple[float, float], y0, *, events=(),
     k = np.empty((7, y.size))
     k[0] = fun(t, y)
     nfev = 1
-    h = float(first_step)
+    if first_step is None:
+        h = _starting_step(fun, t, y, k[0], t_end - t, rtol, atol)
+        nfev += 1
+    else:
+        h = float(first_step)
     bounds, coeffs = [t], []
     stiff_count = calm = accepted = 0
     rejected_last = False
