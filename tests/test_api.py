@@ -57,6 +57,20 @@ def test_solve_matches_the_json_and_reads_si_floats(capsys):
     assert r.result.candidates[0].design.topo.core == "timer555"
 
 
+def test_solve_gives_every_candidate_in_full_as_the_json_does(capsys):
+    # the API's result is the whole --json document: every candidate's spread with its
+    # variance shares and corners, not only the one a text summary would show
+    kw = {**SOLVE, "top": 3, "stages": "direct,pulse"}
+    argv = ["--cores", "timer555", "--stages", "direct,pulse", "--top", "3", "--builds",
+            "200", "--jobs", "1"]
+    r = pp.solve("one flash every 3 s", **kw)
+    cli = _cli_json(capsys, ["solve", "one flash every 3 s", *argv])
+    assert _without_timing(r.to_dict()) == _without_timing(cli)
+    assert len(r.result.candidates) >= 2
+    for c in r.result.candidates:
+        assert c.spread.shares and c.spread.corners and c.spread.corner_count > 0
+
+
 def test_solve_range_as_pair():
     r = pp.solve("one flash every 3 s", supply=(2.7, 1.8), **SOLVE)
     doc = r.to_dict()["assumptions"]

@@ -129,6 +129,28 @@ def test_without_a_first_step_it_starts_as_scipys_rk45(y0, span):
     assert ours.nfev == theirs.nfev
 
 
+def test_the_starting_step_is_positive_and_finite_where_the_rule_gives_none():
+    # a slope too large for a float, no number or an error at the rule's trial point,
+    # a zero tolerance: the first step falls back to 1e-6 s (or the span), never 0 or NaN
+    from pulsepick.engine.dormand_prince import _starting_step
+
+    def raises(t, _y):
+        if t > 0:
+            raise ValueError("outside")
+        return np.array([1.0])
+
+    one, atol = np.array([1.0]), np.array([1e-9])
+    cases = [(lambda _t, _y: np.array([1e300]), one, np.array([1e300]), 10.0, atol),
+             (lambda _t, _y: np.array([np.nan]), one, np.array([0.0]), 10.0, atol),
+             (raises, one, np.array([1.0]), 10.0, atol),
+             (lambda _t, y: -y, np.array([0.0]), np.array([0.0]), 10.0, np.array([0.0])),
+             (lambda _t, _y: np.array([np.nan]), one, np.array([0.0]), 1e-9, atol)]
+    for fun, y, f0, span, tol in cases:
+        with np.errstate(all="ignore"):
+            h = _starting_step(fun, 0.0, y, f0, span, 1e-6, tol)
+        assert h == min(1e-6, span)
+
+
 def test_a_span_must_run_forward():
     for span in ((1.0, 0.0), (1.0, 1.0)):
         with pytest.raises(ValueError, match="forward"):

@@ -224,7 +224,7 @@ def _solve(args, cmd):
     if cmd._is_build(args):
         done = cmd.compute_build(args)
         return done.result, _json(cmd.build_doc(done))
-    done = cmd.compute(args)
+    done = cmd.compute(args, in_full=True)  # the result object holds every figure
     return done.result, _json(cmd.solve_json(done))
 
 @_keywords

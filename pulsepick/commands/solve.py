@@ -67,8 +67,13 @@ class SolveRun(NamedTuple):
     picked: bool = False  # --pick was given
 
 
-def compute(args) -> SolveRun:
-    """Check the options, solve and assess one light (several lights: :func:`compute_build`)."""
+def compute(args, *, in_full: bool = False) -> SolveRun:
+    """Check the options, solve and assess one light (several lights: :func:`compute_build`).
+
+    ``in_full``: every candidate's spread with its shares and corners, whatever the
+    options show (the Python API returns the whole result); otherwise as
+    :func:`_shown_in_full` says.
+    """
     from pulsepick.commands.pictures_files import check_picture_targets
     from pulsepick.errors import RequestError
     from pulsepick.solve import assess, solve
@@ -88,7 +93,8 @@ def compute(args) -> SolveRun:
     night = night_plan(args, req)
     with pool_runner(args.jobs) as runner:  # one set of workers for the search and checks
         found = solve(req, runner=runner)
-        result = assess(found, runner=runner, detail=_shown_in_full(args, found))
+        detail = None if in_full else _shown_in_full(args, found)
+        result = assess(found, runner=runner, detail=detail)
     if night is not None:
         from pulsepick.solve.nightcheck import night_check
 

@@ -146,17 +146,32 @@ def _starting_step(fun: Callable, t: float, y: np.ndarray, f0: np.ndarray, span:
                    rtol: float, atol: np.ndarray) -> float:
     """The first step when none is given: the starting-step rule of
     ref:hairer-norsett-wanner-1993 (section II.4, for an error of order 5 in h), as
-    scipy's ``solve_ivp`` applies it; never longer than the span."""
-    scale = atol + np.abs(y) * rtol
-    d0, d1 = _rms(y / scale), _rms(f0 / scale)
-    h0 = 1e-6 if d0 < 1e-5 or d1 < 1e-5 else 0.01 * d0 / d1
-    h0 = min(h0, span)
-    d2 = _rms((np.asarray(fun(t + h0, y + h0 * f0), dtype=float) - f0) / scale) / h0
-    if d1 <= 1e-15 and d2 <= 1e-15:
-        h1 = max(1e-6, h0 * 1e-3)
-    else:
-        h1 = (0.01 / max(d1, d2)) ** (1.0 / 5.0)
-    return min(100.0 * h0, h1, span)
+    scipy's ``solve_ivp`` applies it; never longer than the span. Where the rule gives
+    no positive, finite step (a slope too large for a float, equations that raise or
+    give no number at its trial point, a zero tolerance) the step is 1e-6 (or the span),
+    and the step-size control takes it from there."""
+    fallback = min(1e-6, span)
+    with np.errstate(all="ignore"):
+        scale = atol + np.abs(y) * rtol
+        d0, d1 = _rms(y / scale), _rms(f0 / scale)
+        h0 = 1e-6 if d0 < 1e-5 or d1 < 1e-5 else 0.01 * d0 / d1
+        h0 = min(h0, span)
+        if not (h0 > 0 and math.isfinite(h0)):
+            return fallback
+        try:
+            f1 = np.asarray(fun(t + h0, y + h0 * f0), dtype=float)
+        except (ValueError, ArithmeticError):
+            return fallback
+        d2 = _rms((f1 - f0) / scale) / h0
+        largest = max(d1, d2)
+        if d1 <= 1e-15 and d2 <= 1e-15:
+            h1 = max(1e-6, h0 * 1e-3)
+        elif largest > 0 and math.isfinite(largest):
+            h1 = (0.01 / largest) ** (1.0 / 5.0)
+        else:  # no number at the trial point
+            return fallback
+        h = min(100.0 * h0, h1, span)
+    return h if h > 0 and math.isfinite(h) else fallback
 
 
 def integrate(fun: Callable, t_span: tuple[float, float], y0, *, events=(),
