@@ -1,12 +1,14 @@
-"""Explicit Runge-Kutta integration, Dormand-Prince 5(4), for the reference engine.
+"""Explicit Runge-Kutta integration, Dormand-Prince 5(4), for the reference engine and
+the night on a storage.
 
 A small integrator with dense output and threshold events, so that simulating a
-circuit does not have to import scipy.integrate (about half a second of start-up,
-which the solve's critical path paid). Formulas and coefficients:
+circuit or a night does not have to import scipy.integrate (about half a second of
+start-up, which the solve's critical path paid). Formulas and coefficients:
 
-- the 5(4) pair, ref:dormand-prince-1980, as tabulated with the 4th-order dense output
-  and the step-size rule in ref:hairer-norsett-wanner-1993 (sections II.4-II.6 and its
-  DOPRI5 code; the dense-output weights are written from memory and checked);
+- the 5(4) pair, ref:dormand-prince-1980, as tabulated with the 4th-order dense output,
+  the step-size rule and the starting-step rule in ref:hairer-norsett-wanner-1993
+  (sections II.4-II.6 and its DOPRI5 code; the dense-output weights are written from
+  memory and checked);
 - the stiffness test (h*|lambda| estimated from the last two stages; stiff after 15
   such steps above 3.25, with DOPRI5's bounds), ref:hairer-wanner-1996 section IV.2.
   DOPRI5 tests every 1000th step until a first hit; this module tests every step, as
