@@ -115,7 +115,9 @@ def _shown_in_full(args, found) -> tuple[int, ...] | None:
 
     if args.detail or args.json or wants_pictures(args) or not found.candidates:
         return None
-    return (min(max(args.pick, 1), len(found.candidates)),)
+    from pulsepick.commands.solve_summary import shown_rank
+
+    return (shown_rank(args.pick, len(found.candidates)),)
 
 
 def solve_json(run: SolveRun) -> dict:

@@ -157,6 +157,11 @@ def assumptions_text(req) -> str:
     return out + f"; {'; '.join(context)} (--detail lists every assumption)"
 
 
+def shown_rank(pick: int, count: int) -> int:
+    """The rank of the circuit the summary shows in full: ``--pick`` held to 1..``count``."""
+    return min(max(pick, 1), count)
+
+
 def render_summary(console, result, *, buylist: str | None = None, pick: int = 1,
                    schematic: bool = False) -> None:
     """The compact report of a solver result (see the module docstring)."""
@@ -174,7 +179,7 @@ def render_summary(console, result, *, buylist: str | None = None, pick: int = 1
         if caption:
             print_wrapped(console, caption, indent="", hang="  ")
     console.print()
-    chosen = result.candidates[min(max(pick, 1), len(result.candidates)) - 1]
+    chosen = result.candidates[shown_rank(pick, len(result.candidates)) - 1]
     render_block(console, req, chosen, schematic=schematic)
     console.print()
     if buylist:
